@@ -1,0 +1,61 @@
+//! Command-line arguments.
+
+use crate::engine::values::parse_value;
+use clap::{Parser, Subcommand};
+use std::path::PathBuf;
+
+/// A frequency from the command line: engineering notation (`1k`, `2.5MHz`).
+pub fn parse_frequency(text: &str) -> Result<f64, String> {
+    let v = parse_value(text).map_err(|e| e.to_string())?;
+    if v < 0.0 {
+        return Err(format!("`{text}`: a frequency must not be negative"));
+    }
+    Ok(v)
+}
+
+#[derive(Debug, Parser)]
+#[command(
+    name = "loopwright",
+    version,
+    about = "Terminal workbench for op-amp feedback amplifier stages",
+    long_about = "Terminal workbench for op-amp feedback amplifier stages.\n\n\
+        With no command, opens the workbench on the built-in demo, on FILE, or on two \
+        candidate stages A and B.\n\
+        Results come from small-signal models: verify them on the bench.",
+    args_conflicts_with_subcommands = true
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Option<Command>,
+
+    /// Scenario files to open (one, or two to compare as A and B).
+    #[arg(value_name = "FILE", num_args = 0..=2)]
+    pub files: Vec<PathBuf>,
+
+    /// Plain ASCII plot and border characters.
+    #[arg(long)]
+    pub ascii: bool,
+
+    /// No colour (also when NO_COLOR is set).
+    #[arg(long = "no-color")]
+    pub no_color: bool,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Print the analysis of a scenario (the built-in demo without FILE).
+    Report {
+        file: Option<PathBuf>,
+        /// One JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Also report the figures at this frequency (repeatable; `1k`, `2.5M`).
+        #[arg(long = "at", value_name = "HZ", value_parser = parse_frequency)]
+        at: Vec<f64>,
+    },
+    /// Print the base values of one decade of an IEC 60063 series.
+    Series {
+        /// E3, E6, E12, E24, E48, E96 or E192.
+        name: String,
+    },
+}

@@ -1,0 +1,424 @@
+//! Builds the stage as a small netlist and stamps its modified-nodal matrix
+//! at any complex frequency. Topologies differ only in how the builder wires
+//! the same elements; the solver never knows which one it has.
+
+use super::scenario::{present, Scenario, Topology};
+use super::solver::{Matrix, Vector, MAXN, ZERO};
+use num_complex::Complex64 as C64;
+
+/// Logical nodes of a stage, before zero-ohm wires are merged.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[repr(usize)]
+enum Pin {
+    Gnd,
+    /// Source EMF.
+    Src,
+    /// The stage's input terminal, after the source resistance.
+    Term,
+    /// The op-amp's + pin, as the outside sees it.
+    InP,
+    /// Behind the voltage-noise generator: rin, cin and the amplifier sense here.
+    InPi,
+    InN,
+    /// Amplifier output pin, where feedback is taken.
+    Amp,
+    /// Behind ro: the controlled source.
+    Int,
+    /// Load terminal.
+    Out,
+}
+const PINS: usize = 9;
+
+/// A noise source of the stage and the way it couples in.
+#[derive(Debug, Clone)]
+pub struct NoiseSource {
+    /// Stable key (JSON) and the name shown to people.
+    pub key: &'static str,
+    pub label: &'static str,
+    pub coupling: Coupling,
+    /// White density: A²/Hz for currents, V²/Hz for voltages.
+    pub white: f64,
+    /// 1/f corner in Hz (0 = none): density · (1 + fc/f).
+    pub corner: f64,
+}
+
+#[derive(Debug, Clone, Copy)]
+pub enum Coupling {
+    /// A current from node `a` to node `b` (row indices, None = ground).
+    Current(Option<usize>, Option<usize>),
+    /// A voltage in series with a branch (its row index).
+    Branch(usize),
+}
+
+impl NoiseSource {
+    /// Density at frequency f (with the 1/f rise).
+    pub fn density(&self, f: f64) -> f64 {
+        if self.corner > 0.0 && f > 0.0 {
+            self.white * (1.0 + self.corner / f)
+        } else {
+            self.white
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy)]
+enum Element {
+    Conductance(Option<usize>, Option<usize>, f64),
+    Capacitance(Option<usize>, Option<usize>, f64),
+}
+
+/// The stamped form of one stage.
+#[derive(Debug, Clone)]
+pub struct Netlist {
+    /// Unknowns: node voltages, then the branches (EMF, noise probe, amplifier).
+    pub dim: usize,
+    elements: Vec<Element>,
+    /// How the source EMF drives the stage.
+    pub drive: Drive,
+    pub en_row: usize,
+    pub amp_row: usize,
+    en_nodes: (Option<usize>, Option<usize>),
+    /// Amplifier: output node, sense + and − nodes.
+    amp_out: Option<usize>,
+    sense_p: Option<usize>,
+    sense_n: Option<usize>,
+    a0: f64,
+    wp1: f64,
+    wp2: Option<f64>,
+    ideal: bool,
+    pub out: Option<usize>,
+    pub term: Option<usize>,
+    /// Load at the out node (removed for Zout).
+    pub load_g: f64,
+    pub load_c: f64,
+    pub noise: Vec<NoiseSource>,
+}
+
+/// The signal source: a Norton current into the input terminal when the
+/// source has resistance (one unknown fewer), else an EMF branch.
+#[derive(Debug, Clone, Copy)]
+pub enum Drive {
+    /// 1 V behind `g` siemens, stamped as a conductance and a current `g`.
+    Norton { node: Option<usize>, g: f64 },
+    /// An ideal EMF: V(node) = 1 V, with its branch current at `row`.
+    Branch { node: Option<usize>, row: usize },
+}
+
+/// Boltzmann constant, J/K (SI 2019, exact).
+pub const BOLTZMANN: f64 = 1.380649e-23;
+
+struct Builder {
+    parent: [usize; PINS],
+}
+
+impl Builder {
+    fn find(&mut self, p: usize) -> usize {
+        let mut r = p;
+        while self.parent[r] != r {
+            r = self.parent[r];
+        }
+        self.parent[p] = r;
+        r
+    }
+    fn wire(&mut self, a: Pin, b: Pin) {
+        let (ra, rb) = (self.find(a as usize), self.find(b as usize));
+        if ra != rb {
+            // Ground always stays the root of its set.
+            if rb == Pin::Gnd as usize {
+                self.parent[ra] = rb;
+            } else {
+                self.parent[rb] = ra;
+            }
+        }
+    }
+}
+
+impl Netlist {
+    /// The stage with the scenario's op-amp model.
+    pub fn build(s: &Scenario) -> Netlist {
+        Self::build_with(s, false)
+    }
+
+    /// The same passive network around an ideal op-amp (a nullor: no input
+    /// current, zero differential input, zero output resistance).
+    pub fn build_ideal(s: &Scenario) -> Netlist {
+        Self::build_with(s, true)
+    }
+
+    fn build_with(s: &Scenario, ideal: bool) -> Netlist {
+        use Pin::*;
+        let st = &s.stage;
+        let amp = &s.amp;
+        let mut b = Builder {
+            parent: std::array::from_fn(|i| i),
+        };
+        // Resistors: (from, to, ohms, noisy, key, label). Zero ohms is a wire.
+        let mut resistors: Vec<(Pin, Pin, f64, Option<(&'static str, &'static str)>)> = Vec::new();
+        let mut caps: Vec<(Pin, Pin, f64)> = Vec::new();
+
+        // With resistance, the EMF is shorted into ground and the source
+        // becomes a Norton current into Term; the resistor (and its noise)
+        // then runs from Term to ground.
+        let norton = s.source.r > 0.0;
+        if norton {
+            b.wire(Src, Gnd);
+        }
+        resistors.push((Src, Term, s.source.r, Some(("source_r", "source r"))));
+        match st.topology {
+            Topology::NonInverting => {
+                b.wire(Term, InP);
+                resistors.push((InN, Gnd, st.rg.unwrap_or(1.0), Some(("rg", "rg"))));
+            }
+            Topology::Inverting => {
+                b.wire(InP, Gnd);
+                resistors.push((Term, InN, st.rg.unwrap_or(1.0), Some(("rg", "rg"))));
+            }
+            Topology::Follower => {
+                b.wire(Term, InP);
+            }
+        }
+        let rf = st.rf.unwrap_or(0.0);
+        resistors.push((Amp, InN, rf, Some(("rf", "rf"))));
+        if rf > 0.0 {
+            if let Some(cf) = present(st.cf) {
+                caps.push((Amp, InN, cf));
+            }
+        }
+        resistors.push((Amp, Out, st.riso.unwrap_or(0.0), Some(("riso", "riso"))));
+        if !ideal {
+            if let Some(rin) = amp.rin {
+                resistors.push((InPi, InN, rin, None));
+            }
+            if let Some(cin) = present(amp.cin) {
+                caps.push((InPi, Gnd, cin));
+                caps.push((InN, Gnd, cin));
+            }
+            resistors.push((Int, Amp, amp.ro, None));
+        } else {
+            b.wire(Int, Amp);
+        }
+        for &(p, q, r, _) in &resistors {
+            if r == 0.0 {
+                b.wire(p, q);
+            }
+        }
+
+        // Number the merged nodes; ground is None.
+        let mut index = [None; PINS];
+        let mut count = 0;
+        let gnd_root = b.find(Gnd as usize);
+        for p in 0..PINS {
+            let r = b.find(p);
+            if r == gnd_root {
+                continue;
+            }
+            if index[r].is_none() {
+                index[r] = Some(count);
+                count += 1;
+            }
+            index[p] = index[r];
+        }
+        let node = |p: Pin| index[p as usize];
+
+        let kt = BOLTZMANN * (s.temp_c + 273.15);
+        let mut elements = Vec::new();
+        let mut noise = Vec::new();
+        for &(p, q, r, tag) in &resistors {
+            let (a, c) = (node(p), node(q));
+            if r == 0.0 || a == c {
+                continue;
+            }
+            elements.push(Element::Conductance(a, c, 1.0 / r));
+            if let Some((key, label)) = tag {
+                noise.push(NoiseSource {
+                    key,
+                    label,
+                    coupling: Coupling::Current(a, c),
+                    white: 4.0 * kt / r,
+                    corner: 0.0,
+                });
+            }
+        }
+        for &(p, q, c) in &caps {
+            let (a, n) = (node(p), node(q));
+            if a != n {
+                elements.push(Element::Capacitance(a, n, c));
+            }
+        }
+        let (drive, branches) = if norton {
+            (
+                Drive::Norton {
+                    node: node(Term),
+                    g: 1.0 / s.source.r,
+                },
+                count,
+            )
+        } else {
+            (
+                Drive::Branch {
+                    node: node(Src),
+                    row: count,
+                },
+                count + 1,
+            )
+        };
+        let en_row = branches;
+        let amp_row = branches + 1;
+        noise.push(NoiseSource {
+            key: "vnoise",
+            label: "amp voltage noise",
+            coupling: Coupling::Branch(en_row),
+            white: amp.vnoise * amp.vnoise,
+            corner: amp.vnoise_corner.unwrap_or(0.0),
+        });
+        for (key, label, pin) in [
+            ("inoise_plus", "amp current noise +", InPi),
+            ("inoise_minus", "amp current noise −", InN),
+        ] {
+            noise.push(NoiseSource {
+                key,
+                label,
+                coupling: Coupling::Current(node(pin), None),
+                white: amp.inoise * amp.inoise,
+                corner: amp.inoise_corner.unwrap_or(0.0),
+            });
+        }
+        let wp1 = 2.0 * std::f64::consts::PI * amp.gbw / amp.a0;
+        Netlist {
+            dim: amp_row + 1,
+            elements,
+            drive,
+            en_row,
+            amp_row,
+            en_nodes: (node(InP), node(InPi)),
+            amp_out: node(Int),
+            sense_p: node(InPi),
+            sense_n: node(InN),
+            a0: amp.a0,
+            wp1,
+            wp2: amp.fp2.map(|f| 2.0 * std::f64::consts::PI * f),
+            ideal,
+            out: node(Out),
+            term: node(Term),
+            load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
+            load_c: s.load.c.unwrap_or(0.0),
+            noise,
+        }
+    }
+
+    /// Open-loop gain A(s) of the model.
+    pub fn open_loop(&self, s: C64) -> C64 {
+        let mut d = C64::new(1.0, 0.0) + s / self.wp1;
+        if let Some(w2) = self.wp2 {
+            d *= C64::new(1.0, 0.0) + s / w2;
+        }
+        self.a0 / d
+    }
+
+    /// Load admittance at s.
+    pub fn load_admittance(&self, s: C64) -> C64 {
+        self.load_g + s * self.load_c
+    }
+
+    /// The full matrix at s (load attached, amplifier active).
+    pub fn stamp(&self, s: C64) -> Matrix {
+        let mut m = [[ZERO; MAXN]; MAXN];
+        self.stamp_into(s, &mut m);
+        m
+    }
+
+    /// Stamp the matrix at s into `m` (its leading `dim`×`dim` block).
+    pub fn stamp_into(&self, s: C64, m: &mut Matrix) {
+        for row in m.iter_mut().take(self.dim) {
+            row[..self.dim].fill(ZERO);
+        }
+        let mut admit = |a: Option<usize>, b: Option<usize>, y: C64| {
+            if let Some(i) = a {
+                m[i][i] += y;
+            }
+            if let Some(j) = b {
+                m[j][j] += y;
+            }
+            if let (Some(i), Some(j)) = (a, b) {
+                m[i][j] -= y;
+                m[j][i] -= y;
+            }
+        };
+        for e in &self.elements {
+            match *e {
+                Element::Conductance(a, b, g) => admit(a, b, C64::new(g, 0.0)),
+                Element::Capacitance(a, b, c) => admit(a, b, s * c),
+            }
+        }
+        admit(self.out, None, self.load_admittance(s));
+        let one = C64::new(1.0, 0.0);
+        // Ideal source EMF: V(src) = E; its current leaves src into the source.
+        if let Drive::Branch { node: Some(i), row } = self.drive {
+            m[row][i] += one;
+            m[i][row] += one;
+        }
+        // Voltage-noise probe: V(inp) − V(inp_i) = e (0 V here).
+        let (p, n) = self.en_nodes;
+        if let Some(i) = p {
+            m[self.en_row][i] += one;
+            m[i][self.en_row] += one;
+        }
+        if let Some(i) = n {
+            m[self.en_row][i] -= one;
+            m[i][self.en_row] -= one;
+        }
+        // Amplifier: V(int) − A·(V(+) − V(−)) = 0, or the nullor V(+) = V(−).
+        let r = self.amp_row;
+        if let Some(i) = self.amp_out {
+            m[i][r] += one;
+        }
+        if self.ideal {
+            if let Some(i) = self.sense_p {
+                m[r][i] += one;
+            }
+            if let Some(i) = self.sense_n {
+                m[r][i] -= one;
+            }
+        } else {
+            if let Some(i) = self.amp_out {
+                m[r][i] += one;
+            }
+            let a = self.open_loop(s);
+            if let Some(i) = self.sense_p {
+                m[r][i] -= a;
+            }
+            if let Some(i) = self.sense_n {
+                m[r][i] += a;
+            }
+        }
+    }
+
+    /// −(V(+) − V(−)) of a solution vector: cᵀx in M = M0 + A·e·cᵀ.
+    pub fn minus_vd(&self, x: &[C64]) -> C64 {
+        let v = |n: Option<usize>| n.map(|i| x[i]).unwrap_or(ZERO);
+        v(self.sense_n) - v(self.sense_p)
+    }
+
+    /// Right-hand side for a 1 V source EMF.
+    pub fn drive_rhs(&self) -> Vector {
+        let mut b = [ZERO; MAXN];
+        match self.drive {
+            Drive::Norton { node: Some(i), g } => b[i] = C64::new(g, 0.0),
+            Drive::Branch { row, .. } => b[row] = C64::new(1.0, 0.0),
+            Drive::Norton { node: None, .. } => {}
+        }
+        b
+    }
+
+    /// Current the 1 V source delivers into the stage, from the gain solve.
+    pub fn source_current(&self, x: &[C64]) -> C64 {
+        match self.drive {
+            Drive::Norton { node, g } => (C64::new(1.0, 0.0) - Self::node_v(x, node)) * g,
+            Drive::Branch { row, .. } => -x[row],
+        }
+    }
+
+    pub fn node_v(x: &[C64], n: Option<usize>) -> C64 {
+        n.map(|i| x[i]).unwrap_or(ZERO)
+    }
+}

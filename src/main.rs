@@ -1,0 +1,72 @@
+use anyhow::{bail, Context, Result};
+use clap::Parser;
+use loopwright::cli::{Cli, Command};
+use loopwright::engine::{analyze, scenario, Scenario, Series};
+use loopwright::report::{write_text, Report};
+use std::io::{self, Write};
+use std::path::Path;
+use std::process::ExitCode;
+
+fn load(path: Option<&Path>) -> Result<Scenario> {
+    match path {
+        Some(p) => Ok(Scenario::load(p)?),
+        None => Ok(scenario::demo()),
+    }
+}
+
+fn run(cli: Cli) -> Result<()> {
+    let stdout = io::stdout();
+    let mut out = stdout.lock();
+    match cli.command {
+        Some(Command::Report { file, json, at }) => {
+            let s = load(file.as_deref())?;
+            let a = analyze(&s);
+            let r = Report::new(&s, &a, &at);
+            let mut buf = Vec::new();
+            if json {
+                r.write_json(&mut buf)?;
+            } else {
+                write_text(&r, &s, &a, &mut buf)?;
+            }
+            out.write_all(&buf)?;
+        }
+        Some(Command::Series { name }) => {
+            let Some(series) = Series::parse(&name) else {
+                bail!("unknown series `{name}`: use E3, E6, E12, E24, E48, E96 or E192");
+            };
+            let digits = series.digits() - 1;
+            let mut buf = String::new();
+            for v in series.base_values() {
+                buf.push_str(&format!("{v:.digits$}\n"));
+            }
+            out.write_all(buf.as_bytes())?;
+        }
+        None => {
+            let s = load(cli.files.first().map(|p| p.as_path()))
+                .context("cannot open the scenario")?;
+            let a = analyze(&s);
+            let r = Report::new(&s, &a, &[]);
+            let mut buf = Vec::new();
+            write_text(&r, &s, &a, &mut buf)?;
+            out.write_all(&buf)?;
+        }
+    }
+    out.flush()?;
+    Ok(())
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match run(cli) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            if let Some(io) = e.downcast_ref::<io::Error>() {
+                if io.kind() == io::ErrorKind::BrokenPipe {
+                    return ExitCode::SUCCESS;
+                }
+            }
+            eprintln!("loopwright: {e:#}");
+            ExitCode::FAILURE
+        }
+    }
+}
