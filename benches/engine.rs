@@ -13,7 +13,9 @@ fn full_analysis(c: &mut Criterion) {
 fn one_point(c: &mut Criterion) {
     let s = scenario::demo();
     let circuit = loopwright::engine::Circuit::new(&s);
-    c.bench_function("one_point", |b| b.iter(|| circuit.eval(black_box(12_345.0))));
+    c.bench_function("one_point", |b| {
+        b.iter(|| circuit.eval(black_box(12_345.0)))
+    });
 }
 
 criterion_group!(benches, full_analysis, one_point);

@@ -42,8 +42,8 @@ fn run(cli: Cli) -> Result<()> {
             out.write_all(buf.as_bytes())?;
         }
         None => {
-            let s = load(cli.files.first().map(|p| p.as_path()))
-                .context("cannot open the scenario")?;
+            let s =
+                load(cli.files.first().map(|p| p.as_path())).context("cannot open the scenario")?;
             let a = analyze(&s);
             let r = Report::new(&s, &a, &[]);
             let mut buf = Vec::new();

@@ -301,9 +301,7 @@ pub fn write_text(r: &Report, s: &Scenario, a: &Analysis, w: &mut impl Write) ->
                 deg(p.gain_phase_deg),
                 num(p.zout_mag, "Ω"),
                 deg(p.zout_phase_deg),
-                p.zin_mag
-                    .map(|x| fmt_eng(x, "Ω"))
-                    .unwrap_or("open".into()),
+                p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
                 num(p.loop_mag, ""),
                 deg(p.loop_phase_deg),
                 format!("{}/√Hz", num(p.noise_density, "V")),

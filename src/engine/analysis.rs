@@ -369,15 +369,16 @@ pub fn analyze(s: &Scenario) -> Analysis {
 
     // f−3dB: first fall of |H| through |dc|/√2.
     let target = dc_gain.abs() / 2f64.sqrt();
-    let f_3db_hz = points
-        .iter()
-        .position(|p| p.gain.norm() < target)
-        .map(|i| {
-            let fa = if i == 0 { lo * 1e-3 } else { points[i - 1].f_hz };
-            let fb = points[i].f_hz;
-            let g = |x: f64| 0.5 * gain_at(x.exp()).norm_sqr().ln() - target.ln();
-            refine_root(fa.ln(), fb.ln(), g).exp()
-        });
+    let f_3db_hz = points.iter().position(|p| p.gain.norm() < target).map(|i| {
+        let fa = if i == 0 {
+            lo * 1e-3
+        } else {
+            points[i - 1].f_hz
+        };
+        let fb = points[i].f_hz;
+        let g = |x: f64| 0.5 * gain_at(x.exp()).norm_sqr().ln() - target.ln();
+        refine_root(fa.ln(), fb.ln(), g).exp()
+    });
 
     // Peaking: max |H| relative to DC.
     let (imax, _) = points
@@ -392,9 +393,11 @@ pub fn analyze(s: &Scenario) -> Analysis {
             }
         });
     let peak = if imax > 0 && imax + 1 < points.len() {
-        let (_, v) = refine_max(points[imax - 1].f_hz.ln(), points[imax + 1].f_hz.ln(), |x| {
-            gain_at(x.exp()).norm()
-        });
+        let (_, v) = refine_max(
+            points[imax - 1].f_hz.ln(),
+            points[imax + 1].f_hz.ln(),
+            |x| gain_at(x.exp()).norm(),
+        );
         v.max(points[imax].gain.norm())
     } else {
         points[imax].gain.norm()
@@ -416,8 +419,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
             } else {
                 (points[i - 1].f_hz, points[i].f_hz, loop_phase_deg[i - 1])
             };
-            let fc =
-                refine_root(fa.ln(), fb.ln(), |x| loop_at(x.exp()).norm_sqr().ln()).exp();
+            let fc = refine_root(fa.ln(), fb.ln(), |x| loop_at(x.exp()).norm_sqr().ln()).exp();
             let ph = unwrap_near(loop_at(fc), ref_phase);
             crossover_hz = Some(fc);
             phase_margin_deg = Some(180.0 + ph);

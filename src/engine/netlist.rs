@@ -107,6 +107,9 @@ pub enum Drive {
 /// Boltzmann constant, J/K (SI 2019, exact).
 pub const BOLTZMANN: f64 = 1.380649e-23;
 
+/// A noisy resistor's (key, label).
+type NoiseTag = (&'static str, &'static str);
+
 struct Builder {
     parent: [usize; PINS],
 }
@@ -153,7 +156,7 @@ impl Netlist {
             parent: std::array::from_fn(|i| i),
         };
         // Resistors: (from, to, ohms, noisy, key, label). Zero ohms is a wire.
-        let mut resistors: Vec<(Pin, Pin, f64, Option<(&'static str, &'static str)>)> = Vec::new();
+        let mut resistors: Vec<(Pin, Pin, f64, Option<NoiseTag>)> = Vec::new();
         let mut caps: Vec<(Pin, Pin, f64)> = Vec::new();
 
         // With resistance, the EMF is shorted into ground and the source

@@ -245,9 +245,8 @@ impl Scenario {
     /// Check every field; all problems are returned, in file order.
     pub fn validate(&self) -> Result<(), Vec<FieldProblem>> {
         let mut p = Vec::new();
-        let mut check = |field: &str, v: f64, ok: bool, rule: &str| {
-            check_field(&mut p, field, v, ok, rule)
-        };
+        let mut check =
+            |field: &str, v: f64, ok: bool, rule: &str| check_field(&mut p, field, v, ok, rule);
         let pos = "must be greater than zero";
         let nonneg = "must not be negative (0 means absent)";
         let s = &self.stage;
@@ -260,7 +259,12 @@ impl Scenario {
         }
         match s.rf {
             Some(v) if gain_stage => check("stage.rf", v, v > 0.0, pos),
-            Some(v) => check("stage.rf", v, v >= 0.0, "must not be negative (0 means a wire)"),
+            Some(v) => check(
+                "stage.rf",
+                v,
+                v >= 0.0,
+                "must not be negative (0 means a wire)",
+            ),
             None if gain_stage => check("stage.rf", 0.0, false, &needs("rf")),
             None => {}
         }
@@ -288,7 +292,12 @@ impl Scenario {
         if let Some(v) = a.cin {
             check("amp.cin", v, v >= 0.0, nonneg);
         }
-        check("amp.ro", a.ro, a.ro >= 0.0, "must not be negative (0 means ideal)");
+        check(
+            "amp.ro",
+            a.ro,
+            a.ro >= 0.0,
+            "must not be negative (0 means ideal)",
+        );
         check("amp.vnoise", a.vnoise, a.vnoise >= 0.0, nonneg);
         if let Some(v) = a.vnoise_corner {
             check("amp.vnoise_corner", v, v >= 0.0, nonneg);
@@ -316,8 +325,18 @@ impl Scenario {
             "is below absolute zero",
         );
         let (lo, hi) = self.band;
-        check("band", lo, lo > 0.0, "(band start) must be greater than zero");
-        check("band", hi, hi > lo, "(band end) must be above the band start");
+        check(
+            "band",
+            lo,
+            lo > 0.0,
+            "(band start) must be greater than zero",
+        );
+        check(
+            "band",
+            hi,
+            hi > lo,
+            "(band end) must be above the band start",
+        );
         if p.is_empty() {
             Ok(())
         } else {
@@ -439,8 +458,7 @@ pub fn field_positions(text: &str) -> Vec<FieldPos> {
             while k < bytes.len() && (bytes[k].1 == ' ' || bytes[k].1 == '\t') {
                 k += 1;
             }
-            if k < bytes.len() && bytes[k].1 == ':' && bytes.get(k + 1).map(|x| x.1) != Some(':')
-            {
+            if k < bytes.len() && bytes[k].1 == ':' && bytes.get(k + 1).map(|x| x.1) != Some(':') {
                 let d = depth.max(1);
                 names.truncate(d - 1);
                 names.push(ident);

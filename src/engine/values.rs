@@ -95,6 +95,10 @@ pub fn parse_value(text: &str) -> Result<f64, ValueError> {
         exponent = chars[i + 1..j].iter().collect();
         i = j;
     }
+    // Spaces may separate the number from its prefix or unit (`1 kHz`).
+    while i < chars.len() && chars[i] == ' ' {
+        i += 1;
+    }
     // Multiplier letter, then RKM fraction digits.
     let mut mult = 1.0;
     let mut fraction = String::new();
@@ -147,9 +151,7 @@ pub fn parse_value(text: &str) -> Result<f64, ValueError> {
         number.push('e');
         number.push_str(&exponent);
     }
-    let v: f64 = number
-        .parse()
-        .map_err(|_| err(text, "not a number"))?;
+    let v: f64 = number.parse().map_err(|_| err(text, "not a number"))?;
     let v = sign * v * mult;
     if !v.is_finite() {
         return Err(err(text, "out of range"));
@@ -246,7 +248,11 @@ pub fn fmt_eng_sig(v: f64, unit: &str, sig: usize) -> String {
         return "n/a".to_string();
     }
     if v.is_infinite() {
-        return if v > 0.0 { "open".into() } else { "-inf".into() };
+        return if v > 0.0 {
+            "open".into()
+        } else {
+            "-inf".into()
+        };
     }
     let (m, p) = split_eng(v, sig);
     let num = trim_number(m, sig);

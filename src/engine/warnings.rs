@@ -269,6 +269,6 @@ pub fn check(s: &Scenario, a: &Analysis) -> Vec<Warning> {
             ),
         );
     }
-    w.sort_by(|x, y| y.severity.cmp(&x.severity));
+    w.sort_by_key(|x| std::cmp::Reverse(x.severity));
     w
 }

@@ -1,0 +1,325 @@
+//! The engine against closed-form textbook results, physical constants and
+//! facts of the trade. Every check value names where it comes from.
+
+mod common;
+use common::{assert_rel, follower, plain, rel};
+use loopwright::engine::analysis::{analyze, Circuit};
+use loopwright::engine::netlist::BOLTZMANN;
+use loopwright::engine::Topology;
+use std::f64::consts::PI;
+
+#[test]
+fn boltzmann_constant_is_the_si_2019_value() {
+    // SI 2019 (BIPM SI Brochure, 9th edition): k = 1.380649e-23 J/K exactly.
+    assert_eq!(BOLTZMANN, 1.380649e-23);
+}
+
+#[test]
+fn johnson_noise_of_1k_at_25c() {
+    // Johnson–Nyquist: en = sqrt(4kTR); 1 kΩ at 25 °C ≈ 4.06 nV/√Hz
+    // (k from SI 2019; the 4.06 figure is the common textbook value).
+    let want = (4.0 * 1.380649e-23 * 298.15 * 1000.0f64).sqrt();
+    assert!((want - 4.06e-9).abs() < 0.005e-9, "{want}");
+    // A follower with a noiseless, very fast op-amp passes the source
+    // resistor's noise with gain 1.
+    let mut s = follower();
+    s.source.r = 1000.0;
+    s.amp.a0 = 1.0e9;
+    s.amp.gbw = 1.0e12;
+    let a = analyze(&s);
+    assert_rel("1 kΩ noise at the output", a.noise_density_1khz, want, 1e-6);
+    assert_rel("≈ 4.06 nV/√Hz", a.noise_density_1khz, 4.06e-9, 2e-3);
+}
+
+#[test]
+fn non_inverting_finite_gain() {
+    // Textbook finite-gain closed loop: G = G_ideal / (1 + 1/(A·β)),
+    // β = rg/(rg + rf), G_ideal = 1 + rf/rg.
+    for (rg, rf, a0) in [(1e3, 10e3, 1e3), (2.2e3, 47e3, 2e4), (10e3, 10e3, 50.0)] {
+        let mut s = plain(Topology::NonInverting, rg, rf);
+        s.amp.a0 = a0;
+        let a = analyze(&s);
+        let beta = rg / (rg + rf);
+        let ideal = 1.0 + rf / rg;
+        let want = ideal / (1.0 + 1.0 / (a0 * beta));
+        assert_rel("ideal gain", a.ideal_gain, ideal, 1e-12);
+        assert_rel("dc gain", a.dc_gain, want, 1e-9);
+        assert_rel("gain error", a.gain_error, want / ideal - 1.0, 1e-6);
+        // Loop gain at DC is A·β for this ideal network.
+        assert_rel("dc loop gain", a.loop_gain_dc, a0 * beta, 1e-9);
+    }
+}
+
+#[test]
+fn inverting_finite_gain() {
+    // Textbook: G = −(rf/rg) / (1 + 1/(A·β)), β = rg/(rg + rf) (noise gain 1 + rf/rg).
+    for (rg, rf, a0) in [(1e3, 10e3, 1e3), (4.7e3, 4.7e3, 1e4), (1e3, 100e3, 1e5)] {
+        let mut s = plain(Topology::Inverting, rg, rf);
+        s.amp.a0 = a0;
+        let a = analyze(&s);
+        let beta = rg / (rg + rf);
+        let want = -(rf / rg) / (1.0 + 1.0 / (a0 * beta));
+        assert!(a.dc_gain < 0.0, "an inverting stage has negative gain");
+        assert_rel("ideal gain", a.ideal_gain, -rf / rg, 1e-12);
+        assert_rel("dc gain", a.dc_gain, want, 1e-9);
+    }
+}
+
+#[test]
+fn source_resistance_adds_to_rg_in_an_inverting_stage() {
+    // Textbook: the source resistance is in series with rg, so the ideal
+    // gain is −rf/(rg + rs).
+    let mut s = plain(Topology::Inverting, 1e3, 10e3);
+    s.source.r = 1e3;
+    let a = analyze(&s);
+    assert_rel("ideal gain", a.ideal_gain, -5.0, 1e-12);
+}
+
+#[test]
+fn isolation_resistor_and_load_divide_the_ideal_gain() {
+    // Voltage divider: feedback is taken before riso, so the load terminal
+    // sees G·RL/(RL + riso).
+    let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+    s.stage.riso = Some(100.0);
+    s.load.r = Some(900.0);
+    let a = analyze(&s);
+    assert_rel("ideal gain", a.ideal_gain, 10.0 * 0.9, 1e-12);
+}
+
+#[test]
+fn output_impedance_kcl_with_finite_rin() {
+    // KCL at the output of a non-inverting stage, + input grounded, no load,
+    // no riso (textbook derivation):
+    // 1/Zout = 1/(rf + rg‖rin) + 1/ro + a0·(rg‖rin)/(ro·(rg‖rin + rf)).
+    for (rg, rf, rin, ro, a0) in [
+        (1e3, 9e3, 10e3, 100.0, 1e4),
+        (1e3, 10e3, 2e6, 75.0, 1e5),
+        (10e3, 10e3, 50e3, 500.0, 300.0),
+    ] {
+        let mut s = plain(Topology::NonInverting, rg, rf);
+        s.amp.rin = Some(rin);
+        s.amp.ro = ro;
+        s.amp.a0 = a0;
+        let a = analyze(&s);
+        let rp = rg * rin / (rg + rin);
+        let y = 1.0 / (rf + rp) + 1.0 / ro + a0 * rp / (ro * (rp + rf));
+        assert_rel("Zout at DC", a.zout_dc_ohm, 1.0 / y, 1e-9);
+    }
+}
+
+#[test]
+fn follower_output_impedance_rises_as_loop_gain_falls() {
+    // Textbook: Zout = ro/(1 + A(jf)·β); for a follower β = 1 and with no
+    // load the expression is exact for this model. It rises with frequency.
+    let mut s = follower();
+    s.amp.ro = 75.0;
+    let c = Circuit::new(&s);
+    let wp1 = 2.0 * PI * s.amp.gbw / s.amp.a0;
+    let mut last = 0.0;
+    for f in [1.0, 10.0, 100.0, 1e3, 1e4, 1e5] {
+        let p = c.eval(f).unwrap();
+        let a = s.amp.a0 / num_complex::Complex64::new(1.0, 2.0 * PI * f / wp1);
+        let want = (75.0 / (1.0 + a)).norm();
+        assert_rel(&format!("|Zout| at {f} Hz"), p.zout.norm(), want, 1e-6);
+        assert!(p.zout.norm() > last, "Zout rises with frequency");
+        // It looks inductive: the phase is near +90° well above the open-loop pole.
+        if f >= 100.0 {
+            assert!(p.zout.arg().to_degrees() > 80.0);
+        }
+        last = p.zout.norm();
+    }
+}
+
+#[test]
+fn feedback_drives_output_impedance_far_below_ro() {
+    // Common practice: open-loop gain is typically around 10^5, and a
+    // follower with a0 = 10^5 and ro = 75 Ω is under 1 mΩ at DC.
+    let mut s = follower();
+    s.amp.ro = 75.0;
+    let a = analyze(&s);
+    assert!(a.zout_dc_ohm < 1e-3, "{}", a.zout_dc_ohm);
+    assert_rel("ro/(1 + a0)", a.zout_dc_ohm, 75.0 / (1.0 + 1e5), 1e-9);
+}
+
+#[test]
+fn single_pole_bandwidth_is_gbw_over_noise_gain() {
+    // Common practice: single-pole closed-loop f−3dB ≈ gbw / noise gain.
+    for (rg, rf, gbw) in [(1e3, 9e3, 1e6), (1e3, 99e3, 10e6), (1e3, 1e3, 1e6)] {
+        let mut s = plain(Topology::NonInverting, rg, rf);
+        s.amp.gbw = gbw;
+        let a = analyze(&s);
+        let ng = 1.0 + rf / rg;
+        assert_rel("f−3dB", a.f_3db_hz.unwrap(), gbw / ng, 0.01);
+        // And exactly, for one pole: fp1·(1 + a0·β).
+        let exact = gbw / s.amp.a0 * (1.0 + s.amp.a0 / ng);
+        assert_rel("f−3dB exact", a.f_3db_hz.unwrap(), exact, 1e-6);
+        assert!(a.peaking_db < 1e-6);
+        // The loop crosses over at about the same frequency, 90° margin.
+        assert_rel("crossover", a.crossover_hz.unwrap(), gbw / ng, 0.01);
+        assert!((a.phase_margin_deg.unwrap() - 90.0).abs() < 0.1);
+    }
+}
+
+#[test]
+fn two_pole_phase_margin() {
+    // Textbook: with a resistive β and the second pole fp2 above the
+    // crossover fc, phase margin ≈ 90° − atan(fc/fp2).
+    for fp2 in [200e3, 1e6, 5e6] {
+        let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+        s.amp.fp2 = Some(fp2);
+        let a = analyze(&s);
+        let fc = a.crossover_hz.unwrap();
+        // fc from the closed form |a0·β/((1 + jf/fp1)(1 + jf/fp2))| = 1, by bisection.
+        let fp1 = s.amp.gbw / s.amp.a0;
+        let mag = |f: f64| {
+            0.1 * s.amp.a0 / ((1.0 + (f / fp1).powi(2)).sqrt() * (1.0 + (f / fp2).powi(2)).sqrt())
+        };
+        let (mut lo, mut hi) = (1.0f64, 1e9f64);
+        for _ in 0..200 {
+            let mid = (lo * hi).sqrt();
+            if mag(mid) > 1.0 {
+                lo = mid
+            } else {
+                hi = mid
+            }
+        }
+        assert_rel("crossover", fc, lo, 1e-6);
+        let want = 90.0 - (fc / fp2).atan().to_degrees();
+        assert!(
+            (a.phase_margin_deg.unwrap() - want).abs() < 0.05,
+            "fp2 {fp2}: {} vs {want}",
+            a.phase_margin_deg.unwrap()
+        );
+    }
+}
+
+#[test]
+fn second_order_peaking_matches_the_damping_formula() {
+    // Standard control texts: a two-pole loop with constant β closes as a
+    // second-order low-pass with ω0² = (1 + a0β)·ωp1·ωp2 and
+    // 2ζω0 = ωp1 + ωp2; for ζ < 1/√2 the peak is 1/(2ζ·sqrt(1 − ζ²)).
+    let mut s = follower();
+    s.amp.fp2 = Some(500e3);
+    let a = analyze(&s);
+    let wp1 = 2.0 * PI * s.amp.gbw / s.amp.a0;
+    let wp2 = 2.0 * PI * 500e3;
+    let w0 = ((1.0 + s.amp.a0) * wp1 * wp2).sqrt();
+    let zeta = (wp1 + wp2) / (2.0 * w0);
+    assert!(zeta < 0.7);
+    // The low-frequency gain is a0/(1 + a0), the peak is relative to it.
+    let want = 20.0 * (1.0 / (2.0 * zeta * (1.0 - zeta * zeta).sqrt())).log10();
+    assert!(
+        (a.peaking_db - want).abs() < 0.01,
+        "{} vs {want}",
+        a.peaking_db
+    );
+}
+
+#[test]
+fn input_impedance_closed_forms() {
+    // Inverting (KCL, ro = 0, rin open): Zin = rg + rf/(1 + a0).
+    let mut s = plain(Topology::Inverting, 1e3, 10e3);
+    s.amp.a0 = 1e3;
+    let a = analyze(&s);
+    assert_rel(
+        "inverting Zin",
+        a.zin_dc_ohm.unwrap(),
+        1e3 + 10e3 / 1001.0,
+        1e-9,
+    );
+    // Non-inverting with rin (KCL at the − input, ro = 0, no load):
+    // Zin = rin + (rg‖rf)·(1 + a0·rin/rf).
+    let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+    s.amp.rin = Some(1e6);
+    s.amp.a0 = 1e4;
+    s.source.r = 50.0;
+    let a = analyze(&s);
+    let par = 1e3 * 9e3 / 10e3;
+    let want = 1e6 + par * (1.0 + 1e4 * 1e6 / 9e3);
+    assert_rel("non-inverting Zin", a.zin_dc_ohm.unwrap(), want, 1e-6);
+    // Without rin the + input draws no DC current: Zin is open.
+    let s = plain(Topology::NonInverting, 1e3, 9e3);
+    assert!(analyze(&s).zin_dc_ohm.is_none());
+}
+
+#[test]
+fn one_pole_noise_bandwidth() {
+    // Textbook: the equivalent noise bandwidth of a single-pole low-pass is
+    // π/2 · f−3dB. A follower with only voltage noise integrates to
+    // en²·(π/2)·f−3dB when the band spans far beyond the pole.
+    let mut s = follower();
+    s.amp.gbw = 10e3;
+    s.amp.vnoise = 10e-9;
+    s.band = (0.01, 1e9);
+    let a = analyze(&s);
+    let f3 = a.f_3db_hz.unwrap();
+    let want = 10e-9 * (PI / 2.0 * f3).sqrt();
+    assert_rel("rms", a.noise_rms, want, 2e-3);
+    let en = a.noise_sources.iter().find(|n| n.key == "vnoise").unwrap();
+    assert_rel("voltage noise share", en.share, 1.0, 1e-12);
+}
+
+#[test]
+fn flicker_noise_integral() {
+    // Textbook: ∫ en²(1 + fc/f) df from fL to fH = en²·((fH − fL) + fc·ln(fH/fL));
+    // the 1/f part alone is en²·fc·ln(fH/fL).
+    let mut s = follower();
+    s.amp.gbw = 1e9;
+    s.amp.vnoise = 5e-9;
+    s.amp.vnoise_corner = Some(1e3);
+    s.band = (0.1, 10.0);
+    let a = analyze(&s);
+    let (lo, hi) = s.band;
+    let en2 = 5e-9f64 * 5e-9;
+    let flicker = en2 * 1e3 * (hi / lo).ln();
+    let want = (en2 * (hi - lo) + flicker).sqrt();
+    assert_rel("rms with 1/f", a.noise_rms, want, 1e-3);
+    // Flicker dominates here.
+    assert!(flicker / (want * want) > 0.99);
+}
+
+#[test]
+fn noise_gain_scales_voltage_noise_and_resistor_noise_adds() {
+    // Textbook: output noise² = (en·NG)² + 4kT·rg·(rf/rg)² + 4kT·rf at low
+    // frequency, NG = 1 + rf/rg, for an ideal source and a fast op-amp.
+    let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+    s.amp.a0 = 1e9;
+    s.amp.gbw = 1e12;
+    s.amp.vnoise = 3e-9;
+    let a = analyze(&s);
+    let kt4 = 4.0 * 1.380649e-23 * 298.15;
+    let want = ((3e-9f64 * 10.0).powi(2) + kt4 * 1e3 * 81.0 + kt4 * 9e3).sqrt();
+    assert_rel("density", a.noise_density_1khz, want, 1e-6);
+    // Current noise into the − input appears across rf‖… : in·rf at the output.
+    let mut s2 = s.clone();
+    s2.amp.vnoise = 0.0;
+    s2.amp.inoise = 1e-12;
+    s2.temp_c = -273.149_999_999; // nearly no thermal noise
+    let a2 = analyze(&s2);
+    assert_rel("current noise", a2.noise_density_1khz, 1e-12 * 9e3, 1e-4);
+}
+
+#[test]
+fn gain_margin_of_a_three_pole_loop() {
+    // A follower driving a capacitive load through ro adds a third pole at
+    // 1/(2π·ro·C). Phase reaches −180° at a finite frequency, where the gain
+    // margin is −20·log10|T|; checked against the closed form of T.
+    let mut s = follower();
+    s.amp.fp2 = Some(2e6);
+    s.amp.ro = 100.0;
+    s.load.c = Some(1e-9);
+    let a = analyze(&s);
+    let f180 = a.phase_180_hz.expect("phase reaches −180°");
+    let fp1 = s.amp.gbw / s.amp.a0;
+    let fp3 = 1.0 / (2.0 * PI * 100.0 * 1e-9);
+    let phase = |f: f64| -((f / fp1).atan() + (f / 2e6).atan() + (f / fp3).atan()).to_degrees();
+    assert!((phase(f180) + 180.0).abs() < 1e-3, "{}", phase(f180));
+    let mag = s.amp.a0
+        / ((1.0 + (f180 / fp1).powi(2))
+            * (1.0 + (f180 / 2e6).powi(2))
+            * (1.0 + (f180 / fp3).powi(2)))
+        .sqrt();
+    let want = -20.0 * mag.log10();
+    assert!((a.gain_margin_db.unwrap() - want).abs() < 1e-3);
+    assert!(rel(a.gain_margin_db.unwrap(), want) < 1e-3);
+}

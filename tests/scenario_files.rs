@@ -1,0 +1,215 @@
+//! The scenario file format: the documented shape loads, saves and reloads
+//! unchanged; bad files fail with the field, line and column.
+
+mod common;
+use common::bin;
+use loopwright::engine::scenario::{Scenario, DEMO_RON};
+use loopwright::engine::{analyze, Topology};
+
+const DOC_EXAMPLE: &str = r#"(
+    title: "Bridge sensor front-end, gain 11",
+    stage: (topology: NonInverting, rg: 1000.0, rf: 10000.0, cf: 1.0e-12, riso: 0.0, series: E24, tolerance: 0.01),
+    amp: (a0: 100000.0, gbw: 1.0e6, fp2: 10.0e6, rin: 2.0e6, cin: 3.0e-12, ro: 75.0,
+          vnoise: 10.0e-9, vnoise_corner: 0.0, inoise: 1.0e-12, inoise_corner: 0.0),
+    source: (r: 50.0),
+    load: (r: 10000.0, c: 100.0e-12),
+    temp_c: 25.0,
+    band: (10.0, 100000.0),
+)
+"#;
+
+fn err(text: &str) -> loopwright::engine::ScenarioError {
+    Scenario::from_ron(text, Some("t.ron")).expect_err("should fail")
+}
+
+#[test]
+fn the_documented_shape_loads() {
+    let s = Scenario::from_ron(DOC_EXAMPLE, None).unwrap();
+    assert_eq!(s.stage.topology, Topology::NonInverting);
+    assert_eq!(s.stage.rg, Some(1000.0));
+    assert_eq!(s.amp.fp2, Some(10.0e6));
+    assert_eq!(s.load.c, Some(100.0e-12));
+    assert_eq!(s.band, (10.0, 100000.0));
+}
+
+#[test]
+fn omitted_optional_fields_are_absent() {
+    let text = DOC_EXAMPLE
+        .replace("cf: 1.0e-12, riso: 0.0, ", "")
+        .replace("fp2: 10.0e6, rin: 2.0e6, cin: 3.0e-12, ", "")
+        .replace("vnoise_corner: 0.0, ", "")
+        .replace(", inoise_corner: 0.0", "")
+        .replace("load: (r: 10000.0, c: 100.0e-12)", "load: ()");
+    let s = Scenario::from_ron(&text, None).unwrap();
+    assert_eq!(s.stage.cf, None);
+    assert_eq!(s.amp.rin, None);
+    assert_eq!(s.load.r, None);
+    assert!(analyze(&s).dc_gain > 10.0);
+}
+
+#[test]
+fn integers_are_accepted_for_numbers() {
+    let text = DOC_EXAMPLE.replace("rg: 1000.0", "rg: 1000");
+    let s = Scenario::from_ron(&text, None).unwrap();
+    assert_eq!(s.stage.rg, Some(1000.0));
+}
+
+#[test]
+fn saved_and_reread_is_the_same_scenario() {
+    for text in [DOC_EXAMPLE, DEMO_RON] {
+        let s = Scenario::from_ron(text, None).unwrap();
+        let saved = s.to_ron();
+        let back = Scenario::from_ron(&saved, None).unwrap();
+        assert_eq!(s, back);
+        // The saved form names its version and carries bare numbers.
+        assert!(saved.contains("version: 1"), "{saved}");
+        assert!(!saved.contains("Some("), "{saved}");
+    }
+}
+
+#[test]
+fn follower_without_rg_or_rf() {
+    let text = DOC_EXAMPLE.replace(
+        "topology: NonInverting, rg: 1000.0, rf: 10000.0,",
+        "topology: Follower,",
+    );
+    let s = Scenario::from_ron(&text, None).unwrap();
+    let a = analyze(&s);
+    assert!((a.ideal_gain - 1.0).abs() < 1e-12);
+}
+
+#[test]
+fn syntax_error_has_line_and_column() {
+    let text = DOC_EXAMPLE.replace("source: (r: 50.0),", "source: (r: 50.0,");
+    let e = err(&text);
+    assert!(e.line.is_some() && e.col.is_some(), "{e}");
+    assert!(e.to_string().starts_with("t.ron:"), "{e}");
+}
+
+#[test]
+fn unknown_topology_names_the_field() {
+    let text = DOC_EXAMPLE.replace("topology: NonInverting", "topology: Sideways");
+    let e = err(&text);
+    assert_eq!(e.field.as_deref(), Some("stage.topology"), "{e}");
+    assert_eq!(e.line, Some(3));
+    assert!(e.to_string().contains("Sideways"), "{e}");
+}
+
+#[test]
+fn negative_and_zero_resistors_are_rejected_with_position() {
+    let e = err(&DOC_EXAMPLE.replace("rg: 1000.0", "rg: -1000.0"));
+    assert_eq!(e.field.as_deref(), Some("stage.rg"));
+    assert_eq!(e.line, Some(3));
+    assert_eq!(e.col, Some(37));
+    assert!(e.to_string().contains("-1000"), "{e}");
+    let e = err(&DOC_EXAMPLE.replace("rf: 10000.0", "rf: 0.0"));
+    assert_eq!(e.field.as_deref(), Some("stage.rf"));
+    let e = err(&DOC_EXAMPLE.replace("load: (r: 10000.0", "load: (r: -5.0"));
+    assert_eq!(e.field.as_deref(), Some("load.r"));
+    assert_eq!(e.line, Some(7));
+    let e = err(&DOC_EXAMPLE.replace("source: (r: 50.0)", "source: (r: -50.0)"));
+    assert_eq!(e.field.as_deref(), Some("source.r"));
+}
+
+#[test]
+fn nan_is_rejected() {
+    let e = err(&DOC_EXAMPLE.replace("gbw: 1.0e6", "gbw: NaN"));
+    assert_eq!(e.field.as_deref(), Some("amp.gbw"), "{e}");
+    assert!(e.line.is_some());
+    let e = err(&DOC_EXAMPLE.replace("ro: 75.0", "ro: inf"));
+    assert_eq!(e.field.as_deref(), Some("amp.ro"), "{e}");
+}
+
+#[test]
+fn missing_required_field_is_named() {
+    let e = err(&DOC_EXAMPLE.replace("gbw: 1.0e6, ", ""));
+    assert_eq!(e.field.as_deref(), Some("amp.gbw"), "{e}");
+    assert!(e.line.is_some());
+    let e = err(&DOC_EXAMPLE.replace("    temp_c: 25.0,\n", ""));
+    assert_eq!(e.field.as_deref(), Some("temp_c"), "{e}");
+}
+
+#[test]
+fn rg_absent_for_a_gain_stage() {
+    let e = err(&DOC_EXAMPLE.replace("rg: 1000.0, ", ""));
+    assert_eq!(e.field.as_deref(), Some("stage.rg"), "{e}");
+    assert!(e.message.contains("needs rg"), "{e}");
+    let text = DOC_EXAMPLE
+        .replace("NonInverting", "Inverting")
+        .replace("rf: 10000.0, ", "");
+    let e = err(&text);
+    assert_eq!(e.field.as_deref(), Some("stage.rf"), "{e}");
+}
+
+#[test]
+fn unknown_field_and_wrong_type() {
+    let e = err(&DOC_EXAMPLE.replace("ro: 75.0", "rout: 75.0"));
+    assert!(e.to_string().contains("rout"), "{e}");
+    assert!(e.line.is_some());
+    let e = err(&DOC_EXAMPLE.replace("rg: 1000.0", "rg: \"1k\""));
+    assert_eq!(e.field.as_deref(), Some("stage.rg"), "{e}");
+    let e = err(&DOC_EXAMPLE[..200]);
+    assert!(e.line.is_some(), "{e}");
+}
+
+#[test]
+fn newer_format_version_is_a_clear_error() {
+    let text = DOC_EXAMPLE.replacen("(\n", "(\n    version: 7,\n", 1);
+    let e = err(&text);
+    assert_eq!(e.field.as_deref(), Some("version"));
+    assert!(e.message.contains("newer"), "{e}");
+    let text = DOC_EXAMPLE.replacen("(\n", "(\n    version: 1,\n", 1);
+    assert!(Scenario::from_ron(&text, None).is_ok());
+}
+
+#[test]
+fn every_library_scenario_loads_analyses_and_round_trips() {
+    let mut n = 0;
+    for entry in std::fs::read_dir(concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios")).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().and_then(|e| e.to_str()) != Some("ron") {
+            continue;
+        }
+        n += 1;
+        let s = Scenario::load(&path).unwrap_or_else(|e| panic!("{e}"));
+        let a = analyze(&s);
+        assert!(
+            a.dc_gain.is_finite() && a.noise_rms.is_finite(),
+            "{}",
+            path.display()
+        );
+        assert!(!a.warnings.iter().any(|w| w.code == "input-invalid"));
+        let back = Scenario::from_ron(&s.to_ron(), None).unwrap();
+        assert_eq!(s, back, "{}", path.display());
+        let text = std::fs::read_to_string(&path).unwrap();
+        assert!(
+            text.trim_start().starts_with("//"),
+            "{} has a comment at the top",
+            path.display()
+        );
+    }
+    assert!(n >= 3, "scenarios/ holds at least three stages");
+}
+
+#[test]
+fn bad_file_in_the_cli_fails_cleanly() {
+    let dir = std::env::temp_dir().join(format!("lw-bad-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("bad.ron");
+    std::fs::write(&path, DOC_EXAMPLE.replace("rg: 1000.0", "rg: -1.0")).unwrap();
+    let out = bin().arg("report").arg(&path).output().unwrap();
+    assert!(!out.status.success());
+    assert!(out.stdout.is_empty());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("bad.ron:3:37"), "{err}");
+    assert!(err.contains("stage.rg"), "{err}");
+    let out = bin()
+        .arg("report")
+        .arg(dir.join("missing.ron"))
+        .arg("--json")
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    assert!(out.stdout.is_empty());
+    std::fs::remove_dir_all(&dir).ok();
+}
