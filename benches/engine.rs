@@ -18,5 +18,24 @@ fn one_point(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, full_analysis, one_point);
+/// One full frame of the demo at 120×40 after a parameter step: the engine
+/// re-runs and every pane is drawn into a TestBackend.
+fn frame(c: &mut Criterion) {
+    use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+    use loopwright::ui::{app::App, theme::Theme, view};
+    use ratatui::{backend::TestBackend, Terminal};
+    let mut app = App::new(vec![(scenario::demo(), None)], Theme::new(true, false));
+    let mut term = Terminal::new(TestBackend::new(120, 40)).unwrap();
+    let mut up = true;
+    c.bench_function("frame", |b| {
+        b.iter(|| {
+            let code = if up { KeyCode::Right } else { KeyCode::Left };
+            up = !up;
+            app.on_key(KeyEvent::new(code, KeyModifiers::NONE));
+            term.draw(|f| view::draw(f, &app)).unwrap();
+        })
+    });
+}
+
+criterion_group!(benches, full_analysis, one_point, frame);
 criterion_main!(benches);

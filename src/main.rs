@@ -42,13 +42,20 @@ fn run(cli: Cli) -> Result<()> {
             out.write_all(buf.as_bytes())?;
         }
         None => {
-            let s =
-                load(cli.files.first().map(|p| p.as_path())).context("cannot open the scenario")?;
-            let a = analyze(&s);
-            let r = Report::new(&s, &a, &[]);
-            let mut buf = Vec::new();
-            write_text(&r, &s, &a, &mut buf)?;
-            out.write_all(&buf)?;
+            drop(out);
+            // Load every file before the terminal is touched, so a bad file
+            // leaves a normal screen with the error on it.
+            let stages = if cli.files.is_empty() {
+                vec![(scenario::demo(), None)]
+            } else {
+                cli.files
+                    .iter()
+                    .map(|p| Ok((Scenario::load(p)?, Some(p.clone()))))
+                    .collect::<Result<Vec<_>>>()
+                    .context("cannot open the workbench")?
+            };
+            let looks = loopwright::ui::Looks::resolve(cli.no_color, cli.ascii);
+            return loopwright::ui::run(stages, looks);
         }
     }
     out.flush()?;

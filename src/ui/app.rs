@@ -1,0 +1,640 @@
+//! The workbench model: one or two candidate stages (A and B), each with
+//! its analysis and plot-ready traces, plus the selection, mode and status.
+//! `on_key` is the only way state changes; the view only reads.
+
+use super::params::{self, Param, ALL};
+use super::plot::finite;
+use super::theme::Theme;
+use crate::engine::analysis::{Analysis, Circuit, Point};
+use crate::engine::scenario::{Amp, Scenario};
+use crate::engine::{analyze, values};
+use crossterm::event::{KeyCode, KeyEvent, KeyEventKind, KeyModifiers};
+use serde::Deserialize;
+use std::path::{Path, PathBuf};
+
+/// Which plot the upper right panel shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum View {
+    Response,
+    Loop,
+    Noise,
+}
+
+impl View {
+    pub fn next(self) -> View {
+        match self {
+            View::Response => View::Loop,
+            View::Loop => View::Noise,
+            View::Noise => View::Response,
+        }
+    }
+    pub fn title(self) -> &'static str {
+        match self {
+            View::Response => "Closed-loop response",
+            View::Loop => "Loop gain",
+            View::Noise => "Output noise density",
+        }
+    }
+}
+
+/// Plot-ready traces (x = log10 f), built once per analysis.
+#[derive(Debug, Clone, Default)]
+pub struct Traces {
+    pub gain_db: Vec<(f64, f64)>,
+    pub gain_phase: Vec<(f64, f64)>,
+    pub loop_db: Vec<(f64, f64)>,
+    pub loop_phase: Vec<(f64, f64)>,
+    /// log10 |Z| in ohms.
+    pub zout: Vec<(f64, f64)>,
+    pub zin: Vec<(f64, f64)>,
+    /// log10 of the density in V/√Hz.
+    pub noise: Vec<(f64, f64)>,
+}
+
+impl Traces {
+    fn new(a: &Analysis) -> Traces {
+        let pts = &a.sweep.points;
+        let lf = |p: &Point| p.f_hz.log10();
+        Traces {
+            gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
+            gain_phase: finite(
+                pts.iter()
+                    .map(|p| (lf(p), crate::engine::analysis::phase_deg(p.gain))),
+            ),
+            loop_db: finite(
+                pts.iter()
+                    .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),
+            ),
+            loop_phase: finite(
+                pts.iter()
+                    .zip(&a.sweep.loop_phase_deg)
+                    .map(|(p, ph)| (lf(p), *ph)),
+            ),
+            zout: finite(pts.iter().map(|p| (lf(p), p.zout.norm().log10()))),
+            zin: finite(
+                pts.iter()
+                    .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
+            ),
+            noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
+        }
+    }
+}
+
+/// One candidate stage and everything derived from it.
+#[derive(Debug, Clone)]
+pub struct Slot {
+    pub scenario: Scenario,
+    pub analysis: Analysis,
+    pub traces: Traces,
+    /// The solved point at the chosen probe frequency.
+    pub probe: Option<Point>,
+    pub path: Option<PathBuf>,
+    pub dirty: bool,
+}
+
+impl Slot {
+    pub fn new(scenario: Scenario, path: Option<PathBuf>, probe_hz: f64) -> Slot {
+        let analysis = analyze(&scenario);
+        let traces = Traces::new(&analysis);
+        let probe = Circuit::new(&scenario).eval(probe_hz);
+        Slot {
+            scenario,
+            analysis,
+            traces,
+            probe,
+            path,
+            dirty: false,
+        }
+    }
+
+    fn refresh(&mut self, probe_hz: f64) {
+        self.analysis = analyze(&self.scenario);
+        self.traces = Traces::new(&self.analysis);
+        self.probe = Circuit::new(&self.scenario).eval(probe_hz);
+    }
+
+    pub fn name(&self) -> String {
+        self.path
+            .as_ref()
+            .and_then(|p| p.file_name())
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "(built-in demo)".into())
+    }
+}
+
+/// A generic op-amp model from the archetype library.
+#[derive(Debug, Clone, Deserialize)]
+pub struct Archetype {
+    pub name: String,
+    pub amp: Amp,
+}
+
+pub const ARCHETYPES_RON: &str = include_str!("../../assets/amps.ron");
+
+/// The archetype library shipped in assets/.
+pub fn archetypes() -> Vec<Archetype> {
+    ron::Options::default()
+        .with_default_extension(ron::extensions::Extensions::IMPLICIT_SOME)
+        .from_str(ARCHETYPES_RON)
+        .unwrap_or_default()
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StatusKind {
+    Info,
+    Error,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Prompt {
+    SaveAs,
+    Probe,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Mode {
+    Normal,
+    /// Typing a new value for the selected parameter.
+    Edit(String),
+    /// Typing a path or frequency in the status line.
+    Prompt(Prompt, String),
+    /// Choosing a file to open: the list, the selection, a typed path.
+    Open(Vec<PathBuf>, usize, String),
+    Help,
+    ConfirmQuit,
+}
+
+pub struct App {
+    pub slots: Vec<Slot>,
+    pub active: usize,
+    pub selected: Param,
+    pub view: View,
+    pub probe_hz: f64,
+    pub mode: Mode,
+    pub status: String,
+    pub status_kind: StatusKind,
+    pub warn_scroll: usize,
+    pub theme: Theme,
+    pub running: bool,
+    pub archetypes: Vec<Archetype>,
+    pub archetype: usize,
+}
+
+/// Write a file atomically: a temporary file in the same folder, flushed,
+/// then renamed over the target. The old file is never half-written.
+pub fn write_atomic(path: &Path, text: &str) -> std::io::Result<()> {
+    use std::io::Write;
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    if path.is_dir() {
+        return Err(std::io::Error::other(format!(
+            "{} is a folder",
+            path.display()
+        )));
+    }
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "scenario.ron".into());
+    let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(text.as_bytes())?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
+
+/// The `.ron` files in the current folder and in scenarios/.
+pub fn scenario_files() -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    for dir in [PathBuf::from("."), PathBuf::from("scenarios")] {
+        if let Ok(rd) = std::fs::read_dir(&dir) {
+            let mut v: Vec<PathBuf> = rd
+                .filter_map(|e| e.ok().map(|e| e.path()))
+                .filter(|p| p.extension().and_then(|e| e.to_str()) == Some("ron"))
+                .collect();
+            v.sort();
+            out.extend(v);
+        }
+    }
+    out
+}
+
+impl App {
+    pub fn new(slots: Vec<(Scenario, Option<PathBuf>)>, theme: Theme) -> App {
+        let probe_hz = 1e3;
+        let slots: Vec<Slot> = slots
+            .into_iter()
+            .take(2)
+            .map(|(s, p)| Slot::new(s, p, probe_hz))
+            .collect();
+        App {
+            slots,
+            active: 0,
+            selected: Param::Rf,
+            view: View::Response,
+            probe_hz,
+            mode: Mode::Normal,
+            status: "? help · ↑↓ select · ←→ step · Enter type a value · q quit".into(),
+            status_kind: StatusKind::Info,
+            warn_scroll: 0,
+            theme,
+            running: true,
+            archetypes: archetypes(),
+            archetype: 0,
+        }
+    }
+
+    pub fn slot(&self) -> &Slot {
+        &self.slots[self.active]
+    }
+
+    pub fn slot_label(i: usize) -> &'static str {
+        if i == 0 {
+            "A"
+        } else {
+            "B"
+        }
+    }
+
+    /// Parameters shown for the active stage, in pane order.
+    pub fn visible(&self) -> Vec<Param> {
+        let s = &self.slot().scenario;
+        ALL.iter().copied().filter(|p| p.applies(s)).collect()
+    }
+
+    fn info(&mut self, msg: impl Into<String>) {
+        self.status = msg.into();
+        self.status_kind = StatusKind::Info;
+    }
+
+    fn error(&mut self, msg: impl Into<String>) {
+        self.status = msg.into();
+        self.status_kind = StatusKind::Error;
+    }
+
+    /// Apply a change to the active scenario; keep it only if it is valid.
+    fn change(&mut self, what: &str, f: impl FnOnce(&mut Scenario) -> Result<(), String>) {
+        let mut s = self.slot().scenario.clone();
+        if let Err(e) = f(&mut s) {
+            self.error(format!("{what}: {e} (value unchanged)"));
+            return;
+        }
+        if let Err(problems) = s.validate() {
+            let p = &problems[0];
+            self.error(format!("{}: {} (value unchanged)", p.field, p.message));
+            return;
+        }
+        let probe = self.probe_hz;
+        let slot = &mut self.slots[self.active];
+        if slot.scenario != s {
+            slot.scenario = s;
+            slot.dirty = true;
+            slot.refresh(probe);
+        }
+        let shown = self.selected.display(&self.slot().scenario);
+        self.info(format!(
+            "{}: {what} → {shown}",
+            Self::slot_label(self.active)
+        ));
+        self.warn_scroll = 0;
+    }
+
+    fn move_selection(&mut self, down: bool) {
+        let vis = self.visible();
+        let i = vis.iter().position(|p| *p == self.selected).unwrap_or(0);
+        let j = if down {
+            (i + 1).min(vis.len() - 1)
+        } else {
+            i.saturating_sub(1)
+        };
+        self.selected = vis[j];
+    }
+
+    fn ensure_visible_selection(&mut self) {
+        let vis = self.visible();
+        if !vis.contains(&self.selected) {
+            self.selected = vis[0];
+        }
+    }
+
+    pub fn on_key(&mut self, key: KeyEvent) {
+        if key.kind == KeyEventKind::Release {
+            return;
+        }
+        if key.modifiers.contains(KeyModifiers::CONTROL) && key.code == KeyCode::Char('c') {
+            self.running = false;
+            return;
+        }
+        let mode = std::mem::replace(&mut self.mode, Mode::Normal);
+        match mode {
+            Mode::Normal => self.on_normal_key(key),
+            Mode::Help => {
+                // Any key closes help.
+            }
+            Mode::ConfirmQuit => match key.code {
+                KeyCode::Char('y') | KeyCode::Char('Y') => self.running = false,
+                _ => self.info("quit cancelled"),
+            },
+            Mode::Edit(buf) => {
+                if let Some(text) = self.on_text_key(key, buf, Mode::Edit) {
+                    let p = self.selected;
+                    self.change(p.label(), |s| p.apply_text(s, &text));
+                }
+            }
+            Mode::Prompt(kind, buf) => {
+                let k = kind.clone();
+                if let Some(text) = self.on_text_key(key, buf, move |b| Mode::Prompt(k.clone(), b))
+                {
+                    match kind {
+                        Prompt::SaveAs => self.save_as(&text),
+                        Prompt::Probe => self.set_probe(&text),
+                    }
+                }
+            }
+            Mode::Open(files, sel, buf) => self.on_open_key(key, files, sel, buf),
+        }
+    }
+
+    /// Line editing shared by value entry and prompts. Returns the text on
+    /// Enter; Esc cancels; other keys keep the mode open.
+    fn on_text_key(
+        &mut self,
+        key: KeyEvent,
+        mut buf: String,
+        reopen: impl Fn(String) -> Mode,
+    ) -> Option<String> {
+        match key.code {
+            KeyCode::Enter => return Some(buf),
+            KeyCode::Esc => {
+                self.info("cancelled");
+                return None;
+            }
+            KeyCode::Backspace => {
+                buf.pop();
+            }
+            KeyCode::Char(c) => buf.push(c),
+            _ => {}
+        }
+        self.mode = reopen(buf);
+        None
+    }
+
+    fn on_open_key(&mut self, key: KeyEvent, files: Vec<PathBuf>, mut sel: usize, mut buf: String) {
+        match key.code {
+            KeyCode::Esc => {
+                self.info("open cancelled");
+                return;
+            }
+            KeyCode::Enter => {
+                let path = if buf.trim().is_empty() {
+                    files.get(sel).cloned()
+                } else {
+                    Some(PathBuf::from(buf.trim()))
+                };
+                if let Some(p) = path {
+                    self.open(&p);
+                }
+                return;
+            }
+            KeyCode::Up => sel = sel.saturating_sub(1),
+            KeyCode::Down => sel = (sel + 1).min(files.len().saturating_sub(1)),
+            KeyCode::Backspace => {
+                buf.pop();
+            }
+            KeyCode::Char(c) => buf.push(c),
+            _ => {}
+        }
+        self.mode = Mode::Open(files, sel, buf);
+    }
+
+    fn on_normal_key(&mut self, key: KeyEvent) {
+        let p = self.selected;
+        match key.code {
+            KeyCode::Char('q') => {
+                let dirty: Vec<&str> = self
+                    .slots
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, s)| s.dirty)
+                    .map(|(i, _)| Self::slot_label(i))
+                    .collect();
+                if dirty.is_empty() {
+                    self.running = false;
+                } else {
+                    self.mode = Mode::ConfirmQuit;
+                    self.error(format!(
+                        "unsaved changes in {}: quit anyway? y = quit, any other key = stay",
+                        dirty.join(" and ")
+                    ));
+                }
+            }
+            KeyCode::Up | KeyCode::Char('k') => self.move_selection(false),
+            KeyCode::Down | KeyCode::Char('j') => self.move_selection(true),
+            KeyCode::Right | KeyCode::Char('l') | KeyCode::Char('+') | KeyCode::Char('=') => {
+                self.change("step up", |s| {
+                    p.step(s, true);
+                    Ok(())
+                });
+                self.ensure_visible_selection();
+            }
+            KeyCode::Left | KeyCode::Char('h') | KeyCode::Char('-') => {
+                self.change("step down", |s| {
+                    p.step(s, false);
+                    Ok(())
+                });
+                self.ensure_visible_selection();
+            }
+            KeyCode::Enter => {
+                self.mode = Mode::Edit(p.edit_text(&self.slot().scenario));
+                self.info(format!(
+                    "type a value for {} (4k7, 2.2n, 10M …); Enter applies, Esc cancels",
+                    p.label()
+                ));
+            }
+            KeyCode::Char('e') => {
+                self.change("series", |s| {
+                    s.stage.series = s.stage.series.cycle();
+                    Ok(())
+                });
+                let s = &self.slot().scenario.stage.series;
+                self.info(format!("resistors now step along {s}"));
+            }
+            KeyCode::Char('n') => {
+                let mut count = 0;
+                self.change("snap to series", |s| {
+                    count = params::snap_resistors(s);
+                    Ok(())
+                });
+                let series = self.slot().scenario.stage.series;
+                self.info(format!(
+                    "{count} resistor(s) snapped to the nearest {series} value"
+                ));
+            }
+            KeyCode::Char('v') => {
+                self.view = self.view.next();
+                self.info(format!("view: {}", self.view.title()));
+            }
+            KeyCode::Char('f') => {
+                self.mode = Mode::Prompt(Prompt::Probe, values::fmt_compact(self.probe_hz));
+                self.info("frequency for the Zout figure (e.g. 10k); Enter applies");
+            }
+            KeyCode::Char(']') | KeyCode::PageDown => {
+                let n = self.slot().analysis.warnings.len();
+                self.warn_scroll = (self.warn_scroll + 1).min(n.saturating_sub(1));
+            }
+            KeyCode::Char('[') | KeyCode::PageUp => {
+                self.warn_scroll = self.warn_scroll.saturating_sub(1);
+            }
+            KeyCode::Char('?') => self.mode = Mode::Help,
+            KeyCode::Char('w') => self.save(),
+            KeyCode::Char('W') => {
+                let start = self
+                    .slot()
+                    .path
+                    .as_ref()
+                    .map(|p| p.display().to_string())
+                    .unwrap_or_default();
+                self.mode = Mode::Prompt(Prompt::SaveAs, start);
+                self.info("save as: type a path (.ron is added); Enter saves, Esc cancels");
+            }
+            KeyCode::Char('o') => {
+                let files = scenario_files();
+                self.mode = Mode::Open(files, 0, String::new());
+                self.info("open: ↑↓ choose, or type a path; Enter opens, Esc cancels");
+            }
+            KeyCode::Char('a') => self.next_archetype(),
+            KeyCode::Char('c') => self.copy_to_other(),
+            KeyCode::Tab | KeyCode::Char('b') => {
+                if self.slots.len() > 1 {
+                    self.active = 1 - self.active;
+                    self.ensure_visible_selection();
+                    self.info(format!("editing {}", Self::slot_label(self.active)));
+                } else {
+                    self.info("only one stage: c copies it into B");
+                }
+            }
+            _ => {}
+        }
+    }
+
+    fn set_probe(&mut self, text: &str) {
+        match values::parse_value(text) {
+            Ok(f) if f > 0.0 => {
+                self.probe_hz = f;
+                for s in &mut self.slots {
+                    s.probe = Circuit::new(&s.scenario).eval(f);
+                }
+                self.info(format!("Zout figure at {}", values::fmt_eng(f, "Hz")));
+            }
+            Ok(f) => self.error(format!("frequency {f} must be above zero (unchanged)")),
+            Err(e) => self.error(format!("{e} (unchanged)")),
+        }
+    }
+
+    fn next_archetype(&mut self) {
+        if self.archetypes.is_empty() {
+            self.error("no amplifier archetypes found");
+            return;
+        }
+        let arch = self.archetypes[self.archetype % self.archetypes.len()].clone();
+        self.archetype = (self.archetype + 1) % self.archetypes.len();
+        self.change("amplifier", |s| {
+            s.amp = arch.amp.clone();
+            Ok(())
+        });
+        self.info(format!(
+            "{}: amplifier set to the {} archetype (typical values; a again for the next)",
+            Self::slot_label(self.active),
+            arch.name
+        ));
+    }
+
+    fn copy_to_other(&mut self) {
+        let mut copy = self.slot().clone();
+        copy.dirty = true;
+        copy.path = None;
+        let from = Self::slot_label(self.active);
+        if self.slots.len() == 1 {
+            self.slots.push(copy);
+        } else {
+            let other = 1 - self.active;
+            self.slots[other] = copy;
+        }
+        let to = Self::slot_label(1 - self.active);
+        self.info(format!(
+            "copied {from} into {to}; Tab switches which one you edit"
+        ));
+    }
+
+    pub fn save(&mut self) {
+        match self.slot().path.clone() {
+            Some(p) => self.save_to(&p),
+            None => {
+                self.mode = Mode::Prompt(Prompt::SaveAs, String::new());
+                self.info("no file yet: type a path to save to (.ron is added)");
+            }
+        }
+    }
+
+    fn save_as(&mut self, text: &str) {
+        let t = text.trim();
+        if t.is_empty() {
+            self.error("no path given: not saved");
+            return;
+        }
+        let mut p = PathBuf::from(t);
+        if p.extension().and_then(|e| e.to_str()) != Some("ron") {
+            p = PathBuf::from(format!("{t}.ron"));
+        }
+        self.save_to(&p);
+    }
+
+    fn save_to(&mut self, p: &Path) {
+        let text = self.slot().scenario.to_ron();
+        match write_atomic(p, &text) {
+            Ok(()) => {
+                let slot = &mut self.slots[self.active];
+                slot.path = Some(p.to_path_buf());
+                slot.dirty = false;
+                self.info(format!("saved {}", p.display()));
+            }
+            Err(e) => self.error(format!(
+                "could not save {}: {e}; your changes are kept in memory",
+                p.display()
+            )),
+        }
+    }
+
+    fn open(&mut self, p: &Path) {
+        match Scenario::load(p) {
+            Ok(s) => {
+                let slot = Slot::new(s, Some(p.to_path_buf()), self.probe_hz);
+                self.slots[self.active] = slot;
+                self.ensure_visible_selection();
+                self.info(format!(
+                    "opened {} into {}",
+                    p.display(),
+                    Self::slot_label(self.active)
+                ));
+            }
+            Err(e) => self.error(format!("{e} (kept the open scenario)")),
+        }
+    }
+
+    /// Whether a parameter differs between A and B.
+    pub fn differs(&self, p: Param) -> bool {
+        if self.slots.len() < 2 {
+            return false;
+        }
+        let (a, b) = (&self.slots[0].scenario, &self.slots[1].scenario);
+        p.display(a) != p.display(b)
+    }
+}

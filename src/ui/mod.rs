@@ -1,0 +1,74 @@
+//! The interactive workbench: terminal set-up and the event loop. This is
+//! the only module that touches the terminal.
+
+pub mod app;
+pub mod params;
+pub mod plot;
+pub mod theme;
+pub mod view;
+
+use crate::engine::Scenario;
+use anyhow::{bail, Result};
+use app::App;
+use ratatui::backend::Backend;
+use ratatui::crossterm::event::{self, Event};
+use ratatui::crossterm::terminal::{BeginSynchronizedUpdate, EndSynchronizedUpdate};
+use ratatui::crossterm::QueueableCommand;
+use ratatui::Terminal;
+use std::io::{IsTerminal, Write};
+use std::path::PathBuf;
+use theme::Theme;
+
+/// How the workbench looks.
+#[derive(Debug, Clone, Copy)]
+pub struct Looks {
+    pub color: bool,
+    pub ascii: bool,
+}
+
+impl Looks {
+    /// Colour unless `--no-color` or NO_COLOR; ASCII when asked or when the
+    /// locale is not UTF-8.
+    pub fn resolve(no_color: bool, ascii: bool) -> Looks {
+        let env_no_color = std::env::var_os("NO_COLOR").is_some_and(|v| !v.is_empty());
+        Looks {
+            color: !(no_color || env_no_color),
+            ascii: ascii || !theme::locale_is_utf8(),
+        }
+    }
+}
+
+/// Draw one frame as a single synchronized update.
+pub fn draw_frame<B: Backend + Write>(terminal: &mut Terminal<B>, app: &App) -> Result<()>
+where
+    B::Error: Send + Sync + 'static,
+{
+    terminal.backend_mut().queue(BeginSynchronizedUpdate)?;
+    terminal.draw(|f| view::draw(f, app))?;
+    terminal.backend_mut().queue(EndSynchronizedUpdate)?;
+    Write::flush(terminal.backend_mut())?;
+    Ok(())
+}
+
+/// Open the workbench on the loaded stages (one or two).
+pub fn run(stages: Vec<(Scenario, Option<PathBuf>)>, looks: Looks) -> Result<()> {
+    if !std::io::stdin().is_terminal() || !std::io::stdout().is_terminal() {
+        bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
+    }
+    let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
+    let mut terminal = ratatui::try_init()?;
+    let result = (|| -> Result<()> {
+        while app.running {
+            draw_frame(&mut terminal, &app)?;
+            // Block until something happens: no timer, no redraw without an event.
+            match event::read()? {
+                Event::Key(k) => app.on_key(k),
+                Event::Resize(..) => {}
+                _ => continue,
+            }
+        }
+        Ok(())
+    })();
+    ratatui::try_restore()?;
+    result
+}

@@ -1,0 +1,288 @@
+//! Log-frequency plots: log10 mapping, decade ticks with engineering
+//! labels, scales chosen from the data, and a widget that draws traces on a
+//! ratatui Canvas with its own axis labels.
+
+use crate::engine::values::fmt_eng;
+use ratatui::buffer::Buffer;
+use ratatui::layout::Rect;
+use ratatui::style::Style;
+use ratatui::symbols::Marker;
+use ratatui::widgets::canvas::{Canvas, Line as CLine, Points};
+use ratatui::widgets::Widget;
+
+/// One curve: (log10 f, y) points, already finite.
+pub struct Trace<'a> {
+    pub points: &'a [(f64, f64)],
+    pub style: Style,
+    /// Dotted traces are drawn as points, solid ones as lines.
+    pub dotted: bool,
+    /// A name printed on the trace, at `label_at` (0 = left, 1 = right).
+    pub label: Option<String>,
+    pub label_at: f64,
+    /// Phase traces: do not join points across a ±180° wrap.
+    pub wraps: bool,
+}
+
+/// A vertical marker with a short label.
+pub struct VMark {
+    pub x: f64,
+    pub label: String,
+}
+
+pub struct LogPlot<'a> {
+    pub traces: Vec<Trace<'a>>,
+    pub x_range: (f64, f64),
+    pub y_range: (f64, f64),
+    /// Tick positions (in plot units) and their labels.
+    pub y_ticks: Vec<(f64, String)>,
+    pub marks: Vec<VMark>,
+    pub markers: (Marker, Marker),
+    pub label_style: Style,
+    pub mark_style: Style,
+    /// Glyph for the y tick marks.
+    pub tick: &'static str,
+}
+
+/// y of a trace at x, by linear interpolation.
+fn value_at(points: &[(f64, f64)], x: f64) -> Option<f64> {
+    let i = points.iter().position(|p| p.0 >= x)?;
+    if i == 0 {
+        return Some(points[0].1);
+    }
+    let (a, b) = (points[i - 1], points[i]);
+    let t = if b.0 > a.0 {
+        (x - a.0) / (b.0 - a.0)
+    } else {
+        0.0
+    };
+    Some(a.1 + t * (b.1 - a.1))
+}
+
+/// Keep only finite points.
+pub fn finite(points: impl Iterator<Item = (f64, f64)>) -> Vec<(f64, f64)> {
+    points
+        .filter(|(x, y)| x.is_finite() && y.is_finite())
+        .collect()
+}
+
+/// Label of a decade: 10^d Hz or Ω as "1", "10", "100", "1k", "10M", "1m".
+pub fn decade_label(d: i32, unit: &str) -> String {
+    fmt_eng(10f64.powi(d), unit).replace(' ', "")
+}
+
+/// The decades to label between two log10 bounds, thinned so labels of
+/// `label_w` columns fit into `cols` columns.
+pub fn decade_ticks(lo: f64, hi: f64, cols: u16, label_w: u16) -> Vec<i32> {
+    let first = lo.ceil() as i32;
+    let last = hi.floor() as i32;
+    if last < first {
+        return Vec::new();
+    }
+    let n = (last - first + 1) as u16;
+    let per = ((cols / (label_w + 1).max(1)).max(1)).min(n.max(1));
+    let stride = n.div_ceil(per).max(1) as i32;
+    (first..=last)
+        .filter(|d| (d - first) % stride == 0)
+        .collect()
+}
+
+/// A linear scale with "nice" steps (1, 2, 5 × 10^k) covering the data.
+pub fn nice_linear(min: f64, max: f64, target_ticks: usize) -> ((f64, f64), Vec<f64>) {
+    let (mut lo, mut hi) = (min, max);
+    if !lo.is_finite() || !hi.is_finite() {
+        return ((0.0, 1.0), vec![0.0, 1.0]);
+    }
+    if hi - lo < 1e-9 {
+        lo -= 1.0;
+        hi += 1.0;
+    }
+    let raw = (hi - lo) / target_ticks.max(1) as f64;
+    let mag = 10f64.powf(raw.log10().floor());
+    let step = [1.0, 2.0, 5.0, 10.0]
+        .iter()
+        .map(|m| m * mag)
+        .find(|s| *s >= raw)
+        .unwrap_or(10.0 * mag);
+    let lo = (lo / step).floor() * step;
+    let hi = (hi / step).ceil() * step;
+    let mut ticks = Vec::new();
+    let mut t = lo;
+    while t <= hi + step * 1e-6 {
+        ticks.push(if t.abs() < step * 1e-9 { 0.0 } else { t });
+        t += step;
+    }
+    ((lo, hi), ticks)
+}
+
+/// A log scale (in log10 units) covering the data, ticks at decades.
+pub fn nice_log(min_log: f64, max_log: f64, max_ticks: usize) -> ((f64, f64), Vec<f64>) {
+    if !min_log.is_finite() || !max_log.is_finite() {
+        return ((0.0, 1.0), vec![0.0, 1.0]);
+    }
+    let lo = min_log.floor();
+    let mut hi = max_log.ceil();
+    if hi <= lo {
+        hi = lo + 1.0;
+    }
+    let n = (hi - lo) as usize + 1;
+    let stride = n.div_ceil(max_ticks.max(2)).max(1);
+    let ticks = (0..n).step_by(stride).map(|i| lo + i as f64).collect();
+    ((lo, hi), ticks)
+}
+
+impl Widget for &LogPlot<'_> {
+    fn render(self, area: Rect, buf: &mut Buffer) {
+        if area.width < 12 || area.height < 4 {
+            return;
+        }
+        let label_w = self
+            .y_ticks
+            .iter()
+            .map(|(_, l)| l.chars().count() as u16)
+            .max()
+            .unwrap_or(0);
+        let plot = Rect {
+            x: area.x + label_w + 1,
+            y: area.y,
+            width: area.width.saturating_sub(label_w + 1),
+            height: area.height.saturating_sub(1),
+        };
+        if plot.width < 4 || plot.height < 2 {
+            return;
+        }
+        let (x0, x1) = self.x_range;
+        let (y0, y1) = self.y_range;
+        // Y labels and tick marks (one per row).
+        let mut used_rows = Vec::new();
+        for (v, label) in &self.y_ticks {
+            if *v < y0 - 1e-9 || *v > y1 + 1e-9 {
+                continue;
+            }
+            let frac = (y1 - v) / (y1 - y0);
+            let row = plot.y + (frac * (plot.height - 1) as f64).round() as u16;
+            if used_rows.contains(&row) {
+                continue;
+            }
+            used_rows.push(row);
+            let w = label.chars().count() as u16;
+            buf.set_string(area.x + label_w - w, row, label, self.label_style);
+            buf.set_string(plot.x - 1, row, self.tick, self.label_style);
+        }
+        // X labels at decades.
+        let ticks = decade_ticks(x0, x1, plot.width, 4);
+        let mut next_free = plot.x;
+        for d in ticks {
+            let label = decade_label(d, "");
+            let frac = (d as f64 - x0) / (x1 - x0);
+            let col = plot.x + (frac * (plot.width - 1) as f64).round() as u16;
+            let w = label.chars().count() as u16;
+            let start = col.saturating_sub(w / 2).max(plot.x);
+            let start = start.min(plot.x + plot.width - w.min(plot.width));
+            if start < next_free {
+                continue;
+            }
+            buf.set_string(start, plot.y + plot.height, &label, self.label_style);
+            next_free = start + w + 1;
+        }
+        let (solid, dotted) = self.markers;
+        let canvas = Canvas::default()
+            .x_bounds([x0, x1])
+            .y_bounds([y0, y1])
+            .marker(solid)
+            .paint(|ctx| {
+                // Vertical marks first, under the traces.
+                for m in &self.marks {
+                    let n = 24;
+                    let pts: Vec<(f64, f64)> = (0..=n)
+                        .filter(|i| i % 2 == 0)
+                        .map(|i| (m.x, y0 + (y1 - y0) * i as f64 / n as f64))
+                        .collect();
+                    ctx.draw(&Points {
+                        coords: &pts,
+                        color: self.mark_style.fg.unwrap_or_default(),
+                    });
+                }
+                ctx.layer();
+                for t in &self.traces {
+                    let color = t.style.fg.unwrap_or_default();
+                    if t.dotted {
+                        ctx.marker(dotted);
+                        let every: Vec<(f64, f64)> = t.points.iter().step_by(2).copied().collect();
+                        ctx.draw(&Points {
+                            coords: &every,
+                            color,
+                        });
+                    } else {
+                        ctx.marker(solid);
+                        for w in t.points.windows(2) {
+                            if t.wraps && (w[1].1 - w[0].1).abs() > 180.0 {
+                                continue;
+                            }
+                            ctx.draw(&CLine {
+                                x1: w[0].0,
+                                y1: w[0].1,
+                                x2: w[1].0,
+                                y2: w[1].1,
+                                color,
+                            });
+                        }
+                    }
+                    ctx.layer();
+                }
+                let cell = (x1 - x0) / plot.width.max(1) as f64;
+                for t in &self.traces {
+                    if let Some(label) = &t.label {
+                        let len = label.chars().count() as f64 + 1.0;
+                        let x = (x0 + (x1 - x0) * t.label_at).min(x1 - cell * len);
+                        if let Some(y) = value_at(t.points, x) {
+                            if y >= y0 && y <= y1 {
+                                let line = ratatui::text::Line::styled(label.clone(), t.style);
+                                ctx.print(x, y, line);
+                            }
+                        }
+                    }
+                }
+            });
+        canvas.render(plot, buf);
+        // Mark labels, one row apart so they never overprint.
+        for (i, m) in self.marks.iter().enumerate() {
+            if m.x < x0 || m.x > x1 || i as u16 >= plot.height {
+                continue;
+            }
+            let col = plot.x + ((m.x - x0) / (x1 - x0) * (plot.width - 1) as f64).round() as u16;
+            let w = m.label.chars().count() as u16;
+            let col = col.min(plot.x + plot.width.saturating_sub(w));
+            buf.set_string(col, plot.y + i as u16, &m.label, self.mark_style);
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn decade_labels_are_engineering() {
+        assert_eq!(decade_label(1, ""), "10");
+        assert_eq!(decade_label(3, ""), "1k");
+        assert_eq!(decade_label(6, ""), "1M");
+        assert_eq!(decade_label(-3, "Ω"), "1mΩ");
+    }
+
+    #[test]
+    fn ticks_thin_out_when_narrow() {
+        assert_eq!(decade_ticks(0.0, 9.0, 100, 4).len(), 10);
+        let few = decade_ticks(0.0, 9.0, 20, 4);
+        assert!(few.len() <= 4 && few[0] == 0);
+    }
+
+    #[test]
+    fn nice_scales() {
+        let ((lo, hi), t) = nice_linear(-3.0, 41.0, 4);
+        assert!(lo <= -3.0 && hi >= 41.0);
+        assert!(t.len() >= 3);
+        let ((lo, hi), t) = nice_log(-2.3, 1.7, 6);
+        assert_eq!((lo, hi), (-3.0, 2.0));
+        assert_eq!(t.first(), Some(&-3.0));
+    }
+}

@@ -1,0 +1,682 @@
+//! Drawing: reads the App, never changes it.
+
+use super::app::{App, Mode, Prompt, Slot, View};
+use super::params::{compact, Group};
+use super::plot::{decade_label, nice_linear, nice_log, LogPlot, Trace, VMark};
+use crate::engine::Severity;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::style::Modifier;
+use ratatui::text::{Line, Span};
+use ratatui::widgets::{Block, Borders, Clear, Paragraph, Widget};
+use ratatui::Frame;
+
+/// The smallest terminal the workbench lays out for.
+pub const MIN_W: u16 = 80;
+pub const MIN_H: u16 = 24;
+
+/// Frequency window of the response and impedance plots (log10 Hz).
+const X_WINDOW: (f64, f64) = (0.0, 9.0);
+
+pub fn draw(frame: &mut Frame, app: &App) {
+    let area = frame.area();
+    let buf = frame.buffer_mut();
+    render(app, area, buf);
+}
+
+pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    if area.width < MIN_W || area.height < MIN_H {
+        let msg = format!(
+            "Terminal {}×{} is too small: enlarge it to at least {MIN_W}×{MIN_H}",
+            area.width, area.height
+        );
+        if area.height > 0 {
+            Paragraph::new(msg).render(Rect { height: 1, ..area }, buf);
+        }
+        return;
+    }
+    let figures_h = if app.slots.len() > 1 { 4 } else { 2 };
+    let n_warn = app.slot().analysis.warnings.len().clamp(1, 3) as u16;
+    let [title, body, figures, warnings, status] = Layout::vertical([
+        Constraint::Length(1),
+        Constraint::Fill(1),
+        Constraint::Length(figures_h),
+        Constraint::Length(n_warn + 1),
+        Constraint::Length(1),
+    ])
+    .areas(area);
+    let pane_w = if area.width >= 110 { 38 } else { 33 };
+    let [params, right] =
+        Layout::horizontal([Constraint::Length(pane_w), Constraint::Fill(1)]).areas(body);
+    let [upper, lower] = Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(right);
+
+    title_bar(app, title, buf);
+    param_pane(app, params, buf);
+    match app.view {
+        View::Response | View::Loop => bode(app, upper, buf),
+        View::Noise => noise_plot(app, upper, buf),
+    }
+    impedance_plot(app, lower, buf);
+    figures_table(app, figures, buf);
+    warnings_strip(app, warnings, buf);
+    status_line(app, status, buf);
+    match &app.mode {
+        Mode::Help => help_overlay(app, area, buf),
+        Mode::Open(files, sel, typed) => open_overlay(app, area, buf, files, *sel, typed),
+        _ => {}
+    }
+}
+
+fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
+    Block::default()
+        .borders(Borders::ALL)
+        .border_set(app.theme.border())
+        .border_style(app.theme.dim)
+        .title(title)
+        .title_style(app.theme.title)
+}
+
+fn title_bar(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let t = &app.theme;
+    let mut spans = vec![Span::styled(
+        " loopwright ",
+        t.title.add_modifier(Modifier::REVERSED),
+    )];
+    for (i, s) in app.slots.iter().enumerate() {
+        let label = App::slot_label(i);
+        let mark = if s.dirty { " [modified]" } else { "" };
+        let style = if i == app.active && app.slots.len() > 1 {
+            t.title.add_modifier(Modifier::UNDERLINED)
+        } else {
+            t.normal
+        };
+        let edit = if i == app.active && app.slots.len() > 1 {
+            " (editing)"
+        } else {
+            ""
+        };
+        spans.push(Span::styled(
+            format!("  {label}: {}{mark}{edit}", s.name()),
+            style,
+        ));
+    }
+    spans.push(Span::styled(
+        format!("  — {}", app.slot().scenario.title),
+        t.dim,
+    ));
+    Paragraph::new(Line::from(spans)).render(area, buf);
+    let help = " ? help ";
+    if area.width as usize > help.len() {
+        buf.set_string(area.x + area.width - help.len() as u16, area.y, help, t.dim);
+    }
+}
+
+fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let t = &app.theme;
+    let slot = app.slot();
+    let s = &slot.scenario;
+    let label = if app.slots.len() > 1 {
+        format!(" Parameters {} ", App::slot_label(app.active))
+    } else {
+        " Parameters ".to_string()
+    };
+    let b = block(app, label);
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let differs_mark = if t.ascii { "*" } else { "≠" };
+    let mut lines: Vec<Line> = Vec::new();
+    let mut selected_line = 0;
+    let mut group: Option<Group> = None;
+    let value_w = inner.width.saturating_sub(21) as usize;
+    for p in app.visible() {
+        if group != Some(p.group()) {
+            group = Some(p.group());
+            lines.push(Line::styled(p.group().title(), t.group));
+        }
+        let diff = app.differs(p);
+        let mark = if diff { differs_mark } else { " " };
+        let value = p.display(s);
+        let note = match p.series_note(s) {
+            Some((name, true)) => Span::styled(format!(" {name}"), t.dim),
+            Some((name, false)) => Span::styled(format!(" off {name}"), t.off_series),
+            None => Span::raw(""),
+        };
+        let is_sel = p == app.selected;
+        let row_style = if is_sel { t.selected } else { t.normal };
+        let value_text = match (&app.mode, is_sel) {
+            (Mode::Edit(buf), true) => format!("{buf}_"),
+            _ => value,
+        };
+        if is_sel {
+            selected_line = lines.len();
+        }
+        lines.push(Line::from(vec![
+            Span::styled(mark, if diff { t.differs } else { t.normal }),
+            Span::styled(format!(" {:<10}", p.label()), row_style),
+            Span::styled(format!("{value_text:<value_w$}"), row_style),
+            note,
+        ]));
+    }
+    let h = inner.height as usize;
+    let scroll = (selected_line + 1).saturating_sub(h);
+    // Keep the group title in view when scrolling back to the top.
+    let scroll = scroll.min(lines.len().saturating_sub(h));
+    Paragraph::new(lines)
+        .scroll((scroll as u16, 0))
+        .render(inner, buf);
+}
+
+fn legend(app: &App) -> String {
+    if app.slots.len() > 1 {
+        if app.theme.ascii {
+            "  A *** solid  B +++ dotted".into()
+        } else {
+            "  A ─── solid  B ··· dotted".into()
+        }
+    } else {
+        String::new()
+    }
+}
+
+/// Traces for each slot: A solid, B dotted.
+fn traces<'a>(
+    app: &'a App,
+    pick: impl Fn(&'a Slot) -> &'a [(f64, f64)],
+    label: Option<&str>,
+    wraps: bool,
+) -> Vec<Trace<'a>> {
+    app.slots
+        .iter()
+        .enumerate()
+        .map(|(i, s)| Trace {
+            points: pick(s),
+            style: if i == 0 {
+                app.theme.trace_a
+            } else {
+                app.theme.trace_b
+            },
+            dotted: i == 1,
+            label: if i == app.active {
+                label.map(str::to_string)
+            } else {
+                None
+            },
+            label_at: 0.85,
+            wraps,
+        })
+        .collect()
+}
+
+fn visible_range<'a>(sets: impl Iterator<Item = &'a [(f64, f64)]>, x: (f64, f64)) -> (f64, f64) {
+    let mut lo = f64::INFINITY;
+    let mut hi = f64::NEG_INFINITY;
+    for set in sets {
+        for &(px, py) in set {
+            if px >= x.0 && px <= x.1 {
+                lo = lo.min(py);
+                hi = hi.max(py);
+            }
+        }
+    }
+    (lo, hi)
+}
+
+fn plot<'a>(
+    app: &App,
+    traces: Vec<Trace<'a>>,
+    x: (f64, f64),
+    y: ((f64, f64), Vec<(f64, String)>),
+    marks: Vec<VMark>,
+) -> LogPlot<'a> {
+    LogPlot {
+        traces,
+        x_range: x,
+        y_range: y.0,
+        y_ticks: y.1,
+        marks,
+        markers: app.theme.markers(),
+        label_style: app.theme.dim,
+        mark_style: app.theme.marker,
+        tick: if app.theme.ascii { "+" } else { "┤" },
+    }
+}
+
+fn linear_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f64, String)>) {
+    let (r, t) = nice_linear(range.0, range.1, ticks);
+    (
+        r,
+        t.into_iter().map(|v| (v, format!("{v}{unit}"))).collect(),
+    )
+}
+
+fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f64, String)>) {
+    let (r, t) = nice_log(range.0, range.1, ticks);
+    (
+        r,
+        t.into_iter()
+            .map(|v| (v, decade_label(v as i32, unit)))
+            .collect(),
+    )
+}
+
+fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let a = &app.slot().analysis;
+    let loop_view = app.view == View::Loop;
+    let title = format!(" {} (v: next view){} ", app.view.title(), legend(app));
+    let b = block(app, title);
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let [mag, phase] = Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner);
+    let x = X_WINDOW;
+    let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
+        (
+            traces(app, |s| &s.traces.loop_db, None, false),
+            traces(app, |s| &s.traces.loop_phase, None, false),
+        )
+    } else {
+        (
+            traces(app, |s| &s.traces.gain_db, None, false),
+            traces(app, |s| &s.traces.gain_phase, None, true),
+        )
+    };
+    let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
+    let hi_axis = hi + 5.0;
+    let lo_axis = lo.max(hi - 100.0);
+    let rows = mag.height.saturating_sub(1) as usize;
+    let y = linear_axis((lo_axis, hi_axis), (rows / 2).max(2), "dB");
+    let mut marks = Vec::new();
+    if let Some(f) = a.f_3db_hz.filter(|_| !loop_view) {
+        marks.push(VMark {
+            x: f.log10(),
+            label: "-3dB".into(),
+        });
+    }
+    if let Some(f) = a.crossover_hz {
+        marks.push(VMark {
+            x: f.log10(),
+            label: "fc".into(),
+        });
+    }
+    plot(app, mag_tr, x, y, marks).render(mag, buf);
+    let (plo, phi) = visible_range(ph_tr.iter().map(|t| t.points), x);
+    let prow = phase.height.saturating_sub(1) as usize;
+    let y = linear_axis((plo, phi), (prow / 2).max(2), "°");
+    let mut marks = Vec::new();
+    if let Some(f) = a.crossover_hz {
+        let label = match a.phase_margin_deg {
+            Some(pm) => format!("PM {pm:.0}°"),
+            None => "fc".into(),
+        };
+        marks.push(VMark {
+            x: f.log10(),
+            label,
+        });
+    }
+    plot(app, ph_tr, x, y, marks).render(phase, buf);
+}
+
+fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let s = &app.slot().scenario;
+    let title = format!(" {} V/√Hz (v: next view){} ", app.view.title(), legend(app));
+    let b = block(app, title);
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let x = (
+        (s.band.0.log10() - 1.0).max(-2.0),
+        (s.band.1.log10() + 1.0).min(9.0),
+    );
+    let tr = traces(app, |s| &s.traces.noise, None, false);
+    let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
+    let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
+    let marks = vec![
+        VMark {
+            x: s.band.0.log10(),
+            label: "band".into(),
+        },
+        VMark {
+            x: s.band.1.log10(),
+            label: "band".into(),
+        },
+    ];
+    plot(app, tr, x, y, marks).render(inner, buf);
+}
+
+fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let title = format!(" Impedance |Zout| |Zin| Ω{} ", legend(app));
+    let b = block(app, title);
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let x = X_WINDOW;
+    let mut tr = traces(app, |s| &s.traces.zout, Some("Zout"), false);
+    for (i, s) in app.slots.iter().enumerate() {
+        tr.push(Trace {
+            points: &s.traces.zin,
+            style: app.theme.trace_2,
+            dotted: i == 1,
+            label: (i == app.active).then(|| "Zin".to_string()),
+            label_at: 0.02,
+            wraps: false,
+        });
+    }
+    let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
+    let y = log_axis(
+        (lo, hi.min(lo + 18.0)),
+        (inner.height as usize / 2).max(2),
+        "",
+    );
+    plot(app, tr, x, y, Vec::new()).render(inner, buf);
+}
+
+struct Figures {
+    cells: Vec<String>,
+}
+
+fn figure_cells(s: &Slot) -> Vec<String> {
+    let a = &s.analysis;
+    let opt = |v: Option<f64>, f: &dyn Fn(f64) -> String| v.map(f).unwrap_or_else(|| "—".into());
+    vec![
+        format!("{:.4}", a.dc_gain),
+        format!("{:+.3}%", a.gain_error * 100.0),
+        opt(a.f_3db_hz, &|f| compact(f, "Hz")),
+        format!("{:.1}dB", a.peaking_db),
+        opt(a.phase_margin_deg, &|p| format!("{p:.0}°")),
+        opt(a.gain_margin_db, &|g| format!("{g:.0}dB")),
+        compact(a.zout_dc_ohm, "Ω"),
+        opt(s.probe.map(|p| p.zout.norm()), &|z| compact(z, "Ω")),
+        compact(a.noise_rms, "V"),
+        format!("{}", a.warnings.len()),
+    ]
+}
+
+fn signed(v: f64, unit: &str) -> String {
+    let s = compact(v.abs(), unit);
+    if v < 0.0 {
+        format!("-{s}")
+    } else {
+        format!("+{s}")
+    }
+}
+
+fn delta_cells(a: &Slot, b: &Slot) -> Vec<String> {
+    let (x, y) = (&a.analysis, &b.analysis);
+    let d = |p: Option<f64>, q: Option<f64>, f: &dyn Fn(f64) -> String| match (p, q) {
+        (Some(p), Some(q)) => f(q - p),
+        _ => "—".into(),
+    };
+    vec![
+        format!("{:+.4}", y.dc_gain - x.dc_gain),
+        format!("{:+.3}%", (y.gain_error - x.gain_error) * 100.0),
+        d(x.f_3db_hz, y.f_3db_hz, &|v| signed(v, "Hz")),
+        format!("{:+.1}dB", y.peaking_db - x.peaking_db),
+        d(x.phase_margin_deg, y.phase_margin_deg, &|v| {
+            format!("{v:+.0}°")
+        }),
+        d(x.gain_margin_db, y.gain_margin_db, &|v| {
+            format!("{v:+.0}dB")
+        }),
+        signed(y.zout_dc_ohm - x.zout_dc_ohm, "Ω"),
+        d(
+            a.probe.map(|p| p.zout.norm()),
+            b.probe.map(|p| p.zout.norm()),
+            &|v| signed(v, "Ω"),
+        ),
+        signed(y.noise_rms - x.noise_rms, "V"),
+        format!("{:+}", y.warnings.len() as i64 - x.warnings.len() as i64),
+    ]
+}
+
+fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let t = &app.theme;
+    let probe = compact(app.probe_hz, "");
+    let header: Vec<String> = [
+        "gain",
+        "error",
+        "f-3dB",
+        "peak",
+        "PM",
+        "GM",
+        "Zout DC",
+        &format!("Zout@{probe}"),
+        "noise rms",
+        "warn",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
+    let mut rows: Vec<(String, Figures)> = Vec::new();
+    for (i, s) in app.slots.iter().enumerate() {
+        rows.push((
+            App::slot_label(i).to_string(),
+            Figures {
+                cells: figure_cells(s),
+            },
+        ));
+    }
+    if app.slots.len() > 1 {
+        rows.push((
+            "Δ".into(),
+            Figures {
+                cells: delta_cells(&app.slots[0], &app.slots[1]),
+            },
+        ));
+    }
+    let widths: Vec<usize> = (0..header.len())
+        .map(|c| {
+            rows.iter()
+                .map(|(_, f)| f.cells[c].chars().count())
+                .chain(std::iter::once(header[c].chars().count()))
+                .max()
+                .unwrap_or(4)
+        })
+        .collect();
+    let mut lines = Vec::new();
+    let mut head = vec![Span::styled("  ", t.dim)];
+    for (h, w) in header.iter().zip(&widths) {
+        head.push(Span::styled(format!(" {h:>w$}"), t.dim));
+    }
+    lines.push(Line::from(head));
+    for (label, f) in rows {
+        let mut spans = vec![Span::styled(format!("{label:<2}"), t.title)];
+        for (c, w) in f.cells.iter().zip(&widths) {
+            spans.push(Span::raw(format!(" {c:>w$}")));
+        }
+        lines.push(Line::from(spans));
+    }
+    Paragraph::new(lines).render(area, buf);
+}
+
+fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let t = &app.theme;
+    let w = &app.slot().analysis.warnings;
+    let shown = area.height.saturating_sub(1) as usize;
+    let more = if w.len() > shown {
+        format!(
+            " {}–{} of {} ([ ] scroll)",
+            app.warn_scroll + 1,
+            (app.warn_scroll + shown).min(w.len()),
+            w.len()
+        )
+    } else {
+        String::new()
+    };
+    let title = if app.slots.len() > 1 {
+        format!(" Warnings {}{more} ", App::slot_label(app.active))
+    } else {
+        format!(" Warnings{more} ")
+    };
+    let b = Block::default()
+        .borders(Borders::TOP)
+        .border_set(t.border())
+        .border_style(t.dim)
+        .title(title)
+        .title_style(t.title);
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let sym = t.symbols();
+    let lines: Vec<Line> = if w.is_empty() {
+        vec![Line::styled("no warnings", t.dim)]
+    } else {
+        w.iter()
+            .skip(app.warn_scroll)
+            .take(shown)
+            .map(|x| {
+                let (s, style) = match x.severity {
+                    Severity::Severe => (sym[0], t.severe),
+                    Severity::Warning => (sym[1], t.warning),
+                    Severity::Info => (sym[2], t.info),
+                };
+                Line::from(vec![
+                    Span::styled(format!("{s}{:<8}", x.severity.name()), style),
+                    Span::styled(format!("{} ", x.code), t.dim),
+                    Span::raw(x.text.clone()),
+                ])
+            })
+            .collect()
+    };
+    Paragraph::new(lines).render(inner, buf);
+}
+
+fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let t = &app.theme;
+    let line = match &app.mode {
+        Mode::Edit(b) => Line::from(vec![
+            Span::styled(format!(" {} = ", app.selected.label()), t.title),
+            Span::raw(format!("{b}_")),
+            Span::styled("   Enter applies · Esc cancels", t.dim),
+        ]),
+        Mode::Prompt(kind, b) => {
+            let label = match kind {
+                Prompt::SaveAs => "save as",
+                Prompt::Probe => "Zout at (Hz)",
+            };
+            Line::from(vec![
+                Span::styled(format!(" {label}: "), t.title),
+                Span::raw(format!("{b}_")),
+                Span::styled("   Enter · Esc cancels", t.dim),
+            ])
+        }
+        _ => {
+            let style = match app.status_kind {
+                super::app::StatusKind::Error => t.error,
+                super::app::StatusKind::Info => t.status,
+            };
+            Line::styled(format!(" {}", app.status), style)
+        }
+    };
+    Paragraph::new(line).render(area, buf);
+}
+
+/// Every key, for the help overlay and the README.
+pub const KEYS: [(&str, &str); 19] = [
+    ("↑ ↓  k j", "select a parameter"),
+    (
+        "← →  h l  - +",
+        "step: resistors along the E-series, capacitors E12",
+    ),
+    (
+        "Enter",
+        "type a value (4k7, 2.2n, none); Enter applies, Esc",
+    ),
+    ("e", "cycle the stage's E-series"),
+    ("n", "snap every resistor to its nearest series value"),
+    ("v", "next plot view: response / loop gain / noise density"),
+    ("f", "frequency of the Zout figure"),
+    ("[ ]  PgUp PgDn", "scroll the warnings"),
+    ("a", "amplifier: next archetype (typical values)"),
+    ("c", "copy this stage into the other slot (A ↔ B)"),
+    ("Tab  b", "switch between A and B"),
+    ("w", "save to the stage's file"),
+    ("W", "save under a new name"),
+    ("o", "open a scenario file"),
+    ("?", "this help (any key closes it)"),
+    ("q", "quit (asks first if there are unsaved changes)"),
+    ("Ctrl-C", "quit at once"),
+    (
+        "plots",
+        "A solid, B dotted; -3dB and fc: f−3dB, loop crossover",
+    ),
+    (
+        "marks",
+        "≠ (or *) differs between A and B; off E24: not on series",
+    ),
+];
+
+fn centered(area: Rect, w: u16, h: u16) -> Rect {
+    let w = w.min(area.width);
+    let h = h.min(area.height);
+    Rect {
+        x: area.x + (area.width - w) / 2,
+        y: area.y + (area.height - h) / 2,
+        width: w,
+        height: h,
+    }
+}
+
+fn help_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let r = centered(area, 78, KEYS.len() as u16 + 2);
+    Clear.render(r, buf);
+    let b = block(app, " Keys ");
+    let inner = b.inner(r);
+    b.render(r, buf);
+    let lines: Vec<Line> = KEYS
+        .iter()
+        .map(|(k, d)| {
+            Line::from(vec![
+                Span::styled(format!(" {k:<15}"), app.theme.title),
+                Span::raw(*d),
+            ])
+        })
+        .collect();
+    Paragraph::new(lines).render(inner, buf);
+}
+
+fn open_overlay(
+    app: &App,
+    area: Rect,
+    buf: &mut ratatui::buffer::Buffer,
+    files: &[std::path::PathBuf],
+    sel: usize,
+    typed: &str,
+) {
+    let h = (files.len() as u16 + 4).min(area.height.saturating_sub(2));
+    let r = centered(area, 70, h);
+    Clear.render(r, buf);
+    let b = block(
+        app,
+        " Open a scenario (↑↓ choose or type a path, Enter, Esc) ",
+    );
+    let inner = b.inner(r);
+    b.render(r, buf);
+    let mut lines = vec![Line::from(vec![
+        Span::styled(" path: ", app.theme.title),
+        Span::raw(format!("{typed}_")),
+    ])];
+    let visible = inner.height.saturating_sub(1) as usize;
+    let start = sel.saturating_sub(visible.saturating_sub(1));
+    for (i, f) in files.iter().enumerate().skip(start).take(visible) {
+        let style = if i == sel && typed.is_empty() {
+            app.theme.selected
+        } else {
+            app.theme.normal
+        };
+        lines.push(Line::styled(format!("  {}", f.display()), style));
+    }
+    if files.is_empty() {
+        lines.push(Line::styled(
+            "  (no .ron files here or in scenarios/)",
+            app.theme.dim,
+        ));
+    }
+    Paragraph::new(lines).render(inner, buf);
+}
+
+/// A plain-text snapshot of a buffer, one string per row (for tests).
+pub fn buffer_text(buf: &ratatui::buffer::Buffer) -> Vec<String> {
+    let a = buf.area;
+    (a.y..a.y + a.height)
+        .map(|y| {
+            (a.x..a.x + a.width)
+                .map(|x| buf[(x, y)].symbol().to_string())
+                .collect::<String>()
+        })
+        .collect()
+}

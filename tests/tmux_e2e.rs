@@ -1,0 +1,128 @@
+//! End to end in a real terminal: the release-style binary in a tmux pane,
+//! keys sent, the screen read back. Skipped (with a printed reason) where
+//! tmux is not installed.
+
+use std::process::Command;
+use std::time::{Duration, Instant};
+
+fn tmux(args: &[&str]) -> String {
+    let out = Command::new("tmux").args(args).output().expect("tmux runs");
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+fn wait_for(session: &str, needle: &str) -> Option<String> {
+    let deadline = Instant::now() + Duration::from_secs(15);
+    loop {
+        let screen = tmux(&["capture-pane", "-p", "-t", session]);
+        if screen.contains(needle) {
+            return Some(screen);
+        }
+        if Instant::now() > deadline {
+            eprintln!("timed out waiting for {needle:?}; screen:\n{screen}");
+            return None;
+        }
+        std::thread::sleep(Duration::from_millis(100));
+    }
+}
+
+struct Session(String);
+impl Drop for Session {
+    fn drop(&mut self) {
+        let _ = Command::new("tmux")
+            .args(["kill-session", "-t", &self.0])
+            .output();
+    }
+}
+
+fn start(name: &str, args: &str) -> Option<Session> {
+    if Command::new("tmux").arg("-V").output().is_err() {
+        println!("skipped: tmux is not installed");
+        return None;
+    }
+    let bin = env!("CARGO_BIN_EXE_loopwright");
+    let cmd = format!(
+        "cd {dir} && LANG=C.UTF-8 {bin} {args}; echo EXIT=$?; stty -a | tr ' ' '\\n' | grep icanon; sleep 30",
+        dir = env!("CARGO_MANIFEST_DIR")
+    );
+    let _ = Command::new("tmux")
+        .args(["kill-session", "-t", name])
+        .output();
+    let ok = Command::new("tmux")
+        .args([
+            "new-session",
+            "-d",
+            "-s",
+            name,
+            "-x",
+            "100",
+            "-y",
+            "30",
+            &cmd,
+        ])
+        .status()
+        .map(|s| s.success())
+        .unwrap_or(false);
+    if !ok {
+        println!("skipped: tmux could not start a session");
+        return None;
+    }
+    Some(Session(name.to_string()))
+}
+
+#[test]
+fn step_a_resistor_and_quit_in_a_real_terminal() {
+    let Some(s) = start("lw_e2e_step", "") else {
+        return;
+    };
+    let first = wait_for(&s.0, "Parameters").expect("workbench starts");
+    assert!(first.contains("10 kΩ"), "{first}");
+    assert!(first.contains("Closed-loop response"));
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    let after = wait_for(&s.0, "11 kΩ").expect("rf steps to 11k");
+    assert!(after.contains("11.99"), "gain figure redrawn:\n{after}");
+    // The plot is redrawn too: its view switches on v.
+    tmux(&["send-keys", "-t", &s.0, "v"]);
+    wait_for(&s.0, "Loop gain").expect("view toggles");
+    // Unsaved change: q asks, y quits.
+    tmux(&["send-keys", "-t", &s.0, "q"]);
+    wait_for(&s.0, "quit anyway").expect("asks before quitting");
+    tmux(&["send-keys", "-t", &s.0, "y"]);
+    let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
+    assert!(done.contains("EXIT=0"), "{done}");
+    assert!(!done.contains("-icanon"), "raw mode left on:\n{done}");
+}
+
+#[test]
+fn compare_two_stages_in_a_real_terminal() {
+    let Some(s) = start("lw_e2e_ab", "") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    // Copy A into B, edit B, step rf: the difference appears.
+    tmux(&["send-keys", "-t", &s.0, "c"]);
+    wait_for(&s.0, "copied A into B").expect("copied");
+    tmux(&["send-keys", "-t", &s.0, "Tab"]);
+    wait_for(&s.0, "editing B").expect("switched");
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    let screen = wait_for(&s.0, "11 kΩ").expect("B's rf stepped");
+    assert!(screen.contains("Δ"), "difference row:\n{screen}");
+    assert!(
+        screen.contains("≠"),
+        "differing parameter marked:\n{screen}"
+    );
+    assert!(screen.contains("+0.99"), "gain difference shown:\n{screen}");
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    let done = wait_for(&s.0, "EXIT=").expect("process exits");
+    assert!(done.contains("EXIT=0"));
+}
+
+#[test]
+fn bad_file_leaves_the_terminal_alone() {
+    let Some(s) = start("lw_e2e_bad", "Cargo.toml") else {
+        return;
+    };
+    let done = wait_for(&s.0, "EXIT=").expect("process exits");
+    assert!(done.contains("EXIT=1"), "{done}");
+    assert!(done.contains("Cargo.toml"), "{done}");
+    assert!(!done.contains("-icanon"));
+}

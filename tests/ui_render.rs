@@ -1,0 +1,252 @@
+//! The workbench drawn headlessly into ratatui's TestBackend (mono theme,
+//! so the text alone is asserted), driven by the same key handler as the
+//! terminal loop.
+
+use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+use loopwright::engine::scenario::{self, Scenario};
+use loopwright::ui::app::App;
+use loopwright::ui::theme::Theme;
+use loopwright::ui::view::{buffer_text, draw};
+use ratatui::backend::TestBackend;
+use ratatui::Terminal;
+
+fn key(c: KeyCode) -> KeyEvent {
+    KeyEvent::new(c, KeyModifiers::NONE)
+}
+
+fn app(stages: Vec<Scenario>) -> App {
+    App::new(
+        stages.into_iter().map(|s| (s, None)).collect(),
+        Theme::new(false, false),
+    )
+}
+
+fn screen(app: &App, w: u16, h: u16) -> String {
+    let mut t = Terminal::new(TestBackend::new(w, h)).unwrap();
+    t.draw(|f| draw(f, app)).unwrap();
+    buffer_text(t.backend().buffer()).join("\n")
+}
+
+fn line_with<'a>(screen: &'a str, needle: &str) -> &'a str {
+    screen.lines().find(|l| l.contains(needle)).unwrap_or("")
+}
+
+#[test]
+fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
+    let mut a = app(vec![scenario::demo()]);
+    let before = screen(&a, 100, 30);
+    assert!(line_with(&before, " rf ").contains("10 kΩ"), "{before}");
+    let gain_before = line_with(&before, "A ").to_string();
+    // rf is selected at start; step it up once along E24 (IEC 60063: 10 → 11).
+    assert_eq!(a.selected, loopwright::ui::params::Param::Rf);
+    a.on_key(key(KeyCode::Right));
+    let after = screen(&a, 100, 30);
+    assert!(line_with(&after, " rf ").contains("11 kΩ"), "{after}");
+    let gain_after = line_with(&after, "A ").to_string();
+    assert_ne!(gain_before, gain_after);
+    assert!(gain_after.contains("11.99"), "{gain_after}");
+    assert!(after.contains("[modified]"));
+}
+
+#[test]
+fn follower_on_1nf_shows_a_phase_margin_warning() {
+    let mut s = scenario::demo();
+    s.stage.topology = loopwright::engine::Topology::Follower;
+    s.stage.rg = None;
+    s.stage.rf = None;
+    s.stage.cf = None;
+    s.amp.ro = 75.0;
+    s.load.c = Some(1e-9);
+    s.amp.gbw = 10e6;
+    s.amp.fp2 = Some(30e6);
+    let a = app(vec![s]);
+    let text = screen(&a, 100, 30);
+    assert!(text.contains("phase-margin"), "{text}");
+    assert!(text.contains("1 nF load"), "{text}");
+}
+
+#[test]
+fn help_lists_the_keys() {
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Char('?')));
+    let text = screen(&a, 100, 30);
+    for k in loopwright::ui::view::KEYS {
+        assert!(text.contains(k.1), "help is missing {:?}", k);
+    }
+    a.on_key(key(KeyCode::Char('x')));
+    assert!(!screen(&a, 100, 30).contains("this help"));
+}
+
+#[test]
+fn sizes_render_without_panicking() {
+    let a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    assert!(text.contains("Parameters"));
+    assert!(text.contains("Impedance"));
+    let small = screen(&a, 60, 20);
+    assert!(small.contains("enlarge"), "{small}");
+    assert!(!small.contains("Parameters"));
+    for (w, h) in [
+        (0, 0),
+        (1, 1),
+        (2, 2),
+        (20, 6),
+        (79, 24),
+        (80, 23),
+        (160, 50),
+        (250, 80),
+    ] {
+        let _ = screen(&a, w, h);
+    }
+}
+
+#[test]
+fn resize_redraws_at_the_new_size() {
+    let a = app(vec![scenario::demo()]);
+    let mut t = Terminal::new(TestBackend::new(100, 30)).unwrap();
+    t.draw(|f| draw(f, &a)).unwrap();
+    t.backend_mut().resize(60, 20);
+    t.draw(|f| draw(f, &a)).unwrap();
+    assert!(buffer_text(t.backend().buffer())
+        .join("\n")
+        .contains("enlarge"));
+    t.backend_mut().resize(120, 40);
+    t.draw(|f| draw(f, &a)).unwrap();
+    assert!(buffer_text(t.backend().buffer())
+        .join("\n")
+        .contains("Parameters"));
+}
+
+#[test]
+fn typed_values_accept_rkm_and_reject_bad_text() {
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Enter));
+    for _ in 0..10 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    for c in "4k7".chars() {
+        a.on_key(key(KeyCode::Char(c)));
+    }
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
+    // A bad entry leaves the value and says why.
+    a.on_key(key(KeyCode::Enter));
+    for c in "x4k7k".chars() {
+        a.on_key(key(KeyCode::Char(c)));
+    }
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
+    assert!(a.status.contains("unchanged"), "{}", a.status);
+    let text = screen(&a, 100, 30);
+    assert!(text.contains("unchanged"));
+    // Esc cancels an edit.
+    a.on_key(key(KeyCode::Enter));
+    a.on_key(key(KeyCode::Char('1')));
+    a.on_key(key(KeyCode::Esc));
+    assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
+    // A negative resistor is refused by validation.
+    a.on_key(key(KeyCode::Enter));
+    for _ in 0..10 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    for c in "-1k".chars() {
+        a.on_key(key(KeyCode::Char(c)));
+    }
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
+}
+
+#[test]
+fn series_cycle_snap_and_off_series_mark() {
+    let mut s = scenario::demo();
+    s.stage.rf = Some(10_500.0);
+    let mut a = app(vec![s]);
+    let text = screen(&a, 100, 30);
+    assert!(line_with(&text, " rf ").contains("off E24"), "{text}");
+    a.on_key(key(KeyCode::Char('n')));
+    assert_eq!(a.slot().scenario.stage.rf, Some(11_000.0));
+    a.on_key(key(KeyCode::Char('e')));
+    assert_eq!(
+        a.slot().scenario.stage.series,
+        loopwright::engine::Series::E48
+    );
+    let text = screen(&a, 100, 30);
+    assert!(line_with(&text, " rf ").contains("E48"), "{text}");
+}
+
+#[test]
+fn view_toggle_and_select_with_vi_keys() {
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Char('v')));
+    assert!(screen(&a, 100, 30).contains("Loop gain"));
+    a.on_key(key(KeyCode::Char('v')));
+    assert!(screen(&a, 100, 30).contains("Output noise density"));
+    a.on_key(key(KeyCode::Char('k')));
+    assert_eq!(a.selected, loopwright::ui::params::Param::Rg);
+    a.on_key(key(KeyCode::Char('h')));
+    assert_eq!(a.slot().scenario.stage.rg, Some(910.0));
+    a.on_key(key(KeyCode::Char('q')));
+    // Unsaved: asks first.
+    assert!(a.running);
+    a.on_key(key(KeyCode::Char('y')));
+    assert!(!a.running);
+}
+
+#[test]
+fn ascii_mode_uses_plain_characters() {
+    let a = App::new(vec![(scenario::demo(), None)], Theme::new(false, true));
+    let text = screen(&a, 100, 30);
+    assert!(text.contains('+') && text.contains('|'));
+    assert!(!text.contains('╭') && !text.contains('⠉'), "{text}");
+}
+
+/// A writer that keeps what the backend sends, so a test can count bytes.
+#[derive(Clone, Default)]
+struct Shared(std::rc::Rc<std::cell::RefCell<Vec<u8>>>);
+
+impl std::io::Write for Shared {
+    fn write(&mut self, b: &[u8]) -> std::io::Result<usize> {
+        self.0.borrow_mut().extend_from_slice(b);
+        Ok(b.len())
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
+    }
+}
+
+#[test]
+fn one_step_sends_few_bytes() {
+    use ratatui::backend::CrosstermBackend;
+    use ratatui::layout::Rect;
+    use ratatui::{TerminalOptions, Viewport};
+    let out = Shared::default();
+    let backend = CrosstermBackend::new(out.clone());
+    let mut t = Terminal::with_options(
+        backend,
+        TerminalOptions {
+            viewport: Viewport::Fixed(Rect::new(0, 0, 100, 30)),
+        },
+    )
+    .unwrap();
+    let mut a = App::new(vec![(scenario::demo(), None)], Theme::new(true, false));
+    loopwright::ui::draw_frame(&mut t, &a).unwrap();
+    let first = out.0.borrow().len();
+    out.0.borrow_mut().clear();
+    a.on_key(key(KeyCode::Right));
+    loopwright::ui::draw_frame(&mut t, &a).unwrap();
+    let second = out.0.borrow().len();
+    println!("first frame {first} bytes, after one rf step {second} bytes");
+    assert!(
+        first > 2000,
+        "the first frame draws everything ({first} bytes)"
+    );
+    assert!(second < 6 * 1024, "second frame {second} bytes");
+    // Sent as one synchronized update.
+    let bytes = out.0.borrow();
+    let text = String::from_utf8_lossy(&bytes);
+    assert!(
+        text.starts_with("\x1b[?2026h"),
+        "begins a synchronized update"
+    );
+    assert!(text.contains("\x1b[?2026l"));
+}
