@@ -53,6 +53,14 @@ pub enum Command {
         #[arg(long = "at", value_name = "HZ", value_parser = parse_frequency)]
         at: Vec<f64>,
     },
+    /// Compare two candidate stages side by side.
+    Compare {
+        a: PathBuf,
+        b: PathBuf,
+        /// Both full reports and their differences as one JSON object.
+        #[arg(long)]
+        json: bool,
+    },
     /// Print the base values of one decade of an IEC 60063 series.
     Series {
         /// E3, E6, E12, E24, E48, E96 or E192.

@@ -2,7 +2,7 @@ use anyhow::{bail, Context, Result};
 use clap::Parser;
 use loopwright::cli::{Cli, Command};
 use loopwright::engine::{analyze, scenario, Scenario, Series};
-use loopwright::report::{write_text, Report};
+use loopwright::report::{write_text, Comparison, Report};
 use std::io::{self, Write};
 use std::path::Path;
 use std::process::ExitCode;
@@ -27,6 +27,17 @@ fn run(cli: Cli) -> Result<()> {
                 r.write_json(&mut buf)?;
             } else {
                 write_text(&r, &s, &a, &mut buf)?;
+            }
+            out.write_all(&buf)?;
+        }
+        Some(Command::Compare { a, b, json }) => {
+            let (sa, sb) = (Scenario::load(&a)?, Scenario::load(&b)?);
+            let c = Comparison::new(&sa, &analyze(&sa), &sb, &analyze(&sb));
+            let mut buf = Vec::new();
+            if json {
+                c.write_json(&mut buf)?;
+            } else {
+                c.write_text(&mut buf)?;
             }
             out.write_all(&buf)?;
         }

@@ -326,3 +326,140 @@ pub fn write_text(r: &Report, s: &Scenario, a: &Analysis, w: &mut impl Write) ->
     }
     Ok(())
 }
+
+/// One row of the A/B table: a figure for A and B and their difference.
+#[derive(Debug, Clone, Serialize)]
+pub struct FigureDelta {
+    pub key: &'static str,
+    pub a: Option<f64>,
+    pub b: Option<f64>,
+    /// b − a, null where either is undefined.
+    pub delta: Option<f64>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ParamDiff {
+    pub field: &'static str,
+    pub a: String,
+    pub b: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Differences {
+    pub figures: Vec<FigureDelta>,
+    pub parameters: Vec<ParamDiff>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Comparison {
+    pub a: Report,
+    pub b: Report,
+    pub differences: Differences,
+}
+
+impl Comparison {
+    pub fn new(sa: &Scenario, aa: &Analysis, sb: &Scenario, ab: &Analysis) -> Comparison {
+        let a = Report::new(sa, aa, &[]);
+        let b = Report::new(sb, ab, &[]);
+        let pick = |r: &Report| -> Vec<(&'static str, Option<f64>)> {
+            vec![
+                ("dc_gain", r.dc_gain),
+                ("gain_error", r.gain_error),
+                ("f_3db_hz", r.f_3db_hz),
+                ("peaking_db", r.peaking_db),
+                ("phase_margin_deg", r.phase_margin_deg),
+                ("gain_margin_db", r.gain_margin_db),
+                ("zout_dc_ohm", r.zout_dc_ohm),
+                ("noise_rms", r.noise_rms),
+                ("warnings", Some(r.warnings.len() as f64)),
+            ]
+        };
+        let figures = pick(&a)
+            .into_iter()
+            .zip(pick(&b))
+            .map(|((key, x), (_, y))| FigureDelta {
+                key,
+                a: x,
+                b: y,
+                delta: match (x, y) {
+                    (Some(x), Some(y)) => fin(y - x),
+                    _ => None,
+                },
+            })
+            .collect();
+        let parameters = sa
+            .differences(sb)
+            .into_iter()
+            .map(|(field, a, b)| ParamDiff { field, a, b })
+            .collect();
+        Comparison {
+            a,
+            b,
+            differences: Differences {
+                figures,
+                parameters,
+            },
+        }
+    }
+
+    pub fn write_json(&self, w: &mut impl Write) -> io::Result<()> {
+        serde_json::to_writer_pretty(&mut *w, self)?;
+        writeln!(w)
+    }
+
+    /// The side-by-side table and the differing parameters, as text.
+    pub fn write_text(&self, w: &mut impl Write) -> io::Result<()> {
+        writeln!(w, "A: {}", self.a.title)?;
+        writeln!(w, "B: {}", self.b.title)?;
+        writeln!(w)?;
+        writeln!(
+            w,
+            "{:<18} {:>14} {:>14} {:>14}",
+            "figure", "A", "B", "B − A"
+        )?;
+        for f in &self.differences.figures {
+            let (label, unit) = match f.key {
+                "dc_gain" => ("gain", ""),
+                "gain_error" => ("gain error %", "%"),
+                "f_3db_hz" => ("f−3dB", "Hz"),
+                "peaking_db" => ("peaking dB", "dB"),
+                "phase_margin_deg" => ("phase margin °", "°"),
+                "gain_margin_db" => ("gain margin dB", "dB"),
+                "zout_dc_ohm" => ("Zout at DC", "Ω"),
+                "noise_rms" => ("noise rms", "V"),
+                _ => ("warnings", "#"),
+            };
+            let show = |v: Option<f64>, signed: bool| -> String {
+                let Some(v) = v else {
+                    return "none".into();
+                };
+                let sign = if signed && v > 0.0 { "+" } else { "" };
+                match unit {
+                    "" => format!("{sign}{v:.5}"),
+                    "%" => format!("{sign}{:.4}", v * 100.0),
+                    "dB" | "°" => format!("{sign}{v:.1}"),
+                    "#" => format!("{sign}{v:.0}"),
+                    u => format!("{sign}{}", fmt_eng(v, u)),
+                }
+            };
+            writeln!(
+                w,
+                "{:<18} {:>14} {:>14} {:>14}",
+                label,
+                show(f.a, false),
+                show(f.b, false),
+                show(f.delta, true)
+            )?;
+        }
+        writeln!(w)?;
+        if self.differences.parameters.is_empty() {
+            writeln!(w, "The two stages have the same parameters.")?;
+        } else {
+            writeln!(w, "Parameters that differ")?;
+            for p in &self.differences.parameters {
+                writeln!(w, "  {:<20} A {:<16} B {}", p.field, p.a, p.b)?;
+            }
+        }
+        Ok(())
+    }
+}

@@ -503,3 +503,58 @@ pub const DEMO_RON: &str = include_str!("../../assets/demo.ron");
 pub fn demo() -> Scenario {
     Scenario::from_ron(DEMO_RON, Some("assets/demo.ron")).expect("the built-in demo is valid")
 }
+
+impl Scenario {
+    /// Every field as (dotted name, value text), in file order; absent
+    /// optional fields read "none". Used to list what differs between two
+    /// stages.
+    pub fn field_list(&self) -> Vec<(&'static str, String)> {
+        use super::values::fmt_compact;
+        let num = |v: f64| fmt_compact(v);
+        let opt = |v: Option<f64>| v.map(fmt_compact).unwrap_or_else(|| "none".into());
+        let st = &self.stage;
+        let a = &self.amp;
+        vec![
+            ("title", self.title.clone()),
+            ("stage.topology", st.topology.name().into()),
+            ("stage.rg", opt(st.rg)),
+            ("stage.rf", opt(st.rf)),
+            ("stage.cf", opt(present(st.cf))),
+            ("stage.riso", opt(present(st.riso))),
+            ("stage.series", st.series.name().into()),
+            ("stage.tolerance", num(st.tolerance)),
+            ("amp.a0", num(a.a0)),
+            ("amp.gbw", num(a.gbw)),
+            ("amp.fp2", opt(a.fp2)),
+            ("amp.rin", opt(a.rin)),
+            ("amp.cin", opt(present(a.cin))),
+            ("amp.ro", num(a.ro)),
+            ("amp.vnoise", num(a.vnoise)),
+            ("amp.vnoise_corner", opt(present(a.vnoise_corner))),
+            ("amp.inoise", num(a.inoise)),
+            ("amp.inoise_corner", opt(present(a.inoise_corner))),
+            ("source.r", num(self.source.r)),
+            ("load.r", opt(self.load.r)),
+            ("load.c", opt(present(self.load.c))),
+            ("temp_c", num(self.temp_c)),
+            (
+                "band",
+                format!(
+                    "{} to {}",
+                    fmt_compact(self.band.0),
+                    fmt_compact(self.band.1)
+                ),
+            ),
+        ]
+    }
+
+    /// The fields whose values differ: (name, value in self, value in other).
+    pub fn differences(&self, other: &Scenario) -> Vec<(&'static str, String, String)> {
+        self.field_list()
+            .into_iter()
+            .zip(other.field_list())
+            .filter(|(a, b)| a.1 != b.1)
+            .map(|(a, b)| (a.0, a.1, b.1))
+            .collect()
+    }
+}

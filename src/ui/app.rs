@@ -625,7 +625,7 @@ impl App {
                     Self::slot_label(self.active)
                 ));
             }
-            Err(e) => self.error(format!("{e} (kept the open scenario)")),
+            Err(e) => self.error(format!("not opened, kept the open scenario: {e}")),
         }
     }
 

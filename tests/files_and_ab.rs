@@ -1,0 +1,287 @@
+//! Saving and opening from the workbench, the archetype library, and the
+//! A/B comparison (workbench and `compare`).
+
+mod common;
+use common::bin;
+use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+use loopwright::engine::scenario::{self, Scenario};
+use loopwright::ui::app::{archetypes, write_atomic, App};
+use loopwright::ui::theme::Theme;
+use loopwright::ui::view::{buffer_text, draw};
+use ratatui::backend::TestBackend;
+use ratatui::Terminal;
+use std::path::{Path, PathBuf};
+
+fn key(c: KeyCode) -> KeyEvent {
+    KeyEvent::new(c, KeyModifiers::NONE)
+}
+
+fn type_text(a: &mut App, text: &str) {
+    for c in text.chars() {
+        a.on_key(key(KeyCode::Char(c)));
+    }
+}
+
+fn screen(app: &App) -> String {
+    let mut t = Terminal::new(TestBackend::new(100, 30)).unwrap();
+    t.draw(|f| draw(f, app)).unwrap();
+    buffer_text(t.backend().buffer()).join("\n")
+}
+
+fn tmp(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("lw-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn demo_app(path: Option<PathBuf>) -> App {
+    App::new(vec![(scenario::demo(), path)], Theme::new(false, false))
+}
+
+fn save_as(a: &mut App, path: &Path) {
+    a.on_key(KeyEvent::new(KeyCode::Char('W'), KeyModifiers::SHIFT));
+    for _ in 0..200 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    type_text(a, path.to_str().unwrap());
+    a.on_key(key(KeyCode::Enter));
+}
+
+#[test]
+fn save_as_adds_ron_and_the_file_reloads_equal() {
+    let d = tmp("saveas");
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Right)); // rf 10k -> 11k, now modified
+    assert!(screen(&a).contains("[modified]"));
+    save_as(&mut a, &d.join("front-end"));
+    let path = d.join("front-end.ron");
+    assert!(path.exists(), "{}", a.status);
+    assert!(!screen(&a).contains("[modified]"));
+    assert!(screen(&a).contains("front-end.ron"));
+    let back = Scenario::load(&path).unwrap();
+    assert_eq!(back, a.slot().scenario);
+    // The saved file is the documented shape, loadable by `report`.
+    let out = bin().arg("report").arg(&path).output().unwrap();
+    assert!(out.status.success());
+    // w saves to the same file again.
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('w')));
+    assert_eq!(Scenario::load(&path).unwrap().stage.rf, Some(12_000.0));
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn failed_saves_keep_the_edits_and_the_old_file() {
+    let d = tmp("ro");
+    let path = d.join("stage.ron");
+    let original = scenario::demo().to_ron();
+    std::fs::write(&path, &original).unwrap();
+    let mut a = demo_app(Some(path.clone()));
+    a.on_key(key(KeyCode::Right));
+    // A path that is a folder.
+    let folder = d.join("folder.ron");
+    std::fs::create_dir_all(&folder).unwrap();
+    save_as(&mut a, &folder);
+    assert!(a.status.contains("could not save"), "{}", a.status);
+    assert!(a.slot().dirty);
+    assert_eq!(a.slot().scenario.stage.rf, Some(11_000.0));
+    // A folder that does not exist.
+    save_as(&mut a, &d.join("no/such/folder/x.ron"));
+    assert!(a.status.contains("could not save"), "{}", a.status);
+    // A read-only folder: root ignores permission bits, so where the
+    // folder stays writable use a place no one may create files in.
+    let ro = d.join("ro");
+    std::fs::create_dir_all(&ro).unwrap();
+    let target = ro.join("stage.ron");
+    std::fs::write(&target, &original).unwrap();
+    use std::os::unix::fs::PermissionsExt;
+    std::fs::set_permissions(&ro, std::fs::Permissions::from_mode(0o555)).unwrap();
+    let root_can_write = std::fs::File::create(ro.join("probe")).is_ok();
+    let target = if root_can_write {
+        println!("running as root: using /proc for the read-only case");
+        let _ = std::fs::remove_file(ro.join("probe"));
+        PathBuf::from("/proc/loopwright-save-test.ron")
+    } else {
+        target
+    };
+    save_as(&mut a, &target);
+    assert!(a.status.contains("could not save"), "{}", a.status);
+    assert!(a.slot().dirty, "edits kept in memory");
+    if !root_can_write {
+        assert_eq!(
+            std::fs::read_to_string(ro.join("stage.ron")).unwrap(),
+            original
+        );
+    }
+    std::fs::set_permissions(&ro, std::fs::Permissions::from_mode(0o755)).unwrap();
+    // The original file is byte-for-byte unchanged.
+    assert_eq!(std::fs::read_to_string(&path).unwrap(), original);
+    // No temporary files are left behind.
+    let leftovers: Vec<_> = std::fs::read_dir(&d)
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().contains(".tmp-"))
+        .collect();
+    assert!(leftovers.is_empty());
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn saving_over_a_file_leaves_a_complete_valid_file() {
+    let d = tmp("over");
+    let path = d.join("s.ron");
+    std::fs::write(&path, "(broken").unwrap();
+    let mut s = scenario::demo();
+    for i in 0..20 {
+        s.stage.rf = Some(1000.0 + i as f64);
+        write_atomic(&path, &s.to_ron()).unwrap();
+        let back = Scenario::load(&path).unwrap();
+        assert_eq!(back, s);
+    }
+    assert!(write_atomic(&d, "x").is_err());
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn broken_files_report_position_and_keep_the_open_scenario() {
+    let d = tmp("broken");
+    let good = scenario::DEMO_RON;
+    let cases = [
+        ("cut.ron", good[..good.len() / 2].to_string()),
+        ("type.ron", good.replace("rg: 1000.0", "rg: \"one k\"")),
+        ("variant.ron", good.replace("series: E24", "series: E25")),
+    ];
+    for (name, text) in &cases {
+        let p = d.join(name);
+        std::fs::write(&p, text).unwrap();
+        // CLI: error with line and column, nothing on stdout.
+        let out = bin().arg("report").arg(&p).output().unwrap();
+        assert!(!out.status.success());
+        assert!(out.stdout.is_empty());
+        let err = String::from_utf8_lossy(&out.stderr).to_string();
+        let prefix = format!("{}:", p.display());
+        let rest = err.split(&prefix).nth(1).unwrap_or_else(|| panic!("{err}"));
+        let mut nums = rest.split(':').take(2).map(|n| n.trim().parse::<usize>());
+        assert!(
+            matches!((nums.next(), nums.next()), (Some(Ok(_)), Some(Ok(_)))),
+            "line:col in {err}"
+        );
+        // Workbench: the open scenario stays and the error is shown.
+        let mut a = demo_app(None);
+        a.on_key(key(KeyCode::Right));
+        a.on_key(key(KeyCode::Char('o')));
+        type_text(&mut a, p.to_str().unwrap());
+        a.on_key(key(KeyCode::Enter));
+        assert_eq!(a.slot().scenario.stage.rf, Some(11_000.0), "{name}");
+        assert!(
+            a.status.contains(name) && a.status.contains("kept"),
+            "{}",
+            a.status
+        );
+        let text = screen(&a);
+        assert!(text.contains("kept the open"), "{text}");
+    }
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn open_lists_scenarios_and_loads_one() {
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Char('o')));
+    let text = screen(&a);
+    assert!(text.contains("Open a scenario"));
+    assert!(text.contains("scenarios/"), "{text}");
+    let p = concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/mic_preamp.ron");
+    type_text(&mut a, p);
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.title, "Low-noise preamp, gain 101");
+    assert!(screen(&a).contains("mic_preamp.ron"));
+}
+
+#[test]
+fn older_files_without_a_version_still_load() {
+    // Files written before the version field existed have none: they load as version 1.
+    let s = Scenario::from_ron(scenario::DEMO_RON, None).unwrap();
+    assert!(!scenario::DEMO_RON.contains("version"));
+    assert_eq!(s.version, 1);
+}
+
+#[test]
+fn archetypes_are_valid_and_a_key_applies_them() {
+    let list = archetypes();
+    assert!(list.len() >= 6, "six archetypes");
+    for arch in &list {
+        let mut s = scenario::demo();
+        s.amp = arch.amp.clone();
+        assert!(s.validate().is_ok(), "{}", arch.name);
+    }
+    let text = loopwright::ui::app::ARCHETYPES_RON;
+    assert!(text.matches("typical, from memory").count() >= list.len());
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Char('a')));
+    assert_eq!(a.slot().scenario.amp, list[0].amp);
+    assert!(a.status.contains(&list[0].name));
+    a.on_key(key(KeyCode::Char('a')));
+    assert_eq!(a.slot().scenario.amp, list[1].amp);
+}
+
+#[test]
+fn two_candidates_side_by_side() {
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Char('c')));
+    assert_eq!(a.slots.len(), 2);
+    a.on_key(key(KeyCode::Tab));
+    assert_eq!(a.active, 1);
+    a.on_key(key(KeyCode::Right)); // B: rf 11k
+    let text = screen(&a);
+    let row = |p: &str| {
+        text.lines()
+            .find(|l| l.starts_with(p))
+            .unwrap_or_else(|| panic!("no {p} row:\n{text}"))
+            .to_string()
+    };
+    assert!(row("A ").contains("10.9988"), "{text}");
+    assert!(row("B ").contains("11.9985"), "{text}");
+    assert!(row("Δ ").contains("+0.9998"), "{text}");
+    assert!(text.contains("≠ rf"), "differing parameter marked:\n{text}");
+    assert!(
+        text.contains("B ··· dotted"),
+        "legend tells the traces apart"
+    );
+}
+
+#[test]
+fn opening_two_files_and_compare_command() {
+    let a = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/buffer_rings_10n.ron"
+    );
+    let b = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/line_driver_cable.ron"
+    );
+    let out = bin().args(["compare", a, b]).output().unwrap();
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("Unity buffer on 10 nF"));
+    assert!(text.contains("Line driver into 100 pF"));
+    assert!(text.contains("B − A"));
+    assert!(text.contains("stage.topology"), "{text}");
+    let out = bin().args(["compare", a, b, "--json"]).output().unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(v["a"]["phase_margin_deg"].is_number());
+    assert!(v["b"]["phase_margin_deg"].is_number());
+    let figs = v["differences"]["figures"].as_array().unwrap();
+    let pm = figs
+        .iter()
+        .find(|f| f["key"] == "phase_margin_deg")
+        .unwrap();
+    let want = pm["b"].as_f64().unwrap() - pm["a"].as_f64().unwrap();
+    assert!((pm["delta"].as_f64().unwrap() - want).abs() < 1e-9);
+    let params = v["differences"]["parameters"].as_array().unwrap();
+    assert!(params.iter().any(|p| p["field"] == "stage.riso"));
+    // A bad second file fails cleanly.
+    let out = bin().args(["compare", a, "Cargo.toml"]).output().unwrap();
+    assert!(!out.status.success() && out.stdout.is_empty());
+}
