@@ -198,6 +198,9 @@ fn ascii_mode_uses_plain_characters() {
     let text = screen(&a, 100, 30);
     assert!(text.contains('+') && text.contains('|'));
     assert!(!text.contains('╭') && !text.contains('⠉'), "{text}");
+    // Everything on screen is plain ASCII, units in the RKM style (10k R).
+    assert!(text.is_ascii(), "{text}");
+    assert!(text.contains("10 kR"), "{text}");
 }
 
 /// A writer that keeps what the backend sends, so a test can count bytes.

@@ -2,10 +2,11 @@
 //! by modified nodal analysis at each frequency (one LU per point).
 
 use super::netlist::{Coupling, Netlist};
-use super::scenario::Scenario;
+use super::scenario::{present, Scenario};
 use super::solver::{Lu, MAXN, ZERO};
 use super::warnings::{self, Warning};
 use num_complex::Complex64 as C64;
+use std::cell::RefCell;
 use std::f64::consts::PI;
 
 /// Default sweep: 0.01 Hz to 1 GHz.
@@ -46,13 +47,24 @@ impl Point {
 /// A netlist ready to be evaluated at any frequency.
 pub struct Circuit {
     pub net: Netlist,
+    /// Reused matrix storage, so a point costs no large copies.
+    work: RefCell<Lu>,
 }
 
 impl Circuit {
     pub fn new(s: &Scenario) -> Circuit {
         Circuit {
             net: Netlist::build(s),
+            work: RefCell::new(Lu::zeroed()),
         }
+    }
+
+    /// Stamp and factor the matrix at s into the workspace.
+    fn factor_at(&self, s: C64) -> Option<std::cell::RefMut<'_, Lu>> {
+        let mut lu = self.work.borrow_mut();
+        self.net.stamp_into(s, lu.matrix());
+        lu.factor_in_place(self.net.dim).ok()?;
+        Some(lu)
     }
 
     /// Like [`Circuit::eval`], with all-zero figures where the matrix is
@@ -73,17 +85,15 @@ impl Circuit {
     pub fn gain_and_loop(&self, f_hz: f64) -> (C64, C64) {
         let net = &self.net;
         let s = C64::new(0.0, 2.0 * PI * f_hz);
-        let mut lu = Lu::zeroed();
-        net.stamp_into(s, lu.matrix());
-        if lu.factor_in_place(net.dim).is_err() {
+        let Some(lu) = self.factor_at(s) else {
             return (ZERO, ZERO);
-        }
+        };
         let mut e = [ZERO; MAXN];
         e[net.amp_row] = C64::new(1.0, 0.0);
         let (mut x, mut w) = ([ZERO; MAXN], [ZERO; MAXN]);
         lu.solve_pair(&net.drive_rhs(), &e, &mut x, &mut w);
         let gain = Netlist::node_v(&x[..net.dim], net.out);
-        let ay = net.open_loop(s) * net.minus_vd(&w[..net.dim]);
+        let ay = net.loop_factor(s) * net.minus_vd(&w[..net.dim]);
         (gain, ay / (C64::new(1.0, 0.0) - ay))
     }
 
@@ -91,9 +101,7 @@ impl Circuit {
     pub fn eval(&self, f_hz: f64) -> Option<Point> {
         let net = &self.net;
         let s = C64::new(0.0, 2.0 * PI * f_hz);
-        let mut lu = Lu::zeroed();
-        net.stamp_into(s, lu.matrix());
-        lu.factor_in_place(net.dim).ok()?;
+        let lu = self.factor_at(s)?;
         let n = net.dim;
 
         // Gain and Zin: source EMF = 1 V.
@@ -113,7 +121,7 @@ impl Circuit {
         };
 
         // Loop gain by Sherman–Morrison on the amplifier row.
-        let ay = net.open_loop(s) * net.minus_vd(&w[..n]);
+        let ay = net.loop_factor(s) * net.minus_vd(&w[..n]);
         let loop_gain = ay / (C64::new(1.0, 0.0) - ay);
 
         // Adjoint: transimpedance from every node/branch to V(out).
@@ -182,6 +190,9 @@ pub struct Analysis {
     pub gain_margin_db: Option<f64>,
     /// Where arg T first reaches −180°.
     pub phase_180_hz: Option<f64>,
+    /// Phase margin of the same stage without the load capacitance (only
+    /// computed when there is one).
+    pub phase_margin_without_load_c: Option<f64>,
     pub zout_dc_ohm: f64,
     pub zin_dc_ohm: Option<f64>,
     pub noise_density_1khz: f64,
@@ -270,6 +281,29 @@ fn refine_root(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> f64 {
         }
     }
     0.5 * (a + b)
+}
+
+/// First fall of |T| through 1 on a grid of (f, T, unwrapped arg T in
+/// degrees), refined on ln f: (crossover Hz, phase margin degrees).
+fn crossover(
+    t_dc: C64,
+    grid: &[(f64, C64, f64)],
+    loop_at: impl Fn(f64) -> C64,
+) -> Option<(f64, f64)> {
+    if t_dc.norm() < 1.0 {
+        return None;
+    }
+    let i = grid.iter().position(|g| g.1.norm() < 1.0)?;
+    let (fa, ref_phase) = if i == 0 {
+        (grid[0].0 * 1e-3, unwrap_near(t_dc, 0.0))
+    } else {
+        (grid[i - 1].0, grid[i - 1].2)
+    };
+    let fc = refine_root(fa.ln(), grid[i].0.ln(), |x| {
+        loop_at(x.exp()).norm_sqr().ln()
+    })
+    .exp();
+    Some((fc, 180.0 + unwrap_near(loop_at(fc), ref_phase)))
 }
 
 /// Maximise g on [a, b] by golden-section search.
@@ -410,21 +444,41 @@ pub fn analyze(s: &Scenario) -> Analysis {
 
     // Crossover and phase margin.
     let loop_gain_dc = dc.loop_gain.re;
-    let mut crossover_hz = None;
-    let mut phase_margin_deg = None;
-    if dc.loop_gain.norm() >= 1.0 {
-        if let Some(i) = points.iter().position(|p| p.loop_gain.norm() < 1.0) {
-            let (fa, fb, ref_phase) = if i == 0 {
-                (lo * 1e-3, points[0].f_hz, loop_phase_deg[0])
-            } else {
-                (points[i - 1].f_hz, points[i].f_hz, loop_phase_deg[i - 1])
-            };
-            let fc = refine_root(fa.ln(), fb.ln(), |x| loop_at(x.exp()).norm_sqr().ln()).exp();
-            let ph = unwrap_near(loop_at(fc), ref_phase);
-            crossover_hz = Some(fc);
-            phase_margin_deg = Some(180.0 + ph);
+    let grid: Vec<(f64, C64, f64)> = points
+        .iter()
+        .zip(&loop_phase_deg)
+        .map(|(p, ph)| (p.f_hz, p.loop_gain, *ph))
+        .collect();
+    let (crossover_hz, phase_margin_deg) = match crossover(dc.loop_gain, &grid, loop_at) {
+        Some((fc, pm)) => (Some(fc), Some(pm)),
+        None => (None, None),
+    };
+
+    // What the load capacitance costs: the same loop without it, on a
+    // coarse grid (4 points per decade) up to its crossover.
+    let phase_margin_without_load_c = match (present(s.load.c), phase_margin_deg) {
+        (Some(_), Some(_)) => {
+            let mut bare = s.clone();
+            bare.load.c = None;
+            let c2 = Circuit::new(&bare);
+            let t0 = c2.gain_and_loop(0.0).1;
+            let mut grid = Vec::new();
+            let mut prev = unwrap_near(t0, 0.0);
+            let decades = (hi / lo).log10();
+            let n = (decades * 4.0).ceil() as usize;
+            for i in 0..=n {
+                let f = lo * 10f64.powf(decades * i as f64 / n as f64);
+                let t = c2.gain_and_loop(f).1;
+                prev = unwrap_near(t, prev);
+                grid.push((f, t, prev));
+                if t.norm() < 1.0 {
+                    break;
+                }
+            }
+            crossover(t0, &grid, |f| c2.gain_and_loop(f).1).map(|(_, pm)| pm)
         }
-    }
+        _ => None,
+    };
 
     // Gain margin: where the unwrapped phase first reaches −180°.
     let mut gain_margin_db = None;
@@ -478,6 +532,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
         phase_margin_deg,
         gain_margin_db,
         phase_180_hz,
+        phase_margin_without_load_c,
         zout_dc_ohm: dc.zout.re,
         zin_dc_ohm: dc.zin.map(|z| z.re),
         noise_density_1khz,

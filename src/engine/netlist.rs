@@ -76,7 +76,12 @@ pub struct Netlist {
     /// How the source EMF drives the stage.
     pub drive: Drive,
     pub en_row: usize,
+    /// The unknown whose equation carries the controlled source: its
+    /// branch row (ideal output) or the output node (Norton form).
     pub amp_row: usize,
+    /// Norton form: the source is a current (A/ro)·Vd into the output node
+    /// with ro to ground; 0 when it is a voltage-source branch.
+    inv_ro: f64,
     en_nodes: (Option<usize>, Option<usize>),
     /// Amplifier: output node, sense + and − nodes.
     amp_out: Option<usize>,
@@ -196,6 +201,12 @@ impl Netlist {
                 caps.push((InPi, Gnd, cin));
                 caps.push((InN, Gnd, cin));
             }
+            // With output resistance the source is stamped in Norton form
+            // (one node and one branch fewer): ro runs from the output to
+            // ground and a current A·Vd/ro flows into the output.
+            if amp.ro > 0.0 {
+                b.wire(Int, Gnd);
+            }
             resistors.push((Int, Amp, amp.ro, None));
         } else {
             b.wire(Int, Amp);
@@ -266,7 +277,12 @@ impl Netlist {
             )
         };
         let en_row = branches;
-        let amp_row = branches + 1;
+        let norton_amp = !ideal && amp.ro > 0.0;
+        let (amp_row, dim) = if norton_amp {
+            (node(Amp).unwrap_or(0), branches + 1)
+        } else {
+            (branches + 1, branches + 2)
+        };
         noise.push(NoiseSource {
             key: "vnoise",
             label: "amp voltage noise",
@@ -288,7 +304,8 @@ impl Netlist {
         }
         let wp1 = 2.0 * std::f64::consts::PI * amp.gbw / amp.a0;
         Netlist {
-            dim: amp_row + 1,
+            dim,
+            inv_ro: if norton_amp { 1.0 / amp.ro } else { 0.0 },
             elements,
             drive,
             en_row,
@@ -316,6 +333,16 @@ impl Netlist {
             d *= C64::new(1.0, 0.0) + s / w2;
         }
         self.a0 / d
+    }
+
+    /// The factor of the amplifier's rank-one term in the matrix: A(s) for
+    /// a voltage-source branch, A(s)/ro in Norton form.
+    pub fn loop_factor(&self, s: C64) -> C64 {
+        if self.inv_ro > 0.0 {
+            self.open_loop(s) * self.inv_ro
+        } else {
+            self.open_loop(s)
+        }
     }
 
     /// Load admittance at s.
@@ -370,8 +397,19 @@ impl Netlist {
             m[self.en_row][i] -= one;
             m[i][self.en_row] -= one;
         }
-        // Amplifier: V(int) − A·(V(+) − V(−)) = 0, or the nullor V(+) = V(−).
+        // Amplifier: V(int) − A·(V(+) − V(−)) = 0, or the nullor V(+) = V(−),
+        // or in Norton form the current (A/ro)·(V(+) − V(−)) into the output.
         let r = self.amp_row;
+        if self.inv_ro > 0.0 {
+            let g = self.loop_factor(s);
+            if let Some(i) = self.sense_p {
+                m[r][i] -= g;
+            }
+            if let Some(i) = self.sense_n {
+                m[r][i] += g;
+            }
+            return;
+        }
         if let Some(i) = self.amp_out {
             m[i][r] += one;
         }

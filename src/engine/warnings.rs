@@ -35,6 +35,10 @@ pub struct Warning {
 pub const PM_WARN_DEG: f64 = 45.0;
 /// Phase margin below this is severe (common practice).
 pub const PM_SEVERE_DEG: f64 = 30.0;
+/// Phase margin the load capacitance may take before it is noted, and
+/// before it is a warning (common practice: cable and load capacitance vary).
+pub const LOAD_C_INFO_DEG: f64 = 10.0;
+pub const LOAD_C_WARN_DEG: f64 = 20.0;
 pub const PEAKING_WARN_DB: f64 = 1.0;
 pub const PEAKING_SEVERE_DB: f64 = 3.0;
 /// The amplifier output should not see less than this (common practice).
@@ -118,6 +122,31 @@ pub fn check(s: &Scenario, a: &Analysis) -> Vec<Warning> {
         ),
         _ => {}
     }
+    // The classic trap: the load capacitance eats phase margin.
+    if let (Some(c), Some(pm), Some(bare)) = (
+        present(s.load.c),
+        a.phase_margin_deg,
+        a.phase_margin_without_load_c,
+    ) {
+        let cost = bare - pm;
+        if cost >= LOAD_C_INFO_DEG {
+            let sev = if cost >= LOAD_C_WARN_DEG {
+                Severity::Warning
+            } else {
+                Severity::Info
+            };
+            push(
+                &mut w,
+                "load-capacitance",
+                sev,
+                format!(
+                    "the {} load takes {cost:.0}° of phase margin ({pm:.0}° with it, {bare:.0}° \
+                     without); more cable or a bigger capacitor takes more{fix}",
+                    fmt_eng(c, "F")
+                ),
+            );
+        }
+    }
     if a.peaking_db > PEAKING_WARN_DB {
         let sev = if a.peaking_db > PEAKING_SEVERE_DB {
             Severity::Severe
@@ -196,11 +225,13 @@ pub fn check(s: &Scenario, a: &Analysis) -> Vec<Warning> {
             "heavy-output-load",
             Severity::Warning,
             format!(
-                "the amplifier output drives {} at DC (feedback {} ∥ load {}); below about {} the \
-                 output current and heating grow: raise the resistor values",
+                "the amplifier output drives {} at DC (feedback {} ∥ load {}), {} per volt of \
+                 output; below about {} the output current and heating grow: raise the resistor \
+                 values",
                 fmt_eng(seen, "Ω"),
                 fmt_eng(feedback, "Ω"),
                 fmt_eng(load, "Ω"),
+                fmt_eng(1.0 / seen, "A"),
                 fmt_eng(HEAVY_LOAD_OHM, "Ω")
             ),
         );

@@ -26,7 +26,7 @@ pub fn draw(frame: &mut Frame, app: &App) {
 pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     if area.width < MIN_W || area.height < MIN_H {
         let msg = format!(
-            "Terminal {}×{} is too small: enlarge it to at least {MIN_W}×{MIN_H}",
+            "Terminal {}x{} is too small: enlarge it to at least {MIN_W}x{MIN_H}",
             area.width, area.height
         );
         if area.height > 0 {
@@ -35,7 +35,18 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         return;
     }
     let figures_h = if app.slots.len() > 1 { 4 } else { 2 };
-    let n_warn = app.slot().analysis.warnings.len().clamp(1, 3) as u16;
+    // Warnings wrap: as many rows as they need, up to 3 (4 on tall screens).
+    let cap = if area.height >= 30 { 4 } else { 3 };
+    let width = area.width.max(1) as usize;
+    let needed: usize = app
+        .slot()
+        .analysis
+        .warnings
+        .iter()
+        .skip(app.warn_scroll)
+        .map(|w| (w.text.chars().count() + w.code.len() + 12).div_ceil(width))
+        .sum();
+    let n_warn = needed.clamp(1, cap) as u16;
     let [title, body, figures, warnings, status] = Layout::vertical([
         Constraint::Length(1),
         Constraint::Fill(1),
@@ -63,6 +74,48 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         Mode::Help => help_overlay(app, area, buf),
         Mode::Open(files, sel, typed) => open_overlay(app, area, buf, files, *sel, typed),
         _ => {}
+    }
+    if app.theme.ascii {
+        asciify(area, buf);
+    }
+}
+
+/// One ASCII character for each non-ASCII symbol the screen uses, so the
+/// layout stays put: Ω as the RKM R, µ as u, ° as o, √Hz as rHz.
+pub fn ascii_char(c: char) -> char {
+    match c {
+        'Ω' => 'R',
+        'µ' | 'μ' => 'u',
+        '°' => 'o',
+        '√' => 'r',
+        '−' | '—' | '–' | '─' => '-',
+        'Δ' => 'D',
+        '≠' => '*',
+        '·' | '•' => '.',
+        '∥' | '│' => '|',
+        '…' => '.',
+        '±' => '~',
+        '↑' => '^',
+        '↓' => 'v',
+        '←' => '<',
+        '→' => '>',
+        '↔' => '=',
+        '×' => 'x',
+        '∠' => '<',
+        c if c.is_ascii() => c,
+        _ => '?',
+    }
+}
+
+fn asciify(area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    for y in area.y..area.y + area.height {
+        for x in area.x..area.x + area.width {
+            let cell = &mut buf[(x, y)];
+            if !cell.symbol().is_ascii() {
+                let mapped: String = cell.symbol().chars().map(ascii_char).take(1).collect();
+                cell.set_symbol(&mapped);
+            }
+        }
     }
 }
 
@@ -487,8 +540,18 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let w = &app.slot().analysis.warnings;
-    let shown = area.height.saturating_sub(1) as usize;
-    let more = if w.len() > shown {
+    // How many warnings fit, each wrapped to the width.
+    let width = area.width.max(1) as usize;
+    let mut rows = 0;
+    let mut shown = 0;
+    for x in w.iter().skip(app.warn_scroll) {
+        rows += (x.text.chars().count() + x.code.len() + 12).div_ceil(width);
+        if rows > area.height.saturating_sub(1) as usize && shown > 0 {
+            break;
+        }
+        shown += 1;
+    }
+    let more = if w.len() > shown || app.warn_scroll > 0 {
         format!(
             " {}–{} of {} ([ ] scroll)",
             app.warn_scroll + 1,
@@ -532,7 +595,9 @@ fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             })
             .collect()
     };
-    Paragraph::new(lines).render(inner, buf);
+    Paragraph::new(lines)
+        .wrap(ratatui::widgets::Wrap { trim: false })
+        .render(inner, buf);
 }
 
 fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
