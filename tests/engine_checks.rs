@@ -323,3 +323,34 @@ fn gain_margin_of_a_three_pole_loop() {
     assert!((a.gain_margin_db.unwrap() - want).abs() < 1e-3);
     assert!(rel(a.gain_margin_db.unwrap(), want) < 1e-3);
 }
+
+#[test]
+fn load_capacitance_cost_is_the_margin_it_takes() {
+    // The classic trap (common practice): a capacitive load on a follower
+    // adds a pole ro·C inside the loop. The engine's "without the load
+    // capacitance" margin must equal an independent analysis of the same
+    // stage with the capacitor removed, and the warning must carry both.
+    let mut s = follower();
+    s.amp.ro = 75.0;
+    s.amp.fp2 = Some(10e6);
+    s.load.c = Some(1e-9);
+    let a = analyze(&s);
+    let mut bare = s.clone();
+    bare.load.c = None;
+    let b = analyze(&bare);
+    let without = a.phase_margin_without_load_c.unwrap();
+    assert!((without - b.phase_margin_deg.unwrap()).abs() < 0.01);
+    // Closed form with the load pole: PM = 180 − atan(fc/fp1) − atan(fc/fp2) − atan(fc/fp3).
+    let fc = a.crossover_hz.unwrap();
+    let fp1 = s.amp.gbw / s.amp.a0;
+    let fp3 = 1.0 / (2.0 * PI * 75.0 * 1e-9);
+    let want = 180.0 - ((fc / fp1).atan() + (fc / 10e6).atan() + (fc / fp3).atan()).to_degrees();
+    assert!((a.phase_margin_deg.unwrap() - want).abs() < 0.01);
+    let w = a
+        .warnings
+        .iter()
+        .find(|w| w.code == "load-capacitance")
+        .unwrap();
+    assert!(w.text.contains("1 nF"), "{}", w.text);
+    assert!(without - a.phase_margin_deg.unwrap() > 20.0);
+}

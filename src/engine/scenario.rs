@@ -190,7 +190,27 @@ impl Scenario {
                     None => field.to_string(),
                 })
                 .map(|p| p.trim_start_matches('.').to_string()),
-                _ => field_at(&fields, e.span.start.line, e.span.start.col),
+                // A value of the wrong kind sits in the field before it;
+                // a syntax error names no field (the nesting may be broken).
+                ron::Error::InvalidValueForType { .. }
+                | ron::Error::ExpectedFloat
+                | ron::Error::ExpectedInteger
+                | ron::Error::ExpectedString
+                | ron::Error::ExpectedStringEnd
+                | ron::Error::ExpectedBoolean
+                | ron::Error::ExpectedOption
+                | ron::Error::ExpectedIdentifier
+                | ron::Error::ExpectedStructLike
+                | ron::Error::ExpectedNamedStructLike(_)
+                | ron::Error::ExpectedArray
+                | ron::Error::ExpectedDifferentLength { .. }
+                | ron::Error::IntegerOutOfBounds
+                | ron::Error::NoSuchEnumVariant { .. }
+                | ron::Error::NoSuchStructField { .. }
+                | ron::Error::DuplicateStructField { .. } => {
+                    field_at(&fields, e.span.start.line, e.span.start.col)
+                }
+                _ => None,
             };
             let message = match &e.code {
                 ron::Error::MissingStructField { field, .. } => {
@@ -208,7 +228,17 @@ impl Scenario {
         })?;
         if let Err(problems) = scenario.validate() {
             let p = &problems[0];
-            let pos = fields.iter().find(|f| f.path == p.field);
+            // The field itself, or (when it is missing) the part that should hold it.
+            let mut path = p.field.as_str();
+            let pos = loop {
+                if let Some(f) = fields.iter().find(|f| f.path == path) {
+                    break Some(f);
+                }
+                match path.rfind('.') {
+                    Some(i) => path = &path[..i],
+                    None => break None,
+                }
+            };
             return Err(ScenarioError {
                 file: file.map(str::to_string),
                 field: Some(p.field.clone()),
@@ -354,7 +384,7 @@ fn check_field(p: &mut Vec<FieldProblem>, field: &str, v: f64, ok: bool, rule: &
     } else if !ok {
         // A missing value has no number to show.
         let message = if rule.starts_with("is missing") {
-            rule.trim_start_matches("is ").to_string()
+            format!("the field {rule}")
         } else {
             format!("{v} {rule}")
         };
