@@ -128,6 +128,30 @@ fn failed_saves_keep_the_edits_and_the_old_file() {
 }
 
 #[test]
+fn saving_keeps_the_comment_at_the_top() {
+    let d = tmp("comment");
+    let path = d.join("c.ron");
+    let src = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/mic_preamp.ron"
+    ))
+    .unwrap();
+    std::fs::write(&path, &src).unwrap();
+    let s = Scenario::load(&path).unwrap();
+    let mut a = App::new(vec![(s, Some(path.clone()))], Theme::new(false, false));
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('w')));
+    let saved = std::fs::read_to_string(&path).unwrap();
+    let header: Vec<&str> = src.lines().take_while(|l| l.starts_with("//")).collect();
+    assert!(!header.is_empty());
+    for l in header {
+        assert!(saved.contains(l), "kept {l:?}");
+    }
+    assert_eq!(Scenario::load(&path).unwrap(), a.slot().scenario);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
 fn saving_over_a_file_leaves_a_complete_valid_file() {
     let d = tmp("over");
     let path = d.join("s.ron");

@@ -134,6 +134,10 @@ fn rg_absent_for_a_gain_stage() {
     let e = err(&DOC_EXAMPLE.replace("rg: 1000.0, ", ""));
     assert_eq!(e.field.as_deref(), Some("stage.rg"), "{e}");
     assert!(e.message.contains("needs rg"), "{e}");
+    assert!(
+        e.line.is_some() && e.col.is_some(),
+        "position of the stage: {e}"
+    );
     let text = DOC_EXAMPLE
         .replace("NonInverting", "Inverting")
         .replace("rf: 10000.0, ", "");

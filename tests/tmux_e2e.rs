@@ -35,13 +35,17 @@ impl Drop for Session {
 }
 
 fn start(name: &str, args: &str) -> Option<Session> {
+    start_with(name, "", args)
+}
+
+fn start_with(name: &str, env: &str, args: &str) -> Option<Session> {
     if Command::new("tmux").arg("-V").output().is_err() {
         println!("skipped: tmux is not installed");
         return None;
     }
     let bin = env!("CARGO_BIN_EXE_loopwright");
     let cmd = format!(
-        "cd {dir} && LANG=C.UTF-8 {bin} {args}; echo EXIT=$?; stty -a | tr ' ' '\\n' | grep icanon; sleep 30",
+        "cd {dir} && LANG=C.UTF-8 {env} {bin} {args}; echo EXIT=$?; stty -a | tr ' ' '\\n' | grep icanon; sleep 30",
         dir = env!("CARGO_MANIFEST_DIR")
     );
     let _ = Command::new("tmux")
@@ -125,4 +129,27 @@ fn bad_file_leaves_the_terminal_alone() {
     assert!(done.contains("EXIT=1"), "{done}");
     assert!(done.contains("Cargo.toml"), "{done}");
     assert!(!done.contains("-icanon"));
+}
+
+#[test]
+fn no_color_sends_no_colour_codes() {
+    let ring = "scenarios/buffer_rings_10n.ron";
+    let Some(s) = start_with("lw_e2e_mono", "NO_COLOR=1", ring) else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    let mono = tmux(&["capture-pane", "-e", "-p", "-t", &s.0]);
+    assert!(!mono.contains("38;5;"), "NO_COLOR screen has colours");
+    // Severity is still told by a symbol and by emphasis.
+    assert!(mono.contains("✖ severe"));
+    drop(s);
+    let Some(s) = start_with("lw_e2e_colour", "", ring) else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    let colour = tmux(&["capture-pane", "-e", "-p", "-t", &s.0]);
+    assert!(
+        colour.contains("38;5;1m"),
+        "severe warnings are red in colour mode"
+    );
 }

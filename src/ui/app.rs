@@ -90,10 +90,33 @@ pub struct Slot {
     pub probe: Option<Point>,
     pub path: Option<PathBuf>,
     pub dirty: bool,
+    /// The comment lines at the top of the file it came from, written back
+    /// on save so a designer's notes are not lost.
+    pub header: String,
+}
+
+/// The leading `//` comment lines of a scenario file.
+pub fn leading_comments(text: &str) -> String {
+    let mut out = String::new();
+    for line in text.lines() {
+        let t = line.trim_start();
+        if t.starts_with("//") {
+            out.push_str(line);
+            out.push('\n');
+        } else if !t.is_empty() {
+            break;
+        }
+    }
+    out
 }
 
 impl Slot {
     pub fn new(scenario: Scenario, path: Option<PathBuf>, probe_hz: f64) -> Slot {
+        let header = path
+            .as_ref()
+            .and_then(|p| std::fs::read_to_string(p).ok())
+            .map(|t| leading_comments(&t))
+            .unwrap_or_default();
         let analysis = analyze(&scenario);
         let traces = Traces::new(&analysis);
         let probe = Circuit::new(&scenario).eval(probe_hz);
@@ -104,6 +127,7 @@ impl Slot {
             probe,
             path,
             dirty: false,
+            header,
         }
     }
 
@@ -598,7 +622,7 @@ impl App {
     }
 
     fn save_to(&mut self, p: &Path) {
-        let text = self.slot().scenario.to_ron();
+        let text = format!("{}{}", self.slot().header, self.slot().scenario.to_ron());
         match write_atomic(p, &text) {
             Ok(()) => {
                 let slot = &mut self.slots[self.active];
