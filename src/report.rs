@@ -75,7 +75,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             zin_mag: p.zin.and_then(|z| fin(z.norm())),
             zin_phase_deg: p.zin.and_then(|z| fin(phase_deg(z))),
             loop_mag: fin(p.loop_gain.norm()),
-            loop_phase_deg: fin(a.loop_phase_at(f_hz, p.loop_gain)),
+            loop_phase_deg: fin(a.loop_phase_at(circuit, f_hz)),
             noise_density: fin(p.noise_density()),
         },
         None => PointReport {

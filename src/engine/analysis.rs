@@ -550,21 +550,20 @@ pub fn analyze(s: &Scenario) -> Analysis {
 }
 
 impl Analysis {
-    /// Unwrapped loop phase at an arbitrary frequency, continued from the
-    /// nearest sweep point below it.
-    pub fn loop_phase_at(&self, f_hz: f64, t: C64) -> f64 {
+    /// Unwrapped loop phase (degrees) at any frequency: continued from the
+    /// nearest sweep point below it, stepping on a sweep-density grid past
+    /// the end of the sweep so no wrap is missed.
+    pub fn loop_phase_at(&self, circuit: &Circuit, f_hz: f64) -> f64 {
         let pts = &self.sweep.points;
-        let reference = match pts.iter().rposition(|p| p.f_hz <= f_hz) {
-            Some(i) => self.sweep.loop_phase_deg[i],
-            None => unwrap_near(self.dc.loop_gain, 0.0),
+        let (mut f, mut phase) = match pts.iter().rposition(|p| p.f_hz <= f_hz) {
+            Some(i) => (pts[i].f_hz, self.sweep.loop_phase_deg[i]),
+            None => (0.0, unwrap_near(self.dc.loop_gain, 0.0)),
         };
-        unwrap_near(t, reference)
-    }
-
-    /// Zout at a frequency, interpolated on the sweep (for the views).
-    pub fn zout_near(&self, f_hz: f64) -> Option<f64> {
-        let pts = &self.sweep.points;
-        let i = pts.iter().position(|p| p.f_hz >= f_hz)?;
-        Some(pts[i].zout.norm())
+        let step = 10f64.powf(1.0 / POINTS_PER_DECADE as f64);
+        while f > 0.0 && f * step < f_hz {
+            f *= step;
+            phase = unwrap_near(circuit.gain_and_loop(f).1, phase);
+        }
+        unwrap_near(circuit.gain_and_loop(f_hz).1, phase)
     }
 }

@@ -50,6 +50,18 @@ where
     Ok(())
 }
 
+/// Apply one terminal event; true when the screen must be redrawn.
+fn handle(app: &mut App, ev: Event) -> bool {
+    match ev {
+        Event::Key(k) => {
+            app.on_key(k);
+            true
+        }
+        Event::Resize(..) => true,
+        _ => false,
+    }
+}
+
 /// Open the workbench on the loaded stages (one or two).
 pub fn run(stages: Vec<(Scenario, Option<PathBuf>)>, looks: Looks) -> Result<()> {
     if !std::io::stdin().is_terminal() || !std::io::stdout().is_terminal() {
@@ -58,13 +70,17 @@ pub fn run(stages: Vec<(Scenario, Option<PathBuf>)>, looks: Looks) -> Result<()>
     let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
     let mut terminal = ratatui::try_init()?;
     let result = (|| -> Result<()> {
+        let mut redraw = true;
         while app.running {
-            draw_frame(&mut terminal, &app)?;
-            // Block until something happens: no timer, no redraw without an event.
-            match event::read()? {
-                Event::Key(k) => app.on_key(k),
-                Event::Resize(..) => {}
-                _ => continue,
+            if redraw {
+                draw_frame(&mut terminal, &app)?;
+            }
+            // Block until something happens: no timer, no redraw without an
+            // event. Events already queued (a held key over a slow link) are
+            // all applied before the next frame, so the screen keeps up.
+            redraw = handle(&mut app, event::read()?);
+            while app.running && event::poll(std::time::Duration::ZERO)? {
+                redraw |= handle(&mut app, event::read()?);
             }
         }
         Ok(())
