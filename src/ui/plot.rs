@@ -114,6 +114,28 @@ pub fn nice_linear(min: f64, max: f64, target_ticks: usize) -> ((f64, f64), Vec<
     ((lo, hi), ticks)
 }
 
+/// A phase scale in degrees with steps of 45°, 90° or 180° (whichever
+/// gives at most `max_ticks` ticks).
+pub fn phase_scale(min: f64, max: f64, max_ticks: usize) -> ((f64, f64), Vec<f64>) {
+    if !min.is_finite() || !max.is_finite() {
+        return ((-180.0, 180.0), vec![-180.0, 0.0, 180.0]);
+    }
+    let scale = |step: f64| {
+        let lo = (min / step).floor() * step;
+        let hi = ((max / step).ceil() * step).max(lo + step);
+        let n = ((hi - lo) / step).round() as usize + 1;
+        (
+            (lo, hi),
+            (0..n).map(|i| lo + step * i as f64).collect::<Vec<f64>>(),
+        )
+    };
+    [45.0, 90.0, 180.0]
+        .into_iter()
+        .map(scale)
+        .find(|(_, t)| t.len() <= max_ticks.max(2))
+        .unwrap_or_else(|| scale(360.0))
+}
+
 /// A log scale (in log10 units) covering the data, ticks at decades.
 pub fn nice_log(min_log: f64, max_log: f64, max_ticks: usize) -> ((f64, f64), Vec<f64>) {
     if !min_log.is_finite() || !max_log.is_finite() {
@@ -274,6 +296,15 @@ mod tests {
         assert_eq!(decade_ticks(0.0, 9.0, 100, 4).len(), 10);
         let few = decade_ticks(0.0, 9.0, 20, 4);
         assert!(few.len() <= 4 && few[0] == 0);
+    }
+
+    #[test]
+    fn phase_scale_steps() {
+        let ((lo, hi), t) = phase_scale(-200.0, 180.0, 5);
+        assert_eq!((lo, hi), (-360.0, 180.0));
+        assert_eq!(t, vec![-360.0, -180.0, 0.0, 180.0]);
+        let ((lo, hi), _) = phase_scale(-91.0, -1.0, 4);
+        assert_eq!((lo, hi), (-135.0, 0.0));
     }
 
     #[test]

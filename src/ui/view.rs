@@ -352,7 +352,8 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     plot(app, mag_tr, x, y, marks).render(mag, buf);
     let (plo, phi) = visible_range(ph_tr.iter().map(|t| t.points), x);
     let prow = phase.height.saturating_sub(1) as usize;
-    let y = linear_axis((plo, phi), (prow / 2).max(2), "°");
+    let (r, t) = super::plot::phase_scale(plo, phi, (prow + 1).max(2));
+    let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
     let mut marks = Vec::new();
     if let Some(f) = a.crossover_hz {
         let label = match a.phase_margin_deg {
