@@ -35,13 +35,13 @@ fn line_with<'a>(screen: &'a str, needle: &str) -> &'a str {
 fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
     let mut a = app(vec![scenario::demo()]);
     let before = screen(&a, 100, 30);
-    assert!(line_with(&before, " rf ").contains("10 kΩ"), "{before}");
+    assert!(line_with(&before, " rf ").contains("10kΩ"), "{before}");
     let gain_before = line_with(&before, "A ").to_string();
     // rf is selected at start; step it up once along E24 (IEC 60063: 10 → 11).
     assert_eq!(a.selected, loopwright::ui::params::Param::Rf);
     a.on_key(key(KeyCode::Right));
     let after = screen(&a, 100, 30);
-    assert!(line_with(&after, " rf ").contains("11 kΩ"), "{after}");
+    assert!(line_with(&after, " rf ").contains("11kΩ"), "{after}");
     let gain_after = line_with(&after, "A ").to_string();
     assert_ne!(gain_before, gain_after);
     assert!(gain_after.contains("11.99"), "{gain_after}");
@@ -200,7 +200,7 @@ fn ascii_mode_uses_plain_characters() {
     assert!(!text.contains('╭') && !text.contains('⠉'), "{text}");
     // Everything on screen is plain ASCII, units in the RKM style (10k R).
     assert!(text.is_ascii(), "{text}");
-    assert!(text.contains("10 kR"), "{text}");
+    assert!(text.contains("10kR"), "{text}");
 }
 
 /// A writer that keeps what the backend sends, so a test can count bytes.

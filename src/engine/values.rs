@@ -195,24 +195,18 @@ fn split_eng(v: f64, sig: usize) -> (f64, &'static str) {
     if v == 0.0 || !v.is_finite() {
         return (v, "");
     }
-    let mut exp3 = ((v.abs().log10() / 3.0).floor() as i32) * 3;
-    // Rounding can push 999.95 up to 1000: recompute after rounding.
     let round = |m: f64| {
         let digits = m.abs().log10().floor() as i32 + 1;
         let scale = 10f64.powi(sig as i32 - digits);
         (m * scale).round() / scale
     };
+    let mut exp3 = (((v.abs().log10() / 3.0).floor() as i32) * 3).clamp(-12, 12);
     let mut m = round(v / 10f64.powi(exp3));
-    if m.abs() >= 1000.0 {
+    // Rounding can carry 999.96 up to 1000: move to the next prefix.
+    if m.abs() >= 1000.0 && exp3 < 12 {
         exp3 += 3;
         m = round(v / 10f64.powi(exp3));
     }
-    exp3 = exp3.clamp(-12, 12);
-    let m = if (-12..=12).contains(&exp3) {
-        round(v / 10f64.powi(exp3))
-    } else {
-        m
-    };
     let prefix = PREFIXES
         .iter()
         .find(|(e, _)| *e == exp3)

@@ -253,13 +253,14 @@ impl Param {
             Param::TempC => format!("{} °C", fmt_eng_sig(s.temp_c, "", 4)),
             Param::A0 => {
                 let a0 = s.amp.a0;
-                format!("{} ({:.0} dB)", fmt_eng_sig(a0, "", 3), 20.0 * a0.log10())
+                let text = fmt_eng_sig(a0, "", 3).replace(" ", "");
+                format!("{text} ({:.0} dB)", 20.0 * a0.log10())
             }
             Param::Rf if s.stage.topology == Topology::Follower && self.get(s).is_none() => {
                 "wire".into()
             }
             p => match p.get(s) {
-                Some(v) => fmt_eng_sig(v, p.unit(), 4),
+                Some(v) => fmt_eng_sig(v, p.unit(), 4).replace(" ", ""),
                 None => "none".into(),
             },
         }
