@@ -253,3 +253,53 @@ fn one_step_sends_few_bytes() {
     );
     assert!(text.contains("\x1b[?2026l"));
 }
+
+mod random_keys {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn keys() -> impl Strategy<Value = KeyCode> {
+        // Everything but saving and opening (which would touch real files).
+        prop_oneof![
+            Just(KeyCode::Up),
+            Just(KeyCode::Down),
+            Just(KeyCode::Left),
+            Just(KeyCode::Right),
+            Just(KeyCode::Enter),
+            Just(KeyCode::Esc),
+            Just(KeyCode::Tab),
+            Just(KeyCode::Backspace),
+            Just(KeyCode::PageUp),
+            Just(KeyCode::PageDown),
+            prop::sample::select(
+                "hjkl+-=envfac[]?b0123456789.kMunpRx%y"
+                    .chars()
+                    .collect::<Vec<_>>()
+            )
+            .prop_map(KeyCode::Char),
+        ]
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(40))]
+        #[test]
+        fn any_key_sequence_keeps_a_valid_stage_and_draws(
+            seq in prop::collection::vec(keys(), 1..120),
+            w in 0u16..180,
+            h in 0u16..60,
+        ) {
+            let mut a = app(vec![scenario::demo()]);
+            let mut t = Terminal::new(TestBackend::new(w, h)).unwrap();
+            for (i, k) in seq.into_iter().enumerate() {
+                a.on_key(key(k));
+                for s in &a.slots {
+                    prop_assert!(s.scenario.validate().is_ok());
+                }
+                if i % 10 == 0 {
+                    t.draw(|f| draw(f, &a)).unwrap();
+                }
+            }
+            t.draw(|f| draw(f, &a)).unwrap();
+        }
+    }
+}
