@@ -89,32 +89,48 @@ fn failed_saves_keep_the_edits_and_the_old_file() {
     // A folder that does not exist.
     save_as(&mut a, &d.join("no/such/folder/x.ron"));
     assert!(a.status.contains("could not save"), "{}", a.status);
-    // A read-only folder: root ignores permission bits, so where the
-    // folder stays writable use a place no one may create files in.
+    // A read-only folder. Root ignores permission bits, so there the folder
+    // is also made immutable (chattr +i), which binds root too; where that
+    // is not possible either, a place no one may create files in is used.
     let ro = d.join("ro");
     std::fs::create_dir_all(&ro).unwrap();
-    let target = ro.join("stage.ron");
-    std::fs::write(&target, &original).unwrap();
+    let inside = ro.join("stage.ron");
+    std::fs::write(&inside, &original).unwrap();
     use std::os::unix::fs::PermissionsExt;
     std::fs::set_permissions(&ro, std::fs::Permissions::from_mode(0o555)).unwrap();
-    let root_can_write = std::fs::File::create(ro.join("probe")).is_ok();
-    let target = if root_can_write {
-        println!("running as root: using /proc for the read-only case");
-        let _ = std::fs::remove_file(ro.join("probe"));
+    let writable = |dir: &Path| {
+        let probe = dir.join("probe");
+        let ok = std::fs::File::create(&probe).is_ok();
+        let _ = std::fs::remove_file(&probe);
+        ok
+    };
+    let chattr = |flag: &str| {
+        std::process::Command::new("chattr")
+            .args([flag, ro.to_str().unwrap()])
+            .output()
+            .map(|o| o.status.success())
+            .unwrap_or(false)
+    };
+    if writable(&ro) {
+        chattr("+i");
+    }
+    let target = if writable(&ro) {
+        println!("cannot make a read-only folder here: using /proc instead");
         PathBuf::from("/proc/loopwright-save-test.ron")
     } else {
-        target
+        inside.clone()
     };
     save_as(&mut a, &target);
+    let read_only_ok = !writable(&ro);
+    chattr("-i");
+    std::fs::set_permissions(&ro, std::fs::Permissions::from_mode(0o755)).unwrap();
     assert!(a.status.contains("could not save"), "{}", a.status);
     assert!(a.slot().dirty, "edits kept in memory");
-    if !root_can_write {
-        assert_eq!(
-            std::fs::read_to_string(ro.join("stage.ron")).unwrap(),
-            original
-        );
+    assert_eq!(a.slot().scenario.stage.rf, Some(11_000.0));
+    if read_only_ok {
+        // The file in the read-only folder is byte-for-byte unchanged.
+        assert_eq!(std::fs::read(&inside).unwrap(), original.as_bytes());
     }
-    std::fs::set_permissions(&ro, std::fs::Permissions::from_mode(0o755)).unwrap();
     // The original file is byte-for-byte unchanged.
     assert_eq!(std::fs::read_to_string(&path).unwrap(), original);
     // No temporary files are left behind.
