@@ -28,7 +28,7 @@ fn low_phase_margin_warns_and_is_severe_below_30() {
     s.amp.fp2 = Some(0.6e6);
     let a = analyze(&s);
     let pm = a.phase_margin_deg.unwrap();
-    assert!(pm < 45.0 && pm >= 30.0, "{pm}");
+    assert!((30.0..45.0).contains(&pm), "{pm}");
     let w = find(&a, "phase-margin").unwrap();
     assert_eq!(w.severity, Severity::Warning);
     assert!(w.text.contains(&format!("{pm:.0}°")), "{}", w.text);
