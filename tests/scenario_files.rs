@@ -217,3 +217,11 @@ fn bad_file_in_the_cli_fails_cleanly() {
     assert!(out.stdout.is_empty());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn zero_output_resistance_is_rejected() {
+    // ro is a resistor of the model: zero is refused like any zero resistor.
+    let e = err(&DOC_EXAMPLE.replace("ro: 75.0", "ro: 0.0"));
+    assert_eq!(e.field.as_deref(), Some("amp.ro"), "{e}");
+    assert_eq!(e.line, Some(4));
+}

@@ -322,12 +322,7 @@ impl Scenario {
         if let Some(v) = a.cin {
             check("amp.cin", v, v >= 0.0, nonneg);
         }
-        check(
-            "amp.ro",
-            a.ro,
-            a.ro >= 0.0,
-            "must not be negative (0 means ideal)",
-        );
+        check("amp.ro", a.ro, a.ro > 0.0, pos);
         check("amp.vnoise", a.vnoise, a.vnoise >= 0.0, nonneg);
         if let Some(v) = a.vnoise_corner {
             check("amp.vnoise_corner", v, v >= 0.0, nonneg);

@@ -5,7 +5,7 @@ use loopwright::engine::scenario::{Amp, Load, Scenario, Source, Stage};
 use loopwright::engine::{Series, Topology};
 
 /// A plain non-inverting stage around a single-pole op-amp with no input
-/// capacitance, no rin, zero ro, no load and an ideal source. Tests change
+/// capacitance, no rin, a near-zero ro (1 µΩ), no load and an ideal source. Tests change
 /// the fields they need. (Values chosen for the checks; not from a part.)
 pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
     Scenario {
@@ -26,7 +26,7 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             fp2: None,
             rin: None,
             cin: None,
-            ro: 0.0,
+            ro: 1e-6,
             vnoise: 0.0,
             vnoise_corner: None,
             inoise: 0.0,
