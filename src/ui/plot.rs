@@ -41,6 +41,8 @@ pub struct LogPlot<'a> {
     pub mark_style: Style,
     /// Glyph for the y tick marks.
     pub tick: &'static str,
+    /// Whether the bottom row carries the decade labels.
+    pub x_labels: bool,
 }
 
 /// y of a trace at x, by linear interpolation.
@@ -154,7 +156,8 @@ pub fn nice_log(min_log: f64, max_log: f64, max_ticks: usize) -> ((f64, f64), Ve
 
 impl Widget for &LogPlot<'_> {
     fn render(self, area: Rect, buf: &mut Buffer) {
-        if area.width < 12 || area.height < 4 {
+        let label_rows = u16::from(self.x_labels);
+        if area.width < 12 || area.height < 2 + label_rows {
             return;
         }
         let label_w = self
@@ -167,7 +170,7 @@ impl Widget for &LogPlot<'_> {
             x: area.x + label_w + 1,
             y: area.y,
             width: area.width.saturating_sub(label_w + 1),
-            height: area.height.saturating_sub(1),
+            height: area.height.saturating_sub(label_rows),
         };
         if plot.width < 4 || plot.height < 2 {
             return;
@@ -191,7 +194,11 @@ impl Widget for &LogPlot<'_> {
             buf.set_string(plot.x - 1, row, self.tick, self.label_style);
         }
         // X labels at decades.
-        let ticks = decade_ticks(x0, x1, plot.width, 4);
+        let ticks = if self.x_labels {
+            decade_ticks(x0, x1, plot.width, 4)
+        } else {
+            Vec::new()
+        };
         let mut next_free = plot.x;
         for d in ticks {
             let label = decade_label(d, "");

@@ -36,7 +36,11 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     }
     let figures_h = if app.slots.len() > 1 { 4 } else { 2 };
     // Warnings wrap: as many rows as they need, up to 3 (4 on tall screens).
-    let cap = if area.height >= 30 { 4 } else { 3 };
+    let cap = match (area.height >= 30, app.slots.len() > 1) {
+        (true, _) => 4,
+        (false, false) => 3,
+        (false, true) => 2,
+    };
     let width = area.width.max(1) as usize;
     let needed: usize = app
         .slot()
@@ -218,6 +222,7 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .render(inner, buf);
 }
 
+/// The A/B legend for a plot title, or the view hint with one stage.
 fn legend(app: &App) -> String {
     if app.slots.len() > 1 {
         if app.theme.ascii {
@@ -226,7 +231,7 @@ fn legend(app: &App) -> String {
             "  A ─── solid  B ··· dotted".into()
         }
     } else {
-        String::new()
+        "  (v: next view)".into()
     }
 }
 
@@ -290,6 +295,7 @@ fn plot<'a>(
         label_style: app.theme.dim,
         mark_style: app.theme.marker,
         tick: if app.theme.ascii { "+" } else { "┤" },
+        x_labels: true,
     }
 }
 
@@ -314,7 +320,7 @@ fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f6
 fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let a = &app.slot().analysis;
     let loop_view = app.view == View::Loop;
-    let title = format!(" {} (v: next view){} ", app.view.title(), legend(app));
+    let title = format!(" {}{} ", app.view.title(), legend(app));
     let b = block(app, title);
     let inner = b.inner(area);
     b.render(area, buf);
@@ -334,7 +340,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
     let hi_axis = hi + 5.0;
     let lo_axis = lo.max(hi - 100.0);
-    let rows = mag.height.saturating_sub(1) as usize;
+    let rows = mag.height as usize;
     let y = linear_axis((lo_axis, hi_axis), (rows / 2).max(2), "dB");
     let mut marks = Vec::new();
     if let Some(f) = a.f_3db_hz.filter(|_| !loop_view) {
@@ -349,10 +355,13 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             label: "fc".into(),
         });
     }
-    plot(app, mag_tr, x, y, marks).render(mag, buf);
+    // The magnitude shares its frequency axis with the phase plot below.
+    let mut mag_plot = plot(app, mag_tr, x, y, marks);
+    mag_plot.x_labels = false;
+    mag_plot.render(mag, buf);
     let (plo, phi) = visible_range(ph_tr.iter().map(|t| t.points), x);
     let prow = phase.height.saturating_sub(1) as usize;
-    let (r, t) = super::plot::phase_scale(plo, phi, (prow + 1).max(2));
+    let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
     let mut marks = Vec::new();
     if let Some(f) = a.crossover_hz {
@@ -370,7 +379,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let s = &app.slot().scenario;
-    let title = format!(" {} V/√Hz (v: next view){} ", app.view.title(), legend(app));
+    let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
     let b = block(app, title);
     let inner = b.inner(area);
     b.render(area, buf);
@@ -395,7 +404,12 @@ fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 }
 
 fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let title = format!(" Impedance |Zout| |Zin| Ω{} ", legend(app));
+    let ab = if app.slots.len() > 1 {
+        legend(app)
+    } else {
+        String::new()
+    };
+    let title = format!(" Impedance |Zout| |Zin| Ω{ab} ");
     let b = block(app, title);
     let inner = b.inner(area);
     b.render(area, buf);
