@@ -169,7 +169,7 @@ pub enum StatusKind {
     Error,
 }
 
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Prompt {
     SaveAs,
     Probe,
@@ -374,9 +374,7 @@ impl App {
                 }
             }
             Mode::Prompt(kind, buf) => {
-                let k = kind.clone();
-                if let Some(text) = self.on_text_key(key, buf, move |b| Mode::Prompt(k.clone(), b))
-                {
+                if let Some(text) = self.on_text_key(key, buf, move |b| Mode::Prompt(kind, b)) {
                     match kind {
                         Prompt::SaveAs => self.save_as(&text),
                         Prompt::Probe => self.set_probe(&text),
