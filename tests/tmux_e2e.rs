@@ -94,6 +94,15 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
     assert!(done.contains("EXIT=0"), "{done}");
     assert!(!done.contains("-icanon"), "raw mode left on:\n{done}");
+    // Cursor shown again and the alternate screen left.
+    let flags = tmux(&[
+        "display-message",
+        "-p",
+        "-t",
+        &s.0,
+        "#{cursor_flag} #{alternate_on}",
+    ]);
+    assert_eq!(flags.trim(), "1 0", "cursor flag and alternate screen");
 }
 
 #[test]

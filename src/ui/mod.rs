@@ -68,6 +68,13 @@ pub fn run(stages: Vec<(Scenario, Option<PathBuf>)>, looks: Looks) -> Result<()>
         bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
     }
     let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
+    // ratatui's own hook (installed by try_init) leaves raw mode and the
+    // alternate screen on a panic, then calls this one: show the cursor too.
+    let default_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        let _ = ratatui::crossterm::execute!(std::io::stdout(), ratatui::crossterm::cursor::Show);
+        default_hook(info);
+    }));
     let mut terminal = ratatui::try_init()?;
     let result = (|| -> Result<()> {
         let mut redraw = true;
@@ -86,5 +93,6 @@ pub fn run(stages: Vec<(Scenario, Option<PathBuf>)>, looks: Looks) -> Result<()>
         Ok(())
     })();
     ratatui::try_restore()?;
+    ratatui::crossterm::execute!(std::io::stdout(), ratatui::crossterm::cursor::Show)?;
     result
 }
