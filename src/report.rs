@@ -257,7 +257,7 @@ pub fn write_text(r: &Report, s: &Scenario, a: &Analysis, w: &mut impl Write) ->
         "  Zin at DC     {}",
         a.zin_dc_ohm
             .map(|z| fmt_eng(z, "Ω"))
-            .unwrap_or_else(|| "open".into())
+            .unwrap_or_else(|| "open (no DC path, or above 1 PΩ)".into())
     )?;
     writeln!(w)?;
     writeln!(
