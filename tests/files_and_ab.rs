@@ -260,10 +260,25 @@ fn archetypes_are_valid_and_a_key_applies_them() {
     assert!(text.matches("typical, from memory").count() >= list.len());
     let mut a = demo_app(None);
     a.on_key(key(KeyCode::Char('a')));
+    let text = screen(&a);
+    for arch in &list {
+        assert!(text.contains(&arch.name), "picker lists {}", arch.name);
+    }
+    a.on_key(key(KeyCode::Enter));
     assert_eq!(a.slot().scenario.amp, list[0].amp);
     assert!(a.status.contains(&list[0].name));
     a.on_key(key(KeyCode::Char('a')));
+    a.on_key(key(KeyCode::Down));
+    a.on_key(key(KeyCode::Enter));
     assert_eq!(a.slot().scenario.amp, list[1].amp);
+    // Esc leaves the amplifier alone; its parameters stay editable.
+    a.on_key(key(KeyCode::Char('a')));
+    a.on_key(key(KeyCode::Down));
+    a.on_key(key(KeyCode::Esc));
+    assert_eq!(a.slot().scenario.amp, list[1].amp);
+    a.selected = loopwright::ui::params::Param::Gbw;
+    a.on_key(key(KeyCode::Right));
+    assert_ne!(a.slot().scenario.amp.gbw, list[1].amp.gbw);
 }
 
 #[test]

@@ -202,13 +202,14 @@ fn rkm_code_examples() {
 
 #[test]
 fn si_prefixes() {
-    // SI prefixes (SI Brochure, 9th edition): p 1e-12, n 1e-9, µ 1e-6, m 1e-3, k 1e3, M 1e6, G 1e9.
+    // SI prefixes (SI Brochure, 9th edition): f 1e-15, p 1e-12, n 1e-9, µ 1e-6, m 1e-3, k 1e3, M 1e6, G 1e9.
     let cases = [
         ("4.7k", 4_700.0),
         ("100n", 100.0e-9),
         ("2.2u", 2.2e-6),
         ("2.2µ", 2.2e-6),
         ("10p", 10.0e-12),
+        ("5f", 5.0e-15),
         ("1.5M", 1.5e6),
         ("1G", 1.0e9),
         ("0.5m", 0.5e-3),

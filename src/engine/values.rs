@@ -32,6 +32,7 @@ fn err(text: &str, reason: impl Into<String>) -> ValueError {
 /// Multiplier letters: SI prefixes plus the RKM `R` (×1).
 fn multiplier(c: char) -> Option<f64> {
     Some(match c {
+        'f' => 1e-15,
         'p' => 1e-12,
         'n' => 1e-9,
         'u' | 'µ' | 'μ' => 1e-6,
@@ -48,7 +49,8 @@ fn multiplier(c: char) -> Option<f64> {
 /// Unit words accepted after a value (`4.7kΩ`, `100nF`, `1 kHz`).
 const UNITS: &[&str] = &["Ω", "ohms", "ohm", "Ohm", "F", "Hz", "V", "A", "s"];
 
-/// Parse a number written with an optional SI prefix (`4.7k`, `100n`,
+/// Parse a number written with an optional SI prefix (f p n u/µ m k M G T:
+/// `4.7k`, `100n`,
 /// `2.2u`, `1e3`) or in the IEC 60062 RKM code (`4k7`, `2R2`, `1M0`, `470R`,
 /// `6n8`, `R47`). A trailing unit (`Ω`, `F`, `Hz`, ...) is allowed.
 pub fn parse_value(text: &str) -> Result<f64, ValueError> {
@@ -177,7 +179,8 @@ pub fn parse_non_negative(text: &str) -> Result<f64, ValueError> {
     Ok(v)
 }
 
-const PREFIXES: [(i32, &str); 9] = [
+const PREFIXES: [(i32, &str); 10] = [
+    (-15, "f"),
     (-12, "p"),
     (-9, "n"),
     (-6, "µ"),
@@ -200,7 +203,7 @@ fn split_eng(v: f64, sig: usize) -> (f64, &'static str) {
         let scale = 10f64.powi(sig as i32 - digits);
         (m * scale).round() / scale
     };
-    let mut exp3 = (((v.abs().log10() / 3.0).floor() as i32) * 3).clamp(-12, 12);
+    let mut exp3 = (((v.abs().log10() / 3.0).floor() as i32) * 3).clamp(-15, 12);
     let mut m = round(v / 10f64.powi(exp3));
     // Rounding can carry 999.96 up to 1000: move to the next prefix.
     if m.abs() >= 1000.0 && exp3 < 12 {

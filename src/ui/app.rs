@@ -184,6 +184,8 @@ pub enum Mode {
     Prompt(Prompt, String),
     /// Choosing a file to open: the list, the selection, a typed path.
     Open(Vec<PathBuf>, usize, String),
+    /// Choosing an amplifier archetype: the highlighted entry.
+    Pick(usize),
     Help,
     ConfirmQuit,
 }
@@ -382,6 +384,15 @@ impl App {
                 }
             }
             Mode::Open(files, sel, buf) => self.on_open_key(key, files, sel, buf),
+            Mode::Pick(sel) => match key.code {
+                KeyCode::Up | KeyCode::Char('k') => self.mode = Mode::Pick(sel.saturating_sub(1)),
+                KeyCode::Down | KeyCode::Char('j') => {
+                    let last = self.archetypes.len().saturating_sub(1);
+                    self.mode = Mode::Pick((sel + 1).min(last));
+                }
+                KeyCode::Enter => self.apply_archetype(sel),
+                _ => self.info("amplifier unchanged"),
+            },
         }
     }
 
@@ -532,7 +543,14 @@ impl App {
                 self.mode = Mode::Open(files, 0, String::new());
                 self.info("open: ↑↓ choose, or type a path; Enter opens, Esc cancels");
             }
-            KeyCode::Char('a') => self.next_archetype(),
+            KeyCode::Char('a') => {
+                if self.archetypes.is_empty() {
+                    self.error("no amplifier archetypes found");
+                } else {
+                    self.mode = Mode::Pick(self.archetype);
+                    self.info("amplifier archetype: ↑↓ choose, Enter applies, Esc cancels");
+                }
+            }
             KeyCode::Char('c') => self.copy_to_other(),
             KeyCode::Tab | KeyCode::Char('b') => {
                 if self.slots.len() > 1 {
@@ -561,19 +579,18 @@ impl App {
         }
     }
 
-    fn next_archetype(&mut self) {
-        if self.archetypes.is_empty() {
+    fn apply_archetype(&mut self, i: usize) {
+        let Some(arch) = self.archetypes.get(i).cloned() else {
             self.error("no amplifier archetypes found");
             return;
-        }
-        let arch = self.archetypes[self.archetype % self.archetypes.len()].clone();
-        self.archetype = (self.archetype + 1) % self.archetypes.len();
+        };
+        self.archetype = i;
         self.change("amplifier", |s| {
             s.amp = arch.amp.clone();
             Ok(())
         });
         self.info(format!(
-            "{}: amplifier set to the {} archetype (typical values; a again for the next)",
+            "{}: amplifier set to the {} archetype (typical values; every parameter stays editable)",
             Self::slot_label(self.active),
             arch.name
         ));

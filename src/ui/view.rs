@@ -77,6 +77,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     match &app.mode {
         Mode::Help => help_overlay(app, area, buf),
         Mode::Open(files, sel, typed) => open_overlay(app, area, buf, files, *sel, typed),
+        Mode::Pick(sel) => pick_overlay(app, area, buf, *sel),
         _ => {}
     }
     if app.theme.ascii {
@@ -661,7 +662,7 @@ pub const KEYS: [(&str, &str); 19] = [
     ("v", "next plot view: response / loop gain / noise density"),
     ("f", "frequency of the Zout figure"),
     ("[ ]  PgUp PgDn", "scroll the warnings"),
-    ("a", "amplifier: next archetype (typical values)"),
+    ("a", "amplifier: pick a generic archetype (typical values)"),
     ("c", "copy this stage into the other slot (A ↔ B)"),
     ("Tab  b", "switch between A and B"),
     ("w", "save to the stage's file"),
@@ -746,6 +747,43 @@ fn open_overlay(
             app.theme.dim,
         ));
     }
+    Paragraph::new(lines).render(inner, buf);
+}
+
+fn pick_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, sel: usize) {
+    let h = (app.archetypes.len() as u16 + 3).min(area.height.saturating_sub(2));
+    let r = centered(area, 72, h);
+    Clear.render(r, buf);
+    let b = block(app, " Amplifier archetype (typical values, ↑↓ Enter, Esc) ");
+    let inner = b.inner(r);
+    b.render(r, buf);
+    let mut lines: Vec<Line> = app
+        .archetypes
+        .iter()
+        .enumerate()
+        .map(|(i, a)| {
+            let style = if i == sel {
+                app.theme.selected
+            } else {
+                app.theme.normal
+            };
+            let m = &a.amp;
+            Line::styled(
+                format!(
+                    "  {:<24} gbw {:>7}  en {:>6}/√Hz  in {:>6}/√Hz",
+                    a.name,
+                    compact(m.gbw, "Hz"),
+                    compact(m.vnoise, "V"),
+                    compact(m.inoise, "A")
+                ),
+                style,
+            )
+        })
+        .collect();
+    lines.push(Line::styled(
+        "  check the data sheet of the part you use",
+        app.theme.dim,
+    ));
     Paragraph::new(lines).render(inner, buf);
 }
 
