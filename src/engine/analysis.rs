@@ -3,7 +3,7 @@
 
 use super::netlist::{Coupling, Netlist};
 use super::scenario::{present, Scenario};
-use super::solver::{Lu, MAXN, ZERO};
+use super::solver::{Lu, Vector, MAXN, ZERO};
 use super::warnings::{self, Warning};
 use num_complex::Complex64 as C64;
 use std::cell::RefCell;
@@ -80,21 +80,31 @@ impl Circuit {
         })
     }
 
-    /// Closed-loop gain and loop gain only (for the refinements), or zeros
-    /// where the matrix is singular.
-    pub fn gain_and_loop(&self, f_hz: f64) -> (C64, C64) {
+    /// The gain solve (source EMF = 1 V) and the amplifier-row solve in
+    /// one pass: the solution vector, the closed-loop gain and the loop
+    /// gain (Sherman–Morrison: T = A·y/(1 − A·y)).
+    fn gain_and_loop_solve(&self, lu: &Lu, s: C64) -> (Vector, C64, C64) {
         let net = &self.net;
-        let s = C64::new(0.0, 2.0 * PI * f_hz);
-        let Some(lu) = self.factor_at(s) else {
-            return (ZERO, ZERO);
-        };
         let mut e = [ZERO; MAXN];
         e[net.amp_row] = C64::new(1.0, 0.0);
         let (mut x, mut w) = ([ZERO; MAXN], [ZERO; MAXN]);
         lu.solve_pair(&net.drive_rhs(), &e, &mut x, &mut w);
         let gain = Netlist::node_v(&x[..net.dim], net.out);
         let ay = net.loop_factor(s) * net.minus_vd(&w[..net.dim]);
-        (gain, ay / (C64::new(1.0, 0.0) - ay))
+        (x, gain, ay / (C64::new(1.0, 0.0) - ay))
+    }
+
+    /// Closed-loop gain and loop gain only (for the refinements), or zeros
+    /// where the matrix is singular.
+    pub fn gain_and_loop(&self, f_hz: f64) -> (C64, C64) {
+        let s = C64::new(0.0, 2.0 * PI * f_hz);
+        match self.factor_at(s) {
+            Some(lu) => {
+                let (_, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
+                (gain, loop_gain)
+            }
+            None => (ZERO, ZERO),
+        }
     }
 
     /// Solve at frequency f (f = 0 is DC). None if the matrix is singular.
@@ -104,12 +114,8 @@ impl Circuit {
         let lu = self.factor_at(s)?;
         let n = net.dim;
 
-        // Gain and Zin: source EMF = 1 V.
-        let mut e = [ZERO; MAXN];
-        e[net.amp_row] = C64::new(1.0, 0.0);
-        let (mut x, mut w) = ([ZERO; MAXN], [ZERO; MAXN]);
-        lu.solve_pair(&net.drive_rhs(), &e, &mut x, &mut w);
-        let gain = Netlist::node_v(&x[..n], net.out);
+        // Gain, loop gain and Zin: source EMF = 1 V.
+        let (x, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
         let i_in = net.source_current(&x[..n]);
         let v_term = Netlist::node_v(&x[..n], net.term);
         let zin = if i_in == ZERO {
@@ -119,10 +125,6 @@ impl Circuit {
             let m2 = z.norm_sqr();
             (m2.is_finite() && m2 < ZIN_OPEN_OHM * ZIN_OPEN_OHM).then_some(z)
         };
-
-        // Loop gain by Sherman–Morrison on the amplifier row.
-        let ay = net.loop_factor(s) * net.minus_vd(&w[..n]);
-        let loop_gain = ay / (C64::new(1.0, 0.0) - ay);
 
         // Adjoint: transimpedance from every node/branch to V(out).
         let mut z = [ZERO; MAXN];
