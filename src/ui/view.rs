@@ -435,10 +435,6 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     plot(app, tr, x, y, Vec::new()).render(inner, buf);
 }
 
-struct Figures {
-    cells: Vec<String>,
-}
-
 fn figure_cells(s: &Slot) -> Vec<String> {
     let a = &s.analysis;
     let opt = |v: Option<f64>, f: &dyn Fn(f64) -> String| v.map(f).unwrap_or_else(|| "—".into());
@@ -511,27 +507,19 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     .iter()
     .map(|s| s.to_string())
     .collect();
-    let mut rows: Vec<(String, Figures)> = Vec::new();
-    for (i, s) in app.slots.iter().enumerate() {
-        rows.push((
-            App::slot_label(i).to_string(),
-            Figures {
-                cells: figure_cells(s),
-            },
-        ));
-    }
+    let mut rows: Vec<(&str, Vec<String>)> = app
+        .slots
+        .iter()
+        .enumerate()
+        .map(|(i, s)| (App::slot_label(i), figure_cells(s)))
+        .collect();
     if app.slots.len() > 1 {
-        rows.push((
-            "Δ".into(),
-            Figures {
-                cells: delta_cells(&app.slots[0], &app.slots[1]),
-            },
-        ));
+        rows.push(("Δ", delta_cells(&app.slots[0], &app.slots[1])));
     }
     let widths: Vec<usize> = (0..header.len())
         .map(|c| {
             rows.iter()
-                .map(|(_, f)| f.cells[c].chars().count())
+                .map(|(_, cells)| cells[c].chars().count())
                 .chain(std::iter::once(header[c].chars().count()))
                 .max()
                 .unwrap_or(4)
@@ -543,9 +531,9 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         head.push(Span::styled(format!(" {h:>w$}"), t.dim));
     }
     lines.push(Line::from(head));
-    for (label, f) in rows {
+    for (label, cells) in rows {
         let mut spans = vec![Span::styled(format!("{label:<2}"), t.title)];
-        for (c, w) in f.cells.iter().zip(&widths) {
+        for (c, w) in cells.iter().zip(&widths) {
             spans.push(Span::raw(format!(" {c:>w$}")));
         }
         lines.push(Line::from(spans));
