@@ -48,7 +48,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .warnings
         .iter()
         .skip(app.warn_scroll)
-        .map(|w| (w.text.chars().count() + w.code.len() + 12).div_ceil(width))
+        .map(|w| warning_rows(w, width))
         .sum();
     let n_warn = needed.clamp(1, cap) as u16;
     let [title, body, figures, warnings, status] = Layout::vertical([
@@ -541,6 +541,11 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     Paragraph::new(lines).render(area, buf);
 }
 
+/// Rows a warning takes when wrapped to `width` (symbol, severity, code, text).
+fn warning_rows(w: &crate::engine::Warning, width: usize) -> usize {
+    (w.text.chars().count() + w.code.len() + 12).div_ceil(width.max(1))
+}
+
 fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let w = &app.slot().analysis.warnings;
@@ -549,7 +554,7 @@ fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let mut rows = 0;
     let mut shown = 0;
     for x in w.iter().skip(app.warn_scroll) {
-        rows += (x.text.chars().count() + x.code.len() + 12).div_ceil(width);
+        rows += warning_rows(x, width);
         if rows > area.height.saturating_sub(1) as usize && shown > 0 {
             break;
         }
