@@ -28,13 +28,6 @@ fn screen(app: &App) -> String {
     buffer_text(t.backend().buffer()).join("\n")
 }
 
-fn tmp(name: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("lw-{name}-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&d);
-    std::fs::create_dir_all(&d).unwrap();
-    d
-}
-
 fn demo_app(path: Option<PathBuf>) -> App {
     App::new(vec![(scenario::demo(), path)], Theme::new(false, false))
 }
@@ -50,7 +43,7 @@ fn save_as(a: &mut App, path: &Path) {
 
 #[test]
 fn save_as_adds_ron_and_the_file_reloads_equal() {
-    let d = tmp("saveas");
+    let d = common::temp_dir("saveas");
     let mut a = demo_app(None);
     a.on_key(key(KeyCode::Right)); // rf 10k -> 11k, now modified
     assert!(screen(&a).contains("[modified]"));
@@ -73,7 +66,7 @@ fn save_as_adds_ron_and_the_file_reloads_equal() {
 
 #[test]
 fn failed_saves_keep_the_edits_and_the_old_file() {
-    let d = tmp("ro");
+    let d = common::temp_dir("ro");
     let path = d.join("stage.ron");
     let original = scenario::demo().to_ron();
     std::fs::write(&path, &original).unwrap();
@@ -145,7 +138,7 @@ fn failed_saves_keep_the_edits_and_the_old_file() {
 
 #[test]
 fn saving_keeps_the_comment_at_the_top() {
-    let d = tmp("comment");
+    let d = common::temp_dir("comment");
     let path = d.join("c.ron");
     let src = std::fs::read_to_string(concat!(
         env!("CARGO_MANIFEST_DIR"),
@@ -169,7 +162,7 @@ fn saving_keeps_the_comment_at_the_top() {
 
 #[test]
 fn saving_over_a_file_leaves_a_complete_valid_file() {
-    let d = tmp("over");
+    let d = common::temp_dir("over");
     let path = d.join("s.ron");
     std::fs::write(&path, "(broken").unwrap();
     let mut s = scenario::demo();
@@ -185,7 +178,7 @@ fn saving_over_a_file_leaves_a_complete_valid_file() {
 
 #[test]
 fn broken_files_report_position_and_keep_the_open_scenario() {
-    let d = tmp("broken");
+    let d = common::temp_dir("broken");
     let good = scenario::DEMO_RON;
     let cases = [
         ("cut.ron", good[..good.len() / 2].to_string()),

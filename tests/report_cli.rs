@@ -1,7 +1,7 @@
 //! The headless `report` command: JSON keys, units, nulls and phases.
 
 mod common;
-use common::bin;
+use common::{bin, temp_dir};
 use serde_json::Value;
 
 fn json(args: &[&str]) -> Value {
@@ -79,8 +79,7 @@ fn points_at_frequencies_in_engineering_notation() {
 
 #[test]
 fn inverting_gain_phase_is_180_and_loop_phase_unwraps() {
-    let dir = std::env::temp_dir().join(format!("lw-inv-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("inv");
     let path = dir.join("inv.ron");
     std::fs::write(
         &path,
@@ -111,8 +110,7 @@ fn inverting_gain_phase_is_180_and_loop_phase_unwraps() {
 
 #[test]
 fn open_input_is_null() {
-    let dir = std::env::temp_dir().join(format!("lw-open-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("open");
     let path = dir.join("open.ron");
     std::fs::write(
         &path,

@@ -197,8 +197,7 @@ fn every_library_scenario_loads_analyses_and_round_trips() {
 
 #[test]
 fn bad_file_in_the_cli_fails_cleanly() {
-    let dir = std::env::temp_dir().join(format!("lw-bad-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = common::temp_dir("bad");
     let path = dir.join("bad.ron");
     std::fs::write(&path, DOC_EXAMPLE.replace("rg: 1000.0", "rg: -1.0")).unwrap();
     let out = bin().arg("report").arg(&path).output().unwrap();

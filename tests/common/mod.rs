@@ -64,3 +64,11 @@ pub fn assert_rel(what: &str, got: f64, want: f64, tol: f64) {
 pub fn bin() -> std::process::Command {
     std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
 }
+
+/// A fresh, empty folder for one test (named after it and the process).
+pub fn temp_dir(name: &str) -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("lw-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
