@@ -162,3 +162,25 @@ fn no_color_sends_no_colour_codes() {
         "severe warnings are red in colour mode"
     );
 }
+
+#[test]
+fn terminal_is_restored_after_a_panic() {
+    // The test binary is a debug build, where LOOPWRIGHT_TEST_PANIC makes `!` panic.
+    let Some(s) = start_with("lw_e2e_panic", "LOOPWRIGHT_TEST_PANIC=1", "") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "!"]);
+    let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
+    assert!(done.contains("deliberate test panic"), "{done}");
+    assert!(!done.contains("EXIT=0"), "{done}");
+    assert!(!done.contains("-icanon"), "raw mode left on:\n{done}");
+    let flags = tmux(&[
+        "display-message",
+        "-p",
+        "-t",
+        &s.0,
+        "#{cursor_flag} #{alternate_on}",
+    ]);
+    assert_eq!(flags.trim(), "1 0", "cursor flag and alternate screen");
+}

@@ -53,6 +53,15 @@ where
 /// Apply one terminal event; true when the screen must be redrawn.
 fn handle(app: &mut App, ev: Event) -> bool {
     match ev {
+        // Debug builds only: a deliberate panic, so the tests can check that
+        // the terminal is restored on that path too.
+        #[cfg(debug_assertions)]
+        Event::Key(k)
+            if k.code == event::KeyCode::Char('!')
+                && std::env::var_os("LOOPWRIGHT_TEST_PANIC").is_some() =>
+        {
+            panic!("deliberate test panic");
+        }
         Event::Key(k) => {
             app.on_key(k);
             true
