@@ -53,6 +53,8 @@ pub struct Report {
     pub gain_margin_db: Option<f64>,
     pub zout_dc_ohm: Option<f64>,
     pub zin_dc_ohm: Option<f64>,
+    /// |Zout| at 1 kHz, the workbench's default probe frequency.
+    pub zout_1khz_ohm: Option<f64>,
     pub noise_density_1khz: Option<f64>,
     pub noise_rms: Option<f64>,
     pub loop_gain_dc: Option<f64>,
@@ -109,6 +111,7 @@ impl Report {
             gain_margin_db: fin_opt(a.gain_margin_db),
             zout_dc_ohm: fin(a.zout_dc_ohm),
             zin_dc_ohm: fin_opt(a.zin_dc_ohm),
+            zout_1khz_ohm: circuit.eval(1.0e3).and_then(|p| fin(p.zout.norm())),
             noise_density_1khz: fin(a.noise_density_1khz),
             noise_rms: fin(a.noise_rms),
             loop_gain_dc: fin(a.loop_gain_dc),
@@ -370,6 +373,7 @@ impl Comparison {
                 ("phase_margin_deg", r.phase_margin_deg),
                 ("gain_margin_db", r.gain_margin_db),
                 ("zout_dc_ohm", r.zout_dc_ohm),
+                ("zout_1khz_ohm", r.zout_1khz_ohm),
                 ("noise_rms", r.noise_rms),
                 ("warnings", Some(r.warnings.len() as f64)),
             ]
@@ -426,6 +430,7 @@ impl Comparison {
                 "phase_margin_deg" => ("phase margin °", "°"),
                 "gain_margin_db" => ("gain margin dB", "dB"),
                 "zout_dc_ohm" => ("Zout at DC", "Ω"),
+                "zout_1khz_ohm" => ("|Zout| at 1 kHz", "Ω"),
                 "noise_rms" => ("noise rms", "V"),
                 _ => ("warnings", "#"),
             };

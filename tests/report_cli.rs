@@ -71,8 +71,9 @@ fn points_at_frequencies_in_engineering_notation() {
         let ph = p["gain_phase_deg"].as_f64().unwrap();
         assert!(ph > -180.0 && ph <= 180.0);
     }
-    // The same figure at 1 kHz as the summary's noise density.
+    // The same figures at 1 kHz as the summary's.
     assert_eq!(pts[0]["noise_density"], v["noise_density_1khz"]);
+    assert_eq!(pts[0]["zout_mag"], v["zout_1khz_ohm"]);
     // Loop phase is unwrapped from DC: below −90° at 2.5 MHz for this two-pole model.
     assert!(pts[1]["loop_phase_deg"].as_f64().unwrap() < -90.0);
 }
