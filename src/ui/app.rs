@@ -93,6 +93,8 @@ pub struct Slot {
     /// The comment lines at the top of the file it came from, written back
     /// on save so a designer's notes are not lost.
     pub header: String,
+    /// What to call the stage while it has no file.
+    pub untitled: String,
 }
 
 /// The leading `//` comment lines of a scenario file.
@@ -128,6 +130,7 @@ impl Slot {
             path,
             dirty: false,
             header,
+            untitled: "(built-in demo)".into(),
         }
     }
 
@@ -142,7 +145,7 @@ impl Slot {
             .as_ref()
             .and_then(|p| p.file_name())
             .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_else(|| "(built-in demo)".into())
+            .unwrap_or_else(|| self.untitled.clone())
     }
 }
 
@@ -601,6 +604,7 @@ impl App {
         copy.dirty = true;
         copy.path = None;
         let from = Self::slot_label(self.active);
+        copy.untitled = format!("(copy of {from}, not saved)");
         if self.slots.len() == 1 {
             self.slots.push(copy);
         } else {
