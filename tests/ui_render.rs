@@ -303,3 +303,25 @@ mod random_keys {
         }
     }
 }
+
+#[test]
+fn follower_rf_can_be_a_resistor_or_a_wire() {
+    let mut s = scenario::demo();
+    loopwright::ui::params::set_topology(&mut s, loopwright::engine::Topology::Follower);
+    s.stage.rf = None;
+    let mut a = app(vec![s]);
+    let text = screen(&a, 100, 30);
+    assert!(line_with(&text, " rf ").contains("wire"), "{text}");
+    assert!(!text.contains(" rg "), "a follower has no rg row");
+    a.on_key(key(KeyCode::Right));
+    assert_eq!(a.slot().scenario.stage.rf, Some(1000.0));
+    a.on_key(key(KeyCode::Enter));
+    for _ in 0..10 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    for c in "wire".chars() {
+        a.on_key(key(KeyCode::Char(c)));
+    }
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.stage.rf, None);
+}

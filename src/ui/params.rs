@@ -322,7 +322,10 @@ impl Param {
             }
             _ => {}
         }
-        if self.optional() && (t.is_empty() || t.eq_ignore_ascii_case("none")) {
+        let follower_wire = self == Param::Rf && s.stage.topology == Topology::Follower;
+        if (self.optional() || follower_wire)
+            && (t.is_empty() || t.eq_ignore_ascii_case("none") || t.eq_ignore_ascii_case("wire"))
+        {
             self.set(s, None);
             return Ok(());
         }
