@@ -180,7 +180,10 @@ fn view_toggle_and_select_with_vi_keys() {
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 100, 30).contains("Loop gain"));
     a.on_key(key(KeyCode::Char('v')));
-    assert!(screen(&a, 100, 30).contains("Output noise density"));
+    let text = screen(&a, 100, 30);
+    assert!(text.contains("Output noise density"));
+    // The biggest contributors are named with their share of the band power.
+    assert!(text.contains("amp voltage noise 86%"), "{text}");
     a.on_key(key(KeyCode::Char('k')));
     assert_eq!(a.selected, loopwright::ui::params::Param::Rg);
     a.on_key(key(KeyCode::Char('h')));

@@ -310,12 +310,22 @@ fn linear_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<
 
 fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f64, String)>) {
     let (r, t) = nice_log(range.0, range.1, ticks);
-    (
-        r,
-        t.into_iter()
-            .map(|v| (v, decade_label(v as i32, unit)))
-            .collect(),
-    )
+    let mut labelled: Vec<(f64, String)> = t
+        .into_iter()
+        .map(|v| (v, decade_label(v as i32, unit)))
+        .collect();
+    // With two decades or fewer, also mark 2 and 5 within each decade.
+    if r.1 - r.0 <= 2.0 && ticks >= 4 {
+        let mut d = r.0;
+        while d < r.1 {
+            for m in [2.0f64, 5.0] {
+                let v = d + m.log10();
+                labelled.push((v, compact(10f64.powf(v), unit)));
+            }
+            d += 1.0;
+        }
+    }
+    (r, labelled)
 }
 
 fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -381,7 +391,22 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let s = &app.slot().scenario;
     let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
-    let b = block(app, title);
+    let mut shares: Vec<_> = app.slot().analysis.noise_sources.iter().collect();
+    shares.sort_by(|a, b| b.share.total_cmp(&a.share));
+    let top: Vec<String> = shares
+        .iter()
+        .take(3)
+        .filter(|n| n.share >= 0.005)
+        .map(|n| format!("{} {:.0}%", n.label, n.share * 100.0))
+        .collect();
+    let b = block(app, title).title_bottom(Line::styled(
+        format!(
+            " band rms {}: {} ",
+            compact(app.slot().analysis.noise_rms, "V"),
+            top.join(", ")
+        ),
+        app.theme.dim,
+    ));
     let inner = b.inner(area);
     b.render(area, buf);
     let x = (
