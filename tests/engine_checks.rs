@@ -354,3 +354,87 @@ fn load_capacitance_cost_is_the_margin_it_takes() {
     assert!(w.text.contains("1 nF"), "{}", w.text);
     assert!(without - a.phase_margin_deg.unwrap() > 20.0);
 }
+
+#[test]
+fn asymptotic_gain_formula_ties_gain_to_the_return_ratio() {
+    // Asymptotic-gain model (Rosenstark; Middlebrook's feedback theorem),
+    // exact for the return ratio T of one controlled source:
+    //   H = H∞·T/(1 + T) + H0/(1 + T),
+    // H∞ the gain with A → ∞, H0 the gain with A = 0. Checked on the demo
+    // (rin, cin, cf, ro, source r and a capacitive load all present) and on
+    // an inverting stage with riso, at frequencies across the loop's range.
+    let mut demo = loopwright::engine::scenario::demo();
+    demo.amp.fp2 = None;
+    let mut inv = demo.clone();
+    inv.stage.topology = Topology::Inverting;
+    inv.stage.riso = Some(47.0);
+    for base in [demo, inv] {
+        let with_a = |a0: f64, gbw: f64| {
+            let mut s = base.clone();
+            s.amp.a0 = a0;
+            s.amp.gbw = gbw;
+            Circuit::new(&s)
+        };
+        let real = Circuit::new(&base);
+        // A → ∞ everywhere: huge a0 with the pole pushed far out.
+        let inf = with_a(1e15, 1e24);
+        // A → 0: a tiny a0 (the pole frequency does not matter then).
+        let zero = with_a(1e-15, 1.0);
+        for f in [1.0, 1e3, 3e4, 1e5, 3e5, 1e6, 1e7] {
+            let p = real.eval(f).unwrap();
+            let h_inf = inf.eval(f).unwrap().gain;
+            let h0 = zero.eval(f).unwrap().gain;
+            let t = p.loop_gain;
+            let one = num_complex::Complex64::new(1.0, 0.0);
+            let want = h_inf * t / (one + t) + h0 / (one + t);
+            assert!(
+                (p.gain - want).norm() <= 1e-7 * want.norm().max(1e-12),
+                "{:?} at {f} Hz: {} vs {}",
+                base.stage.topology,
+                p.gain,
+                want
+            );
+        }
+    }
+}
+
+#[test]
+fn blackman_formula_for_the_output_impedance() {
+    // Blackman's impedance formula (textbook feedback theory):
+    //   Zout = Zout(A = 0) · (1 + T_short)/(1 + T_open),
+    // with T the return ratio when the output port is shorted or left open.
+    // The engine's Zout (load removed) must agree at every frequency.
+    let mut demo = loopwright::engine::scenario::demo();
+    demo.amp.fp2 = Some(10e6);
+    let mut inv = demo.clone();
+    inv.stage.topology = Topology::Inverting;
+    inv.stage.riso = Some(47.0);
+    for base in [demo, inv] {
+        let variant = |a0: Option<f64>, load_r: Option<f64>| {
+            let mut s = base.clone();
+            if let Some(a0) = a0 {
+                s.amp.a0 = a0;
+            }
+            s.load.r = load_r;
+            s.load.c = None;
+            Circuit::new(&s)
+        };
+        let real = Circuit::new(&base);
+        let open = variant(None, None);
+        let short = variant(None, Some(1e-9));
+        let dead = variant(Some(1e-15), None);
+        for f in [0.0, 10.0, 1e3, 1e5, 1e6, 3e6, 3e7] {
+            let z = real.eval(f).unwrap().zout;
+            let z0 = dead.eval(f).unwrap().zout;
+            let t_open = open.eval(f).unwrap().loop_gain;
+            let t_short = short.eval(f).unwrap().loop_gain;
+            let one = num_complex::Complex64::new(1.0, 0.0);
+            let want = z0 * (one + t_short) / (one + t_open);
+            assert!(
+                (z - want).norm() <= 1e-6 * want.norm(),
+                "{:?} at {f} Hz: {z} vs {want}",
+                base.stage.topology
+            );
+        }
+    }
+}
