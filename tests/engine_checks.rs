@@ -438,3 +438,41 @@ fn blackman_formula_for_the_output_impedance() {
         }
     }
 }
+
+#[test]
+fn blackman_formula_for_the_input_impedance() {
+    // Blackman's formula at the input port: Zin = Zin(A = 0)·(1 + T_short)/(1 + T_open),
+    // T_short with the input terminal grounded (ideal source), T_open with it
+    // left open (a source of 1 PΩ stands in for open).
+    let demo = loopwright::engine::scenario::demo();
+    let mut inv = demo.clone();
+    inv.stage.topology = Topology::Inverting;
+    for base in [demo, inv] {
+        let variant = |a0: f64, rs: f64| {
+            let mut s = base.clone();
+            s.amp.a0 = a0;
+            s.source.r = rs;
+            Circuit::new(&s)
+        };
+        let real = Circuit::new(&base);
+        let a0 = base.amp.a0;
+        let short = variant(a0, 0.0);
+        let open = variant(a0, 1e15);
+        let dead = variant(1e-15, base.source.r);
+        for f in [0.0, 100.0, 1e4, 1e5, 1e6] {
+            let Some(z) = real.eval(f).unwrap().zin else {
+                panic!("finite Zin expected at {f} Hz");
+            };
+            let z0 = dead.eval(f).unwrap().zin.unwrap();
+            let t_short = short.eval(f).unwrap().loop_gain;
+            let t_open = open.eval(f).unwrap().loop_gain;
+            let one = num_complex::Complex64::new(1.0, 0.0);
+            let want = z0 * (one + t_short) / (one + t_open);
+            assert!(
+                (z - want).norm() <= 1e-4 * want.norm(),
+                "{:?} at {f} Hz: {z} vs {want}",
+                base.stage.topology
+            );
+        }
+    }
+}
