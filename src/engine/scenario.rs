@@ -252,6 +252,12 @@ impl Scenario {
 
     /// Read a scenario file.
     pub fn load(path: &std::path::Path) -> Result<Scenario, ScenarioError> {
+        Scenario::read(path).map(|(s, _)| s)
+    }
+
+    /// Read a scenario file, also returning its text (for what the
+    /// scenario does not hold, such as comments).
+    pub fn read(path: &std::path::Path) -> Result<(Scenario, String), ScenarioError> {
         let name = path.display().to_string();
         let text = std::fs::read_to_string(path).map_err(|e| ScenarioError {
             file: Some(name.clone()),
@@ -260,7 +266,8 @@ impl Scenario {
             col: None,
             message: format!("cannot read the file: {e}"),
         })?;
-        Scenario::from_ron(&text, Some(&name))
+        let s = Scenario::from_ron(&text, Some(&name))?;
+        Ok((s, text))
     }
 
     /// Pretty RON in the documented shape, stable field order.

@@ -113,30 +113,32 @@ pub fn leading_comments(text: &str) -> String {
 }
 
 impl Slot {
-    pub fn new(scenario: Scenario, path: Option<PathBuf>, probe_hz: f64) -> Slot {
-        let header = path
-            .as_ref()
-            .and_then(|p| std::fs::read_to_string(p).ok())
-            .map(|t| leading_comments(&t))
-            .unwrap_or_default();
+    /// A stage, its file (if any) and that file's leading comments.
+    pub fn new(scenario: Scenario, path: Option<PathBuf>, header: String, probe_hz: f64) -> Slot {
         let analysis = analyze(&scenario);
-        let traces = Traces::new(&analysis);
-        let probe = Circuit::new(&scenario).eval(probe_hz);
-        Slot {
-            scenario,
+        let mut slot = Slot {
+            traces: Traces::new(&analysis),
             analysis,
-            traces,
-            probe,
+            probe: None,
+            scenario,
             path,
             dirty: false,
             header,
             untitled: "(built-in demo)".into(),
-        }
+        };
+        slot.set_probe(probe_hz);
+        slot
     }
 
+    /// Re-run the engine after a change to the scenario.
     fn refresh(&mut self, probe_hz: f64) {
         self.analysis = analyze(&self.scenario);
         self.traces = Traces::new(&self.analysis);
+        self.set_probe(probe_hz);
+    }
+
+    /// Solve the stage at the probe frequency (the "Zout at" figure).
+    fn set_probe(&mut self, probe_hz: f64) {
         self.probe = Circuit::new(&self.scenario).eval(probe_hz);
     }
 
@@ -262,7 +264,15 @@ impl App {
         let slots: Vec<Slot> = slots
             .into_iter()
             .take(2)
-            .map(|(s, p)| Slot::new(s, p, probe_hz))
+            .map(|(s, p)| {
+                // Each file's leading comments, written back on save.
+                let header = p
+                    .as_ref()
+                    .and_then(|p| std::fs::read_to_string(p).ok())
+                    .map(|t| leading_comments(&t))
+                    .unwrap_or_default();
+                Slot::new(s, p, header, probe_hz)
+            })
             .collect();
         App {
             slots,
@@ -573,7 +583,7 @@ impl App {
             Ok(f) if f > 0.0 => {
                 self.probe_hz = f;
                 for s in &mut self.slots {
-                    s.probe = Circuit::new(&s.scenario).eval(f);
+                    s.set_probe(f);
                 }
                 self.info(format!("Zout figure at {}", values::fmt_eng(f, "Hz")));
             }
@@ -657,9 +667,10 @@ impl App {
     }
 
     fn open(&mut self, p: &Path) {
-        match Scenario::load(p) {
-            Ok(s) => {
-                let slot = Slot::new(s, Some(p.to_path_buf()), self.probe_hz);
+        match Scenario::read(p) {
+            Ok((s, text)) => {
+                let header = leading_comments(&text);
+                let slot = Slot::new(s, Some(p.to_path_buf()), header, self.probe_hz);
                 self.slots[self.active] = slot;
                 self.ensure_visible_selection();
                 self.info(format!(
