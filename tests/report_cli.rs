@@ -14,6 +14,14 @@ fn json(args: &[&str]) -> Value {
     serde_json::from_slice(&out.stdout).unwrap()
 }
 
+/// Write a scenario into a fresh folder: (folder, file).
+fn scenario_file(name: &str, text: &str) -> (std::path::PathBuf, std::path::PathBuf) {
+    let dir = temp_dir(name);
+    let path = dir.join(format!("{name}.ron"));
+    std::fs::write(&path, text).unwrap();
+    (dir, path)
+}
+
 const KEYS: [&str; 16] = [
     "title",
     "ideal_gain",
@@ -80,10 +88,8 @@ fn points_at_frequencies_in_engineering_notation() {
 
 #[test]
 fn inverting_gain_phase_is_180_and_loop_phase_unwraps() {
-    let dir = temp_dir("inv");
-    let path = dir.join("inv.ron");
-    std::fs::write(
-        &path,
+    let (dir, path) = scenario_file(
+        "inv",
         r#"(
     title: "inverting",
     stage: (topology: Inverting, rg: 1000.0, rf: 10000.0, series: E24, tolerance: 0.01),
@@ -93,8 +99,7 @@ fn inverting_gain_phase_is_180_and_loop_phase_unwraps() {
     temp_c: 25.0,
     band: (10.0, 100000.0),
 )"#,
-    )
-    .unwrap();
+    );
     let p = path.to_str().unwrap();
     let v = json(&["report", p, "--json", "--at", "0.01", "--at", "100M"]);
     assert!(v["dc_gain"].as_f64().unwrap() < 0.0);
@@ -111,10 +116,8 @@ fn inverting_gain_phase_is_180_and_loop_phase_unwraps() {
 
 #[test]
 fn open_input_is_null() {
-    let dir = temp_dir("open");
-    let path = dir.join("open.ron");
-    std::fs::write(
-        &path,
+    let (dir, path) = scenario_file(
+        "open",
         r#"(
     title: "no rin",
     stage: (topology: NonInverting, rg: 1000.0, rf: 1000.0, series: E24, tolerance: 0.01),
@@ -124,8 +127,7 @@ fn open_input_is_null() {
     temp_c: 25.0,
     band: (10.0, 100000.0),
 )"#,
-    )
-    .unwrap();
+    );
     let v = json(&["report", path.to_str().unwrap(), "--json", "--at", "0"]);
     assert!(v["zin_dc_ohm"].is_null());
     assert!(v["points"][0]["zin_mag"].is_null());

@@ -25,6 +25,21 @@ fn wait_for(session: &str, needle: &str) -> Option<String> {
     }
 }
 
+/// After the process has ended: raw mode off (stty shows icanon), the cursor
+/// shown again and the alternate screen left.
+#[track_caller]
+fn assert_restored(session: &str, screen: &str) {
+    assert!(!screen.contains("-icanon"), "raw mode left on:\n{screen}");
+    let flags = tmux(&[
+        "display-message",
+        "-p",
+        "-t",
+        session,
+        "#{cursor_flag} #{alternate_on}",
+    ]);
+    assert_eq!(flags.trim(), "1 0", "cursor flag and alternate screen");
+}
+
 struct Session(String);
 impl Drop for Session {
     fn drop(&mut self) {
@@ -93,16 +108,7 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     tmux(&["send-keys", "-t", &s.0, "y"]);
     let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
     assert!(done.contains("EXIT=0"), "{done}");
-    assert!(!done.contains("-icanon"), "raw mode left on:\n{done}");
-    // Cursor shown again and the alternate screen left.
-    let flags = tmux(&[
-        "display-message",
-        "-p",
-        "-t",
-        &s.0,
-        "#{cursor_flag} #{alternate_on}",
-    ]);
-    assert_eq!(flags.trim(), "1 0", "cursor flag and alternate screen");
+    assert_restored(&s.0, &done);
 }
 
 #[test]
@@ -174,13 +180,5 @@ fn terminal_is_restored_after_a_panic() {
     let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
     assert!(done.contains("deliberate test panic"), "{done}");
     assert!(!done.contains("EXIT=0"), "{done}");
-    assert!(!done.contains("-icanon"), "raw mode left on:\n{done}");
-    let flags = tmux(&[
-        "display-message",
-        "-p",
-        "-t",
-        &s.0,
-        "#{cursor_flag} #{alternate_on}",
-    ]);
-    assert_eq!(flags.trim(), "1 0", "cursor flag and alternate screen");
+    assert_restored(&s.0, &done);
 }

@@ -21,6 +21,18 @@ fn app(stages: Vec<Scenario>) -> App {
     )
 }
 
+/// Enter on the selected parameter, clear the field, type `text`, Enter.
+fn type_value(a: &mut App, text: &str) {
+    a.on_key(key(KeyCode::Enter));
+    for _ in 0..20 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    for c in text.chars() {
+        a.on_key(key(KeyCode::Char(c)));
+    }
+    a.on_key(key(KeyCode::Enter));
+}
+
 fn screen(app: &App, w: u16, h: u16) -> String {
     let mut t = Terminal::new(TestBackend::new(w, h)).unwrap();
     t.draw(|f| draw(f, app)).unwrap();
@@ -120,14 +132,7 @@ fn resize_redraws_at_the_new_size() {
 #[test]
 fn typed_values_accept_rkm_and_reject_bad_text() {
     let mut a = app(vec![scenario::demo()]);
-    a.on_key(key(KeyCode::Enter));
-    for _ in 0..10 {
-        a.on_key(key(KeyCode::Backspace));
-    }
-    for c in "4k7".chars() {
-        a.on_key(key(KeyCode::Char(c)));
-    }
-    a.on_key(key(KeyCode::Enter));
+    type_value(&mut a, "4k7");
     assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
     // A bad entry leaves the value and says why.
     a.on_key(key(KeyCode::Enter));
@@ -145,14 +150,7 @@ fn typed_values_accept_rkm_and_reject_bad_text() {
     a.on_key(key(KeyCode::Esc));
     assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
     // A negative resistor is refused by validation.
-    a.on_key(key(KeyCode::Enter));
-    for _ in 0..10 {
-        a.on_key(key(KeyCode::Backspace));
-    }
-    for c in "-1k".chars() {
-        a.on_key(key(KeyCode::Char(c)));
-    }
-    a.on_key(key(KeyCode::Enter));
+    type_value(&mut a, "-1k");
     assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
 }
 
@@ -318,13 +316,6 @@ fn follower_rf_can_be_a_resistor_or_a_wire() {
     assert!(!text.contains(" rg "), "a follower has no rg row");
     a.on_key(key(KeyCode::Right));
     assert_eq!(a.slot().scenario.stage.rf, Some(1000.0));
-    a.on_key(key(KeyCode::Enter));
-    for _ in 0..10 {
-        a.on_key(key(KeyCode::Backspace));
-    }
-    for c in "wire".chars() {
-        a.on_key(key(KeyCode::Char(c)));
-    }
-    a.on_key(key(KeyCode::Enter));
+    type_value(&mut a, "wire");
     assert_eq!(a.slot().scenario.stage.rf, None);
 }
