@@ -181,17 +181,15 @@ pub fn check(s: &Scenario, a: &Analysis) -> Vec<Warning> {
             ),
         );
     }
-    let resistor_share: f64 = a
+    let resistor_noise: Vec<_> = a
         .noise_sources
         .iter()
         .filter(|n| matches!(n.key, "source_r" | "rg" | "rf" | "riso"))
-        .map(|n| n.share)
-        .sum();
+        .collect();
+    let resistor_share: f64 = resistor_noise.iter().map(|n| n.share).sum();
     if resistor_share > RESISTOR_NOISE_SHARE && a.noise_rms > 0.0 {
-        let top = a
-            .noise_sources
+        let top = resistor_noise
             .iter()
-            .filter(|n| matches!(n.key, "source_r" | "rg" | "rf" | "riso"))
             .max_by(|x, y| x.share.total_cmp(&y.share))
             .map(|n| format!(" ({} alone {:.0} %)", n.label, n.share * 100.0))
             .unwrap_or_default();
