@@ -230,6 +230,21 @@ fn open_lists_scenarios_and_loads_one() {
     a.on_key(key(KeyCode::Enter));
     assert_eq!(a.slot().scenario.title, "Low-noise preamp, gain 101");
     assert!(screen(&a).contains("mic_preamp.ron"));
+    // Over unsaved changes it asks first; any key but y keeps the edits.
+    a.on_key(key(KeyCode::Right));
+    let edited = a.slot().scenario.clone();
+    let other = concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/adc_driver_2n2.ron");
+    a.on_key(key(KeyCode::Char('o')));
+    type_text(&mut a, other);
+    a.on_key(key(KeyCode::Enter));
+    assert!(a.status.contains("unsaved changes"), "{}", a.status);
+    a.on_key(key(KeyCode::Char('n')));
+    assert_eq!(a.slot().scenario, edited);
+    a.on_key(key(KeyCode::Char('o')));
+    type_text(&mut a, other);
+    a.on_key(key(KeyCode::Enter));
+    a.on_key(key(KeyCode::Char('y')));
+    assert_eq!(a.slot().scenario.title, "ADC driver into 2.2 nF, gain 2");
 }
 
 #[test]

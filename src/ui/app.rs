@@ -193,6 +193,8 @@ pub enum Mode {
     Pick(usize),
     Help,
     ConfirmQuit,
+    /// The edited stage has unsaved changes: open this file over it?
+    ConfirmOpen(PathBuf),
 }
 
 pub struct App {
@@ -378,6 +380,10 @@ impl App {
             Mode::Help => {
                 // Any key closes help.
             }
+            Mode::ConfirmOpen(path) => match key.code {
+                KeyCode::Char('y') | KeyCode::Char('Y') => self.open_checked(&path, false),
+                _ => self.info("not opened: the edited stage is kept"),
+            },
             Mode::ConfirmQuit => match key.code {
                 KeyCode::Char('y') | KeyCode::Char('Y') => self.running = false,
                 _ => self.info("quit cancelled"),
@@ -666,21 +672,38 @@ impl App {
         }
     }
 
+    /// Open a file into the edited slot. A file that does not load is
+    /// reported and changes nothing; a good one over unsaved changes asks
+    /// first (and is read again on yes, in case it changed meanwhile).
     fn open(&mut self, p: &Path) {
-        match Scenario::read(p) {
-            Ok((s, text)) => {
-                let header = leading_comments(&text);
-                let slot = Slot::new(s, Some(p.to_path_buf()), header, self.probe_hz);
-                self.slots[self.active] = slot;
-                self.ensure_visible_selection();
-                self.info(format!(
-                    "opened {} into {}",
-                    p.display(),
-                    Self::slot_label(self.active)
-                ));
+        self.open_checked(p, true);
+    }
+
+    fn open_checked(&mut self, p: &Path, ask_if_dirty: bool) {
+        let (s, text) = match Scenario::read(p) {
+            Ok(loaded) => loaded,
+            Err(e) => {
+                self.error(format!("not opened, kept the open scenario: {e}"));
+                return;
             }
-            Err(e) => self.error(format!("not opened, kept the open scenario: {e}")),
+        };
+        if ask_if_dirty && self.slot().dirty {
+            self.mode = Mode::ConfirmOpen(p.to_path_buf());
+            self.error(format!(
+                "{} has unsaved changes: open {} over them? y = open, any other key = keep",
+                Self::slot_label(self.active),
+                p.display()
+            ));
+            return;
         }
+        let header = leading_comments(&text);
+        self.slots[self.active] = Slot::new(s, Some(p.to_path_buf()), header, self.probe_hz);
+        self.ensure_visible_selection();
+        self.info(format!(
+            "opened {} into {}",
+            p.display(),
+            Self::slot_label(self.active)
+        ));
     }
 
     /// Whether a parameter differs between A and B.
