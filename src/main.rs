@@ -1,8 +1,9 @@
 use anyhow::{bail, Context, Result};
 use clap::Parser;
 use loopwright::cli::{Cli, Command};
-use loopwright::engine::{analyze, scenario, Scenario, Series};
+use loopwright::engine::{evaluate, scenario, Scenario, Series};
 use loopwright::report::{write_text, Comparison, Report};
+use loopwright::ui::app::Stage;
 use std::io::{self, Write};
 use std::path::Path;
 use std::process::ExitCode;
@@ -20,7 +21,7 @@ fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Some(Command::Report { file, json, at }) => {
             let s = load(file.as_deref())?;
-            let a = analyze(&s);
+            let a = evaluate(&s);
             let r = Report::new(&s, &a, &at);
             let mut buf = Vec::new();
             if json {
@@ -32,7 +33,7 @@ fn run(cli: Cli) -> Result<()> {
         }
         Some(Command::Compare { a, b, json }) => {
             let (sa, sb) = (Scenario::load(&a)?, Scenario::load(&b)?);
-            let c = Comparison::new(&sa, &analyze(&sa), &sb, &analyze(&sb));
+            let c = Comparison::new(&sa, &evaluate(&sa), &sb, &evaluate(&sb));
             let mut buf = Vec::new();
             if json {
                 c.write_json(&mut buf)?;
@@ -56,12 +57,20 @@ fn run(cli: Cli) -> Result<()> {
             drop(out);
             // Load every file before the terminal is touched, so a bad file
             // leaves a normal screen with the error on it.
+            // Each file is read once: its text keeps the comments.
             let stages = if cli.files.is_empty() {
-                vec![(scenario::demo(), None)]
+                vec![Stage::from((scenario::demo(), None))]
             } else {
                 cli.files
                     .iter()
-                    .map(|p| Ok((Scenario::load(p)?, Some(p.clone()))))
+                    .map(|p| {
+                        let (scenario, text) = Scenario::read(p)?;
+                        Ok(Stage {
+                            scenario,
+                            path: Some(p.clone()),
+                            text,
+                        })
+                    })
                     .collect::<Result<Vec<_>>>()
                     .context("cannot open the workbench")?
             };
@@ -78,10 +87,12 @@ fn main() -> ExitCode {
     match run(cli) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
-            if let Some(io) = e.downcast_ref::<io::Error>() {
-                if io.kind() == io::ErrorKind::BrokenPipe {
-                    return ExitCode::SUCCESS;
-                }
+            let broken_pipe = e.chain().any(|c| {
+                c.downcast_ref::<io::Error>()
+                    .is_some_and(|io| io.kind() == io::ErrorKind::BrokenPipe)
+            });
+            if broken_pipe {
+                return ExitCode::SUCCESS;
             }
             eprintln!("loopwright: {e:#}");
             ExitCode::FAILURE

@@ -2,19 +2,17 @@
 //! JSON object (keys documented in the README).
 
 use crate::engine::analysis::{phase_deg, Analysis, Circuit};
-use crate::engine::scenario::{present, Scenario, Topology};
-use crate::engine::values::{fmt_eng, fmt_eng_sig};
-use crate::engine::Warning;
+use crate::engine::figures::{delta, figure, key_figures, Section, FIGURES};
+use crate::engine::params::{Group, PARAMS};
+use crate::engine::scenario::Scenario;
+use crate::engine::values::fmt_eng;
+use crate::engine::{Evaluation, Warning};
 use serde::Serialize;
 use std::io::{self, Write};
 
 /// A number for JSON: null where undefined or infinite.
 fn fin(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
-}
-
-fn fin_opt(x: Option<f64>) -> Option<f64> {
-    x.and_then(fin)
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -40,28 +38,33 @@ pub struct NoiseReport {
     pub share: Option<f64>,
 }
 
-#[derive(Debug, Clone, Serialize)]
+/// The JSON report: the title, every JSON figure of the figure table (in
+/// its order, null where undefined), the band, the noise sources, the
+/// points asked for and the warnings.
+#[derive(Debug, Clone)]
 pub struct Report {
     pub title: String,
-    pub ideal_gain: Option<f64>,
-    pub dc_gain: Option<f64>,
-    pub gain_error: Option<f64>,
-    pub f_3db_hz: Option<f64>,
-    pub peaking_db: Option<f64>,
-    pub crossover_hz: Option<f64>,
-    pub phase_margin_deg: Option<f64>,
-    pub gain_margin_db: Option<f64>,
-    pub zout_dc_ohm: Option<f64>,
-    pub zin_dc_ohm: Option<f64>,
-    /// |Zout| at 1 kHz, the workbench's default probe frequency.
-    pub zout_1khz_ohm: Option<f64>,
-    pub noise_density_1khz: Option<f64>,
-    pub noise_rms: Option<f64>,
-    pub loop_gain_dc: Option<f64>,
+    pub figures: Vec<(&'static str, Option<f64>)>,
     pub band_hz: (f64, f64),
     pub noise_sources: Vec<NoiseReport>,
     pub points: Vec<PointReport>,
     pub warnings: Vec<Warning>,
+}
+
+impl Serialize for Report {
+    fn serialize<S: serde::Serializer>(&self, ser: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut m = ser.serialize_map(Some(self.figures.len() + 5))?;
+        m.serialize_entry("title", &self.title)?;
+        for (key, v) in &self.figures {
+            m.serialize_entry(key, v)?;
+        }
+        m.serialize_entry("band_hz", &self.band_hz)?;
+        m.serialize_entry("noise_sources", &self.noise_sources)?;
+        m.serialize_entry("points", &self.points)?;
+        m.serialize_entry("warnings", &self.warnings)?;
+        m.end()
+    }
 }
 
 /// The figures at one frequency, solved exactly there (not interpolated).
@@ -97,26 +100,17 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
 }
 
 impl Report {
-    pub fn new(s: &Scenario, a: &Analysis, at: &[f64]) -> Report {
+    pub fn new(s: &Scenario, e: &Evaluation, at: &[f64]) -> Report {
         let circuit = Circuit::new(s);
         Report {
             title: s.title.clone(),
-            ideal_gain: fin(a.ideal_gain),
-            dc_gain: fin(a.dc_gain),
-            gain_error: fin(a.gain_error),
-            f_3db_hz: fin_opt(a.f_3db_hz),
-            peaking_db: fin(a.peaking_db),
-            crossover_hz: fin_opt(a.crossover_hz),
-            phase_margin_deg: fin_opt(a.phase_margin_deg),
-            gain_margin_db: fin_opt(a.gain_margin_db),
-            zout_dc_ohm: fin(a.zout_dc_ohm),
-            zin_dc_ohm: fin_opt(a.zin_dc_ohm),
-            zout_1khz_ohm: circuit.eval(1.0e3).and_then(|p| fin(p.zout.norm())),
-            noise_density_1khz: fin(a.noise_density_1khz),
-            noise_rms: fin(a.noise_rms),
-            loop_gain_dc: fin(a.loop_gain_dc),
+            figures: FIGURES
+                .iter()
+                .filter(|f| f.shown.json)
+                .map(|f| (f.key, f.json(e)))
+                .collect(),
             band_hz: s.band,
-            noise_sources: a
+            noise_sources: e
                 .noise_sources
                 .iter()
                 .map(|n| NoiseReport {
@@ -126,8 +120,8 @@ impl Report {
                     share: fin(n.share),
                 })
                 .collect(),
-            points: at.iter().map(|&f| point_report(&circuit, a, f)).collect(),
-            warnings: a.warnings.clone(),
+            points: at.iter().map(|&f| point_report(&circuit, e, f)).collect(),
+            warnings: e.warnings.clone(),
         }
     }
 
@@ -135,42 +129,6 @@ impl Report {
         serde_json::to_writer_pretty(&mut *w, self)?;
         writeln!(w)
     }
-}
-
-fn opt(v: Option<f64>, unit: &str) -> String {
-    v.map(|x| fmt_eng(x, unit)).unwrap_or_else(|| "none".into())
-}
-
-fn db(x: f64) -> String {
-    format!("{:.1} dB", 20.0 * x.abs().log10())
-}
-
-/// One line describing the stage's parts.
-pub fn stage_line(s: &Scenario) -> String {
-    let st = &s.stage;
-    let mut parts = vec![st.topology.name().to_string()];
-    if st.topology != Topology::Follower {
-        if let Some(rg) = st.rg {
-            parts.push(format!("rg {}", fmt_eng(rg, "Ω")));
-        }
-    }
-    match st.rf {
-        Some(rf) if rf > 0.0 => parts.push(format!("rf {}", fmt_eng(rf, "Ω"))),
-        _ if st.topology == Topology::Follower => parts.push("rf wire".into()),
-        _ => {}
-    }
-    if let Some(cf) = present(st.cf) {
-        parts.push(format!("cf {}", fmt_eng(cf, "F")));
-    }
-    if let Some(r) = present(st.riso) {
-        parts.push(format!("riso {}", fmt_eng(r, "Ω")));
-    }
-    parts.push(format!(
-        "{} ±{}",
-        st.series,
-        fmt_eng_sig(st.tolerance * 100.0, "%", 3)
-    ));
-    parts.join(", ")
 }
 
 pub fn severity_mark(w: &Warning) -> &'static str {
@@ -181,101 +139,40 @@ pub fn severity_mark(w: &Warning) -> &'static str {
     }
 }
 
-/// The readable text report.
-pub fn write_text(r: &Report, s: &Scenario, a: &Analysis, w: &mut impl Write) -> io::Result<()> {
-    let am = &s.amp;
-    writeln!(w, "{}", r.title)?;
-    writeln!(w, "  stage       {}", stage_line(s))?;
-    let mut amp = vec![
-        format!("a0 {} ({})", fmt_eng(am.a0, ""), db(am.a0)),
-        format!("gbw {}", fmt_eng(am.gbw, "Hz")),
-    ];
-    if let Some(f) = am.fp2 {
-        amp.push(format!("fp2 {}", fmt_eng(f, "Hz")));
-    }
-    amp.push(format!("ro {}", fmt_eng(am.ro, "Ω")));
-    if let Some(x) = am.rin {
-        amp.push(format!("rin {}", fmt_eng(x, "Ω")));
-    }
-    if let Some(x) = present(am.cin) {
-        amp.push(format!("cin {}", fmt_eng(x, "F")));
-    }
-    writeln!(w, "  amplifier   {}", amp.join(", "))?;
-    writeln!(
-        w,
-        "  noise model en {}/√Hz, in {}/√Hz",
-        fmt_eng(am.vnoise, "V"),
-        fmt_eng(am.inoise, "A")
-    )?;
-    let mut env = vec![format!("source r {}", fmt_eng(s.source.r, "Ω"))];
-    if let Some(x) = s.load.r {
-        env.push(format!("load r {}", fmt_eng(x, "Ω")));
-    }
-    if let Some(x) = present(s.load.c) {
-        env.push(format!("load c {}", fmt_eng(x, "F")));
-    }
-    env.push(format!("{} °C", s.temp_c));
-    writeln!(w, "  around      {}", env.join(", "))?;
-    writeln!(w)?;
-    writeln!(w, "Gain")?;
-    writeln!(w, "  ideal         {:.6}", a.ideal_gain)?;
-    writeln!(
-        w,
-        "  DC            {:.6}  ({}, error {:+.4} %)",
-        a.dc_gain,
-        db(a.dc_gain),
-        a.gain_error * 100.0
-    )?;
-    writeln!(w, "  f−3dB         {}", opt(a.f_3db_hz, "Hz"))?;
-    writeln!(w, "  peaking       {:.2} dB", a.peaking_db)?;
-    writeln!(w)?;
-    writeln!(w, "Loop")?;
-    writeln!(
-        w,
-        "  DC loop gain  {} ({})",
-        fmt_eng(a.loop_gain_dc, ""),
-        db(a.loop_gain_dc)
-    )?;
-    writeln!(w, "  crossover     {}", opt(a.crossover_hz, "Hz"))?;
-    writeln!(
-        w,
-        "  phase margin  {}",
-        a.phase_margin_deg
-            .map(|p| format!("{p:.1}°"))
-            .unwrap_or_else(|| "none".into())
-    )?;
-    writeln!(
-        w,
-        "  gain margin   {}",
-        match (a.gain_margin_db, a.phase_180_hz) {
-            (Some(g), Some(f)) => format!("{g:.1} dB at {}", fmt_eng(f, "Hz")),
-            _ => "none (phase never reaches −180° below 1 GHz)".into(),
+/// The scenario's parameters, one line per group, from the parameter table.
+fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
+    let mut groups: Vec<Group> = Vec::new();
+    for p in PARAMS.iter() {
+        if !groups.contains(&p.group) {
+            groups.push(p.group);
         }
-    )?;
+    }
+    for g in groups {
+        let items: Vec<String> = PARAMS
+            .iter()
+            .filter(|p| p.group == g && p.applies(s))
+            .map(|p| (p, p.display(s)))
+            .filter(|(_, v)| v != "none")
+            .map(|(p, v)| format!("{} {v}", p.label))
+            .collect();
+        writeln!(w, "  {:<16} {}", g.title().to_lowercase(), items.join(", "))?;
+    }
+    Ok(())
+}
+
+/// The figures of one section of the text report.
+fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
     writeln!(w)?;
-    writeln!(w, "Impedance")?;
-    writeln!(w, "  Zout at DC    {}", fmt_eng(a.zout_dc_ohm, "Ω"))?;
-    writeln!(
-        w,
-        "  Zin at DC     {}",
-        a.zin_dc_ohm
-            .map(|z| fmt_eng(z, "Ω"))
-            .unwrap_or_else(|| "open (no DC path, or above 1 PΩ)".into())
-    )?;
-    writeln!(w)?;
-    writeln!(
-        w,
-        "Noise at the load, {} to {}",
-        fmt_eng(s.band.0, "Hz"),
-        fmt_eng(s.band.1, "Hz")
-    )?;
-    writeln!(
-        w,
-        "  at 1 kHz      {}/√Hz",
-        fmt_eng(a.noise_density_1khz, "V")
-    )?;
-    writeln!(w, "  rms           {}", fmt_eng(a.noise_rms, "V"))?;
-    let mut shares: Vec<_> = a.noise_sources.iter().collect();
+    writeln!(w, "{}", sec.title())?;
+    for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
+        writeln!(w, "  {:<18} {}", f.label, f.text(f.read(e)))?;
+    }
+    Ok(())
+}
+
+/// Each noise source's rms and share, largest first.
+fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
+    let mut shares: Vec<_> = e.noise_sources.iter().collect();
     shares.sort_by(|x, y| y.share.total_cmp(&x.share));
     for n in shares {
         writeln!(
@@ -286,48 +183,77 @@ pub fn write_text(r: &Report, s: &Scenario, a: &Analysis, w: &mut impl Write) ->
             n.share * 100.0
         )?;
     }
-    if !r.points.is_empty() {
-        writeln!(w)?;
+    Ok(())
+}
+
+/// The table of figures at the `--at` frequencies.
+fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
+    if points.is_empty() {
+        return Ok(());
+    }
+    writeln!(w)?;
+    writeln!(
+        w,
+        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
+        "f", "gain", "phase", "Zout", "phase", "Zin", "loop", "phase", "noise"
+    )?;
+    let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
+    let deg = |v: Option<f64>| v.map(|x| format!("{x:.1}°")).unwrap_or("—".into());
+    for p in points {
         writeln!(
             w,
             "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
-            "f", "gain", "phase", "Zout", "phase", "Zin", "loop", "phase", "noise"
+            fmt_eng(p.f_hz, "Hz"),
+            num(p.gain_mag, ""),
+            deg(p.gain_phase_deg),
+            num(p.zout_mag, "Ω"),
+            deg(p.zout_phase_deg),
+            p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
+            num(p.loop_mag, ""),
+            deg(p.loop_phase_deg),
+            format!("{}/√Hz", num(p.noise_density, "V")),
         )?;
-        for p in &r.points {
-            let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
-            let deg = |v: Option<f64>| v.map(|x| format!("{x:.1}°")).unwrap_or("—".into());
-            writeln!(
-                w,
-                "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
-                fmt_eng(p.f_hz, "Hz"),
-                num(p.gain_mag, ""),
-                deg(p.gain_phase_deg),
-                num(p.zout_mag, "Ω"),
-                deg(p.zout_phase_deg),
-                p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
-                num(p.loop_mag, ""),
-                deg(p.loop_phase_deg),
-                format!("{}/√Hz", num(p.noise_density, "V")),
-            )?;
-        }
-    }
-    writeln!(w)?;
-    if a.warnings.is_empty() {
-        writeln!(w, "No warnings.")?;
-    } else {
-        writeln!(w, "Warnings")?;
-        for x in &a.warnings {
-            writeln!(
-                w,
-                "  {} {:<8} {}: {}",
-                severity_mark(x),
-                x.severity.name(),
-                x.code,
-                x.text
-            )?;
-        }
     }
     Ok(())
+}
+
+fn write_warnings(warnings: &[Warning], w: &mut impl Write) -> io::Result<()> {
+    writeln!(w)?;
+    if warnings.is_empty() {
+        return writeln!(w, "No warnings.");
+    }
+    writeln!(w, "Warnings")?;
+    for x in warnings {
+        writeln!(
+            w,
+            "  {} {:<8} {}: {}",
+            severity_mark(x),
+            x.severity.name(),
+            x.code,
+            x.text
+        )?;
+    }
+    Ok(())
+}
+
+/// The readable text report.
+pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
+    writeln!(w, "{}", r.title)?;
+    write_parameters(s, w)?;
+    for sec in Section::ALL {
+        write_section(sec, e, w)?;
+        if sec == Section::Noise {
+            writeln!(
+                w,
+                "  band {} to {}",
+                fmt_eng(s.band.0, "Hz"),
+                fmt_eng(s.band.1, "Hz")
+            )?;
+            write_noise_shares(e, w)?;
+        }
+    }
+    write_points(&r.points, w)?;
+    write_warnings(&e.warnings, w)
 }
 
 /// One row of the A/B table: a figure for A and B and their difference.
@@ -361,34 +287,13 @@ pub struct Comparison {
 }
 
 impl Comparison {
-    pub fn new(sa: &Scenario, aa: &Analysis, sb: &Scenario, ab: &Analysis) -> Comparison {
-        let a = Report::new(sa, aa, &[]);
-        let b = Report::new(sb, ab, &[]);
-        let pick = |r: &Report| -> Vec<(&'static str, Option<f64>)> {
-            vec![
-                ("dc_gain", r.dc_gain),
-                ("gain_error", r.gain_error),
-                ("f_3db_hz", r.f_3db_hz),
-                ("peaking_db", r.peaking_db),
-                ("phase_margin_deg", r.phase_margin_deg),
-                ("gain_margin_db", r.gain_margin_db),
-                ("zout_dc_ohm", r.zout_dc_ohm),
-                ("zout_1khz_ohm", r.zout_1khz_ohm),
-                ("noise_rms", r.noise_rms),
-                ("warnings", Some(r.warnings.len() as f64)),
-            ]
-        };
-        let figures = pick(&a)
-            .into_iter()
-            .zip(pick(&b))
-            .map(|((key, x), (_, y))| FigureDelta {
-                key,
-                a: x,
-                b: y,
-                delta: match (x, y) {
-                    (Some(x), Some(y)) => fin(y - x),
-                    _ => None,
-                },
+    pub fn new(sa: &Scenario, ea: &Evaluation, sb: &Scenario, eb: &Evaluation) -> Comparison {
+        let figures = key_figures()
+            .map(|f| FigureDelta {
+                key: f.key,
+                a: f.json(ea),
+                b: f.json(eb),
+                delta: delta(f, ea, eb),
             })
             .collect();
         let parameters = sa
@@ -397,8 +302,8 @@ impl Comparison {
             .map(|(field, a, b)| ParamDiff { field, a, b })
             .collect();
         Comparison {
-            a,
-            b,
+            a: Report::new(sa, ea, &[]),
+            b: Report::new(sb, eb, &[]),
             differences: Differences {
                 figures,
                 parameters,
@@ -421,39 +326,19 @@ impl Comparison {
             "{:<18} {:>14} {:>14} {:>14}",
             "figure", "A", "B", "B − A"
         )?;
-        for f in &self.differences.figures {
-            let (label, unit) = match f.key {
-                "dc_gain" => ("gain", ""),
-                "gain_error" => ("gain error %", "%"),
-                "f_3db_hz" => ("f−3dB", "Hz"),
-                "peaking_db" => ("peaking dB", "dB"),
-                "phase_margin_deg" => ("phase margin °", "°"),
-                "gain_margin_db" => ("gain margin dB", "dB"),
-                "zout_dc_ohm" => ("Zout at DC", "Ω"),
-                "zout_1khz_ohm" => ("|Zout| at 1 kHz", "Ω"),
-                "noise_rms" => ("noise rms", "V"),
-                _ => ("warnings", "#"),
-            };
-            let show = |v: Option<f64>, signed: bool| -> String {
-                let Some(v) = v else {
-                    return "none".into();
-                };
-                let sign = if signed && v > 0.0 { "+" } else { "" };
-                match unit {
-                    "" => format!("{sign}{v:.5}"),
-                    "%" => format!("{sign}{:.4}", v * 100.0),
-                    "dB" | "°" => format!("{sign}{v:.1}"),
-                    "#" => format!("{sign}{v:.0}"),
-                    u => format!("{sign}{}", fmt_eng(v, u)),
-                }
+        for d in &self.differences.figures {
+            let Some(f) = figure(d.key) else { continue };
+            let show = |v: Option<f64>, signed: bool| match v {
+                Some(v) => f.number(v, signed),
+                None => "none".into(),
             };
             writeln!(
                 w,
                 "{:<18} {:>14} {:>14} {:>14}",
-                label,
-                show(f.a, false),
-                show(f.b, false),
-                show(f.delta, true)
+                f.label,
+                show(d.a, false),
+                show(d.b, false),
+                show(d.delta, true)
             )?;
         }
         writeln!(w)?;

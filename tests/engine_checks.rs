@@ -3,9 +3,9 @@
 
 mod common;
 use common::{assert_rel, follower, plain, rel};
-use loopwright::engine::analysis::{analyze, Circuit};
 use loopwright::engine::netlist::BOLTZMANN;
 use loopwright::engine::Topology;
+use loopwright::engine::{evaluate, Circuit};
 use std::f64::consts::PI;
 
 #[test]
@@ -26,7 +26,7 @@ fn johnson_noise_of_1k_at_25c() {
     s.source.r = 1000.0;
     s.amp.a0 = 1.0e9;
     s.amp.gbw = 1.0e12;
-    let a = analyze(&s);
+    let a = evaluate(&s);
     assert_rel("1 kΩ noise at the output", a.noise_density_1khz, want, 1e-6);
     assert_rel("≈ 4.06 nV/√Hz", a.noise_density_1khz, 4.06e-9, 2e-3);
 }
@@ -38,7 +38,7 @@ fn non_inverting_finite_gain() {
     for (rg, rf, a0) in [(1e3, 10e3, 1e3), (2.2e3, 47e3, 2e4), (10e3, 10e3, 50.0)] {
         let mut s = plain(Topology::NonInverting, rg, rf);
         s.amp.a0 = a0;
-        let a = analyze(&s);
+        let a = evaluate(&s);
         let beta = rg / (rg + rf);
         let ideal = 1.0 + rf / rg;
         let want = ideal / (1.0 + 1.0 / (a0 * beta));
@@ -56,7 +56,7 @@ fn inverting_finite_gain() {
     for (rg, rf, a0) in [(1e3, 10e3, 1e3), (4.7e3, 4.7e3, 1e4), (1e3, 100e3, 1e5)] {
         let mut s = plain(Topology::Inverting, rg, rf);
         s.amp.a0 = a0;
-        let a = analyze(&s);
+        let a = evaluate(&s);
         let beta = rg / (rg + rf);
         let want = -(rf / rg) / (1.0 + 1.0 / (a0 * beta));
         assert!(a.dc_gain < 0.0, "an inverting stage has negative gain");
@@ -71,7 +71,7 @@ fn source_resistance_adds_to_rg_in_an_inverting_stage() {
     // gain is −rf/(rg + rs).
     let mut s = plain(Topology::Inverting, 1e3, 10e3);
     s.source.r = 1e3;
-    let a = analyze(&s);
+    let a = evaluate(&s);
     assert_rel("ideal gain", a.ideal_gain, -5.0, 1e-12);
 }
 
@@ -82,7 +82,7 @@ fn isolation_resistor_and_load_divide_the_ideal_gain() {
     let mut s = plain(Topology::NonInverting, 1e3, 9e3);
     s.stage.riso = Some(100.0);
     s.load.r = Some(900.0);
-    let a = analyze(&s);
+    let a = evaluate(&s);
     assert_rel("ideal gain", a.ideal_gain, 10.0 * 0.9, 1e-12);
 }
 
@@ -100,7 +100,7 @@ fn output_impedance_kcl_with_finite_rin() {
         s.amp.rin = Some(rin);
         s.amp.ro = ro;
         s.amp.a0 = a0;
-        let a = analyze(&s);
+        let a = evaluate(&s);
         let rp = rg * rin / (rg + rin);
         let y = 1.0 / (rf + rp) + 1.0 / ro + a0 * rp / (ro * (rp + rf));
         assert_rel("Zout at DC", a.zout_dc_ohm, 1.0 / y, 1e-9);
@@ -136,7 +136,7 @@ fn feedback_drives_output_impedance_far_below_ro() {
     // follower with a0 = 10^5 and ro = 75 Ω is under 1 mΩ at DC.
     let mut s = follower();
     s.amp.ro = 75.0;
-    let a = analyze(&s);
+    let a = evaluate(&s);
     assert!(a.zout_dc_ohm < 1e-3, "{}", a.zout_dc_ohm);
     assert_rel("ro/(1 + a0)", a.zout_dc_ohm, 75.0 / (1.0 + 1e5), 1e-9);
 }
@@ -147,7 +147,7 @@ fn single_pole_bandwidth_is_gbw_over_noise_gain() {
     for (rg, rf, gbw) in [(1e3, 9e3, 1e6), (1e3, 99e3, 10e6), (1e3, 1e3, 1e6)] {
         let mut s = plain(Topology::NonInverting, rg, rf);
         s.amp.gbw = gbw;
-        let a = analyze(&s);
+        let a = evaluate(&s);
         let ng = 1.0 + rf / rg;
         assert_rel("f−3dB", a.f_3db_hz.unwrap(), gbw / ng, 0.01);
         // And exactly, for one pole: fp1·(1 + a0·β).
@@ -167,7 +167,7 @@ fn two_pole_phase_margin() {
     for fp2 in [200e3, 1e6, 5e6] {
         let mut s = plain(Topology::NonInverting, 1e3, 9e3);
         s.amp.fp2 = Some(fp2);
-        let a = analyze(&s);
+        let a = evaluate(&s);
         let fc = a.crossover_hz.unwrap();
         // fc from the closed form |a0·β/((1 + jf/fp1)(1 + jf/fp2))| = 1, by bisection.
         let fp1 = s.amp.gbw / s.amp.a0;
@@ -200,7 +200,7 @@ fn second_order_peaking_matches_the_damping_formula() {
     // 2ζω0 = ωp1 + ωp2; for ζ < 1/√2 the peak is 1/(2ζ·sqrt(1 − ζ²)).
     let mut s = follower();
     s.amp.fp2 = Some(500e3);
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let wp1 = 2.0 * PI * s.amp.gbw / s.amp.a0;
     let wp2 = 2.0 * PI * 500e3;
     let w0 = ((1.0 + s.amp.a0) * wp1 * wp2).sqrt();
@@ -220,7 +220,7 @@ fn input_impedance_closed_forms() {
     // Inverting (KCL, ro = 0, rin open): Zin = rg + rf/(1 + a0).
     let mut s = plain(Topology::Inverting, 1e3, 10e3);
     s.amp.a0 = 1e3;
-    let a = analyze(&s);
+    let a = evaluate(&s);
     assert_rel(
         "inverting Zin",
         a.zin_dc_ohm.unwrap(),
@@ -233,13 +233,13 @@ fn input_impedance_closed_forms() {
     s.amp.rin = Some(1e6);
     s.amp.a0 = 1e4;
     s.source.r = 50.0;
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let par = 1e3 * 9e3 / 10e3;
     let want = 1e6 + par * (1.0 + 1e4 * 1e6 / 9e3);
     assert_rel("non-inverting Zin", a.zin_dc_ohm.unwrap(), want, 1e-6);
     // Without rin the + input draws no DC current: Zin is open.
     let s = plain(Topology::NonInverting, 1e3, 9e3);
-    assert!(analyze(&s).zin_dc_ohm.is_none());
+    assert!(evaluate(&s).zin_dc_ohm.is_none());
 }
 
 #[test]
@@ -251,7 +251,7 @@ fn one_pole_noise_bandwidth() {
     s.amp.gbw = 10e3;
     s.amp.vnoise = 10e-9;
     s.band = (0.01, 1e9);
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let f3 = a.f_3db_hz.unwrap();
     let want = 10e-9 * (PI / 2.0 * f3).sqrt();
     assert_rel("rms", a.noise_rms, want, 2e-3);
@@ -268,7 +268,7 @@ fn flicker_noise_integral() {
     s.amp.vnoise = 5e-9;
     s.amp.vnoise_corner = Some(1e3);
     s.band = (0.1, 10.0);
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let (lo, hi) = s.band;
     let en2 = 5e-9f64 * 5e-9;
     let flicker = en2 * 1e3 * (hi / lo).ln();
@@ -286,7 +286,7 @@ fn noise_gain_scales_voltage_noise_and_resistor_noise_adds() {
     s.amp.a0 = 1e9;
     s.amp.gbw = 1e12;
     s.amp.vnoise = 3e-9;
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let kt4 = 4.0 * 1.380649e-23 * 298.15;
     let want = ((3e-9f64 * 10.0).powi(2) + kt4 * 1e3 * 81.0 + kt4 * 9e3).sqrt();
     assert_rel("density", a.noise_density_1khz, want, 1e-6);
@@ -295,7 +295,7 @@ fn noise_gain_scales_voltage_noise_and_resistor_noise_adds() {
     s2.amp.vnoise = 0.0;
     s2.amp.inoise = 1e-12;
     s2.temp_c = -273.149_999_999; // nearly no thermal noise
-    let a2 = analyze(&s2);
+    let a2 = evaluate(&s2);
     assert_rel("current noise", a2.noise_density_1khz, 1e-12 * 9e3, 1e-4);
 }
 
@@ -308,7 +308,7 @@ fn gain_margin_of_a_three_pole_loop() {
     s.amp.fp2 = Some(2e6);
     s.amp.ro = 100.0;
     s.load.c = Some(1e-9);
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let f180 = a.phase_180_hz.expect("phase reaches −180°");
     let fp1 = s.amp.gbw / s.amp.a0;
     let fp3 = 1.0 / (2.0 * PI * 100.0 * 1e-9);
@@ -334,10 +334,10 @@ fn load_capacitance_cost_is_the_margin_it_takes() {
     s.amp.ro = 75.0;
     s.amp.fp2 = Some(10e6);
     s.load.c = Some(1e-9);
-    let a = analyze(&s);
+    let a = evaluate(&s);
     let mut bare = s.clone();
     bare.load.c = None;
-    let b = analyze(&bare);
+    let b = evaluate(&bare);
     let without = a.phase_margin_without_load_c.unwrap();
     assert!((without - b.phase_margin_deg.unwrap()).abs() < 0.01);
     // Closed form with the load pole: PM = 180 − atan(fc/fp1) − atan(fc/fp2) − atan(fc/fp3).

@@ -146,8 +146,14 @@ fn saving_keeps_the_comment_at_the_top() {
     ))
     .unwrap();
     std::fs::write(&path, &src).unwrap();
-    let s = Scenario::load(&path).unwrap();
-    let mut a = App::new(vec![(s, Some(path.clone()))], Theme::new(false, false));
+    // As the binary does: the file is read once, its text kept for the comments.
+    let (scenario, text) = Scenario::read(&path).unwrap();
+    let stage = loopwright::ui::app::Stage {
+        scenario,
+        path: Some(path.clone()),
+        text,
+    };
+    let mut a = App::new(vec![stage], Theme::new(false, false));
     a.on_key(key(KeyCode::Right));
     a.on_key(key(KeyCode::Char('w')));
     let saved = std::fs::read_to_string(&path).unwrap();
@@ -284,7 +290,7 @@ fn archetypes_are_valid_and_a_key_applies_them() {
     a.on_key(key(KeyCode::Down));
     a.on_key(key(KeyCode::Esc));
     assert_eq!(a.slot().scenario.amp, list[1].amp);
-    a.selected = loopwright::ui::params::Param::Gbw;
+    a.selected = loopwright::engine::params::param("amp.gbw").unwrap();
     a.on_key(key(KeyCode::Right));
     assert_ne!(a.slot().scenario.amp.gbw, list[1].amp.gbw);
 }

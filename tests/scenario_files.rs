@@ -4,7 +4,7 @@
 mod common;
 use common::bin;
 use loopwright::engine::scenario::{Scenario, DEMO_RON};
-use loopwright::engine::{analyze, Topology};
+use loopwright::engine::{evaluate, Topology};
 
 const DOC_EXAMPLE: &str = r#"(
     title: "Bridge sensor front-end, gain 11",
@@ -44,7 +44,7 @@ fn omitted_optional_fields_are_absent() {
     assert_eq!(s.stage.cf, None);
     assert_eq!(s.amp.rin, None);
     assert_eq!(s.load.r, None);
-    assert!(analyze(&s).dc_gain > 10.0);
+    assert!(evaluate(&s).dc_gain > 10.0);
 }
 
 #[test]
@@ -74,7 +74,7 @@ fn follower_without_rg_or_rf() {
         "topology: Follower,",
     );
     let s = Scenario::from_ron(&text, None).unwrap();
-    let a = analyze(&s);
+    let a = evaluate(&s);
     assert!((a.ideal_gain - 1.0).abs() < 1e-12);
 }
 
@@ -176,7 +176,7 @@ fn every_library_scenario_loads_analyses_and_round_trips() {
         }
         n += 1;
         let s = Scenario::load(&path).unwrap_or_else(|e| panic!("{e}"));
-        let a = analyze(&s);
+        let a = evaluate(&s);
         assert!(
             a.dc_gain.is_finite() && a.noise_rms.is_finite(),
             "{}",

@@ -50,7 +50,7 @@ fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
     assert!(line_with(&before, " rf ").contains("10kΩ"), "{before}");
     let gain_before = line_with(&before, "A ").to_string();
     // rf is selected at start; step it up once along E24 (IEC 60063: 10 → 11).
-    assert_eq!(a.selected, loopwright::ui::params::Param::Rf);
+    assert_eq!(a.selected.path, "stage.rf");
     a.on_key(key(KeyCode::Right));
     let after = screen(&a, 100, 30);
     assert!(line_with(&after, " rf ").contains("11kΩ"), "{after}");
@@ -82,8 +82,9 @@ fn help_lists_the_keys() {
     let mut a = app(vec![scenario::demo()]);
     a.on_key(key(KeyCode::Char('?')));
     let text = screen(&a, 100, 30);
-    for k in loopwright::ui::view::KEYS {
-        assert!(text.contains(k.1), "help is missing {:?}", k);
+    for k in loopwright::ui::keys::help_rows() {
+        assert!(text.contains(k.help), "help is missing {:?}", k);
+        assert!(text.contains(k.shown), "help is missing {:?}", k);
     }
     a.on_key(key(KeyCode::Char('x')));
     assert!(!screen(&a, 100, 30).contains("this help"));
@@ -183,7 +184,7 @@ fn view_toggle_and_select_with_vi_keys() {
     // The biggest contributors are named with their share of the band power.
     assert!(text.contains("amp voltage noise 86%"), "{text}");
     a.on_key(key(KeyCode::Char('k')));
-    assert_eq!(a.selected, loopwright::ui::params::Param::Rg);
+    assert_eq!(a.selected.path, "stage.rg");
     a.on_key(key(KeyCode::Char('h')));
     assert_eq!(a.slot().scenario.stage.rg, Some(910.0));
     a.on_key(key(KeyCode::Char('q')));
@@ -308,7 +309,7 @@ mod random_keys {
 #[test]
 fn follower_rf_can_be_a_resistor_or_a_wire() {
     let mut s = scenario::demo();
-    loopwright::ui::params::set_topology(&mut s, loopwright::engine::Topology::Follower);
+    loopwright::engine::params::set_topology(&mut s, loopwright::engine::Topology::Follower);
     s.stage.rf = None;
     let mut a = app(vec![s]);
     let text = screen(&a, 100, 30);

@@ -1,10 +1,10 @@
 //! One analysis call: every figure the views show, from one netlist solved
 //! by modified nodal analysis at each frequency (one LU per point).
 
-use super::netlist::{Coupling, Netlist};
+pub use super::netlist::MAX_NOISE;
+use super::netlist::{AmpModel, Coupling, LoadState, Netlist, NoiseKind};
 use super::scenario::{present, Scenario};
 use super::solver::{Lu, Vector, MAXN, ZERO};
-use super::warnings::{self, Warning};
 use num_complex::Complex64 as C64;
 use std::cell::RefCell;
 use std::f64::consts::PI;
@@ -18,9 +18,6 @@ pub const POINTS_PER_DECADE: usize = 30;
 /// Input impedances above this are reported as open (the solve cannot
 /// resolve them against the source's own current).
 pub const ZIN_OPEN_OHM: f64 = 1.0e15;
-
-/// Most noise sources a stage has (source r, rg, rf, riso, en, in+, in−).
-pub const MAX_NOISE: usize = 8;
 
 /// Everything solved at one frequency.
 #[derive(Debug, Clone, Copy)]
@@ -54,7 +51,7 @@ pub struct Circuit {
 impl Circuit {
     pub fn new(s: &Scenario) -> Circuit {
         Circuit {
-            net: Netlist::build(s),
+            net: Netlist::build(s, AmpModel::Real),
             work: RefCell::new(Lu::zeroed()),
         }
     }
@@ -62,9 +59,37 @@ impl Circuit {
     /// Stamp and factor the matrix at s into the workspace.
     fn factor_at(&self, s: C64) -> Option<std::cell::RefMut<'_, Lu>> {
         let mut lu = self.work.borrow_mut();
-        self.net.stamp_into(s, lu.matrix());
+        self.net.stamp_into(s, lu.matrix(), LoadState::Attached);
         lu.factor_in_place(self.net.dim).ok()?;
         Some(lu)
+    }
+
+    /// Zout with the load removed from the matrix: one more solve, for
+    /// the points where taking the load out of Z∥ would cancel digits.
+    fn zout_unloaded(&self, s: C64) -> Option<C64> {
+        let net = &self.net;
+        let o = net.out?;
+        let mut m = [[ZERO; MAXN]; MAXN];
+        net.stamp_into(s, &mut m, LoadState::Removed);
+        let lu = Lu::factor(m, net.dim).ok()?;
+        let mut e = [ZERO; MAXN];
+        e[o] = C64::new(1.0, 0.0);
+        Some(lu.solve(&e)[o])
+    }
+
+    /// Zout (load removed) from Z∥ = Zout ∥ load: 1/(1/Z∥ − Y_L), solved
+    /// again without the load when that subtraction would lose more than
+    /// about six digits (a high Zout behind a low load).
+    fn zout_from_parallel(&self, s: C64, z_par: C64) -> C64 {
+        let yl = self.net.load_admittance(s);
+        if yl == ZERO {
+            return z_par;
+        }
+        let kept = C64::new(1.0, 0.0) - yl * z_par;
+        if kept.norm() > 1e-6 {
+            return z_par / kept;
+        }
+        self.zout_unloaded(s).unwrap_or(z_par / kept)
     }
 
     /// Like [`Circuit::eval`], with all-zero figures where the matrix is
@@ -134,14 +159,9 @@ impl Circuit {
             lu.solve_transposed_into(&eo, &mut z);
         }
         let z_par = Netlist::node_v(&z[..n], net.out);
-        let yl = net.load_admittance(s);
-        let zout = if yl == ZERO {
-            z_par
-        } else {
-            1.0 / (1.0 / z_par - yl)
-        };
+        let zout = self.zout_from_parallel(s, z_par);
         let mut noise_psd = [0.0; MAX_NOISE];
-        for (k, src) in net.noise.iter().enumerate().take(MAX_NOISE) {
+        for (k, src) in net.noise.iter().enumerate() {
             let h = match src.coupling {
                 Coupling::Current(a, b) => Netlist::node_v(&z, a) - Netlist::node_v(&z, b),
                 Coupling::Branch(r) => z[r],
@@ -172,6 +192,7 @@ pub struct Sweep {
 pub struct NoiseShare {
     pub key: &'static str,
     pub label: &'static str,
+    pub kind: NoiseKind,
     /// rms over the band, V.
     pub rms: f64,
     /// Fraction of the total noise power over the band (the shares sum to 1).
@@ -197,11 +218,12 @@ pub struct Analysis {
     pub phase_margin_without_load_c: Option<f64>,
     pub zout_dc_ohm: f64,
     pub zin_dc_ohm: Option<f64>,
+    /// |Zout| at 1 kHz.
+    pub zout_1khz_ohm: Option<f64>,
     pub noise_density_1khz: f64,
     pub noise_rms: f64,
     pub noise_sources: Vec<NoiseShare>,
     pub sweep: Sweep,
-    pub warnings: Vec<Warning>,
     /// The point at DC.
     pub dc: Point,
 }
@@ -228,13 +250,41 @@ pub fn unwrap_near(z: C64, reference: f64) -> f64 {
     p + 360.0 * ((reference - p) / 360.0).round()
 }
 
-/// The log-spaced sweep frequencies from `lo` to `hi`.
-pub fn sweep_frequencies(lo: f64, hi: f64) -> Vec<f64> {
-    let decades = (hi / lo).log10();
-    let n = (decades * POINTS_PER_DECADE as f64).ceil().max(1.0) as usize;
+/// Most sweep points, whatever the band (18 decades at 30 per decade fit).
+const MAX_SWEEP_POINTS: usize = 2000;
+
+/// `per_decade` log-spaced frequencies from `lo` to `hi` (both ends
+/// included; at most [`MAX_SWEEP_POINTS`]).
+pub fn log_grid(lo: f64, hi: f64, per_decade: f64) -> Vec<f64> {
+    let decades = hi.log10() - lo.log10();
+    if !(decades.is_finite() && decades > 0.0) {
+        return vec![lo];
+    }
+    let n = ((decades * per_decade).ceil() as usize).clamp(1, MAX_SWEEP_POINTS);
     (0..=n)
         .map(|i| lo * 10f64.powf(decades * i as f64 / n as f64))
         .collect()
+}
+
+/// The log-spaced sweep frequencies from `lo` to `hi`.
+pub fn sweep_frequencies(lo: f64, hi: f64) -> Vec<f64> {
+    log_grid(lo, hi, POINTS_PER_DECADE as f64)
+}
+
+/// The bracket around the first sweep point `i` where a condition holds:
+/// the point before it, or far below the first point.
+fn bracket(freqs: impl Fn(usize) -> f64, i: usize) -> (f64, f64) {
+    let below = if i == 0 {
+        freqs(0) * 1e-3
+    } else {
+        freqs(i - 1)
+    };
+    (below, freqs(i))
+}
+
+/// Refine a sign change of g(f) between fa and fb on ln f.
+fn refine_between(fa: f64, fb: f64, g: impl Fn(f64) -> f64) -> f64 {
+    refine_root(fa.ln(), fb.ln(), |x| g(x.exp())).exp()
 }
 
 /// Find x in [a, b] where g changes sign (g(a), g(b) of opposite signs),
@@ -296,15 +346,13 @@ fn crossover(
         return None;
     }
     let i = grid.iter().position(|g| g.1.norm() < 1.0)?;
-    let (fa, ref_phase) = if i == 0 {
-        (grid[0].0 * 1e-3, unwrap_near(t_dc, 0.0))
+    let (fa, fb) = bracket(|k| grid[k].0, i);
+    let ref_phase = if i == 0 {
+        unwrap_near(t_dc, 0.0)
     } else {
-        (grid[i - 1].0, grid[i - 1].2)
+        grid[i - 1].2
     };
-    let fc = refine_root(fa.ln(), grid[i].0.ln(), |x| {
-        loop_at(x.exp()).norm_sqr().ln()
-    })
-    .exp();
+    let fc = refine_between(fa, fb, |f| loop_at(f).norm_sqr().ln());
     Some((fc, 180.0 + unwrap_near(loop_at(fc), ref_phase)))
 }
 
@@ -368,55 +416,50 @@ fn band_power(points: &[Point], lo: f64, hi: f64, n_src: usize) -> Vec<f64> {
     p
 }
 
-/// Run every analysis of the scenario. The scenario must be valid
-/// ([`Scenario::validate`]); an invalid one gives NaN-free but meaningless
-/// results and an input warning.
-pub fn analyze(s: &Scenario) -> Analysis {
-    let circuit = Circuit::new(s);
-    let ideal = Netlist::build_ideal(s);
-    let ideal_gain = Lu::factor(ideal.stamp(ZERO), ideal.dim)
+/// The DC gain of the same passive network around a nullor.
+fn ideal_gain(s: &Scenario) -> f64 {
+    let ideal = Netlist::build(s, AmpModel::Nullor);
+    Lu::factor(ideal.stamp(ZERO), ideal.dim)
         .ok()
         .map(|lu| Netlist::node_v(&lu.solve(&ideal.drive_rhs()), ideal.out).re)
-        .unwrap_or(f64::NAN);
+        .unwrap_or(f64::NAN)
+}
 
-    let eval = |f: f64| circuit.eval_or_blank(f);
-    let gain_at = |f: f64| circuit.gain_and_loop(f).0;
-    let loop_at = |f: f64| circuit.gain_and_loop(f).1;
-    let dc = eval(0.0);
-    let dc_gain = dc.gain.re;
-
-    // Sweep, widened to cover the noise band.
-    let (band_lo, band_hi) = s.band;
-    let lo = SWEEP_START_HZ.min(band_lo);
-    let hi = SWEEP_STOP_HZ.max(band_hi);
-    let mut freqs = sweep_frequencies(lo, hi);
+/// The sweep, widened to cover the band, with the band edges as points and
+/// the loop phase unwrapped from DC.
+fn run_sweep(circuit: &Circuit, band: (f64, f64), dc: &Point) -> Sweep {
+    let (band_lo, band_hi) = band;
+    let mut freqs = sweep_frequencies(SWEEP_START_HZ.min(band_lo), SWEEP_STOP_HZ.max(band_hi));
     for f in [band_lo, band_hi] {
         if let Err(i) = freqs.binary_search_by(|x| x.total_cmp(&f)) {
             freqs.insert(i, f);
         }
     }
-    let points: Vec<Point> = freqs.iter().map(|&f| eval(f)).collect();
+    let points: Vec<Point> = freqs.iter().map(|&f| circuit.eval_or_blank(f)).collect();
     let mut loop_phase_deg = Vec::with_capacity(points.len());
     let mut prev = unwrap_near(dc.loop_gain, 0.0);
     for p in &points {
         prev = unwrap_near(p.loop_gain, prev);
         loop_phase_deg.push(prev);
     }
+    Sweep {
+        points,
+        loop_phase_deg,
+    }
+}
 
-    // f−3dB: first fall of |H| through |dc|/√2.
+/// f−3dB: the first fall of |H| through |dc|/√2.
+fn f_3db(circuit: &Circuit, points: &[Point], dc_gain: f64) -> Option<f64> {
     let target = dc_gain.abs() / 2f64.sqrt();
-    let f_3db_hz = points.iter().position(|p| p.gain.norm() < target).map(|i| {
-        let fa = if i == 0 {
-            lo * 1e-3
-        } else {
-            points[i - 1].f_hz
-        };
-        let fb = points[i].f_hz;
-        let g = |x: f64| 0.5 * gain_at(x.exp()).norm_sqr().ln() - target.ln();
-        refine_root(fa.ln(), fb.ln(), g).exp()
-    });
+    let i = points.iter().position(|p| p.gain.norm() < target)?;
+    let (fa, fb) = bracket(|k| points[k].f_hz, i);
+    Some(refine_between(fa, fb, |f| {
+        0.5 * circuit.gain_and_loop(f).0.norm_sqr().ln() - target.ln()
+    }))
+}
 
-    // Peaking: max |H| relative to DC.
+/// Peaking: the largest |H| relative to DC, in dB (never below 0).
+fn peaking_db(circuit: &Circuit, points: &[Point], dc_gain: f64) -> f64 {
     let (imax, _) = points
         .iter()
         .enumerate()
@@ -428,130 +471,144 @@ pub fn analyze(s: &Scenario) -> Analysis {
                 (bi, bv)
             }
         });
+    let on_grid = points[imax].gain.norm();
     let peak = if imax > 0 && imax + 1 < points.len() {
-        let (_, v) = refine_max(
-            points[imax - 1].f_hz.ln(),
-            points[imax + 1].f_hz.ln(),
-            |x| gain_at(x.exp()).norm(),
-        );
-        v.max(points[imax].gain.norm())
+        let (a, b) = (points[imax - 1].f_hz.ln(), points[imax + 1].f_hz.ln());
+        let (_, v) = refine_max(a, b, |x| circuit.gain_and_loop(x.exp()).0.norm());
+        v.max(on_grid)
     } else {
-        points[imax].gain.norm()
+        on_grid
     };
-    let peaking_db = if dc_gain != 0.0 {
+    if dc_gain != 0.0 {
         (20.0 * (peak / dc_gain.abs()).log10()).max(0.0)
     } else {
         0.0
-    };
+    }
+}
 
-    // Crossover and phase margin.
-    let loop_gain_dc = dc.loop_gain.re;
-    let grid: Vec<(f64, C64, f64)> = points
+/// The loop on a sweep as (f, T, unwrapped arg T).
+fn loop_grid(sweep: &Sweep) -> Vec<(f64, C64, f64)> {
+    sweep
+        .points
         .iter()
-        .zip(&loop_phase_deg)
+        .zip(&sweep.loop_phase_deg)
         .map(|(p, ph)| (p.f_hz, p.loop_gain, *ph))
-        .collect();
-    let (crossover_hz, phase_margin_deg) = match crossover(dc.loop_gain, &grid, loop_at) {
-        Some((fc, pm)) => (Some(fc), Some(pm)),
-        None => (None, None),
-    };
+        .collect()
+}
 
-    // What the load capacitance costs: the same loop without it, on a
-    // coarse grid (4 points per decade) up to its crossover.
-    let phase_margin_without_load_c = match (present(s.load.c), phase_margin_deg) {
-        (Some(_), Some(_)) => {
-            let mut bare = s.clone();
-            bare.load.c = None;
-            let c2 = Circuit::new(&bare);
-            let t0 = c2.gain_and_loop(0.0).1;
-            let mut grid = Vec::new();
-            let mut prev = unwrap_near(t0, 0.0);
-            let decades = (hi / lo).log10();
-            let n = (decades * 4.0).ceil() as usize;
-            for i in 0..=n {
-                let f = lo * 10f64.powf(decades * i as f64 / n as f64);
-                let t = c2.gain_and_loop(f).1;
-                prev = unwrap_near(t, prev);
-                grid.push((f, t, prev));
-                if t.norm() < 1.0 {
-                    break;
-                }
-            }
-            crossover(t0, &grid, |f| c2.gain_and_loop(f).1).map(|(_, pm)| pm)
-        }
-        _ => None,
+/// Gain margin and where the unwrapped loop phase first reaches −180°.
+fn gain_margin(circuit: &Circuit, sweep: &Sweep, t_dc: C64) -> Option<(f64, f64)> {
+    let phases = &sweep.loop_phase_deg;
+    let i = phases.iter().position(|&p| p <= -180.0)?;
+    let (fa, fb) = bracket(|k| sweep.points[k].f_hz, i);
+    let ref_phase = if i == 0 {
+        unwrap_near(t_dc, 0.0)
+    } else {
+        phases[i - 1]
     };
+    let loop_at = |f: f64| circuit.gain_and_loop(f).1;
+    let f180 = refine_between(fa, fb, |f| unwrap_near(loop_at(f), ref_phase) + 180.0);
+    let t = loop_at(f180).norm();
+    (t > 0.0).then(|| (-20.0 * t.log10(), f180))
+}
 
-    // Gain margin: where the unwrapped phase first reaches −180°.
-    let mut gain_margin_db = None;
-    let mut phase_180_hz = None;
-    if let Some(i) = loop_phase_deg.iter().position(|&p| p <= -180.0) {
-        let (fa, fb, ref_phase) = if i == 0 {
-            (lo * 1e-3, points[0].f_hz, unwrap_near(dc.loop_gain, 0.0))
-        } else {
-            (points[i - 1].f_hz, points[i].f_hz, loop_phase_deg[i - 1])
-        };
-        let g = |x: f64| unwrap_near(loop_at(x.exp()), ref_phase) + 180.0;
-        let f180 = refine_root(fa.ln(), fb.ln(), g).exp();
-        let t = loop_at(f180).norm();
-        if t > 0.0 {
-            gain_margin_db = Some(-20.0 * t.log10());
-            phase_180_hz = Some(f180);
+/// What the load capacitance costs: the phase margin of the same loop
+/// without it, on a coarse grid (4 points per decade) up to its crossover.
+fn margin_without_load_c(s: &Scenario, lo: f64, hi: f64) -> Option<f64> {
+    let mut bare = s.clone();
+    bare.load.c = None;
+    let c2 = Circuit::new(&bare);
+    let t0 = c2.gain_and_loop(0.0).1;
+    let mut grid = Vec::new();
+    let mut prev = unwrap_near(t0, 0.0);
+    for f in log_grid(lo, hi, 4.0) {
+        let t = c2.gain_and_loop(f).1;
+        prev = unwrap_near(t, prev);
+        grid.push((f, t, prev));
+        if t.norm() < 1.0 {
+            break;
         }
     }
+    crossover(t0, &grid, |f| c2.gain_and_loop(f).1).map(|(_, pm)| pm)
+}
 
-    // Noise.
-    let n_src = circuit.net.noise.len().min(MAX_NOISE);
-    let powers = band_power(&points, band_lo, band_hi, n_src);
+/// Each noise source's rms over the band and share of the total power;
+/// the total rms.
+fn noise_shares(net: &Netlist, points: &[Point], band: (f64, f64)) -> (Vec<NoiseShare>, f64) {
+    let powers = band_power(points, band.0, band.1, net.noise.len());
     let total: f64 = powers.iter().sum();
-    let noise_sources = circuit
-        .net
+    let shares = net
         .noise
         .iter()
         .zip(&powers)
         .map(|(src, &pw)| NoiseShare {
             key: src.key,
             label: src.label,
+            kind: src.kind,
             rms: pw.sqrt(),
             share: if total > 0.0 { pw / total } else { 0.0 },
         })
         .collect();
-    let noise_density_1khz = eval(1.0e3).noise_density();
+    (shares, total.sqrt())
+}
 
+/// Run every analysis of the scenario: figures only (the design rules are
+/// applied by [`crate::engine::evaluate`]). The scenario must be valid
+/// ([`Scenario::validate`]); an invalid one gives meaningless results.
+pub fn analyze(s: &Scenario) -> Analysis {
+    let circuit = Circuit::new(s);
+    let ideal_gain = ideal_gain(s);
+    let dc = circuit.eval_or_blank(0.0);
+    let dc_gain = dc.gain.re;
+    let sweep = run_sweep(&circuit, s.band, &dc);
+    let (lo, hi) = (
+        sweep.points.first().map_or(SWEEP_START_HZ, |p| p.f_hz),
+        sweep.points.last().map_or(SWEEP_STOP_HZ, |p| p.f_hz),
+    );
+    let cross = crossover(dc.loop_gain, &loop_grid(&sweep), |f| {
+        circuit.gain_and_loop(f).1
+    });
+    let phase_margin_deg = cross.map(|c| c.1);
+    let margin_without = present(s.load.c)
+        .and(phase_margin_deg)
+        .and_then(|_| margin_without_load_c(s, lo, hi));
+    let gm = gain_margin(&circuit, &sweep, dc.loop_gain);
+    let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
     let gain_error = if ideal_gain != 0.0 && ideal_gain.is_finite() {
         (dc_gain - ideal_gain) / ideal_gain
     } else {
         0.0
     };
-    let mut a = Analysis {
+    Analysis {
         ideal_gain,
         dc_gain,
         gain_error,
-        f_3db_hz,
-        peaking_db,
-        loop_gain_dc,
-        crossover_hz,
+        f_3db_hz: f_3db(&circuit, &sweep.points, dc_gain),
+        peaking_db: peaking_db(&circuit, &sweep.points, dc_gain),
+        loop_gain_dc: dc.loop_gain.re,
+        crossover_hz: cross.map(|c| c.0),
         phase_margin_deg,
-        gain_margin_db,
-        phase_180_hz,
-        phase_margin_without_load_c,
+        gain_margin_db: gm.map(|g| g.0),
+        phase_180_hz: gm.map(|g| g.1),
+        phase_margin_without_load_c: margin_without,
         zout_dc_ohm: dc.zout.re,
         zin_dc_ohm: dc.zin.map(|z| z.re),
-        noise_density_1khz,
-        noise_rms: total.sqrt(),
+        zout_1khz_ohm: circuit.eval(1.0e3).map(|p| p.zout.norm()),
+        noise_density_1khz: circuit.eval_or_blank(1.0e3).noise_density(),
+        noise_rms,
         noise_sources,
-        sweep: Sweep {
-            points,
-            loop_phase_deg,
-        },
-        warnings: Vec::new(),
+        sweep,
         dc,
-    };
-    a.warnings = warnings::check(s, &a);
-    a
+    }
 }
 
 impl Analysis {
+    /// Whether the loop is unstable (phase margin at or below 0°): its
+    /// closed-loop figures then mean nothing.
+    pub fn unstable(&self) -> bool {
+        self.phase_margin_deg.is_some_and(|pm| pm <= 0.0)
+    }
+
     /// Unwrapped loop phase (degrees) at any frequency: continued from the
     /// nearest sweep point below it, stepping on a sweep-density grid past
     /// the end of the sweep so no wrap is missed.

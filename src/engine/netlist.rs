@@ -2,7 +2,7 @@
 //! at any complex frequency. Topologies differ only in how the builder wires
 //! the same elements; the solver never knows which one it has.
 
-use super::scenario::{present, Scenario, Topology};
+use super::scenario::{present, Amp, Scenario, Topology};
 use super::solver::{Matrix, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
 
@@ -29,12 +29,26 @@ enum Pin {
 }
 const PINS: usize = 9;
 
+/// What a noise source is, so rules can tell what the designer can change.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum NoiseKind {
+    /// A resistor of the stage (rg, rf, riso): the designer picks it.
+    StageResistor,
+    /// The signal source's own resistance: given by the application.
+    SourceResistance,
+    /// The amplifier's voltage noise.
+    AmpVoltage,
+    /// The amplifier's current noise at one input.
+    AmpCurrent,
+}
+
 /// A noise source of the stage and the way it couples in.
 #[derive(Debug, Clone)]
 pub struct NoiseSource {
     /// Stable key (JSON) and the name shown to people.
     pub key: &'static str,
     pub label: &'static str,
+    pub kind: NoiseKind,
     pub coupling: Coupling,
     /// White density: A²/Hz for currents, V²/Hz for voltages.
     pub white: f64,
@@ -67,6 +81,16 @@ enum Element {
     Capacitance(Option<usize>, Option<usize>, f64),
 }
 
+/// The op-amp model a netlist is built with.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AmpModel {
+    /// The scenario's model: finite A(s), rin, cin, ro.
+    Real,
+    /// A nullor: no input current, zero differential input, zero output
+    /// resistance (the same passive network around an ideal op-amp).
+    Nullor,
+}
+
 /// The stamped form of one stage.
 #[derive(Debug, Clone)]
 pub struct Netlist {
@@ -75,7 +99,7 @@ pub struct Netlist {
     elements: Vec<Element>,
     /// How the source EMF drives the stage.
     pub drive: Drive,
-    pub en_row: usize,
+    en_row: usize,
     /// The unknown whose equation carries the controlled source: its
     /// branch row (ideal output) or the output node (Norton form).
     pub amp_row: usize,
@@ -90,13 +114,20 @@ pub struct Netlist {
     a0: f64,
     wp1: f64,
     wp2: Option<f64>,
-    ideal: bool,
+    model: AmpModel,
     pub out: Option<usize>,
     pub term: Option<usize>,
     /// Load at the out node (removed for Zout).
     pub load_g: f64,
     pub load_c: f64,
     pub noise: Vec<NoiseSource>,
+}
+
+/// Whether the load is stamped (it is removed to read Zout exactly).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LoadState {
+    Attached,
+    Removed,
 }
 
 /// The signal source: a Norton current into the input terminal when the
@@ -109,11 +140,187 @@ pub enum Drive {
     Branch { node: Option<usize>, row: usize },
 }
 
+/// Most noise sources a stage has (source r, rg, rf, riso, en, in+, in−).
+pub const MAX_NOISE: usize = 8;
+
 /// Boltzmann constant, J/K (SI 2019, exact).
 pub const BOLTZMANN: f64 = 1.380649e-23;
 
-/// A noisy resistor's (key, label).
-type NoiseTag = (&'static str, &'static str);
+/// The noisy resistors a stage can have: (key, label, kind). Every noise
+/// tag a wiring uses comes from here, so the count below is a bound.
+const NOISY: [(&str, &str, NoiseKind); 4] = [
+    ("source_r", "source r", NoiseKind::SourceResistance),
+    ("rg", "rg", NoiseKind::StageResistor),
+    ("rf", "rf", NoiseKind::StageResistor),
+    ("riso", "riso", NoiseKind::StageResistor),
+];
+const SOURCE_R: usize = 0;
+const RG: usize = 1;
+const RF: usize = 2;
+const RISO: usize = 3;
+/// The amplifier's noise sources: en and in at each input.
+const AMP_NOISE: usize = 3;
+const _: () = assert!(NOISY.len() + AMP_NOISE <= MAX_NOISE);
+/// At most every pin but ground and the source EMF is a node (the EMF is
+/// merged with ground behind a Norton source, or with the input terminal
+/// when the source is ideal), plus at most three branches (ideal EMF,
+/// voltage-noise probe, amplifier output): the matrix always fits.
+const _: () = assert!(PINS - 2 + 3 <= MAXN);
+
+/// One two-terminal part between logical pins.
+#[derive(Debug, Clone, Copy)]
+enum Part {
+    /// Ohms (zero = a wire) and, when it is noisy, its entry in [`NOISY`].
+    Resistor(Pin, Pin, f64, Option<usize>),
+    Capacitor(Pin, Pin, f64),
+    Wire(Pin, Pin),
+}
+
+/// The parts of the input side of each topology: the only place a
+/// topology's wiring is written. A new topology is a new arm here.
+fn topology_parts(s: &Scenario) -> Vec<Part> {
+    use Pin::*;
+    let rg = s.stage.rg.unwrap_or(1.0);
+    match s.stage.topology {
+        Topology::NonInverting => vec![
+            Part::Wire(Term, InP),
+            Part::Resistor(InN, Gnd, rg, Some(RG)),
+        ],
+        Topology::Inverting => vec![
+            Part::Wire(InP, Gnd),
+            Part::Resistor(Term, InN, rg, Some(RG)),
+        ],
+        Topology::Follower => vec![Part::Wire(Term, InP)],
+    }
+}
+
+/// Every part of the stage: source, topology, feedback, output, amplifier.
+fn parts(s: &Scenario, model: AmpModel) -> Vec<Part> {
+    use Pin::*;
+    let (st, amp) = (&s.stage, &s.amp);
+    let mut p = Vec::new();
+    // With resistance, the EMF is shorted into ground and the source
+    // becomes a Norton current into Term; the resistor (and its noise)
+    // then runs from Term to ground.
+    if s.source.r > 0.0 {
+        p.push(Part::Wire(Src, Gnd));
+    }
+    p.push(Part::Resistor(Src, Term, s.source.r, Some(SOURCE_R)));
+    p.extend(topology_parts(s));
+    let rf = st.rf.unwrap_or(0.0);
+    p.push(Part::Resistor(Amp, InN, rf, Some(RF)));
+    if let (true, Some(cf)) = (rf > 0.0, present(st.cf)) {
+        p.push(Part::Capacitor(Amp, InN, cf));
+    }
+    p.push(Part::Resistor(Amp, Out, st.riso.unwrap_or(0.0), Some(RISO)));
+    match model {
+        AmpModel::Real => {
+            if let Some(rin) = amp.rin {
+                p.push(Part::Resistor(InPi, InN, rin, None));
+            }
+            if let Some(cin) = present(amp.cin) {
+                p.push(Part::Capacitor(InPi, Gnd, cin));
+                p.push(Part::Capacitor(InN, Gnd, cin));
+            }
+            // The controlled source is stamped in Norton form (one node and
+            // one branch fewer): ro runs from the output to ground and a
+            // current A·Vd/ro flows into the output.
+            if amp.ro > 0.0 {
+                p.push(Part::Wire(Int, Gnd));
+            }
+            p.push(Part::Resistor(Int, Amp, amp.ro, None));
+        }
+        AmpModel::Nullor => p.push(Part::Wire(Int, Amp)),
+    }
+    p
+}
+
+/// Merge the pins joined by wires and zero-ohm resistors, then number the
+/// merged nodes (ground is None): each pin's row index.
+fn number_nodes(parts: &[Part]) -> ([Option<usize>; PINS], usize) {
+    let mut b = Builder {
+        parent: std::array::from_fn(|i| i),
+    };
+    for part in parts {
+        match *part {
+            Part::Wire(p, q) => b.wire(p, q),
+            Part::Resistor(p, q, 0.0, _) => b.wire(p, q),
+            _ => {}
+        }
+    }
+    let mut index = [None; PINS];
+    let mut count = 0;
+    let gnd_root = b.find(Pin::Gnd as usize);
+    for p in 0..PINS {
+        let r = b.find(p);
+        if r == gnd_root {
+            continue;
+        }
+        if index[r].is_none() {
+            index[r] = Some(count);
+            count += 1;
+        }
+        index[p] = index[r];
+    }
+    (index, count)
+}
+
+/// The admittance elements and the resistors' thermal noise.
+fn stamp_parts(
+    parts: &[Part],
+    node: impl Fn(Pin) -> Option<usize>,
+    kt: f64,
+) -> (Vec<Element>, Vec<NoiseSource>) {
+    let mut elements = Vec::new();
+    let mut noise = Vec::new();
+    for part in parts {
+        match *part {
+            Part::Resistor(p, q, r, tag) if r != 0.0 && node(p) != node(q) => {
+                let (a, c) = (node(p), node(q));
+                elements.push(Element::Conductance(a, c, 1.0 / r));
+                if let Some((key, label, kind)) = tag.map(|i| NOISY[i]) {
+                    noise.push(NoiseSource {
+                        key,
+                        label,
+                        kind,
+                        coupling: Coupling::Current(a, c),
+                        white: 4.0 * kt / r,
+                        corner: 0.0,
+                    });
+                }
+            }
+            Part::Capacitor(p, q, c) if node(p) != node(q) => {
+                elements.push(Element::Capacitance(node(p), node(q), c));
+            }
+            _ => {}
+        }
+    }
+    (elements, noise)
+}
+
+/// The amplifier's own noise: en in the branch `en_row`, in at each input.
+fn amp_noise(amp: &Amp, en_row: usize, node: impl Fn(Pin) -> Option<usize>) -> [NoiseSource; 3] {
+    let current = |key, label, pin| NoiseSource {
+        key,
+        label,
+        kind: NoiseKind::AmpCurrent,
+        coupling: Coupling::Current(node(pin), None),
+        white: amp.inoise * amp.inoise,
+        corner: amp.inoise_corner.unwrap_or(0.0),
+    };
+    [
+        NoiseSource {
+            key: "vnoise",
+            label: "amp voltage noise",
+            kind: NoiseKind::AmpVoltage,
+            coupling: Coupling::Branch(en_row),
+            white: amp.vnoise * amp.vnoise,
+            corner: amp.vnoise_corner.unwrap_or(0.0),
+        },
+        current("inoise_plus", "amp current noise +", Pin::InPi),
+        current("inoise_minus", "amp current noise −", Pin::InN),
+    ]
+}
 
 struct Builder {
     parent: [usize; PINS],
@@ -142,128 +349,20 @@ impl Builder {
 }
 
 impl Netlist {
-    /// The stage with the scenario's op-amp model.
-    pub fn build(s: &Scenario) -> Netlist {
-        Self::build_with(s, false)
-    }
-
-    /// The same passive network around an ideal op-amp (a nullor: no input
-    /// current, zero differential input, zero output resistance).
-    pub fn build_ideal(s: &Scenario) -> Netlist {
-        Self::build_with(s, true)
-    }
-
-    fn build_with(s: &Scenario, ideal: bool) -> Netlist {
+    /// The stage with the scenario's op-amp model, or around a nullor.
+    pub fn build(s: &Scenario, model: AmpModel) -> Netlist {
         use Pin::*;
-        let st = &s.stage;
-        let amp = &s.amp;
-        let mut b = Builder {
-            parent: std::array::from_fn(|i| i),
-        };
-        // Resistors: (from, to, ohms, noisy, key, label). Zero ohms is a wire.
-        let mut resistors: Vec<(Pin, Pin, f64, Option<NoiseTag>)> = Vec::new();
-        let mut caps: Vec<(Pin, Pin, f64)> = Vec::new();
-
-        // With resistance, the EMF is shorted into ground and the source
-        // becomes a Norton current into Term; the resistor (and its noise)
-        // then runs from Term to ground.
-        let norton = s.source.r > 0.0;
-        if norton {
-            b.wire(Src, Gnd);
-        }
-        resistors.push((Src, Term, s.source.r, Some(("source_r", "source r"))));
-        match st.topology {
-            Topology::NonInverting => {
-                b.wire(Term, InP);
-                resistors.push((InN, Gnd, st.rg.unwrap_or(1.0), Some(("rg", "rg"))));
-            }
-            Topology::Inverting => {
-                b.wire(InP, Gnd);
-                resistors.push((Term, InN, st.rg.unwrap_or(1.0), Some(("rg", "rg"))));
-            }
-            Topology::Follower => {
-                b.wire(Term, InP);
-            }
-        }
-        let rf = st.rf.unwrap_or(0.0);
-        resistors.push((Amp, InN, rf, Some(("rf", "rf"))));
-        if rf > 0.0 {
-            if let Some(cf) = present(st.cf) {
-                caps.push((Amp, InN, cf));
-            }
-        }
-        resistors.push((Amp, Out, st.riso.unwrap_or(0.0), Some(("riso", "riso"))));
-        if !ideal {
-            if let Some(rin) = amp.rin {
-                resistors.push((InPi, InN, rin, None));
-            }
-            if let Some(cin) = present(amp.cin) {
-                caps.push((InPi, Gnd, cin));
-                caps.push((InN, Gnd, cin));
-            }
-            // With output resistance the source is stamped in Norton form
-            // (one node and one branch fewer): ro runs from the output to
-            // ground and a current A·Vd/ro flows into the output.
-            if amp.ro > 0.0 {
-                b.wire(Int, Gnd);
-            }
-            resistors.push((Int, Amp, amp.ro, None));
-        } else {
-            b.wire(Int, Amp);
-        }
-        for &(p, q, r, _) in &resistors {
-            if r == 0.0 {
-                b.wire(p, q);
-            }
-        }
-
-        // Number the merged nodes; ground is None.
-        let mut index = [None; PINS];
-        let mut count = 0;
-        let gnd_root = b.find(Gnd as usize);
-        for p in 0..PINS {
-            let r = b.find(p);
-            if r == gnd_root {
-                continue;
-            }
-            if index[r].is_none() {
-                index[r] = Some(count);
-                count += 1;
-            }
-            index[p] = index[r];
-        }
+        let parts = parts(s, model);
+        let (index, count) = number_nodes(&parts);
         let node = |p: Pin| index[p as usize];
-
         let kt = BOLTZMANN * (s.temp_c + 273.15);
-        let mut elements = Vec::new();
-        let mut noise = Vec::new();
-        for &(p, q, r, tag) in &resistors {
-            let (a, c) = (node(p), node(q));
-            if r == 0.0 || a == c {
-                continue;
-            }
-            elements.push(Element::Conductance(a, c, 1.0 / r));
-            if let Some((key, label)) = tag {
-                noise.push(NoiseSource {
-                    key,
-                    label,
-                    coupling: Coupling::Current(a, c),
-                    white: 4.0 * kt / r,
-                    corner: 0.0,
-                });
-            }
-        }
-        for &(p, q, c) in &caps {
-            let (a, n) = (node(p), node(q));
-            if a != n {
-                elements.push(Element::Capacitance(a, n, c));
-            }
-        }
-        let (drive, branches) = if norton {
+        let (elements, mut noise) = stamp_parts(&parts, node, kt);
+        let (drive, branches) = if s.source.r > 0.0 {
+            let g = 1.0 / s.source.r;
             (
                 Drive::Norton {
                     node: node(Term),
-                    g: 1.0 / s.source.r,
+                    g,
                 },
                 count,
             )
@@ -277,32 +376,14 @@ impl Netlist {
             )
         };
         let en_row = branches;
-        let norton_amp = !ideal && amp.ro > 0.0;
+        let norton_amp = model == AmpModel::Real && s.amp.ro > 0.0;
         let (amp_row, dim) = if norton_amp {
             (node(Amp).unwrap_or(0), branches + 1)
         } else {
             (branches + 1, branches + 2)
         };
-        noise.push(NoiseSource {
-            key: "vnoise",
-            label: "amp voltage noise",
-            coupling: Coupling::Branch(en_row),
-            white: amp.vnoise * amp.vnoise,
-            corner: amp.vnoise_corner.unwrap_or(0.0),
-        });
-        for (key, label, pin) in [
-            ("inoise_plus", "amp current noise +", InPi),
-            ("inoise_minus", "amp current noise −", InN),
-        ] {
-            noise.push(NoiseSource {
-                key,
-                label,
-                coupling: Coupling::Current(node(pin), None),
-                white: amp.inoise * amp.inoise,
-                corner: amp.inoise_corner.unwrap_or(0.0),
-            });
-        }
-        let wp1 = 2.0 * std::f64::consts::PI * amp.gbw / amp.a0;
+        noise.extend(amp_noise(&s.amp, en_row, node));
+        let amp = &s.amp;
         Netlist {
             dim,
             inv_ro: if norton_amp { 1.0 / amp.ro } else { 0.0 },
@@ -315,9 +396,9 @@ impl Netlist {
             sense_p: node(InPi),
             sense_n: node(InN),
             a0: amp.a0,
-            wp1,
+            wp1: 2.0 * std::f64::consts::PI * amp.gbw / amp.a0,
             wp2: amp.fp2.map(|f| 2.0 * std::f64::consts::PI * f),
-            ideal,
+            model,
             out: node(Out),
             term: node(Term),
             load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
@@ -353,12 +434,12 @@ impl Netlist {
     /// The full matrix at s (load attached, amplifier active).
     pub fn stamp(&self, s: C64) -> Matrix {
         let mut m = [[ZERO; MAXN]; MAXN];
-        self.stamp_into(s, &mut m);
+        self.stamp_into(s, &mut m, LoadState::Attached);
         m
     }
 
     /// Stamp the matrix at s into `m` (its leading `dim`×`dim` block).
-    pub fn stamp_into(&self, s: C64, m: &mut Matrix) {
+    pub fn stamp_into(&self, s: C64, m: &mut Matrix, load: LoadState) {
         for row in m.iter_mut().take(self.dim) {
             row[..self.dim].fill(ZERO);
         }
@@ -380,7 +461,9 @@ impl Netlist {
                 Element::Capacitance(a, b, c) => admit(a, b, s * c),
             }
         }
-        admit(self.out, None, self.load_admittance(s));
+        if load == LoadState::Attached {
+            admit(self.out, None, self.load_admittance(s));
+        }
         let one = C64::new(1.0, 0.0);
         // Ideal source EMF: V(src) = E; its current leaves src into the source.
         if let Drive::Branch { node: Some(i), row } = self.drive {
@@ -413,7 +496,7 @@ impl Netlist {
         if let Some(i) = self.amp_out {
             m[i][r] += one;
         }
-        if self.ideal {
+        if self.model == AmpModel::Nullor {
             if let Some(i) = self.sense_p {
                 m[r][i] += one;
             }

@@ -279,121 +279,15 @@ impl Scenario {
         ron::ser::to_string_pretty(self, config).unwrap_or_else(|e| format!("// {e}"))
     }
 
-    /// Check every field; all problems are returned, in file order.
+    /// Check every field against the parameter table; all problems are
+    /// returned, in file order.
     pub fn validate(&self) -> Result<(), Vec<FieldProblem>> {
-        let mut p = Vec::new();
-        let mut check =
-            |field: &str, v: f64, ok: bool, rule: &str| check_field(&mut p, field, v, ok, rule);
-        let pos = "must be greater than zero";
-        let nonneg = "must not be negative (0 means absent)";
-        let s = &self.stage;
-        let gain_stage = s.topology != Topology::Follower;
-        let needs = |name: &str| format!("is missing: a {} stage needs {name}", s.topology.name());
-        match s.rg {
-            Some(v) => check("stage.rg", v, v > 0.0, pos),
-            None if gain_stage => check("stage.rg", 0.0, false, &needs("rg")),
-            None => {}
-        }
-        match s.rf {
-            Some(v) if gain_stage => check("stage.rf", v, v > 0.0, pos),
-            Some(v) => check(
-                "stage.rf",
-                v,
-                v >= 0.0,
-                "must not be negative (0 means a wire)",
-            ),
-            None if gain_stage => check("stage.rf", 0.0, false, &needs("rf")),
-            None => {}
-        }
-        if let Some(v) = s.cf {
-            check("stage.cf", v, v >= 0.0, nonneg);
-        }
-        if let Some(v) = s.riso {
-            check("stage.riso", v, v >= 0.0, nonneg);
-        }
-        check(
-            "stage.tolerance",
-            s.tolerance,
-            s.tolerance > 0.0 && s.tolerance < 1.0,
-            "must be a fraction between 0 and 1 (0.01 = 1 %)",
-        );
-        let a = &self.amp;
-        check("amp.a0", a.a0, a.a0 >= 1.0, "must be at least 1");
-        check("amp.gbw", a.gbw, a.gbw > 0.0, pos);
-        if let Some(v) = a.fp2 {
-            check("amp.fp2", v, v > 0.0, pos);
-        }
-        if let Some(v) = a.rin {
-            check("amp.rin", v, v > 0.0, pos);
-        }
-        if let Some(v) = a.cin {
-            check("amp.cin", v, v >= 0.0, nonneg);
-        }
-        check("amp.ro", a.ro, a.ro > 0.0, pos);
-        check("amp.vnoise", a.vnoise, a.vnoise >= 0.0, nonneg);
-        if let Some(v) = a.vnoise_corner {
-            check("amp.vnoise_corner", v, v >= 0.0, nonneg);
-        }
-        check("amp.inoise", a.inoise, a.inoise >= 0.0, nonneg);
-        if let Some(v) = a.inoise_corner {
-            check("amp.inoise_corner", v, v >= 0.0, nonneg);
-        }
-        check(
-            "source.r",
-            self.source.r,
-            self.source.r >= 0.0,
-            "must not be negative (0 means an ideal source)",
-        );
-        if let Some(v) = self.load.r {
-            check("load.r", v, v > 0.0, pos);
-        }
-        if let Some(v) = self.load.c {
-            check("load.c", v, v >= 0.0, nonneg);
-        }
-        check(
-            "temp_c",
-            self.temp_c,
-            self.temp_c > -273.15,
-            "is below absolute zero",
-        );
-        let (lo, hi) = self.band;
-        check(
-            "band",
-            lo,
-            lo > 0.0,
-            "(band start) must be greater than zero",
-        );
-        check(
-            "band",
-            hi,
-            hi > lo,
-            "(band end) must be above the band start",
-        );
+        let p = super::params::problems(self);
         if p.is_empty() {
             Ok(())
         } else {
             Err(p)
         }
-    }
-}
-
-fn check_field(p: &mut Vec<FieldProblem>, field: &str, v: f64, ok: bool, rule: &str) {
-    if !v.is_finite() {
-        p.push(FieldProblem {
-            field: field.into(),
-            message: format!("{v} is not a finite number"),
-        });
-    } else if !ok {
-        // A missing value has no number to show.
-        let message = if rule.starts_with("is missing") {
-            format!("the field {rule}")
-        } else {
-            format!("{v} {rule}")
-        };
-        p.push(FieldProblem {
-            field: field.into(),
-            message,
-        });
     }
 }
 
@@ -537,54 +431,11 @@ pub fn demo() -> Scenario {
 }
 
 impl Scenario {
-    /// Every field as (dotted name, value text), in file order; absent
-    /// optional fields read "none". Used to list what differs between two
-    /// stages.
-    pub fn field_list(&self) -> Vec<(&'static str, String)> {
-        use super::values::fmt_compact;
-        let num = |v: f64| fmt_compact(v);
-        let opt = |v: Option<f64>| v.map(fmt_compact).unwrap_or_else(|| "none".into());
-        let st = &self.stage;
-        let a = &self.amp;
-        vec![
-            ("title", self.title.clone()),
-            ("stage.topology", st.topology.name().into()),
-            ("stage.rg", opt(st.rg)),
-            ("stage.rf", opt(st.rf)),
-            ("stage.cf", opt(present(st.cf))),
-            ("stage.riso", opt(present(st.riso))),
-            ("stage.series", st.series.name().into()),
-            ("stage.tolerance", num(st.tolerance)),
-            ("amp.a0", num(a.a0)),
-            ("amp.gbw", num(a.gbw)),
-            ("amp.fp2", opt(a.fp2)),
-            ("amp.rin", opt(a.rin)),
-            ("amp.cin", opt(present(a.cin))),
-            ("amp.ro", num(a.ro)),
-            ("amp.vnoise", num(a.vnoise)),
-            ("amp.vnoise_corner", opt(present(a.vnoise_corner))),
-            ("amp.inoise", num(a.inoise)),
-            ("amp.inoise_corner", opt(present(a.inoise_corner))),
-            ("source.r", num(self.source.r)),
-            ("load.r", opt(self.load.r)),
-            ("load.c", opt(present(self.load.c))),
-            ("temp_c", num(self.temp_c)),
-            (
-                "band",
-                format!(
-                    "{} to {}",
-                    fmt_compact(self.band.0),
-                    fmt_compact(self.band.1)
-                ),
-            ),
-        ]
-    }
-
     /// The fields whose values differ: (name, value in self, value in other).
     pub fn differences(&self, other: &Scenario) -> Vec<(&'static str, String, String)> {
-        self.field_list()
+        super::params::field_list(self)
             .into_iter()
-            .zip(other.field_list())
+            .zip(super::params::field_list(other))
             .filter(|(a, b)| a.1 != b.1)
             .map(|(a, b)| (a.0, a.1, b.1))
             .collect()

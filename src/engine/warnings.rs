@@ -2,9 +2,12 @@
 //! code, a severity and a sentence carrying the numbers.
 
 use super::analysis::Analysis;
-use super::scenario::{present, Scenario, Topology};
+use super::netlist::NoiseKind;
+use super::params::PARAMS;
+use super::scenario::{present, FieldProblem, Scenario, Topology};
 use super::values::fmt_eng;
 use serde::Serialize;
+use std::fmt;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -24,9 +27,73 @@ impl Severity {
     }
 }
 
+/// A warning's stable code (the JSON and README name it by `as_str`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Code {
+    InputInvalid,
+    PhaseMargin,
+    NoCrossover,
+    LoadCapacitance,
+    Peaking,
+    GainError,
+    ResistorNoise,
+    HeavyOutputLoad,
+    OffSeries,
+    ValueRange,
+}
+
+impl Code {
+    pub const ALL: [Code; 10] = [
+        Code::InputInvalid,
+        Code::PhaseMargin,
+        Code::NoCrossover,
+        Code::LoadCapacitance,
+        Code::Peaking,
+        Code::GainError,
+        Code::ResistorNoise,
+        Code::HeavyOutputLoad,
+        Code::OffSeries,
+        Code::ValueRange,
+    ];
+
+    /// The stable kebab-case name.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Code::InputInvalid => "input-invalid",
+            Code::PhaseMargin => "phase-margin",
+            Code::NoCrossover => "no-crossover",
+            Code::LoadCapacitance => "load-capacitance",
+            Code::Peaking => "peaking",
+            Code::GainError => "gain-error",
+            Code::ResistorNoise => "resistor-noise",
+            Code::HeavyOutputLoad => "heavy-output-load",
+            Code::OffSeries => "off-series",
+            Code::ValueRange => "value-range",
+        }
+    }
+}
+
+impl fmt::Display for Code {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+impl PartialEq<&str> for Code {
+    fn eq(&self, other: &&str) -> bool {
+        self.as_str() == *other
+    }
+}
+
+impl Serialize for Code {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(self.as_str())
+    }
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Warning {
-    pub code: &'static str,
+    pub code: Code,
     pub severity: Severity,
     pub text: String,
 }
@@ -46,7 +113,41 @@ pub const HEAVY_LOAD_OHM: f64 = 300.0;
 /// Resistors' share of the output noise power above which they "dominate".
 pub const RESISTOR_NOISE_SHARE: f64 = 0.5;
 
-fn push(out: &mut Vec<Warning>, code: &'static str, severity: Severity, text: String) {
+/// What a rule sees: the scenario, its figures and its field problems.
+pub struct Context<'a> {
+    pub s: &'a Scenario,
+    pub a: &'a Analysis,
+    pub problems: &'a [FieldProblem],
+}
+
+/// A design rule: appends its warnings (if any).
+pub type Rule = fn(&Context, &mut Vec<Warning>);
+
+/// Every rule, in the order their warnings are listed within a severity.
+pub const RULES: &[Rule] = &[
+    input_invalid,
+    phase_margin,
+    no_crossover,
+    load_capacitance,
+    peaking,
+    gain_error,
+    resistor_noise,
+    heavy_output_load,
+    off_series,
+    value_range,
+];
+
+/// All warnings for a scenario and its analysis, worst first.
+pub fn check(cx: &Context) -> Vec<Warning> {
+    let mut w = Vec::new();
+    for rule in RULES {
+        rule(cx, &mut w);
+    }
+    w.sort_by_key(|x| std::cmp::Reverse(x.severity));
+    w
+}
+
+fn push(out: &mut Vec<Warning>, code: Code, severity: Severity, text: String) {
     out.push(Warning {
         code,
         severity,
@@ -63,148 +164,170 @@ fn parallel(rs: &[f64]) -> f64 {
     }
 }
 
-/// All warnings for a scenario and its analysis, worst first.
-pub fn check(s: &Scenario, a: &Analysis) -> Vec<Warning> {
-    let mut w = Vec::new();
-    if let Err(problems) = s.validate() {
-        for p in problems {
-            push(
-                &mut w,
-                "input-invalid",
-                Severity::Severe,
-                format!("{}: {}", p.field, p.message),
-            );
-        }
+fn input_invalid(cx: &Context, w: &mut Vec<Warning>) {
+    for p in cx.problems {
+        let text = format!("{}: {}", p.field, p.message);
+        push(w, Code::InputInvalid, Severity::Severe, text);
     }
-    let load_note = match present(s.load.c) {
+}
+
+/// " with 1 nF load", or nothing without a load capacitance.
+fn load_note(s: &Scenario) -> String {
+    match present(s.load.c) {
         Some(c) => format!(" with {} load", fmt_eng(c, "F")),
         None => String::new(),
+    }
+}
+
+/// The usual fix for a lack of phase margin, in plain words.
+fn margin_fix(s: &Scenario) -> &'static str {
+    match (present(s.load.c), present(s.stage.riso)) {
+        (Some(_), None) => {
+            "; an isolation resistor before the load capacitance usually restores it"
+        }
+        (Some(_), Some(_)) => {
+            "; a larger isolation resistor or a feedback capacitor usually restores it"
+        }
+        (None, _) => "; a feedback capacitor or a higher noise gain usually restores it",
+    }
+}
+
+fn phase_margin(cx: &Context, w: &mut Vec<Warning>) {
+    let (Some(fc), Some(pm)) = (cx.a.crossover_hz, cx.a.phase_margin_deg) else {
+        return;
     };
-    let fix = if present(s.load.c).is_some() && present(s.stage.riso).is_none() {
-        "; an isolation resistor before the load capacitance usually restores it"
-    } else if present(s.load.c).is_some() {
-        "; a larger isolation resistor or a feedback capacitor usually restores it"
+    if pm >= PM_WARN_DEG {
+        return;
+    }
+    let sev = if pm < PM_SEVERE_DEG {
+        Severity::Severe
     } else {
-        "; a feedback capacitor or a higher noise gain usually restores it"
+        Severity::Warning
     };
-    match (a.crossover_hz, a.phase_margin_deg) {
-        (Some(fc), Some(pm)) if pm < PM_WARN_DEG => {
-            let sev = if pm < PM_SEVERE_DEG {
-                Severity::Severe
-            } else {
-                Severity::Warning
-            };
-            let what = if pm <= 0.0 {
-                "the stage is unstable: phase margin"
-            } else {
-                "phase margin"
-            };
-            push(
-                &mut w,
-                "phase-margin",
-                sev,
-                format!(
-                    "{what} {pm:.0}° at {}{load_note} (aim for at least {PM_WARN_DEG:.0}°){fix}",
-                    fmt_eng(fc, "Hz")
-                ),
-            );
-        }
-        (None, _) => push(
-            &mut w,
-            "no-crossover",
-            Severity::Warning,
-            format!(
-                "loop gain never crosses 1 between {} and {} (DC loop gain {:.3}): phase margin undefined",
-                fmt_eng(a.sweep.points.first().map(|p| p.f_hz).unwrap_or(0.0), "Hz"),
-                fmt_eng(a.sweep.points.last().map(|p| p.f_hz).unwrap_or(0.0), "Hz"),
-                a.loop_gain_dc
-            ),
-        ),
-        _ => {}
+    let what = if pm <= 0.0 {
+        "the stage is unstable: phase margin"
+    } else {
+        "phase margin"
+    };
+    let text = format!(
+        "{what} {pm:.0}° at {}{} (aim for at least {PM_WARN_DEG:.0}°){}",
+        fmt_eng(fc, "Hz"),
+        load_note(cx.s),
+        margin_fix(cx.s)
+    );
+    push(w, Code::PhaseMargin, sev, text);
+}
+
+fn no_crossover(cx: &Context, w: &mut Vec<Warning>) {
+    let a = cx.a;
+    if a.crossover_hz.is_some() {
+        return;
     }
-    // The classic trap: the load capacitance eats phase margin.
-    if let (Some(c), Some(pm), Some(bare)) = (
-        present(s.load.c),
-        a.phase_margin_deg,
-        a.phase_margin_without_load_c,
-    ) {
-        let cost = bare - pm;
-        if cost >= LOAD_C_INFO_DEG {
-            let sev = if cost >= LOAD_C_WARN_DEG {
-                Severity::Warning
-            } else {
-                Severity::Info
-            };
-            push(
-                &mut w,
-                "load-capacitance",
-                sev,
-                format!(
-                    "the {} load takes {cost:.0}° of phase margin ({pm:.0}° with it, {bare:.0}° \
-                     without); more cable or a bigger capacitor takes more{fix}",
-                    fmt_eng(c, "F")
-                ),
-            );
-        }
+    let edge = |p: Option<&super::analysis::Point>| fmt_eng(p.map_or(0.0, |p| p.f_hz), "Hz");
+    let text = format!(
+        "loop gain never crosses 1 between {} and {} (DC loop gain {:.3}): phase margin undefined",
+        edge(a.sweep.points.first()),
+        edge(a.sweep.points.last()),
+        a.loop_gain_dc
+    );
+    push(w, Code::NoCrossover, Severity::Warning, text);
+}
+
+/// The classic trap: the load capacitance eats phase margin.
+fn load_capacitance(cx: &Context, w: &mut Vec<Warning>) {
+    let (Some(c), Some(pm), Some(bare)) = (
+        present(cx.s.load.c),
+        cx.a.phase_margin_deg,
+        cx.a.phase_margin_without_load_c,
+    ) else {
+        return;
+    };
+    let cost = bare - pm;
+    if cost < LOAD_C_INFO_DEG {
+        return;
     }
-    if a.peaking_db > PEAKING_WARN_DB {
-        let sev = if a.peaking_db > PEAKING_SEVERE_DB {
-            Severity::Severe
-        } else {
-            Severity::Warning
-        };
-        push(
-            &mut w,
-            "peaking",
-            sev,
-            format!(
-                "closed-loop gain peaks {:.1} dB above its DC value{}",
-                a.peaking_db,
-                a.f_3db_hz
-                    .map(|f| format!(" before rolling off at {}", fmt_eng(f, "Hz")))
-                    .unwrap_or_default()
-            ),
-        );
+    let sev = if cost >= LOAD_C_WARN_DEG {
+        Severity::Warning
+    } else {
+        Severity::Info
+    };
+    let text = format!(
+        "the {} load takes {cost:.0}° of phase margin ({pm:.0}° with it, {bare:.0}° \
+         without); more cable or a bigger capacitor takes more{}",
+        fmt_eng(c, "F"),
+        margin_fix(cx.s)
+    );
+    push(w, Code::LoadCapacitance, sev, text);
+}
+
+fn peaking(cx: &Context, w: &mut Vec<Warning>) {
+    let a = cx.a;
+    if a.peaking_db <= PEAKING_WARN_DB || a.unstable() {
+        return;
     }
-    if a.gain_error.abs() > s.stage.tolerance {
-        push(
-            &mut w,
-            "gain-error",
-            Severity::Warning,
-            format!(
-                "DC gain {:.4} is {:.2} % off the ideal {:.4}, more than the {:.2} % resistor tolerance; \
-                 more loop gain (lower noise gain or a higher-gain amplifier) reduces it",
-                a.dc_gain,
-                a.gain_error * 100.0,
-                a.ideal_gain,
-                s.stage.tolerance * 100.0
-            ),
-        );
+    let sev = if a.peaking_db > PEAKING_SEVERE_DB {
+        Severity::Severe
+    } else {
+        Severity::Warning
+    };
+    let roll = a
+        .f_3db_hz
+        .map(|f| format!(" before rolling off at {}", fmt_eng(f, "Hz")))
+        .unwrap_or_default();
+    let text = format!(
+        "closed-loop gain peaks {:.1} dB above its DC value{roll}",
+        a.peaking_db
+    );
+    push(w, Code::Peaking, sev, text);
+}
+
+fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
+    let (a, tol) = (cx.a, cx.s.stage.tolerance);
+    if a.gain_error.abs() <= tol || a.unstable() {
+        return;
     }
-    let resistor_noise: Vec<_> = a
+    let text = format!(
+        "DC gain {:.4} is {:.2} % off the ideal {:.4}, more than the {:.2} % resistor tolerance; \
+         more loop gain (lower noise gain or a higher-gain amplifier) reduces it",
+        a.dc_gain,
+        a.gain_error * 100.0,
+        a.ideal_gain,
+        tol * 100.0
+    );
+    push(w, Code::GainError, Severity::Warning, text);
+}
+
+fn resistor_noise(cx: &Context, w: &mut Vec<Warning>) {
+    let a = cx.a;
+    let resistors: Vec<_> = a
         .noise_sources
         .iter()
-        .filter(|n| matches!(n.key, "source_r" | "rg" | "rf" | "riso"))
+        .filter(|n| {
+            matches!(
+                n.kind,
+                NoiseKind::StageResistor | NoiseKind::SourceResistance
+            )
+        })
         .collect();
-    let resistor_share: f64 = resistor_noise.iter().map(|n| n.share).sum();
-    if resistor_share > RESISTOR_NOISE_SHARE && a.noise_rms > 0.0 {
-        let top = resistor_noise
-            .iter()
-            .max_by(|x, y| x.share.total_cmp(&y.share))
-            .map(|n| format!(" ({} alone {:.0} %)", n.label, n.share * 100.0))
-            .unwrap_or_default();
-        push(
-            &mut w,
-            "resistor-noise",
-            Severity::Info,
-            format!(
-                "resistor thermal noise is {:.0} % of the output noise power{top}; lower resistor values reduce it",
-                resistor_share * 100.0
-            ),
-        );
+    let share: f64 = resistors.iter().map(|n| n.share).sum();
+    if share <= RESISTOR_NOISE_SHARE || a.noise_rms <= 0.0 {
+        return;
     }
-    // What the amplifier output drives at DC: the feedback network and the load.
-    let st = &s.stage;
+    let top = resistors
+        .iter()
+        .max_by(|x, y| x.share.total_cmp(&y.share))
+        .map(|n| format!(" ({} alone {:.0} %)", n.label, n.share * 100.0))
+        .unwrap_or_default();
+    let text = format!(
+        "resistor thermal noise is {:.0} % of the output noise power{top}; lower resistor values reduce it",
+        share * 100.0
+    );
+    push(w, Code::ResistorNoise, Severity::Info, text);
+}
+
+/// What the amplifier output drives at DC: the feedback network and the load.
+fn heavy_output_load(cx: &Context, w: &mut Vec<Warning>) {
+    let (s, st) = (cx.s, &cx.s.stage);
     let rf = st.rf.unwrap_or(0.0);
     let feedback = match st.topology {
         Topology::NonInverting => rf + st.rg.unwrap_or(0.0),
@@ -212,92 +335,84 @@ pub fn check(s: &Scenario, a: &Analysis) -> Vec<Warning> {
         // A follower's rf carries only the input current.
         Topology::Follower => f64::INFINITY,
     };
-    let load = match s.load.r {
-        Some(r) => r + st.riso.unwrap_or(0.0),
-        None => f64::INFINITY,
-    };
+    let load = s
+        .load
+        .r
+        .map_or(f64::INFINITY, |r| r + st.riso.unwrap_or(0.0));
     let seen = parallel(&[feedback, load]);
-    if seen < HEAVY_LOAD_OHM {
-        push(
-            &mut w,
-            "heavy-output-load",
-            Severity::Warning,
-            format!(
-                "the amplifier output drives {} at DC (feedback {} ∥ load {}), {} per volt of \
-                 output; below about {} the output current and heating grow: raise the resistor \
-                 values",
-                fmt_eng(seen, "Ω"),
-                fmt_eng(feedback, "Ω"),
-                fmt_eng(load, "Ω"),
-                fmt_eng(1.0 / seen, "A"),
-                fmt_eng(HEAVY_LOAD_OHM, "Ω")
-            ),
-        );
+    if seen >= HEAVY_LOAD_OHM {
+        return;
     }
-    // Resistor values off their series, and values outside the usual range.
-    let mut resistors: Vec<(&str, f64)> = Vec::new();
-    if st.topology != Topology::Follower {
-        if let Some(rg) = st.rg {
-            resistors.push(("rg", rg));
-        }
-    }
-    if rf > 0.0 {
-        resistors.push(("rf", rf));
-    }
-    if let Some(riso) = present(st.riso) {
-        resistors.push(("riso", riso));
-    }
-    for (name, r) in &resistors {
-        if r.is_finite() && *r > 0.0 && !st.series.contains(*r) {
-            push(
-                &mut w,
-                "off-series",
-                Severity::Info,
-                format!(
-                    "{name} = {} is not an {} value (nearest {})",
-                    fmt_eng(*r, "Ω"),
-                    st.series,
-                    fmt_eng(st.series.nearest(*r), "Ω")
-                ),
+    let text = format!(
+        "the amplifier output drives {} at DC (feedback {} ∥ load {}), {} per volt of \
+         output; below about {} the output current and heating grow: raise the resistor \
+         values",
+        fmt_eng(seen, "Ω"),
+        fmt_eng(feedback, "Ω"),
+        fmt_eng(load, "Ω"),
+        fmt_eng(1.0 / seen, "A"),
+        fmt_eng(HEAVY_LOAD_OHM, "Ω")
+    );
+    push(w, Code::HeavyOutputLoad, Severity::Warning, text);
+}
+
+/// The stage's real resistors that apply: (label, ohms).
+fn stage_resistors(s: &Scenario) -> Vec<(&'static str, f64)> {
+    PARAMS
+        .iter()
+        .filter(|p| p.is_resistor() && p.applies(s))
+        .filter_map(|p| p.get(s).map(|v| (p.label, v)))
+        .collect()
+}
+
+fn off_series(cx: &Context, w: &mut Vec<Warning>) {
+    let series = cx.s.stage.series;
+    for (name, r) in stage_resistors(cx.s) {
+        if r.is_finite() && r > 0.0 && !series.contains(r) {
+            let text = format!(
+                "{name} = {} is not an {series} value (nearest {})",
+                fmt_eng(r, "Ω"),
+                fmt_eng(series.nearest(r), "Ω")
             );
-        }
-        if *r > 10.0e6 {
-            push(
-                &mut w,
-                "value-range",
-                Severity::Info,
-                format!(
-                    "{name} = {} is very high: leakage, board capacitance and its own noise matter",
-                    fmt_eng(*r, "Ω")
-                ),
-            );
+            push(w, Code::OffSeries, Severity::Info, text);
         }
     }
-    if let Some(rin) = s.amp.rin {
-        if rf > 0.0 && rf > 0.1 * rin {
-            push(
-                &mut w,
-                "value-range",
-                Severity::Info,
-                format!(
-                    "rf = {} is not small against the amplifier input resistance {}",
-                    fmt_eng(rf, "Ω"),
-                    fmt_eng(rin, "Ω")
-                ),
-            );
+}
+
+fn value_range(cx: &Context, w: &mut Vec<Warning>) {
+    let s = cx.s;
+    let mut note = |text: String| push(w, Code::ValueRange, Severity::Info, text);
+    for (name, r) in stage_resistors(s) {
+        if r > 10.0e6 {
+            note(format!(
+                "{name} = {} is very high: leakage, board capacitance and its own noise matter",
+                fmt_eng(r, "Ω")
+            ));
         }
+    }
+    let rf = s.stage.rf.unwrap_or(0.0);
+    if let Some(rin) = s.amp.rin.filter(|rin| rf > 0.0 && rf > 0.1 * rin) {
+        note(format!(
+            "rf = {} is not small against the amplifier input resistance {}",
+            fmt_eng(rf, "Ω"),
+            fmt_eng(rin, "Ω")
+        ));
     }
     if s.amp.gbw > s.amp.a0 * 1.0e9 {
-        push(
-            &mut w,
-            "value-range",
-            Severity::Info,
-            format!(
-                "the dominant pole gbw/a0 = {} is unusually high for a voltage-feedback op-amp",
-                fmt_eng(s.amp.gbw / s.amp.a0, "Hz")
-            ),
-        );
+        note(format!(
+            "the dominant pole gbw/a0 = {} is unusually high for a voltage-feedback op-amp",
+            fmt_eng(s.amp.gbw / s.amp.a0, "Hz")
+        ));
     }
-    w.sort_by_key(|x| std::cmp::Reverse(x.severity));
-    w
+    for p in PARAMS
+        .iter()
+        .filter(|p| p.applies(s) && p.near_range_end(s))
+    {
+        note(format!(
+            "{} = {} is near the end of the accepted range ({}): check the value",
+            p.label,
+            p.display(s),
+            p.range_text()
+        ));
+    }
 }

@@ -2,13 +2,14 @@
 //! its analysis and plot-ready traces, plus the selection, mode and status.
 //! `on_key` is the only way state changes; the view only reads.
 
-use super::params::{self, Param, ALL};
+use super::keys::{self, Action};
 use super::plot::finite;
 use super::theme::Theme;
 use crate::engine::analysis::{Analysis, Circuit, Point};
+use crate::engine::params::{self, param, Direction, ParamRef, PARAMS};
 use crate::engine::scenario::{Amp, Scenario};
-use crate::engine::{analyze, values};
-use crossterm::event::{KeyCode, KeyEvent, KeyEventKind, KeyModifiers};
+use crate::engine::{evaluate, evaluate_with, values, Evaluation};
+use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyEventKind};
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
 
@@ -84,7 +85,8 @@ impl Traces {
 #[derive(Debug, Clone)]
 pub struct Slot {
     pub scenario: Scenario,
-    pub analysis: Analysis,
+    /// The figures and warnings of `scenario`.
+    pub analysis: Evaluation,
     pub traces: Traces,
     /// The solved point at the chosen probe frequency.
     pub probe: Option<Point>,
@@ -115,7 +117,7 @@ pub fn leading_comments(text: &str) -> String {
 impl Slot {
     /// A stage, its file (if any) and that file's leading comments.
     pub fn new(scenario: Scenario, path: Option<PathBuf>, header: String, probe_hz: f64) -> Slot {
-        let analysis = analyze(&scenario);
+        let analysis = evaluate(&scenario);
         let mut slot = Slot {
             traces: Traces::new(&analysis),
             analysis,
@@ -130,9 +132,10 @@ impl Slot {
         slot
     }
 
-    /// Re-run the engine after a change to the scenario.
+    /// Re-run the engine after a change to the scenario (already
+    /// validated by the caller).
     fn refresh(&mut self, probe_hz: f64) {
-        self.analysis = analyze(&self.scenario);
+        self.analysis = evaluate_with(&self.scenario, &[]);
         self.traces = Traces::new(&self.analysis);
         self.set_probe(probe_hz);
     }
@@ -187,8 +190,12 @@ pub enum Mode {
     Edit(String),
     /// Typing a path or frequency in the status line.
     Prompt(Prompt, String),
-    /// Choosing a file to open: the list, the selection, a typed path.
-    Open(Vec<PathBuf>, usize, String),
+    /// Choosing a file to open.
+    Open {
+        files: Vec<PathBuf>,
+        selected: usize,
+        typed: String,
+    },
     /// Choosing an amplifier archetype: the highlighted entry.
     Pick(usize),
     Help,
@@ -197,10 +204,29 @@ pub enum Mode {
     ConfirmOpen(PathBuf),
 }
 
+/// A stage to open the workbench on: the scenario, its file and that
+/// file's text (for the comments the scenario does not hold).
+#[derive(Debug, Clone)]
+pub struct Stage {
+    pub scenario: Scenario,
+    pub path: Option<PathBuf>,
+    pub text: String,
+}
+
+impl From<(Scenario, Option<PathBuf>)> for Stage {
+    fn from((scenario, path): (Scenario, Option<PathBuf>)) -> Stage {
+        Stage {
+            scenario,
+            path,
+            text: String::new(),
+        }
+    }
+}
+
 pub struct App {
     pub slots: Vec<Slot>,
     pub active: usize,
-    pub selected: Param,
+    pub selected: ParamRef,
     pub view: View,
     pub probe_hz: f64,
     pub mode: Mode,
@@ -261,29 +287,24 @@ pub fn scenario_files() -> Vec<PathBuf> {
 }
 
 impl App {
-    pub fn new(slots: Vec<(Scenario, Option<PathBuf>)>, theme: Theme) -> App {
+    pub fn new(stages: Vec<impl Into<Stage>>, theme: Theme) -> App {
         let probe_hz = 1e3;
-        let slots: Vec<Slot> = slots
+        let slots: Vec<Slot> = stages
             .into_iter()
             .take(2)
-            .map(|(s, p)| {
-                // Each file's leading comments, written back on save.
-                let header = p
-                    .as_ref()
-                    .and_then(|p| std::fs::read_to_string(p).ok())
-                    .map(|t| leading_comments(&t))
-                    .unwrap_or_default();
-                Slot::new(s, p, header, probe_hz)
+            .map(|st| {
+                let st = st.into();
+                Slot::new(st.scenario, st.path, leading_comments(&st.text), probe_hz)
             })
             .collect();
         App {
             slots,
             active: 0,
-            selected: Param::Rf,
+            selected: param("stage.rf").unwrap_or(&PARAMS[0]),
             view: View::Response,
             probe_hz,
             mode: Mode::Normal,
-            status: "? help · ↑↓ select · ←→ step · Enter type a value · q quit".into(),
+            status: keys::hint_line(),
             status_kind: StatusKind::Info,
             warn_scroll: 0,
             theme,
@@ -306,9 +327,9 @@ impl App {
     }
 
     /// Parameters shown for the active stage, in pane order.
-    pub fn visible(&self) -> Vec<Param> {
+    pub fn visible(&self) -> Vec<ParamRef> {
         let s = &self.slot().scenario;
-        ALL.iter().copied().filter(|p| p.applies(s)).collect()
+        PARAMS.iter().filter(|p| p.applies(s)).collect()
     }
 
     fn info(&mut self, msg: impl Into<String>) {
@@ -370,16 +391,19 @@ impl App {
         if key.kind == KeyEventKind::Release {
             return;
         }
-        if key.modifiers.contains(KeyModifiers::CONTROL) && key.code == KeyCode::Char('c') {
+        if keys::action_for(&key) == Some(Action::QuitNow) {
             self.running = false;
             return;
         }
         let mode = std::mem::replace(&mut self.mode, Mode::Normal);
         match mode {
-            Mode::Normal => self.on_normal_key(key),
-            Mode::Help => {
-                // Any key closes help.
+            Mode::Normal => {
+                if let Some(action) = keys::action_for(&key) {
+                    self.act(action);
+                }
             }
+            // Any key closes help.
+            Mode::Help => {}
             Mode::ConfirmOpen(path) => match key.code {
                 KeyCode::Char('y') | KeyCode::Char('Y') => self.open_checked(&path, false),
                 _ => self.info("not opened: the edited stage is kept"),
@@ -391,7 +415,7 @@ impl App {
             Mode::Edit(buf) => {
                 if let Some(text) = self.on_text_key(key, buf, Mode::Edit) {
                     let p = self.selected;
-                    self.change(p.label(), |s| p.apply_text(s, &text));
+                    self.change(p.label, |s| p.apply_text(s, &text));
                 }
             }
             Mode::Prompt(kind, buf) => {
@@ -402,16 +426,24 @@ impl App {
                     }
                 }
             }
-            Mode::Open(files, sel, buf) => self.on_open_key(key, files, sel, buf),
-            Mode::Pick(sel) => match key.code {
-                KeyCode::Up | KeyCode::Char('k') => self.mode = Mode::Pick(sel.saturating_sub(1)),
-                KeyCode::Down | KeyCode::Char('j') => {
-                    let last = self.archetypes.len().saturating_sub(1);
-                    self.mode = Mode::Pick((sel + 1).min(last));
-                }
-                KeyCode::Enter => self.apply_archetype(sel),
-                _ => self.info("amplifier unchanged"),
-            },
+            Mode::Open {
+                files,
+                selected,
+                typed,
+            } => self.on_open_key(key, files, selected, typed),
+            Mode::Pick(sel) => self.on_pick_key(key, sel),
+        }
+    }
+
+    fn on_pick_key(&mut self, key: KeyEvent, sel: usize) {
+        match key.code {
+            KeyCode::Up | KeyCode::Char('k') => self.mode = Mode::Pick(sel.saturating_sub(1)),
+            KeyCode::Down | KeyCode::Char('j') => {
+                let last = self.archetypes.len().saturating_sub(1);
+                self.mode = Mode::Pick((sel + 1).min(last));
+            }
+            KeyCode::Enter => self.apply_archetype(sel),
+            _ => self.info("amplifier unchanged"),
         }
     }
 
@@ -464,123 +496,154 @@ impl App {
             KeyCode::Char(c) => buf.push(c),
             _ => {}
         }
-        self.mode = Mode::Open(files, sel, buf);
+        self.mode = Mode::Open {
+            files,
+            selected: sel,
+            typed: buf,
+        };
     }
 
-    fn on_normal_key(&mut self, key: KeyEvent) {
-        let p = self.selected;
-        match key.code {
-            KeyCode::Char('q') => {
-                let dirty: Vec<&str> = self
-                    .slots
-                    .iter()
-                    .enumerate()
-                    .filter(|(_, s)| s.dirty)
-                    .map(|(i, _)| Self::slot_label(i))
-                    .collect();
-                if dirty.is_empty() {
-                    self.running = false;
-                } else {
-                    self.mode = Mode::ConfirmQuit;
-                    self.error(format!(
-                        "unsaved changes in {}: quit anyway? y = quit, any other key = stay",
-                        dirty.join(" and ")
-                    ));
-                }
-            }
-            KeyCode::Up | KeyCode::Char('k') => self.move_selection(false),
-            KeyCode::Down | KeyCode::Char('j') => self.move_selection(true),
-            KeyCode::Right | KeyCode::Char('l') | KeyCode::Char('+') | KeyCode::Char('=') => {
-                self.change("step up", |s| {
-                    p.step(s, true);
-                    Ok(())
-                });
-                self.ensure_visible_selection();
-            }
-            KeyCode::Left | KeyCode::Char('h') | KeyCode::Char('-') => {
-                self.change("step down", |s| {
-                    p.step(s, false);
-                    Ok(())
-                });
-                self.ensure_visible_selection();
-            }
-            KeyCode::Enter => {
-                self.mode = Mode::Edit(p.edit_text(&self.slot().scenario));
-                self.info(format!(
-                    "type a value for {} (4k7, 2.2n, 10M …); Enter applies, Esc cancels",
-                    p.label()
-                ));
-            }
-            KeyCode::Char('e') => {
-                self.change("series", |s| {
-                    s.stage.series = s.stage.series.cycle();
-                    Ok(())
-                });
-                let s = &self.slot().scenario.stage.series;
-                self.info(format!("resistors now step along {s}"));
-            }
-            KeyCode::Char('n') => {
-                let mut count = 0;
-                self.change("snap to series", |s| {
-                    count = params::snap_resistors(s);
-                    Ok(())
-                });
-                let series = self.slot().scenario.stage.series;
-                self.info(format!(
-                    "{count} resistor(s) snapped to the nearest {series} value"
-                ));
-            }
-            KeyCode::Char('v') => {
+    /// Carry out one action of the key table.
+    fn act(&mut self, action: Action) {
+        match action {
+            Action::Quit => self.quit(),
+            Action::QuitNow => self.running = false,
+            Action::SelectUp => self.move_selection(false),
+            Action::SelectDown => self.move_selection(true),
+            Action::StepUp => self.step(Direction::Up),
+            Action::StepDown => self.step(Direction::Down),
+            Action::TypeValue => self.start_edit(),
+            Action::CycleSeries => self.cycle_series(),
+            Action::SnapToSeries => self.snap(),
+            Action::NextView => {
                 self.view = self.view.next();
                 self.info(format!("view: {}", self.view.title()));
             }
-            KeyCode::Char('f') => {
+            Action::ProbeFrequency => {
                 self.mode = Mode::Prompt(Prompt::Probe, values::fmt_compact(self.probe_hz));
                 self.info("frequency for the Zout figure (e.g. 10k); Enter applies");
             }
-            KeyCode::Char(']') | KeyCode::PageDown => {
+            Action::ScrollWarningsDown => {
                 let n = self.slot().analysis.warnings.len();
                 self.warn_scroll = (self.warn_scroll + 1).min(n.saturating_sub(1));
             }
-            KeyCode::Char('[') | KeyCode::PageUp => {
-                self.warn_scroll = self.warn_scroll.saturating_sub(1);
-            }
-            KeyCode::Char('?') => self.mode = Mode::Help,
-            KeyCode::Char('w') => self.save(),
-            KeyCode::Char('W') => {
-                let start = self
-                    .slot()
-                    .path
-                    .as_ref()
-                    .map(|p| p.display().to_string())
-                    .unwrap_or_default();
-                self.mode = Mode::Prompt(Prompt::SaveAs, start);
-                self.info("save as: type a path (.ron is added); Enter saves, Esc cancels");
-            }
-            KeyCode::Char('o') => {
-                let files = scenario_files();
-                self.mode = Mode::Open(files, 0, String::new());
+            Action::ScrollWarningsUp => self.warn_scroll = self.warn_scroll.saturating_sub(1),
+            Action::Help => self.mode = Mode::Help,
+            Action::Save => self.save(),
+            Action::SaveAs => self.start_save_as(),
+            Action::Open => {
+                self.mode = Mode::Open {
+                    files: scenario_files(),
+                    selected: 0,
+                    typed: String::new(),
+                };
                 self.info("open: ↑↓ choose, or type a path; Enter opens, Esc cancels");
             }
-            KeyCode::Char('a') => {
-                if self.archetypes.is_empty() {
-                    self.error("no amplifier archetypes found");
-                } else {
-                    self.mode = Mode::Pick(self.archetype);
-                    self.info("amplifier archetype: ↑↓ choose, Enter applies, Esc cancels");
-                }
-            }
-            KeyCode::Char('c') => self.copy_to_other(),
-            KeyCode::Tab | KeyCode::Char('b') => {
-                if self.slots.len() > 1 {
-                    self.active = 1 - self.active;
-                    self.ensure_visible_selection();
-                    self.info(format!("editing {}", Self::slot_label(self.active)));
-                } else {
-                    self.info("only one stage: c copies it into B");
-                }
-            }
-            _ => {}
+            Action::PickArchetype => self.start_pick(),
+            Action::CopyToOther => self.copy_to_other(),
+            Action::SwitchSlot => self.switch_slot(),
+        }
+    }
+
+    fn quit(&mut self) {
+        let dirty: Vec<&str> = self
+            .slots
+            .iter()
+            .enumerate()
+            .filter(|(_, s)| s.dirty)
+            .map(|(i, _)| Self::slot_label(i))
+            .collect();
+        if dirty.is_empty() {
+            self.running = false;
+        } else {
+            self.mode = Mode::ConfirmQuit;
+            self.error(format!(
+                "unsaved changes in {}: quit anyway? y = quit, any other key = stay",
+                dirty.join(" and ")
+            ));
+        }
+    }
+
+    fn step(&mut self, dir: Direction) {
+        let p = self.selected;
+        let what = match dir {
+            Direction::Up => "step up",
+            Direction::Down => "step down",
+        };
+        let mut moved = true;
+        self.change(what, |s| {
+            moved = p.step(s, dir);
+            Ok(())
+        });
+        if !moved && self.status_kind == StatusKind::Info {
+            self.info(format!(
+                "{}: {} stays at {} (accepted {})",
+                Self::slot_label(self.active),
+                p.label,
+                p.display(&self.slot().scenario),
+                p.range_text()
+            ));
+        }
+        self.ensure_visible_selection();
+    }
+
+    fn start_edit(&mut self) {
+        let p = self.selected;
+        self.mode = Mode::Edit(p.edit_text(&self.slot().scenario));
+        self.info(format!(
+            "type a value for {} (4k7, 2.2n, 10M …); Enter applies, Esc cancels",
+            p.label
+        ));
+    }
+
+    fn cycle_series(&mut self) {
+        self.change("series", |s| {
+            s.stage.series = s.stage.series.cycle();
+            Ok(())
+        });
+        let s = &self.slot().scenario.stage.series;
+        self.info(format!("resistors now step along {s}"));
+    }
+
+    fn snap(&mut self) {
+        let mut count = 0;
+        self.change("snap to series", |s| {
+            count = params::snap_resistors(s);
+            Ok(())
+        });
+        let series = self.slot().scenario.stage.series;
+        self.info(format!(
+            "{count} resistor(s) snapped to the nearest {series} value"
+        ));
+    }
+
+    fn start_save_as(&mut self) {
+        let start = self
+            .slot()
+            .path
+            .as_ref()
+            .map(|p| p.display().to_string())
+            .unwrap_or_default();
+        self.mode = Mode::Prompt(Prompt::SaveAs, start);
+        self.info("save as: type a path (.ron is added); Enter saves, Esc cancels");
+    }
+
+    fn start_pick(&mut self) {
+        if self.archetypes.is_empty() {
+            self.error("no amplifier archetypes found");
+        } else {
+            self.mode = Mode::Pick(self.archetype);
+            self.info("amplifier archetype: ↑↓ choose, Enter applies, Esc cancels");
+        }
+    }
+
+    fn switch_slot(&mut self) {
+        if self.slots.len() > 1 {
+            self.active = 1 - self.active;
+            self.ensure_visible_selection();
+            self.info(format!("editing {}", Self::slot_label(self.active)));
+        } else {
+            self.info("only one stage: c copies it into B");
         }
     }
 
@@ -707,7 +770,7 @@ impl App {
     }
 
     /// Whether a parameter differs between A and B.
-    pub fn differs(&self, p: Param) -> bool {
+    pub fn differs(&self, p: ParamRef) -> bool {
         if self.slots.len() < 2 {
             return false;
         }

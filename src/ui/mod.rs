@@ -2,21 +2,19 @@
 //! the only module that touches the terminal.
 
 pub mod app;
-pub mod params;
+pub mod keys;
 pub mod plot;
 pub mod theme;
 pub mod view;
 
-use crate::engine::Scenario;
 use anyhow::{bail, Result};
-use app::App;
+use app::{App, Stage};
 use ratatui::backend::Backend;
 use ratatui::crossterm::event::{self, Event};
 use ratatui::crossterm::terminal::{BeginSynchronizedUpdate, EndSynchronizedUpdate};
 use ratatui::crossterm::QueueableCommand;
 use ratatui::Terminal;
 use std::io::{IsTerminal, Write};
-use std::path::PathBuf;
 use theme::Theme;
 
 /// How the workbench looks.
@@ -72,7 +70,7 @@ fn handle(app: &mut App, ev: Event) -> bool {
 }
 
 /// Open the workbench on the loaded stages (one or two).
-pub fn run(stages: Vec<(Scenario, Option<PathBuf>)>, looks: Looks) -> Result<()> {
+pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
     if !std::io::stdin().is_terminal() || !std::io::stdout().is_terminal() {
         bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
     }

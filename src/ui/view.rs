@@ -1,8 +1,11 @@
 //! Drawing: reads the App, never changes it.
 
 use super::app::{App, Mode, Prompt, Slot, View};
-use super::params::{compact, Group};
+use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, LogPlot, Trace, VMark};
+use crate::engine::figures::{key_figures, Figure, Reading};
+use crate::engine::params::Group;
+use crate::engine::values::fmt_eng;
 use crate::engine::Severity;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
@@ -76,7 +79,11 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     status_line(app, status, buf);
     match &app.mode {
         Mode::Help => help_overlay(app, area, buf),
-        Mode::Open(files, sel, typed) => open_overlay(app, area, buf, files, *sel, typed),
+        Mode::Open {
+            files,
+            selected,
+            typed,
+        } => open_overlay(app, area, buf, files, *selected, typed),
         Mode::Pick(sel) => pick_overlay(app, area, buf, *sel),
         _ => {}
     }
@@ -186,9 +193,9 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let mut group: Option<Group> = None;
     let value_w = inner.width.saturating_sub(21) as usize;
     for p in app.visible() {
-        if group != Some(p.group()) {
-            group = Some(p.group());
-            lines.push(Line::styled(p.group().title(), t.group));
+        if group != Some(p.group) {
+            group = Some(p.group);
+            lines.push(Line::styled(p.group.title(), t.group));
         }
         let diff = app.differs(p);
         let mark = if diff { differs_mark } else { " " };
@@ -209,7 +216,7 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
         lines.push(Line::from(vec![
             Span::styled(mark, if diff { t.differs } else { t.normal }),
-            Span::styled(format!(" {:<10}", p.label()), row_style),
+            Span::styled(format!(" {:<10}", p.label), row_style),
             Span::styled(format!("{value_text:<value_w$}"), row_style),
             note,
         ]));
@@ -460,78 +467,41 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     plot(app, tr, x, y, Vec::new()).render(inner, buf);
 }
 
-fn figure_cells(s: &Slot) -> Vec<String> {
-    let a = &s.analysis;
-    let opt = |v: Option<f64>, f: &dyn Fn(f64) -> String| v.map(f).unwrap_or_else(|| "—".into());
-    vec![
-        format!("{:.4}", a.dc_gain),
-        format!("{:+.3}%", a.gain_error * 100.0),
-        opt(a.f_3db_hz, &|f| compact(f, "Hz")),
-        format!("{:.1}dB", a.peaking_db),
-        opt(a.phase_margin_deg, &|p| format!("{p:.0}°")),
-        opt(a.gain_margin_db, &|g| format!("{g:.0}dB")),
-        compact(a.zout_dc_ohm, "Ω"),
-        opt(s.probe.map(|p| p.zout.norm()), &|z| compact(z, "Ω")),
-        compact(a.noise_rms, "V"),
-        format!("{}", a.warnings.len()),
-    ]
+/// Compact text for a value in a table cell (no space before the unit).
+pub fn compact(v: f64, unit: &str) -> String {
+    fmt_eng(v, unit).replace(' ', "")
 }
 
-fn signed(v: f64, unit: &str) -> String {
-    let s = compact(v.abs(), unit);
-    if v < 0.0 {
-        format!("-{s}")
+/// A key figure of one stage; the |Zout| figure at the chosen frequency.
+fn reading(f: &Figure, s: &Slot) -> Reading {
+    if f.at_probe {
+        f.read_value(&s.analysis, s.probe.map(|p| p.zout.norm()))
     } else {
-        format!("+{s}")
+        f.read(&s.analysis)
     }
 }
 
+fn figure_cells(s: &Slot) -> Vec<String> {
+    key_figures()
+        .map(|f| f.cell(reading(f, s), false))
+        .collect()
+}
+
 fn delta_cells(a: &Slot, b: &Slot) -> Vec<String> {
-    let (x, y) = (&a.analysis, &b.analysis);
-    let d = |p: Option<f64>, q: Option<f64>, f: &dyn Fn(f64) -> String| match (p, q) {
-        (Some(p), Some(q)) => f(q - p),
-        _ => "—".into(),
-    };
-    vec![
-        format!("{:+.4}", y.dc_gain - x.dc_gain),
-        format!("{:+.3}%", (y.gain_error - x.gain_error) * 100.0),
-        d(x.f_3db_hz, y.f_3db_hz, &|v| signed(v, "Hz")),
-        format!("{:+.1}dB", y.peaking_db - x.peaking_db),
-        d(x.phase_margin_deg, y.phase_margin_deg, &|v| {
-            format!("{v:+.0}°")
-        }),
-        d(x.gain_margin_db, y.gain_margin_db, &|v| {
-            format!("{v:+.0}dB")
-        }),
-        signed(y.zout_dc_ohm - x.zout_dc_ohm, "Ω"),
-        d(
-            a.probe.map(|p| p.zout.norm()),
-            b.probe.map(|p| p.zout.norm()),
-            &|v| signed(v, "Ω"),
-        ),
-        signed(y.noise_rms - x.noise_rms, "V"),
-        format!("{:+}", y.warnings.len() as i64 - x.warnings.len() as i64),
-    ]
+    key_figures()
+        .map(|f| match (reading(f, a), reading(f, b)) {
+            (Reading::Value(x), Reading::Value(y)) => f.cell(Reading::Value(y - x), true),
+            _ => "—".into(),
+        })
+        .collect()
 }
 
 fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let probe = compact(app.probe_hz, "");
-    let header: Vec<String> = [
-        "gain",
-        "error",
-        "f-3dB",
-        "peak",
-        "PM",
-        "GM",
-        "Zout DC",
-        &format!("Zout@{probe}"),
-        "noise rms",
-        "warn",
-    ]
-    .iter()
-    .map(|s| s.to_string())
-    .collect();
+    let header: Vec<String> = key_figures()
+        .map(|f| f.short.replace("{f}", &probe))
+        .collect();
     let mut rows: Vec<(&str, Vec<String>)> = app
         .slots
         .iter()
@@ -568,7 +538,7 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 
 /// Rows a warning takes when wrapped to `width` (symbol, severity, code, text).
 fn warning_rows(w: &crate::engine::Warning, width: usize) -> usize {
-    (w.text.chars().count() + w.code.len() + 12).div_ceil(width.max(1))
+    (w.text.chars().count() + w.code.as_str().len() + 12).div_ceil(width.max(1))
 }
 
 fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -638,7 +608,7 @@ fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let line = match &app.mode {
         Mode::Edit(b) => Line::from(vec![
-            Span::styled(format!(" {} = ", app.selected.label()), t.title),
+            Span::styled(format!(" {} = ", app.selected.label), t.title),
             Span::raw(format!("{b}_")),
             Span::styled("   Enter applies · Esc cancels", t.dim),
         ]),
@@ -664,41 +634,6 @@ fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     Paragraph::new(line).render(area, buf);
 }
 
-/// Every key, for the help overlay and the README.
-pub const KEYS: [(&str, &str); 19] = [
-    ("↑ ↓  k j", "select a parameter"),
-    (
-        "← →  h l  - +",
-        "step: resistors along the E-series, capacitors E12",
-    ),
-    (
-        "Enter",
-        "type a value (4k7, 2.2n, none); Enter applies, Esc",
-    ),
-    ("e", "cycle the stage's E-series"),
-    ("n", "snap every resistor to its nearest series value"),
-    ("v", "next plot view: response / loop gain / noise density"),
-    ("f", "frequency of the Zout figure"),
-    ("[ ]  PgUp PgDn", "scroll the warnings"),
-    ("a", "amplifier: pick a generic archetype (typical values)"),
-    ("c", "copy this stage into the other slot (A ↔ B)"),
-    ("Tab  b", "switch between A and B"),
-    ("w", "save to the stage's file"),
-    ("W", "save under a new name"),
-    ("o", "open a scenario file"),
-    ("?", "this help (any key closes it)"),
-    ("q", "quit (asks first if there are unsaved changes)"),
-    ("Ctrl-C", "quit at once"),
-    (
-        "plots",
-        "A solid, B dotted; -3dB and fc: f−3dB, loop crossover",
-    ),
-    (
-        "marks",
-        "≠ (or *) differs between A and B; off E24: not on series",
-    ),
-];
-
 fn centered(area: Rect, w: u16, h: u16) -> Rect {
     let w = w.min(area.width);
     let h = h.min(area.height);
@@ -711,17 +646,21 @@ fn centered(area: Rect, w: u16, h: u16) -> Rect {
 }
 
 fn help_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let r = centered(area, 78, KEYS.len() as u16 + 2);
+    let rows: Vec<(&str, &str)> = keys::help_rows()
+        .map(|b| (b.shown, b.help))
+        .chain(keys::LEGEND.iter().copied())
+        .collect();
+    let r = centered(area, 78, rows.len() as u16 + 2);
     Clear.render(r, buf);
     let b = block(app, " Keys ");
     let inner = b.inner(r);
     b.render(r, buf);
-    let lines: Vec<Line> = KEYS
-        .iter()
+    let lines: Vec<Line> = rows
+        .into_iter()
         .map(|(k, d)| {
             Line::from(vec![
                 Span::styled(format!(" {k:<15}"), app.theme.title),
-                Span::raw(*d),
+                Span::raw(d),
             ])
         })
         .collect();

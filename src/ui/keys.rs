@@ -1,0 +1,250 @@
+//! The key table: every key of the workbench's normal mode, the action it
+//! takes and its help text. The event handler dispatches on [`Action`];
+//! the help overlay, the hint line and the README's key table list the
+//! same entries (a test checks the README).
+//!
+//! To add a key: one [`Action`] variant, one entry in [`KEYS`], one arm in
+//! `App::act`.
+
+use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+
+/// What a key does.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Action {
+    SelectUp,
+    SelectDown,
+    StepUp,
+    StepDown,
+    TypeValue,
+    CycleSeries,
+    SnapToSeries,
+    NextView,
+    ProbeFrequency,
+    ScrollWarningsDown,
+    ScrollWarningsUp,
+    PickArchetype,
+    CopyToOther,
+    SwitchSlot,
+    Save,
+    SaveAs,
+    Open,
+    Help,
+    Quit,
+    QuitNow,
+}
+
+/// One key of the table.
+#[derive(Debug, Clone, Copy)]
+pub struct Key {
+    pub code: KeyCode,
+    pub ctrl: bool,
+}
+
+const fn k(c: char) -> Key {
+    Key {
+        code: KeyCode::Char(c),
+        ctrl: false,
+    }
+}
+
+const fn code(code: KeyCode) -> Key {
+    Key { code, ctrl: false }
+}
+
+/// One binding: the keys, how they are written, the action and its help.
+#[derive(Debug, Clone, Copy)]
+pub struct Binding {
+    pub keys: &'static [Key],
+    /// The keys as the help and the README write them.
+    pub shown: &'static str,
+    pub action: Action,
+    pub help: &'static str,
+    /// A few words for the hint line (None: not in it).
+    pub hint: Option<&'static str>,
+}
+
+/// Every binding of the normal mode, in help order.
+pub const KEYS: &[Binding] = &[
+    Binding {
+        keys: &[code(KeyCode::Up), k('k')],
+        shown: "↑ ↓, k j",
+        action: Action::SelectUp,
+        help: "select a parameter",
+        hint: Some("↑↓ select"),
+    },
+    Binding {
+        keys: &[code(KeyCode::Down), k('j')],
+        shown: "",
+        action: Action::SelectDown,
+        help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[code(KeyCode::Right), k('l'), k('+'), k('=')],
+        shown: "← →, h l, - +",
+        action: Action::StepUp,
+        help: "step: resistors E-series, capacitors E12, models 1-2-5",
+        hint: Some("←→ step"),
+    },
+    Binding {
+        keys: &[code(KeyCode::Left), k('h'), k('-')],
+        shown: "",
+        action: Action::StepDown,
+        help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[code(KeyCode::Enter)],
+        shown: "Enter",
+        action: Action::TypeValue,
+        help: "type a value (4k7, 2.2n, none); Enter applies, Esc cancels",
+        hint: Some("Enter type a value"),
+    },
+    Binding {
+        keys: &[k('e')],
+        shown: "e",
+        action: Action::CycleSeries,
+        help: "cycle the stage's E-series",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('n')],
+        shown: "n",
+        action: Action::SnapToSeries,
+        help: "snap every resistor to its nearest series value",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('v')],
+        shown: "v",
+        action: Action::NextView,
+        help: "next plot view: response / loop gain / noise density",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('f')],
+        shown: "f",
+        action: Action::ProbeFrequency,
+        help: "frequency of the Zout figure",
+        hint: None,
+    },
+    Binding {
+        keys: &[k(']'), code(KeyCode::PageDown)],
+        shown: "[ ], PgUp PgDn",
+        action: Action::ScrollWarningsDown,
+        help: "scroll the warnings",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('['), code(KeyCode::PageUp)],
+        shown: "",
+        action: Action::ScrollWarningsUp,
+        help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('a')],
+        shown: "a",
+        action: Action::PickArchetype,
+        help: "amplifier: pick a generic archetype (typical values)",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('c')],
+        shown: "c",
+        action: Action::CopyToOther,
+        help: "copy this stage into the other slot (A ↔ B)",
+        hint: None,
+    },
+    Binding {
+        keys: &[code(KeyCode::Tab), k('b')],
+        shown: "Tab, b",
+        action: Action::SwitchSlot,
+        help: "switch between A and B",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('w')],
+        shown: "w",
+        action: Action::Save,
+        help: "save to the stage's file (asks for a path if it has none)",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('W')],
+        shown: "W",
+        action: Action::SaveAs,
+        help: "save under a new name (.ron added)",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('o')],
+        shown: "o",
+        action: Action::Open,
+        help: "open a scenario file (asks first over unsaved changes)",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('?')],
+        shown: "?",
+        action: Action::Help,
+        help: "this help (any key closes it)",
+        hint: Some("? help"),
+    },
+    Binding {
+        keys: &[k('q')],
+        shown: "q",
+        action: Action::Quit,
+        help: "quit (asks first if there are unsaved changes)",
+        hint: Some("q quit"),
+    },
+    Binding {
+        keys: &[Key {
+            code: KeyCode::Char('c'),
+            ctrl: true,
+        }],
+        shown: "Ctrl-C",
+        action: Action::QuitNow,
+        help: "quit at once, in any mode",
+        hint: None,
+    },
+];
+
+/// What the plots and marks mean, shown under the keys in the help.
+pub const LEGEND: &[(&str, &str)] = &[
+    (
+        "plots",
+        "A solid, B dotted; -3dB and fc: f−3dB, loop crossover",
+    ),
+    (
+        "marks",
+        "≠ (or *) differs between A and B; off E24: not on series",
+    ),
+];
+
+impl Key {
+    fn matches(&self, ev: &KeyEvent) -> bool {
+        let ctrl = ev.modifiers.contains(KeyModifiers::CONTROL);
+        self.code == ev.code && self.ctrl == ctrl
+    }
+}
+
+/// The action a key press takes in normal mode, if any.
+pub fn action_for(ev: &KeyEvent) -> Option<Action> {
+    KEYS.iter()
+        .find(|b| b.keys.iter().any(|k| k.matches(ev)))
+        .map(|b| b.action)
+}
+
+/// The bindings the help lists (a pair such as ↑/↓ is one row).
+pub fn help_rows() -> impl Iterator<Item = &'static Binding> {
+    KEYS.iter().filter(|b| !b.shown.is_empty())
+}
+
+/// The default hint line, from the table.
+pub fn hint_line() -> String {
+    KEYS.iter()
+        .filter_map(|b| b.hint)
+        .collect::<Vec<_>>()
+        .join(" · ")
+}
