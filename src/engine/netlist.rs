@@ -17,7 +17,8 @@ enum Pin {
     Term,
     /// The op-amp's + pin, as the outside sees it.
     InP,
-    /// Behind the voltage-noise generator: rin, cin and the amplifier sense here.
+    /// Behind the voltage-noise generator: the amplifier's sensed + input
+    /// (rin, cin and the + current noise stay at the pins).
     InPi,
     InN,
     /// Amplifier output pin, where feedback is taken.
@@ -195,10 +196,10 @@ impl Netlist {
         resistors.push((Amp, Out, st.riso.unwrap_or(0.0), Some(("riso", "riso"))));
         if !ideal {
             if let Some(rin) = amp.rin {
-                resistors.push((InPi, InN, rin, None));
+                resistors.push((InP, InN, rin, None));
             }
             if let Some(cin) = present(amp.cin) {
-                caps.push((InPi, Gnd, cin));
+                caps.push((InP, Gnd, cin));
                 caps.push((InN, Gnd, cin));
             }
             // With output resistance the source is stamped in Norton form
@@ -291,7 +292,7 @@ impl Netlist {
             corner: amp.vnoise_corner.unwrap_or(0.0),
         });
         for (key, label, pin) in [
-            ("inoise_plus", "amp current noise +", InPi),
+            ("inoise_plus", "amp current noise +", InP),
             ("inoise_minus", "amp current noise −", InN),
         ] {
             noise.push(NoiseSource {

@@ -54,6 +54,8 @@ pub fn rel(a: f64, b: f64) -> f64 {
 
 #[track_caller]
 pub fn assert_rel(what: &str, got: f64, want: f64, tol: f64) {
+    // Shown with --nocapture: the real error, to keep tolerances honest.
+    println!("{what}: rel err {:e} (tol {tol:e})", rel(got, want));
     assert!(
         rel(got, want) <= tol,
         "{what}: got {got:e}, want {want:e} (rel err {:e} > {tol:e})",
@@ -71,4 +73,42 @@ pub fn temp_dir(name: &str) -> std::path::PathBuf {
     let _ = std::fs::remove_dir_all(&d);
     std::fs::create_dir_all(&d).unwrap();
     d
+}
+
+/// The warnings of a scenario. Every test gets them through here, so a
+/// change in how the engine hands them out touches one place.
+pub fn warnings_of(s: &Scenario) -> Vec<loopwright::engine::Warning> {
+    loopwright::engine::analyze(s).warnings
+}
+
+/// The warning with `code`, if the scenario raises it.
+pub fn warning(s: &Scenario, code: &str) -> Option<loopwright::engine::Warning> {
+    warnings_of(s).into_iter().find(|w| w.code == code)
+}
+
+/// |transfer| from one noise source (by key) to the output at f: its output
+/// density over its own density. The source's density must not be zero.
+pub fn noise_transfer(c: &loopwright::engine::Circuit, key: &str, f: f64) -> f64 {
+    let k = c
+        .net
+        .noise
+        .iter()
+        .position(|n| n.key == key)
+        .unwrap_or_else(|| panic!("no noise source {key}"));
+    let p = c.eval(f).unwrap();
+    (p.noise_psd[k] / c.net.noise[k].density(f)).sqrt()
+}
+
+/// An amplifier close enough to ideal for closed forms derived with an
+/// ideal op-amp: a0 = 1e9, gbw = 1e12 Hz (open-loop pole at 1 kHz, so
+/// |A| > 1e5 up to 10 MHz), ro = 1 µΩ.
+pub fn fast(mut s: Scenario) -> Scenario {
+    s.amp.a0 = 1e9;
+    s.amp.gbw = 1e12;
+    s
+}
+
+/// Johnson–Nyquist density of r at temp_c, V/√Hz: √(4kTR), k from SI 2019.
+pub fn johnson(r: f64, temp_c: f64) -> f64 {
+    (4.0 * 1.380649e-23 * (temp_c + 273.15) * r).sqrt()
 }
