@@ -170,7 +170,12 @@ fn noise_at_the_load_through_the_isolation_divider() {
     s.load.r = Some(900.0);
     let c = Circuit::new(&s);
     // Measured error 1e-8 (finite a0) and 2e-16; tolerance 5e-8.
-    assert_rel("en at the load", noise_transfer(&c, "vnoise", 100.0), 9.0, 5e-8);
+    assert_rel(
+        "en at the load",
+        noise_transfer(&c, "vnoise", 100.0),
+        9.0,
+        5e-8,
+    );
     let riso_psd = {
         let k = c.net.noise.iter().position(|n| n.key == "riso").unwrap();
         c.eval(100.0).unwrap().noise_psd[k].sqrt()

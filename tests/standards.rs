@@ -201,6 +201,28 @@ fn rkm_code_examples() {
 }
 
 #[test]
+fn capital_k_is_kilo_as_in_iec_60062() {
+    // IEC 60062 writes the resistor multiplier letters in capitals (4K7,
+    // from memory); the lower-case k of the SI prefix means the same. M and m
+    // stay distinct: mega and milli (SI Brochure, 9th edition).
+    for (upper, lower, want) in [
+        ("4K7", "4k7", 4_700.0),
+        ("47K", "47k", 47_000.0),
+        ("1K0", "1k0", 1_000.0),
+        ("4.7K", "4.7k", 4_700.0),
+    ] {
+        assert_eq!(parse_value(upper).unwrap(), want, "{upper}");
+        assert_eq!(
+            parse_value(upper).unwrap(),
+            parse_value(lower).unwrap(),
+            "{upper} = {lower}"
+        );
+    }
+    assert_eq!(parse_value("2M2").unwrap(), 2.2e6);
+    assert!((parse_value("2m2").unwrap() - 2.2e-3).abs() < 1e-15);
+}
+
+#[test]
 fn si_prefixes() {
     // SI prefixes (SI Brochure, 9th edition): f 1e-15, p 1e-12, n 1e-9, µ 1e-6, m 1e-3, k 1e3, M 1e6, G 1e9.
     let cases = [

@@ -1,6 +1,7 @@
 //! End to end in a real terminal: the release-style binary in a tmux pane,
-//! keys sent, the screen read back. Skipped (with a printed reason) where
-//! tmux is not installed.
+//! keys sent, the screen read back. Where tmux is not installed (or cannot
+//! start a session) the tests fail under CI (the `CI` variable set) and are
+//! skipped with a printed reason elsewhere.
 
 use std::process::Command;
 use std::time::{Duration, Instant};
@@ -49,14 +50,23 @@ impl Drop for Session {
     }
 }
 
+/// No terminal to test in: a failure under CI, a printed skip elsewhere.
+fn skip(why: &str) -> Option<Session> {
+    assert!(
+        std::env::var_os("CI").is_none(),
+        "{why}, and CI is set: the end-to-end tests must run there"
+    );
+    println!("skipped: {why}");
+    None
+}
+
 fn start(name: &str, args: &str) -> Option<Session> {
     start_with(name, "", args)
 }
 
 fn start_with(name: &str, env: &str, args: &str) -> Option<Session> {
     if Command::new("tmux").arg("-V").output().is_err() {
-        println!("skipped: tmux is not installed");
-        return None;
+        return skip("tmux is not installed");
     }
     let bin = env!("CARGO_BIN_EXE_loopwright");
     let cmd = format!(
@@ -82,8 +92,7 @@ fn start_with(name: &str, env: &str, args: &str) -> Option<Session> {
         .map(|s| s.success())
         .unwrap_or(false);
     if !ok {
-        println!("skipped: tmux could not start a session");
-        return None;
+        return skip("tmux could not start a session");
     }
     Some(Session(name.to_string()))
 }
