@@ -60,9 +60,11 @@ fn follower_on_100_megohm_voltage_noise_is_not_filtered_by_cin() {
     assert!((want - 657e-9).abs() < 1e-9, "about 657 nV: {want:e}");
     let a = analyze(&s);
     let en = a.noise_sources.iter().find(|n| n.key == "vnoise").unwrap();
-    // Measured error 3.9e-6 (the white + 1/f sum is not one power law per
-    // segment); tolerance 2e-5.
-    assert_rel("voltage-noise rms", en.rms, want, 2e-5);
+    // Measured error 3.9e-6. Integration alone errs up to ≈ 3e-5 where white
+    // and 1/f are comparable (flicker test in engine_checks.rs), and cin
+    // shunts the rs/rin term (≤ 1e-4) above rs·cin's 400 Hz; tolerance 2e-4,
+    // while the old placement behind cin gave 540 nV (18 % low).
+    assert_rel("voltage-noise rms", en.rms, want, 2e-4);
 }
 
 #[test]
