@@ -148,6 +148,19 @@ fn nearest_and_membership() {
     assert!((Series::E24.nearest(9_600.0) - 10_000.0).abs() < 1e-9);
     assert!((Series::E96.nearest(10_050.0) - 10_000.0).abs() < 1e-9);
     assert!((Series::E192.nearest(9_210.0) - 9_200.0).abs() < 1e-9);
+    // Nearest is by ratio (geometric midpoints), as the series are spaced
+    // evenly in log and their tolerances are relative (IEC 60063's
+    // construction; common practice for rounding to a series): 5.14 k lies
+    // between E12's 4.7 k and 5.6 k above the geometric midpoint
+    // √(4.7·5.6) k ≈ 5.130 k but below the arithmetic one (5.15 k), so it
+    // rounds up; 5.12 k rounds down either way.
+    assert!(((4.7f64 * 5.6).sqrt() - 5.1303).abs() < 1e-4);
+    assert!((Series::E12.nearest(5_140.0) - 5_600.0).abs() < 1e-9);
+    assert!((Series::E12.nearest(5_120.0) - 4_700.0).abs() < 1e-9);
+    // E24 1.0 k / 1.1 k: geometric midpoint √1.1 k ≈ 1.0488 k, so 1.05 k
+    // (the arithmetic midpoint) goes up.
+    assert!((Series::E24.nearest(1_050.0) - 1_100.0).abs() < 1e-9);
+    assert!((Series::E24.nearest(1_048.0) - 1_000.0).abs() < 1e-9);
     assert!(Series::E24.contains(47_000.0));
     assert!(!Series::E12.contains(51_000.0));
     assert!(Series::E192.contains(9.2));
