@@ -168,15 +168,26 @@ fn nearest_and_membership() {
 
 #[test]
 fn series_command_prints_one_decade() {
-    let out = bin().args(["series", "E24"]).output().unwrap();
-    assert!(out.status.success());
-    let text = String::from_utf8(out.stdout).unwrap();
-    let values: Vec<f64> = text.lines().map(|l| l.trim().parse().unwrap()).collect();
-    assert_eq!(values, IEC_E24.to_vec());
-    let out = bin().args(["series", "E192"]).output().unwrap();
-    let text = String::from_utf8(out.stdout).unwrap();
-    let values: Vec<f64> = text.lines().map(|l| l.trim().parse().unwrap()).collect();
-    assert_eq!(values, IEC_E192.to_vec());
+    // Every series against its IEC 60063 table, printed with the table's
+    // digits (two for E3…E24, three for E48…E192).
+    for (series, table) in tables() {
+        let out = bin()
+            .args(["series", &series.to_string()])
+            .output()
+            .unwrap();
+        assert!(out.status.success(), "{series}");
+        let text = String::from_utf8(out.stdout).unwrap();
+        let values: Vec<f64> = text.lines().map(|l| l.trim().parse().unwrap()).collect();
+        assert_eq!(values, table.to_vec(), "{series}");
+        let decimals = if table.len() <= 24 { 1 } else { 2 };
+        for l in text.lines() {
+            assert_eq!(
+                l.trim().split('.').nth(1).map(str::len),
+                Some(decimals),
+                "{series}: {l}"
+            );
+        }
+    }
     let out = bin().args(["series", "E7"]).output().unwrap();
     assert!(!out.status.success());
     assert!(out.stdout.is_empty());
