@@ -191,3 +191,38 @@ fn terminal_is_restored_after_a_panic() {
     assert!(!done.contains("EXIT=0"), "{done}");
     assert_restored(&s.0, &done);
 }
+
+#[test]
+fn no_color_flag_and_a_plain_locale() {
+    // --no-color alone (NO_COLOR unset) sends no colour codes.
+    let ring = "--no-color scenarios/buffer_rings_10n.ron";
+    let Some(s) = start_with("lw_e2e_flag", "", ring) else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    let mono = tmux(&["capture-pane", "-e", "-p", "-t", &s.0]);
+    assert!(!mono.contains("38;5;"), "--no-color screen has colours");
+    drop(s);
+    // A locale that is not UTF-8 chooses ASCII by itself (README): no Ω,
+    // resistors in the RKM style (10kR).
+    let Some(s) = start_with("lw_e2e_c_locale", "LC_ALL=C LANG=C", "") else {
+        return;
+    };
+    let text = wait_for(&s.0, "Parameters").expect("workbench starts");
+    assert!(text.contains("10kR"), "{text}");
+    assert!(!text.contains('Ω') && !text.contains('╭'), "{text}");
+}
+
+#[test]
+fn two_files_on_the_command_line() {
+    let files = "scenarios/buffer_rings_10n.ron scenarios/line_driver_cable.ron";
+    let Some(s) = start("lw_e2e_two", files) else {
+        return;
+    };
+    let screen = wait_for(&s.0, "Parameters").expect("workbench starts");
+    assert!(screen.contains("Δ"), "difference row:\n{screen}");
+    assert!(screen.contains("≠ riso"), "{screen}");
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    let done = wait_for(&s.0, "EXIT=").expect("process exits");
+    assert!(done.contains("EXIT=0"), "{done}");
+}
