@@ -22,7 +22,8 @@ fn scenario_file(name: &str, text: &str) -> (std::path::PathBuf, std::path::Path
     (dir, path)
 }
 
-const KEYS: [&str; 16] = [
+/// Every top-level key the README's JSON section lists.
+const KEYS: [&str; 19] = [
     "title",
     "ideal_gain",
     "dc_gain",
@@ -34,11 +35,29 @@ const KEYS: [&str; 16] = [
     "gain_margin_db",
     "zout_dc_ohm",
     "zin_dc_ohm",
+    "zout_1khz_ohm",
     "noise_density_1khz",
     "noise_rms",
+    "loop_gain_dc",
+    "band_hz",
+    "noise_sources",
     "points",
     "warnings",
-    "noise_sources",
+];
+
+/// The keys of one `--at` point (README).
+const POINT_KEYS: [&str; 11] = [
+    "f_hz",
+    "gain_mag",
+    "gain_db",
+    "gain_phase_deg",
+    "zout_mag",
+    "zout_phase_deg",
+    "zin_mag",
+    "zin_phase_deg",
+    "loop_mag",
+    "loop_phase_deg",
+    "noise_density",
 ];
 
 #[test]
@@ -51,6 +70,20 @@ fn demo_json_has_every_key() {
     // Demo: gain 1 + 10k/1k = 11 (textbook non-inverting gain).
     assert!((v["ideal_gain"].as_f64().unwrap() - 11.0).abs() < 1e-9);
     assert!(v["points"].as_array().unwrap().is_empty());
+    // The demo's band is 10 Hz … 100 kHz (assets/demo.ron, as the README shows).
+    assert_eq!(v["band_hz"], serde_json::json!([10.0, 100000.0]));
+    let sources = v["noise_sources"].as_array().unwrap();
+    assert!(!sources.is_empty());
+    for n in sources {
+        for k in ["key", "label", "rms", "share"] {
+            assert!(n.get(k).is_some(), "noise source key {k}");
+        }
+    }
+    for w in v["warnings"].as_array().unwrap() {
+        for k in ["code", "severity", "text"] {
+            assert!(w.get(k).is_some(), "warning key {k}");
+        }
+    }
 }
 
 #[test]
@@ -63,27 +96,98 @@ fn points_at_frequencies_in_engineering_notation() {
     let f: Vec<f64> = pts.iter().map(|p| p["f_hz"].as_f64().unwrap()).collect();
     assert_eq!(f, vec![1000.0, 2.5e6, 100.0]);
     for p in pts {
-        for k in [
-            "f_hz",
-            "gain_mag",
-            "gain_phase_deg",
-            "zout_mag",
-            "zout_phase_deg",
-            "zin_mag",
-            "loop_mag",
-            "loop_phase_deg",
-            "noise_density",
-        ] {
+        for k in POINT_KEYS {
             assert!(p.get(k).is_some(), "point key {k}");
         }
         let ph = p["gain_phase_deg"].as_f64().unwrap();
         assert!(ph > -180.0 && ph <= 180.0);
+        // gain_db is 20·log10 of gain_mag (definition of the decibel).
+        let db = 20.0 * p["gain_mag"].as_f64().unwrap().log10();
+        assert!((p["gain_db"].as_f64().unwrap() - db).abs() < 1e-9);
     }
-    // The same figures at 1 kHz as the summary's.
-    assert_eq!(pts[0]["noise_density"], v["noise_density_1khz"]);
-    assert_eq!(pts[0]["zout_mag"], v["zout_1khz_ohm"]);
     // Loop phase is unwrapped from DC: below −90° at 2.5 MHz for this two-pole model.
     assert!(pts[1]["loop_phase_deg"].as_f64().unwrap() < -90.0);
+}
+
+#[test]
+fn point_values_match_closed_forms() {
+    // A non-inverting stage (rg 1 k, rf 9 k) around a fast single-pole
+    // model, ideal source, no load, only voltage noise and resistor noise.
+    // Closed forms at 1 kHz, A = a0/(1 + jf/fp1), β = rg/(rg + rf):
+    //   gain = (1 + rf/rg)/(1 + 1/(Aβ))                  (finite-gain loop)
+    //   1/Zout = 1/(rf + rg) + 1/ro + A·rg/(ro·(rg + rf)) (KCL at the output)
+    //   noise² = (en·NG)² + 4kT·rg·(rf/rg)² + 4kT·rf     (textbook, NG = 10)
+    let (dir, path) = scenario_file(
+        "closed",
+        r#"(
+    title: "closed forms",
+    stage: (topology: NonInverting, rg: 1000.0, rf: 9000.0, series: E24, tolerance: 0.01),
+    amp: (a0: 1.0e8, gbw: 1.0e11, ro: 10.0, vnoise: 3.0e-9, inoise: 0.0),
+    source: (r: 0.0),
+    load: (),
+    temp_c: 25.0,
+    band: (10.0, 100000.0),
+)"#,
+    );
+    let v = json(&["report", path.to_str().unwrap(), "--json", "--at", "1k"]);
+    let p = &v["points"][0];
+    let one = num_complex::Complex64::new(1.0, 0.0);
+    let a = 1e8 / num_complex::Complex64::new(1.0, 1e3 / 1e3);
+    let gain = 10.0 / (one + 1.0 / (a * 0.1));
+    let zout = one / (1.0 / 10e3 + 1.0 / 10.0 + a * 1e3 / (10.0 * 10e3));
+    let kt4 = 4.0 * 1.380649e-23 * 298.15;
+    let noise = ((3e-9f64 * 10.0).powi(2) + kt4 * 1e3 * 81.0 + kt4 * 9e3).sqrt();
+    let close = |key: &str, want: f64, tol: f64| {
+        let got = p[key].as_f64().unwrap();
+        assert!(((got - want) / want).abs() < tol, "{key}: {got} vs {want}");
+    };
+    // gbw and a0 at the top of their accepted ranges (fp1 = 1 kHz).
+    // Expected errors about 1e-10 (gain), 1e-15 (Zout) and 1.4e-7 (noise:
+    // the closed form takes the loop gain as infinite, 1/|Aβ| ≈ 1.4e-7);
+    // tolerance 1e-6 for the noise, 1e-9 for gain and Zout.
+    close("gain_mag", gain.norm(), 1e-9);
+    close("zout_mag", zout.norm(), 1e-9);
+    close("zout_phase_deg", zout.arg().to_degrees(), 1e-9);
+    close("noise_density", noise, 1e-6);
+    // The summary's 1 kHz figures are the same quantities.
+    for (key, want) in [
+        ("zout_1khz_ohm", zout.norm()),
+        ("noise_density_1khz", noise),
+    ] {
+        let got = v[key].as_f64().unwrap();
+        assert!(((got - want) / want).abs() < 1e-6, "{key}: {got} vs {want}");
+    }
+    // Without rin the + input is open: Zin is null at every frequency.
+    assert!(p["zin_mag"].is_null() && p["zin_phase_deg"].is_null());
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn output_impedance_phase_is_a_principal_value() {
+    // README: gain and Zout phases are principal values in (−180°, 180°].
+    // A follower's Zout turns inductive (near +90°) above the open-loop pole
+    // and capacitive (towards −90°) with a load capacitance past its
+    // resonance; every point stays in range.
+    for file in [
+        "buffer_rings_10n.ron",
+        "line_driver_cable.ron",
+        "adc_driver_2n2.ron",
+    ] {
+        let p = format!("{}/scenarios/{file}", env!("CARGO_MANIFEST_DIR"));
+        let mut args = vec!["report".to_string(), p, "--json".into()];
+        for f in ["0", "1", "100", "10k", "1M", "10M", "100M", "1G"] {
+            args.push("--at".into());
+            args.push(f.into());
+        }
+        let args: Vec<&str> = args.iter().map(|s| s.as_str()).collect();
+        let v = json(&args);
+        for pt in v["points"].as_array().unwrap() {
+            for k in ["zout_phase_deg", "gain_phase_deg"] {
+                let ph = pt[k].as_f64().unwrap();
+                assert!(ph > -180.0 && ph <= 180.0, "{file} {k} {ph}");
+            }
+        }
+    }
 }
 
 #[test]

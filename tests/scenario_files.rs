@@ -100,7 +100,11 @@ fn negative_and_zero_resistors_are_rejected_with_position() {
     let e = err(&DOC_EXAMPLE.replace("rg: 1000.0", "rg: -1000.0"));
     assert_eq!(e.field.as_deref(), Some("stage.rg"));
     assert_eq!(e.line, Some(3));
-    assert_eq!(e.col, Some(37));
+    // The column of the field's name on that line, counted here (1-based).
+    let line3 = DOC_EXAMPLE.lines().nth(2).unwrap();
+    let col = line3.find("rg:").unwrap() + 1;
+    assert_eq!(col, 37);
+    assert_eq!(e.col, Some(col));
     assert!(e.to_string().contains("-1000"), "{e}");
     let e = err(&DOC_EXAMPLE.replace("rf: 10000.0", "rf: 0.0"));
     assert_eq!(e.field.as_deref(), Some("stage.rf"));
@@ -204,8 +208,15 @@ fn bad_file_in_the_cli_fails_cleanly() {
     assert!(!out.status.success());
     assert!(out.stdout.is_empty());
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("bad.ron:3:37"), "{err}");
-    assert!(err.contains("stage.rg"), "{err}");
+    // README: ``file:line:column: field `name`: reason``; the column is that
+    // of the field's name on line 3, counted here.
+    let col = DOC_EXAMPLE.lines().nth(2).unwrap().find("rg:").unwrap() + 1;
+    let head = format!("{}:3:{col}: field `stage.rg`: ", path.display());
+    let rest = err
+        .split_once(&head)
+        .unwrap_or_else(|| panic!("{head} in {err}"))
+        .1;
+    assert!(rest.contains("-1"), "the reason names the value: {err}");
     let out = bin()
         .arg("report")
         .arg(dir.join("missing.ron"))

@@ -148,6 +148,19 @@ fn nearest_and_membership() {
     assert!((Series::E24.nearest(9_600.0) - 10_000.0).abs() < 1e-9);
     assert!((Series::E96.nearest(10_050.0) - 10_000.0).abs() < 1e-9);
     assert!((Series::E192.nearest(9_210.0) - 9_200.0).abs() < 1e-9);
+    // Nearest is by ratio (geometric midpoints), as the series are spaced
+    // evenly in log and their tolerances are relative (IEC 60063's
+    // construction; common practice for rounding to a series): 5.14 k lies
+    // between E12's 4.7 k and 5.6 k above the geometric midpoint
+    // √(4.7·5.6) k ≈ 5.130 k but below the arithmetic one (5.15 k), so it
+    // rounds up; 5.12 k rounds down either way.
+    assert!(((4.7f64 * 5.6).sqrt() - 5.1303).abs() < 1e-4);
+    assert!((Series::E12.nearest(5_140.0) - 5_600.0).abs() < 1e-9);
+    assert!((Series::E12.nearest(5_120.0) - 4_700.0).abs() < 1e-9);
+    // E24 1.0 k / 1.1 k: geometric midpoint √1.1 k ≈ 1.0488 k, so 1.05 k
+    // (the arithmetic midpoint) goes up.
+    assert!((Series::E24.nearest(1_050.0) - 1_100.0).abs() < 1e-9);
+    assert!((Series::E24.nearest(1_048.0) - 1_000.0).abs() < 1e-9);
     assert!(Series::E24.contains(47_000.0));
     assert!(!Series::E12.contains(51_000.0));
     assert!(Series::E192.contains(9.2));
@@ -155,15 +168,26 @@ fn nearest_and_membership() {
 
 #[test]
 fn series_command_prints_one_decade() {
-    let out = bin().args(["series", "E24"]).output().unwrap();
-    assert!(out.status.success());
-    let text = String::from_utf8(out.stdout).unwrap();
-    let values: Vec<f64> = text.lines().map(|l| l.trim().parse().unwrap()).collect();
-    assert_eq!(values, IEC_E24.to_vec());
-    let out = bin().args(["series", "E192"]).output().unwrap();
-    let text = String::from_utf8(out.stdout).unwrap();
-    let values: Vec<f64> = text.lines().map(|l| l.trim().parse().unwrap()).collect();
-    assert_eq!(values, IEC_E192.to_vec());
+    // Every series against its IEC 60063 table, printed with the table's
+    // digits (two for E3…E24, three for E48…E192).
+    for (series, table) in tables() {
+        let out = bin()
+            .args(["series", &series.to_string()])
+            .output()
+            .unwrap();
+        assert!(out.status.success(), "{series}");
+        let text = String::from_utf8(out.stdout).unwrap();
+        let values: Vec<f64> = text.lines().map(|l| l.trim().parse().unwrap()).collect();
+        assert_eq!(values, table.to_vec(), "{series}");
+        let decimals = if table.len() <= 24 { 1 } else { 2 };
+        for l in text.lines() {
+            assert_eq!(
+                l.trim().split('.').nth(1).map(str::len),
+                Some(decimals),
+                "{series}: {l}"
+            );
+        }
+    }
     let out = bin().args(["series", "E7"]).output().unwrap();
     assert!(!out.status.success());
     assert!(out.stdout.is_empty());
@@ -198,6 +222,28 @@ fn rkm_code_examples() {
             "{text}: {got} vs {want}"
         );
     }
+}
+
+#[test]
+fn capital_k_is_kilo_as_in_iec_60062() {
+    // IEC 60062 writes the resistor multiplier letters in capitals (4K7,
+    // from memory); the lower-case k of the SI prefix means the same. M and m
+    // stay distinct: mega and milli (SI Brochure, 9th edition).
+    for (upper, lower, want) in [
+        ("4K7", "4k7", 4_700.0),
+        ("47K", "47k", 47_000.0),
+        ("1K0", "1k0", 1_000.0),
+        ("4.7K", "4.7k", 4_700.0),
+    ] {
+        assert_eq!(parse_value(upper).unwrap(), want, "{upper}");
+        assert_eq!(
+            parse_value(upper).unwrap(),
+            parse_value(lower).unwrap(),
+            "{upper} = {lower}"
+        );
+    }
+    assert_eq!(parse_value("2M2").unwrap(), 2.2e6);
+    assert!((parse_value("2m2").unwrap() - 2.2e-3).abs() < 1e-15);
 }
 
 #[test]

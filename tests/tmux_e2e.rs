@@ -1,6 +1,7 @@
 //! End to end in a real terminal: the release-style binary in a tmux pane,
-//! keys sent, the screen read back. Skipped (with a printed reason) where
-//! tmux is not installed.
+//! keys sent, the screen read back. Where tmux is not installed (or cannot
+//! start a session) the tests fail under CI (the `CI` variable set) and are
+//! skipped with a printed reason elsewhere.
 
 use std::process::Command;
 use std::time::{Duration, Instant};
@@ -49,14 +50,23 @@ impl Drop for Session {
     }
 }
 
+/// No terminal to test in: a failure under CI, a printed skip elsewhere.
+fn skip(why: &str) -> Option<Session> {
+    assert!(
+        std::env::var_os("CI").is_none(),
+        "{why}, and CI is set: the end-to-end tests must run there"
+    );
+    println!("skipped: {why}");
+    None
+}
+
 fn start(name: &str, args: &str) -> Option<Session> {
     start_with(name, "", args)
 }
 
 fn start_with(name: &str, env: &str, args: &str) -> Option<Session> {
     if Command::new("tmux").arg("-V").output().is_err() {
-        println!("skipped: tmux is not installed");
-        return None;
+        return skip("tmux is not installed");
     }
     let bin = env!("CARGO_BIN_EXE_loopwright");
     let cmd = format!(
@@ -82,8 +92,7 @@ fn start_with(name: &str, env: &str, args: &str) -> Option<Session> {
         .map(|s| s.success())
         .unwrap_or(false);
     if !ok {
-        println!("skipped: tmux could not start a session");
-        return None;
+        return skip("tmux could not start a session");
     }
     Some(Session(name.to_string()))
 }
@@ -181,4 +190,39 @@ fn terminal_is_restored_after_a_panic() {
     assert!(done.contains("deliberate test panic"), "{done}");
     assert!(!done.contains("EXIT=0"), "{done}");
     assert_restored(&s.0, &done);
+}
+
+#[test]
+fn no_color_flag_and_a_plain_locale() {
+    // --no-color alone (NO_COLOR unset) sends no colour codes.
+    let ring = "--no-color scenarios/buffer_rings_10n.ron";
+    let Some(s) = start_with("lw_e2e_flag", "", ring) else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    let mono = tmux(&["capture-pane", "-e", "-p", "-t", &s.0]);
+    assert!(!mono.contains("38;5;"), "--no-color screen has colours");
+    drop(s);
+    // A locale that is not UTF-8 chooses ASCII by itself (README): no Ω,
+    // resistors in the RKM style (10kR).
+    let Some(s) = start_with("lw_e2e_c_locale", "LC_ALL=C LANG=C", "") else {
+        return;
+    };
+    let text = wait_for(&s.0, "Parameters").expect("workbench starts");
+    assert!(text.contains("10kR"), "{text}");
+    assert!(!text.contains('Ω') && !text.contains('╭'), "{text}");
+}
+
+#[test]
+fn two_files_on_the_command_line() {
+    let files = "scenarios/buffer_rings_10n.ron scenarios/line_driver_cable.ron";
+    let Some(s) = start("lw_e2e_two", files) else {
+        return;
+    };
+    let screen = wait_for(&s.0, "Parameters").expect("workbench starts");
+    assert!(screen.contains("Δ"), "difference row:\n{screen}");
+    assert!(screen.contains("≠ riso"), "{screen}");
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    let done = wait_for(&s.0, "EXIT=").expect("process exits");
+    assert!(done.contains("EXIT=0"), "{done}");
 }

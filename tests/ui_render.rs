@@ -99,17 +99,21 @@ fn sizes_render_without_panicking() {
     let small = screen(&a, 60, 20);
     assert!(small.contains("enlarge"), "{small}");
     assert!(!small.contains("Parameters"));
-    for (w, h) in [
-        (0, 0),
-        (1, 1),
-        (2, 2),
-        (20, 6),
-        (79, 24),
-        (80, 23),
-        (160, 50),
-        (250, 80),
-    ] {
-        let _ = screen(&a, w, h);
+    // README: it works at 80×24 and larger; one column or row less gets
+    // the one-line request to enlarge, tiny sizes draw without panicking.
+    for (w, h) in [(79, 24), (80, 23)] {
+        let text = screen(&a, w, h);
+        assert!(
+            text.contains("enlarge it to at least 80x24"),
+            "{w}x{h}: {text}"
+        );
+        assert!(!text.contains("Parameters"), "{w}x{h}");
+    }
+    for (w, h) in [(160, 50), (250, 80)] {
+        assert!(screen(&a, w, h).contains("Parameters"), "{w}x{h}");
+    }
+    for (w, h) in [(0, 0), (1, 1), (2, 2), (20, 6)] {
+        assert!(!screen(&a, w, h).contains("Parameters"), "{w}x{h}");
     }
 }
 

@@ -17,7 +17,8 @@ enum Pin {
     Term,
     /// The op-amp's + pin, as the outside sees it.
     InP,
-    /// Behind the voltage-noise generator: rin, cin and the amplifier sense here.
+    /// Behind the voltage-noise generator: the amplifier's sensed + input
+    /// (rin, cin and the + current noise stay at the pins).
     InPi,
     InN,
     /// Amplifier output pin, where feedback is taken.
@@ -216,10 +217,10 @@ fn parts(s: &Scenario, model: AmpModel) -> Vec<Part> {
     match model {
         AmpModel::Real => {
             if let Some(rin) = amp.rin {
-                p.push(Part::Resistor(InPi, InN, rin, None));
+                p.push(Part::Resistor(InP, InN, rin, None));
             }
             if let Some(cin) = present(amp.cin) {
-                p.push(Part::Capacitor(InPi, Gnd, cin));
+                p.push(Part::Capacitor(InP, Gnd, cin));
                 p.push(Part::Capacitor(InN, Gnd, cin));
             }
             // The controlled source is stamped in Norton form (one node and
@@ -317,7 +318,7 @@ fn amp_noise(amp: &Amp, en_row: usize, node: impl Fn(Pin) -> Option<usize>) -> [
             white: amp.vnoise * amp.vnoise,
             corner: amp.vnoise_corner.unwrap_or(0.0),
         },
-        current("inoise_plus", "amp current noise +", Pin::InPi),
+        current("inoise_plus", "amp current noise +", Pin::InP),
         current("inoise_minus", "amp current noise −", Pin::InN),
     ]
 }

@@ -139,6 +139,9 @@ const TOLERANCES: [f64; 9] = [0.0005, 0.001, 0.0025, 0.005, 0.01, 0.02, 0.05, 0.
 
 /// Accepted ranges (README "Accepted ranges").
 pub const OHMS: (f64, f64) = (1.0e-3, 1.0e13);
+/// The amplifier's open-loop output resistance: wider makes the solve
+/// lose digits against milliohm feedback networks.
+pub const RO: (f64, f64) = (1.0e-3, 1.0e6);
 pub const FARADS: (f64, f64) = (1.0e-15, 1.0);
 pub const HERTZ: (f64, f64) = (1.0e-6, 1.0e12);
 pub const GBW: (f64, f64) = (1.0, 1.0e11);
@@ -367,7 +370,7 @@ pub static PARAMS: [Param; 23] = [
         Amplifier,
         OneTwoFive,
         Required,
-        OHMS,
+        RO,
         number!(req amp.ro),
     ),
     entry(

@@ -1,0 +1,184 @@
+//! The workbench's keys, driven through `App::on_key` and checked through
+//! the slots' scenarios and the drawn screen (TestBackend, mono theme).
+
+mod common;
+use common::{key, press, screen_at, type_text};
+use crossterm::event::KeyCode;
+use loopwright::engine::scenario::{self, Scenario};
+use loopwright::ui::app::App;
+use loopwright::ui::theme::Theme;
+
+fn demo_app() -> App {
+    App::new(vec![(scenario::demo(), None)], Theme::new(false, false))
+}
+
+/// Rows below rf (selected at start) in the demo's parameter pane, in the
+/// README's order: stage (topology rg rf cf riso series tolerance),
+/// amplifier (a0 gbw fp2 rin cin ro en, en corner, in, in corner), source
+/// and load (source r, load r, load c), environment (temp, band).
+const CF: usize = 1;
+const GBW: usize = 6;
+const TEMP: usize = 18;
+
+fn select_below_rf(a: &mut App, rows: usize) {
+    press(a, KeyCode::Down, rows);
+}
+
+/// The 1-2-5 sequence per decade (common practice for model numbers):
+/// the next member above (or below) v.
+fn next_125(v: f64, up: bool) -> f64 {
+    let mut members: Vec<f64> = (-15..=15)
+        .flat_map(|e| [1.0, 2.0, 5.0].map(|m| m * 10f64.powi(e)))
+        .collect();
+    members.sort_by(f64::total_cmp);
+    if up {
+        *members.iter().find(|&&m| m > v * (1.0 + 1e-9)).unwrap()
+    } else {
+        *members
+            .iter()
+            .rev()
+            .find(|&&m| m < v * (1.0 - 1e-9))
+            .unwrap()
+    }
+}
+
+#[test]
+fn capacitors_step_along_e12() {
+    // IEC 60063 E12: … 8.2, 10, 12, 15 …; the demo's cf is 1 pF.
+    let mut a = demo_app();
+    select_below_rf(&mut a, CF);
+    a.on_key(key(KeyCode::Right));
+    assert!((a.slots[0].scenario.stage.cf.unwrap() - 1.2e-12).abs() < 1e-24);
+    a.on_key(key(KeyCode::Char('+')));
+    assert!((a.slots[0].scenario.stage.cf.unwrap() - 1.5e-12).abs() < 1e-24);
+    press(&mut a, KeyCode::Char('-'), 3);
+    assert!((a.slots[0].scenario.stage.cf.unwrap() - 0.82e-12).abs() < 1e-24);
+}
+
+#[test]
+fn model_numbers_step_1_2_5_and_temperature_by_5() {
+    let mut a = demo_app();
+    select_below_rf(&mut a, GBW);
+    let gbw = a.slots[0].scenario.amp.gbw;
+    a.on_key(key(KeyCode::Right));
+    assert_eq!(a.slots[0].scenario.amp.gbw, next_125(gbw, true));
+    press(&mut a, KeyCode::Char('-'), 2);
+    assert_eq!(
+        a.slots[0].scenario.amp.gbw,
+        next_125(gbw, false),
+        "from {gbw}"
+    );
+    // Temperature steps by 5 °C (README).
+    let mut a = demo_app();
+    select_below_rf(&mut a, TEMP);
+    let t = a.slots[0].scenario.temp_c;
+    a.on_key(key(KeyCode::Char('+')));
+    assert_eq!(a.slots[0].scenario.temp_c, t + 5.0);
+    press(&mut a, KeyCode::Left, 3);
+    assert_eq!(a.slots[0].scenario.temp_c, t - 10.0);
+    assert!(screen_at(&a, 100, 30).contains(" temp "));
+}
+
+#[test]
+fn archetypes_set_their_values_and_stay_steppable() {
+    // Each archetype's numbers land in the amplifier; gbw then steps along
+    // 1-2-5 from the archetype's value.
+    let list = loopwright::ui::app::archetypes();
+    let mut a = demo_app();
+    a.on_key(key(KeyCode::Char('a')));
+    a.on_key(key(KeyCode::Down));
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.amp, list[1].amp);
+    select_below_rf(&mut a, GBW);
+    a.on_key(key(KeyCode::Right));
+    assert_eq!(a.slots[0].scenario.amp.gbw, next_125(list[1].amp.gbw, true));
+}
+
+#[test]
+fn typing_none_removes_an_optional_part() {
+    let mut a = demo_app();
+    select_below_rf(&mut a, CF);
+    assert!(a.slots[0].scenario.stage.cf.is_some());
+    a.on_key(key(KeyCode::Enter));
+    press(&mut a, KeyCode::Backspace, 20);
+    type_text(&mut a, "none");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.stage.cf, None);
+    let text = screen_at(&a, 100, 30);
+    let row = text.lines().find(|l| l.contains(" cf ")).unwrap();
+    assert!(row.contains("none"), "{row}");
+}
+
+#[test]
+fn save_asks_for_a_path_when_there_is_none() {
+    let d = common::temp_dir("savepath");
+    let mut a = demo_app();
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('w')));
+    assert!(a.status.contains("type a path"), "{}", a.status);
+    let p = d.join("asked");
+    type_text(&mut a, p.to_str().unwrap());
+    a.on_key(key(KeyCode::Enter));
+    let saved = Scenario::load(&d.join("asked.ron")).unwrap();
+    assert_eq!(saved, a.slots[0].scenario);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn warnings_scroll() {
+    let p = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/buffer_rings_10n.ron"
+    );
+    let s = Scenario::load(std::path::Path::new(p)).unwrap();
+    let n = common::warnings_of(&s).len();
+    assert!(n >= 3, "{n} warnings");
+    let mut a = App::new(vec![(s, None)], Theme::new(false, false));
+    let first = screen_at(&a, 80, 24);
+    a.on_key(key(KeyCode::Char(']')));
+    let second = screen_at(&a, 80, 24);
+    assert!(
+        second.contains(&format!(" of {n} ([ ] scroll)")),
+        "{second}"
+    );
+    assert!(second.contains(" 2–"), "{second}");
+    // Scrolling stops at the last warning and comes back with [.
+    press(&mut a, KeyCode::PageDown, 2 * n);
+    assert!(screen_at(&a, 80, 24).contains(&format!(" {n}–{n} of {n}")));
+    press(&mut a, KeyCode::Char('['), 2 * n);
+    assert_eq!(screen_at(&a, 80, 24), first);
+}
+
+#[test]
+fn ascii_marks_differing_parameters_with_a_star() {
+    let mut a = App::new(vec![(scenario::demo(), None)], Theme::new(false, true));
+    a.on_key(key(KeyCode::Char('c')));
+    a.on_key(key(KeyCode::Tab));
+    a.on_key(key(KeyCode::Right));
+    let text = screen_at(&a, 100, 30);
+    assert!(text.contains("* rf"), "{text}");
+    assert!(!text.contains('≠'));
+}
+
+#[test]
+fn two_files_open_side_by_side() {
+    // As `loopwright A.ron B.ron` does: both files loaded, A and B rows.
+    let dir = concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/");
+    let (pa, pb) = (
+        std::path::PathBuf::from(format!("{dir}buffer_rings_10n.ron")),
+        std::path::PathBuf::from(format!("{dir}line_driver_cable.ron")),
+    );
+    let (sa, sb) = (Scenario::load(&pa).unwrap(), Scenario::load(&pb).unwrap());
+    let a = App::new(
+        vec![(sa.clone(), Some(pa)), (sb.clone(), Some(pb))],
+        Theme::new(false, false),
+    );
+    assert_eq!(a.slots.len(), 2);
+    assert_eq!(a.slots[0].scenario, sa);
+    assert_eq!(a.slots[1].scenario, sb);
+    let text = screen_at(&a, 100, 30);
+    for row in ["A ", "B ", "Δ "] {
+        assert!(text.lines().any(|l| l.starts_with(row)), "{row}:\n{text}");
+    }
+    assert!(text.contains("≠ riso"), "{text}");
+}
