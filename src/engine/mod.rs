@@ -4,6 +4,7 @@
 
 pub mod analysis;
 pub mod eseries;
+pub mod filetext;
 pub mod netlist;
 pub mod scenario;
 pub mod solver;

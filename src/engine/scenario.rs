@@ -3,6 +3,7 @@
 //! column.
 
 use super::eseries::Series;
+use super::filetext;
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
@@ -158,29 +159,65 @@ fn ron_options() -> ron::Options {
 impl Scenario {
     /// Parse and validate RON text. `file` only labels the error.
     pub fn from_ron(text: &str, file: Option<&str>) -> Result<Scenario, ScenarioError> {
+        // A UTF-8 byte-order mark (U+FEFF) is not part of the text.
+        let text = text.strip_prefix('\u{feff}').unwrap_or(text);
         let fields = field_positions(text);
+        let at = |f: &FieldPos, field: &str, message: String| ScenarioError {
+            file: file.map(str::to_string),
+            field: Some(field.into()),
+            line: Some(f.line),
+            col: Some(f.col),
+            message,
+        };
         // Versions are checked first, so a newer file is reported as such
         // rather than as an unknown field.
         if let Some(v) = fields.iter().find(|f| f.path == "version") {
-            let rest = &text[v.value_offset..];
-            let digits: String = rest
-                .trim_start()
-                .chars()
-                .take_while(|c| c.is_ascii_digit())
-                .collect();
-            if let Ok(n) = digits.parse::<u32>() {
-                if n > FORMAT_VERSION {
-                    return Err(ScenarioError {
-                        file: file.map(str::to_string),
-                        field: Some("version".into()),
-                        line: Some(v.line),
-                        col: Some(v.col),
-                        message: format!(
+            let token = value_token(&text[v.value_offset..]);
+            match token.parse::<u32>() {
+                Ok(n) if n > FORMAT_VERSION => {
+                    return Err(at(
+                        v,
+                        "version",
+                        format!(
                             "file format version {n} is newer than this loopwright reads \
                              (up to {FORMAT_VERSION}); update loopwright"
                         ),
-                    });
+                    ))
                 }
+                Ok(0) => {
+                    return Err(at(
+                        v,
+                        "version",
+                        format!("0 is not a file format version (versions start at 1; this loopwright writes {FORMAT_VERSION})"),
+                    ))
+                }
+                Ok(_) => {}
+                Err(_) => {
+                    return Err(at(
+                        v,
+                        "version",
+                        format!(
+                            "`{token}` is not a file format version: it must be a whole number \
+                             (this loopwright writes {FORMAT_VERSION})"
+                        ),
+                    ))
+                }
+            }
+        }
+        if let Some(t) = fields.iter().find(|f| f.path == "stage.topology") {
+            let token = value_token(&text[t.value_offset..]);
+            let names = [
+                Topology::NonInverting,
+                Topology::Inverting,
+                Topology::Follower,
+            ];
+            if !names.iter().any(|n| n.name() == token) {
+                let list: Vec<&str> = names.iter().map(|n| n.name()).collect();
+                return Err(at(
+                    t,
+                    "stage.topology",
+                    format!("`{token}` is not a topology: use {}", list.join(", ")),
+                ));
             }
         }
         let scenario: Scenario = ron_options().from_str(text).map_err(|e| {
@@ -256,15 +293,27 @@ impl Scenario {
     }
 
     /// Read a scenario file, also returning its text (for what the
-    /// scenario does not hold, such as comments).
+    /// scenario does not hold, such as comments). Only a regular file of at
+    /// most [`filetext::MAX_BYTES`] is read; a FIFO or device is refused
+    /// without blocking.
     pub fn read(path: &std::path::Path) -> Result<(Scenario, String), ScenarioError> {
         let name = path.display().to_string();
-        let text = std::fs::read_to_string(path).map_err(|e| ScenarioError {
-            file: Some(name.clone()),
-            field: None,
-            line: None,
-            col: None,
-            message: format!("cannot read the file: {e}"),
+        let text = filetext::read_text(path, filetext::MAX_BYTES).map_err(|e| {
+            let (line, col, message) = match e {
+                filetext::TextError::File(m) => (None, None, m),
+                filetext::TextError::Encoding { line, col, byte } => (
+                    Some(line),
+                    Some(col),
+                    format!("the file is not UTF-8 text (byte 0x{byte:02X}); save it as UTF-8"),
+                ),
+            };
+            ScenarioError {
+                file: Some(name.clone()),
+                field: None,
+                line,
+                col,
+                message,
+            }
         })?;
         let s = Scenario::from_ron(&text, Some(&name))?;
         Ok((s, text))
@@ -518,6 +567,16 @@ pub fn field_positions(text: &str) -> Vec<FieldPos> {
         i += 1;
     }
     out
+}
+
+/// The value text that starts a field's value: up to a separator, a
+/// bracket, a comment or a line end (`1.5`, `NonInverting`, `1e3`).
+fn value_token(rest: &str) -> &str {
+    let rest = rest.trim_start();
+    let end = rest
+        .find(|c: char| c == ',' || c == ')' || c == '(' || c == '/' || c.is_whitespace())
+        .unwrap_or(rest.len());
+    &rest[..end]
 }
 
 /// The field whose definition most recently precedes a position.
