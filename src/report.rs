@@ -3,7 +3,7 @@
 
 use crate::engine::analysis::{phase_deg, Analysis, Circuit};
 use crate::engine::scenario::{present, Scenario, Topology};
-use crate::engine::values::{fmt_eng, fmt_eng_sig};
+use crate::engine::values::{fmt_eng, fmt_eng_sig, printable};
 use crate::engine::Warning;
 use serde::Serialize;
 use std::io::{self, Write};
@@ -184,7 +184,7 @@ pub fn severity_mark(w: &Warning) -> &'static str {
 /// The readable text report.
 pub fn write_text(r: &Report, s: &Scenario, a: &Analysis, w: &mut impl Write) -> io::Result<()> {
     let am = &s.amp;
-    writeln!(w, "{}", r.title)?;
+    writeln!(w, "{}", printable(&r.title))?;
     writeln!(w, "  stage       {}", stage_line(s))?;
     let mut amp = vec![
         format!("a0 {} ({})", fmt_eng(am.a0, ""), db(am.a0)),
@@ -413,8 +413,8 @@ impl Comparison {
 
     /// The side-by-side table and the differing parameters, as text.
     pub fn write_text(&self, w: &mut impl Write) -> io::Result<()> {
-        writeln!(w, "A: {}", self.a.title)?;
-        writeln!(w, "B: {}", self.b.title)?;
+        writeln!(w, "A: {}", printable(&self.a.title))?;
+        writeln!(w, "B: {}", printable(&self.b.title))?;
         writeln!(w)?;
         writeln!(
             w,
@@ -462,7 +462,8 @@ impl Comparison {
         } else {
             writeln!(w, "Parameters that differ")?;
             for p in &self.differences.parameters {
-                writeln!(w, "  {:<20} A {:<16} B {}", p.field, p.a, p.b)?;
+                let (a, b) = (printable(&p.a), printable(&p.b));
+                writeln!(w, "  {:<20} A {a:<16} B {b}", p.field)?;
             }
         }
         Ok(())

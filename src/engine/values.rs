@@ -293,3 +293,33 @@ mod tests {
         }
     }
 }
+
+/// Text safe to print on a terminal: C0 and C1 control characters and DEL
+/// (ISO/IEC 6429) are shown as `\u{..}` escapes, so a title cannot move
+/// the cursor, clear the screen or ring the bell.
+pub fn printable(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for c in s.chars() {
+        if c.is_control() {
+            out.push_str(&c.escape_unicode().to_string());
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod printable_tests {
+    use super::printable;
+
+    #[test]
+    fn controls_are_escaped() {
+        // ESC (U+001B), BEL (U+0007), DEL (U+007F) and CSI (U+009B) are
+        // controls in ISO/IEC 6429; µ and Ω are not.
+        assert_eq!(
+            printable("a\u{1b}[2Jb\u{7}\u{7f}\u{9b}µΩ"),
+            "a\\u{1b}[2Jb\\u{7}\\u{7f}\\u{9b}µΩ"
+        );
+    }
+}

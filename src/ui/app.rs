@@ -146,7 +146,7 @@ impl Slot {
         self.path
             .as_ref()
             .and_then(|p| p.file_name())
-            .map(|n| n.to_string_lossy().into_owned())
+            .map(|n| values::printable(&n.to_string_lossy()))
             .unwrap_or_else(|| self.untitled.clone())
     }
 }
