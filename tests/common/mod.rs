@@ -1,6 +1,8 @@
 //! Shared helpers for the integration tests.
 #![allow(dead_code)]
 
+pub mod tmux;
+
 use loopwright::engine::scenario::{Amp, Load, Scenario, Source, Stage};
 use loopwright::engine::{Series, Topology};
 
