@@ -441,3 +441,22 @@ fn a_save_that_would_drop_comments_asks_first() {
     assert_eq!(Scenario::load(&p).unwrap(), a.slot().scenario);
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn opening_a_fifo_in_the_workbench_is_refused_without_blocking() {
+    let d = common::temp_dir("open-fifo");
+    let p = d.join("p.ron");
+    assert!(std::process::Command::new("mkfifo")
+        .arg(&p)
+        .status()
+        .unwrap()
+        .success());
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Char('o')));
+    type_text(&mut a, p.to_str().unwrap());
+    a.on_key(key(KeyCode::Enter));
+    assert!(a.status.contains("not a regular file"), "{}", a.status);
+    assert!(a.status.contains("p.ron"), "{}", a.status);
+    assert_eq!(a.slot().scenario, scenario::demo());
+    std::fs::remove_dir_all(&d).ok();
+}
