@@ -1,16 +1,31 @@
 //! Command-line arguments.
 
-use crate::engine::values::parse_value;
+use crate::engine::params::HERTZ;
+use crate::engine::values::{fmt_eng, parse_quantity};
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 
 /// A frequency from the command line: engineering notation (`1k`, `2.5MHz`).
+/// `0` is DC; a unit other than hertz, a negative value or one above the
+/// widest sweep is refused.
 pub fn parse_frequency(text: &str) -> Result<f64, String> {
-    let v = parse_value(text).map_err(|e| e.to_string())?;
-    if v < 0.0 {
+    let (v, unit) = parse_quantity(text).map_err(|e| e.to_string())?;
+    if !unit.is_empty() && unit != "Hz" {
+        return Err(format!(
+            "`{text}` is not a frequency: give hertz (1k, 2.5MHz), not {unit}"
+        ));
+    }
+    if v.is_sign_negative() && v != 0.0 {
         return Err(format!("`{text}`: a frequency must not be negative"));
     }
-    Ok(v)
+    if v > HERTZ.1 {
+        return Err(format!(
+            "`{text}` is above {}, the highest frequency loopwright solves",
+            fmt_eng(HERTZ.1, "Hz")
+        ));
+    }
+    // `-0` is DC too, written as 0.
+    Ok(v.abs())
 }
 
 #[derive(Debug, Parser)]
@@ -50,7 +65,7 @@ pub enum Command {
         #[arg(long)]
         json: bool,
         /// Also report the figures at this frequency (repeatable; `1k`, `2.5M`).
-        #[arg(long = "at", value_name = "HZ", value_parser = parse_frequency)]
+        #[arg(long = "at", value_name = "HZ", value_parser = parse_frequency, allow_hyphen_values = true)]
         at: Vec<f64>,
     },
     /// Compare two candidate stages side by side.

@@ -18,4 +18,5 @@
 pub mod cli;
 pub mod engine;
 pub mod report;
+pub mod storage;
 pub mod ui;

@@ -5,7 +5,7 @@ use crate::engine::analysis::{phase_deg, Analysis, Circuit};
 use crate::engine::figures::{delta, figure, key_figures, Section, FIGURES};
 use crate::engine::params::{Group, PARAMS};
 use crate::engine::scenario::Scenario;
-use crate::engine::values::fmt_eng;
+use crate::engine::values::{fmt_eng, printable};
 use crate::engine::{Evaluation, Warning};
 use serde::Serialize;
 use std::io::{self, Write};
@@ -238,7 +238,7 @@ fn write_warnings(warnings: &[Warning], w: &mut impl Write) -> io::Result<()> {
 
 /// The readable text report.
 pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
-    writeln!(w, "{}", r.title)?;
+    writeln!(w, "{}", printable(&r.title))?;
     write_parameters(s, w)?;
     for sec in Section::ALL {
         write_section(sec, e, w)?;
@@ -318,8 +318,8 @@ impl Comparison {
 
     /// The side-by-side table and the differing parameters, as text.
     pub fn write_text(&self, w: &mut impl Write) -> io::Result<()> {
-        writeln!(w, "A: {}", self.a.title)?;
-        writeln!(w, "B: {}", self.b.title)?;
+        writeln!(w, "A: {}", printable(&self.a.title))?;
+        writeln!(w, "B: {}", printable(&self.b.title))?;
         writeln!(w)?;
         writeln!(
             w,
@@ -347,7 +347,8 @@ impl Comparison {
         } else {
             writeln!(w, "Parameters that differ")?;
             for p in &self.differences.parameters {
-                writeln!(w, "  {:<20} A {:<16} B {}", p.field, p.a, p.b)?;
+                let (a, b) = (printable(&p.a), printable(&p.b));
+                writeln!(w, "  {:<20} A {a:<16} B {b}", p.field)?;
             }
         }
         Ok(())

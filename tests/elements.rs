@@ -79,14 +79,18 @@ fn input_capacitance_at_both_inputs_of_a_non_inverting_stage() {
 fn minus_input_capacitance_costs_phase_margin() {
     // cin at the − pin puts a pole in the feedback fraction (textbook):
     // β = Zg/(rf + Zg), Zg = rg ∥ 1/(jω·cin), a pole at 1/(2π·(rg∥rf)·cin);
-    // with the single-pole model T = A(jf)·β(jf). Margin from the closed
-    // form (crossover by bisection), against ≈ 90° without cin.
+    // with the single-pole model T = A(jf)·β(jf)·Zfb/(Zfb + ro), the last
+    // factor the divider of ro into the network Zfb = rf + Zg (voltage
+    // divider). Margin from the closed form (crossover by bisection),
+    // against ≈ 90° without cin.
     let mut s = plain(Topology::NonInverting, 100e3, 100e3);
     s.amp.cin = Some(10e-12);
     let a = evaluate(&s);
+    let ro = s.amp.ro;
     let beta = |f: f64| {
         let zg = 100e3 / (1.0 + J * 2.0 * PI * f * 100e3 * 10e-12);
-        zg / (100e3 + zg)
+        let zfb = 100e3 + zg;
+        zg / zfb * zfb / (zfb + ro)
     };
     let (fc, pm) = closed_form_margin(|f| open_loop(&s, f) * beta(f));
     // Measured errors 5e-12 and 6e-14°; tolerances 5e-11 and 1e-11°.

@@ -114,6 +114,9 @@ fn failed_saves_keep_the_edits_and_the_old_file() {
         inside.clone()
     };
     save_as(&mut a, &target);
+    if a.status.contains("overwrite it?") {
+        a.on_key(key(KeyCode::Char('y')));
+    }
     let read_only_ok = !writable(&ro);
     chattr("-i");
     std::fs::set_permissions(&ro, std::fs::Permissions::from_mode(0o755)).unwrap();
@@ -351,4 +354,113 @@ fn opening_two_files_and_compare_command() {
     // A bad second file fails cleanly.
     let out = bin().args(["compare", a, "Cargo.toml"]).output().unwrap();
     assert!(!out.status.success() && out.stdout.is_empty());
+}
+
+#[test]
+fn save_as_over_an_existing_file_asks_first() {
+    let d = common::temp_dir("ask-over");
+    let other = d.join("other.ron");
+    std::fs::write(&other, "// someone else's stage\n").unwrap();
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Right));
+    save_as(&mut a, &other);
+    assert!(a.status.contains("exists: overwrite it?"), "{}", a.status);
+    a.on_key(key(KeyCode::Char('n')));
+    assert_eq!(
+        std::fs::read_to_string(&other).unwrap(),
+        "// someone else's stage\n"
+    );
+    assert!(a.slot().dirty);
+    save_as(&mut a, &other);
+    a.on_key(key(KeyCode::Char('y')));
+    assert_eq!(Scenario::load(&other).unwrap(), a.slot().scenario);
+    assert!(!a.slot().dirty, "{}", a.status);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
+    let d = common::temp_dir("ask-changed");
+    let p = d.join("s.ron");
+    std::fs::write(&p, scenario::DEMO_RON).unwrap();
+    let mut a = App::new(
+        vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
+        Theme::new(false, false),
+    );
+    a.on_key(key(KeyCode::Right));
+    // Another program rewrites the file (a different length, so the
+    // change shows whatever the clock's resolution).
+    let theirs = scenario::DEMO_RON.replace("gain 11\"", "gain 11, edited elsewhere\"");
+    std::fs::write(&p, &theirs).unwrap();
+    a.on_key(key(KeyCode::Char('w')));
+    assert!(
+        a.status.contains("changed by another program"),
+        "{}",
+        a.status
+    );
+    a.on_key(key(KeyCode::Esc));
+    assert_eq!(std::fs::read_to_string(&p).unwrap(), theirs);
+    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('y')));
+    assert_eq!(Scenario::load(&p).unwrap(), a.slot().scenario);
+    // Saved: the next save does not ask.
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('w')));
+    assert!(a.status.starts_with("saved"), "{}", a.status);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn a_save_that_would_drop_comments_asks_first() {
+    let d = common::temp_dir("ask-comments");
+    let p = d.join("s.ron");
+    let text = scenario::DEMO_RON.replace("riso: 0.0,", "riso: 0.0, /* keep */");
+    std::fs::write(&p, &text).unwrap();
+    let mut a = App::new(
+        vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
+        Theme::new(false, false),
+    );
+    // A number only: saved without a question, comment kept.
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('w')));
+    assert!(a.status.starts_with("saved"), "{}", a.status);
+    assert!(std::fs::read_to_string(&p).unwrap().contains("/* keep */"));
+    // Typing `none` for cf removes a field: the save asks.
+    a.selected = loopwright::engine::params::param("stage.cf").unwrap();
+    a.on_key(key(KeyCode::Enter));
+    for _ in 0..20 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    type_text(&mut a, "none");
+    a.on_key(key(KeyCode::Enter));
+    assert!(a.slot().dirty, "{}", a.status);
+    a.on_key(key(KeyCode::Char('w')));
+    assert!(
+        a.status.contains("only its leading comments"),
+        "{}",
+        a.status
+    );
+    a.on_key(key(KeyCode::Char('y')));
+    assert!(a.status.starts_with("saved"), "{}", a.status);
+    assert_eq!(Scenario::load(&p).unwrap(), a.slot().scenario);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn opening_a_fifo_in_the_workbench_is_refused_without_blocking() {
+    let d = common::temp_dir("open-fifo");
+    let p = d.join("p.ron");
+    assert!(std::process::Command::new("mkfifo")
+        .arg(&p)
+        .status()
+        .unwrap()
+        .success());
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Char('o')));
+    type_text(&mut a, p.to_str().unwrap());
+    a.on_key(key(KeyCode::Enter));
+    assert!(a.status.contains("not a regular file"), "{}", a.status);
+    assert!(a.status.contains("p.ron"), "{}", a.status);
+    assert_eq!(a.slot().scenario, scenario::demo());
+    std::fs::remove_dir_all(&d).ok();
 }

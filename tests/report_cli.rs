@@ -290,3 +290,72 @@ fn text_report_has_units() {
     assert!(text.contains("mΩ"), "{text}");
     assert!(text.contains("V/√Hz"), "{text}");
 }
+
+#[test]
+fn at_refuses_what_is_not_a_frequency() {
+    let bin = env!("CARGO_BIN_EXE_loopwright");
+    // Not hertz, negative, beyond the widest sweep (1 THz, the accepted
+    // frequency range in the README): refused, nothing on stdout.
+    for (arg, says) in [
+        ("1Ω", "not a frequency"),
+        ("1F", "not a frequency"),
+        ("-5", "must not be negative"),
+        ("1e308", "above 1 THz"),
+    ] {
+        let out = std::process::Command::new(bin)
+            .args(["report", "--at", arg])
+            .output()
+            .unwrap();
+        assert!(!out.status.success(), "{arg}");
+        assert!(out.stdout.is_empty(), "{arg}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(says), "{arg}: {err}");
+    }
+    // 0 is DC and `-0` is DC too: written as 0, never as -0.0.
+    let v = json(&["report", "--json", "--at", "-0", "--at", "1kHz"]);
+    let f0 = v["points"][0]["f_hz"].as_f64().unwrap();
+    assert!(f0 == 0.0 && f0.is_sign_positive());
+    assert_eq!(v["points"][1]["f_hz"].as_f64(), Some(1e3));
+}
+
+#[test]
+fn unstable_stage_has_no_closed_loop_figures() {
+    // A follower (β = 1) with three poles in its loop: gbw/a0 = 1 Hz,
+    // fp2 = 10 kHz and ro·load c = 1/(2π·100 Ω·1 µF) ≈ 1.6 kHz. Each lags
+    // nearly 90° well above its corner, so near |T| = 1 (tens of kHz) the
+    // loop lags well past 180°: the phase margin is negative (textbook
+    // three-pole loop), the stage unstable.
+    let (dir, path) = scenario_file(
+        "unstable",
+        r#"(
+    title: "two poles under the crossover",
+    stage: (topology: Follower, series: E24, tolerance: 0.01),
+    amp: (a0: 1.0e6, gbw: 1.0e6, fp2: 1.0e4, ro: 100.0, vnoise: 1.0e-9, inoise: 0.0),
+    source: (r: 0.0),
+    load: (c: 1.0e-6),
+    temp_c: 25.0,
+    band: (10.0, 100000.0),
+)"#,
+    );
+    let p = path.to_str().unwrap();
+    let v = json(&["report", p, "--json"]);
+    assert!(v["phase_margin_deg"].as_f64().unwrap() <= 0.0, "{v}");
+    for key in [
+        "dc_gain",
+        "gain_error",
+        "f_3db_hz",
+        "peaking_db",
+        "zout_dc_ohm",
+        "zout_1khz_ohm",
+        "noise_rms",
+    ] {
+        assert!(v[key].is_null(), "{key} = {}", v[key]);
+    }
+    // Loop figures stay.
+    assert!(v["crossover_hz"].as_f64().is_some());
+    let out = bin().args(["report", p]).output().unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    let line = text.lines().find(|l| l.contains("peaking")).unwrap();
+    assert!(line.contains("unstable"), "{text}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -1,101 +1,9 @@
 //! End to end in a real terminal: the release-style binary in a tmux pane,
-//! keys sent, the screen read back. Where tmux is not installed (or cannot
-//! start a session) the tests fail under CI (the `CI` variable set) and are
-//! skipped with a printed reason elsewhere.
+//! keys sent, the screen read back. Skipped (with a printed reason) where
+//! tmux is not installed, except under CI, where that fails.
 
-use std::process::Command;
-use std::time::{Duration, Instant};
-
-fn tmux(args: &[&str]) -> String {
-    let out = Command::new("tmux").args(args).output().expect("tmux runs");
-    String::from_utf8_lossy(&out.stdout).into_owned()
-}
-
-fn wait_for(session: &str, needle: &str) -> Option<String> {
-    let deadline = Instant::now() + Duration::from_secs(15);
-    loop {
-        let screen = tmux(&["capture-pane", "-p", "-t", session]);
-        if screen.contains(needle) {
-            return Some(screen);
-        }
-        if Instant::now() > deadline {
-            eprintln!("timed out waiting for {needle:?}; screen:\n{screen}");
-            return None;
-        }
-        std::thread::sleep(Duration::from_millis(100));
-    }
-}
-
-/// After the process has ended: raw mode off (stty shows icanon), the cursor
-/// shown again and the alternate screen left.
-#[track_caller]
-fn assert_restored(session: &str, screen: &str) {
-    assert!(!screen.contains("-icanon"), "raw mode left on:\n{screen}");
-    let flags = tmux(&[
-        "display-message",
-        "-p",
-        "-t",
-        session,
-        "#{cursor_flag} #{alternate_on}",
-    ]);
-    assert_eq!(flags.trim(), "1 0", "cursor flag and alternate screen");
-}
-
-struct Session(String);
-impl Drop for Session {
-    fn drop(&mut self) {
-        let _ = Command::new("tmux")
-            .args(["kill-session", "-t", &self.0])
-            .output();
-    }
-}
-
-/// No terminal to test in: a failure under CI, a printed skip elsewhere.
-fn skip(why: &str) -> Option<Session> {
-    assert!(
-        std::env::var_os("CI").is_none(),
-        "{why}, and CI is set: the end-to-end tests must run there"
-    );
-    println!("skipped: {why}");
-    None
-}
-
-fn start(name: &str, args: &str) -> Option<Session> {
-    start_with(name, "", args)
-}
-
-fn start_with(name: &str, env: &str, args: &str) -> Option<Session> {
-    if Command::new("tmux").arg("-V").output().is_err() {
-        return skip("tmux is not installed");
-    }
-    let bin = env!("CARGO_BIN_EXE_loopwright");
-    let cmd = format!(
-        "cd {dir} && LANG=C.UTF-8 {env} {bin} {args}; echo EXIT=$?; stty -a | tr ' ' '\\n' | grep icanon; sleep 30",
-        dir = env!("CARGO_MANIFEST_DIR")
-    );
-    let _ = Command::new("tmux")
-        .args(["kill-session", "-t", name])
-        .output();
-    let ok = Command::new("tmux")
-        .args([
-            "new-session",
-            "-d",
-            "-s",
-            name,
-            "-x",
-            "100",
-            "-y",
-            "30",
-            &cmd,
-        ])
-        .status()
-        .map(|s| s.success())
-        .unwrap_or(false);
-    if !ok {
-        return skip("tmux could not start a session");
-    }
-    Some(Session(name.to_string()))
-}
+mod common;
+use common::tmux::{assert_restored, start, start_with, tmux, wait_for};
 
 #[test]
 fn step_a_resistor_and_quit_in_a_real_terminal() {
@@ -192,6 +100,136 @@ fn terminal_is_restored_after_a_panic() {
     assert_restored(&s.0, &done);
 }
 
+/// A scratch folder holding a copy of the demo as `s.ron`.
+fn folder_with_demo(name: &str) -> std::path::PathBuf {
+    let d = common::temp_dir(name);
+    std::fs::write(d.join("s.ron"), loopwright::engine::scenario::DEMO_RON).unwrap();
+    d
+}
+
+/// Step rf once (10k → 11k, unsaved), send the signal, check the terminal
+/// and the rescue file.
+fn signal_restores_and_rescues(name: &str, signal: &str, code: i32) {
+    let d = folder_with_demo(name);
+    let Some(s) = common::tmux::start_in(name, &d, "", "s.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "11kΩ").expect("rf stepped");
+    let pid = s.app_pid().expect("loopwright process");
+    let ok = std::process::Command::new("kill")
+        .args([&format!("-{signal}"), &pid.to_string()])
+        .status()
+        .unwrap()
+        .success();
+    assert!(ok, "kill -{signal}");
+    let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
+    // 128 + signal number: the shell convention (POSIX 2.8.2); SIGHUP is 1
+    // and SIGTERM 15 (signal(7)).
+    assert!(done.contains(&format!("EXIT={code}")), "{done}");
+    assert_restored(&s.0, &done);
+    let rescue = d.join("s.ron.rescue");
+    assert!(done.contains("s.ron.rescue"), "says where:\n{done}");
+    let back = loopwright::engine::Scenario::load(&rescue).expect("rescue file loads");
+    assert_eq!(back.stage.rf, Some(11_000.0));
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn sigterm_restores_the_terminal_and_rescues_edits() {
+    signal_restores_and_rescues("lw_e2e_term", "TERM", 143);
+}
+
+#[test]
+fn sighup_restores_the_terminal_and_rescues_edits() {
+    signal_restores_and_rescues("lw_e2e_hup", "HUP", 129);
+}
+
+#[test]
+fn a_panic_leaves_a_rescue_file() {
+    let d = folder_with_demo("lw_e2e_rescue");
+    let Some(s) = common::tmux::start_in("lw_e2e_rescue", &d, "LOOPWRIGHT_TEST_PANIC=1", "s.ron")
+    else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "11kΩ").expect("rf stepped");
+    tmux(&["send-keys", "-t", &s.0, "!"]);
+    let done = wait_for(&s.0, "icanon").expect("process exits and stty reports");
+    assert!(done.contains("deliberate test panic"), "{done}");
+    assert!(done.contains("EXIT=101"), "{done}");
+    assert!(done.contains("s.ron.rescue"), "says where:\n{done}");
+    assert_restored(&s.0, &done);
+    let back = loopwright::engine::Scenario::load(&d.join("s.ron.rescue")).unwrap();
+    assert_eq!(back.stage.rf, Some(11_000.0));
+    // The file itself is untouched.
+    assert_eq!(
+        std::fs::read_to_string(d.join("s.ron")).unwrap(),
+        loopwright::engine::scenario::DEMO_RON
+    );
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn save_as_over_an_existing_file_asks_in_a_real_terminal() {
+    let d = folder_with_demo("lw_e2e_saveas");
+    std::fs::write(d.join("b.ron"), "// keep me\n").unwrap();
+    let Some(s) = common::tmux::start_in("lw_e2e_saveas", &d, "", "s.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "11kΩ").expect("rf stepped");
+    tmux(&["send-keys", "-t", &s.0, "W"]);
+    wait_for(&s.0, "save as").expect("prompt");
+    for _ in 0..10 {
+        tmux(&["send-keys", "-t", &s.0, "BSpace"]);
+    }
+    tmux(&["send-keys", "-t", &s.0, "-l", "b.ron"]);
+    tmux(&["send-keys", "-t", &s.0, "Enter"]);
+    wait_for(&s.0, "exists: overwrite it?").expect("asks");
+    tmux(&["send-keys", "-t", &s.0, "n"]);
+    wait_for(&s.0, "not saved").expect("kept");
+    assert_eq!(
+        std::fs::read_to_string(d.join("b.ron")).unwrap(),
+        "// keep me\n"
+    );
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    wait_for(&s.0, "EXIT=").expect("exits");
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn external_change_before_save_asks_in_a_real_terminal() {
+    let d = folder_with_demo("lw_e2e_changed");
+    let Some(s) = common::tmux::start_in("lw_e2e_changed", &d, "", "s.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "11kΩ").expect("rf stepped");
+    let theirs = format!(
+        "// edited elsewhere\n{}",
+        loopwright::engine::scenario::DEMO_RON
+    );
+    std::fs::write(d.join("s.ron"), &theirs).unwrap();
+    tmux(&["send-keys", "-t", &s.0, "w"]);
+    wait_for(&s.0, "changed by another program").expect("asks");
+    tmux(&["send-keys", "-t", &s.0, "Escape"]);
+    wait_for(&s.0, "not saved").expect("kept");
+    assert_eq!(std::fs::read_to_string(d.join("s.ron")).unwrap(), theirs);
+    tmux(&["send-keys", "-t", &s.0, "w"]);
+    wait_for(&s.0, "changed by another program").expect("asks again");
+    tmux(&["send-keys", "-t", &s.0, "y"]);
+    wait_for(&s.0, "saved").expect("saved");
+    let back = loopwright::engine::Scenario::load(&d.join("s.ron")).unwrap();
+    assert_eq!(back.stage.rf, Some(11_000.0));
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    wait_for(&s.0, "EXIT=").expect("exits");
+    std::fs::remove_dir_all(&d).ok();
+}
 #[test]
 fn no_color_flag_and_a_plain_locale() {
     // --no-color alone (NO_COLOR unset) sends no colour codes.

@@ -8,6 +8,7 @@
 pub mod analysis;
 pub mod eseries;
 pub mod figures;
+pub mod filetext;
 pub mod netlist;
 pub mod params;
 pub mod scenario;

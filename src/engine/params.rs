@@ -143,6 +143,10 @@ pub const OHMS: (f64, f64) = (1.0e-3, 1.0e13);
 /// lose digits against milliohm feedback networks.
 pub const RO: (f64, f64) = (1.0e-3, 1.0e6);
 pub const FARADS: (f64, f64) = (1.0e-15, 1.0);
+/// Capacitors inside the stage (feedback, amplifier input): wider makes the
+/// solve lose digits against the amplifier's own impedances at high
+/// frequency.
+pub const STAGE_FARADS: (f64, f64) = (1.0e-15, 1.0e-6);
 pub const HERTZ: (f64, f64) = (1.0e-6, 1.0e12);
 pub const GBW: (f64, f64) = (1.0, 1.0e11);
 pub const A0: (f64, f64) = (1.0, 1.0e9);
@@ -264,7 +268,7 @@ pub static PARAMS: [Param; 23] = [
         Stage,
         Capacitor,
         ZeroIsAbsent,
-        FARADS,
+        STAGE_FARADS,
         number!(opt stage.cf),
     )
     .starting(|_| 1e-12),
@@ -359,7 +363,7 @@ pub static PARAMS: [Param; 23] = [
         Amplifier,
         Capacitor,
         ZeroIsAbsent,
-        FARADS,
+        STAGE_FARADS,
         number!(opt amp.cin),
     )
     .starting(|_| 1e-12),

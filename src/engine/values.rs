@@ -49,116 +49,173 @@ fn multiplier(c: char) -> Option<f64> {
 /// Unit words accepted after a value (`4.7kΩ`, `100nF`, `1 kHz`).
 const UNITS: &[&str] = &["Ω", "ohms", "ohm", "Ohm", "F", "Hz", "V", "A", "s"];
 
-/// Parse a number written with an optional SI prefix (f p n u/µ m k M G T:
-/// `4.7k`, `100n`,
-/// `2.2u`, `1e3`) or in the IEC 60062 RKM code (`4k7`, `2R2`, `1M0`, `470R`,
-/// `6n8`, `R47`). A trailing unit (`Ω`, `F`, `Hz`, ...) is allowed.
-pub fn parse_value(text: &str) -> Result<f64, ValueError> {
+/// The parts of a value's text, split before they are checked.
+#[derive(Default)]
+struct Pieces {
+    sign: f64,
+    mantissa: String,
+    point: bool,
+    exponent: String,
+    mult: Option<f64>,
+    fraction: String,
+    rest: String,
+}
+
+/// Digits with at most one decimal point, from `i`; returns the end.
+fn read_mantissa(
+    text: &str,
+    chars: &[char],
+    mut i: usize,
+    p: &mut Pieces,
+) -> Result<usize, ValueError> {
+    let start = i;
+    while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
+        if chars[i] == '.' {
+            if p.point {
+                return Err(err(text, "more than one decimal point"));
+            }
+            p.point = true;
+        }
+        i += 1;
+    }
+    p.mantissa = chars[start..i].iter().collect();
+    Ok(i)
+}
+
+/// An exponent (`1e3`, `2.5E-6`) at `i`, if there is one; returns the end.
+fn read_exponent(
+    text: &str,
+    chars: &[char],
+    i: usize,
+    p: &mut Pieces,
+) -> Result<usize, ValueError> {
+    if i >= chars.len() || !(chars[i] == 'e' || chars[i] == 'E') || p.mantissa.is_empty() {
+        return Ok(i);
+    }
+    let mut j = i + 1;
+    if j < chars.len() && (chars[j] == '-' || chars[j] == '+') {
+        j += 1;
+    }
+    let digits_start = j;
+    while j < chars.len() && chars[j].is_ascii_digit() {
+        j += 1;
+    }
+    if j == digits_start {
+        return Err(err(text, "exponent has no digits"));
+    }
+    p.exponent = chars[i + 1..j].iter().collect();
+    Ok(j)
+}
+
+/// A multiplier letter and its RKM fraction digits at `i` (not when the
+/// letter starts a whole unit word such as `s`); returns the end.
+fn read_multiplier(chars: &[char], mut i: usize, p: &mut Pieces) -> usize {
+    if i >= chars.len() {
+        return i;
+    }
+    let rest: String = chars[i..].iter().collect();
+    // `meg` is mega, as some tools write it where `M` and `m` might be confused.
+    let (m, len) = if rest.starts_with("meg") {
+        (Some(1e6), 3)
+    } else {
+        (multiplier(chars[i]), 1)
+    };
+    let Some(m) = m.filter(|_| !UNITS.contains(&rest.as_str())) else {
+        return i;
+    };
+    p.mult = Some(m);
+    i += len;
+    let fs = i;
+    while i < chars.len() && chars[i].is_ascii_digit() {
+        i += 1;
+    }
+    p.fraction = chars[fs..i].iter().collect();
+    i
+}
+
+/// Split text into its pieces, or say what is wrong with it.
+fn split_value(text: &str) -> Result<Pieces, ValueError> {
     let t = text.trim();
     if t.is_empty() {
         return Err(err(text, "expected a number such as 4.7k, 4k7 or 100n"));
     }
     let chars: Vec<char> = t.chars().collect();
+    let mut p = Pieces {
+        sign: 1.0,
+        ..Pieces::default()
+    };
     let mut i = 0;
-    let mut sign = 1.0;
     if chars[0] == '-' || chars[0] == '+' {
         if chars[0] == '-' {
-            sign = -1.0;
+            p.sign = -1.0;
         }
         i = 1;
     }
-    // Mantissa: digits with at most one decimal point.
-    let start = i;
-    let mut seen_point = false;
-    while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
-        if chars[i] == '.' {
-            if seen_point {
-                return Err(err(text, "more than one decimal point"));
-            }
-            seen_point = true;
-        }
-        i += 1;
-    }
-    let mantissa: String = chars[start..i].iter().collect();
-    // Exponent (`1e3`, `2.5E-6`).
-    let mut exponent = String::new();
-    if i < chars.len() && (chars[i] == 'e' || chars[i] == 'E') && !mantissa.is_empty() {
-        let mut j = i + 1;
-        if j < chars.len() && (chars[j] == '-' || chars[j] == '+') {
-            j += 1;
-        }
-        let digits_start = j;
-        while j < chars.len() && chars[j].is_ascii_digit() {
-            j += 1;
-        }
-        if j == digits_start {
-            return Err(err(text, "exponent has no digits"));
-        }
-        exponent = chars[i + 1..j].iter().collect();
-        i = j;
-    }
+    i = read_mantissa(text, &chars, i, &mut p)?;
+    i = read_exponent(text, &chars, i, &mut p)?;
     // Spaces may separate the number from its prefix or unit (`1 kHz`).
     while i < chars.len() && chars[i] == ' ' {
         i += 1;
     }
-    // Multiplier letter, then RKM fraction digits.
-    let mut mult = 1.0;
-    let mut fraction = String::new();
-    let mut has_mult = false;
-    if i < chars.len() {
-        if let Some(m) = multiplier(chars[i]) {
-            let rest: String = chars[i..].iter().collect();
-            // "mF"-less words like "ohm" start with 'o', so no clash; but a bare
-            // unit such as "s" must not be a multiplier. Only take the letter as
-            // a multiplier when it is not the start of a whole unit word.
-            if !UNITS.contains(&rest.as_str()) {
-                mult = m;
-                has_mult = true;
-                i += 1;
-                let fs = i;
-                while i < chars.len() && chars[i].is_ascii_digit() {
-                    i += 1;
-                }
-                fraction = chars[fs..i].iter().collect();
-            }
-        }
-    }
-    if !fraction.is_empty() && (seen_point || !exponent.is_empty()) {
+    i = read_multiplier(&chars, i, &mut p);
+    p.rest = chars[i..]
+        .iter()
+        .collect::<String>()
+        .trim_start()
+        .to_string();
+    Ok(p)
+}
+
+/// Parse a number written with an optional SI prefix (f p n u/µ m k M G T,
+/// `meg` for mega: `4.7k`, `100n`, `2.2u`, `1e3`) or in the IEC 60062 RKM
+/// code (`4k7`, `4K7`, `2R2`, `1M0`, `470R`, `6n8`, `R47`). A trailing unit
+/// (`Ω`, `F`, `Hz`, ...) is allowed.
+pub fn parse_value(text: &str) -> Result<f64, ValueError> {
+    parse_quantity(text).map(|(v, _)| v)
+}
+
+/// Like [`parse_value`], also returning the unit written after the number
+/// (empty when none).
+pub fn parse_quantity(text: &str) -> Result<(f64, String), ValueError> {
+    let p = split_value(text)?;
+    if !p.fraction.is_empty() && (p.point || !p.exponent.is_empty()) {
         return Err(err(
             text,
             "RKM code (like 4k7) cannot also have a decimal point or exponent",
         ));
     }
-    if mantissa.is_empty() && fraction.is_empty() {
+    if (p.mantissa.is_empty() && p.fraction.is_empty()) || p.mantissa == "." {
         return Err(err(text, "no digits"));
     }
-    if mantissa == "." {
-        return Err(err(text, "no digits"));
+    if !p.rest.is_empty() && !UNITS.contains(&p.rest.as_str()) {
+        return Err(err(
+            text,
+            format!("unexpected `{}` after the number", p.rest),
+        ));
     }
-    let rest: String = chars[i..].iter().collect();
-    let rest = rest.trim_start();
-    if !rest.is_empty() && !UNITS.contains(&rest) {
-        return Err(err(text, format!("unexpected `{rest}` after the number")));
-    }
-    if !has_mult && !fraction.is_empty() {
+    if p.mult.is_none() && !p.fraction.is_empty() {
         return Err(err(text, "misplaced digits"));
     }
     let mut number = String::new();
-    number.push_str(if mantissa.is_empty() { "0" } else { &mantissa });
-    if !fraction.is_empty() {
+    number.push_str(if p.mantissa.is_empty() {
+        "0"
+    } else {
+        &p.mantissa
+    });
+    if !p.fraction.is_empty() {
         number.push('.');
-        number.push_str(&fraction);
+        number.push_str(&p.fraction);
     }
-    if !exponent.is_empty() {
+    if !p.exponent.is_empty() {
         number.push('e');
-        number.push_str(&exponent);
+        number.push_str(&p.exponent);
     }
     let v: f64 = number.parse().map_err(|_| err(text, "not a number"))?;
-    let v = sign * v * mult;
+    let v = p.sign * v * p.mult.unwrap_or(1.0);
     if !v.is_finite() {
         return Err(err(text, "out of range"));
     }
-    Ok(v)
+    Ok((v, p.rest))
 }
 
 /// Parse a resistance, capacitance or other strictly positive quantity.
@@ -233,6 +290,24 @@ fn trim_number(m: f64, sig: usize) -> String {
     }
 }
 
+/// Whether a value lies outside what the prefixes f … T can write with a
+/// mantissa below 1000.
+fn beyond_prefixes(v: f64) -> bool {
+    v != 0.0 && v.is_finite() && (v.abs() >= 999.95e12 || v.abs() < 1e-15)
+}
+
+/// Exponent notation with `sig` significant digits, trailing zeros
+/// dropped: `1e99`, `2.5e-18` (reads back with [`parse_value`]).
+fn exponent_text(v: f64, sig: usize) -> String {
+    let s = format!("{v:.prec$e}", prec = sig.saturating_sub(1));
+    match s.split_once('e') {
+        Some((m, e)) if m.contains('.') => {
+            format!("{}e{e}", m.trim_end_matches('0').trim_end_matches('.'))
+        }
+        _ => s,
+    }
+}
+
 /// Engineering notation with a unit, e.g. `4.7 kΩ`, `100 nF`, `1.59 MHz`.
 /// Three significant digits, trailing zeros dropped.
 pub fn fmt_eng(v: f64, unit: &str) -> String {
@@ -251,6 +326,11 @@ pub fn fmt_eng_sig(v: f64, unit: &str, sig: usize) -> String {
             "-inf".into()
         };
     }
+    if beyond_prefixes(v) {
+        return format!("{} {unit}", exponent_text(v, sig))
+            .trim_end()
+            .to_string();
+    }
     let (m, p) = split_eng(v, sig);
     let num = trim_number(m, sig);
     if unit.is_empty() && p.is_empty() {
@@ -265,6 +345,9 @@ pub fn fmt_eng_sig(v: f64, unit: &str, sig: usize) -> String {
 pub fn fmt_compact(v: f64) -> String {
     if !v.is_finite() {
         return format!("{v}");
+    }
+    if beyond_prefixes(v) {
+        return exponent_text(v, 4);
     }
     let (m, p) = split_eng(v, 4);
     let p = if p == "µ" { "u" } else { p };
@@ -286,10 +369,50 @@ mod tests {
     }
 
     #[test]
+    fn beyond_the_prefixes_in_exponent_notation() {
+        assert_eq!(fmt_eng(1e99, "Ω"), "1e99 Ω");
+        assert_eq!(fmt_eng(2.5e-18, "F"), "2.5e-18 F");
+        assert_eq!(fmt_compact(1e300), "1e300");
+        assert_eq!(parse_value(&fmt_compact(1e300)).unwrap(), 1e300);
+        assert_eq!(fmt_eng(10e12, "Ω"), "10 TΩ");
+        assert_eq!(parse_value("1meg").unwrap(), 1e6);
+    }
+
+    #[test]
     fn compact_round_trips() {
         for v in [1.0, 4700.0, 1.0e-12, 3.3e-9, 0.047, 1.5e6, 12.34e3] {
             let back = parse_value(&fmt_compact(v)).unwrap();
             assert!((back - v).abs() <= 1e-9 * v, "{v} -> {}", fmt_compact(v));
         }
+    }
+}
+
+/// Text safe to print on a terminal: C0 and C1 control characters and DEL
+/// (ISO/IEC 6429) are shown as `\u{..}` escapes, so a title cannot move
+/// the cursor, clear the screen or ring the bell.
+pub fn printable(s: &str) -> String {
+    let mut out = String::with_capacity(s.len());
+    for c in s.chars() {
+        if c.is_control() {
+            out.push_str(&c.escape_unicode().to_string());
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod printable_tests {
+    use super::printable;
+
+    #[test]
+    fn controls_are_escaped() {
+        // ESC (U+001B), BEL (U+0007), DEL (U+007F) and CSI (U+009B) are
+        // controls in ISO/IEC 6429; µ and Ω are not.
+        assert_eq!(
+            printable("a\u{1b}[2Jb\u{7}\u{7f}\u{9b}µΩ"),
+            "a\\u{1b}[2Jb\\u{7}\\u{7f}\\u{9b}µΩ"
+        );
     }
 }

@@ -9,6 +9,8 @@ use crate::engine::analysis::{Analysis, Circuit, Point};
 use crate::engine::params::{self, param, Direction, ParamRef, PARAMS};
 use crate::engine::scenario::{Amp, Scenario};
 use crate::engine::{evaluate, evaluate_with, values, Evaluation};
+use crate::storage::{self, Original};
+pub use crate::storage::{leading_comments, write_atomic};
 use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyEventKind};
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
@@ -92,31 +94,21 @@ pub struct Slot {
     pub probe: Option<Point>,
     pub path: Option<PathBuf>,
     pub dirty: bool,
-    /// The comment lines at the top of the file it came from, written back
-    /// on save so a designer's notes are not lost.
-    pub header: String,
+    /// The file's text and stamp as loaded (or last saved): saving patches
+    /// the changed numbers into it and checks it was not changed meanwhile.
+    pub original: Option<Original>,
     /// What to call the stage while it has no file.
     pub untitled: String,
 }
 
-/// The leading `//` comment lines of a scenario file.
-pub fn leading_comments(text: &str) -> String {
-    let mut out = String::new();
-    for line in text.lines() {
-        let t = line.trim_start();
-        if t.starts_with("//") {
-            out.push_str(line);
-            out.push('\n');
-        } else if !t.is_empty() {
-            break;
-        }
-    }
-    out
-}
-
 impl Slot {
-    /// A stage, its file (if any) and that file's leading comments.
-    pub fn new(scenario: Scenario, path: Option<PathBuf>, header: String, probe_hz: f64) -> Slot {
+    /// A stage, its file (if any) and that file as loaded.
+    pub fn new(
+        scenario: Scenario,
+        path: Option<PathBuf>,
+        original: Option<Original>,
+        probe_hz: f64,
+    ) -> Slot {
         let analysis = evaluate(&scenario);
         let mut slot = Slot {
             traces: Traces::new(&analysis),
@@ -125,7 +117,7 @@ impl Slot {
             scenario,
             path,
             dirty: false,
-            header,
+            original,
             untitled: "(built-in demo)".into(),
         };
         slot.set_probe(probe_hz);
@@ -149,7 +141,7 @@ impl Slot {
         self.path
             .as_ref()
             .and_then(|p| p.file_name())
-            .map(|n| n.to_string_lossy().into_owned())
+            .map(|n| values::printable(&n.to_string_lossy()))
             .unwrap_or_else(|| self.untitled.clone())
     }
 }
@@ -202,6 +194,31 @@ pub enum Mode {
     ConfirmQuit,
     /// The edited stage has unsaved changes: open this file over it?
     ConfirmOpen(PathBuf),
+    /// Saving to this file needs a yes first (the question asked).
+    ConfirmSave(PathBuf, SaveAsk),
+}
+
+/// The questions a save may ask, in the order asked.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub enum SaveAsk {
+    /// Save-as onto a file that exists.
+    Overwrite,
+    /// The file changed on disk since it was loaded or saved.
+    Changed,
+    /// Comments other than the leading ones cannot be kept.
+    Comments,
+    /// Nothing left to ask.
+    Write,
+}
+
+impl SaveAsk {
+    fn next(self) -> SaveAsk {
+        match self {
+            SaveAsk::Overwrite => SaveAsk::Changed,
+            SaveAsk::Changed => SaveAsk::Comments,
+            SaveAsk::Comments | SaveAsk::Write => SaveAsk::Write,
+        }
+    }
 }
 
 /// A stage to open the workbench on: the scenario, its file and that
@@ -239,37 +256,6 @@ pub struct App {
     pub archetype: usize,
 }
 
-/// Write a file atomically: a temporary file in the same folder, flushed,
-/// then renamed over the target. The old file is never half-written.
-pub fn write_atomic(path: &Path, text: &str) -> std::io::Result<()> {
-    use std::io::Write;
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    if path.is_dir() {
-        return Err(std::io::Error::other(format!(
-            "{} is a folder",
-            path.display()
-        )));
-    }
-    let name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "scenario.ron".into());
-    let tmp = dir.join(format!(".{name}.tmp-{}", std::process::id()));
-    let result = (|| {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(text.as_bytes())?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
-    result
-}
-
 /// The `.ron` files in the current folder and in scenarios/.
 pub fn scenario_files() -> Vec<PathBuf> {
     let mut out = Vec::new();
@@ -293,8 +279,18 @@ impl App {
             .into_iter()
             .take(2)
             .map(|st| {
-                let st = st.into();
-                Slot::new(st.scenario, st.path, leading_comments(&st.text), probe_hz)
+                let st: Stage = st.into();
+                // Each file as loaded, for saving back into it: the text
+                // read at start-up, or (without it) the file itself.
+                let original = match (&st.path, st.text.is_empty()) {
+                    (Some(p), false) => Some(Original {
+                        stamp: storage::stamp(p),
+                        text: st.text,
+                    }),
+                    (Some(p), true) => Original::read(p),
+                    (None, _) => None,
+                };
+                Slot::new(st.scenario, st.path, original, probe_hz)
             })
             .collect();
         App {
@@ -407,6 +403,10 @@ impl App {
             Mode::ConfirmOpen(path) => match key.code {
                 KeyCode::Char('y') | KeyCode::Char('Y') => self.open_checked(&path, false),
                 _ => self.info("not opened: the edited stage is kept"),
+            },
+            Mode::ConfirmSave(path, ask) => match key.code {
+                KeyCode::Char('y') | KeyCode::Char('Y') => self.save_checked(&path, ask.next()),
+                _ => self.info("not saved: your changes are kept in memory"),
             },
             Mode::ConfirmQuit => match key.code {
                 KeyCode::Char('y') | KeyCode::Char('Y') => self.running = false,
@@ -720,17 +720,68 @@ impl App {
     }
 
     fn save_to(&mut self, p: &Path) {
-        let text = format!("{}{}", self.slot().header, self.slot().scenario.to_ron());
-        match write_atomic(p, &text) {
-            Ok(()) => {
+        self.save_checked(p, SaveAsk::Overwrite);
+    }
+
+    /// Save after asking, from `from` on, whatever needs a yes.
+    fn save_checked(&mut self, p: &Path, from: SaveAsk) {
+        let slot = self.slot();
+        let rendered = storage::render(
+            &slot.scenario,
+            slot.original.as_ref().map(|o| o.text.as_str()),
+        );
+        let same_file = slot.path.as_deref() == Some(p);
+        let shown = p.display();
+        let ask = if from <= SaveAsk::Overwrite && !same_file && p.is_file() {
+            Some((SaveAsk::Overwrite, format!("{shown} exists: overwrite it?")))
+        } else if from <= SaveAsk::Changed
+            && same_file
+            && slot.original.as_ref().is_some_and(|o| o.changed_on_disk(p))
+        {
+            Some((
+                SaveAsk::Changed,
+                format!(
+                    "{shown} was changed by another program since it was loaded: overwrite it?"
+                ),
+            ))
+        } else if from <= SaveAsk::Comments && rendered.drops_comments {
+            Some((
+                SaveAsk::Comments,
+                "the fields changed, so the file is rewritten and only its leading comments \
+                 are kept: save anyway?"
+                    .to_string(),
+            ))
+        } else {
+            None
+        };
+        if let Some((kind, question)) = ask {
+            self.mode = Mode::ConfirmSave(p.to_path_buf(), kind);
+            self.error(format!("{question} y = save, any other key = keep editing"));
+            return;
+        }
+        match storage::write_atomic(p, &rendered.text) {
+            Ok(w) => {
                 let slot = &mut self.slots[self.active];
                 slot.path = Some(p.to_path_buf());
                 slot.dirty = false;
-                self.info(format!("saved {}", p.display()));
+                slot.original = Some(Original {
+                    stamp: storage::stamp(p),
+                    text: rendered.text,
+                });
+                let mut msg = format!("saved {shown}");
+                if w.path != p {
+                    msg.push_str(&format!(" (the link's target {})", w.path.display()));
+                }
+                if let Some((n, backup)) = &w.hard_links {
+                    msg.push_str(&format!(
+                        "; it has {n} hard links, so it was written in place after a copy to {}",
+                        backup.display()
+                    ));
+                }
+                self.info(msg);
             }
             Err(e) => self.error(format!(
-                "could not save {}: {e}; your changes are kept in memory",
-                p.display()
+                "could not save {shown}: {e}; your changes are kept in memory"
             )),
         }
     }
@@ -759,8 +810,12 @@ impl App {
             ));
             return;
         }
-        let header = leading_comments(&text);
-        self.slots[self.active] = Slot::new(s, Some(p.to_path_buf()), header, self.probe_hz);
+        let original = Original {
+            stamp: storage::stamp(p),
+            text,
+        };
+        self.slots[self.active] =
+            Slot::new(s, Some(p.to_path_buf()), Some(original), self.probe_hz);
         self.ensure_visible_selection();
         self.info(format!(
             "opened {} into {}",

@@ -7,7 +7,7 @@ use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::style::Style;
 use ratatui::symbols::Marker;
-use ratatui::widgets::canvas::{Canvas, Line as CLine, Points};
+use ratatui::widgets::canvas::{Canvas, Context, Line as CLine, Points};
 use ratatui::widgets::Widget;
 
 /// One curve: (log10 f, y) points, already finite.
@@ -160,12 +160,7 @@ impl Widget for &LogPlot<'_> {
         if area.width < 12 || area.height < 2 + label_rows {
             return;
         }
-        let label_w = self
-            .y_ticks
-            .iter()
-            .map(|(_, l)| l.chars().count() as u16)
-            .max()
-            .unwrap_or(0);
+        let label_w = self.label_width();
         let plot = Rect {
             x: area.x + label_w + 1,
             y: area.y,
@@ -175,9 +170,26 @@ impl Widget for &LogPlot<'_> {
         if plot.width < 4 || plot.height < 2 {
             return;
         }
-        let (x0, x1) = self.x_range;
+        self.draw_y_ticks(area, label_w, plot, buf);
+        self.draw_x_labels(plot, buf);
+        self.draw_canvas(plot, buf);
+        self.draw_mark_labels(plot, buf);
+    }
+}
+
+impl LogPlot<'_> {
+    /// Width in columns of the widest y tick label.
+    fn label_width(&self) -> u16 {
+        self.y_ticks
+            .iter()
+            .map(|(_, l)| l.chars().count() as u16)
+            .max()
+            .unwrap_or(0)
+    }
+
+    /// Y labels and tick marks left of the plot (one per row).
+    fn draw_y_ticks(&self, area: Rect, label_w: u16, plot: Rect, buf: &mut Buffer) {
         let (y0, y1) = self.y_range;
-        // Y labels and tick marks (one per row).
         let mut used_rows = Vec::new();
         for (v, label) in &self.y_ticks {
             if *v < y0 - 1e-9 || *v > y1 + 1e-9 {
@@ -193,14 +205,16 @@ impl Widget for &LogPlot<'_> {
             buf.set_string(area.x + label_w - w, row, label, self.label_style);
             buf.set_string(plot.x - 1, row, self.tick, self.label_style);
         }
-        // X labels at decades.
-        let ticks = if self.x_labels {
-            decade_ticks(x0, x1, plot.width, 4)
-        } else {
-            Vec::new()
-        };
+    }
+
+    /// X labels at decades on the row below the plot, when enabled.
+    fn draw_x_labels(&self, plot: Rect, buf: &mut Buffer) {
+        if !self.x_labels {
+            return;
+        }
+        let (x0, x1) = self.x_range;
         let mut next_free = plot.x;
-        for d in ticks {
+        for d in decade_ticks(x0, x1, plot.width, 4) {
             let label = decade_label(d, "");
             let frac = (d as f64 - x0) / (x1 - x0);
             let col = plot.x + (frac * (plot.width - 1) as f64).round() as u16;
@@ -213,67 +227,96 @@ impl Widget for &LogPlot<'_> {
             buf.set_string(start, plot.y + plot.height, &label, self.label_style);
             next_free = start + w + 1;
         }
-        let (solid, dotted) = self.markers;
+    }
+
+    /// The canvas with the vertical marks, the traces and their names.
+    fn draw_canvas(&self, plot: Rect, buf: &mut Buffer) {
+        let (x0, x1) = self.x_range;
+        let (y0, y1) = self.y_range;
         let canvas = Canvas::default()
             .x_bounds([x0, x1])
             .y_bounds([y0, y1])
-            .marker(solid)
+            .marker(self.markers.0)
             .paint(|ctx| {
                 // Vertical marks first, under the traces.
-                for m in &self.marks {
-                    let n = 24;
-                    let pts: Vec<(f64, f64)> = (0..=n)
-                        .filter(|i| i % 2 == 0)
-                        .map(|i| (m.x, y0 + (y1 - y0) * i as f64 / n as f64))
-                        .collect();
-                    ctx.draw(&Points {
-                        coords: &pts,
-                        color: self.mark_style.fg.unwrap_or_default(),
-                    });
-                }
+                self.paint_marks(ctx);
                 ctx.layer();
                 for t in &self.traces {
-                    let color = t.style.fg.unwrap_or_default();
-                    if t.dotted {
-                        ctx.marker(dotted);
-                        let every: Vec<(f64, f64)> = t.points.iter().step_by(2).copied().collect();
-                        ctx.draw(&Points {
-                            coords: &every,
-                            color,
-                        });
-                    } else {
-                        ctx.marker(solid);
-                        for w in t.points.windows(2) {
-                            if t.wraps && (w[1].1 - w[0].1).abs() > 180.0 {
-                                continue;
-                            }
-                            ctx.draw(&CLine {
-                                x1: w[0].0,
-                                y1: w[0].1,
-                                x2: w[1].0,
-                                y2: w[1].1,
-                                color,
-                            });
-                        }
-                    }
+                    self.paint_trace(ctx, t);
                     ctx.layer();
                 }
-                let cell = (x1 - x0) / plot.width.max(1) as f64;
-                for t in &self.traces {
-                    if let Some(label) = &t.label {
-                        let len = label.chars().count() as f64 + 1.0;
-                        let x = (x0 + (x1 - x0) * t.label_at).min(x1 - cell * len);
-                        if let Some(y) = value_at(t.points, x) {
-                            if y >= y0 && y <= y1 {
-                                let line = ratatui::text::Line::styled(label.clone(), t.style);
-                                ctx.print(x, y, line);
-                            }
-                        }
-                    }
-                }
+                self.paint_trace_labels(ctx, plot.width);
             });
         canvas.render(plot, buf);
-        // Mark labels, one row apart so they never overprint.
+    }
+
+    /// Vertical marks as dotted columns of points.
+    fn paint_marks(&self, ctx: &mut Context<'_>) {
+        let (y0, y1) = self.y_range;
+        for m in &self.marks {
+            let n = 24;
+            let pts: Vec<(f64, f64)> = (0..=n)
+                .filter(|i| i % 2 == 0)
+                .map(|i| (m.x, y0 + (y1 - y0) * i as f64 / n as f64))
+                .collect();
+            ctx.draw(&Points {
+                coords: &pts,
+                color: self.mark_style.fg.unwrap_or_default(),
+            });
+        }
+    }
+
+    /// One trace: every other point when dotted, else line segments that
+    /// skip phase wraps.
+    fn paint_trace(&self, ctx: &mut Context<'_>, t: &Trace<'_>) {
+        let (solid, dotted) = self.markers;
+        let color = t.style.fg.unwrap_or_default();
+        if t.dotted {
+            ctx.marker(dotted);
+            let every: Vec<(f64, f64)> = t.points.iter().step_by(2).copied().collect();
+            ctx.draw(&Points {
+                coords: &every,
+                color,
+            });
+        } else {
+            ctx.marker(solid);
+            for w in t.points.windows(2) {
+                if t.wraps && (w[1].1 - w[0].1).abs() > 180.0 {
+                    continue;
+                }
+                ctx.draw(&CLine {
+                    x1: w[0].0,
+                    y1: w[0].1,
+                    x2: w[1].0,
+                    y2: w[1].1,
+                    color,
+                });
+            }
+        }
+    }
+
+    /// Trace names printed on their traces, kept inside the plot.
+    fn paint_trace_labels(&self, ctx: &mut Context<'_>, width: u16) {
+        let (x0, x1) = self.x_range;
+        let (y0, y1) = self.y_range;
+        let cell = (x1 - x0) / width.max(1) as f64;
+        for t in &self.traces {
+            if let Some(label) = &t.label {
+                let len = label.chars().count() as f64 + 1.0;
+                let x = (x0 + (x1 - x0) * t.label_at).min(x1 - cell * len);
+                if let Some(y) = value_at(t.points, x) {
+                    if y >= y0 && y <= y1 {
+                        let line = ratatui::text::Line::styled(label.clone(), t.style);
+                        ctx.print(x, y, line);
+                    }
+                }
+            }
+        }
+    }
+
+    /// Mark labels, one row apart so they never overprint.
+    fn draw_mark_labels(&self, plot: Rect, buf: &mut Buffer) {
+        let (x0, x1) = self.x_range;
         for (i, m) in self.marks.iter().enumerate() {
             if m.x < x0 || m.x > x1 || i as u16 >= plot.height {
                 continue;

@@ -165,7 +165,10 @@ fn title_bar(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         ));
     }
     spans.push(Span::styled(
-        format!("  — {}", app.slot().scenario.title),
+        format!(
+            "  — {}",
+            crate::engine::values::printable(&app.slot().scenario.title)
+        ),
         t.dim,
     ));
     Paragraph::new(Line::from(spans)).render(area, buf);

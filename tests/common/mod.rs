@@ -1,6 +1,8 @@
 //! Shared helpers for the integration tests.
 #![allow(dead_code)]
 
+pub mod tmux;
+
 use loopwright::engine::scenario::{Amp, Load, Scenario, Source, Stage};
 use loopwright::engine::{Series, Topology};
 
@@ -26,7 +28,7 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             fp2: None,
             rin: None,
             cin: None,
-            ro: 1e-6,
+            ro: 0.01,
             vnoise: 0.0,
             vnoise_corner: None,
             inoise: 0.0,

@@ -1,0 +1,49 @@
+//! The README's tables list what the program's own tables hold: every key
+//! of the key table and every warning code of the rules, no more, no less.
+
+use loopwright::engine::Code;
+use loopwright::ui::keys;
+use std::collections::BTreeSet;
+
+const README: &str = include_str!("../README.md");
+
+/// The first cells of the markdown table whose header row is `header`.
+fn first_column(header: &str) -> BTreeSet<String> {
+    let mut lines = README.lines().skip_while(|l| l.trim() != header).skip(2);
+    let mut out = BTreeSet::new();
+    for l in lines.by_ref() {
+        let Some(row) = l.trim().strip_prefix('|') else {
+            break;
+        };
+        let cell = row.split('|').next().unwrap_or("").trim();
+        out.insert(cell.trim_matches('`').to_string());
+    }
+    out
+}
+
+#[test]
+fn readme_key_table_lists_the_key_table() {
+    let readme = first_column("| key | action |");
+    let table: BTreeSet<String> = keys::help_rows().map(|b| b.shown.to_string()).collect();
+    assert!(!table.is_empty());
+    assert_eq!(readme, table, "README keys vs the key table");
+}
+
+#[test]
+fn readme_warning_table_lists_every_code() {
+    let readme = first_column("| code | when |");
+    let codes: BTreeSet<String> = Code::ALL.iter().map(|c| c.as_str().to_string()).collect();
+    assert_eq!(codes.len(), Code::ALL.len(), "codes are distinct");
+    assert_eq!(readme, codes, "README warnings vs the rules' codes");
+}
+
+#[test]
+fn every_binding_has_help_and_a_distinct_action() {
+    for (i, b) in keys::KEYS.iter().enumerate() {
+        assert!(!b.keys.is_empty(), "{b:?}");
+        assert!(
+            keys::KEYS[..i].iter().all(|c| c.action != b.action),
+            "action bound twice: {b:?}"
+        );
+    }
+}

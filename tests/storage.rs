@@ -1,0 +1,142 @@
+//! Saving: links, permissions, line endings, comments and stale temporary
+//! files (src/storage.rs).
+
+mod common;
+use loopwright::engine::scenario::{self, Scenario};
+use loopwright::storage::{render, write_atomic, Original};
+use std::os::unix::fs::{MetadataExt, PermissionsExt};
+
+fn demo_text() -> String {
+    scenario::DEMO_RON.to_string()
+}
+
+#[test]
+fn saving_through_a_symlink_writes_its_target() {
+    let d = common::temp_dir("st-symlink");
+    let real = d.join("real.ron");
+    let link = d.join("link.ron");
+    std::fs::write(&real, demo_text()).unwrap();
+    std::os::unix::fs::symlink("real.ron", &link).unwrap();
+    let w = write_atomic(&link, "new\n").unwrap();
+    assert_eq!(w.path, d.join("real.ron"));
+    assert!(
+        std::fs::symlink_metadata(&link)
+            .unwrap()
+            .file_type()
+            .is_symlink(),
+        "link kept"
+    );
+    assert_eq!(std::fs::read_to_string(&real).unwrap(), "new\n");
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn a_hard_linked_file_is_written_in_place_after_a_backup() {
+    let d = common::temp_dir("st-hard");
+    let a = d.join("a.ron");
+    let b = d.join("b.ron");
+    std::fs::write(&a, "old\n").unwrap();
+    std::fs::hard_link(&a, &b).unwrap();
+    let w = write_atomic(&a, "new\n").unwrap();
+    let (links, backup) = w.hard_links.expect("reported");
+    assert_eq!(links, 2);
+    assert_eq!(
+        std::fs::read_to_string(&b).unwrap(),
+        "new\n",
+        "both names see it"
+    );
+    assert_eq!(
+        std::fs::metadata(&a).unwrap().ino(),
+        std::fs::metadata(&b).unwrap().ino()
+    );
+    assert_eq!(std::fs::read_to_string(backup).unwrap(), "old\n");
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn the_file_mode_is_kept() {
+    let d = common::temp_dir("st-mode");
+    let p = d.join("s.ron");
+    std::fs::write(&p, "old\n").unwrap();
+    std::fs::set_permissions(&p, std::fs::Permissions::from_mode(0o600)).unwrap();
+    write_atomic(&p, "new\n").unwrap();
+    // 0o600: owner read and write only (POSIX permission bits).
+    assert_eq!(std::fs::metadata(&p).unwrap().mode() & 0o777, 0o600);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn stale_temporary_files_are_removed_on_the_next_save() {
+    let d = common::temp_dir("st-stale");
+    let p = d.join("s.ron");
+    std::fs::write(&p, "old\n").unwrap();
+    // PIDs above the Linux maximum (2^22, proc(5) pid_max) are never alive.
+    let stale = d.join(".s.ron.tmp-99999999");
+    std::fs::write(&stale, "").unwrap();
+    let live = d.join(format!(".s.ron.tmp-{}", std::process::id()));
+    std::fs::write(&live, "").unwrap();
+    let other = d.join(".notes.txt.tmp-99999999");
+    std::fs::write(&other, "").unwrap();
+    let w = write_atomic(&p, "new\n").unwrap();
+    assert_eq!(w.cleaned, 1);
+    assert!(!stale.exists());
+    assert!(live.exists(), "a running process's file stays");
+    assert!(other.exists(), "not ours");
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn crlf_files_stay_crlf_and_end_with_a_newline() {
+    let orig = demo_text().trim_end().replace('\n', "\r\n");
+    assert!(!orig.ends_with('\n'));
+    let mut s = Scenario::from_ron(&orig, None).unwrap();
+    // Only a number changes: patched in place.
+    s.stage.rf = Some(12_000.0);
+    let r = render(&s, Some(&orig));
+    assert!(r.text.ends_with("\r\n"));
+    assert!(!r.text.replace("\r\n", "").contains('\n'), "no bare LF");
+    assert_eq!(Scenario::from_ron(&r.text, None).unwrap(), s);
+    // A field removed: rewritten whole, still CRLF.
+    s.stage.cf = None;
+    let r = render(&s, Some(&orig));
+    assert!(r.text.ends_with("\r\n"));
+    assert!(!r.text.replace("\r\n", "").contains('\n'), "no bare LF");
+    assert_eq!(Scenario::from_ron(&r.text, None).unwrap(), s);
+    // Round trip through a file.
+    let d = common::temp_dir("st-crlf");
+    let p = d.join("s.ron");
+    write_atomic(&p, &r.text).unwrap();
+    assert_eq!(Scenario::load(&p).unwrap(), s);
+    assert_eq!(Original::read(&p).unwrap().text, r.text);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn comments_are_kept_when_only_numbers_change() {
+    let orig = demo_text()
+        .replace("rf: 10000.0,", "rf: 10e3, /* was 9k1 */")
+        .replace("    temp_c:", "    // lab bench\n    temp_c:")
+        + "// end\n";
+    let mut s = Scenario::from_ron(&orig, None).unwrap();
+    s.stage.rf = Some(11_000.0);
+    s.band.1 = 20_000.0;
+    s.title = "new title".into();
+    let r = render(&s, Some(&orig));
+    assert!(!r.drops_comments);
+    for kept in ["/* was 9k1 */", "// lab bench", "// end", "rg: 1000.0,"] {
+        assert!(r.text.contains(kept), "{kept}:\n{}", r.text);
+    }
+    assert!(r.text.contains("rf: 11000.0, /* was 9k1 */"), "{}", r.text);
+    assert_eq!(Scenario::from_ron(&r.text, None).unwrap(), s);
+    // Unchanged numbers keep their spelling.
+    let same = Scenario::from_ron(&orig, None).unwrap();
+    assert_eq!(render(&same, Some(&orig)).text, orig);
+    // When a field goes away the file is rewritten and says it loses them.
+    s.stage.cf = None;
+    let r = render(&s, Some(&orig));
+    assert!(r.drops_comments);
+    assert!(
+        r.text.starts_with("// Built-in demo"),
+        "leading comments kept"
+    );
+}
