@@ -507,3 +507,18 @@ fn blackman_formula_for_the_input_impedance() {
         }
     }
 }
+
+#[test]
+fn follower_loop_gain_is_exact_at_the_top_of_the_a0_range() {
+    // A follower with no load and no rin feeds all of its output back
+    // (β = 1), so its DC loop gain is a0 itself (textbook T = A·β) and its
+    // gain a0/(1 + a0). At a0 = 1e9, the top of the accepted range, the
+    // return-ratio solve loses about 1e-16·a0 relative (DESIGN notes):
+    // 1e-7; tolerance 1e-6.
+    let mut s = follower();
+    s.amp.a0 = 1e9;
+    s.amp.gbw = 1e6;
+    let a = evaluate(&s);
+    assert_rel("loop gain at DC", a.loop_gain_dc, 1e9, 1e-6);
+    assert_rel("DC gain", a.dc_gain, 1e9 / (1.0 + 1e9), 1e-12);
+}

@@ -235,3 +235,30 @@ fn zero_output_resistance_is_rejected() {
     assert_eq!(e.field.as_deref(), Some("amp.ro"), "{e}");
     assert_eq!(e.line, Some(4));
 }
+
+#[test]
+fn values_outside_the_accepted_ranges_are_refused_with_position() {
+    // The README's accepted ranges: each case one past an end.
+    for (from, to, field) in [
+        ("band: (10.0, 100000.0)", "band: (10.0, 1e307)", "band"),
+        ("band: (10.0, 100000.0)", "band: (1e-300, 1e5)", "band"),
+        // 1 mHz to 1 THz is 15 decades: allowed; 16 are not.
+        ("band: (10.0, 100000.0)", "band: (1e-4, 1e12)", "band"),
+        ("rg: 1000.0", "rg: 1e-320", "stage.rg"),
+        ("a0: 100000.0", "a0: 1e15", "amp.a0"),
+        ("cin: 3.0e-12", "cin: 8e32", "amp.cin"),
+        ("temp_c: 25.0", "temp_c: 501.0", "temp_c"),
+        ("gbw: 1.0e6", "gbw: 2e11", "amp.gbw"),
+    ] {
+        let text = DOC_EXAMPLE.replace(from, to);
+        assert_ne!(text, DOC_EXAMPLE, "{to}: the example changed");
+        let e = err(&text);
+        assert_eq!(e.field.as_deref(), Some(field), "{to}: {e}");
+        assert!(e.line.is_some() && e.col.is_some(), "{to}: {e}");
+    }
+    // The ends themselves are accepted (15 decades of band, a0 = 1e9).
+    let ok = DOC_EXAMPLE
+        .replace("band: (10.0, 100000.0)", "band: (1e-3, 1e12)")
+        .replace("a0: 100000.0", "a0: 1e9");
+    assert!(Scenario::from_ron(&ok, None).is_ok());
+}

@@ -264,3 +264,69 @@ fn two_files_on_the_command_line() {
     let done = wait_for(&s.0, "EXIT=").expect("process exits");
     assert!(done.contains("EXIT=0"), "{done}");
 }
+
+#[test]
+fn stepping_band_from_to_its_end_cannot_crash() {
+    let d = folder_with_demo("lw_e2e_band");
+    let Some(s) = common::tmux::start_in("lw_e2e_band", &d, "", "s.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    // "band from" is the row above the last one; End-of-list by many downs.
+    for _ in 0..30 {
+        tmux(&["send-keys", "-t", &s.0, "Down"]);
+    }
+    tmux(&["send-keys", "-t", &s.0, "Up"]);
+    // 10 Hz down to 1 µHz (README accepted range) is 22 steps of 1-2-5.
+    for _ in 0..80 {
+        tmux(&["send-keys", "-t", &s.0, "Left"]);
+    }
+    let screen = wait_for(&s.0, "stays at 1µHz").expect("stops at the end");
+    assert!(screen.contains("band from 1µHz"), "{screen}");
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    let done = wait_for(&s.0, "EXIT=").expect("exits");
+    assert!(done.contains("EXIT=0"), "{done}");
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn saving_through_links_keeps_them_and_the_mode() {
+    use std::os::unix::fs::{MetadataExt, PermissionsExt};
+    let d = folder_with_demo("lw_e2e_links");
+    let (real, link, hard) = (d.join("s.ron"), d.join("via.ron"), d.join("other.ron"));
+    std::os::unix::fs::symlink(&real, &link).unwrap();
+    std::fs::set_permissions(&real, std::fs::Permissions::from_mode(0o600)).unwrap();
+    let Some(s) = common::tmux::start_in("lw_e2e_links", &d, "", "via.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    // 1. Through the symbolic link: the link stays a link, the file it
+    // names holds the new value (rf 10 k → 11 k) and keeps mode 600.
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "11kΩ").expect("rf stepped");
+    tmux(&["send-keys", "-t", &s.0, "w"]);
+    wait_for(&s.0, "saved").expect("saved");
+    assert!(std::fs::symlink_metadata(&link)
+        .unwrap()
+        .file_type()
+        .is_symlink());
+    let text = std::fs::read_to_string(&real).unwrap();
+    assert!(text.contains("11000"), "{text}");
+    assert_eq!(std::fs::metadata(&real).unwrap().mode() & 0o777, 0o600);
+    // 2. With a second hard link to the file: both names see the next
+    // value (11 k → 12 k), the link count stays 2.
+    std::fs::hard_link(&real, &hard).unwrap();
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "12kΩ").expect("rf stepped");
+    tmux(&["send-keys", "-t", &s.0, "w"]);
+    wait_for(&s.0, "saved").expect("saved");
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    wait_for(&s.0, "EXIT=").expect("exits");
+    let text = std::fs::read_to_string(&real).unwrap();
+    assert!(text.contains("12000"), "{text}");
+    assert_eq!(std::fs::read_to_string(&hard).unwrap(), text);
+    let meta = std::fs::metadata(&real).unwrap();
+    assert_eq!(meta.mode() & 0o777, 0o600);
+    assert_eq!(meta.nlink(), 2);
+    std::fs::remove_dir_all(&d).ok();
+}

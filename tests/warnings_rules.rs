@@ -4,7 +4,17 @@
 //! the figures they act on come from closed forms computed here.
 
 mod common;
-use common::{closed_form_margin, fast, follower, open_loop, plain, warning, warnings_of};
+use common::{closed_form_margin, fast, in_range, open_loop, warning, warnings_of};
+use loopwright::engine::Scenario;
+
+/// The shared test stages, with ro inside its accepted range.
+fn plain(t: Topology, rg: f64, rf: f64) -> Scenario {
+    in_range(common::plain(t, rg, rf))
+}
+
+fn follower() -> Scenario {
+    in_range(common::follower())
+}
 use loopwright::engine::{evaluate, Severity, Topology};
 
 #[test]
@@ -307,7 +317,13 @@ fn value_range_each_trigger() {
     s.amp.a0 = 1.0;
     s.amp.gbw = 2e9;
     let t = texts(&s);
-    assert!(t.len() == 1 && t[0].contains("2 GHz"), "{t:?}");
+    // The pole note, and a0 = 1 sits at the end of its accepted range
+    // (README): a second note.
+    assert!(t.len() == 2 && t[0].contains("2 GHz"), "{t:?}");
+    assert!(
+        t[1].starts_with("a0 = 1 ") && t[1].contains("near the end"),
+        "{t:?}"
+    );
 }
 
 #[test]
@@ -319,4 +335,22 @@ fn invalid_input_is_a_severe_warning() {
     assert_eq!(w.severity, Severity::Severe);
     assert!(w.text.starts_with("stage.rg"), "{}", w.text);
     assert!(warning(&plain(Topology::NonInverting, 1e3, 10e3), "input-invalid").is_none());
+}
+
+#[test]
+fn values_near_the_ends_of_their_range_get_a_note() {
+    // README: a value within a decade of an end of its accepted range.
+    let mut s = plain(Topology::NonInverting, 1e3, 10e3);
+    s.amp.gbw = 5.0; // range from 1 Hz: within a decade
+    let w = warnings_of(&s);
+    let near: Vec<_> = w
+        .iter()
+        .filter(|w| w.code == "value-range" && w.text.contains("near the end"))
+        .collect();
+    assert_eq!(near.len(), 1, "{w:?}");
+    assert!(near[0].text.contains("gbw"), "{}", near[0].text);
+    s.amp.gbw = 10.0; // exactly a decade in: no note
+    assert!(!warnings_of(&s)
+        .iter()
+        .any(|w| w.text.contains("near the end")));
 }

@@ -7,8 +7,11 @@ use loopwright::engine::scenario::{Amp, Load, Scenario, Source, Stage};
 use loopwright::engine::{Series, Topology};
 
 /// A plain non-inverting stage around a single-pole op-amp with no input
-/// capacitance, no rin, a near-zero ro (1 µΩ), no load and an ideal source. Tests change
-/// the fields they need. (Values chosen for the checks; not from a part.)
+/// capacitance, no rin, a near-zero ro (1 µΩ, below the accepted range on
+/// purpose: a near-ideal output for the closed-form checks, which ignore
+/// ro; `evaluate` still solves it and adds an input-invalid warning — use
+/// [`in_range`] where warnings matter), no load and an ideal source. Tests
+/// change the fields they need. (Values chosen for the checks; not from a part.)
 pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
     Scenario {
         version: 1,
@@ -28,7 +31,7 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             fp2: None,
             rin: None,
             cin: None,
-            ro: 0.01,
+            ro: 1e-6,
             vnoise: 0.0,
             vnoise_corner: None,
             inoise: 0.0,
@@ -43,6 +46,13 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
 }
 
 /// A follower with a wire from output to inverting input.
+/// The same stage with ro raised to 10 mΩ, inside the accepted range and a
+/// decade above its end, so the rules see a valid, unremarkable stage.
+pub fn in_range(mut s: Scenario) -> Scenario {
+    s.amp.ro = 0.01;
+    s
+}
+
 pub fn follower() -> Scenario {
     let mut s = plain(Topology::Follower, 1.0, 0.0);
     s.stage.rg = None;
