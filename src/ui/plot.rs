@@ -10,17 +10,33 @@ use ratatui::symbols::Marker;
 use ratatui::widgets::canvas::{Canvas, Context, Line as CLine, Points};
 use ratatui::widgets::Widget;
 
+/// How a trace is drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stroke {
+    /// Line segments between the points.
+    Solid,
+    /// Every other point, unjoined.
+    Dotted,
+}
+
+/// How neighbouring points are joined.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Joining {
+    /// Always.
+    Continuous,
+    /// Not across a jump of more than 180° (principal-value phase).
+    BreakAtWrap,
+}
+
 /// One curve: (log10 f, y) points, already finite.
 pub struct Trace<'a> {
     pub points: &'a [(f64, f64)],
     pub style: Style,
-    /// Dotted traces are drawn as points, solid ones as lines.
-    pub dotted: bool,
+    pub stroke: Stroke,
     /// A name printed on the trace, at `label_at` (0 = left, 1 = right).
     pub label: Option<String>,
     pub label_at: f64,
-    /// Phase traces: do not join points across a ±180° wrap.
-    pub wraps: bool,
+    pub joining: Joining,
 }
 
 /// A vertical marker with a short label.
@@ -271,7 +287,7 @@ impl LogPlot<'_> {
     fn paint_trace(&self, ctx: &mut Context<'_>, t: &Trace<'_>) {
         let (solid, dotted) = self.markers;
         let color = t.style.fg.unwrap_or_default();
-        if t.dotted {
+        if t.stroke == Stroke::Dotted {
             ctx.marker(dotted);
             let every: Vec<(f64, f64)> = t.points.iter().step_by(2).copied().collect();
             ctx.draw(&Points {
@@ -281,7 +297,7 @@ impl LogPlot<'_> {
         } else {
             ctx.marker(solid);
             for w in t.points.windows(2) {
-                if t.wraps && (w[1].1 - w[0].1).abs() > 180.0 {
+                if t.joining == Joining::BreakAtWrap && (w[1].1 - w[0].1).abs() > 180.0 {
                     continue;
                 }
                 ctx.draw(&CLine {

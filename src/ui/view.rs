@@ -2,7 +2,7 @@
 
 use super::app::{App, Mode, Prompt, Slot, View};
 use super::keys;
-use super::plot::{decade_label, nice_linear, nice_log, LogPlot, Trace, VMark};
+use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
 use crate::engine::figures::{key_figures, Figure, Reading};
 use crate::engine::params::Group;
 use crate::engine::values::fmt_eng;
@@ -251,7 +251,7 @@ fn traces<'a>(
     app: &'a App,
     pick: impl Fn(&'a Slot) -> &'a [(f64, f64)],
     label: Option<&str>,
-    wraps: bool,
+    joining: Joining,
 ) -> Vec<Trace<'a>> {
     app.slots
         .iter()
@@ -263,14 +263,18 @@ fn traces<'a>(
             } else {
                 app.theme.trace_b
             },
-            dotted: i == 1,
+            stroke: if i == 1 {
+                Stroke::Dotted
+            } else {
+                Stroke::Solid
+            },
             label: if i == app.active {
                 label.map(str::to_string)
             } else {
                 None
             },
             label_at: 0.85,
-            wraps,
+            joining,
         })
         .collect()
 }
@@ -349,13 +353,13 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let x = X_WINDOW;
     let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
         (
-            traces(app, |s| &s.traces.loop_db, None, false),
-            traces(app, |s| &s.traces.loop_phase, None, false),
+            traces(app, |s| &s.traces.loop_db, None, Joining::Continuous),
+            traces(app, |s| &s.traces.loop_phase, None, Joining::Continuous),
         )
     } else {
         (
-            traces(app, |s| &s.traces.gain_db, None, false),
-            traces(app, |s| &s.traces.gain_phase, None, true),
+            traces(app, |s| &s.traces.gain_db, None, Joining::Continuous),
+            traces(app, |s| &s.traces.gain_phase, None, Joining::BreakAtWrap),
         )
     };
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
@@ -423,7 +427,7 @@ fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         (s.band.0.log10() - 1.0).max(-2.0),
         (s.band.1.log10() + 1.0).min(9.0),
     );
-    let tr = traces(app, |s| &s.traces.noise, None, false);
+    let tr = traces(app, |s| &s.traces.noise, None, Joining::Continuous);
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
     let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
     let marks = vec![
@@ -450,15 +454,19 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let inner = b.inner(area);
     b.render(area, buf);
     let x = X_WINDOW;
-    let mut tr = traces(app, |s| &s.traces.zout, Some("Zout"), false);
+    let mut tr = traces(app, |s| &s.traces.zout, Some("Zout"), Joining::Continuous);
     for (i, s) in app.slots.iter().enumerate() {
         tr.push(Trace {
             points: &s.traces.zin,
             style: app.theme.trace_2,
-            dotted: i == 1,
+            stroke: if i == 1 {
+                Stroke::Dotted
+            } else {
+                Stroke::Solid
+            },
             label: (i == app.active).then(|| "Zin".to_string()),
             label_at: 0.02,
-            wraps: false,
+            joining: Joining::Continuous,
         });
     }
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
