@@ -15,6 +15,8 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     assert!(first.contains("Closed-loop response"));
     tmux(&["send-keys", "-t", &s.0, "l"]);
     let after = wait_for(&s.0, "11kΩ").expect("rf steps to 11k");
+    // 12/(1 + 1/(a0·β·k)) = 11.9985, the finite-gain loop (derived in
+    // files_and_ab::two_candidates_side_by_side).
     assert!(after.contains("11.99"), "gain figure redrawn:\n{after}");
     // The plot is redrawn too: its view switches on v.
     tmux(&["send-keys", "-t", &s.0, "v"]);
@@ -46,6 +48,8 @@ fn compare_two_stages_in_a_real_terminal() {
         screen.contains("≠"),
         "differing parameter marked:\n{screen}"
     );
+    // B − A = 11.9985 − 10.9988 (finite-gain loop, derived in
+    // files_and_ab::two_candidates_side_by_side).
     assert!(screen.contains("+0.99"), "gain difference shown:\n{screen}");
     tmux(&["send-keys", "-t", &s.0, "C-c"]);
     let done = wait_for(&s.0, "EXIT=").expect("process exits");

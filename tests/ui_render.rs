@@ -56,6 +56,9 @@ fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
     assert!(line_with(&after, " rf ").contains("11kΩ"), "{after}");
     let gain_after = line_with(&after, "A ").to_string();
     assert_ne!(gain_before, gain_after);
+    // Finite-gain loop, textbook: 12/(1 + 1/(a0·β·k)) with a0 = 1e5,
+    // β = 1/12, k = Z/(Z + ro) for ro = 75 Ω into 10 k ∥ 12 k: 11.9985
+    // (the derivation is in files_and_ab::two_candidates_side_by_side).
     assert!(gain_after.contains("11.99"), "{gain_after}");
     assert!(after.contains("[modified]"));
 }
@@ -186,6 +189,12 @@ fn view_toggle_and_select_with_vi_keys() {
     let text = screen(&a, 100, 30);
     assert!(text.contains("Output noise density"));
     // The biggest contributors are named with their share of the band power.
+    // Demo, white densities at the output (Johnson √(4kTR) at 25 °C, noise
+    // gain 11, textbook): en 10 nV·11 = 110 nV; rg 1 k: 4.07 nV·10 = 40.7 nV;
+    // rf 10 k: 12.9 nV; source 50 Ω: 0.91 nV·11 = 10 nV; in− 1 pA·10 k =
+    // 10 nV; in+ 1 pA·50 Ω·11 = 0.55 nV. Powers 12100 : 1656 : 166 : 100 :
+    // 100 : 0.3 nV², so en carries 12100/14123 = 85.7 % (all share the same
+    // closed-loop roll-off, so the band does not change the ratio).
     assert!(text.contains("amp voltage noise 86%"), "{text}");
     a.on_key(key(KeyCode::Char('k')));
     assert_eq!(a.selected.path, "stage.rg");
