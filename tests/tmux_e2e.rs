@@ -334,3 +334,32 @@ fn saving_through_links_keeps_them_and_the_mode() {
     assert_eq!(meta.nlink(), 2);
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn closing_the_terminal_ends_the_program_and_rescues_edits() {
+    // A vanished terminal (the pane killed, as when a remote session
+    // drops) sends SIGHUP and leaves end-of-file on the input: the program
+    // must not outlive it, and the unsaved edit is rescued.
+    let d = folder_with_demo("lw_e2e_gone");
+    let Some(s) = common::tmux::start_in("lw_e2e_gone", &d, "", "s.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "l"]);
+    wait_for(&s.0, "11kΩ").expect("rf stepped");
+    let pid = s.app_pid().expect("the program's pid");
+    drop(s); // kills the session and its pane
+    let gone = (0..100).any(|_| {
+        std::thread::sleep(std::time::Duration::from_millis(100));
+        !std::path::Path::new(&format!("/proc/{pid}")).exists()
+    });
+    if !gone {
+        let _ = std::process::Command::new("kill")
+            .args(["-9", &pid.to_string()])
+            .status();
+    }
+    assert!(gone, "the program outlived its terminal by 10 s");
+    let rescued = std::fs::read_to_string(d.join("s.ron.rescue")).expect("rescue file");
+    assert!(rescued.contains("11000"), "{rescued}");
+    std::fs::remove_dir_all(&d).ok();
+}

@@ -18,7 +18,7 @@ use ratatui::Terminal;
 use signal_hook::consts::{SIGHUP, SIGTERM};
 use std::io::{IsTerminal, Write};
 use std::panic::AssertUnwindSafe;
-use std::sync::atomic::{AtomicUsize, Ordering};
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
 use theme::Theme;
@@ -79,10 +79,18 @@ fn handle(app: &mut App, ev: Event) -> bool {
 /// rescue files are written and the terminal is restored.
 static PANIC_MESSAGE: Mutex<Option<String>> = Mutex::new(None);
 
-/// Write every unsaved stage to its rescue file; one line per stage saying
-/// where (or why not).
-fn write_rescues(app: &App) -> Vec<String> {
-    let mut lines = Vec::new();
+/// One unsaved stage ready to be rescued: its label, where to write it (in
+/// order of preference) and the text.
+#[derive(Debug, Clone)]
+struct Rescue {
+    label: &'static str,
+    paths: Vec<std::path::PathBuf>,
+    text: String,
+}
+
+/// The rescue files the unsaved stages would need now.
+fn rescues(app: &App) -> Vec<Rescue> {
+    let mut out = Vec::new();
     for (i, slot) in app.slots.iter().enumerate().filter(|(_, s)| s.dirty) {
         let label = App::slot_label(i);
         let text = storage::render(
@@ -91,14 +99,24 @@ fn write_rescues(app: &App) -> Vec<String> {
         )
         .text;
         // Next to its file; where that fails, in the current folder.
-        let mut tries = vec![storage::rescue_path(slot.path.as_deref(), label)];
+        let mut paths = vec![storage::rescue_path(slot.path.as_deref(), label)];
         if slot.path.is_some() {
-            tries.push(storage::rescue_path(None, label));
+            paths.push(storage::rescue_path(None, label));
         }
+        out.push(Rescue { label, paths, text });
+    }
+    out
+}
+
+/// Write the rescue files; one line per stage saying where (or why not).
+fn write_rescue_files(items: &[Rescue]) -> Vec<String> {
+    let mut lines = Vec::new();
+    for r in items {
         let mut last_err = None;
-        let written = tries
-            .into_iter()
-            .find(|p| match storage::write_atomic(p, &text) {
+        let written = r
+            .paths
+            .iter()
+            .find(|p| match storage::write_atomic(p, &r.text) {
                 Ok(_) => true,
                 Err(e) => {
                     last_err = Some(e);
@@ -106,14 +124,74 @@ fn write_rescues(app: &App) -> Vec<String> {
                 }
             });
         lines.push(match (written, last_err) {
-            (Some(p), _) => format!("unsaved stage {label} written to {}", p.display()),
+            (Some(p), _) => format!("unsaved stage {} written to {}", r.label, p.display()),
             (None, e) => format!(
-                "unsaved stage {label} could not be written: {}",
+                "unsaved stage {} could not be written: {}",
+                r.label,
                 e.map(|e| e.to_string()).unwrap_or_default()
             ),
         });
     }
     lines
+}
+
+/// Write every unsaved stage to its rescue file; one line per stage saying
+/// where (or why not).
+fn write_rescues(app: &App) -> Vec<String> {
+    write_rescue_files(&rescues(app))
+}
+
+/// What the signal watchdog needs: the signal flag, the rescue files as of
+/// the last handled key, and who has claimed the shutdown.
+struct Shared {
+    signal: Arc<AtomicUsize>,
+    pending: Mutex<Vec<Rescue>>,
+    claimed: AtomicBool,
+}
+
+impl Shared {
+    /// True for the first caller only: that one writes the rescue files,
+    /// restores the terminal and exits.
+    fn claim(&self) -> bool {
+        !self.claimed.swap(true, Ordering::SeqCst)
+    }
+}
+
+/// After a SIGTERM or SIGHUP the event loop normally ends within 200 ms.
+/// When it cannot (a vanished terminal can keep the terminal library
+/// reading end-of-file for ever), this thread does the shutdown itself
+/// after a second: the rescue files as of the last key, restore, exit.
+fn spawn_watchdog(shared: Arc<Shared>) {
+    std::thread::spawn(move || loop {
+        std::thread::sleep(Duration::from_millis(100));
+        let sig = shared.signal.load(Ordering::SeqCst);
+        if sig == 0 {
+            continue;
+        }
+        std::thread::sleep(Duration::from_secs(1));
+        if !shared.claim() {
+            return;
+        }
+        let items = shared.pending.lock().map(|p| p.clone()).unwrap_or_default();
+        let lines = write_rescue_files(&items);
+        restore();
+        let name = if sig as i32 == SIGHUP {
+            "SIGHUP"
+        } else {
+            "SIGTERM"
+        };
+        say(&format!("stopped by {name}"));
+        for line in lines {
+            say(&line);
+        }
+        std::process::exit(128 + sig as i32);
+    });
+}
+
+/// One line on stderr; after a hang-up there may be no terminal to write
+/// to, and that must not stop the shutdown (`eprintln!` would panic).
+fn say(line: &str) {
+    let _ = writeln!(std::io::stderr(), "loopwright: {line}");
 }
 
 /// Leave raw mode and the alternate screen, show the cursor. Errors are
@@ -128,9 +206,9 @@ fn restore() {
 fn event_loop(
     terminal: &mut ratatui::DefaultTerminal,
     app: &mut App,
-    signal: &AtomicUsize,
+    shared: &Shared,
 ) -> Result<Option<i32>> {
-    let caught = || match signal.load(Ordering::SeqCst) {
+    let caught = || match shared.signal.load(Ordering::SeqCst) {
         0 => None,
         s => Some(s as i32),
     };
@@ -151,6 +229,10 @@ fn event_loop(
                 redraw = handle(app, event::read()?);
                 while app.running && event::poll(Duration::ZERO)? {
                     redraw |= handle(app, event::read()?);
+                }
+                // What the watchdog would rescue, as of this key.
+                if let Ok(mut p) = shared.pending.lock() {
+                    *p = rescues(app);
                 }
             }
             Ok(())
@@ -178,6 +260,12 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
     for sig in [SIGTERM, SIGHUP] {
         signal_hook::flag::register_usize(sig, Arc::clone(&signal), sig as usize)?;
     }
+    let shared = Arc::new(Shared {
+        signal,
+        pending: Mutex::new(rescues(&app)),
+        claimed: AtomicBool::new(false),
+    });
+    spawn_watchdog(Arc::clone(&shared));
     let mut terminal = ratatui::try_init()?;
     // Instead of ratatui's hook (which restores at once), keep the message:
     // the rescue files are written first, then the terminal is restored.
@@ -188,8 +276,14 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
         }
     }));
     let result = std::panic::catch_unwind(AssertUnwindSafe(|| {
-        event_loop(&mut terminal, &mut app, &signal)
+        event_loop(&mut terminal, &mut app, &shared)
     }));
+    if !shared.claim() {
+        // The watchdog is already writing the rescue files and exits.
+        loop {
+            std::thread::park();
+        }
+    }
     // Back to the default hook.
     let _ = std::panic::take_hook();
     let (code, what) = match result {
@@ -205,7 +299,7 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
             let rescued = write_rescues(&app);
             restore();
             for line in rescued {
-                eprintln!("loopwright: {line}");
+                say(&line);
             }
             return Err(e);
         }
@@ -216,9 +310,9 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
     };
     let rescued = write_rescues(&app);
     restore();
-    eprintln!("loopwright: {what}");
+    say(&what);
     for line in rescued {
-        eprintln!("loopwright: {line}");
+        say(&line);
     }
     std::process::exit(code);
 }
