@@ -28,6 +28,11 @@ pub fn parse_frequency(text: &str) -> Result<f64, String> {
     Ok(v.abs())
 }
 
+const SWEEP_HELP: &str = "Columns: f_hz,gain_mag,gain_db,gain_phase_deg,loop_mag,loop_db,\
+loop_phase_deg,zout_mag,zout_phase_deg,zin_mag,zin_phase_deg,noise_density (SI units; an \
+empty cell where undefined). Without --from, --to or --ppd the rows are the analysis \
+sweep's points; the values equal `report --at` at the same frequency.";
+
 #[derive(Debug, Parser)]
 #[command(
     name = "loopwright",
@@ -73,6 +78,27 @@ pub enum Command {
         a: PathBuf,
         b: PathBuf,
         /// Both full reports and their differences as one JSON object.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print the frequency sweep as CSV (a header row, then one row per
+    /// frequency) or as one JSON object of column arrays.
+    #[command(after_help = SWEEP_HELP)]
+    Sweep {
+        file: PathBuf,
+        /// Lowest frequency (with --to/--ppd: a log grid instead of the analysis sweep).
+        #[arg(long, value_name = "HZ", value_parser = parse_frequency)]
+        from: Option<f64>,
+        /// Highest frequency.
+        #[arg(long, value_name = "HZ", value_parser = parse_frequency)]
+        to: Option<f64>,
+        /// Points per decade of the log grid (30 without it).
+        #[arg(long, value_name = "N")]
+        ppd: Option<u32>,
+        /// CSV (the default).
+        #[arg(long, conflicts_with = "json")]
+        csv: bool,
+        /// One JSON object: each column name holds an array, null where undefined.
         #[arg(long)]
         json: bool,
     },

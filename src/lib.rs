@@ -19,4 +19,5 @@ pub mod cli;
 pub mod engine;
 pub mod report;
 pub mod storage;
+pub mod sweep;
 pub mod ui;

@@ -3,6 +3,7 @@ use clap::Parser;
 use loopwright::cli::{Cli, Command};
 use loopwright::engine::{evaluate, scenario, Scenario, Series};
 use loopwright::report::{write_text, Comparison, Report};
+use loopwright::sweep;
 use loopwright::ui::app::Stage;
 use std::io::{self, Write};
 use std::path::Path;
@@ -39,6 +40,31 @@ fn run(cli: Cli) -> Result<()> {
                 c.write_json(&mut buf)?;
             } else {
                 c.write_text(&mut buf)?;
+            }
+            out.write_all(&buf)?;
+        }
+        Some(Command::Sweep {
+            file,
+            from,
+            to,
+            ppd,
+            csv: _,
+            json,
+        }) => {
+            let s = Scenario::load(&file)?;
+            let a = evaluate(&s);
+            let range = sweep::Range {
+                from,
+                to,
+                per_decade: ppd,
+            };
+            let freqs = range.frequencies(&a).map_err(anyhow::Error::msg)?;
+            let rows = sweep::rows(&s, &a, &freqs);
+            let mut buf = Vec::new();
+            if json {
+                sweep::write_json(&rows, &mut buf)?;
+            } else {
+                sweep::write_csv(&rows, &mut buf)?;
             }
             out.write_all(&buf)?;
         }
