@@ -3,11 +3,11 @@
 //! `on_key` is the only way state changes; the view only reads.
 
 use super::keys::{self, Action};
-use super::plot::finite;
 use super::theme::Theme;
-use crate::engine::analysis::{Analysis, Circuit, Point};
+use crate::engine::analysis::{Circuit, Point};
 use crate::engine::params::{self, param, Direction, ParamRef, PARAMS};
 use crate::engine::scenario::{Amp, Scenario};
+pub use crate::engine::traces::Traces;
 use crate::engine::{evaluate, evaluate_with, values, Evaluation};
 use crate::storage::{self, Original};
 pub use crate::storage::{leading_comments, write_atomic};
@@ -36,49 +36,6 @@ impl View {
             View::Response => "Closed-loop response",
             View::Loop => "Loop gain",
             View::Noise => "Output noise density",
-        }
-    }
-}
-
-/// Plot-ready traces (x = log10 f), built once per analysis.
-#[derive(Debug, Clone, Default)]
-pub struct Traces {
-    pub gain_db: Vec<(f64, f64)>,
-    pub gain_phase: Vec<(f64, f64)>,
-    pub loop_db: Vec<(f64, f64)>,
-    pub loop_phase: Vec<(f64, f64)>,
-    /// log10 |Z| in ohms.
-    pub zout: Vec<(f64, f64)>,
-    pub zin: Vec<(f64, f64)>,
-    /// log10 of the density in V/√Hz.
-    pub noise: Vec<(f64, f64)>,
-}
-
-impl Traces {
-    fn new(a: &Analysis) -> Traces {
-        let pts = &a.sweep.points;
-        let lf = |p: &Point| p.f_hz.log10();
-        Traces {
-            gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
-            gain_phase: finite(
-                pts.iter()
-                    .map(|p| (lf(p), crate::engine::analysis::phase_deg(p.gain))),
-            ),
-            loop_db: finite(
-                pts.iter()
-                    .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),
-            ),
-            loop_phase: finite(
-                pts.iter()
-                    .zip(&a.sweep.loop_phase_deg)
-                    .map(|(p, ph)| (lf(p), *ph)),
-            ),
-            zout: finite(pts.iter().map(|p| (lf(p), p.zout.norm().log10()))),
-            zin: finite(
-                pts.iter()
-                    .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
-            ),
-            noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
         }
     }
 }
