@@ -80,11 +80,20 @@ fn rows_equal_report_at_the_same_frequency() {
     // Several rows across the sweep, the CSV text of f_hz passed back.
     for i in [0, 7, rows.len() / 3, rows.len() / 2, rows.len() - 1] {
         let f = rows[i][0].unwrap();
-        let v: Value =
-            serde_json::from_str(&ok_stdout(&["report", &file, "--json", "--at", &format!("{f}")]))
-                .unwrap();
+        let v: Value = serde_json::from_str(&ok_stdout(&[
+            "report",
+            &file,
+            "--json",
+            "--at",
+            &format!("{f}"),
+        ]))
+        .unwrap();
         let p = &v["points"][0];
-        assert_eq!(p["f_hz"].as_f64(), Some(f), "the frequency reads back exactly");
+        assert_eq!(
+            p["f_hz"].as_f64(),
+            Some(f),
+            "the frequency reads back exactly"
+        );
         let pairs = [
             (1, "gain_mag"),
             (2, "gain_db"),
@@ -140,7 +149,10 @@ fn a_grid_against_closed_forms_and_json_columns() {
         let a = 1e8 / num_complex::Complex64::new(1.0, f / 1e3);
         let gain = 10.0 / (one + 1.0 / (a * 0.1));
         assert!(rel(r[1].unwrap(), gain.norm()) < 1e-9, "gain at {f}");
-        assert!(rel(r[4].unwrap(), (a * 0.1 * 10e3 / 10010.0).norm()) < 1e-9, "loop at {f}");
+        assert!(
+            rel(r[4].unwrap(), (a * 0.1 * 10e3 / 10010.0).norm()) < 1e-9,
+            "loop at {f}"
+        );
         assert_eq!((r[9], r[10]), (None, None), "Zin open: empty cells");
     }
     assert!(text.lines().nth(1).unwrap().contains(",,"), "empty cells");
@@ -176,10 +188,19 @@ fn bad_input_is_refused_with_a_message() {
     for (args, says) in [
         (vec!["sweep", "/nonexistent/stage.ron"], "stage.ron"),
         (vec!["sweep", &file, "--from", "0"], "above 0 Hz"),
-        (vec!["sweep", &file, "--from", "1M", "--to", "1k"], "must be above"),
+        (
+            vec!["sweep", &file, "--from", "1M", "--to", "1k"],
+            "must be above",
+        ),
         (vec!["sweep", &file, "--ppd", "0"], "at least 1"),
-        (vec!["sweep", &file, "--ppd", "1000", "--from", "1m"], "at most 2000"),
-        (vec!["sweep", &file, "--csv", "--json"], "cannot be used with"),
+        (
+            vec!["sweep", &file, "--ppd", "1000", "--from", "1m"],
+            "at most 2000",
+        ),
+        (
+            vec!["sweep", &file, "--csv", "--json"],
+            "cannot be used with",
+        ),
     ] {
         let out = run(&args);
         assert!(!out.status.success(), "{args:?}");
