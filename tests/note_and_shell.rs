@@ -3,22 +3,12 @@
 
 mod common;
 use clap::CommandFactory;
-use common::{bin, temp_dir};
+use common::{bin, stdout_of, temp_dir};
 use loopwright::cli::Cli;
 use loopwright::engine::figures::FIGURES;
 
 fn run(args: &[&str]) -> std::process::Output {
     bin().args(args).output().unwrap()
-}
-
-fn ok(args: &[&str]) -> String {
-    let o = run(args);
-    assert!(
-        o.status.success(),
-        "{args:?}: {}",
-        String::from_utf8_lossy(&o.stderr)
-    );
-    String::from_utf8(o.stdout).unwrap()
 }
 
 fn scenario(name: &str) -> String {
@@ -46,8 +36,8 @@ fn note_holds_every_figure_and_warning_of_the_report() {
     for entry in std::fs::read_dir(scenario("")).unwrap() {
         let path = entry.unwrap().path();
         let p = path.to_str().unwrap();
-        let text = ok(&["report", p]);
-        let md = unescaped(&ok(&["report", p, "--md"]));
+        let text = stdout_of(&["report", p]);
+        let md = unescaped(&stdout_of(&["report", p, "--md"]));
         let title = text.lines().next().unwrap();
         assert!(md.starts_with(&format!("# {title}\n")), "{p}: title");
         let mut checked = 0;
@@ -78,7 +68,7 @@ fn note_holds_every_figure_and_warning_of_the_report() {
 #[test]
 fn resistors_show_series_and_tolerance() {
     // assets/demo.ron: rg 1 kΩ and rf 10 kΩ on E24 at 1 % (README example).
-    let md = unescaped(&ok(&["report", "--md"]));
+    let md = unescaped(&stdout_of(&["report", "--md"]));
     assert!(md.contains("| rg (`stage.rg`) | 1kΩ | E24 | ±1% |"), "{md}");
     assert!(
         md.contains("| rf (`stage.rf`) | 10kΩ | E24 | ±1% |"),
@@ -92,7 +82,7 @@ fn figures_are_written_linked_and_not_overwritten() {
     let figs = dir.join("figs");
     let f = figs.to_str().unwrap();
     let a = scenario("mic_preamp.ron");
-    let md = ok(&["report", &a, "--md", "--figures", f]);
+    let md = stdout_of(&["report", &a, "--md", "--figures", f]);
     for view in ["response", "loop", "noise", "impedance"] {
         let file = figs.join(format!("mic_preamp-{view}.svg"));
         let svg = std::fs::read_to_string(&file).unwrap();
@@ -113,7 +103,7 @@ fn figures_are_written_linked_and_not_overwritten() {
         std::fs::read(figs.join("mic_preamp-loop.svg")).unwrap(),
         before
     );
-    ok(&["report", &a, "--md", "--figures", f, "--force"]);
+    stdout_of(&["report", &a, "--md", "--figures", f, "--force"]);
     let noise = std::fs::read_to_string(figs.join("mic_preamp-noise.svg")).unwrap();
     assert!(noise.starts_with("<svg"));
     // --figures only with --md.
@@ -128,15 +118,15 @@ fn completions_and_manual_come_from_the_same_definitions() {
         .map(|c| c.get_name().to_string())
         .collect();
     assert!(names.len() >= 7);
-    let bash = ok(&["completions", "bash"]);
-    let zsh = ok(&["completions", "zsh"]);
-    let fish = ok(&["completions", "fish"]);
+    let bash = stdout_of(&["completions", "bash"]);
+    let zsh = stdout_of(&["completions", "zsh"]);
+    let fish = stdout_of(&["completions", "fish"]);
     // Each shell's own form: bash `complete -F`, zsh `#compdef`, fish `complete -c`
     // (the shells' manuals).
     assert!(bash.contains("complete -F"), "bash");
     assert!(zsh.starts_with("#compdef loopwright"), "zsh");
     assert!(fish.contains("complete -c loopwright"), "fish");
-    let man = ok(&["manual"]);
+    let man = stdout_of(&["manual"]);
     // man(7): a page has a .TH title line naming it.
     assert!(
         man.lines().any(|l| l.starts_with(".TH loopwright")),
@@ -162,13 +152,16 @@ fn manual_to_a_file_refuses_to_overwrite() {
     let dir = temp_dir("manual");
     let out = dir.join("loopwright.1");
     let o = out.to_str().unwrap();
-    assert!(ok(&["manual", "-o", o]).is_empty(), "nothing on stdout");
+    assert!(
+        stdout_of(&["manual", "-o", o]).is_empty(),
+        "nothing on stdout"
+    );
     let page = std::fs::read_to_string(&out).unwrap();
-    assert_eq!(page, ok(&["manual"]));
+    assert_eq!(page, stdout_of(&["manual"]));
     let r = run(&["manual", "-o", o]);
     assert!(!r.status.success());
     assert!(String::from_utf8_lossy(&r.stderr).contains("exists"));
-    ok(&["manual", "-o", o, "--force"]);
+    stdout_of(&["manual", "-o", o, "--force"]);
     let deep = dir.join("no/such/dir/loopwright.1");
     let r = run(&["manual", "-o", deep.to_str().unwrap()]);
     assert!(!r.status.success() && !deep.exists());

@@ -2,7 +2,7 @@
 //! equal to `report --at`, the JSON columns, and refused input.
 
 mod common;
-use common::{bin, temp_dir};
+use common::{bin, stdout_of, temp_dir};
 use serde_json::Value;
 
 /// The header the README and the issue give, exactly.
@@ -10,16 +10,6 @@ const HEADER: &str = "f_hz,gain_mag,gain_db,gain_phase_deg,loop_mag,loop_db,loop
 
 fn run(args: &[&str]) -> std::process::Output {
     bin().args(args).output().unwrap()
-}
-
-fn ok_stdout(args: &[&str]) -> String {
-    let out = run(args);
-    assert!(
-        out.status.success(),
-        "{args:?}: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).unwrap()
 }
 
 fn scenario(name: &str) -> String {
@@ -54,7 +44,7 @@ fn rel(a: f64, b: f64) -> f64 {
 fn header_and_rows_of_every_scenario() {
     for entry in std::fs::read_dir(scenario("")).unwrap() {
         let path = entry.unwrap().path();
-        let text = ok_stdout(&["sweep", path.to_str().unwrap()]);
+        let text = stdout_of(&["sweep", path.to_str().unwrap()]);
         assert_eq!(text.lines().next(), Some(HEADER), "{path:?}");
         let (header, rows) = read_csv(&text);
         assert_eq!(header.join(","), HEADER);
@@ -76,11 +66,11 @@ fn header_and_rows_of_every_scenario() {
 #[test]
 fn rows_equal_report_at_the_same_frequency() {
     let file = scenario("line_driver_cable.ron");
-    let (_, rows) = read_csv(&ok_stdout(&["sweep", &file]));
+    let (_, rows) = read_csv(&stdout_of(&["sweep", &file]));
     // Several rows across the sweep, the CSV text of f_hz passed back.
     for i in [0, 7, rows.len() / 3, rows.len() / 2, rows.len() - 1] {
         let f = rows[i][0].unwrap();
-        let v: Value = serde_json::from_str(&ok_stdout(&[
+        let v: Value = serde_json::from_str(&stdout_of(&[
             "report",
             &file,
             "--json",
@@ -125,21 +115,9 @@ fn a_grid_against_closed_forms_and_json_columns() {
     // feedback network, no load), and Zin open.
     let dir = temp_dir("sweep-closed");
     let path = dir.join("closed.ron");
-    std::fs::write(
-        &path,
-        r#"(
-    title: "closed forms",
-    stage: (topology: NonInverting, rg: 1000.0, rf: 9000.0, series: E24, tolerance: 0.01),
-    amp: (a0: 1.0e8, gbw: 1.0e11, ro: 10.0, vnoise: 3.0e-9, inoise: 0.0),
-    source: (r: 0.0),
-    load: (),
-    temp_c: 25.0,
-    band: (10.0, 100000.0),
-)"#,
-    )
-    .unwrap();
+    std::fs::write(&path, common::CLOSED_FORM_RON).unwrap();
     let p = path.to_str().unwrap();
-    let text = ok_stdout(&["sweep", p, "--from", "1k", "--to", "100k", "--ppd", "1"]);
+    let text = stdout_of(&["sweep", p, "--from", "1k", "--to", "100k", "--ppd", "1"]);
     let (_, rows) = read_csv(&text);
     let f: Vec<f64> = rows.iter().map(|r| r[0].unwrap()).collect();
     assert_eq!(f, vec![1e3, 1e4, 1e5]);
@@ -156,7 +134,7 @@ fn a_grid_against_closed_forms_and_json_columns() {
         assert_eq!((r[9], r[10]), (None, None), "Zin open: empty cells");
     }
     assert!(text.lines().nth(1).unwrap().contains(",,"), "empty cells");
-    let json = ok_stdout(&[
+    let json = stdout_of(&[
         "sweep", p, "--from", "1k", "--to", "100k", "--ppd", "1", "--json",
     ]);
     // The keys appear in column order in the text.
