@@ -2,7 +2,8 @@
 
 use crate::engine::params::HERTZ;
 use crate::engine::values::{fmt_eng, parse_quantity};
-use clap::{Parser, Subcommand};
+use clap::builder::PossibleValuesParser;
+use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 
 /// A frequency from the command line: engineering notation (`1k`, `2.5MHz`).
@@ -26,6 +27,24 @@ pub fn parse_frequency(text: &str) -> Result<f64, String> {
     }
     // `-0` is DC too, written as 0.
     Ok(v.abs())
+}
+
+const SWEEP_HELP: &str = "Columns: f_hz,gain_mag,gain_db,gain_phase_deg,loop_mag,loop_db,\
+loop_phase_deg,zout_mag,zout_phase_deg,zin_mag,zin_phase_deg,noise_density (SI units; an \
+empty cell where undefined). Without --from, --to or --ppd the rows are the analysis \
+sweep's points; the values equal `report --at` at the same frequency.";
+
+const PLOT_HELP: &str = "Views: response (closed-loop gain and phase, f−3dB marked), loop (loop \
+gain and phase, crossover and phase margin marked), noise (output noise density, band edges \
+marked), impedance (|Zout| and |Zin|). envelope, step and spread are reserved: their analyses \
+do not exist yet, so they are refused with a message and a non-zero exit.";
+
+/// The shells `completions` writes for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum CompletionShell {
+    Bash,
+    Zsh,
+    Fish,
 }
 
 #[derive(Debug, Parser)]
@@ -67,12 +86,83 @@ pub enum Command {
         /// Also report the figures at this frequency (repeatable; `1k`, `2.5M`).
         #[arg(long = "at", value_name = "HZ", value_parser = parse_frequency, allow_hyphen_values = true)]
         at: Vec<f64>,
+        /// A one-page Markdown design note: parts, figures, warnings.
+        #[arg(long, conflicts_with = "json")]
+        md: bool,
+        /// With --md: also write each view as SVG into DIR (made if missing)
+        /// and link them from the note.
+        #[arg(long, value_name = "DIR", requires = "md")]
+        figures: Option<PathBuf>,
+        /// Overwrite figures that already exist.
+        #[arg(long)]
+        force: bool,
+    },
+    /// Draw one view of a stage (and of a second stage B) as an SVG figure.
+    #[command(after_help = PLOT_HELP)]
+    Plot {
+        /// The stage A, and optionally a stage B drawn beside it.
+        #[arg(value_name = "FILE", required = true, num_args = 1..=2)]
+        files: Vec<PathBuf>,
+        /// Which view to draw.
+        #[arg(long, default_value = "response",
+              value_parser = PossibleValuesParser::new(crate::plot_svg::VIEWS.iter().map(|v| v.name)))]
+        view: String,
+        /// The SVG file to write.
+        #[arg(short = 'o', long = "output", value_name = "OUT.svg")]
+        output: PathBuf,
+        /// Width in pixels.
+        #[arg(long, default_value_t = 800)]
+        width: u32,
+        /// Height in pixels.
+        #[arg(long, default_value_t = 500)]
+        height: u32,
+        /// Black and grey only, for print.
+        #[arg(long)]
+        mono: bool,
+        /// Overwrite OUT.svg if it exists.
+        #[arg(long)]
+        force: bool,
+    },
+    /// Print shell completions for loopwright.
+    Completions {
+        #[arg(value_enum)]
+        shell: CompletionShell,
+    },
+    /// Write the man page (to stdout, or to a file with -o).
+    Manual {
+        /// The file to write (roff).
+        #[arg(short = 'o', long = "output", value_name = "FILE")]
+        output: Option<PathBuf>,
+        /// Overwrite FILE if it exists.
+        #[arg(long)]
+        force: bool,
     },
     /// Compare two candidate stages side by side.
     Compare {
         a: PathBuf,
         b: PathBuf,
         /// Both full reports and their differences as one JSON object.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print the frequency sweep as CSV (a header row, then one row per
+    /// frequency) or as one JSON object of column arrays.
+    #[command(after_help = SWEEP_HELP)]
+    Sweep {
+        file: PathBuf,
+        /// Lowest frequency (with --to/--ppd: a log grid instead of the analysis sweep).
+        #[arg(long, value_name = "HZ", value_parser = parse_frequency)]
+        from: Option<f64>,
+        /// Highest frequency.
+        #[arg(long, value_name = "HZ", value_parser = parse_frequency)]
+        to: Option<f64>,
+        /// Points per decade of the log grid (30 without it).
+        #[arg(long, value_name = "N")]
+        ppd: Option<u32>,
+        /// CSV (the default).
+        #[arg(long, conflicts_with = "json")]
+        csv: bool,
+        /// One JSON object: each column name holds an array, null where undefined.
         #[arg(long)]
         json: bool,
     },

@@ -17,6 +17,9 @@
 
 pub mod cli;
 pub mod engine;
+pub mod note;
+pub mod plot_svg;
 pub mod report;
 pub mod storage;
+pub mod sweep;
 pub mod ui;

@@ -380,6 +380,28 @@ pub fn write_atomic(path: &Path, text: &str) -> io::Result<Written> {
     })
 }
 
+/// Write an output file (a figure, a man page): an existing file is
+/// refused unless `force`; the text goes through [`write_atomic`], so a
+/// failed write leaves no partial file behind.
+pub fn write_output(path: &Path, text: &str, force: bool) -> io::Result<PathBuf> {
+    refuse_existing(path, force)?;
+    write_atomic(path, text)
+        .map(|w| w.path)
+        .map_err(|e| io::Error::new(e.kind(), format!("cannot write {}: {e}", path.display())))
+}
+
+/// An error when `path` exists (as anything, a dangling link too) and
+/// `force` is not given.
+pub fn refuse_existing(path: &Path, force: bool) -> io::Result<()> {
+    if !force && std::fs::symlink_metadata(path).is_ok() {
+        return Err(io::Error::new(
+            io::ErrorKind::AlreadyExists,
+            format!("{} exists: give --force to overwrite it", path.display()),
+        ));
+    }
+    Ok(())
+}
+
 fn commit(path: &Path, bytes: &[u8]) -> io::Result<()> {
     let mut f = AtomicWriteFile::open(path)?;
     f.write_all(bytes)?;

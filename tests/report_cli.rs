@@ -117,18 +117,7 @@ fn point_values_match_closed_forms() {
     //   gain = (1 + rf/rg)/(1 + 1/(Aβ))                  (finite-gain loop)
     //   1/Zout = 1/(rf + rg) + 1/ro + A·rg/(ro·(rg + rf)) (KCL at the output)
     //   noise² = (en·NG)² + 4kT·rg·(rf/rg)² + 4kT·rf     (textbook, NG = 10)
-    let (dir, path) = scenario_file(
-        "closed",
-        r#"(
-    title: "closed forms",
-    stage: (topology: NonInverting, rg: 1000.0, rf: 9000.0, series: E24, tolerance: 0.01),
-    amp: (a0: 1.0e8, gbw: 1.0e11, ro: 10.0, vnoise: 3.0e-9, inoise: 0.0),
-    source: (r: 0.0),
-    load: (),
-    temp_c: 25.0,
-    band: (10.0, 100000.0),
-)"#,
-    );
+    let (dir, path) = scenario_file("closed", common::CLOSED_FORM_RON);
     let v = json(&["report", path.to_str().unwrap(), "--json", "--at", "1k"]);
     let p = &v["points"][0];
     let one = num_complex::Complex64::new(1.0, 0.0);

@@ -274,7 +274,8 @@ mod random_keys {
     use proptest::prelude::*;
 
     fn keys() -> impl Strategy<Value = KeyCode> {
-        // Everything but saving and opening (which would touch real files).
+        // Everything but saving, opening and writing a figure (p), which
+        // would touch real files.
         prop_oneof![
             Just(KeyCode::Up),
             Just(KeyCode::Down),
@@ -287,7 +288,7 @@ mod random_keys {
             Just(KeyCode::PageUp),
             Just(KeyCode::PageDown),
             prop::sample::select(
-                "hjkl+-=envfac[]?b0123456789.kMunpRx%y"
+                "hjkl+-=envfac[]?b0123456789.kMunRx%y"
                     .chars()
                     .collect::<Vec<_>>()
             )

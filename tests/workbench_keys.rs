@@ -182,3 +182,27 @@ fn two_files_open_side_by_side() {
     }
     assert!(text.contains("≠ riso"), "{text}");
 }
+
+#[test]
+fn p_writes_the_plot_view_beside_the_file() {
+    let dir = common::temp_dir("key-p");
+    let path = dir.join("stage.ron");
+    std::fs::write(&path, scenario::DEMO_RON).unwrap();
+    let s = Scenario::load(&path).unwrap();
+    let mut a = App::new(vec![(s, Some(path.clone()))], Theme::new(false, false));
+    a.on_key(key(KeyCode::Char('v')));
+    a.on_key(key(KeyCode::Char('p')));
+    let first = dir.join("stage-loop.svg");
+    let svg = std::fs::read_to_string(&first).expect("figure written");
+    let doc = roxmltree::Document::parse(&svg).expect("SVG is XML");
+    assert!(doc
+        .descendants()
+        .any(|n| n.text().is_some_and(|t| t.contains("Loop gain"))));
+    assert!(a.status.contains("stage-loop.svg"), "{}", a.status);
+    // A second press keeps the first figure and takes the next name.
+    a.on_key(key(KeyCode::Char('p')));
+    assert_eq!(std::fs::read_to_string(&first).unwrap(), svg);
+    assert!(dir.join("stage-loop-2.svg").exists());
+    assert!(a.status.contains("stage-loop-2.svg"), "{}", a.status);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -13,6 +13,7 @@ pub mod netlist;
 pub mod params;
 pub mod scenario;
 pub mod solver;
+pub mod traces;
 pub mod values;
 pub mod warnings;
 

@@ -3,11 +3,11 @@
 //! `on_key` is the only way state changes; the view only reads.
 
 use super::keys::{self, Action};
-use super::plot::finite;
 use super::theme::Theme;
-use crate::engine::analysis::{Analysis, Circuit, Point};
+use crate::engine::analysis::{Circuit, Point};
 use crate::engine::params::{self, param, Direction, ParamRef, PARAMS};
 use crate::engine::scenario::{Amp, Scenario};
+pub use crate::engine::traces::Traces;
 use crate::engine::{evaluate, evaluate_with, values, Evaluation};
 use crate::storage::{self, Original};
 pub use crate::storage::{leading_comments, write_atomic};
@@ -31,6 +31,14 @@ impl View {
             View::Noise => View::Response,
         }
     }
+    /// The view's name in the SVG figures' view table.
+    pub fn figure_name(self) -> &'static str {
+        match self {
+            View::Response => "response",
+            View::Loop => "loop",
+            View::Noise => "noise",
+        }
+    }
     pub fn title(self) -> &'static str {
         match self {
             View::Response => "Closed-loop response",
@@ -40,47 +48,25 @@ impl View {
     }
 }
 
-/// Plot-ready traces (x = log10 f), built once per analysis.
-#[derive(Debug, Clone, Default)]
-pub struct Traces {
-    pub gain_db: Vec<(f64, f64)>,
-    pub gain_phase: Vec<(f64, f64)>,
-    pub loop_db: Vec<(f64, f64)>,
-    pub loop_phase: Vec<(f64, f64)>,
-    /// log10 |Z| in ohms.
-    pub zout: Vec<(f64, f64)>,
-    pub zin: Vec<(f64, f64)>,
-    /// log10 of the density in V/√Hz.
-    pub noise: Vec<(f64, f64)>,
-}
-
-impl Traces {
-    fn new(a: &Analysis) -> Traces {
-        let pts = &a.sweep.points;
-        let lf = |p: &Point| p.f_hz.log10();
-        Traces {
-            gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
-            gain_phase: finite(
-                pts.iter()
-                    .map(|p| (lf(p), crate::engine::analysis::phase_deg(p.gain))),
-            ),
-            loop_db: finite(
-                pts.iter()
-                    .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),
-            ),
-            loop_phase: finite(
-                pts.iter()
-                    .zip(&a.sweep.loop_phase_deg)
-                    .map(|(p, ph)| (lf(p), *ph)),
-            ),
-            zout: finite(pts.iter().map(|p| (lf(p), p.zout.norm().log10()))),
-            zin: finite(
-                pts.iter()
-                    .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
-            ),
-            noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
+/// Where the workbench writes a figure of `view`: `STEM-VIEW.svg` beside
+/// the stage's file (`loopwright-VIEW.svg` here for a stage without one),
+/// or `STEM-VIEW-2.svg` and on when that name is taken.
+pub fn figure_path(stage: Option<&Path>, view: &str) -> PathBuf {
+    let dir = stage
+        .and_then(|p| p.parent())
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let stem = stage
+        .and_then(|p| p.file_stem())
+        .map_or("loopwright".into(), |s| s.to_string_lossy().into_owned());
+    let mut path = dir.join(format!("{stem}-{view}.svg"));
+    for n in 2..10_000 {
+        if std::fs::symlink_metadata(&path).is_err() {
+            break;
         }
+        path = dir.join(format!("{stem}-{view}-{n}.svg"));
     }
+    path
 }
 
 /// One candidate stage and everything derived from it.
@@ -519,6 +505,7 @@ impl App {
                 self.view = self.view.next();
                 self.info(format!("view: {}", self.view.title()));
             }
+            Action::WriteFigure => self.write_figure(),
             Action::ProbeFrequency => {
                 self.mode = Mode::Prompt(Prompt::Probe, values::fmt_compact(self.probe_hz));
                 self.info("frequency for the Zout figure (e.g. 10k); Enter applies");
@@ -542,6 +529,34 @@ impl App {
             Action::PickArchetype => self.start_pick(),
             Action::CopyToOther => self.copy_to_other(),
             Action::SwitchSlot => self.switch_slot(),
+        }
+    }
+
+    /// Write the plot view of every stage (A first) as SVG next to the
+    /// active stage's file, under a name not yet taken, and say where.
+    fn write_figure(&mut self) {
+        let Some(view) = crate::plot_svg::view(self.view.figure_name()) else {
+            return;
+        };
+        let stages: Vec<_> = self
+            .slots
+            .iter()
+            .map(|s| crate::plot_svg::Stage {
+                scenario: &s.scenario,
+                eval: &s.analysis,
+            })
+            .collect();
+        let svg = match crate::plot_svg::render(view, &stages, Default::default()) {
+            Ok(svg) => svg,
+            Err(e) => return self.error(e),
+        };
+        let path = figure_path(self.slot().path.as_deref(), view.name);
+        match storage::write_output(&path, &svg, false) {
+            Ok(p) => self.info(format!(
+                "figure written to {}",
+                values::printable(&p.display().to_string())
+            )),
+            Err(e) => self.error(format!("figure not written: {e}")),
         }
     }
 

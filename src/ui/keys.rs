@@ -19,6 +19,7 @@ pub enum Action {
     CycleSeries,
     SnapToSeries,
     NextView,
+    WriteFigure,
     ProbeFrequency,
     ScrollWarningsDown,
     ScrollWarningsUp,
@@ -119,6 +120,13 @@ pub const KEYS: &[Binding] = &[
         shown: "v",
         action: Action::NextView,
         help: "next plot view: response / loop gain / noise density",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('p')],
+        shown: "p",
+        action: Action::WriteFigure,
+        help: "write the plot view as SVG next to the stage's file",
         hint: None,
     },
     Binding {

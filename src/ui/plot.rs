@@ -76,12 +76,7 @@ fn value_at(points: &[(f64, f64)], x: f64) -> Option<f64> {
     Some(a.1 + t * (b.1 - a.1))
 }
 
-/// Keep only finite points.
-pub fn finite(points: impl Iterator<Item = (f64, f64)>) -> Vec<(f64, f64)> {
-    points
-        .filter(|(x, y)| x.is_finite() && y.is_finite())
-        .collect()
-}
+pub use crate::engine::traces::finite;
 
 /// Label of a decade: 10^d Hz or Ω as "1", "10", "100", "1k", "10M", "1m".
 pub fn decade_label(d: i32, unit: &str) -> String {

@@ -75,6 +75,30 @@ pub fn assert_rel(what: &str, got: f64, want: f64, tol: f64) {
     );
 }
 
+/// A non-inverting stage (rg 1 k, rf 9 k) around a fast single-pole
+/// model (a0 1e8, gbw 1e11: open-loop pole at 1 kHz), ro 10 Ω, ideal
+/// source, no load, no rin: the stage of the closed-form point checks.
+pub const CLOSED_FORM_RON: &str = r#"(
+    title: "closed forms",
+    stage: (topology: NonInverting, rg: 1000.0, rf: 9000.0, series: E24, tolerance: 0.01),
+    amp: (a0: 1.0e8, gbw: 1.0e11, ro: 10.0, vnoise: 3.0e-9, inoise: 0.0),
+    source: (r: 0.0),
+    load: (),
+    temp_c: 25.0,
+    band: (10.0, 100000.0),
+)"#;
+
+/// Run the binary; its stdout as text (it must succeed).
+pub fn stdout_of(args: &[&str]) -> String {
+    let out = bin().args(args).output().unwrap();
+    assert!(
+        out.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
+}
+
 pub fn bin() -> std::process::Command {
     std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
 }

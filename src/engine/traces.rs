@@ -1,0 +1,51 @@
+//! Plot-ready traces of one analysis (x = log10 f): the workbench's plots
+//! and the SVG figures draw the same points.
+
+use super::analysis::{phase_deg, Analysis, Point};
+
+/// Keep only finite points.
+pub fn finite(points: impl Iterator<Item = (f64, f64)>) -> Vec<(f64, f64)> {
+    points
+        .filter(|(x, y)| x.is_finite() && y.is_finite())
+        .collect()
+}
+
+/// Plot-ready traces (x = log10 f), built once per analysis.
+#[derive(Debug, Clone, Default)]
+pub struct Traces {
+    pub gain_db: Vec<(f64, f64)>,
+    pub gain_phase: Vec<(f64, f64)>,
+    pub loop_db: Vec<(f64, f64)>,
+    pub loop_phase: Vec<(f64, f64)>,
+    /// log10 |Z| in ohms.
+    pub zout: Vec<(f64, f64)>,
+    pub zin: Vec<(f64, f64)>,
+    /// log10 of the density in V/√Hz.
+    pub noise: Vec<(f64, f64)>,
+}
+
+impl Traces {
+    pub fn new(a: &Analysis) -> Traces {
+        let pts = &a.sweep.points;
+        let lf = |p: &Point| p.f_hz.log10();
+        Traces {
+            gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
+            gain_phase: finite(pts.iter().map(|p| (lf(p), phase_deg(p.gain)))),
+            loop_db: finite(
+                pts.iter()
+                    .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),
+            ),
+            loop_phase: finite(
+                pts.iter()
+                    .zip(&a.sweep.loop_phase_deg)
+                    .map(|(p, ph)| (lf(p), *ph)),
+            ),
+            zout: finite(pts.iter().map(|p| (lf(p), p.zout.norm().log10()))),
+            zin: finite(
+                pts.iter()
+                    .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
+            ),
+            noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
+        }
+    }
+}

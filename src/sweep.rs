@@ -1,0 +1,141 @@
+//! The frequency sweep as data: one row per frequency with the same
+//! figures as `report --at` (from [`report::point_report`]), written as
+//! CSV or as one JSON object of column arrays.
+
+use crate::engine::analysis::{log_grid, Analysis, Circuit};
+use crate::engine::scenario::Scenario;
+use crate::engine::values::fmt_eng;
+use crate::report::{point_report, PointReport};
+use std::io::{self, Write};
+
+/// The column names, in order: the CSV header and the JSON keys.
+pub const COLUMNS: [&str; 12] = [
+    "f_hz",
+    "gain_mag",
+    "gain_db",
+    "gain_phase_deg",
+    "loop_mag",
+    "loop_db",
+    "loop_phase_deg",
+    "zout_mag",
+    "zout_phase_deg",
+    "zin_mag",
+    "zin_phase_deg",
+    "noise_density",
+];
+
+/// Most rows a sweep may have.
+pub const MAX_ROWS: usize = 2000;
+
+/// One row: the values of [`COLUMNS`], None where undefined.
+pub type Row = [Option<f64>; 12];
+
+/// The row of one `--at` point, with the loop gain also in dB.
+pub fn row(p: &PointReport) -> Row {
+    let loop_db = p
+        .loop_mag
+        .map(|m| 20.0 * m.log10())
+        .filter(|v| v.is_finite());
+    [
+        Some(p.f_hz),
+        p.gain_mag,
+        p.gain_db,
+        p.gain_phase_deg,
+        p.loop_mag,
+        loop_db,
+        p.loop_phase_deg,
+        p.zout_mag,
+        p.zout_phase_deg,
+        p.zin_mag,
+        p.zin_phase_deg,
+        p.noise_density,
+    ]
+}
+
+/// Which frequencies to sweep: the analysis sweep, or a log grid.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Range {
+    pub from: Option<f64>,
+    pub to: Option<f64>,
+    pub per_decade: Option<u32>,
+}
+
+impl Range {
+    /// The frequencies: the analysis sweep points when nothing is given,
+    /// otherwise a log grid from `from` to `to` (each defaulting to the
+    /// analysis sweep's end) at `per_decade` points (30 by default).
+    pub fn frequencies(&self, a: &Analysis) -> Result<Vec<f64>, String> {
+        let pts = &a.sweep.points;
+        if *self == Range::default() {
+            return Ok(pts.iter().map(|p| p.f_hz).collect());
+        }
+        let lo = self.from.or(pts.first().map(|p| p.f_hz)).unwrap_or(0.01);
+        let hi = self.to.or(pts.last().map(|p| p.f_hz)).unwrap_or(1e9);
+        if lo <= 0.0 {
+            return Err("--from must be above 0 Hz: the sweep is log-spaced".into());
+        }
+        if hi <= lo {
+            return Err(format!(
+                "--to ({}) must be above --from ({})",
+                fmt_eng(hi, "Hz"),
+                fmt_eng(lo, "Hz")
+            ));
+        }
+        let ppd = self.per_decade.unwrap_or(30);
+        if ppd == 0 {
+            return Err("--ppd must be at least 1".into());
+        }
+        let rows = ((hi / lo).log10() * f64::from(ppd)).ceil() + 1.0;
+        if rows > MAX_ROWS as f64 {
+            return Err(format!(
+                "{rows} rows asked for; at most {MAX_ROWS}: narrow the range or lower --ppd"
+            ));
+        }
+        Ok(log_grid(lo, hi, f64::from(ppd)))
+    }
+}
+
+/// The rows at these frequencies, each solved exactly there.
+pub fn rows(s: &Scenario, a: &Analysis, freqs: &[f64]) -> Vec<Row> {
+    let circuit = Circuit::new(s);
+    freqs
+        .iter()
+        .map(|&f| row(&point_report(&circuit, a, f)))
+        .collect()
+}
+
+/// CSV: the header, then one line per row; `{}` prints the shortest text
+/// that reads back to the same double; an empty cell where undefined.
+pub fn write_csv(rows: &[Row], w: &mut impl Write) -> io::Result<()> {
+    writeln!(w, "{}", COLUMNS.join(","))?;
+    for r in rows {
+        let cells: Vec<String> = r
+            .iter()
+            .map(|v| v.map(|x| format!("{x}")).unwrap_or_default())
+            .collect();
+        writeln!(w, "{}", cells.join(","))?;
+    }
+    Ok(())
+}
+
+/// The columns in [`COLUMNS`] order, for serde.
+struct Columns<'a>(&'a [Row]);
+
+impl serde::Serialize for Columns<'_> {
+    fn serialize<S: serde::Serializer>(&self, ser: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut m = ser.serialize_map(Some(COLUMNS.len()))?;
+        for (i, name) in COLUMNS.iter().enumerate() {
+            let col: Vec<Option<f64>> = self.0.iter().map(|r| r[i]).collect();
+            m.serialize_entry(name, &col)?;
+        }
+        m.end()
+    }
+}
+
+/// JSON: one object, each column name holding its array in column order
+/// (null where undefined).
+pub fn write_json(rows: &[Row], w: &mut impl Write) -> io::Result<()> {
+    serde_json::to_writer(&mut *w, &Columns(rows))?;
+    writeln!(w)
+}

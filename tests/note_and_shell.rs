@@ -1,0 +1,175 @@
+//! `report --md` (the design note and its figures), `completions` and
+//! `manual`.
+
+mod common;
+use clap::CommandFactory;
+use common::{bin, stdout_of, temp_dir};
+use loopwright::cli::Cli;
+use loopwright::engine::figures::FIGURES;
+
+fn run(args: &[&str]) -> std::process::Output {
+    bin().args(args).output().unwrap()
+}
+
+fn scenario(name: &str) -> String {
+    format!("{}/scenarios/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+/// The Markdown text with its escapes undone (`\|` → `|`).
+fn unescaped(md: &str) -> String {
+    let mut out = String::new();
+    let mut chars = md.chars().peekable();
+    while let Some(c) = chars.next() {
+        if c == '\\' {
+            if let Some(n) = chars.next() {
+                out.push(n);
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
+#[test]
+fn note_holds_every_figure_and_warning_of_the_report() {
+    for entry in std::fs::read_dir(scenario("")).unwrap() {
+        let path = entry.unwrap().path();
+        let p = path.to_str().unwrap();
+        let text = stdout_of(&["report", p]);
+        let md = unescaped(&stdout_of(&["report", p, "--md"]));
+        let title = text.lines().next().unwrap();
+        assert!(md.starts_with(&format!("# {title}\n")), "{p}: title");
+        let mut checked = 0;
+        for f in FIGURES.iter().filter(|f| f.shown.text) {
+            let prefix = format!("  {} ", f.label);
+            let Some(line) = text.lines().find(|l| l.starts_with(&prefix)) else {
+                continue;
+            };
+            let value = line[prefix.len()..].trim();
+            assert!(
+                md.contains(&format!("| {} | {value} |", f.label)),
+                "{p}: {line}"
+            );
+            checked += 1;
+        }
+        assert!(checked >= 14, "{p}: {checked} figures");
+        let warnings = text.lines().skip_while(|l| *l != "Warnings").skip(1);
+        for w in warnings {
+            let said = w.split_once(": ").unwrap().1;
+            assert!(md.contains(said), "{p}: warning {said}");
+        }
+        for part in ["`amp.gbw`", "`source.r`", "`band.to`"] {
+            assert!(md.contains(part), "{p}: part {part}");
+        }
+    }
+}
+
+#[test]
+fn resistors_show_series_and_tolerance() {
+    // assets/demo.ron: rg 1 kΩ and rf 10 kΩ on E24 at 1 % (README example).
+    let md = unescaped(&stdout_of(&["report", "--md"]));
+    assert!(md.contains("| rg (`stage.rg`) | 1kΩ | E24 | ±1% |"), "{md}");
+    assert!(
+        md.contains("| rf (`stage.rf`) | 10kΩ | E24 | ±1% |"),
+        "{md}"
+    );
+}
+
+#[test]
+fn figures_are_written_linked_and_not_overwritten() {
+    let dir = temp_dir("note-figs");
+    let figs = dir.join("figs");
+    let f = figs.to_str().unwrap();
+    let a = scenario("mic_preamp.ron");
+    let md = stdout_of(&["report", &a, "--md", "--figures", f]);
+    for view in ["response", "loop", "noise", "impedance"] {
+        let file = figs.join(format!("mic_preamp-{view}.svg"));
+        let svg = std::fs::read_to_string(&file).unwrap();
+        roxmltree::Document::parse(&svg).expect("figure is XML");
+        assert!(
+            md.contains(&format!("]({})", file.display())),
+            "link to {view}"
+        );
+    }
+    let before = std::fs::read(figs.join("mic_preamp-loop.svg")).unwrap();
+    std::fs::write(figs.join("mic_preamp-noise.svg"), "mine").unwrap();
+    let o = run(&["report", &a, "--md", "--figures", f]);
+    assert!(!o.status.success() && o.stdout.is_empty());
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--force"));
+    let noise = std::fs::read_to_string(figs.join("mic_preamp-noise.svg")).unwrap();
+    assert_eq!(noise, "mine", "refused before writing anything");
+    assert_eq!(
+        std::fs::read(figs.join("mic_preamp-loop.svg")).unwrap(),
+        before
+    );
+    stdout_of(&["report", &a, "--md", "--figures", f, "--force"]);
+    let noise = std::fs::read_to_string(figs.join("mic_preamp-noise.svg")).unwrap();
+    assert!(noise.starts_with("<svg"));
+    // --figures only with --md.
+    assert!(!run(&["report", &a, "--figures", f]).status.success());
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn completions_and_manual_come_from_the_same_definitions() {
+    let names: Vec<String> = Cli::command()
+        .get_subcommands()
+        .map(|c| c.get_name().to_string())
+        .collect();
+    assert!(names.len() >= 7);
+    let bash = stdout_of(&["completions", "bash"]);
+    let zsh = stdout_of(&["completions", "zsh"]);
+    let fish = stdout_of(&["completions", "fish"]);
+    // Each shell's own form: bash `complete -F`, zsh `#compdef`, fish `complete -c`
+    // (the shells' manuals).
+    assert!(bash.contains("complete -F"), "bash");
+    assert!(zsh.starts_with("#compdef loopwright"), "zsh");
+    assert!(fish.contains("complete -c loopwright"), "fish");
+    let man = stdout_of(&["manual"]);
+    // man(7): a page has a .TH title line naming it.
+    assert!(
+        man.lines().any(|l| l.starts_with(".TH loopwright")),
+        "{man}"
+    );
+    for n in &names {
+        for (what, text) in [
+            ("bash", &bash),
+            ("zsh", &zsh),
+            ("fish", &fish),
+            ("man", &man),
+        ] {
+            assert!(text.contains(n.as_str()), "{what} lacks {n}");
+        }
+    }
+    // The plot views are offered by the completions.
+    assert!(bash.contains("impedance") && fish.contains("impedance"));
+    assert!(!run(&["completions", "tcsh"]).status.success());
+}
+
+#[test]
+fn manual_to_a_file_refuses_to_overwrite() {
+    let dir = temp_dir("manual");
+    let out = dir.join("loopwright.1");
+    let o = out.to_str().unwrap();
+    assert!(
+        stdout_of(&["manual", "-o", o]).is_empty(),
+        "nothing on stdout"
+    );
+    let page = std::fs::read_to_string(&out).unwrap();
+    assert_eq!(page, stdout_of(&["manual"]));
+    let r = run(&["manual", "-o", o]);
+    assert!(!r.status.success());
+    assert!(String::from_utf8_lossy(&r.stderr).contains("exists"));
+    stdout_of(&["manual", "-o", o, "--force"]);
+    let deep = dir.join("no/such/dir/loopwright.1");
+    let r = run(&["manual", "-o", deep.to_str().unwrap()]);
+    assert!(!r.status.success() && !deep.exists());
+    assert!(String::from_utf8_lossy(&r.stderr).contains("cannot write"));
+    assert_eq!(
+        std::fs::read_dir(&dir).unwrap().count(),
+        1,
+        "no temporary left"
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}

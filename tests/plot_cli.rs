@@ -1,0 +1,196 @@
+//! `loopwright plot`: well-formed SVG, axis labels, one path per curve, the
+//! size asked for, the marks, monochrome, and refused input with no file
+//! left behind.
+
+mod common;
+use common::{bin, temp_dir};
+use std::path::{Path, PathBuf};
+
+fn scenario(name: &str) -> String {
+    format!("{}/scenarios/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+fn plot(args: &[&str]) -> std::process::Output {
+    bin().arg("plot").args(args).output().unwrap()
+}
+
+/// Plot into `out` and return the SVG text (the command must succeed).
+fn svg(args: &[&str], out: &Path) -> String {
+    let mut all: Vec<&str> = args.to_vec();
+    all.extend(["-o", out.to_str().unwrap(), "--force"]);
+    let o = plot(&all);
+    assert!(
+        o.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    std::fs::read_to_string(out).unwrap()
+}
+
+/// Every text node, trimmed.
+fn texts(doc: &roxmltree::Document) -> Vec<String> {
+    doc.descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .map(|n| n.text().unwrap_or("").trim().to_string())
+        .collect()
+}
+
+/// Polylines with more than 10 points: the curves (grid lines, marks and
+/// legend samples have two).
+fn curves(doc: &roxmltree::Document) -> usize {
+    doc.descendants()
+        .filter(|n| n.has_tag_name("polyline"))
+        .filter(|n| {
+            n.attribute("points")
+                .unwrap_or("")
+                .split_whitespace()
+                .count()
+                > 10
+        })
+        .count()
+}
+
+#[test]
+fn every_scenario_and_view_is_well_formed_svg() {
+    let dir = temp_dir("plot-all");
+    let out = dir.join("f.svg");
+    // Curves per stage: gain and phase, loop gain and phase, noise.
+    let views = [
+        ("response", 2, "f−3dB"),
+        ("loop", 2, "PM"),
+        ("noise", 1, "band"),
+    ];
+    for entry in std::fs::read_dir(scenario("")).unwrap() {
+        let path = entry.unwrap().path();
+        let p = path.to_str().unwrap();
+        for (view, n, mark) in views {
+            let text = svg(&[p, "--view", view], &out);
+            let doc = roxmltree::Document::parse(&text).expect("SVG is XML");
+            let root = doc.root_element();
+            assert_eq!(root.tag_name().name(), "svg");
+            assert_eq!(root.attribute("width"), Some("800"), "default width");
+            assert_eq!(root.attribute("height"), Some("500"), "default height");
+            let t = texts(&doc);
+            assert!(
+                t.iter().any(|s| s == "frequency (Hz)"),
+                "{p} {view}: x axis"
+            );
+            // Decade labels in engineering notation (SI prefixes).
+            for d in ["1Hz", "1kHz", "1MHz"] {
+                assert!(t.iter().any(|s| s == d), "{p} {view}: {d}");
+            }
+            assert!(
+                t.iter().any(|s| s.contains(mark)),
+                "{p} {view}: mark {mark}"
+            );
+            assert_eq!(curves(&doc), n, "{p} {view}: one path per curve");
+        }
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn two_stages_legend_size_and_units() {
+    let dir = temp_dir("plot-ab");
+    let out = dir.join("ab.svg");
+    let (a, b) = (
+        scenario("line_driver_cable.ron"),
+        scenario("adc_driver_2n2.ron"),
+    );
+    let text = svg(
+        &[
+            &a, &b, "--view", "response", "--width", "640", "--height", "400",
+        ],
+        &out,
+    );
+    let doc = roxmltree::Document::parse(&text).unwrap();
+    assert_eq!(doc.root_element().attribute("width"), Some("640"));
+    assert_eq!(doc.root_element().attribute("height"), Some("400"));
+    assert_eq!(curves(&doc), 4, "gain and phase of A and B");
+    let t = texts(&doc);
+    for label in [
+        "A gain",
+        "B gain",
+        "A phase",
+        "B phase",
+        "magnitude (dB)",
+        "phase (°)",
+    ] {
+        assert!(t.iter().any(|s| s == label), "{label}");
+    }
+    // The footer names both stages' phase margins.
+    assert!(t.iter().filter(|s| s.contains("PM ")).count() >= 2);
+    // Both stages have rin, so both |Zin| curves exist beside |Zout|.
+    let text = svg(&[&a, &b, "--view", "impedance"], &out);
+    let doc = roxmltree::Document::parse(&text).unwrap();
+    assert_eq!(curves(&doc), 4);
+    assert!(texts(&doc).iter().any(|s| s == "|Z| (Ω)"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn mono_uses_only_greys() {
+    let dir = temp_dir("plot-mono");
+    let out = dir.join("m.svg");
+    let (a, b) = (scenario("mic_preamp.ron"), scenario("bridge_gain_101.ron"));
+    let text = svg(&[&a, &b, "--view", "loop", "--mono"], &out);
+    let doc = roxmltree::Document::parse(&text).unwrap();
+    let mut seen = 0;
+    for n in doc.descendants() {
+        for attr in ["stroke", "fill"] {
+            let Some(c) = n.attribute(attr).and_then(|c| c.strip_prefix('#')) else {
+                continue;
+            };
+            seen += 1;
+            let (r, g, bl) = (&c[0..2], &c[2..4], &c[4..6]);
+            assert!(r == g && g == bl, "{attr} #{c} is not a grey");
+        }
+    }
+    assert!(seen > 10);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// The command fails, says `says` on stderr and leaves no file at `out`.
+#[track_caller]
+fn refused(args: &[&str], says: &str, out: &Path) {
+    let o = plot(args);
+    assert!(!o.status.success(), "{args:?}");
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains(says), "{args:?}: {err}");
+    assert!(!out.exists(), "{args:?}: no output file");
+}
+
+#[test]
+fn bad_input_leaves_no_file() {
+    let dir = temp_dir("plot-bad");
+    let out: PathBuf = dir.join("x.svg");
+    let o = out.to_str().unwrap();
+    let a = scenario("mic_preamp.ron");
+    refused(&["/nonexistent/a.ron", "-o", o], "a.ron", &out);
+    refused(&[&a, "--view", "nyquist", "-o", o], "possible values", &out);
+    for view in ["envelope", "step", "spread"] {
+        refused(&[&a, "--view", view, "-o", o], "does not have yet", &out);
+    }
+    refused(&[&a, "--width", "10", "-o", o], "200 to 8000", &out);
+    let deep = dir.join("no/such/folder/x.svg");
+    refused(&[&a, "-o", deep.to_str().unwrap()], "cannot write", &deep);
+    // No temporary file is left in the folder either.
+    assert_eq!(std::fs::read_dir(&dir).unwrap().count(), 0);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn an_existing_file_needs_force() {
+    let dir = temp_dir("plot-force");
+    let out = dir.join("keep.svg");
+    std::fs::write(&out, "mine").unwrap();
+    let a = scenario("mic_preamp.ron");
+    let o = plot(&[&a, "-o", out.to_str().unwrap()]);
+    assert!(!o.status.success());
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--force"));
+    assert_eq!(std::fs::read_to_string(&out).unwrap(), "mine", "untouched");
+    let o = plot(&[&a, "-o", out.to_str().unwrap(), "--force"]);
+    assert!(o.status.success());
+    assert!(std::fs::read_to_string(&out).unwrap().starts_with("<svg"));
+    std::fs::remove_dir_all(&dir).ok();
+}
