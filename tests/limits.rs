@@ -84,12 +84,22 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
         t.amp.a0 = a0;
         ((evaluate(&t).limits.out_bias_v.unwrap() - want) / want).abs()
     };
-    assert!(err(1.0e3) > 10.0 * err(1.0e6), "{} {}", err(1.0e3), err(1.0e6));
+    assert!(
+        err(1.0e3) > 10.0 * err(1.0e6),
+        "{} {}",
+        err(1.0e3),
+        err(1.0e6)
+    );
     // DC at the load: dc_gain·source.dc + the bias error (the definition).
     let mut d = s.clone();
     d.source.dc = Some(0.25);
     let ed = evaluate(&d);
-    assert_rel("out dc", ed.limits.out_dc_v.unwrap(), ed.dc_gain * 0.25 + want, 1e-9);
+    assert_rel(
+        "out dc",
+        ed.limits.out_dc_v.unwrap(),
+        ed.dc_gain * 0.25 + want,
+        1e-9,
+    );
 }
 
 #[test]
@@ -134,11 +144,19 @@ fn inverting_stage_balances_with_rs_plus_rg_parallel_rf() {
         1e-6,
     );
     // Without it the − pin's current flows through rf: Vout = ib·rf.
-    assert_rel("bias error", e.limits.out_bias_v.unwrap(), 50.0e-9 * rf, 1e-6);
+    assert_rel(
+        "bias error",
+        e.limits.out_bias_v.unwrap(),
+        50.0e-9 * rf,
+        1e-6,
+    );
     // The + input is grounded: its range is 0 to 0 (the definition).
     s.source.peak = Some(0.1);
     let e = evaluate(&s);
-    assert_eq!((e.limits.cm_low_v, e.limits.cm_high_v), (Some(0.0), Some(0.0)));
+    assert_eq!(
+        (e.limits.cm_low_v, e.limits.cm_high_v),
+        (Some(0.0), Some(0.0))
+    );
 }
 
 #[test]
@@ -153,7 +171,12 @@ fn full_power_bandwidth_and_slew_need() {
     let e = evaluate(&s);
     let l = &e.limits;
     assert_rel("int peak", l.int_peak_v.unwrap(), 2.0, 1e-6);
-    assert_rel("slew need", l.slew_needed_v_per_s.unwrap(), 2.0 * PI * 20.0e3 * 2.0, 1e-6);
+    assert_rel(
+        "slew need",
+        l.slew_needed_v_per_s.unwrap(),
+        2.0 * PI * 20.0e3 * 2.0,
+        1e-6,
+    );
     assert_rel("fpbw", l.fpbw_hz.unwrap(), 1.0e6 / (2.0 * PI * 2.0), 1e-6);
     // 251 kV/s of 1 MV/s: no slew warning; at 300 kV/s (84 %) a warning
     // (README threshold 70 %), at 200 kV/s severe.
@@ -181,9 +204,17 @@ fn capacitive_load_current_is_two_pi_f_c_vp() {
     // the frequency; above the limit severe (README thresholds).
     s.amp.iout = Some(want / 0.9);
     let e = evaluate(&s);
-    let w = e.warnings.iter().find(|w| w.code == "output-current").unwrap();
+    let w = e
+        .warnings
+        .iter()
+        .find(|w| w.code == "output-current")
+        .unwrap();
     assert_eq!(w.severity, Severity::Warning);
-    assert!(w.text.contains("load capacitance") && w.text.contains("10 kHz"), "{}", w.text);
+    assert!(
+        w.text.contains("load capacitance") && w.text.contains("10 kHz"),
+        "{}",
+        w.text
+    );
     s.amp.iout = Some(want / 1.1);
     assert_eq!(has(&evaluate(&s), "output-current"), Some(Severity::Severe));
     s.amp.iout = Some(want / 0.7);
@@ -209,7 +240,12 @@ fn internal_output_swings_more_than_the_load_by_the_ro_and_riso_drops() {
     let want = v_load * (rl + riso + ro) / rl + ro * i_fb;
     assert_rel("int dc", e.limits.int_dc_v.unwrap(), want, 1e-6);
     // The amplifier's current (peak 0: the DC current alone).
-    assert_rel("i dc", e.limits.iout_peak_a.unwrap(), v_load / rl + i_fb, 1e-6);
+    assert_rel(
+        "i dc",
+        e.limits.iout_peak_a.unwrap(),
+        v_load / rl + i_fb,
+        1e-6,
+    );
     // And the gain 1 + rf/rg holds at the amplifier pin (textbook).
     assert_rel("v amp", v_amp, 0.5 * (1.0 + rf / rg), 1e-6);
 }
@@ -227,8 +263,16 @@ fn single_supply_inverter_clips_and_its_grounded_input_is_out_of_range() {
     let low = e.limits.headroom_low_v.unwrap();
     assert!(low < -(10.0 * 0.2 * 0.9 - 0.1), "{low}");
     assert_eq!(has(&e, "output-swing"), Some(Severity::Severe));
-    let w = e.warnings.iter().find(|w| w.code == "output-swing").unwrap();
-    assert!(w.text.contains("negative rail") && w.text.contains("ro"), "{}", w.text);
+    let w = e
+        .warnings
+        .iter()
+        .find(|w| w.code == "output-swing")
+        .unwrap();
+    assert!(
+        w.text.contains("negative rail") && w.text.contains("ro"),
+        "{}",
+        w.text
+    );
     // Ground is 0.5 V outside inputs that stop 0.5 V above the negative
     // rail (cm_neg in the file).
     assert_rel("cm headroom", e.limits.cm_headroom_v.unwrap(), -0.5, 1e-9);
@@ -257,14 +301,23 @@ fn headroom_warning_below_five_percent_of_the_span() {
     // the 2.1 V span (README: warning below 5 %); on ±1.2 V, 200 mV, 8 %.
     let mut s = ideal_amp(follower());
     s.source.peak = Some(1.0);
-    s.supply = Some(Supply { neg: -1.05, pos: 1.05 });
+    s.supply = Some(Supply {
+        neg: -1.05,
+        pos: 1.05,
+    });
     assert_eq!(has(&evaluate(&s), "output-swing"), Some(Severity::Warning));
-    s.supply = Some(Supply { neg: -1.2, pos: 1.2 });
+    s.supply = Some(Supply {
+        neg: -1.2,
+        pos: 1.2,
+    });
     assert_eq!(has(&evaluate(&s), "output-swing"), None);
     // Without a supply: no headroom figures (null).
     s.supply = None;
     let e = evaluate(&s);
-    assert_eq!((e.limits.headroom_low_v, e.limits.cm_headroom_v), (None, None));
+    assert_eq!(
+        (e.limits.headroom_low_v, e.limits.cm_headroom_v),
+        (None, None)
+    );
 }
 
 #[test]
@@ -293,7 +346,10 @@ fn absent_inputs_give_null_figures_and_no_sections() {
     // A file without the new fields: every new figure null, no new report
     // sections (README).
     let e = evaluate(&plain(Topology::NonInverting, 1.0e3, 10.0e3));
-    for f in loopwright::engine::figures::FIGURES.iter().filter(|f| f.needs_input) {
+    for f in loopwright::engine::figures::FIGURES
+        .iter()
+        .filter(|f| f.needs_input)
+    {
         assert_eq!(f.json(&e), None, "{}", f.key);
     }
     let s = plain(Topology::NonInverting, 1.0e3, 10.0e3);
@@ -301,5 +357,8 @@ fn absent_inputs_give_null_figures_and_no_sections() {
     let mut text = Vec::new();
     loopwright::report::write_text(&r, &s, &e, &mut text).unwrap();
     let text = String::from_utf8(text).unwrap();
-    assert!(!text.contains("DC errors") && !text.contains("Signal limits"), "{text}");
+    assert!(
+        !text.contains("DC errors") && !text.contains("Signal limits"),
+        "{text}"
+    );
 }

@@ -7,8 +7,8 @@
 //! Everything here is linear superposition at the operating point: one DC
 //! factorisation gives the transfer from the source, from a current
 //! injected into each input pin and from a voltage in series with the
-//! + input, to every place that matters; the band maxima come from the
-//! sweep's solutions.
+//! non-inverting input, to every place that matters; the band maxima come
+//! from the sweep's solutions.
 
 use super::analysis::{refine_max, Circuit, Signals, Sweep};
 use super::netlist::Netlist;

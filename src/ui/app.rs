@@ -104,9 +104,9 @@ impl Traces {
             )
         };
         let swing = match (l.swing_ceiling_v, env.first(), env.last()) {
-            (Some(v), Some(a), Some(b)) => finite(
-                [(lf(a.f_hz), v.log10()), (lf(b.f_hz), v.log10())].into_iter(),
-            ),
+            (Some(v), Some(a), Some(b)) => {
+                finite([(lf(a.f_hz), v.log10()), (lf(b.f_hz), v.log10())].into_iter())
+            }
             _ => Vec::new(),
         };
         Traces {

@@ -464,7 +464,8 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         (s.band.1.log10() + 0.5).min(12.0),
     );
     let mut tr = traces(app, |s| &s.traces.env_need, Some("need"), false);
-    let ceilings: [(fn(&Slot) -> &[(f64, f64)], &str, f64); 3] = [
+    type Pick = fn(&Slot) -> &[(f64, f64)];
+    let ceilings: [(Pick, &str, f64); 3] = [
         (|s| &s.traces.env_swing, "swing", 0.1),
         (|s| &s.traces.env_slew, "slew", 0.45),
         (|s| &s.traces.env_current, "current", 0.75),
@@ -482,7 +483,11 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
     }
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
-    let (lo, hi) = if lo.is_finite() { (lo.max(hi - 6.0), hi) } else { (-1.0, 1.0) };
+    let (lo, hi) = if lo.is_finite() {
+        (lo.max(hi - 6.0), hi)
+    } else {
+        (-1.0, 1.0)
+    };
     let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
     let mut marks = vec![
         VMark {
@@ -579,7 +584,10 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let probe = compact(app.probe_hz, "");
     let (mut cols, fixed) = figure_columns(app);
     let widths = loop {
-        let header: Vec<String> = cols.iter().map(|f| f.short.replace("{f}", &probe)).collect();
+        let header: Vec<String> = cols
+            .iter()
+            .map(|f| f.short.replace("{f}", &probe))
+            .collect();
         let mut rows: Vec<Vec<String>> = app.slots.iter().map(|s| figure_cells(s, &cols)).collect();
         if app.slots.len() > 1 {
             rows.push(delta_cells(&app.slots[0], &app.slots[1], &cols));
@@ -600,7 +608,10 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
         cols.pop();
     };
-    let header: Vec<String> = cols.iter().map(|f| f.short.replace("{f}", &probe)).collect();
+    let header: Vec<String> = cols
+        .iter()
+        .map(|f| f.short.replace("{f}", &probe))
+        .collect();
     let mut rows: Vec<(&str, Vec<String>)> = app
         .slots
         .iter()
