@@ -340,7 +340,6 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
         a.on_key(key(KeyCode::Char('v')));
     }
     let s = screen(&a, 80, 24);
-    println!("{s}");
     assert!(s.contains("Output envelope"), "{s}");
     assert!(s.contains("need"), "{s}");
     assert!(s.contains("slew"), "{s}");

@@ -704,7 +704,23 @@ impl App {
         };
         self.archetype = i;
         self.change("amplifier", |s| {
-            s.amp = arch.amp.clone();
+            // The archetypes give no signal limits: the stage keeps its own.
+            let old = std::mem::replace(&mut s.amp, arch.amp.clone());
+            let a = &mut s.amp;
+            for (new, was) in [
+                (&mut a.vos, old.vos),
+                (&mut a.vos_drift, old.vos_drift),
+                (&mut a.ib, old.ib),
+                (&mut a.ios, old.ios),
+                (&mut a.slew, old.slew),
+                (&mut a.swing_neg, old.swing_neg),
+                (&mut a.swing_pos, old.swing_pos),
+                (&mut a.cm_neg, old.cm_neg),
+                (&mut a.cm_pos, old.cm_pos),
+                (&mut a.iout, old.iout),
+            ] {
+                *new = new.or(was);
+            }
             Ok(())
         });
         self.info(format!(
