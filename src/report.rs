@@ -155,6 +155,11 @@ fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
             .filter(|(_, v)| v != "none")
             .map(|(p, v)| format!("{} {v}", p.label))
             .collect();
+        // A group with nothing given (supply and signal in an older file)
+        // has no line, so such files report as before.
+        if items.is_empty() {
+            continue;
+        }
         writeln!(w, "  {:<16} {}", g.title().to_lowercase(), items.join(", "))?;
     }
     Ok(())

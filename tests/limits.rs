@@ -361,4 +361,6 @@ fn absent_inputs_give_null_figures_and_no_sections() {
         !text.contains("DC errors") && !text.contains("Signal limits"),
         "{text}"
     );
+    // Nor an empty parameter line for the new group.
+    assert!(!text.contains("supply and signal"), "{text}");
 }
