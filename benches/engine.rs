@@ -10,6 +10,25 @@ fn full_analysis(c: &mut Criterion) {
     c.bench_function("full_analysis", |b| b.iter(|| analyze(black_box(&s))));
 }
 
+/// The demo with every signal-limit field filled in (the example
+/// values): the limits step adds one DC factorisation and the band maxima.
+fn full_analysis_with_limits(c: &mut Criterion) {
+    let mut s = scenario::demo();
+    let a = &mut s.amp;
+    (a.vos, a.vos_drift, a.ib, a.ios) = (Some(1.0e-3), Some(5.0e-6), Some(80.0e-9), Some(10.0e-9));
+    (a.slew, a.iout) = (Some(0.5e6), Some(20.0e-3));
+    (a.swing_neg, a.swing_pos, a.cm_neg, a.cm_pos) = (Some(1.5), Some(1.5), Some(2.0), Some(2.0));
+    (s.source.dc, s.source.peak) = (Some(0.5), Some(0.5));
+    s.supply = Some(scenario::Supply {
+        neg: -15.0,
+        pos: 15.0,
+    });
+    assert!(s.validate().is_ok());
+    c.bench_function("full_analysis_with_limits", |b| {
+        b.iter(|| analyze(black_box(&s)))
+    });
+}
+
 fn one_point(c: &mut Criterion) {
     let s = scenario::demo();
     let circuit = loopwright::engine::Circuit::new(&s);
@@ -37,5 +56,11 @@ fn frame(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, full_analysis, one_point, frame);
+criterion_group!(
+    benches,
+    full_analysis,
+    full_analysis_with_limits,
+    one_point,
+    frame
+);
 criterion_main!(benches);

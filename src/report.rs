@@ -155,6 +155,11 @@ fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
             .filter(|(_, v)| v != "none")
             .map(|(p, v)| format!("{} {v}", p.label))
             .collect();
+        // A group with nothing given (supply and signal in an older file)
+        // has no line, so such files report as before.
+        if items.is_empty() {
+            continue;
+        }
         writeln!(w, "  {:<16} {}", g.title().to_lowercase(), items.join(", "))?;
     }
     Ok(())
@@ -162,10 +167,17 @@ fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
 
 /// The figures of one section of the text report.
 fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
+    if !sec.shown_for(e) {
+        return Ok(());
+    }
     writeln!(w)?;
     writeln!(w, "{}", sec.title())?;
     for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
-        writeln!(w, "  {:<18} {}", f.label, f.text(f.read(e)))?;
+        let r = f.read(e);
+        if f.needs_input && r == crate::engine::figures::Reading::Undefined {
+            continue;
+        }
+        writeln!(w, "  {:<18} {}", f.label, f.text(r))?;
     }
     Ok(())
 }

@@ -49,6 +49,18 @@ prop_compose! {
         if topology != Topology::Follower && s.stage.rf.is_none() {
             s.stage.rf = Some(10e3);
         }
+        // The rails in order, with room for the output and the inputs (the
+        // cross-field rules); each end was drawn from its own range.
+        if let Some(sup) = s.supply.as_mut() {
+            let (a, b) = (sup.neg.min(sup.pos), sup.neg.max(sup.pos));
+            (sup.neg, sup.pos) = if b > a { (a, b) } else if a < 500.0 { (a, 500.0) } else { (-500.0, a) };
+            let span = sup.pos - sup.neg;
+            for f in [&mut s.amp.swing_neg, &mut s.amp.swing_pos, &mut s.amp.cm_neg, &mut s.amp.cm_pos] {
+                *f = f.map(|v| v.clamp(-0.2 * span, 0.2 * span));
+            }
+            s.amp.swing_neg = s.amp.swing_neg.map(|v| v.max(0.0));
+            s.amp.swing_pos = s.amp.swing_pos.map(|v| v.max(0.0));
+        }
         let lo = at((1e-6, 1e12), band_lo, false);
         let hi = (lo * 10f64.powf(band_decades)).min(1e12);
         s.band = if hi > lo { (lo, hi) } else { (1e12 / 10f64.powf(band_decades), 1e12) };
@@ -79,6 +91,15 @@ proptest! {
             prop_assert!(v.is_finite());
         }
         prop_assert!(a.zout_dc_ohm > 0.0, "Zout = {}", a.zout_dc_ohm);
+        // The DC-error and signal-limit figures: finite where defined.
+        for f in loopwright::engine::figures::FIGURES.iter().filter(|f| f.needs_input) {
+            if let loopwright::engine::figures::Reading::Value(v) = f.read(&a) {
+                prop_assert!(v.is_finite(), "{} = {}", f.key, v);
+            }
+        }
+        for e in &a.limits.envelope {
+            prop_assert!(e.need.is_finite() && e.need >= 0.0, "need at {} Hz", e.f_hz);
+        }
         prop_assert!(a.peaking_db >= 0.0);
         for p in &a.sweep.points {
             prop_assert!(p.gain.re.is_finite() && p.gain.im.is_finite());

@@ -262,3 +262,92 @@ fn values_outside_the_accepted_ranges_are_refused_with_position() {
         .replace("a0: 100000.0", "a0: 1e9");
     assert!(Scenario::from_ron(&ok, None).is_ok());
 }
+
+/// The issue's example of the signal-limit fields, one to a line so each
+/// field's line and column are known.
+const LIMITS_EXAMPLE: &str = r#"(
+    title: "limits",
+    stage: (topology: NonInverting, rg: 1000.0, rf: 10000.0, series: E24, tolerance: 0.01),
+    amp: (a0: 100000.0, gbw: 1.0e6, ro: 75.0, vnoise: 10.0e-9, inoise: 1.0e-12,
+        vos: 1.0e-3,
+        vos_drift: 5.0e-6,
+        ib: 80.0e-9,
+        ios: 10.0e-9,
+        slew: 0.5e6,
+        swing_neg: 1.5,
+        swing_pos: 1.5,
+        cm_neg: 2.0,
+        cm_pos: 2.0,
+        iout: 20.0e-3),
+    source: (r: 100.0,
+        dc: 0.5,
+        peak: 0.5),
+    load: (r: 10000.0),
+    supply: (
+        neg: -15.0,
+        pos: 15.0),
+    temp_c: 25.0,
+    band: (10.0, 100000.0),
+)
+"#;
+
+#[test]
+fn signal_limit_fields_load_save_and_round_trip() {
+    let s = Scenario::from_ron(LIMITS_EXAMPLE, None).unwrap();
+    assert_eq!(s.amp.slew, Some(0.5e6));
+    assert_eq!(s.source.peak, Some(0.5));
+    assert_eq!(s.supply.map(|x| (x.neg, x.pos)), Some((-15.0, 15.0)));
+    let back = Scenario::from_ron(&s.to_ron(), None).unwrap();
+    assert_eq!(s, back);
+    // A file without them writes none of them back.
+    let demo = Scenario::from_ron(DOC_EXAMPLE, None).unwrap().to_ron();
+    for name in ["vos", "ib", "slew", "supply", "peak", "dc:"] {
+        assert!(!demo.contains(name), "{name} in {demo}");
+    }
+}
+
+#[test]
+fn bad_signal_limit_values_name_field_line_and_column() {
+    // Each new field with a value outside its README range (negative slew,
+    // a negative peak, …), and the rails out of order.
+    let cases = [
+        ("vos: 1.0e-3", "vos: -1.0e-3", "amp.vos"),
+        ("vos_drift: 5.0e-6", "vos_drift: -5.0e-6", "amp.vos_drift"),
+        ("ib: 80.0e-9", "ib: 1.0", "amp.ib"),
+        ("ios: 10.0e-9", "ios: -1.0e-9", "amp.ios"),
+        ("slew: 0.5e6", "slew: -0.5e6", "amp.slew"),
+        ("swing_neg: 1.5", "swing_neg: -1.5", "amp.swing_neg"),
+        ("swing_pos: 1.5", "swing_pos: 99.0", "amp.swing_pos"),
+        ("cm_neg: 2.0", "cm_neg: -99.0", "amp.cm_neg"),
+        ("cm_pos: 2.0", "cm_pos: 99.0", "amp.cm_pos"),
+        ("iout: 20.0e-3", "iout: -20.0e-3", "amp.iout"),
+        ("dc: 0.5", "dc: 1.0e4", "source.dc"),
+        ("peak: 0.5", "peak: -0.5", "source.peak"),
+        ("neg: -15.0", "neg: 15.0", "supply.neg"),
+        ("pos: 15.0", "pos: 1.0e4", "supply.pos"),
+        ("swing_neg: 1.5", "swing_neg: 29.0", "amp.swing_neg"),
+    ];
+    for (good, bad, field) in cases {
+        let text = LIMITS_EXAMPLE.replace(good, bad);
+        let e = err(&text);
+        assert_eq!(e.field.as_deref(), Some(field), "{e}");
+        // The line and column of the field's name in the file.
+        let key = field.rsplit('.').next().unwrap();
+        let (line, col) = text
+            .lines()
+            .enumerate()
+            .find_map(|(i, l)| l.find(&format!(" {key}:")).map(|c| (i + 1, c + 2)))
+            .unwrap();
+        let shown = e.to_string();
+        assert!(
+            shown.starts_with(&format!("t.ron:{line}:{col}: field `{field}`: ")),
+            "{shown}"
+        );
+    }
+    assert!(err(&LIMITS_EXAMPLE.replace("slew: 0.5e6", "slew: -0.5e6"))
+        .message
+        .contains("must not be negative"));
+    assert!(err(&LIMITS_EXAMPLE.replace("neg: -15.0", "neg: 15.0"))
+        .message
+        .contains("below the positive rail"));
+}

@@ -276,11 +276,17 @@ fn stepping_band_from_to_its_end_cannot_crash() {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
-    // "band from" is the row above the last one; End-of-list by many downs.
-    for _ in 0..30 {
+    // From rf (selected at start) down to "band from", counted in the
+    // parameter table (every row applies to the demo's stage).
+    let row = |path: &str| {
+        loopwright::engine::params::PARAMS
+            .iter()
+            .position(|p| p.path == path)
+            .unwrap()
+    };
+    for _ in 0..row("band.from") - row("stage.rf") {
         tmux(&["send-keys", "-t", &s.0, "Down"]);
     }
-    tmux(&["send-keys", "-t", &s.0, "Up"]);
     // 10 Hz down to 1 µHz (README accepted range) is 22 steps of 1-2-5.
     for _ in 0..80 {
         tmux(&["send-keys", "-t", &s.0, "Left"]);

@@ -334,3 +334,33 @@ fn follower_rf_can_be_a_resistor_or_a_wire() {
     type_value(&mut a, "wire");
     assert_eq!(a.slot().scenario.stage.rf, None);
 }
+
+/// A scenario from scenarios/ (the signal-limit examples).
+fn example(name: &str) -> Scenario {
+    Scenario::load(std::path::Path::new(&format!("scenarios/{name}.ron"))).unwrap()
+}
+
+#[test]
+fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
+    // The clipping example: ground is 2.1 V outside the negative rail's
+    // usable range (see tests/limits.rs), so the need passes the swing
+    // ceiling inside the band.
+    let mut a = app(vec![example("single_supply_inverter_clips")]);
+    for _ in 0..3 {
+        a.on_key(key(KeyCode::Char('v')));
+    }
+    let s = screen(&a, 80, 24);
+    assert!(s.contains("Output envelope"), "{s}");
+    assert!(s.contains("need"), "{s}");
+    assert!(s.contains("slew"), "{s}");
+    assert!(s.contains("passes the swing ceiling"), "{s}");
+    // One more press comes back to the response.
+    a.on_key(key(KeyCode::Char('v')));
+    assert!(screen(&a, 80, 24).contains("Closed-loop response"));
+    // Without a source peak the view says what it needs.
+    let mut d = app(vec![scenario::demo()]);
+    for _ in 0..3 {
+        d.on_key(key(KeyCode::Char('v')));
+    }
+    assert!(screen(&d, 80, 24).contains("give source peak"));
+}

@@ -18,7 +18,17 @@ fn demo_app() -> App {
 /// and load (source r, load r, load c), environment (temp, band).
 const CF: usize = 1;
 const GBW: usize = 6;
-const TEMP: usize = 18;
+/// Rows from rf down to temperature, counted in the parameter table (the
+/// demo's rows all apply).
+fn temp_rows() -> usize {
+    let at = |path| {
+        loopwright::engine::params::PARAMS
+            .iter()
+            .position(|p| p.path == path)
+            .unwrap()
+    };
+    at("temp_c") - at("stage.rf")
+}
 
 fn select_below_rf(a: &mut App, rows: usize) {
     press(a, KeyCode::Down, rows);
@@ -70,7 +80,7 @@ fn model_numbers_step_1_2_5_and_temperature_by_5() {
     );
     // Temperature steps by 5 °C (README).
     let mut a = demo_app();
-    select_below_rf(&mut a, TEMP);
+    select_below_rf(&mut a, temp_rows());
     let t = a.slots[0].scenario.temp_c;
     a.on_key(key(KeyCode::Char('+')));
     assert_eq!(a.slots[0].scenario.temp_c, t + 5.0);

@@ -33,6 +33,21 @@ pub struct Point {
     pub zin: Option<C64>,
     /// Output noise density contributions, V²/Hz, in netlist noise order.
     pub noise_psd: [f64; MAX_NOISE],
+    /// The signal inside the stage, per volt of source EMF.
+    pub signals: Signals,
+}
+
+/// Where the signal goes inside the stage, per volt of source EMF.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Signals {
+    /// The load terminal (the closed-loop gain).
+    pub out: C64,
+    /// The internal output V(int) = A(s)·vd, behind ro.
+    pub int: C64,
+    /// The + input pin (outside the offset and noise generator).
+    pub pin: C64,
+    /// The current out of the amplifier, through ro (A per volt).
+    pub amp_i: C64,
 }
 
 impl Point {
@@ -102,7 +117,39 @@ impl Circuit {
             zout: ZERO,
             zin: None,
             noise_psd: [0.0; MAX_NOISE],
+            signals: Signals::default(),
         })
+    }
+
+    /// The signals of a solution vector at s.
+    fn signals_of(&self, s: C64, x: &[C64]) -> Signals {
+        let net = &self.net;
+        Signals {
+            out: Netlist::node_v(x, net.out),
+            int: net.int_v(s, x),
+            pin: Netlist::node_v(x, net.inp),
+            amp_i: net.amp_current(s, x),
+        }
+    }
+
+    /// The signals at one frequency (one LU, one solve), or zeros where
+    /// the matrix is singular.
+    pub fn signals_at(&self, f_hz: f64) -> Signals {
+        let s = C64::new(0.0, 2.0 * PI * f_hz);
+        match self.factor_at(s) {
+            Some(lu) => {
+                let x = lu.solve(&self.net.drive_rhs());
+                self.signals_of(s, &x[..self.net.dim])
+            }
+            None => Signals::default(),
+        }
+    }
+
+    /// Solve the full matrix at one frequency for several right-hand
+    /// sides with one factorisation.
+    pub fn solve_at(&self, f_hz: f64, rhs: &[Vector]) -> Option<Vec<Vector>> {
+        let lu = self.factor_at(C64::new(0.0, 2.0 * PI * f_hz))?;
+        Some(rhs.iter().map(|b| lu.solve(b)).collect())
     }
 
     /// The gain solve (source EMF = 1 V) and the amplifier-row solve in
@@ -175,6 +222,7 @@ impl Circuit {
             zout,
             zin,
             noise_psd,
+            signals: self.signals_of(s, &x[..n]),
         })
     }
 }
@@ -226,6 +274,9 @@ pub struct Analysis {
     pub sweep: Sweep,
     /// The point at DC.
     pub dc: Point,
+    /// DC errors and signal limits (their figures are None without their
+    /// inputs).
+    pub limits: super::limits::Limits,
 }
 
 /// Wrap an angle in degrees into (−180, 180].
@@ -357,7 +408,7 @@ fn crossover(
 }
 
 /// Maximise g on [a, b] by golden-section search.
-fn refine_max(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> (f64, f64) {
+pub(super) fn refine_max(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> (f64, f64) {
     let r = (5f64.sqrt() - 1.0) / 2.0;
     let mut c = b - r * (b - a);
     let mut d = a + r * (b - a);
@@ -574,6 +625,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
         .and_then(|_| margin_without_load_c(s, lo, hi));
     let gm = gain_margin(&circuit, &sweep, dc.loop_gain);
     let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
+    let limits = super::limits::limits(s, &circuit, &sweep, dc_gain);
     let gain_error = if ideal_gain != 0.0 && ideal_gain.is_finite() {
         (dc_gain - ideal_gain) / ideal_gain
     } else {
@@ -599,6 +651,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
         noise_sources,
         sweep,
         dc,
+        limits,
     }
 }
 

@@ -30,21 +30,37 @@ pub enum Section {
     Loop,
     Impedance,
     Noise,
+    DcErrors,
+    SignalLimits,
 }
 
 impl Section {
-    pub const ALL: [Section; 4] = [
+    pub const ALL: [Section; 6] = [
         Section::Gain,
         Section::Loop,
         Section::Impedance,
         Section::Noise,
+        Section::DcErrors,
+        Section::SignalLimits,
     ];
+
+    /// Whether the text report shows the section for this stage: the DC
+    /// errors and signal limits only when their inputs are given.
+    pub fn shown_for(self, e: &Evaluation) -> bool {
+        match self {
+            Section::DcErrors => e.limits.dc_given,
+            Section::SignalLimits => e.limits.signal_given,
+            _ => true,
+        }
+    }
     pub fn title(self) -> &'static str {
         match self {
             Section::Gain => "Gain",
             Section::Loop => "Loop",
             Section::Impedance => "Impedance",
             Section::Noise => "Noise at the load",
+            Section::DcErrors => "DC errors",
+            Section::SignalLimits => "Signal limits",
         }
     }
 }
@@ -59,27 +75,40 @@ pub struct Shown {
     /// One of the key figures: `compare`, the workbench figures row and
     /// its A/B differences.
     pub key_figure: bool,
+    /// A column of the workbench figures row when a stage defines it.
+    pub row_when_given: bool,
 }
 
 const ALL_VIEWS: Shown = Shown {
     json: true,
     text: true,
     key_figure: true,
+    row_when_given: false,
 };
 const REPORT: Shown = Shown {
     json: true,
     text: true,
     key_figure: false,
+    row_when_given: false,
 };
 const TEXT_ONLY: Shown = Shown {
     json: false,
     text: true,
     key_figure: false,
+    row_when_given: false,
 };
 const KEY_ONLY: Shown = Shown {
     json: false,
     text: false,
     key_figure: true,
+    row_when_given: false,
+};
+
+const ROW_IF_GIVEN: Shown = Shown {
+    json: false,
+    text: false,
+    key_figure: false,
+    row_when_given: true,
 };
 
 /// One scalar result.
@@ -100,6 +129,9 @@ pub struct Figure {
     pub at_probe: bool,
     /// What the text report says when the figure is undefined.
     pub undefined: &'static str,
+    /// Defined only when its inputs are given: the text report leaves the
+    /// line out rather than print it undefined.
+    pub needs_input: bool,
     read: fn(&Evaluation) -> Option<f64>,
 }
 
@@ -141,6 +173,7 @@ const fn fig(
         closed_loop: false,
         at_probe: false,
         undefined: "none",
+        needs_input: false,
         read,
     }
 }
@@ -154,17 +187,24 @@ impl Figure {
         self.at_probe = true;
         self
     }
+    /// A DC-error or signal-limit figure: closed-loop, and left out of the
+    /// text report without its inputs.
+    const fn given(mut self) -> Figure {
+        self.needs_input = true;
+        self.closed_loop = true;
+        self
+    }
     const fn undefined(mut self, text: &'static str) -> Figure {
         self.undefined = text;
         self
     }
 }
 
-use Section::{Gain, Impedance, Loop, Noise};
+use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 16] = [
+pub static FIGURES: [Figure; 34] = [
     fig(
         "ideal_gain",
         "ideal gain",
@@ -309,11 +349,199 @@ pub static FIGURES: [Figure; 16] = [
         KEY_ONLY,
         |e| Some(e.warnings.len() as f64),
     ),
+    fig(
+        "out_bias_v",
+        "bias error at load",
+        "bias",
+        Si("V"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.out_bias_v,
+    )
+    .given(),
+    fig(
+        "out_offset_max_v",
+        "offset, worst case",
+        "offset",
+        Si("V"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.out_offset_max_v,
+    )
+    .given(),
+    fig(
+        "out_dc_v",
+        "DC at load",
+        "out DC",
+        Si("V"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.out_dc_v,
+    )
+    .given(),
+    fig(
+        "bias_balance_ohm",
+        "bias balance r",
+        "rbal",
+        Si("Ω"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.bias_balance_ohm,
+    )
+    .given(),
+    fig(
+        "int_dc_v",
+        "internal DC",
+        "int DC",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_dc_v,
+    )
+    .given(),
+    fig(
+        "int_peak_v",
+        "internal peak",
+        "int pk",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_peak_v,
+    )
+    .given(),
+    fig(
+        "int_low_v",
+        "internal low",
+        "int lo",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_low_v,
+    )
+    .given(),
+    fig(
+        "int_high_v",
+        "internal high",
+        "int hi",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_high_v,
+    )
+    .given(),
+    fig(
+        "headroom_low_v",
+        "headroom − rail",
+        "room−",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.headroom_low_v,
+    )
+    .given(),
+    fig(
+        "headroom_high_v",
+        "headroom + rail",
+        "room+",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.headroom_high_v,
+    )
+    .given(),
+    fig(
+        "cm_low_v",
+        "+ input low",
+        "cm lo",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.cm_low_v,
+    )
+    .given(),
+    fig(
+        "cm_high_v",
+        "+ input high",
+        "cm hi",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.cm_high_v,
+    )
+    .given(),
+    fig(
+        "cm_headroom_v",
+        "common-mode room",
+        "cm room",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.cm_headroom_v,
+    )
+    .given(),
+    fig(
+        "slew_needed_v_per_s",
+        "slew needed",
+        "slew",
+        Si("V/s"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.slew_needed_v_per_s,
+    )
+    .given(),
+    fig(
+        "fpbw_hz",
+        "full-power bw",
+        "fpbw",
+        Si("Hz"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.fpbw_hz,
+    )
+    .given(),
+    fig(
+        "iout_peak_a",
+        "output current",
+        "iout",
+        Si("A"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.iout_peak_a,
+    )
+    .given(),
+    fig(
+        "headroom_v",
+        "headroom",
+        "room",
+        Si("V"),
+        SignalLimits,
+        ROW_IF_GIVEN,
+        |e| {
+            let l = &e.limits;
+            Some(l.headroom_low_v?.min(l.headroom_high_v?))
+        },
+    )
+    .given(),
+    fig(
+        "offset_v",
+        "offset",
+        "offset",
+        Si("V"),
+        DcErrors,
+        ROW_IF_GIVEN,
+        |e| e.limits.out_offset_max_v,
+    )
+    .given(),
 ];
 
 /// The key figures, in order.
 pub fn key_figures() -> impl Iterator<Item = &'static Figure> {
     FIGURES.iter().filter(|f| f.shown.key_figure)
+}
+
+/// The figures the workbench row adds when a stage defines them.
+pub fn row_figures() -> impl Iterator<Item = &'static Figure> {
+    FIGURES.iter().filter(|f| f.shown.row_when_given)
 }
 
 /// The figure with this key.

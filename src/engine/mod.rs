@@ -9,6 +9,8 @@ pub mod analysis;
 pub mod eseries;
 pub mod figures;
 pub mod filetext;
+pub mod limit_rules;
+pub mod limits;
 pub mod netlist;
 pub mod params;
 pub mod scenario;

@@ -100,7 +100,13 @@ pub struct Netlist {
     elements: Vec<Element>,
     /// How the source EMF drives the stage.
     pub drive: Drive,
-    en_row: usize,
+    /// The branch of the voltage generator in series with the + input
+    /// (noise and offset).
+    pub en_row: usize,
+    /// The + and − pins and the amplifier's output pin.
+    pub inp: Option<usize>,
+    pub inn: Option<usize>,
+    pub amp_node: Option<usize>,
     /// The unknown whose equation carries the controlled source: its
     /// branch row (ideal output) or the output node (Norton form).
     pub amp_row: usize,
@@ -352,8 +358,27 @@ impl Builder {
 impl Netlist {
     /// The stage with the scenario's op-amp model, or around a nullor.
     pub fn build(s: &Scenario, model: AmpModel) -> Netlist {
+        Netlist::build_with(s, model, parts(s, model))
+    }
+
+    /// The stage with a resistor `r` added in series with the + input
+    /// (from the + pin to ground in an inverting stage): the bias-current
+    /// balance resistor.
+    pub fn build_balanced(s: &Scenario, r: f64) -> Netlist {
         use Pin::*;
-        let parts = parts(s, model);
+        let parts = parts(s, AmpModel::Real)
+            .into_iter()
+            .map(|p| match p {
+                Part::Wire(Term, InP) => Part::Resistor(Term, InP, r, None),
+                Part::Wire(InP, Gnd) => Part::Resistor(InP, Gnd, r, None),
+                other => other,
+            })
+            .collect();
+        Netlist::build_with(s, AmpModel::Real, parts)
+    }
+
+    fn build_with(s: &Scenario, model: AmpModel, parts: Vec<Part>) -> Netlist {
+        use Pin::*;
         let (index, count) = number_nodes(&parts);
         let node = |p: Pin| index[p as usize];
         let kt = BOLTZMANN * (s.temp_c + 273.15);
@@ -393,6 +418,9 @@ impl Netlist {
             en_row,
             amp_row,
             en_nodes: (node(InP), node(InPi)),
+            inp: node(InP),
+            inn: node(InN),
+            amp_node: node(Amp),
             amp_out: node(Int),
             sense_p: node(InPi),
             sense_n: node(InN),
@@ -515,6 +543,21 @@ impl Netlist {
             if let Some(i) = self.sense_n {
                 m[r][i] += a;
             }
+        }
+    }
+
+    /// The internal output V(int) = A(s)·(V(+) − V(−)) of a solution.
+    pub fn int_v(&self, s: C64, x: &[C64]) -> C64 {
+        -self.open_loop(s) * self.minus_vd(x)
+    }
+
+    /// The current out of the amplifier (through ro) of a solution: in
+    /// Norton form (V(int) − V(amp))/ro, else the output branch's current.
+    pub fn amp_current(&self, s: C64, x: &[C64]) -> C64 {
+        if self.inv_ro > 0.0 {
+            (self.int_v(s, x) - Self::node_v(x, self.amp_node)) * self.inv_ro
+        } else {
+            -x[self.amp_row]
         }
     }
 

@@ -7,7 +7,7 @@
 //! to [`PARAMS`]. Nothing else needs to know.
 
 use super::eseries::{Series, CAPACITOR_SERIES};
-use super::scenario::{FieldProblem, Scenario, Topology};
+use super::scenario::{FieldProblem, Scenario, Supply, Topology};
 use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -16,6 +16,7 @@ pub enum Group {
     Stage,
     Amplifier,
     SourceLoad,
+    SupplySignal,
     Environment,
 }
 
@@ -25,6 +26,7 @@ impl Group {
             Group::Stage => "Stage",
             Group::Amplifier => "Amplifier",
             Group::SourceLoad => "Source and load",
+            Group::SupplySignal => "Supply and signal",
             Group::Environment => "Environment",
         }
     }
@@ -154,6 +156,18 @@ pub const VNOISE: (f64, f64) = (1.0e-12, 1.0e-3);
 pub const INOISE: (f64, f64) = (1.0e-18, 1.0e-6);
 pub const TOLERANCE: (f64, f64) = (1.0e-5, 0.5);
 pub const TEMP_C: (f64, f64) = (-273.15, 500.0);
+/// Signal limits (README "Accepted ranges"). A range that starts at 0
+/// takes 0 as a plain value; a signed one takes either sign.
+pub const VOS: (f64, f64) = (0.0, 1.0);
+pub const VOS_DRIFT: (f64, f64) = (0.0, 1.0e-3);
+pub const IB: (f64, f64) = (-1.0e-2, 1.0e-2);
+pub const IOS: (f64, f64) = (0.0, 1.0e-2);
+pub const SLEW: (f64, f64) = (1.0, 1.0e12);
+pub const SWING: (f64, f64) = (0.0, 50.0);
+pub const CM: (f64, f64) = (-50.0, 50.0);
+pub const IOUT: (f64, f64) = (1.0e-6, 100.0);
+pub const VOLTS: (f64, f64) = (-500.0, 500.0);
+pub const PEAK: (f64, f64) = (0.0, 500.0);
 /// The widest band, in decades.
 pub const MAX_BAND_DECADES: f64 = 15.0;
 
@@ -214,12 +228,12 @@ impl Param {
     }
 }
 
-use Group::{Amplifier, Environment, SourceLoad, Stage};
+use Group::{Amplifier, Environment, SourceLoad, Stage, SupplySignal};
 use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 23] = [
+pub static PARAMS: [Param; 37] = [
     entry(
         "stage.topology",
         "topology",
@@ -420,6 +434,112 @@ pub static PARAMS: [Param; 23] = [
     )
     .starting(|_| 10.0),
     entry(
+        "amp.vos",
+        "vos",
+        "V",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        VOS,
+        number!(opt amp.vos),
+    )
+    .starting(|_| 1e-3),
+    entry(
+        "amp.vos_drift",
+        "vos drift",
+        "V/°C",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        VOS_DRIFT,
+        number!(opt amp.vos_drift),
+    )
+    .starting(|_| 1e-6),
+    entry(
+        "amp.ib",
+        "ib",
+        "A",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        IB,
+        number!(opt amp.ib),
+    )
+    .starting(|_| 10e-9),
+    entry(
+        "amp.ios",
+        "ios",
+        "A",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        IOS,
+        number!(opt amp.ios),
+    )
+    .starting(|_| 1e-9),
+    entry(
+        "amp.slew",
+        "slew",
+        "V/s",
+        Amplifier,
+        OneTwoFive,
+        ZeroIsAbsent,
+        SLEW,
+        number!(opt amp.slew),
+    )
+    .starting(|_| 1e6),
+    entry(
+        "amp.swing_neg",
+        "swing −",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        SWING,
+        number!(opt amp.swing_neg),
+    ),
+    entry(
+        "amp.swing_pos",
+        "swing +",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        SWING,
+        number!(opt amp.swing_pos),
+    ),
+    entry(
+        "amp.cm_neg",
+        "cm −",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        CM,
+        number!(opt amp.cm_neg),
+    ),
+    entry(
+        "amp.cm_pos",
+        "cm +",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        CM,
+        number!(opt amp.cm_pos),
+    ),
+    entry(
+        "amp.iout",
+        "iout",
+        "A",
+        Amplifier,
+        OneTwoFive,
+        ZeroIsAbsent,
+        IOUT,
+        number!(opt amp.iout),
+    )
+    .starting(|_| 20e-3),
+    entry(
         "source.r",
         "source r",
         "Ω",
@@ -451,6 +571,61 @@ pub static PARAMS: [Param; 23] = [
         number!(opt load.c),
     )
     .starting(|_| 100e-12),
+    entry(
+        "supply.neg",
+        "rail −",
+        "V",
+        SupplySignal,
+        Linear(0.5),
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.supply.map(|x| x.neg),
+            set: |s, v| match v {
+                Some(x) => s.supply.get_or_insert_with(Supply::default).neg = x,
+                None => s.supply = None,
+            },
+        },
+    )
+    .starting(|_| -15.0),
+    entry(
+        "supply.pos",
+        "rail +",
+        "V",
+        SupplySignal,
+        Linear(0.5),
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.supply.map(|x| x.pos),
+            set: |s, v| match v {
+                Some(x) => s.supply.get_or_insert_with(Supply::default).pos = x,
+                None => s.supply = None,
+            },
+        },
+    )
+    .starting(|_| 15.0),
+    entry(
+        "source.dc",
+        "source dc",
+        "V",
+        SupplySignal,
+        Linear(0.1),
+        Optional,
+        VOLTS,
+        number!(opt source.dc),
+    ),
+    entry(
+        "source.peak",
+        "peak",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        PEAK,
+        number!(opt source.peak),
+    )
+    .starting(|_| 1.0),
     entry(
         "temp_c",
         "temp",
@@ -688,8 +863,8 @@ impl Param {
             Resistor => s.stage.series.next_below(v),
             Capacitor if up => CAPACITOR_SERIES.next_above(v),
             Capacitor => CAPACITOR_SERIES.next_below(v),
-            Linear(d) if up => v + d,
-            Linear(d) => v - d,
+            Linear(d) if up => round_nano(v + d),
+            Linear(d) => round_nano(v - d),
             List(list) if up => list.iter().copied().find(|t| *t > v * 1.0001).unwrap_or(v),
             List(list) => list
                 .iter()
@@ -770,18 +945,20 @@ impl Param {
             return false;
         }
         match self.stepping {
+            // A range starting at 0 has no low end to be near: 0 is a
+            // plain value there.
             Linear(_) => {
                 let span = hi - lo;
-                v < lo + 0.1 * span || v > hi - 0.1 * span
+                (lo != 0.0 && v < lo + 0.1 * span) || v > hi - 0.1 * span
             }
-            _ => (lo > 0.0 && v < lo * 10.0) || v > hi / 10.0,
+            _ => (lo > 0.0 && v < lo * 10.0) || (lo < 0.0 && v < lo / 10.0) || v > hi / 10.0,
         }
     }
 }
 
 /// The rules between fields, after each field's own check.
 fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
-    let mut p = Vec::new();
+    let mut p = supply_checks(s);
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {
         if hi <= lo {
@@ -800,6 +977,42 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
         }
     }
     p
+}
+
+/// The rails in order, and room between them for the output and the
+/// input common-mode range.
+fn supply_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let Some(Supply { neg, pos }) = s.supply else {
+        return Vec::new();
+    };
+    let problem = |field: &str, message: String| {
+        vec![FieldProblem {
+            field: field.into(),
+            message,
+        }]
+    };
+    if neg >= pos {
+        return problem(
+            "supply.neg",
+            format!("{neg} (negative rail) must be below the positive rail {pos}"),
+        );
+    }
+    let a = &s.amp;
+    let (sn, sp) = (a.swing_neg.unwrap_or(0.0), a.swing_pos.unwrap_or(0.0));
+    if neg + sn >= pos - sp {
+        return problem(
+            "amp.swing_neg",
+            format!("swing {sn} + {sp} leaves no output range between the rails {neg} and {pos}"),
+        );
+    }
+    let (cn, cp) = (a.cm_neg.unwrap_or(0.0), a.cm_pos.unwrap_or(0.0));
+    if neg + cn >= pos - cp {
+        return problem(
+            "amp.cm_neg",
+            format!("common-mode limits {cn} and {cp} leave no input range between the rails {neg} and {pos}"),
+        );
+    }
+    Vec::new()
 }
 
 /// Every problem of a scenario, in file order.
@@ -828,13 +1041,21 @@ pub fn field_list(s: &Scenario) -> Vec<(&'static str, String)> {
     out
 }
 
+/// A sum of steps without the binary fraction's tail (1.5 + 0.1 = 1.6).
+fn round_nano(v: f64) -> f64 {
+    (v * 1e9).round() / 1e9
+}
+
 fn pct(f: f64) -> String {
     format!("{}%", fmt_eng_sig(f * 100.0, "", 3))
 }
 
 /// Next value of the 1-2-5 sequence above or below `v`.
 pub fn one_two_five(v: f64, up: bool) -> f64 {
-    if v <= 0.0 || !v.is_finite() {
+    if v < 0.0 {
+        return -one_two_five(-v, !up);
+    }
+    if v == 0.0 || !v.is_finite() {
         return v;
     }
     let d = v.log10().floor();

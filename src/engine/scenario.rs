@@ -56,7 +56,7 @@ pub struct Stage {
     pub tolerance: f64,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Amp {
     pub a0: f64,
@@ -74,12 +74,67 @@ pub struct Amp {
     pub inoise: f64,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub inoise_corner: Option<f64>,
+    /// Input offset voltage magnitude (V), sign unknown, in series with
+    /// the + input where the voltage noise sits.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub vos: Option<f64>,
+    /// Offset drift magnitude (V/°C) away from 25 °C.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub vos_drift: Option<f64>,
+    /// Input bias current (A, signed): positive flows into each pin.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ib: Option<f64>,
+    /// Input offset current magnitude |ib+ − ib−| (A), sign unknown.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ios: Option<f64>,
+    /// Slew rate (V/s); absent or 0 = no limit.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub slew: Option<f64>,
+    /// How close the internal output gets to the negative / positive rail (V).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub swing_neg: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub swing_pos: Option<f64>,
+    /// Where the input common-mode range ends inside the negative /
+    /// positive rail (V; negative = beyond the rail).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cm_neg: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cm_pos: Option<f64>,
+    /// Output current limit magnitude (A); absent or 0 = no limit.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub iout: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Source {
     pub r: f64,
+    /// DC level of the source EMF (V).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub dc: Option<f64>,
+    /// Peak amplitude of the signal at the source EMF (V): the level the
+    /// signal limits are checked at.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub peak: Option<f64>,
+}
+
+/// The supply rails (V), neg below pos.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Supply {
+    pub neg: f64,
+    pub pos: f64,
+}
+
+impl Default for Supply {
+    /// What a rail typed into an absent supply starts from.
+    fn default() -> Supply {
+        Supply {
+            neg: -15.0,
+            pos: 15.0,
+        }
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -101,6 +156,8 @@ pub struct Scenario {
     pub amp: Amp,
     pub source: Source,
     pub load: Load,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub supply: Option<Supply>,
     pub temp_c: f64,
     pub band: (f64, f64),
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -372,6 +429,7 @@ fn outer_path(outer: &str) -> String {
         "Amp" => "amp".into(),
         "Source" => "source".into(),
         "Load" => "load".into(),
+        "Supply" => "supply".into(),
         _ => String::new(),
     }
 }

@@ -22,6 +22,12 @@ pub struct Traces {
     pub zin: Vec<(f64, f64)>,
     /// log10 of the density in V/√Hz.
     pub noise: Vec<(f64, f64)>,
+    /// The output envelope at the internal output, log10 of volts peak:
+    /// the signal's need and its swing, slew and current ceilings.
+    pub env_need: Vec<(f64, f64)>,
+    pub env_swing: Vec<(f64, f64)>,
+    pub env_slew: Vec<(f64, f64)>,
+    pub env_current: Vec<(f64, f64)>,
 }
 
 impl Traces {
@@ -46,6 +52,33 @@ impl Traces {
                     .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
             ),
             noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
+            ..Traces::envelope(a)
+        }
+    }
+
+    /// The envelope traces (empty without source.peak).
+    fn envelope(a: &Analysis) -> Traces {
+        let l = &a.limits;
+        let env = &l.envelope;
+        let lf = |f: f64| f.log10();
+        let ceiling = |pick: fn(&super::limits::EnvelopePoint) -> Option<f64>| {
+            finite(
+                env.iter()
+                    .filter_map(|e| pick(e).map(|v| (lf(e.f_hz), v.log10()))),
+            )
+        };
+        let swing = match (l.swing_ceiling_v, env.first(), env.last()) {
+            (Some(v), Some(a), Some(b)) => {
+                finite([(lf(a.f_hz), v.log10()), (lf(b.f_hz), v.log10())].into_iter())
+            }
+            _ => Vec::new(),
+        };
+        Traces {
+            env_need: finite(env.iter().map(|e| (lf(e.f_hz), e.need.log10()))),
+            env_swing: swing,
+            env_slew: ceiling(|e| e.slew_ceiling),
+            env_current: ceiling(|e| e.current_ceiling),
+            ..Traces::default()
         }
     }
 }

@@ -40,10 +40,15 @@ pub enum Code {
     HeavyOutputLoad,
     OffSeries,
     ValueRange,
+    OutputSwing,
+    InputRange,
+    Slew,
+    OutputCurrent,
+    DcOffset,
 }
 
 impl Code {
-    pub const ALL: [Code; 10] = [
+    pub const ALL: [Code; 15] = [
         Code::InputInvalid,
         Code::PhaseMargin,
         Code::NoCrossover,
@@ -54,6 +59,11 @@ impl Code {
         Code::HeavyOutputLoad,
         Code::OffSeries,
         Code::ValueRange,
+        Code::OutputSwing,
+        Code::InputRange,
+        Code::Slew,
+        Code::OutputCurrent,
+        Code::DcOffset,
     ];
 
     /// The stable kebab-case name.
@@ -69,6 +79,11 @@ impl Code {
             Code::HeavyOutputLoad => "heavy-output-load",
             Code::OffSeries => "off-series",
             Code::ValueRange => "value-range",
+            Code::OutputSwing => "output-swing",
+            Code::InputRange => "input-range",
+            Code::Slew => "slew",
+            Code::OutputCurrent => "output-current",
+            Code::DcOffset => "dc-offset",
         }
     }
 }
@@ -112,6 +127,17 @@ pub const PEAKING_SEVERE_DB: f64 = 3.0;
 pub const HEAVY_LOAD_OHM: f64 = 300.0;
 /// Resistors' share of the output noise power above which they "dominate".
 pub const RESISTOR_NOISE_SHARE: f64 = 0.5;
+/// Output headroom below this share of the supply span is a warning
+/// (common practice: rails and swing vary with load and temperature).
+pub const HEADROOM_WARN_SHARE: f64 = 0.05;
+/// Slew need above this share of the slew rate is a warning (common
+/// practice: distortion rises well before the slew limit).
+pub const SLEW_WARN_SHARE: f64 = 0.7;
+/// Output current above this share of the limit is a warning (common practice).
+pub const IOUT_WARN_SHARE: f64 = 0.8;
+/// Worst-case output offset above this share of the output signal's
+/// peak is a warning (common practice).
+pub const OFFSET_WARN_SHARE: f64 = 0.01;
 
 /// What a rule sees: the scenario, its figures and its field problems.
 pub struct Context<'a> {
@@ -135,6 +161,11 @@ pub const RULES: &[Rule] = &[
     heavy_output_load,
     off_series,
     value_range,
+    super::limit_rules::output_swing,
+    super::limit_rules::input_range,
+    super::limit_rules::slew,
+    super::limit_rules::output_current,
+    super::limit_rules::dc_offset,
 ];
 
 /// All warnings for a scenario and its analysis, worst first.
@@ -147,7 +178,7 @@ pub fn check(cx: &Context) -> Vec<Warning> {
     w
 }
 
-fn push(out: &mut Vec<Warning>, code: Code, severity: Severity, text: String) {
+pub(super) fn push(out: &mut Vec<Warning>, code: Code, severity: Severity, text: String) {
     out.push(Warning {
         code,
         severity,

@@ -21,6 +21,7 @@ pub enum View {
     Response,
     Loop,
     Noise,
+    Envelope,
 }
 
 impl View {
@@ -28,7 +29,8 @@ impl View {
         match self {
             View::Response => View::Loop,
             View::Loop => View::Noise,
-            View::Noise => View::Response,
+            View::Noise => View::Envelope,
+            View::Envelope => View::Response,
         }
     }
     /// The view's name in the SVG figures' view table.
@@ -37,6 +39,7 @@ impl View {
             View::Response => "response",
             View::Loop => "loop",
             View::Noise => "noise",
+            View::Envelope => "envelope",
         }
     }
     pub fn title(self) -> &'static str {
@@ -44,6 +47,7 @@ impl View {
             View::Response => "Closed-loop response",
             View::Loop => "Loop gain",
             View::Noise => "Output noise density",
+            View::Envelope => "Output envelope",
         }
     }
 }
@@ -683,7 +687,23 @@ impl App {
         };
         self.archetype = i;
         self.change("amplifier", |s| {
-            s.amp = arch.amp.clone();
+            // The archetypes give no signal limits: the stage keeps its own.
+            let old = std::mem::replace(&mut s.amp, arch.amp.clone());
+            let a = &mut s.amp;
+            for (new, was) in [
+                (&mut a.vos, old.vos),
+                (&mut a.vos_drift, old.vos_drift),
+                (&mut a.ib, old.ib),
+                (&mut a.ios, old.ios),
+                (&mut a.slew, old.slew),
+                (&mut a.swing_neg, old.swing_neg),
+                (&mut a.swing_pos, old.swing_pos),
+                (&mut a.cm_neg, old.cm_neg),
+                (&mut a.cm_pos, old.cm_pos),
+                (&mut a.iout, old.iout),
+            ] {
+                *new = new.or(was);
+            }
             Ok(())
         });
         self.info(format!(

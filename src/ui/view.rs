@@ -3,7 +3,7 @@
 use super::app::{App, Mode, Prompt, Slot, View};
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
-use crate::engine::figures::{key_figures, Figure, Reading};
+use crate::engine::figures::{key_figures, row_figures, Figure, Reading};
 use crate::engine::params::Group;
 use crate::engine::values::fmt_eng;
 use crate::engine::Severity;
@@ -72,6 +72,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     match app.view {
         View::Response | View::Loop => bode(app, upper, buf),
         View::Noise => noise_plot(app, upper, buf),
+        View::Envelope => envelope_plot(app, upper, buf),
     }
     impedance_plot(app, lower, buf);
     figures_table(app, figures, buf);
@@ -443,6 +444,83 @@ fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     plot(app, tr, x, y, marks).render(inner, buf);
 }
 
+/// The output envelope at the internal output across the band: the
+/// signal's need (A solid, B dotted) under the swing, slew and current
+/// ceilings, with a mark where the need first passes one.
+fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let slot = app.slot();
+    let (s, l) = (&slot.scenario, &slot.analysis.limits);
+    let title = format!(" {} V{} ", app.view.title(), legend(app));
+    let bottom = match (l.int_peak_v, l.envelope_limit) {
+        (None, _) => " give source peak for the envelope ".to_string(),
+        (Some(p), Some((f, what))) => format!(
+            " peak {}: passes the {what} ceiling at {} ",
+            compact(p, "V"),
+            compact(f, "Hz")
+        ),
+        (Some(p), None) => format!(" peak {}: under every ceiling ", compact(p, "V")),
+    };
+    let b = block(app, title).title_bottom(Line::styled(bottom, app.theme.dim));
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let x = (
+        (s.band.0.log10() - 0.5).max(-2.0),
+        (s.band.1.log10() + 0.5).min(12.0),
+    );
+    let mut tr = traces(
+        app,
+        |s| &s.traces.env_need,
+        Some("need"),
+        Joining::Continuous,
+    );
+    type Pick = fn(&Slot) -> &[(f64, f64)];
+    let ceilings: [(Pick, &str, f64); 3] = [
+        (|s| &s.traces.env_swing, "swing", 0.1),
+        (|s| &s.traces.env_slew, "slew", 0.45),
+        (|s| &s.traces.env_current, "current", 0.75),
+    ];
+    for (pick, name, at) in ceilings {
+        for (i, sl) in app.slots.iter().enumerate() {
+            tr.push(Trace {
+                points: pick(sl),
+                style: app.theme.trace_2,
+                stroke: if i == 1 {
+                    Stroke::Dotted
+                } else {
+                    Stroke::Solid
+                },
+                label: (i == app.active).then(|| name.to_string()),
+                label_at: at,
+                joining: Joining::Continuous,
+            });
+        }
+    }
+    let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
+    let (lo, hi) = if lo.is_finite() {
+        (lo.max(hi - 6.0), hi)
+    } else {
+        (-1.0, 1.0)
+    };
+    let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
+    let mut marks = vec![
+        VMark {
+            x: s.band.0.log10(),
+            label: "band".into(),
+        },
+        VMark {
+            x: s.band.1.log10(),
+            label: "band".into(),
+        },
+    ];
+    if let Some((f, _)) = l.envelope_limit {
+        marks.push(VMark {
+            x: f.log10(),
+            label: "!".into(),
+        });
+    }
+    plot(app, tr, x, y, marks).render(inner, buf);
+}
+
 fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let ab = if app.slots.len() > 1 {
         legend(app)
@@ -492,14 +570,12 @@ fn reading(f: &Figure, s: &Slot) -> Reading {
     }
 }
 
-fn figure_cells(s: &Slot) -> Vec<String> {
-    key_figures()
-        .map(|f| f.cell(reading(f, s), false))
-        .collect()
+fn figure_cells(s: &Slot, cols: &[&Figure]) -> Vec<String> {
+    cols.iter().map(|f| f.cell(reading(f, s), false)).collect()
 }
 
-fn delta_cells(a: &Slot, b: &Slot) -> Vec<String> {
-    key_figures()
+fn delta_cells(a: &Slot, b: &Slot, cols: &[&Figure]) -> Vec<String> {
+    cols.iter()
         .map(|f| match (reading(f, a), reading(f, b)) {
             (Reading::Value(x), Reading::Value(y)) => f.cell(Reading::Value(y - x), true),
             _ => "—".into(),
@@ -507,30 +583,61 @@ fn delta_cells(a: &Slot, b: &Slot) -> Vec<String> {
         .collect()
 }
 
+/// The key figures, then the figures a stage defines only with its
+/// inputs (headroom, offset) when some stage has them.
+fn figure_columns(app: &App) -> (Vec<&'static Figure>, usize) {
+    let mut cols: Vec<&'static Figure> = key_figures().collect();
+    let fixed = cols.len();
+    cols.extend(row_figures().filter(|f| {
+        app.slots
+            .iter()
+            .any(|s| matches!(f.read(&s.analysis), Reading::Value(_)))
+    }));
+    (cols, fixed)
+}
+
 fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let probe = compact(app.probe_hz, "");
-    let header: Vec<String> = key_figures()
+    let (mut cols, fixed) = figure_columns(app);
+    let widths = loop {
+        let header: Vec<String> = cols
+            .iter()
+            .map(|f| f.short.replace("{f}", &probe))
+            .collect();
+        let mut rows: Vec<Vec<String>> = app.slots.iter().map(|s| figure_cells(s, &cols)).collect();
+        if app.slots.len() > 1 {
+            rows.push(delta_cells(&app.slots[0], &app.slots[1], &cols));
+        }
+        let widths: Vec<usize> = (0..header.len())
+            .map(|c| {
+                rows.iter()
+                    .map(|cells| cells[c].chars().count())
+                    .chain(std::iter::once(header[c].chars().count()))
+                    .max()
+                    .unwrap_or(4)
+            })
+            .collect();
+        let total: usize = 2 + widths.iter().map(|w| w + 1).sum::<usize>();
+        // The optional columns go first when the row is too wide.
+        if total <= area.width as usize || cols.len() == fixed {
+            break widths;
+        }
+        cols.pop();
+    };
+    let header: Vec<String> = cols
+        .iter()
         .map(|f| f.short.replace("{f}", &probe))
         .collect();
     let mut rows: Vec<(&str, Vec<String>)> = app
         .slots
         .iter()
         .enumerate()
-        .map(|(i, s)| (App::slot_label(i), figure_cells(s)))
+        .map(|(i, s)| (App::slot_label(i), figure_cells(s, &cols)))
         .collect();
     if app.slots.len() > 1 {
-        rows.push(("Δ", delta_cells(&app.slots[0], &app.slots[1])));
+        rows.push(("Δ", delta_cells(&app.slots[0], &app.slots[1], &cols)));
     }
-    let widths: Vec<usize> = (0..header.len())
-        .map(|c| {
-            rows.iter()
-                .map(|(_, cells)| cells[c].chars().count())
-                .chain(std::iter::once(header[c].chars().count()))
-                .max()
-                .unwrap_or(4)
-        })
-        .collect();
     let mut lines = Vec::new();
     let mut head = vec![Span::styled("  ", t.dim)];
     for (h, w) in header.iter().zip(&widths) {

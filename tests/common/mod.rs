@@ -36,9 +36,15 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             vnoise_corner: None,
             inoise: 0.0,
             inoise_corner: None,
+            ..Amp::default()
         },
-        source: Source { r: 0.0 },
+        source: Source {
+            r: 0.0,
+            dc: None,
+            peak: None,
+        },
         load: Load { r: None, c: None },
+        supply: None,
         temp_c: 25.0,
         band: (10.0, 100.0e3),
         notes: None,
