@@ -23,8 +23,9 @@ fn scenario_file(name: &str, text: &str) -> (std::path::PathBuf, std::path::Path
 }
 
 /// Every top-level key the README's JSON section lists.
-const KEYS: [&str; 19] = [
+const KEYS: [&str; 20] = [
     "title",
+    "nominal_gain",
     "ideal_gain",
     "dc_gain",
     "gain_error",
@@ -69,6 +70,7 @@ fn demo_json_has_every_key() {
     assert_eq!(v["title"], "Bridge sensor front-end, gain 11");
     // Demo: gain 1 + 10k/1k = 11 (textbook non-inverting gain).
     assert!((v["ideal_gain"].as_f64().unwrap() - 11.0).abs() < 1e-9);
+    assert_eq!(v["nominal_gain"].as_f64(), Some(11.0));
     assert!(v["points"].as_array().unwrap().is_empty());
     // The demo's band is 10 Hz … 100 kHz (assets/demo.ron, as the README shows).
     assert_eq!(v["band_hz"], serde_json::json!([10.0, 100000.0]));

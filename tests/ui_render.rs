@@ -324,3 +324,22 @@ fn follower_rf_can_be_a_resistor_or_a_wire() {
     type_value(&mut a, "wire");
     assert_eq!(a.slot().scenario.stage.rf, None);
 }
+
+#[test]
+fn response_view_states_the_three_gains() {
+    // A gain-2 driver (rf = rg) with riso 100 Ω into 1 kΩ: nominal
+    // 1 + rf/rg = 2, at the load 2·1000/1100 = 1.8182 (voltage divider),
+    // and the load-divider warning on screen.
+    let mut s = scenario::demo();
+    s.stage.rf = Some(1e3);
+    s.stage.riso = Some(100.0);
+    s.load.r = Some(1e3);
+    let a = app(vec![s]);
+    let text = screen(&a, 80, 24);
+    let line = line_with(&text, "nominal");
+    assert!(
+        line.contains("nominal 2 · network 1.8182 · gain 1.81"),
+        "{text}"
+    );
+    assert!(text.contains("load-divider"), "{text}");
+}

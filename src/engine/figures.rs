@@ -164,11 +164,20 @@ use Section::{Gain, Impedance, Loop, Noise};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 16] = [
+pub static FIGURES: [Figure; 17] = [
+    fig(
+        "nominal_gain",
+        "nominal gain",
+        "nominal",
+        Ratio,
+        Gain,
+        REPORT,
+        |e| Some(e.nominal_gain),
+    ),
     fig(
         "ideal_gain",
-        "ideal gain",
-        "ideal",
+        "network gain",
+        "network",
         Ratio,
         Gain,
         REPORT,

@@ -3,7 +3,7 @@
 use super::app::{App, Mode, Prompt, Slot, View};
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, LogPlot, Trace, VMark};
-use crate::engine::figures::{key_figures, Figure, Reading};
+use crate::engine::figures::{key_figures, Figure, Reading, Section, Unit};
 use crate::engine::params::Group;
 use crate::engine::values::fmt_eng;
 use crate::engine::Severity;
@@ -342,7 +342,10 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let a = &app.slot().analysis;
     let loop_view = app.view == View::Loop;
     let title = format!(" {}{} ", app.view.title(), legend(app));
-    let b = block(app, title);
+    let mut b = block(app, title);
+    if !loop_view {
+        b = b.title_bottom(Line::styled(gains_line(app), app.theme.dim));
+    }
     let inner = b.inner(area);
     b.render(area, buf);
     let [mag, phase] = Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner);
@@ -396,6 +399,39 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         });
     }
     plot(app, ph_tr, x, y, marks).render(phase, buf);
+}
+
+/// The stage's gains, from the figure table's gain ratios: nominal, with
+/// the passive network, and the DC gain.
+fn gains_line(app: &App) -> String {
+    let slot = app.slot();
+    let cells: Vec<String> = crate::engine::figures::FIGURES
+        .iter()
+        .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
+        .map(|f| {
+            let cell = f.cell(f.read(&slot.analysis), false);
+            format!("{} {}", f.short, trim_zeros(&cell))
+        })
+        .collect();
+    let who = if app.slots.len() > 1 {
+        format!("{} ", App::slot_label(app.active))
+    } else {
+        String::new()
+    };
+    format!(" {who}{} ", cells.join(" · "))
+}
+
+/// "11.0000" → "11", "10.9980" → "10.998"; other text unchanged.
+fn trim_zeros(cell: &str) -> String {
+    if cell.contains('.')
+        && cell
+            .chars()
+            .all(|c| c.is_ascii_digit() || "+-.".contains(c))
+    {
+        cell.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        cell.to_string()
+    }
 }
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
