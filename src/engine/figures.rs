@@ -390,9 +390,9 @@ impl Figure {
         match r {
             Reading::Value(v) if self.unit == Ratio && v != 0.0 => {
                 format!(
-                    "{} ({:.1} dB)",
+                    "{} ({} dB)",
                     self.number(v, false),
-                    20.0 * v.abs().log10()
+                    fixed(20.0 * v.abs().log10(), 1, false)
                 )
             }
             Reading::Value(v) => self.number(v, false),

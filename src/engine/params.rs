@@ -8,7 +8,7 @@
 
 use super::eseries::{Series, CAPACITOR_SERIES};
 use super::scenario::{FieldProblem, Scenario, Topology};
-use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, parse_value};
+use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -582,11 +582,11 @@ impl Param {
             Format::Eng => fmt_eng_sig(v, self.unit, 4).replace(' ', ""),
             Format::Percent => format!("±{}", pct(v)),
             Format::RatioDb => format!(
-                "{} ({:.0} dB)",
-                fmt_eng_sig(v, "", 3).replace(' ', ""),
-                20.0 * v.log10()
+                "{} ({} dB)",
+                fmt_plain(v, 3),
+                fmt_fixed(20.0 * v.log10(), 0)
             ),
-            Format::Celsius => format!("{} °C", fmt_eng_sig(v, "", 4)),
+            Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
         }
     }
 
@@ -829,7 +829,7 @@ pub fn field_list(s: &Scenario) -> Vec<(&'static str, String)> {
 }
 
 fn pct(f: f64) -> String {
-    format!("{}%", fmt_eng_sig(f * 100.0, "", 3))
+    format!("{}%", fmt_plain(f * 100.0, 3))
 }
 
 /// Next value of the 1-2-5 sequence above or below `v`.

@@ -337,7 +337,8 @@ fn load_divider(cx: &Context, w: &mut Vec<Warning>) {
         parts.join(" and ")
     };
     let text = format!(
-        "{why} change the gain from the nominal {nominal:.4} to {network:.4} ({:+.2} %),          more than the {:.2} % tolerance; take the feedback after riso or rescale rf/rg",
+        "{why} change the gain from the nominal {nominal:.4} to {network:.4} ({:+.2} %), \
+         more than the {:.2} % tolerance; take the feedback after riso or rescale rf/rg",
         change * 100.0,
         tol * 100.0
     );
