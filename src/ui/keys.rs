@@ -25,6 +25,8 @@ pub enum Action {
     PickArchetype,
     CopyToOther,
     SwitchSlot,
+    Undo,
+    EditTitle,
     Save,
     SaveAs,
     Open,
@@ -157,6 +159,20 @@ pub const KEYS: &[Binding] = &[
         hint: None,
     },
     Binding {
+        keys: &[code(KeyCode::Backspace)],
+        shown: "Backspace",
+        action: Action::Undo,
+        help: "take back the last change to this stage (again: put it back)",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('t')],
+        shown: "t",
+        action: Action::EditTitle,
+        help: "edit the stage's title",
+        hint: None,
+    },
+    Binding {
         keys: &[code(KeyCode::Tab), k('b')],
         shown: "Tab, b",
         action: Action::SwitchSlot,
@@ -210,11 +226,136 @@ pub const KEYS: &[Binding] = &[
     },
 ];
 
+/// What a key does in a text field (a value, the title, a path, a
+/// frequency).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FieldAction {
+    Apply,
+    Cancel,
+    Left,
+    Right,
+    Home,
+    End,
+    Backspace,
+    Delete,
+    Clear,
+    DeleteWord,
+}
+
+/// One key of a text field.
+#[derive(Debug, Clone, Copy)]
+pub struct FieldBinding {
+    pub keys: &'static [Key],
+    pub shown: &'static str,
+    pub action: FieldAction,
+    pub help: &'static str,
+}
+
+const fn ctrl(c: char) -> Key {
+    Key {
+        code: KeyCode::Char(c),
+        ctrl: true,
+    }
+}
+
+/// Every key of a text field, in help order. Other characters are typed;
+/// other control keys do nothing.
+pub const FIELD_KEYS: &[FieldBinding] = &[
+    FieldBinding {
+        keys: &[code(KeyCode::Enter)],
+        shown: "Enter",
+        action: FieldAction::Apply,
+        help: "apply",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Esc)],
+        shown: "Esc",
+        action: FieldAction::Cancel,
+        help: "cancel",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Left)],
+        shown: "←",
+        action: FieldAction::Left,
+        help: "cursor left (keeps the old value to edit)",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Right)],
+        shown: "→",
+        action: FieldAction::Right,
+        help: "cursor right",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Home)],
+        shown: "Home",
+        action: FieldAction::Home,
+        help: "cursor to the start",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::End)],
+        shown: "End",
+        action: FieldAction::End,
+        help: "cursor to the end",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Backspace)],
+        shown: "Backspace",
+        action: FieldAction::Backspace,
+        help: "delete before the cursor (the whole old value while it is offered)",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Delete)],
+        shown: "Del",
+        action: FieldAction::Delete,
+        help: "delete under the cursor",
+    },
+    FieldBinding {
+        keys: &[ctrl('u')],
+        shown: "Ctrl-U",
+        action: FieldAction::Clear,
+        help: "clear the field (the POSIX line-kill character)",
+    },
+    FieldBinding {
+        keys: &[ctrl('w')],
+        shown: "Ctrl-W",
+        action: FieldAction::DeleteWord,
+        help: "delete the word before the cursor (the POSIX word-erase character)",
+    },
+];
+
+/// What a key does in a text field: an editing action, a character to
+/// type, or nothing.
+pub enum FieldKey {
+    Edit(FieldAction),
+    Type(char),
+    Ignore,
+}
+
+pub fn field_key(ev: &KeyEvent) -> FieldKey {
+    if let Some(b) = FIELD_KEYS
+        .iter()
+        .find(|b| b.keys.iter().any(|k| k.matches(ev)))
+    {
+        return FieldKey::Edit(b.action);
+    }
+    let control = ev
+        .modifiers
+        .intersects(KeyModifiers::CONTROL | KeyModifiers::ALT);
+    match ev.code {
+        KeyCode::Char(c) if !control && !c.is_control() => FieldKey::Type(c),
+        _ => FieldKey::Ignore,
+    }
+}
+
 /// What the plots and marks mean, shown under the keys in the help.
 pub const LEGEND: &[(&str, &str)] = &[
     (
         "plots",
         "A solid, B dotted; -3dB and fc: f−3dB, loop crossover",
+    ),
+    (
+        "typing",
+        "typing replaces the old value; ← → Home End edit it; Ctrl-U clears",
     ),
     (
         "marks",

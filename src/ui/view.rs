@@ -1,6 +1,7 @@
 //! Drawing: reads the App, never changes it.
 
-use super::app::{App, Mode, Prompt, Slot, View};
+use super::app::{App, Mode, Slot, View};
+use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, LogPlot, Trace, VMark};
 use crate::engine::figures::{key_figures, Figure, Reading, Section, Unit};
@@ -131,6 +132,28 @@ fn asciify(area: Rect, buf: &mut ratatui::buffer::Buffer) {
     }
 }
 
+/// A text field: an offered old value underlined (typing replaces it),
+/// otherwise the text with the cursor cell in `cursor` style (`_` at the
+/// end).
+fn field_spans(
+    field: &Field,
+    base: ratatui::style::Style,
+    cursor: ratatui::style::Style,
+) -> Vec<Span<'static>> {
+    if field.offered() {
+        return vec![
+            Span::styled(field.text(), base.add_modifier(Modifier::UNDERLINED)),
+            Span::styled("_", cursor),
+        ];
+    }
+    let (before, at, after) = field.parts();
+    vec![
+        Span::styled(before, base),
+        Span::styled(at.map_or("_".to_string(), String::from), cursor),
+        Span::styled(after, base),
+    ]
+}
+
 fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
     Block::default()
         .borders(Borders::ALL)
@@ -210,19 +233,28 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         };
         let is_sel = p == app.selected;
         let row_style = if is_sel { t.selected } else { t.normal };
-        let value_text = match (&app.mode, is_sel) {
-            (Mode::Edit(buf), true) => format!("{buf}_"),
-            _ => value,
-        };
         if is_sel {
             selected_line = lines.len();
         }
-        lines.push(Line::from(vec![
+        let mut spans = vec![
             Span::styled(mark, if diff { t.differs } else { t.normal }),
             Span::styled(format!(" {:<10}", p.label), row_style),
-            Span::styled(format!("{value_text:<value_w$}"), row_style),
-            note,
-        ]));
+        ];
+        match (&app.mode, is_sel) {
+            (Mode::Edit(field), true) => {
+                let shown = field.text().chars().count() + 1;
+                spans.extend(field_spans(field, row_style, t.normal));
+                spans.push(Span::styled(
+                    " ".repeat(value_w.saturating_sub(shown)),
+                    row_style,
+                ));
+            }
+            _ => {
+                spans.push(Span::styled(format!("{value:<value_w$}"), row_style));
+                spans.push(note);
+            }
+        }
+        lines.push(Line::from(spans));
     }
     let h = inner.height as usize;
     let scroll = (selected_line + 1).saturating_sub(h);
@@ -646,21 +678,17 @@ fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let line = match &app.mode {
-        Mode::Edit(b) => Line::from(vec![
-            Span::styled(format!(" {} = ", app.selected.label), t.title),
-            Span::raw(format!("{b}_")),
-            Span::styled("   Enter applies · Esc cancels", t.dim),
-        ]),
+        Mode::Edit(b) => {
+            let mut spans = vec![Span::styled(format!(" {} = ", app.selected.label), t.title)];
+            spans.extend(field_spans(b, t.normal, t.selected));
+            spans.push(Span::styled(field_hint(b), t.dim));
+            Line::from(spans)
+        }
         Mode::Prompt(kind, b) => {
-            let label = match kind {
-                Prompt::SaveAs => "save as",
-                Prompt::Probe => "Zout at (Hz)",
-            };
-            Line::from(vec![
-                Span::styled(format!(" {label}: "), t.title),
-                Span::raw(format!("{b}_")),
-                Span::styled("   Enter · Esc cancels", t.dim),
-            ])
+            let mut spans = vec![Span::styled(format!(" {}: ", kind.label()), t.title)];
+            spans.extend(field_spans(b, t.normal, t.selected));
+            spans.push(Span::styled(field_hint(b), t.dim));
+            Line::from(spans)
         }
         _ => {
             let style = match app.status_kind {
@@ -671,6 +699,15 @@ fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
     };
     Paragraph::new(line).render(area, buf);
+}
+
+/// What the field keys do now, in a few words.
+fn field_hint(field: &Field) -> &'static str {
+    if field.offered() {
+        "   typing replaces · ← → edit · Enter applies · Esc cancels"
+    } else {
+        "   Enter applies · Esc cancels · Ctrl-U clears"
+    }
 }
 
 fn centered(area: Rect, w: u16, h: u16) -> Rect {
@@ -712,7 +749,7 @@ fn open_overlay(
     buf: &mut ratatui::buffer::Buffer,
     files: &[std::path::PathBuf],
     sel: usize,
-    typed: &str,
+    typed: &Field,
 ) {
     let h = (files.len() as u16 + 4).min(area.height.saturating_sub(2));
     let r = centered(area, 70, h);
@@ -723,10 +760,10 @@ fn open_overlay(
     );
     let inner = b.inner(r);
     b.render(r, buf);
-    let mut lines = vec![Line::from(vec![
-        Span::styled(" path: ", app.theme.title),
-        Span::raw(format!("{typed}_")),
-    ])];
+    let mut lines = vec![Line::from(vec![Span::styled(" path: ", app.theme.title)])];
+    lines[0]
+        .spans
+        .extend(field_spans(typed, app.theme.normal, app.theme.selected));
     let visible = inner.height.saturating_sub(1) as usize;
     let start = sel.saturating_sub(visible.saturating_sub(1));
     for (i, f) in files.iter().enumerate().skip(start).take(visible) {
