@@ -182,7 +182,7 @@ fn save_as_over_an_existing_file_asks_in_a_real_terminal() {
     wait_for(&s.0, "Parameters").expect("workbench starts");
     tmux(&["send-keys", "-t", &s.0, "l"]);
     wait_for(&s.0, "11kΩ").expect("rf stepped");
-    tmux(&["send-keys", "-t", &s.0, "W"]);
+    tmux(&["send-keys", "-t", &s.0, "S"]);
     wait_for(&s.0, "save as").expect("prompt");
     for _ in 0..10 {
         tmux(&["send-keys", "-t", &s.0, "BSpace"]);
@@ -215,12 +215,12 @@ fn external_change_before_save_asks_in_a_real_terminal() {
         loopwright::engine::scenario::DEMO_RON
     );
     std::fs::write(d.join("s.ron"), &theirs).unwrap();
-    tmux(&["send-keys", "-t", &s.0, "w"]);
+    tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "changed by another program").expect("asks");
     tmux(&["send-keys", "-t", &s.0, "Escape"]);
     wait_for(&s.0, "not saved").expect("kept");
     assert_eq!(std::fs::read_to_string(d.join("s.ron")).unwrap(), theirs);
-    tmux(&["send-keys", "-t", &s.0, "w"]);
+    tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "changed by another program").expect("asks again");
     tmux(&["send-keys", "-t", &s.0, "y"]);
     wait_for(&s.0, "saved").expect("saved");

@@ -48,16 +48,22 @@ fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
     let mut a = app(vec![scenario::demo()]);
     let before = screen(&a, 100, 30);
     assert!(line_with(&before, " rf ").contains("10kΩ"), "{before}");
-    let gain_before = line_with(&before, "A ").to_string();
+    let figures_row = |s: &str| {
+        s.lines()
+            .find(|l| l.starts_with("A "))
+            .unwrap_or("")
+            .to_string()
+    };
+    let gain_before = figures_row(&before);
     // rf is selected at start; step it up once along E24 (IEC 60063: 10 → 11).
     assert_eq!(a.selected.path, "stage.rf");
     a.on_key(key(KeyCode::Right));
     let after = screen(&a, 100, 30);
     assert!(line_with(&after, " rf ").contains("11kΩ"), "{after}");
-    let gain_after = line_with(&after, "A ").to_string();
+    let gain_after = figures_row(&after);
     assert_ne!(gain_before, gain_after);
     assert!(gain_after.contains("11.99"), "{gain_after}");
-    assert!(after.contains("[modified]"));
+    assert!(after.contains(" edited"));
 }
 
 #[test]
@@ -323,6 +329,37 @@ fn follower_rf_can_be_a_resistor_or_a_wire() {
     assert_eq!(a.slot().scenario.stage.rf, Some(1000.0));
     type_value(&mut a, "wire");
     assert_eq!(a.slot().scenario.stage.rf, None);
+}
+
+#[test]
+fn hint_line_speaks_of_the_selected_parameter() {
+    // rf = 10 kΩ on E24 (assets/demo.ron); IEC 60063 E24 neighbours 9.1
+    // and 11; the accepted range 1 mΩ to 10 TΩ (README).
+    let mut a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    let hint = text.lines().last().unwrap();
+    assert!(
+        hint.starts_with(" rf 10kΩ  ← 9.1kΩ  → 11kΩ along E24 · 1 mΩ to 10 TΩ"),
+        "{hint}"
+    );
+    assert!(hint.contains("? keys"), "{hint}");
+    // cf steps along E12 (IEC 60063: 0.82, 1, 1.2 pF).
+    a.on_key(key(KeyCode::Down));
+    let text = screen(&a, 80, 24);
+    let hint = text.lines().last().unwrap();
+    assert!(
+        hint.starts_with(" cf 1pF  ← 0.82pF  → 1.2pF along E12"),
+        "{hint}"
+    );
+    // The title bar: label, name, our "edited" mark, title, program name.
+    a.on_key(key(KeyCode::Right));
+    let top = screen(&a, 80, 24).lines().next().unwrap().to_string();
+    assert!(
+        top.starts_with(" A (built-in demo) edited · Bridge sensor"),
+        "{top}"
+    );
+    assert!(top.ends_with(" loopwright "), "{top}");
+    assert!(!top.contains("[modified]"));
 }
 
 #[test]

@@ -114,7 +114,7 @@ fn save_asks_for_a_path_when_there_is_none() {
     let d = common::temp_dir("savepath");
     let mut a = demo_app();
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert!(a.status.contains("type a path"), "{}", a.status);
     let p = d.join("asked");
     type_text(&mut a, p.to_str().unwrap());
@@ -240,7 +240,7 @@ fn save_as_typed_over_the_offered_path_replaces_it() {
     let s = Scenario::load(&old).unwrap();
     let mut a = App::new(vec![(s, Some(old.clone()))], Theme::new(false, false));
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('W')));
+    a.on_key(key(KeyCode::Char('S')));
     let new = d.join("new");
     type_text(&mut a, new.to_str().unwrap());
     a.on_key(key(KeyCode::Enter));

@@ -623,6 +623,38 @@ impl Param {
         ))
     }
 
+    /// How ← → move this value, in a few words ("along E24").
+    pub fn step_text(&self, s: &Scenario) -> String {
+        match self.stepping {
+            Resistor => format!("along {}", s.stage.series.name()),
+            Capacitor => format!("along {}", CAPACITOR_SERIES.name()),
+            OneTwoFive => "1-2-5 per decade".into(),
+            Linear(d) => format!("by {}", self.display_number(d)),
+            List(_) => "along usual values".into(),
+            Choice => "through the choices".into(),
+        }
+    }
+
+    /// The value the next step each way would give: (down, up); None at
+    /// an end.
+    pub fn step_preview(&self, s: &Scenario) -> (Option<String>, Option<String>) {
+        let side = |dir| {
+            let mut t = s.clone();
+            (self.step(&mut t, dir) && t.validate().is_ok()).then(|| self.display(&t))
+        };
+        (side(Direction::Down), side(Direction::Up))
+    }
+
+    /// A number in this field's format, without the choice or absence
+    /// cases (for step sizes).
+    fn display_number(&self, v: f64) -> String {
+        match self.format {
+            Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
+            Format::Percent => pct(v),
+            _ => fmt_eng(v, self.unit),
+        }
+    }
+
     /// The accepted range as text, e.g. "1 mΩ to 10 TΩ".
     pub fn range_text(&self) -> String {
         let (lo, hi) = self.range;

@@ -327,7 +327,7 @@ impl App {
             view: View::Response,
             probe_hz,
             mode: Mode::Normal,
-            status: keys::hint_line(),
+            status: String::new(),
             status_kind: StatusKind::Info,
             warn_scroll: 0,
             theme,
@@ -421,6 +421,9 @@ impl App {
         let mode = std::mem::replace(&mut self.mode, Mode::Normal);
         match mode {
             Mode::Normal => {
+                // A message lasts until the next key; then the hint line
+                // about the selected parameter shows again.
+                self.status.clear();
                 if let Some(action) = keys::action_for(&key) {
                     self.act(action);
                 }

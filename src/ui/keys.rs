@@ -72,7 +72,7 @@ pub const KEYS: &[Binding] = &[
         shown: "↑ ↓, k j",
         action: Action::SelectUp,
         help: "select a parameter",
-        hint: Some("↑↓ select"),
+        hint: None,
     },
     Binding {
         keys: &[code(KeyCode::Down), k('j')],
@@ -86,7 +86,7 @@ pub const KEYS: &[Binding] = &[
         shown: "← →, h l, - +",
         action: Action::StepUp,
         help: "step: resistors E-series, capacitors E12, models 1-2-5",
-        hint: Some("←→ step"),
+        hint: None,
     },
     Binding {
         keys: &[code(KeyCode::Left), k('h'), k('-')],
@@ -100,7 +100,7 @@ pub const KEYS: &[Binding] = &[
         shown: "Enter",
         action: Action::TypeValue,
         help: "type a value (4k7, 2.2n, none); Enter applies, Esc cancels",
-        hint: Some("Enter type a value"),
+        hint: Some("Enter types"),
     },
     Binding {
         keys: &[k('e')],
@@ -180,15 +180,15 @@ pub const KEYS: &[Binding] = &[
         hint: None,
     },
     Binding {
-        keys: &[k('w')],
-        shown: "w",
+        keys: &[k('s')],
+        shown: "s",
         action: Action::Save,
         help: "save to the stage's file (asks for a path if it has none)",
         hint: None,
     },
     Binding {
-        keys: &[k('W')],
-        shown: "W",
+        keys: &[k('S')],
+        shown: "S",
         action: Action::SaveAs,
         help: "save under a new name (.ron added)",
         hint: None,
@@ -205,14 +205,14 @@ pub const KEYS: &[Binding] = &[
         shown: "?",
         action: Action::Help,
         help: "this help (any key closes it)",
-        hint: Some("? help"),
+        hint: Some("? keys"),
     },
     Binding {
         keys: &[k('q')],
         shown: "q",
         action: Action::Quit,
         help: "quit (asks first if there are unsaved changes)",
-        hint: Some("q quit"),
+        hint: None,
     },
     Binding {
         keys: &[Key {

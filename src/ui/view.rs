@@ -163,42 +163,42 @@ fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
         .title_style(app.theme.title)
 }
 
+/// The top line: each stage's label, file and an "edited" mark, the
+/// edited stage's title, and the program's name at the right.
 fn title_bar(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
-    let mut spans = vec![Span::styled(
-        " loopwright ",
-        t.title.add_modifier(Modifier::REVERSED),
-    )];
+    let two = app.slots.len() > 1;
+    let mut spans = vec![Span::raw(" ")];
     for (i, s) in app.slots.iter().enumerate() {
-        let label = App::slot_label(i);
-        let mark = if s.dirty { " [modified]" } else { "" };
-        let style = if i == app.active && app.slots.len() > 1 {
-            t.title.add_modifier(Modifier::UNDERLINED)
+        if i > 0 {
+            spans.push(Span::styled(" │ ", t.dim));
+        }
+        let label = if two && i == app.active {
+            format!("{}▸", App::slot_label(i))
         } else {
-            t.normal
+            App::slot_label(i).to_string()
         };
-        let edit = if i == app.active && app.slots.len() > 1 {
-            " (editing)"
-        } else {
-            ""
-        };
-        spans.push(Span::styled(
-            format!("  {label}: {}{mark}{edit}", s.name()),
-            style,
-        ));
+        spans.push(Span::styled(label, t.title));
+        spans.push(Span::styled(format!(" {}", s.name()), t.normal));
+        if s.dirty {
+            spans.push(Span::styled(" edited", t.warning));
+        }
     }
     spans.push(Span::styled(
         format!(
-            "  — {}",
+            " · {}",
             crate::engine::values::printable(&app.slot().scenario.title)
         ),
-        t.dim,
+        t.title,
     ));
-    Paragraph::new(Line::from(spans)).render(area, buf);
-    let help = " ? help ";
-    if area.width as usize > help.len() {
-        buf.set_string(area.x + area.width - help.len() as u16, area.y, help, t.dim);
+    let used: usize = spans.iter().map(|s| s.width()).sum();
+    let name = " loopwright ";
+    let room = (area.width as usize).saturating_sub(used);
+    if room > name.len() {
+        spans.push(Span::raw(" ".repeat(room - name.len())));
+        spans.push(Span::styled(name, t.dim));
     }
+    Paragraph::new(Line::from(spans)).render(area, buf);
 }
 
 fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -690,6 +690,7 @@ fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             spans.push(Span::styled(field_hint(b), t.dim));
             Line::from(spans)
         }
+        Mode::Normal if app.status.is_empty() => param_hint(app),
         _ => {
             let style = match app.status_kind {
                 super::app::StatusKind::Error => t.error,
@@ -699,6 +700,27 @@ fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
     };
     Paragraph::new(line).render(area, buf);
+}
+
+/// The hint line: what ← → do to the selected value (the value each way,
+/// how it steps), its accepted range, then the table's hint keys.
+fn param_hint(app: &App) -> Line<'static> {
+    let t = &app.theme;
+    let p = app.selected;
+    let s = &app.slot().scenario;
+    let (down, up) = p.step_preview(s);
+    let end = |v: Option<String>| v.unwrap_or_else(|| "end".into());
+    let mut spans = vec![
+        Span::styled(format!(" {} ", p.label), t.title),
+        Span::styled(p.display(s), t.normal),
+        Span::styled(format!("  ← {}  → {} ", end(down), end(up)), t.normal),
+        Span::styled(p.step_text(s), t.dim),
+    ];
+    if p.choice(s).is_none() {
+        spans.push(Span::styled(format!(" · {}", p.range_text()), t.dim));
+    }
+    spans.push(Span::styled(format!(" · {}", keys::hint_line()), t.dim));
+    Line::from(spans)
 }
 
 /// What the field keys do now, in a few words.
