@@ -2,6 +2,7 @@
 //! so the text alone is asserted), driven by the same key handler as the
 //! terminal loop.
 
+mod common;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::ui::app::App;
@@ -379,4 +380,39 @@ fn response_view_states_the_three_gains() {
         "{text}"
     );
     assert!(text.contains("load-divider"), "{text}");
+}
+
+#[test]
+fn margin_is_written_on_the_loop_view_only() {
+    // Two-pole follower (β = 1): crossover and margin from the closed form
+    // |A(jf)| = 1, PM = 180° + arg A (tests/common, bisection).
+    let mut s = common::follower();
+    s.amp.fp2 = Some(2e6);
+    let (fc, pm) = common::closed_form_margin(|f| common::open_loop(&s, f));
+    let want = format!(
+        "margin {pm:.0}° @ {}",
+        loopwright::engine::values::fmt_eng(fc, "Hz")
+    );
+    let mut a = app(vec![s]);
+    let response = screen(&a, 120, 40);
+    assert!(!response.contains("margin "), "{response}");
+    assert!(!response.contains(&format!("PM {pm:.0}")), "{response}");
+    a.on_key(key(KeyCode::Char('v')));
+    let loop_view = screen(&a, 120, 40);
+    assert!(loop_view.contains(&want), "{want}\n{loop_view}");
+    assert!(!loop_view.contains(&format!("PM {pm:.0}")), "{loop_view}");
+}
+
+#[test]
+fn the_y_axis_is_a_rule_with_tick_marks() {
+    // Our own axis: a full-height rule with ├ ticks one column from the labels.
+    let a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    assert!(!text.contains('┤'), "{text}");
+    assert!(text.contains("0dB ├"), "{text}");
+    let rule_rows = text
+        .lines()
+        .filter(|l| l.contains("│ ") || l.contains("├"))
+        .count();
+    assert!(rule_rows > 10, "{text}");
 }

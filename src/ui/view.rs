@@ -6,7 +6,7 @@ use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, LogPlot, Trace, VMark};
 use crate::engine::figures::{key_figures, Figure, Reading, Section, Unit};
 use crate::engine::params::Group;
-use crate::engine::values::fmt_eng;
+use crate::engine::values::{fmt_eng, fmt_fixed};
 use crate::engine::Severity;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
@@ -106,6 +106,8 @@ pub fn ascii_char(c: char) -> char {
         '≠' => '*',
         '·' | '•' => '.',
         '∥' | '│' => '|',
+        '├' => '+',
+        '▸' => '>',
         '…' => '.',
         '±' => '~',
         '↑' => '^',
@@ -337,7 +339,8 @@ fn plot<'a>(
         markers: app.theme.markers(),
         label_style: app.theme.dim,
         mark_style: app.theme.marker,
-        tick: if app.theme.ascii { "+" } else { "┤" },
+        rule: if app.theme.ascii { "|" } else { "│" },
+        tick: if app.theme.ascii { "+" } else { "├" },
         x_labels: true,
     }
 }
@@ -405,10 +408,16 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             label: "-3dB".into(),
         });
     }
-    if let Some(f) = a.crossover_hz {
+    if let Some(f) = a.crossover_hz.filter(|_| loop_view) {
         marks.push(VMark {
             x: f.log10(),
             label: "fc".into(),
+        });
+    }
+    if let (Some(f), Some(gm), true) = (a.phase_180_hz, a.gain_margin_db, loop_view) {
+        marks.push(VMark {
+            x: f.log10(),
+            label: format!("gain margin {} dB @ {}", fmt_fixed(gm, 0), fmt_eng(f, "Hz")),
         });
     }
     // The magnitude shares its frequency axis with the phase plot below.
@@ -419,15 +428,12 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let prow = phase.height.saturating_sub(1) as usize;
     let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
+    // The margin is a property of the loop: written on its view only.
     let mut marks = Vec::new();
-    if let Some(f) = a.crossover_hz {
-        let label = match a.phase_margin_deg {
-            Some(pm) => format!("PM {pm:.0}°"),
-            None => "fc".into(),
-        };
+    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
         marks.push(VMark {
             x: f.log10(),
-            label,
+            label: format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz")),
         });
     }
     plot(app, ph_tr, x, y, marks).render(phase, buf);
