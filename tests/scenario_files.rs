@@ -64,7 +64,17 @@ fn saved_and_reread_is_the_same_scenario() {
         // The saved form names its version and carries bare numbers.
         assert!(saved.contains("version: 1"), "{saved}");
         assert!(!saved.contains("Some("), "{saved}");
+        // Written without the serialiser's extension header (the README's
+        // example has none); the loader sets the option itself.
+        assert!(!saved.contains("#!["), "{saved}");
+        assert!(saved.contains("rf: 10000.0"), "{saved}");
     }
+    // A file that carries the header still reads the same.
+    let with_header = format!("#![enable(implicit_some)]\n{DOC_EXAMPLE}");
+    assert_eq!(
+        Scenario::from_ron(&with_header, None).unwrap(),
+        Scenario::from_ron(DOC_EXAMPLE, None).unwrap()
+    );
 }
 
 #[test]
