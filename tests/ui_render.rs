@@ -416,3 +416,31 @@ fn the_y_axis_is_a_rule_with_tick_marks() {
         .count();
     assert!(rule_rows > 10, "{text}");
 }
+
+#[test]
+fn short_bode_plot_shows_magnitude_or_phase_and_p_toggles() {
+    let mut a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    assert!(text.contains("0dB ├"), "{text}");
+    assert!(!text.contains("0° ├"), "{text}");
+    a.on_key(key(KeyCode::Char('p')));
+    let text = screen(&a, 80, 24);
+    assert!(text.contains("0° ├"), "{text}");
+    assert!(!text.contains("0dB ├"), "{text}");
+    // Tall enough for both at 120×40.
+    let text = screen(&a, 120, 40);
+    assert!(text.contains("0dB ├") && text.contains("0° ├"), "{text}");
+}
+
+#[test]
+fn closed_loop_phase_is_unwrapped() {
+    // Three poles in the loop (gbw, fp2 and ro with 1 µF of load) take the
+    // closed-loop phase past −180°: a continuous phase never steps by more
+    // than 180° between neighbouring sweep points, and reaches below −180°.
+    let mut s = scenario::demo();
+    s.load.c = Some(1e-6);
+    let a = app(vec![s]);
+    let ph = &a.slots[0].traces.gain_phase;
+    assert!(ph.windows(2).all(|w| (w[1].1 - w[0].1).abs() < 180.0));
+    assert!(ph.iter().any(|p| p.1 < -180.0));
+}

@@ -61,10 +61,7 @@ impl Traces {
         let lf = |p: &Point| p.f_hz.log10();
         Traces {
             gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
-            gain_phase: finite(
-                pts.iter()
-                    .map(|p| (lf(p), crate::engine::analysis::phase_deg(p.gain))),
-            ),
+            gain_phase: finite(unwrapped_gain_phase(pts).into_iter()),
             loop_db: finite(
                 pts.iter()
                     .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),
@@ -82,6 +79,21 @@ impl Traces {
             noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
         }
     }
+}
+
+/// The closed-loop phase along the sweep, unwrapped from the DC point (the
+/// nearest branch to the previous point), so it never jumps by 360°.
+fn unwrapped_gain_phase(pts: &[Point]) -> Vec<(f64, f64)> {
+    let mut prev = 0.0;
+    let mut out = Vec::with_capacity(pts.len());
+    for p in pts {
+        let ph = crate::engine::analysis::unwrap_near(p.gain, prev);
+        if ph.is_finite() {
+            prev = ph;
+        }
+        out.push((p.f_hz.log10(), ph));
+    }
+    out
 }
 
 /// One candidate stage and everything derived from it.
@@ -272,6 +284,9 @@ pub struct App {
     pub running: bool,
     pub archetypes: Vec<Archetype>,
     pub archetype: usize,
+    /// Where the Bode view is too short for both, it shows the phase
+    /// instead of the magnitude.
+    pub show_phase: bool,
 }
 
 /// A copy's title: the original's with the slot it came from, once.
@@ -334,6 +349,7 @@ impl App {
             running: true,
             archetypes: archetypes(),
             archetype: 0,
+            show_phase: false,
         }
     }
 
@@ -579,6 +595,15 @@ impl App {
             Action::CopyToOther => self.copy_to_other(true),
             Action::SwitchSlot => self.switch_slot(),
             Action::Undo => self.undo(),
+            Action::GainOrPhase => {
+                self.show_phase = !self.show_phase;
+                let which = if self.show_phase {
+                    "phase"
+                } else {
+                    "magnitude"
+                };
+                self.info(format!("a short Bode plot shows the {which}"));
+            }
             Action::EditTitle => {
                 let title = self.slot().scenario.title.clone();
                 self.mode = Mode::Prompt(Prompt::Title, Field::offering(&title));

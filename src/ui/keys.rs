@@ -27,6 +27,7 @@ pub enum Action {
     SwitchSlot,
     Undo,
     EditTitle,
+    GainOrPhase,
     Save,
     SaveAs,
     Open,
@@ -121,6 +122,13 @@ pub const KEYS: &[Binding] = &[
         shown: "v",
         action: Action::NextView,
         help: "next plot view: response / loop gain / noise density",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('p')],
+        shown: "p",
+        action: Action::GainOrPhase,
+        help: "magnitude or phase, where the plot is too short for both",
         hint: None,
     },
     Binding {

@@ -18,6 +18,10 @@ use ratatui::Frame;
 pub const MIN_W: u16 = 80;
 pub const MIN_H: u16 = 24;
 
+/// Rows inside the Bode plot below which it shows magnitude or phase, not
+/// both (at 80×24 it has 10).
+const BOTH_ROWS: u16 = 14;
+
 /// Frequency window of the response and impedance plots (log10 Hz).
 const X_WINDOW: (f64, f64) = (0.0, 9.0);
 
@@ -383,7 +387,17 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     }
     let inner = b.inner(area);
     b.render(area, buf);
-    let [mag, phase] = Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner);
+    // Too short for both: one of them, as the p key chose.
+    let [mag, phase] = if inner.height < BOTH_ROWS {
+        let none = Rect { height: 0, ..inner };
+        if app.show_phase {
+            [none, inner]
+        } else {
+            [inner, none]
+        }
+    } else {
+        Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner)
+    };
     let x = X_WINDOW;
     let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
         (
@@ -393,7 +407,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     } else {
         (
             traces(app, |s| &s.traces.gain_db, None, false),
-            traces(app, |s| &s.traces.gain_phase, None, true),
+            traces(app, |s| &s.traces.gain_phase, None, false),
         )
     };
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
@@ -422,7 +436,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     }
     // The magnitude shares its frequency axis with the phase plot below.
     let mut mag_plot = plot(app, mag_tr, x, y, marks);
-    mag_plot.x_labels = false;
+    mag_plot.x_labels = phase.height == 0;
     mag_plot.render(mag, buf);
     let (plo, phi) = visible_range(ph_tr.iter().map(|t| t.points), x);
     let prow = phase.height.saturating_sub(1) as usize;
