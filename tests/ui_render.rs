@@ -444,3 +444,14 @@ fn closed_loop_phase_is_unwrapped() {
     assert!(ph.windows(2).all(|w| (w[1].1 - w[0].1).abs() < 180.0));
     assert!(ph.iter().any(|p| p.1 < -180.0));
 }
+
+#[test]
+fn help_lists_every_key_at_80x24() {
+    // Every row of the key table fits on the smallest screen.
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Char('?')));
+    let text = screen(&a, 80, 24);
+    for b in loopwright::ui::keys::help_rows() {
+        assert!(text.contains(b.help), "{}\n{text}", b.help);
+    }
+}

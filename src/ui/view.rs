@@ -764,9 +764,12 @@ fn centered(area: Rect, w: u16, h: u16) -> Rect {
 }
 
 fn help_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    // The legend only where it fits below every key.
+    let n_keys = keys::help_rows().count();
+    let legend = (area.height as usize).saturating_sub(n_keys + 2);
     let rows: Vec<(&str, &str)> = keys::help_rows()
         .map(|b| (b.shown, b.help))
-        .chain(keys::LEGEND.iter().copied())
+        .chain(keys::LEGEND.iter().copied().take(legend))
         .collect();
     let r = centered(area, 78, rows.len() as u16 + 2);
     Clear.render(r, buf);
