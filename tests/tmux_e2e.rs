@@ -14,8 +14,9 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     assert!(first.contains("10kΩ"), "{first}");
     assert!(first.contains("Closed-loop response"));
     tmux(&["send-keys", "-t", &s.0, "l"]);
-    let after = wait_for(&s.0, "11kΩ").expect("rf steps to 11k");
-    assert!(after.contains("11.99"), "gain figure redrawn:\n{after}");
+    // The hint line already offers "→ 11kΩ": wait for the new gain.
+    let after = wait_for(&s.0, "11.99").expect("gain figure redrawn");
+    assert!(after.contains("rf        11kΩ"), "rf steps to 11k:\n{after}");
     // The plot is redrawn too: its view switches on v.
     tmux(&["send-keys", "-t", &s.0, "v"]);
     wait_for(&s.0, "Loop gain").expect("view toggles");
@@ -40,7 +41,7 @@ fn compare_two_stages_in_a_real_terminal() {
     tmux(&["send-keys", "-t", &s.0, "Tab"]);
     wait_for(&s.0, "editing B").expect("switched");
     tmux(&["send-keys", "-t", &s.0, "l"]);
-    let screen = wait_for(&s.0, "11kΩ").expect("B's rf stepped");
+    let screen = wait_for(&s.0, "+0.99").expect("B's rf stepped");
     assert!(screen.contains("Δ"), "difference row:\n{screen}");
     assert!(
         screen.contains("≠"),
