@@ -16,7 +16,10 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     tmux(&["send-keys", "-t", &s.0, "l"]);
     // The hint line already offers "→ 11kΩ": wait for the new gain.
     let after = wait_for(&s.0, "11.99").expect("gain figure redrawn");
-    assert!(after.contains("rf        11kΩ"), "rf steps to 11k:\n{after}");
+    assert!(
+        after.contains("rf        11kΩ"),
+        "rf steps to 11k:\n{after}"
+    );
     // The plot is redrawn too: its view switches on v.
     tmux(&["send-keys", "-t", &s.0, "v"]);
     wait_for(&s.0, "Loop gain").expect("view toggles");

@@ -393,7 +393,7 @@ fn margin_is_written_on_the_loop_view_only() {
         "margin {pm:.0}° @ {}",
         loopwright::engine::values::fmt_eng(fc, "Hz")
     );
-    let mut a = app(vec![s]);
+    let mut a = app(vec![s.clone()]);
     let response = screen(&a, 120, 40);
     assert!(!response.contains("margin "), "{response}");
     assert!(!response.contains(&format!("PM {pm:.0}")), "{response}");
@@ -401,6 +401,21 @@ fn margin_is_written_on_the_loop_view_only() {
     let loop_view = screen(&a, 120, 40);
     assert!(loop_view.contains(&want), "{want}\n{loop_view}");
     assert!(!loop_view.contains(&format!("PM {pm:.0}")), "{loop_view}");
+    // At 80×24 the loop view shows the magnitude only, and the margin on it.
+    assert!(screen(&a, 80, 24).contains(&want), "{want}");
+}
+
+#[test]
+fn help_legend_is_not_cut_at_80x24() {
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Char('?')));
+    let text = screen(&a, 80, 24);
+    for (_, what) in loopwright::ui::keys::LEGEND {
+        let start: String = what.chars().take(12).collect();
+        if text.contains(&start) {
+            assert!(text.contains(what), "{what}\n{text}");
+        }
+    }
 }
 
 #[test]

@@ -363,7 +363,7 @@ pub const LEGEND: &[(&str, &str)] = &[
     ),
     (
         "typing",
-        "typing replaces the old value; ← → Home End edit it; Ctrl-U clears",
+        "typing replaces; ← → Home End edit; Ctrl-U/W clear line/word",
     ),
     (
         "marks",

@@ -434,6 +434,18 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             label: format!("gain margin {} dB @ {}", fmt_fixed(gm, 0), fmt_eng(f, "Hz")),
         });
     }
+    // The margin is a property of the loop: written on its view only, on
+    // the phase plot (or the magnitude when the phase is not shown).
+    let mut margin = Vec::new();
+    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
+        margin.push(VMark {
+            x: f.log10(),
+            label: format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz")),
+        });
+    }
+    if phase.height == 0 {
+        marks.append(&mut margin);
+    }
     // The magnitude shares its frequency axis with the phase plot below.
     let mut mag_plot = plot(app, mag_tr, x, y, marks);
     mag_plot.x_labels = phase.height == 0;
@@ -442,15 +454,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let prow = phase.height.saturating_sub(1) as usize;
     let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
-    // The margin is a property of the loop: written on its view only.
-    let mut marks = Vec::new();
-    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
-        marks.push(VMark {
-            x: f.log10(),
-            label: format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz")),
-        });
-    }
-    plot(app, ph_tr, x, y, marks).render(phase, buf);
+    plot(app, ph_tr, x, y, margin).render(phase, buf);
 }
 
 /// The stage's gains, from the figure table's gain ratios: nominal, with
