@@ -5,7 +5,7 @@ use crate::engine::analysis::{phase_deg, Analysis, Circuit};
 use crate::engine::figures::{delta, figure, key_figures, Section, FIGURES};
 use crate::engine::params::{Group, PARAMS};
 use crate::engine::scenario::Scenario;
-use crate::engine::values::{fmt_eng, printable};
+use crate::engine::values::{fmt_eng, fmt_fixed, fmt_plain, printable};
 use crate::engine::{Evaluation, Warning};
 use serde::Serialize;
 use std::io::{self, Write};
@@ -210,18 +210,22 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
         "f", "gain", "phase", "Zout", "phase", "Zin", "loop", "phase", "noise"
     )?;
     let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
-    let deg = |v: Option<f64>| v.map(|x| format!("{x:.1}°")).unwrap_or("—".into());
+    let deg = |v: Option<f64>| {
+        v.map(|x| format!("{}°", fmt_fixed(x, 1)))
+            .unwrap_or("—".into())
+    };
+    let ratio = |v: Option<f64>| v.map(|x| fmt_plain(x, 3)).unwrap_or("—".into());
     for p in points {
         writeln!(
             w,
             "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
             fmt_eng(p.f_hz, "Hz"),
-            num(p.gain_mag, ""),
+            ratio(p.gain_mag),
             deg(p.gain_phase_deg),
             num(p.zout_mag, "Ω"),
             deg(p.zout_phase_deg),
             p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
-            num(p.loop_mag, ""),
+            ratio(p.loop_mag),
             deg(p.loop_phase_deg),
             format!("{}/√Hz", num(p.noise_density, "V")),
         )?;

@@ -84,6 +84,8 @@ fn isolation_resistor_and_load_divide_the_ideal_gain() {
     s.load.r = Some(900.0);
     let a = evaluate(&s);
     assert_rel("ideal gain", a.ideal_gain, 10.0 * 0.9, 1e-12);
+    // The nominal gain is the resistor ratio alone: 1 + 9k/1k.
+    assert_eq!(a.nominal_gain, 10.0);
 }
 
 #[test]

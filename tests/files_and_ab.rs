@@ -33,7 +33,7 @@ fn demo_app(path: Option<PathBuf>) -> App {
 }
 
 fn save_as(a: &mut App, path: &Path) {
-    a.on_key(KeyEvent::new(KeyCode::Char('W'), KeyModifiers::SHIFT));
+    a.on_key(KeyEvent::new(KeyCode::Char('S'), KeyModifiers::SHIFT));
     for _ in 0..200 {
         a.on_key(key(KeyCode::Backspace));
     }
@@ -46,11 +46,11 @@ fn save_as_adds_ron_and_the_file_reloads_equal() {
     let d = common::temp_dir("saveas");
     let mut a = demo_app(None);
     a.on_key(key(KeyCode::Right)); // rf 10k -> 11k, now modified
-    assert!(screen(&a).contains("[modified]"));
+    assert!(screen(&a).contains(" edited"));
     save_as(&mut a, &d.join("front-end"));
     let path = d.join("front-end.ron");
     assert!(path.exists(), "{}", a.status);
-    assert!(!screen(&a).contains("[modified]"));
+    assert!(!screen(&a).contains(" edited"));
     assert!(screen(&a).contains("front-end.ron"));
     let back = Scenario::load(&path).unwrap();
     assert_eq!(back, a.slot().scenario);
@@ -59,7 +59,7 @@ fn save_as_adds_ron_and_the_file_reloads_equal() {
     assert!(out.status.success());
     // w saves to the same file again.
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert_eq!(Scenario::load(&path).unwrap().stage.rf, Some(12_000.0));
     std::fs::remove_dir_all(&d).ok();
 }
@@ -158,7 +158,7 @@ fn saving_keeps_the_comment_at_the_top() {
     };
     let mut a = App::new(vec![stage], Theme::new(false, false));
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     let saved = std::fs::read_to_string(&path).unwrap();
     let header: Vec<&str> = src.lines().take_while(|l| l.starts_with("//")).collect();
     assert!(!header.is_empty());
@@ -420,7 +420,7 @@ fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
     // change shows whatever the clock's resolution).
     let theirs = scenario::DEMO_RON.replace("gain 11\"", "gain 11, edited elsewhere\"");
     std::fs::write(&p, &theirs).unwrap();
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert!(
         a.status.contains("changed by another program"),
         "{}",
@@ -428,12 +428,12 @@ fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
     );
     a.on_key(key(KeyCode::Esc));
     assert_eq!(std::fs::read_to_string(&p).unwrap(), theirs);
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     a.on_key(key(KeyCode::Char('y')));
     assert_eq!(Scenario::load(&p).unwrap(), a.slot().scenario);
     // Saved: the next save does not ask.
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert!(a.status.starts_with("saved"), "{}", a.status);
     std::fs::remove_dir_all(&d).ok();
 }
@@ -450,7 +450,7 @@ fn a_save_that_would_drop_comments_asks_first() {
     );
     // A number only: saved without a question, comment kept.
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert!(a.status.starts_with("saved"), "{}", a.status);
     assert!(std::fs::read_to_string(&p).unwrap().contains("/* keep */"));
     // Typing `none` for cf removes a field: the save asks.
@@ -462,7 +462,7 @@ fn a_save_that_would_drop_comments_asks_first() {
     type_text(&mut a, "none");
     a.on_key(key(KeyCode::Enter));
     assert!(a.slot().dirty, "{}", a.status);
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert!(
         a.status.contains("only its leading comments"),
         "{}",

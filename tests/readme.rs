@@ -30,6 +30,17 @@ fn readme_key_table_lists_the_key_table() {
 }
 
 #[test]
+fn readme_field_key_table_lists_the_field_keys() {
+    let readme = first_column("| in a field | action |");
+    let table: BTreeSet<String> = keys::FIELD_KEYS
+        .iter()
+        .map(|b| b.shown.to_string())
+        .collect();
+    assert_eq!(readme.len(), keys::FIELD_KEYS.len());
+    assert_eq!(readme, table, "README field keys vs the field key table");
+}
+
+#[test]
 fn readme_warning_table_lists_every_code() {
     let readme = first_column("| code | when |");
     let codes: BTreeSet<String> = Code::ALL.iter().map(|c| c.as_str().to_string()).collect();

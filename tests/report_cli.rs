@@ -23,8 +23,9 @@ fn scenario_file(name: &str, text: &str) -> (std::path::PathBuf, std::path::Path
 }
 
 /// Every top-level key the README's JSON section lists.
-const KEYS: [&str; 19] = [
+const KEYS: [&str; 20] = [
     "title",
+    "nominal_gain",
     "ideal_gain",
     "dc_gain",
     "gain_error",
@@ -69,6 +70,7 @@ fn demo_json_has_every_key() {
     assert_eq!(v["title"], "Bridge sensor front-end, gain 11");
     // Demo: gain 1 + 10k/1k = 11 (textbook non-inverting gain).
     assert!((v["ideal_gain"].as_f64().unwrap() - 11.0).abs() < 1e-9);
+    assert_eq!(v["nominal_gain"].as_f64(), Some(11.0));
     assert!(v["points"].as_array().unwrap().is_empty());
     // The demo's band is 10 Hz … 100 kHz (assets/demo.ron, as the README shows).
     assert_eq!(v["band_hz"], serde_json::json!([10.0, 100000.0]));
@@ -347,4 +349,37 @@ fn unstable_stage_has_no_closed_loop_figures() {
     let line = text.lines().find(|l| l.contains("peaking")).unwrap();
     assert!(line.contains("unstable"), "{text}");
     std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn ratios_plain_tolerances_in_percent_capacitors_in_pf() {
+    // A follower at a 1 MHz gbw, read at 10 MHz: single pole, |T| ≈
+    // gbw/f = 0.1, a plain ratio (no "100 m"); tolerance 0.005 = 0.5 %;
+    // cf 820 fF reads 0.82 pF (board practice); no "-0.0" anywhere.
+    let (_dir, path) = scenario_file(
+        "plain-ratios",
+        "(title: \"plain\", stage: (topology: NonInverting, rg: 1000.0, rf: 1000.0, \
+         cf: 0.82e-12, series: E24, tolerance: 0.005), amp: (a0: 100000.0, gbw: 1.0e6, \
+         ro: 1.0, vnoise: 0.0, inoise: 0.0), source: (r: 0.0), load: (), temp_c: 25.0, \
+         band: (10.0, 100000.0))",
+    );
+    let out = bin()
+        .args(["report", path.to_str().unwrap(), "--at", "10M", "--at", "1"])
+        .output()
+        .unwrap();
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("tolerance ±0.5%"), "{text}");
+    assert!(!text.contains(" m%"), "{text}");
+    assert!(text.contains("cf 0.82pF"), "{text}");
+    assert!(!text.contains("fF"), "{text}");
+    for negative_zero in ["-0.0°", "-0.0 dB", " -0 "] {
+        assert!(!text.contains(negative_zero), "{negative_zero} in {text}");
+    }
+    let row = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("10 MHz"))
+        .unwrap();
+    // The loop magnitude gbw/(NG·f) = 1 MHz/(2·10 MHz) = 0.05 (single pole).
+    assert!(row.contains(" 0.05"), "{row}");
+    assert!(!row.contains(" m "), "{row}");
 }

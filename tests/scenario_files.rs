@@ -9,7 +9,7 @@ use loopwright::engine::{evaluate, Topology};
 const DOC_EXAMPLE: &str = r#"(
     title: "Bridge sensor front-end, gain 11",
     stage: (topology: NonInverting, rg: 1000.0, rf: 10000.0, cf: 1.0e-12, riso: 0.0, series: E24, tolerance: 0.01),
-    amp: (a0: 100000.0, gbw: 1.0e6, fp2: 10.0e6, rin: 2.0e6, cin: 3.0e-12, ro: 75.0,
+    amp: (a0: 100000.0, gbw: 1.0e6, fp2: 10.0e6, rin: 1.0e6, cin: 3.0e-12, ro: 100.0,
           vnoise: 10.0e-9, vnoise_corner: 0.0, inoise: 1.0e-12, inoise_corner: 0.0),
     source: (r: 50.0),
     load: (r: 10000.0, c: 100.0e-12),
@@ -36,7 +36,7 @@ fn the_documented_shape_loads() {
 fn omitted_optional_fields_are_absent() {
     let text = DOC_EXAMPLE
         .replace("cf: 1.0e-12, riso: 0.0, ", "")
-        .replace("fp2: 10.0e6, rin: 2.0e6, cin: 3.0e-12, ", "")
+        .replace("fp2: 10.0e6, rin: 1.0e6, cin: 3.0e-12, ", "")
         .replace("vnoise_corner: 0.0, ", "")
         .replace(", inoise_corner: 0.0", "")
         .replace("load: (r: 10000.0, c: 100.0e-12)", "load: ()");
@@ -64,7 +64,17 @@ fn saved_and_reread_is_the_same_scenario() {
         // The saved form names its version and carries bare numbers.
         assert!(saved.contains("version: 1"), "{saved}");
         assert!(!saved.contains("Some("), "{saved}");
+        // Written without the serialiser's extension header (the README's
+        // example has none); the loader sets the option itself.
+        assert!(!saved.contains("#!["), "{saved}");
+        assert!(saved.contains("rf: 10000.0"), "{saved}");
     }
+    // A file that carries the header still reads the same.
+    let with_header = format!("#![enable(implicit_some)]\n{DOC_EXAMPLE}");
+    assert_eq!(
+        Scenario::from_ron(&with_header, None).unwrap(),
+        Scenario::from_ron(DOC_EXAMPLE, None).unwrap()
+    );
 }
 
 #[test]
@@ -120,7 +130,7 @@ fn nan_is_rejected() {
     let e = err(&DOC_EXAMPLE.replace("gbw: 1.0e6", "gbw: NaN"));
     assert_eq!(e.field.as_deref(), Some("amp.gbw"), "{e}");
     assert!(e.line.is_some());
-    let e = err(&DOC_EXAMPLE.replace("ro: 75.0", "ro: inf"));
+    let e = err(&DOC_EXAMPLE.replace("ro: 100.0", "ro: inf"));
     assert_eq!(e.field.as_deref(), Some("amp.ro"), "{e}");
 }
 
@@ -151,7 +161,7 @@ fn rg_absent_for_a_gain_stage() {
 
 #[test]
 fn unknown_field_and_wrong_type() {
-    let e = err(&DOC_EXAMPLE.replace("ro: 75.0", "rout: 75.0"));
+    let e = err(&DOC_EXAMPLE.replace("ro: 100.0", "rout: 100.0"));
     assert!(e.to_string().contains("rout"), "{e}");
     assert!(e.line.is_some());
     let e = err(&DOC_EXAMPLE.replace("rg: 1000.0", "rg: \"1k\""));
@@ -231,7 +241,7 @@ fn bad_file_in_the_cli_fails_cleanly() {
 #[test]
 fn zero_output_resistance_is_rejected() {
     // ro is a resistor of the model: zero is refused like any zero resistor.
-    let e = err(&DOC_EXAMPLE.replace("ro: 75.0", "ro: 0.0"));
+    let e = err(&DOC_EXAMPLE.replace("ro: 100.0", "ro: 0.0"));
     assert_eq!(e.field.as_deref(), Some("amp.ro"), "{e}");
     assert_eq!(e.line, Some(4));
 }

@@ -14,10 +14,14 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     assert!(first.contains("10kΩ"), "{first}");
     assert!(first.contains("Closed-loop response"));
     tmux(&["send-keys", "-t", &s.0, "l"]);
-    let after = wait_for(&s.0, "11kΩ").expect("rf steps to 11k");
-    // 12/(1 + 1/(a0·β·k)) = 11.9985, the finite-gain loop (derived in
+    // The hint line already offers "→ 11kΩ": wait for the new gain,
+    // 12/(1 + 1/(a0·β·k)) = 11.9985 (finite-gain loop, derived in
     // files_and_ab::two_candidates_side_by_side).
-    assert!(after.contains("11.99"), "gain figure redrawn:\n{after}");
+    let after = wait_for(&s.0, "11.99").expect("gain figure redrawn");
+    assert!(
+        after.contains("rf        11kΩ"),
+        "rf steps to 11k:\n{after}"
+    );
     // The plot is redrawn too: its view switches on v.
     tmux(&["send-keys", "-t", &s.0, "v"]);
     wait_for(&s.0, "Loop gain").expect("view toggles");
@@ -42,7 +46,7 @@ fn compare_two_stages_in_a_real_terminal() {
     tmux(&["send-keys", "-t", &s.0, "Tab"]);
     wait_for(&s.0, "editing B").expect("switched");
     tmux(&["send-keys", "-t", &s.0, "l"]);
-    let screen = wait_for(&s.0, "11kΩ").expect("B's rf stepped");
+    let screen = wait_for(&s.0, "+0.99").expect("B's rf stepped");
     assert!(screen.contains("Δ"), "difference row:\n{screen}");
     assert!(
         screen.contains("≠"),
@@ -186,7 +190,7 @@ fn save_as_over_an_existing_file_asks_in_a_real_terminal() {
     wait_for(&s.0, "Parameters").expect("workbench starts");
     tmux(&["send-keys", "-t", &s.0, "l"]);
     wait_for(&s.0, "11kΩ").expect("rf stepped");
-    tmux(&["send-keys", "-t", &s.0, "W"]);
+    tmux(&["send-keys", "-t", &s.0, "S"]);
     wait_for(&s.0, "save as").expect("prompt");
     for _ in 0..10 {
         tmux(&["send-keys", "-t", &s.0, "BSpace"]);
@@ -219,12 +223,12 @@ fn external_change_before_save_asks_in_a_real_terminal() {
         loopwright::engine::scenario::DEMO_RON
     );
     std::fs::write(d.join("s.ron"), &theirs).unwrap();
-    tmux(&["send-keys", "-t", &s.0, "w"]);
+    tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "changed by another program").expect("asks");
     tmux(&["send-keys", "-t", &s.0, "Escape"]);
     wait_for(&s.0, "not saved").expect("kept");
     assert_eq!(std::fs::read_to_string(d.join("s.ron")).unwrap(), theirs);
-    tmux(&["send-keys", "-t", &s.0, "w"]);
+    tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "changed by another program").expect("asks again");
     tmux(&["send-keys", "-t", &s.0, "y"]);
     wait_for(&s.0, "saved").expect("saved");
@@ -314,7 +318,7 @@ fn saving_through_links_keeps_them_and_the_mode() {
     // names holds the new value (rf 10 k → 11 k) and keeps mode 600.
     tmux(&["send-keys", "-t", &s.0, "l"]);
     wait_for(&s.0, "11kΩ").expect("rf stepped");
-    tmux(&["send-keys", "-t", &s.0, "w"]);
+    tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "saved").expect("saved");
     assert!(std::fs::symlink_metadata(&link)
         .unwrap()
@@ -328,7 +332,7 @@ fn saving_through_links_keeps_them_and_the_mode() {
     std::fs::hard_link(&real, &hard).unwrap();
     tmux(&["send-keys", "-t", &s.0, "l"]);
     wait_for(&s.0, "12kΩ").expect("rf stepped");
-    tmux(&["send-keys", "-t", &s.0, "w"]);
+    tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "saved").expect("saved");
     tmux(&["send-keys", "-t", &s.0, "C-c"]);
     wait_for(&s.0, "EXIT=").expect("exits");

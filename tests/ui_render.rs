@@ -2,6 +2,7 @@
 //! so the text alone is asserted), driven by the same key handler as the
 //! terminal loop.
 
+mod common;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::ui::app::App;
@@ -48,19 +49,25 @@ fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
     let mut a = app(vec![scenario::demo()]);
     let before = screen(&a, 100, 30);
     assert!(line_with(&before, " rf ").contains("10kΩ"), "{before}");
-    let gain_before = line_with(&before, "A ").to_string();
+    let figures_row = |s: &str| {
+        s.lines()
+            .find(|l| l.starts_with("A "))
+            .unwrap_or("")
+            .to_string()
+    };
+    let gain_before = figures_row(&before);
     // rf is selected at start; step it up once along E24 (IEC 60063: 10 → 11).
     assert_eq!(a.selected.path, "stage.rf");
     a.on_key(key(KeyCode::Right));
     let after = screen(&a, 100, 30);
     assert!(line_with(&after, " rf ").contains("11kΩ"), "{after}");
-    let gain_after = line_with(&after, "A ").to_string();
+    let gain_after = figures_row(&after);
     assert_ne!(gain_before, gain_after);
     // Finite-gain loop, textbook: 12/(1 + 1/(a0·β·k)) with a0 = 1e5,
     // β = 1/12, k = Z/(Z + ro) for ro = 75 Ω into 10 k ∥ 12 k: 11.9985
     // (the derivation is in files_and_ab::two_candidates_side_by_side).
     assert!(gain_after.contains("11.99"), "{gain_after}");
-    assert!(after.contains("[modified]"));
+    assert!(after.contains(" edited"));
 }
 
 #[test]
@@ -363,4 +370,143 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
         d.on_key(key(KeyCode::Char('v')));
     }
     assert!(screen(&d, 80, 24).contains("give source peak"));
+}
+
+#[test]
+fn hint_line_speaks_of_the_selected_parameter() {
+    // rf = 10 kΩ on E24 (assets/demo.ron); IEC 60063 E24 neighbours 9.1
+    // and 11; the accepted range 1 mΩ to 10 TΩ (README).
+    let mut a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    let hint = text.lines().last().unwrap();
+    assert!(
+        hint.starts_with(" rf 10kΩ  ← 9.1kΩ  → 11kΩ along E24 · 1 mΩ to 10 TΩ"),
+        "{hint}"
+    );
+    assert!(hint.contains("? keys"), "{hint}");
+    // cf steps along E12 (IEC 60063: 0.82, 1, 1.2 pF).
+    a.on_key(key(KeyCode::Down));
+    let text = screen(&a, 80, 24);
+    let hint = text.lines().last().unwrap();
+    assert!(
+        hint.starts_with(" cf 1pF  ← 0.82pF  → 1.2pF along E12"),
+        "{hint}"
+    );
+    // The title bar: label, name, our "edited" mark, title, program name.
+    a.on_key(key(KeyCode::Right));
+    let top = screen(&a, 80, 24).lines().next().unwrap().to_string();
+    assert!(
+        top.starts_with(" A (built-in demo) edited · Bridge sensor"),
+        "{top}"
+    );
+    assert!(top.ends_with(" loopwright "), "{top}");
+    assert!(!top.contains("[modified]"));
+}
+
+#[test]
+fn response_view_states_the_three_gains() {
+    // A gain-2 driver (rf = rg) with riso 100 Ω into 1 kΩ: nominal
+    // 1 + rf/rg = 2, at the load 2·1000/1100 = 1.8182 (voltage divider),
+    // and the load-divider warning on screen.
+    let mut s = scenario::demo();
+    s.stage.rf = Some(1e3);
+    s.stage.riso = Some(100.0);
+    s.load.r = Some(1e3);
+    let a = app(vec![s]);
+    let text = screen(&a, 80, 24);
+    let line = line_with(&text, "nominal");
+    assert!(
+        line.contains("nominal 2 · network 1.8182 · gain 1.81"),
+        "{text}"
+    );
+    assert!(text.contains("load-divider"), "{text}");
+}
+
+#[test]
+fn margin_is_written_on_the_loop_view_only() {
+    // Two-pole follower (β = 1): crossover and margin from the closed form
+    // |A(jf)| = 1, PM = 180° + arg A (tests/common, bisection).
+    let mut s = common::follower();
+    s.amp.fp2 = Some(2e6);
+    let (fc, pm) = common::closed_form_margin(|f| common::open_loop(&s, f));
+    let want = format!(
+        "margin {pm:.0}° @ {}",
+        loopwright::engine::values::fmt_eng(fc, "Hz")
+    );
+    let mut a = app(vec![s.clone()]);
+    let response = screen(&a, 120, 40);
+    assert!(!response.contains("margin "), "{response}");
+    assert!(!response.contains(&format!("PM {pm:.0}")), "{response}");
+    a.on_key(key(KeyCode::Char('v')));
+    let loop_view = screen(&a, 120, 40);
+    assert!(loop_view.contains(&want), "{want}\n{loop_view}");
+    assert!(!loop_view.contains(&format!("PM {pm:.0}")), "{loop_view}");
+    // At 80×24 the loop view shows the magnitude only, and the margin on it.
+    assert!(screen(&a, 80, 24).contains(&want), "{want}");
+}
+
+#[test]
+fn help_legend_is_not_cut_at_80x24() {
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Char('?')));
+    let text = screen(&a, 80, 24);
+    for (_, what) in loopwright::ui::keys::LEGEND {
+        let start: String = what.chars().take(12).collect();
+        if text.contains(&start) {
+            assert!(text.contains(what), "{what}\n{text}");
+        }
+    }
+}
+
+#[test]
+fn the_y_axis_is_a_rule_with_tick_marks() {
+    // Our own axis: a full-height rule with ├ ticks one column from the labels.
+    let a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    assert!(!text.contains('┤'), "{text}");
+    assert!(text.contains("0dB ├"), "{text}");
+    let rule_rows = text
+        .lines()
+        .filter(|l| l.contains("│ ") || l.contains("├"))
+        .count();
+    assert!(rule_rows > 10, "{text}");
+}
+
+#[test]
+fn short_bode_plot_shows_magnitude_or_phase_and_g_toggles() {
+    let mut a = app(vec![scenario::demo()]);
+    let text = screen(&a, 80, 24);
+    assert!(text.contains("0dB ├"), "{text}");
+    assert!(!text.contains("0° ├"), "{text}");
+    a.on_key(key(KeyCode::Char('g')));
+    let text = screen(&a, 80, 24);
+    assert!(text.contains("0° ├"), "{text}");
+    assert!(!text.contains("0dB ├"), "{text}");
+    // Tall enough for both at 120×40.
+    let text = screen(&a, 120, 40);
+    assert!(text.contains("0dB ├") && text.contains("0° ├"), "{text}");
+}
+
+#[test]
+fn closed_loop_phase_is_unwrapped() {
+    // Three poles in the loop (gbw, fp2 and ro with 1 µF of load) take the
+    // closed-loop phase past −180°: a continuous phase never steps by more
+    // than 180° between neighbouring sweep points, and reaches below −180°.
+    let mut s = scenario::demo();
+    s.load.c = Some(1e-6);
+    let a = app(vec![s]);
+    let ph = &a.slots[0].traces.gain_phase;
+    assert!(ph.windows(2).all(|w| (w[1].1 - w[0].1).abs() < 180.0));
+    assert!(ph.iter().any(|p| p.1 < -180.0));
+}
+
+#[test]
+fn help_lists_every_key_at_80x24() {
+    // Every row of the key table fits on the smallest screen.
+    let mut a = app(vec![scenario::demo()]);
+    a.on_key(key(KeyCode::Char('?')));
+    let text = screen(&a, 80, 24);
+    for b in loopwright::ui::keys::help_rows() {
+        assert!(text.contains(b.help), "{}\n{text}", b.help);
+    }
 }

@@ -354,3 +354,31 @@ fn values_near_the_ends_of_their_range_get_a_note() {
         .iter()
         .any(|w| w.text.contains("near the end")));
 }
+
+#[test]
+fn load_divider_beyond_tolerance() {
+    // Voltage divider (feedback taken before riso): a gain-2 driver with
+    // riso 100 Ω into 1 kΩ reaches the load at 2·1000/1100 = 1.8182, 9.09 %
+    // short of 1 + rf/rg = 2; riso 10 Ω gives 1000/1010 − 1 = −0.99 %,
+    // inside a 1 % tolerance.
+    let mut s = plain(Topology::NonInverting, 1e3, 1e3);
+    s.stage.riso = Some(100.0);
+    s.load.r = Some(1e3);
+    let w = warning(&s, "load-divider").unwrap();
+    assert_eq!(w.severity, Severity::Warning);
+    assert!(w.text.contains("nominal 2.0000 to 1.8182"), "{}", w.text);
+    assert!(w.text.contains("-9.09 %"), "{}", w.text);
+    assert!(w.text.contains("riso 100 Ω"), "{}", w.text);
+    s.stage.riso = Some(10.0);
+    assert!(warning(&s, "load-divider").is_none());
+    // Inverting: the source resistance adds to rg, −10k/(1k + 50) = −9.5238
+    // against −10 (−4.76 %); a 5 % tolerance covers it.
+    let mut s = plain(Topology::Inverting, 1e3, 10e3);
+    s.source.r = 50.0;
+    let w = warning(&s, "load-divider").unwrap();
+    assert!(w.text.contains("-9.5238"), "{}", w.text);
+    assert!(w.text.contains("-4.76 %"), "{}", w.text);
+    assert!(w.text.contains("source r 50 Ω"), "{}", w.text);
+    s.stage.tolerance = 0.05;
+    assert!(warning(&s, "load-divider").is_none());
+}

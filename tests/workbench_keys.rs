@@ -124,7 +124,7 @@ fn save_asks_for_a_path_when_there_is_none() {
     let d = common::temp_dir("savepath");
     let mut a = demo_app();
     a.on_key(key(KeyCode::Right));
-    a.on_key(key(KeyCode::Char('w')));
+    a.on_key(key(KeyCode::Char('s')));
     assert!(a.status.contains("type a path"), "{}", a.status);
     let p = d.join("asked");
     type_text(&mut a, p.to_str().unwrap());
@@ -215,4 +215,126 @@ fn p_writes_the_plot_view_beside_the_file() {
     assert!(dir.join("stage-loop-2.svg").exists());
     assert!(a.status.contains("stage-loop-2.svg"), "{}", a.status);
     std::fs::remove_dir_all(&dir).ok();
+}
+
+fn ctrl(c: char) -> crossterm::event::KeyEvent {
+    crossterm::event::KeyEvent::new(KeyCode::Char(c), crossterm::event::KeyModifiers::CONTROL)
+}
+
+#[test]
+fn typing_replaces_the_offered_value_and_the_cursor_keys_edit_it() {
+    // rf is 10 kΩ (assets/demo.ron); its field opens offering "10k".
+    let mut a = demo_app();
+    a.on_key(key(KeyCode::Enter));
+    type_text(&mut a, "4k7");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.stage.rf, Some(4.7e3));
+    // The field now offers "4.7k"; Home, then typing inserts at the
+    // start: "14.7k".
+    a.on_key(key(KeyCode::Enter));
+    a.on_key(key(KeyCode::Home));
+    type_text(&mut a, "1");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.stage.rf, Some(14.7e3));
+    // ← three times, then Backspace edits inside: "14.7k" → "1.7k".
+    a.on_key(key(KeyCode::Enter));
+    press(&mut a, KeyCode::Left, 3);
+    a.on_key(key(KeyCode::Backspace));
+    let text = screen_at(&a, 80, 24);
+    assert!(text.contains(" rf = 1.7k"), "{text}");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.stage.rf, Some(1.7e3));
+}
+
+#[test]
+fn control_keys_clear_delete_a_word_and_are_never_typed() {
+    let mut a = demo_app();
+    a.on_key(key(KeyCode::Enter));
+    a.on_key(key(KeyCode::End));
+    // Ctrl-A and Ctrl-E are not bound in a field: nothing is typed.
+    a.on_key(ctrl('a'));
+    a.on_key(ctrl('e'));
+    type_text(&mut a, " 22k");
+    // Ctrl-W deletes the word before the cursor: back to "10k ".
+    a.on_key(ctrl('w'));
+    let text = screen_at(&a, 80, 24);
+    assert!(text.contains(" rf = 10k _"), "{text}");
+    // Ctrl-U clears; then a fresh value.
+    a.on_key(ctrl('u'));
+    type_text(&mut a, "12k");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.stage.rf, Some(12e3));
+}
+
+#[test]
+fn save_as_typed_over_the_offered_path_replaces_it() {
+    let d = common::temp_dir("saveas-replace");
+    let old = d.join("old.ron");
+    std::fs::write(&old, scenario::DEMO_RON).unwrap();
+    let s = Scenario::load(&old).unwrap();
+    let mut a = App::new(vec![(s, Some(old.clone()))], Theme::new(false, false));
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('S')));
+    let new = d.join("new");
+    type_text(&mut a, new.to_str().unwrap());
+    a.on_key(key(KeyCode::Enter));
+    assert!(d.join("new.ron").is_file(), "{}", a.status);
+    assert!(!d.join("old.ron").join("new.ron").exists());
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn copy_asks_before_replacing_unsaved_changes_and_titles_the_copy() {
+    let mut a = demo_app();
+    a.on_key(key(KeyCode::Char('c')));
+    assert_eq!(a.slots.len(), 2);
+    let title = &scenario::demo().title;
+    assert_eq!(a.slots[1].scenario.title, format!("{title} (copy of A)"));
+    // B is unsaved (a copy): copying A again asks, and "n" keeps B.
+    a.on_key(key(KeyCode::Tab));
+    a.on_key(key(KeyCode::Right));
+    let b_rf = a.slots[1].scenario.stage.rf;
+    a.on_key(key(KeyCode::Tab));
+    a.on_key(key(KeyCode::Char('c')));
+    assert!(a.status.contains("B has unsaved changes"), "{}", a.status);
+    a.on_key(key(KeyCode::Char('n')));
+    assert_eq!(a.slots[1].scenario.stage.rf, b_rf);
+    a.on_key(key(KeyCode::Char('c')));
+    a.on_key(key(KeyCode::Char('y')));
+    assert_eq!(a.slots[1].scenario.stage.rf, a.slots[0].scenario.stage.rf);
+    // Copying a copy does not pile up the marks.
+    a.on_key(key(KeyCode::Tab));
+    a.on_key(key(KeyCode::Char('c')));
+    a.on_key(key(KeyCode::Char('y')));
+    assert_eq!(a.slots[0].scenario.title, format!("{title} (copy of B)"));
+}
+
+#[test]
+fn backspace_takes_back_the_last_change_and_puts_it_back() {
+    let mut a = demo_app();
+    let before = a.slots[0].scenario.clone();
+    a.on_key(key(KeyCode::Right));
+    let after = a.slots[0].scenario.clone();
+    assert_ne!(before, after);
+    a.on_key(key(KeyCode::Backspace));
+    assert_eq!(a.slots[0].scenario, before);
+    assert!(screen_at(&a, 80, 24).contains("10kΩ"));
+    a.on_key(key(KeyCode::Backspace));
+    assert_eq!(a.slots[0].scenario, after);
+}
+
+#[test]
+fn the_title_can_be_edited() {
+    let mut a = demo_app();
+    a.on_key(key(KeyCode::Char('t')));
+    type_text(&mut a, "Strain gauge, gain 11");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.title, "Strain gauge, gain 11");
+    assert!(a.slots[0].dirty);
+    assert!(screen_at(&a, 80, 24).contains("Strain gauge, gain 11"));
+    // Esc keeps the title.
+    a.on_key(key(KeyCode::Char('t')));
+    type_text(&mut a, "x");
+    a.on_key(key(KeyCode::Esc));
+    assert_eq!(a.slots[0].scenario.title, "Strain gauge, gain 11");
 }

@@ -3,7 +3,7 @@
 
 pub use super::netlist::MAX_NOISE;
 use super::netlist::{AmpModel, Coupling, LoadState, Netlist, NoiseKind};
-use super::scenario::{present, Scenario};
+use super::scenario::{present, Scenario, Topology};
 use super::solver::{Lu, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
 use std::cell::RefCell;
@@ -250,6 +250,10 @@ pub struct NoiseShare {
 /// All results of one scenario.
 #[derive(Debug, Clone)]
 pub struct Analysis {
+    /// What the designer means: 1 + rf/rg, −rf/rg, or 1 for a follower.
+    pub nominal_gain: f64,
+    /// The DC gain of the passive network around an ideal amplifier
+    /// (source resistance, riso and load included).
     pub ideal_gain: f64,
     pub dc_gain: f64,
     pub gain_error: f64,
@@ -467,6 +471,16 @@ fn band_power(points: &[Point], lo: f64, hi: f64, n_src: usize) -> Vec<f64> {
     p
 }
 
+/// The gain the resistor ratio sets: 1 + rf/rg, −rf/rg, or 1.
+pub fn nominal_gain(s: &Scenario) -> f64 {
+    let (rg, rf) = (s.stage.rg.unwrap_or(0.0), s.stage.rf.unwrap_or(0.0));
+    match s.stage.topology {
+        Topology::NonInverting => 1.0 + rf / rg,
+        Topology::Inverting => -rf / rg,
+        Topology::Follower => 1.0,
+    }
+}
+
 /// The DC gain of the same passive network around a nullor.
 fn ideal_gain(s: &Scenario) -> f64 {
     let ideal = Netlist::build(s, AmpModel::Nullor);
@@ -632,6 +646,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
         0.0
     };
     Analysis {
+        nominal_gain: nominal_gain(s),
         ideal_gain,
         dc_gain,
         gain_error,

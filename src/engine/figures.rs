@@ -204,11 +204,20 @@ use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 34] = [
+pub static FIGURES: [Figure; 35] = [
+    fig(
+        "nominal_gain",
+        "nominal gain",
+        "nominal",
+        Ratio,
+        Gain,
+        REPORT,
+        |e| Some(e.nominal_gain),
+    ),
     fig(
         "ideal_gain",
-        "ideal gain",
-        "ideal",
+        "network gain",
+        "network",
         Ratio,
         Gain,
         REPORT,
@@ -609,9 +618,9 @@ impl Figure {
         match r {
             Reading::Value(v) if self.unit == Ratio && v != 0.0 => {
                 format!(
-                    "{} ({:.1} dB)",
+                    "{} ({} dB)",
                     self.number(v, false),
-                    20.0 * v.abs().log10()
+                    fixed(20.0 * v.abs().log10(), 1, false)
                 )
             }
             Reading::Value(v) => self.number(v, false),

@@ -8,7 +8,7 @@
 
 use super::eseries::{Series, CAPACITOR_SERIES};
 use super::scenario::{FieldProblem, Scenario, Supply, Topology};
-use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, parse_value};
+use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -757,11 +757,11 @@ impl Param {
             Format::Eng => fmt_eng_sig(v, self.unit, 4).replace(' ', ""),
             Format::Percent => format!("±{}", pct(v)),
             Format::RatioDb => format!(
-                "{} ({:.0} dB)",
-                fmt_eng_sig(v, "", 3).replace(' ', ""),
-                20.0 * v.log10()
+                "{} ({} dB)",
+                fmt_plain(v, 3),
+                fmt_fixed(20.0 * v.log10(), 0)
             ),
-            Format::Celsius => format!("{} °C", fmt_eng_sig(v, "", 4)),
+            Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
         }
     }
 
@@ -796,6 +796,38 @@ impl Param {
             s.stage.series.name().to_string(),
             s.stage.series.contains(v),
         ))
+    }
+
+    /// How ← → move this value, in a few words ("along E24").
+    pub fn step_text(&self, s: &Scenario) -> String {
+        match self.stepping {
+            Resistor => format!("along {}", s.stage.series.name()),
+            Capacitor => format!("along {}", CAPACITOR_SERIES.name()),
+            OneTwoFive => "1-2-5 per decade".into(),
+            Linear(d) => format!("by {}", self.display_number(d)),
+            List(_) => "along usual values".into(),
+            Choice => "through the choices".into(),
+        }
+    }
+
+    /// The value the next step each way would give: (down, up); None at
+    /// an end.
+    pub fn step_preview(&self, s: &Scenario) -> (Option<String>, Option<String>) {
+        let side = |dir| {
+            let mut t = s.clone();
+            (self.step(&mut t, dir) && t.validate().is_ok()).then(|| self.display(&t))
+        };
+        (side(Direction::Down), side(Direction::Up))
+    }
+
+    /// A number in this field's format, without the choice or absence
+    /// cases (for step sizes).
+    fn display_number(&self, v: f64) -> String {
+        match self.format {
+            Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
+            Format::Percent => pct(v),
+            _ => fmt_eng(v, self.unit),
+        }
     }
 
     /// The accepted range as text, e.g. "1 mΩ to 10 TΩ".
@@ -1047,7 +1079,7 @@ fn round_nano(v: f64) -> f64 {
 }
 
 fn pct(f: f64) -> String {
-    format!("{}%", fmt_eng_sig(f * 100.0, "", 3))
+    format!("{}%", fmt_plain(f * 100.0, 3))
 }
 
 /// Next value of the 1-2-5 sequence above or below `v`.

@@ -44,13 +44,29 @@ impl Topology {
 #[serde(deny_unknown_fields)]
 pub struct Stage {
     pub topology: Topology,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub rg: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub rf: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub cf: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub riso: Option<f64>,
     pub series: Series,
     pub tolerance: f64,
@@ -61,18 +77,38 @@ pub struct Stage {
 pub struct Amp {
     pub a0: f64,
     pub gbw: f64,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub fp2: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub rin: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub cin: Option<f64>,
     pub ro: f64,
     pub vnoise: f64,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub vnoise_corner: Option<f64>,
     pub inoise: f64,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub inoise_corner: Option<f64>,
     /// Input offset voltage magnitude (V), sign unknown, in series with
     /// the + input where the voltage noise sits.
@@ -140,9 +176,17 @@ impl Default for Supply {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Load {
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub r: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub c: Option<f64>,
 }
 
@@ -160,7 +204,11 @@ pub struct Scenario {
     pub supply: Option<Supply>,
     pub temp_c: f64,
     pub band: (f64, f64),
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub notes: Option<String>,
 }
 
@@ -209,6 +257,17 @@ impl fmt::Display for ScenarioError {
 
 impl std::error::Error for ScenarioError {}
 
+/// A present optional value is written bare (`rf: 10000.0`), as the
+/// loader reads it; absent ones are skipped.
+fn bare<T: Serialize, S: serde::Serializer>(v: &Option<T>, s: S) -> Result<S::Ok, S::Error> {
+    match v {
+        Some(x) => x.serialize(s),
+        None => s.serialize_none(),
+    }
+}
+
+/// The loader's options: a present optional field is a bare value (files
+/// that also carry the `#![enable(implicit_some)]` header read the same).
 fn ron_options() -> ron::Options {
     ron::Options::default().with_default_extension(ron::extensions::Extensions::IMPLICIT_SOME)
 }
@@ -268,8 +327,7 @@ impl Scenario {
     pub fn to_ron(&self) -> String {
         let config = ron::ser::PrettyConfig::new()
             .depth_limit(2)
-            .separate_tuple_members(false)
-            .extensions(ron::extensions::Extensions::IMPLICIT_SOME);
+            .separate_tuple_members(false);
         ron::ser::to_string_pretty(self, config).unwrap_or_else(|e| format!("// {e}"))
     }
 

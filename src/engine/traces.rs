@@ -1,13 +1,28 @@
 //! Plot-ready traces of one analysis (x = log10 f): the workbench's plots
 //! and the SVG figures draw the same points.
 
-use super::analysis::{phase_deg, Analysis, Point};
+use super::analysis::{Analysis, Point};
 
 /// Keep only finite points.
 pub fn finite(points: impl Iterator<Item = (f64, f64)>) -> Vec<(f64, f64)> {
     points
         .filter(|(x, y)| x.is_finite() && y.is_finite())
         .collect()
+}
+
+/// The closed-loop phase along the sweep, unwrapped from the DC point (the
+/// nearest branch to the previous point), so it never jumps by 360°.
+fn unwrapped_gain_phase(pts: &[Point]) -> Vec<(f64, f64)> {
+    let mut prev = 0.0;
+    let mut out = Vec::with_capacity(pts.len());
+    for p in pts {
+        let ph = super::analysis::unwrap_near(p.gain, prev);
+        if ph.is_finite() {
+            prev = ph;
+        }
+        out.push((p.f_hz.log10(), ph));
+    }
+    out
 }
 
 /// Plot-ready traces (x = log10 f), built once per analysis.
@@ -36,7 +51,7 @@ impl Traces {
         let lf = |p: &Point| p.f_hz.log10();
         Traces {
             gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
-            gain_phase: finite(pts.iter().map(|p| (lf(p), phase_deg(p.gain)))),
+            gain_phase: finite(unwrapped_gain_phase(pts).into_iter()),
             loop_db: finite(
                 pts.iter()
                     .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),

@@ -252,6 +252,22 @@ const PREFIXES: [(i32, &str); 10] = [
 /// Split a value into (mantissa, prefix) with 1 ≤ |mantissa| < 1000,
 /// rounded to `sig` significant digits.
 fn split_eng(v: f64, sig: usize) -> (f64, &'static str) {
+    split_eng_from(v, sig, -15)
+}
+
+/// The smallest prefix a unit is written with, where the trade reads it so
+/// (board designers read capacitors in pF: 0.82 pF, not 820 fF).
+const LOWEST_PREFIX: &[(&str, i32)] = &[("F", -12)];
+
+fn lowest_exponent(unit: &str) -> i32 {
+    LOWEST_PREFIX
+        .iter()
+        .find(|(u, _)| *u == unit)
+        .map_or(-15, |(_, e)| *e)
+}
+
+/// As [`split_eng`], never with a prefix below 10^`lowest`.
+fn split_eng_from(v: f64, sig: usize, lowest: i32) -> (f64, &'static str) {
     if v == 0.0 || !v.is_finite() {
         return (v, "");
     }
@@ -260,7 +276,7 @@ fn split_eng(v: f64, sig: usize) -> (f64, &'static str) {
         let scale = 10f64.powi(sig as i32 - digits);
         (m * scale).round() / scale
     };
-    let mut exp3 = (((v.abs().log10() / 3.0).floor() as i32) * 3).clamp(-15, 12);
+    let mut exp3 = (((v.abs().log10() / 3.0).floor() as i32) * 3).clamp(lowest, 12);
     let mut m = round(v / 10f64.powi(exp3));
     // Rounding can carry 999.96 up to 1000: move to the next prefix.
     if m.abs() >= 1000.0 && exp3 < 12 {
@@ -331,13 +347,46 @@ pub fn fmt_eng_sig(v: f64, unit: &str, sig: usize) -> String {
             .trim_end()
             .to_string();
     }
-    let (m, p) = split_eng(v, sig);
-    let num = trim_number(m, sig);
+    let (m, p) = split_eng_from(v, sig, lowest_exponent(unit));
+    let num = no_negative_zero(trim_number(m, sig));
     if unit.is_empty() && p.is_empty() {
         num
     } else {
         format!("{num} {p}{unit}")
     }
+}
+
+/// "-0", "-0.00" → "0", "0.00"; other text unchanged.
+fn no_negative_zero(text: String) -> String {
+    match text.strip_prefix('-') {
+        Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
+        _ => text,
+    }
+}
+
+/// A fixed-point number with `decimals` decimals and no negative zero.
+pub fn fmt_fixed(v: f64, decimals: usize) -> String {
+    no_negative_zero(format!("{v:.decimals$}"))
+}
+
+/// A plain number (a ratio, a percentage) with `sig` significant digits
+/// and no SI prefix: `0.37`, `8958`, `100000`; exponent notation below
+/// 1e-4 and from 1e10 (`2.5e-6`). Trailing zeros dropped, no negative zero.
+pub fn fmt_plain(v: f64, sig: usize) -> String {
+    if !v.is_finite() {
+        return fmt_eng_sig(v, "", sig);
+    }
+    if v != 0.0 && (v.abs() < 1e-4 || v.abs() >= 1e10) {
+        return exponent_text(v, sig);
+    }
+    let digits = if v == 0.0 {
+        1
+    } else {
+        v.abs().log10().floor() as i32 + 1
+    };
+    let scale = 10f64.powi(sig as i32 - digits);
+    let r = (v * scale).round() / scale;
+    no_negative_zero(trim_number(r, sig.max(digits.max(1) as usize)))
 }
 
 /// Compact text that [`parse_value`] reads back: `4.7k`, `100n`, `1M`, using
@@ -376,6 +425,24 @@ mod tests {
         assert_eq!(parse_value(&fmt_compact(1e300)).unwrap(), 1e300);
         assert_eq!(fmt_eng(10e12, "Ω"), "10 TΩ");
         assert_eq!(parse_value("1meg").unwrap(), 1e6);
+    }
+
+    #[test]
+    fn plain_ratios_percentages_and_picofarads() {
+        // Ratios carry no SI prefix (a prefix reads like a unit).
+        assert_eq!(fmt_plain(0.37, 4), "0.37");
+        assert_eq!(fmt_plain(8958.28, 4), "8958");
+        assert_eq!(fmt_plain(100_000.0, 3), "100000");
+        assert_eq!(fmt_plain(-0.00001, 3), "-1e-5");
+        assert_eq!(fmt_plain(-0.0, 3), "0");
+        assert_eq!(fmt_plain(0.5, 3), "0.5");
+        assert_eq!(fmt_fixed(-0.04, 1), "0.0");
+        assert_eq!(fmt_fixed(-0.06, 1), "-0.1");
+        // Capacitors from pF up: 820 fF reads 0.82 pF.
+        assert_eq!(fmt_eng(820e-15, "F"), "0.82 pF");
+        assert_eq!(fmt_eng(1e-15, "F"), "0.001 pF");
+        assert_eq!(fmt_eng(4.7e-9, "F"), "4.7 nF");
+        assert_eq!(fmt_eng(820e-15, "A"), "820 fA");
     }
 
     #[test]

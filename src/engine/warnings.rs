@@ -36,6 +36,7 @@ pub enum Code {
     LoadCapacitance,
     Peaking,
     GainError,
+    LoadDivider,
     ResistorNoise,
     HeavyOutputLoad,
     OffSeries,
@@ -48,13 +49,14 @@ pub enum Code {
 }
 
 impl Code {
-    pub const ALL: [Code; 15] = [
+    pub const ALL: [Code; 16] = [
         Code::InputInvalid,
         Code::PhaseMargin,
         Code::NoCrossover,
         Code::LoadCapacitance,
         Code::Peaking,
         Code::GainError,
+        Code::LoadDivider,
         Code::ResistorNoise,
         Code::HeavyOutputLoad,
         Code::OffSeries,
@@ -75,6 +77,7 @@ impl Code {
             Code::LoadCapacitance => "load-capacitance",
             Code::Peaking => "peaking",
             Code::GainError => "gain-error",
+            Code::LoadDivider => "load-divider",
             Code::ResistorNoise => "resistor-noise",
             Code::HeavyOutputLoad => "heavy-output-load",
             Code::OffSeries => "off-series",
@@ -157,6 +160,7 @@ pub const RULES: &[Rule] = &[
     load_capacitance,
     peaking,
     gain_error,
+    load_divider,
     resistor_noise,
     heavy_output_load,
     off_series,
@@ -318,7 +322,7 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
         return;
     }
     let text = format!(
-        "DC gain {:.4} is {:.2} % off the ideal {:.4}, more than the {:.2} % resistor tolerance; \
+        "DC gain {:.4} is {:.2} % off the network's {:.4}, more than the {:.2} % resistor tolerance; \
          more loop gain (lower noise gain or a higher-gain amplifier) reduces it",
         a.dc_gain,
         a.gain_error * 100.0,
@@ -326,6 +330,50 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
         tol * 100.0
     );
     push(w, Code::GainError, Severity::Warning, text);
+}
+
+/// The parts that pull the passive network's gain off the resistor ratio.
+fn divider_parts(s: &Scenario) -> Vec<String> {
+    let mut parts = Vec::new();
+    let source = present(Some(s.source.r)).filter(|_| s.stage.topology == Topology::Inverting);
+    if let Some(r) = source {
+        parts.push(format!("source r {} in series with rg", fmt_eng(r, "Ω")));
+    }
+    if let (Some(riso), Some(rl)) = (present(s.stage.riso), s.load.r) {
+        parts.push(format!(
+            "riso {} into the {} load",
+            fmt_eng(riso, "Ω"),
+            fmt_eng(rl, "Ω")
+        ));
+    }
+    parts
+}
+
+/// The source resistance, riso or the load move the gain off 1 + rf/rg
+/// (or −rf/rg) by more than the tolerance.
+fn load_divider(cx: &Context, w: &mut Vec<Warning>) {
+    let (a, tol) = (cx.a, cx.s.stage.tolerance);
+    let (nominal, network) = (a.nominal_gain, a.ideal_gain);
+    if !(nominal.is_finite() && network.is_finite()) || nominal == 0.0 {
+        return;
+    }
+    let change = network / nominal - 1.0;
+    if change.abs() <= tol {
+        return;
+    }
+    let parts = divider_parts(cx.s);
+    let why = if parts.is_empty() {
+        "the passive network".to_string()
+    } else {
+        parts.join(" and ")
+    };
+    let text = format!(
+        "{why} change the gain from the nominal {nominal:.4} to {network:.4} ({:+.2} %), \
+         more than the {:.2} % tolerance; take the feedback after riso or rescale rf/rg",
+        change * 100.0,
+        tol * 100.0
+    );
+    push(w, Code::LoadDivider, Severity::Warning, text);
 }
 
 fn resistor_noise(cx: &Context, w: &mut Vec<Warning>) {

@@ -2,7 +2,8 @@
 //! its analysis and plot-ready traces, plus the selection, mode and status.
 //! `on_key` is the only way state changes; the view only reads.
 
-use super::keys::{self, Action};
+use super::field::Field;
+use super::keys::{self, Action, FieldAction, FieldKey};
 use super::theme::Theme;
 use crate::engine::analysis::{Circuit, Point};
 use crate::engine::params::{self, param, Direction, ParamRef, PARAMS};
@@ -89,6 +90,8 @@ pub struct Slot {
     pub original: Option<Original>,
     /// What to call the stage while it has no file.
     pub untitled: String,
+    /// The scenario before the last change (one level of undo).
+    pub undo: Option<Scenario>,
 }
 
 impl Slot {
@@ -109,6 +112,7 @@ impl Slot {
             dirty: false,
             original,
             untitled: "(built-in demo)".into(),
+            undo: None,
         };
         slot.set_probe(probe_hz);
         slot
@@ -163,21 +167,35 @@ pub enum StatusKind {
 pub enum Prompt {
     SaveAs,
     Probe,
+    Title,
+}
+
+impl Prompt {
+    /// The prompt's label in the status line.
+    pub fn label(self) -> &'static str {
+        match self {
+            Prompt::SaveAs => "save as",
+            Prompt::Probe => "Zout at (Hz)",
+            Prompt::Title => "title",
+        }
+    }
 }
 
 #[derive(Debug, Clone, PartialEq)]
 pub enum Mode {
     Normal,
     /// Typing a new value for the selected parameter.
-    Edit(String),
-    /// Typing a path or frequency in the status line.
-    Prompt(Prompt, String),
+    Edit(Field),
+    /// Typing a path, frequency or title in the status line.
+    Prompt(Prompt, Field),
     /// Choosing a file to open.
     Open {
         files: Vec<PathBuf>,
         selected: usize,
-        typed: String,
+        typed: Field,
     },
+    /// The other slot has unsaved changes: copy over them?
+    ConfirmCopy,
     /// Choosing an amplifier archetype: the highlighted entry.
     Pick(usize),
     Help,
@@ -244,6 +262,18 @@ pub struct App {
     pub running: bool,
     pub archetypes: Vec<Archetype>,
     pub archetype: usize,
+    /// Where the Bode view is too short for both, it shows the phase
+    /// instead of the magnitude.
+    pub show_phase: bool,
+}
+
+/// A copy's title: the original's with the slot it came from, once.
+fn copy_title(title: &str, from: &str) -> String {
+    let base = title
+        .rsplit_once(" (copy of ")
+        .filter(|(_, tail)| tail.len() == 2 && tail.ends_with(')'))
+        .map_or(title, |(head, _)| head);
+    format!("{base} (copy of {from})")
 }
 
 /// The `.ron` files in the current folder and in scenarios/.
@@ -290,13 +320,14 @@ impl App {
             view: View::Response,
             probe_hz,
             mode: Mode::Normal,
-            status: keys::hint_line(),
+            status: String::new(),
             status_kind: StatusKind::Info,
             warn_scroll: 0,
             theme,
             running: true,
             archetypes: archetypes(),
             archetype: 0,
+            show_phase: false,
         }
     }
 
@@ -343,7 +374,7 @@ impl App {
         let probe = self.probe_hz;
         let slot = &mut self.slots[self.active];
         if slot.scenario != s {
-            slot.scenario = s;
+            slot.undo = Some(std::mem::replace(&mut slot.scenario, s));
             slot.dirty = true;
             slot.refresh(probe);
         }
@@ -384,6 +415,9 @@ impl App {
         let mode = std::mem::replace(&mut self.mode, Mode::Normal);
         match mode {
             Mode::Normal => {
+                // A message lasts until the next key; then the hint line
+                // about the selected parameter shows again.
+                self.status.clear();
                 if let Some(action) = keys::action_for(&key) {
                     self.act(action);
                 }
@@ -397,6 +431,10 @@ impl App {
             Mode::ConfirmSave(path, ask) => match key.code {
                 KeyCode::Char('y') | KeyCode::Char('Y') => self.save_checked(&path, ask.next()),
                 _ => self.info("not saved: your changes are kept in memory"),
+            },
+            Mode::ConfirmCopy => match key.code {
+                KeyCode::Char('y') | KeyCode::Char('Y') => self.copy_to_other(false),
+                _ => self.info("not copied: the other stage is kept"),
             },
             Mode::ConfirmQuit => match key.code {
                 KeyCode::Char('y') | KeyCode::Char('Y') => self.running = false,
@@ -413,6 +451,10 @@ impl App {
                     match kind {
                         Prompt::SaveAs => self.save_as(&text),
                         Prompt::Probe => self.set_probe(&text),
+                        Prompt::Title => self.change("title", |s| {
+                            s.title = text.trim().to_string();
+                            Ok(())
+                        }),
                     }
                 }
             }
@@ -442,49 +484,46 @@ impl App {
     fn on_text_key(
         &mut self,
         key: KeyEvent,
-        mut buf: String,
-        reopen: impl Fn(String) -> Mode,
+        mut field: Field,
+        reopen: impl Fn(Field) -> Mode,
     ) -> Option<String> {
-        match key.code {
-            KeyCode::Enter => return Some(buf),
-            KeyCode::Esc => {
+        match keys::field_key(&key) {
+            FieldKey::Edit(FieldAction::Apply) => return Some(field.text()),
+            FieldKey::Edit(FieldAction::Cancel) => {
                 self.info("cancelled");
                 return None;
             }
-            KeyCode::Backspace => {
-                buf.pop();
-            }
-            KeyCode::Char(c) => buf.push(c),
-            _ => {}
+            FieldKey::Edit(a) => field.edit(a),
+            FieldKey::Type(c) => field.insert(c),
+            FieldKey::Ignore => {}
         }
-        self.mode = reopen(buf);
+        self.mode = reopen(field);
         None
     }
 
-    fn on_open_key(&mut self, key: KeyEvent, files: Vec<PathBuf>, mut sel: usize, mut buf: String) {
-        match key.code {
-            KeyCode::Esc => {
+    fn on_open_key(&mut self, key: KeyEvent, files: Vec<PathBuf>, mut sel: usize, mut buf: Field) {
+        match (key.code, keys::field_key(&key)) {
+            (_, FieldKey::Edit(FieldAction::Cancel)) => {
                 self.info("open cancelled");
                 return;
             }
-            KeyCode::Enter => {
-                let path = if buf.trim().is_empty() {
+            (_, FieldKey::Edit(FieldAction::Apply)) => {
+                let typed = buf.text();
+                let path = if typed.trim().is_empty() {
                     files.get(sel).cloned()
                 } else {
-                    Some(PathBuf::from(buf.trim()))
+                    Some(PathBuf::from(typed.trim()))
                 };
                 if let Some(p) = path {
                     self.open(&p);
                 }
                 return;
             }
-            KeyCode::Up => sel = sel.saturating_sub(1),
-            KeyCode::Down => sel = (sel + 1).min(files.len().saturating_sub(1)),
-            KeyCode::Backspace => {
-                buf.pop();
-            }
-            KeyCode::Char(c) => buf.push(c),
-            _ => {}
+            (KeyCode::Up, _) => sel = sel.saturating_sub(1),
+            (KeyCode::Down, _) => sel = (sel + 1).min(files.len().saturating_sub(1)),
+            (_, FieldKey::Edit(a)) => buf.edit(a),
+            (_, FieldKey::Type(c)) => buf.insert(c),
+            (_, FieldKey::Ignore) => {}
         }
         self.mode = Mode::Open {
             files,
@@ -511,7 +550,8 @@ impl App {
             }
             Action::WriteFigure => self.write_figure(),
             Action::ProbeFrequency => {
-                self.mode = Mode::Prompt(Prompt::Probe, values::fmt_compact(self.probe_hz));
+                let now = values::fmt_compact(self.probe_hz);
+                self.mode = Mode::Prompt(Prompt::Probe, Field::offering(&now));
                 self.info("frequency for the Zout figure (e.g. 10k); Enter applies");
             }
             Action::ScrollWarningsDown => {
@@ -526,13 +566,28 @@ impl App {
                 self.mode = Mode::Open {
                     files: scenario_files(),
                     selected: 0,
-                    typed: String::new(),
+                    typed: Field::default(),
                 };
                 self.info("open: ↑↓ choose, or type a path; Enter opens, Esc cancels");
             }
             Action::PickArchetype => self.start_pick(),
-            Action::CopyToOther => self.copy_to_other(),
+            Action::CopyToOther => self.copy_to_other(true),
             Action::SwitchSlot => self.switch_slot(),
+            Action::Undo => self.undo(),
+            Action::GainOrPhase => {
+                self.show_phase = !self.show_phase;
+                let which = if self.show_phase {
+                    "phase"
+                } else {
+                    "magnitude"
+                };
+                self.info(format!("a short Bode plot shows the {which}"));
+            }
+            Action::EditTitle => {
+                let title = self.slot().scenario.title.clone();
+                self.mode = Mode::Prompt(Prompt::Title, Field::offering(&title));
+                self.info("title: type a new one (or ← → to edit it); Enter applies, Esc cancels");
+            }
         }
     }
 
@@ -608,7 +663,7 @@ impl App {
 
     fn start_edit(&mut self) {
         let p = self.selected;
-        self.mode = Mode::Edit(p.edit_text(&self.slot().scenario));
+        self.mode = Mode::Edit(Field::offering(&p.edit_text(&self.slot().scenario)));
         self.info(format!(
             "type a value for {} (4k7, 2.2n, 10M …); Enter applies, Esc cancels",
             p.label
@@ -643,7 +698,7 @@ impl App {
             .as_ref()
             .map(|p| p.display().to_string())
             .unwrap_or_default();
-        self.mode = Mode::Prompt(Prompt::SaveAs, start);
+        self.mode = Mode::Prompt(Prompt::SaveAs, Field::offering(&start));
         self.info("save as: type a path (.ron is added); Enter saves, Esc cancels");
     }
 
@@ -713,11 +768,25 @@ impl App {
         ));
     }
 
-    fn copy_to_other(&mut self) {
+    /// Copy the edited stage into the other slot; over unsaved changes
+    /// there, ask first when `ask`.
+    fn copy_to_other(&mut self, ask: bool) {
+        let from = Self::slot_label(self.active);
+        let to = Self::slot_label(1 - self.active);
+        if ask && self.slots.len() > 1 && self.slots[1 - self.active].dirty {
+            self.mode = Mode::ConfirmCopy;
+            self.error(format!(
+                "{to} has unsaved changes: copy {from} over them? y = copy, any other key = keep {to}"
+            ));
+            return;
+        }
         let mut copy = self.slot().clone();
         copy.dirty = true;
         copy.path = None;
-        let from = Self::slot_label(self.active);
+        copy.original = None;
+        copy.undo = None;
+        copy.scenario.title = copy_title(&copy.scenario.title, from);
+        copy.refresh(self.probe_hz);
         copy.untitled = format!("(copy of {from}, not saved)");
         if self.slots.len() == 1 {
             self.slots.push(copy);
@@ -725,9 +794,28 @@ impl App {
             let other = 1 - self.active;
             self.slots[other] = copy;
         }
-        let to = Self::slot_label(1 - self.active);
         self.info(format!(
             "copied {from} into {to}; Tab switches which one you edit"
+        ));
+    }
+
+    /// Take back the last change to the edited stage (a second time puts
+    /// it back).
+    fn undo(&mut self) {
+        let probe = self.probe_hz;
+        let label = Self::slot_label(self.active);
+        let slot = &mut self.slots[self.active];
+        let Some(before) = slot.undo.take() else {
+            self.info(format!("{label}: nothing to take back"));
+            return;
+        };
+        slot.undo = Some(std::mem::replace(&mut slot.scenario, before));
+        slot.dirty = true;
+        slot.refresh(probe);
+        self.ensure_visible_selection();
+        self.warn_scroll = 0;
+        self.info(format!(
+            "{label}: last change taken back (Backspace again puts it back)"
         ));
     }
 
@@ -735,7 +823,7 @@ impl App {
         match self.slot().path.clone() {
             Some(p) => self.save_to(&p),
             None => {
-                self.mode = Mode::Prompt(Prompt::SaveAs, String::new());
+                self.mode = Mode::Prompt(Prompt::SaveAs, Field::default());
                 self.info("no file yet: type a path to save to (.ron is added)");
             }
         }

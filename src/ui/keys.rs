@@ -26,6 +26,9 @@ pub enum Action {
     PickArchetype,
     CopyToOther,
     SwitchSlot,
+    Undo,
+    EditTitle,
+    GainOrPhase,
     Save,
     SaveAs,
     Open,
@@ -71,7 +74,7 @@ pub const KEYS: &[Binding] = &[
         shown: "↑ ↓, k j",
         action: Action::SelectUp,
         help: "select a parameter",
-        hint: Some("↑↓ select"),
+        hint: None,
     },
     Binding {
         keys: &[code(KeyCode::Down), k('j')],
@@ -85,7 +88,7 @@ pub const KEYS: &[Binding] = &[
         shown: "← →, h l, - +",
         action: Action::StepUp,
         help: "step: resistors E-series, capacitors E12, models 1-2-5",
-        hint: Some("←→ step"),
+        hint: None,
     },
     Binding {
         keys: &[code(KeyCode::Left), k('h'), k('-')],
@@ -99,7 +102,7 @@ pub const KEYS: &[Binding] = &[
         shown: "Enter",
         action: Action::TypeValue,
         help: "type a value (4k7, 2.2n, none); Enter applies, Esc cancels",
-        hint: Some("Enter type a value"),
+        hint: Some("Enter types"),
     },
     Binding {
         keys: &[k('e')],
@@ -127,6 +130,13 @@ pub const KEYS: &[Binding] = &[
         shown: "p",
         action: Action::WriteFigure,
         help: "write the plot view as SVG next to the stage's file",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('g')],
+        shown: "g",
+        action: Action::GainOrPhase,
+        help: "magnitude or phase, where the plot is too short for both",
         hint: None,
     },
     Binding {
@@ -165,6 +175,20 @@ pub const KEYS: &[Binding] = &[
         hint: None,
     },
     Binding {
+        keys: &[code(KeyCode::Backspace)],
+        shown: "Backspace",
+        action: Action::Undo,
+        help: "take back the last change to this stage (again: put it back)",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('t')],
+        shown: "t",
+        action: Action::EditTitle,
+        help: "edit the stage's title",
+        hint: None,
+    },
+    Binding {
         keys: &[code(KeyCode::Tab), k('b')],
         shown: "Tab, b",
         action: Action::SwitchSlot,
@@ -172,15 +196,15 @@ pub const KEYS: &[Binding] = &[
         hint: None,
     },
     Binding {
-        keys: &[k('w')],
-        shown: "w",
+        keys: &[k('s')],
+        shown: "s",
         action: Action::Save,
         help: "save to the stage's file (asks for a path if it has none)",
         hint: None,
     },
     Binding {
-        keys: &[k('W')],
-        shown: "W",
+        keys: &[k('S')],
+        shown: "S",
         action: Action::SaveAs,
         help: "save under a new name (.ron added)",
         hint: None,
@@ -197,14 +221,14 @@ pub const KEYS: &[Binding] = &[
         shown: "?",
         action: Action::Help,
         help: "this help (any key closes it)",
-        hint: Some("? help"),
+        hint: Some("? keys"),
     },
     Binding {
         keys: &[k('q')],
         shown: "q",
         action: Action::Quit,
         help: "quit (asks first if there are unsaved changes)",
-        hint: Some("q quit"),
+        hint: None,
     },
     Binding {
         keys: &[Key {
@@ -218,11 +242,136 @@ pub const KEYS: &[Binding] = &[
     },
 ];
 
+/// What a key does in a text field (a value, the title, a path, a
+/// frequency).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FieldAction {
+    Apply,
+    Cancel,
+    Left,
+    Right,
+    Home,
+    End,
+    Backspace,
+    Delete,
+    Clear,
+    DeleteWord,
+}
+
+/// One key of a text field.
+#[derive(Debug, Clone, Copy)]
+pub struct FieldBinding {
+    pub keys: &'static [Key],
+    pub shown: &'static str,
+    pub action: FieldAction,
+    pub help: &'static str,
+}
+
+const fn ctrl(c: char) -> Key {
+    Key {
+        code: KeyCode::Char(c),
+        ctrl: true,
+    }
+}
+
+/// Every key of a text field, in help order. Other characters are typed;
+/// other control keys do nothing.
+pub const FIELD_KEYS: &[FieldBinding] = &[
+    FieldBinding {
+        keys: &[code(KeyCode::Enter)],
+        shown: "Enter",
+        action: FieldAction::Apply,
+        help: "apply",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Esc)],
+        shown: "Esc",
+        action: FieldAction::Cancel,
+        help: "cancel",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Left)],
+        shown: "←",
+        action: FieldAction::Left,
+        help: "cursor left (keeps the old value to edit)",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Right)],
+        shown: "→",
+        action: FieldAction::Right,
+        help: "cursor right",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Home)],
+        shown: "Home",
+        action: FieldAction::Home,
+        help: "cursor to the start",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::End)],
+        shown: "End",
+        action: FieldAction::End,
+        help: "cursor to the end",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Backspace)],
+        shown: "Backspace",
+        action: FieldAction::Backspace,
+        help: "delete before the cursor (the whole old value while it is offered)",
+    },
+    FieldBinding {
+        keys: &[code(KeyCode::Delete)],
+        shown: "Del",
+        action: FieldAction::Delete,
+        help: "delete under the cursor",
+    },
+    FieldBinding {
+        keys: &[ctrl('u')],
+        shown: "Ctrl-U",
+        action: FieldAction::Clear,
+        help: "clear the field (the POSIX line-kill character)",
+    },
+    FieldBinding {
+        keys: &[ctrl('w')],
+        shown: "Ctrl-W",
+        action: FieldAction::DeleteWord,
+        help: "delete the word before the cursor (the POSIX word-erase character)",
+    },
+];
+
+/// What a key does in a text field: an editing action, a character to
+/// type, or nothing.
+pub enum FieldKey {
+    Edit(FieldAction),
+    Type(char),
+    Ignore,
+}
+
+pub fn field_key(ev: &KeyEvent) -> FieldKey {
+    if let Some(b) = FIELD_KEYS
+        .iter()
+        .find(|b| b.keys.iter().any(|k| k.matches(ev)))
+    {
+        return FieldKey::Edit(b.action);
+    }
+    let control = ev
+        .modifiers
+        .intersects(KeyModifiers::CONTROL | KeyModifiers::ALT);
+    match ev.code {
+        KeyCode::Char(c) if !control && !c.is_control() => FieldKey::Type(c),
+        _ => FieldKey::Ignore,
+    }
+}
+
 /// What the plots and marks mean, shown under the keys in the help.
 pub const LEGEND: &[(&str, &str)] = &[
     (
         "plots",
         "A solid, B dotted; -3dB and fc: f−3dB, loop crossover",
+    ),
+    (
+        "typing",
+        "typing replaces; ← → Home End edit; Ctrl-U/W clear line/word",
     ),
     (
         "marks",

@@ -2,6 +2,7 @@
 //! rescue files. This is the only module that touches the terminal.
 
 pub mod app;
+pub mod field;
 pub mod keys;
 pub mod plot;
 pub mod theme;

@@ -55,7 +55,9 @@ pub struct LogPlot<'a> {
     pub markers: (Marker, Marker),
     pub label_style: Style,
     pub mark_style: Style,
-    /// Glyph for the y tick marks.
+    /// The y axis: a rule along the plot's left edge (`rule`) with a tick
+    /// mark (`tick`) at each labelled value, one column from its label.
+    pub rule: &'static str,
     pub tick: &'static str,
     /// Whether the bottom row carries the decade labels.
     pub x_labels: bool,
@@ -173,9 +175,9 @@ impl Widget for &LogPlot<'_> {
         }
         let label_w = self.label_width();
         let plot = Rect {
-            x: area.x + label_w + 1,
+            x: area.x + label_w + 2,
             y: area.y,
-            width: area.width.saturating_sub(label_w + 1),
+            width: area.width.saturating_sub(label_w + 2),
             height: area.height.saturating_sub(label_rows),
         };
         if plot.width < 4 || plot.height < 2 {
@@ -198,9 +200,12 @@ impl LogPlot<'_> {
             .unwrap_or(0)
     }
 
-    /// Y labels and tick marks left of the plot (one per row).
+    /// The y axis left of the plot: the rule, tick marks and labels.
     fn draw_y_ticks(&self, area: Rect, label_w: u16, plot: Rect, buf: &mut Buffer) {
         let (y0, y1) = self.y_range;
+        for row in plot.y..plot.y + plot.height {
+            buf.set_string(plot.x - 1, row, self.rule, self.label_style);
+        }
         let mut used_rows = Vec::new();
         for (v, label) in &self.y_ticks {
             if *v < y0 - 1e-9 || *v > y1 + 1e-9 {

@@ -1,11 +1,12 @@
 //! Drawing: reads the App, never changes it.
 
-use super::app::{App, Mode, Prompt, Slot, View};
+use super::app::{App, Mode, Slot, View};
+use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
-use crate::engine::figures::{key_figures, row_figures, Figure, Reading};
+use crate::engine::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
 use crate::engine::params::Group;
-use crate::engine::values::fmt_eng;
+use crate::engine::values::{fmt_eng, fmt_fixed};
 use crate::engine::Severity;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
@@ -16,6 +17,10 @@ use ratatui::Frame;
 /// The smallest terminal the workbench lays out for.
 pub const MIN_W: u16 = 80;
 pub const MIN_H: u16 = 24;
+
+/// Rows inside the Bode plot below which it shows magnitude or phase, not
+/// both (at 80×24 it has 10).
+const BOTH_ROWS: u16 = 14;
 
 /// Frequency window of the response and impedance plots (log10 Hz).
 const X_WINDOW: (f64, f64) = (0.0, 9.0);
@@ -106,6 +111,8 @@ pub fn ascii_char(c: char) -> char {
         '≠' => '*',
         '·' | '•' => '.',
         '∥' | '│' => '|',
+        '├' => '+',
+        '▸' => '>',
         '…' => '.',
         '±' => '~',
         '↑' => '^',
@@ -132,6 +139,28 @@ fn asciify(area: Rect, buf: &mut ratatui::buffer::Buffer) {
     }
 }
 
+/// A text field: an offered old value underlined (typing replaces it),
+/// otherwise the text with the cursor cell in `cursor` style (`_` at the
+/// end).
+fn field_spans(
+    field: &Field,
+    base: ratatui::style::Style,
+    cursor: ratatui::style::Style,
+) -> Vec<Span<'static>> {
+    if field.offered() {
+        return vec![
+            Span::styled(field.text(), base.add_modifier(Modifier::UNDERLINED)),
+            Span::styled("_", cursor),
+        ];
+    }
+    let (before, at, after) = field.parts();
+    vec![
+        Span::styled(before, base),
+        Span::styled(at.map_or("_".to_string(), String::from), cursor),
+        Span::styled(after, base),
+    ]
+}
+
 fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
     Block::default()
         .borders(Borders::ALL)
@@ -141,42 +170,42 @@ fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
         .title_style(app.theme.title)
 }
 
+/// The top line: each stage's label, file and an "edited" mark, the
+/// edited stage's title, and the program's name at the right.
 fn title_bar(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
-    let mut spans = vec![Span::styled(
-        " loopwright ",
-        t.title.add_modifier(Modifier::REVERSED),
-    )];
+    let two = app.slots.len() > 1;
+    let mut spans = vec![Span::raw(" ")];
     for (i, s) in app.slots.iter().enumerate() {
-        let label = App::slot_label(i);
-        let mark = if s.dirty { " [modified]" } else { "" };
-        let style = if i == app.active && app.slots.len() > 1 {
-            t.title.add_modifier(Modifier::UNDERLINED)
+        if i > 0 {
+            spans.push(Span::styled(" │ ", t.dim));
+        }
+        let label = if two && i == app.active {
+            format!("{}▸", App::slot_label(i))
         } else {
-            t.normal
+            App::slot_label(i).to_string()
         };
-        let edit = if i == app.active && app.slots.len() > 1 {
-            " (editing)"
-        } else {
-            ""
-        };
-        spans.push(Span::styled(
-            format!("  {label}: {}{mark}{edit}", s.name()),
-            style,
-        ));
+        spans.push(Span::styled(label, t.title));
+        spans.push(Span::styled(format!(" {}", s.name()), t.normal));
+        if s.dirty {
+            spans.push(Span::styled(" edited", t.warning));
+        }
     }
     spans.push(Span::styled(
         format!(
-            "  — {}",
+            " · {}",
             crate::engine::values::printable(&app.slot().scenario.title)
         ),
-        t.dim,
+        t.title,
     ));
-    Paragraph::new(Line::from(spans)).render(area, buf);
-    let help = " ? help ";
-    if area.width as usize > help.len() {
-        buf.set_string(area.x + area.width - help.len() as u16, area.y, help, t.dim);
+    let used: usize = spans.iter().map(|s| s.width()).sum();
+    let name = " loopwright ";
+    let room = (area.width as usize).saturating_sub(used);
+    if room > name.len() {
+        spans.push(Span::raw(" ".repeat(room - name.len())));
+        spans.push(Span::styled(name, t.dim));
     }
+    Paragraph::new(Line::from(spans)).render(area, buf);
 }
 
 fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -211,19 +240,28 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         };
         let is_sel = p == app.selected;
         let row_style = if is_sel { t.selected } else { t.normal };
-        let value_text = match (&app.mode, is_sel) {
-            (Mode::Edit(buf), true) => format!("{buf}_"),
-            _ => value,
-        };
         if is_sel {
             selected_line = lines.len();
         }
-        lines.push(Line::from(vec![
+        let mut spans = vec![
             Span::styled(mark, if diff { t.differs } else { t.normal }),
             Span::styled(format!(" {:<10}", p.label), row_style),
-            Span::styled(format!("{value_text:<value_w$}"), row_style),
-            note,
-        ]));
+        ];
+        match (&app.mode, is_sel) {
+            (Mode::Edit(field), true) => {
+                let shown = field.text().chars().count() + 1;
+                spans.extend(field_spans(field, row_style, t.normal));
+                spans.push(Span::styled(
+                    " ".repeat(value_w.saturating_sub(shown)),
+                    row_style,
+                ));
+            }
+            _ => {
+                spans.push(Span::styled(format!("{value:<value_w$}"), row_style));
+                spans.push(note);
+            }
+        }
+        lines.push(Line::from(spans));
     }
     let h = inner.height as usize;
     let scroll = (selected_line + 1).saturating_sub(h);
@@ -310,7 +348,8 @@ fn plot<'a>(
         markers: app.theme.markers(),
         label_style: app.theme.dim,
         mark_style: app.theme.marker,
-        tick: if app.theme.ascii { "+" } else { "┤" },
+        rule: if app.theme.ascii { "|" } else { "│" },
+        tick: if app.theme.ascii { "+" } else { "├" },
         x_labels: true,
     }
 }
@@ -347,10 +386,23 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let a = &app.slot().analysis;
     let loop_view = app.view == View::Loop;
     let title = format!(" {}{} ", app.view.title(), legend(app));
-    let b = block(app, title);
+    let mut b = block(app, title);
+    if !loop_view {
+        b = b.title_bottom(Line::styled(gains_line(app), app.theme.dim));
+    }
     let inner = b.inner(area);
     b.render(area, buf);
-    let [mag, phase] = Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner);
+    // Too short for both: one of them, as the p key chose.
+    let [mag, phase] = if inner.height < BOTH_ROWS {
+        let none = Rect { height: 0, ..inner };
+        if app.show_phase {
+            [none, inner]
+        } else {
+            [inner, none]
+        }
+    } else {
+        Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner)
+    };
     let x = X_WINDOW;
     let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
         (
@@ -360,7 +412,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     } else {
         (
             traces(app, |s| &s.traces.gain_db, None, Joining::Continuous),
-            traces(app, |s| &s.traces.gain_phase, None, Joining::BreakAtWrap),
+            traces(app, |s| &s.traces.gain_phase, None, Joining::Continuous),
         )
     };
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
@@ -375,32 +427,72 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             label: "-3dB".into(),
         });
     }
-    if let Some(f) = a.crossover_hz {
+    if let Some(f) = a.crossover_hz.filter(|_| loop_view) {
         marks.push(VMark {
             x: f.log10(),
             label: "fc".into(),
         });
     }
+    if let (Some(f), Some(gm), true) = (a.phase_180_hz, a.gain_margin_db, loop_view) {
+        marks.push(VMark {
+            x: f.log10(),
+            label: format!("gain margin {} dB @ {}", fmt_fixed(gm, 0), fmt_eng(f, "Hz")),
+        });
+    }
+    // The margin is a property of the loop: written on its view only, on
+    // the phase plot (or the magnitude when the phase is not shown).
+    let mut margin = Vec::new();
+    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
+        margin.push(VMark {
+            x: f.log10(),
+            label: format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz")),
+        });
+    }
+    if phase.height == 0 {
+        marks.append(&mut margin);
+    }
     // The magnitude shares its frequency axis with the phase plot below.
     let mut mag_plot = plot(app, mag_tr, x, y, marks);
-    mag_plot.x_labels = false;
+    mag_plot.x_labels = phase.height == 0;
     mag_plot.render(mag, buf);
     let (plo, phi) = visible_range(ph_tr.iter().map(|t| t.points), x);
     let prow = phase.height.saturating_sub(1) as usize;
     let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
-    let mut marks = Vec::new();
-    if let Some(f) = a.crossover_hz {
-        let label = match a.phase_margin_deg {
-            Some(pm) => format!("PM {pm:.0}°"),
-            None => "fc".into(),
-        };
-        marks.push(VMark {
-            x: f.log10(),
-            label,
-        });
+    plot(app, ph_tr, x, y, margin).render(phase, buf);
+}
+
+/// The stage's gains, from the figure table's gain ratios: nominal, with
+/// the passive network, and the DC gain.
+fn gains_line(app: &App) -> String {
+    let slot = app.slot();
+    let cells: Vec<String> = crate::engine::figures::FIGURES
+        .iter()
+        .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
+        .map(|f| {
+            let cell = f.cell(f.read(&slot.analysis), false);
+            format!("{} {}", f.short, trim_zeros(&cell))
+        })
+        .collect();
+    let who = if app.slots.len() > 1 {
+        format!("{} ", App::slot_label(app.active))
+    } else {
+        String::new()
+    };
+    format!(" {who}{} ", cells.join(" · "))
+}
+
+/// "11.0000" → "11", "10.9980" → "10.998"; other text unchanged.
+fn trim_zeros(cell: &str) -> String {
+    if cell.contains('.')
+        && cell
+            .chars()
+            .all(|c| c.is_ascii_digit() || "+-.".contains(c))
+    {
+        cell.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        cell.to_string()
     }
-    plot(app, ph_tr, x, y, marks).render(phase, buf);
 }
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -725,22 +817,19 @@ fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let line = match &app.mode {
-        Mode::Edit(b) => Line::from(vec![
-            Span::styled(format!(" {} = ", app.selected.label), t.title),
-            Span::raw(format!("{b}_")),
-            Span::styled("   Enter applies · Esc cancels", t.dim),
-        ]),
-        Mode::Prompt(kind, b) => {
-            let label = match kind {
-                Prompt::SaveAs => "save as",
-                Prompt::Probe => "Zout at (Hz)",
-            };
-            Line::from(vec![
-                Span::styled(format!(" {label}: "), t.title),
-                Span::raw(format!("{b}_")),
-                Span::styled("   Enter · Esc cancels", t.dim),
-            ])
+        Mode::Edit(b) => {
+            let mut spans = vec![Span::styled(format!(" {} = ", app.selected.label), t.title)];
+            spans.extend(field_spans(b, t.normal, t.selected));
+            spans.push(Span::styled(field_hint(b), t.dim));
+            Line::from(spans)
         }
+        Mode::Prompt(kind, b) => {
+            let mut spans = vec![Span::styled(format!(" {}: ", kind.label()), t.title)];
+            spans.extend(field_spans(b, t.normal, t.selected));
+            spans.push(Span::styled(field_hint(b), t.dim));
+            Line::from(spans)
+        }
+        Mode::Normal if app.status.is_empty() => param_hint(app),
         _ => {
             let style = match app.status_kind {
                 super::app::StatusKind::Error => t.error,
@@ -750,6 +839,36 @@ fn status_line(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
     };
     Paragraph::new(line).render(area, buf);
+}
+
+/// The hint line: what ← → do to the selected value (the value each way,
+/// how it steps), its accepted range, then the table's hint keys.
+fn param_hint(app: &App) -> Line<'static> {
+    let t = &app.theme;
+    let p = app.selected;
+    let s = &app.slot().scenario;
+    let (down, up) = p.step_preview(s);
+    let end = |v: Option<String>| v.unwrap_or_else(|| "end".into());
+    let mut spans = vec![
+        Span::styled(format!(" {} ", p.label), t.title),
+        Span::styled(p.display(s), t.normal),
+        Span::styled(format!("  ← {}  → {} ", end(down), end(up)), t.normal),
+        Span::styled(p.step_text(s), t.dim),
+    ];
+    if p.choice(s).is_none() {
+        spans.push(Span::styled(format!(" · {}", p.range_text()), t.dim));
+    }
+    spans.push(Span::styled(format!(" · {}", keys::hint_line()), t.dim));
+    Line::from(spans)
+}
+
+/// What the field keys do now, in a few words.
+fn field_hint(field: &Field) -> &'static str {
+    if field.offered() {
+        "   typing replaces · ← → edit · Enter applies · Esc cancels"
+    } else {
+        "   Enter applies · Esc cancels · Ctrl-U clears"
+    }
 }
 
 fn centered(area: Rect, w: u16, h: u16) -> Rect {
@@ -764,9 +883,12 @@ fn centered(area: Rect, w: u16, h: u16) -> Rect {
 }
 
 fn help_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    // The legend only where it fits below every key.
+    let n_keys = keys::help_rows().count();
+    let legend = (area.height as usize).saturating_sub(n_keys + 2);
     let rows: Vec<(&str, &str)> = keys::help_rows()
         .map(|b| (b.shown, b.help))
-        .chain(keys::LEGEND.iter().copied())
+        .chain(keys::LEGEND.iter().copied().take(legend))
         .collect();
     let r = centered(area, 78, rows.len() as u16 + 2);
     Clear.render(r, buf);
@@ -791,7 +913,7 @@ fn open_overlay(
     buf: &mut ratatui::buffer::Buffer,
     files: &[std::path::PathBuf],
     sel: usize,
-    typed: &str,
+    typed: &Field,
 ) {
     let h = (files.len() as u16 + 4).min(area.height.saturating_sub(2));
     let r = centered(area, 70, h);
@@ -802,10 +924,10 @@ fn open_overlay(
     );
     let inner = b.inner(r);
     b.render(r, buf);
-    let mut lines = vec![Line::from(vec![
-        Span::styled(" path: ", app.theme.title),
-        Span::raw(format!("{typed}_")),
-    ])];
+    let mut lines = vec![Line::from(vec![Span::styled(" path: ", app.theme.title)])];
+    lines[0]
+        .spans
+        .extend(field_spans(typed, app.theme.normal, app.theme.selected));
     let visible = inner.height.saturating_sub(1) as usize;
     let start = sel.saturating_sub(visible.saturating_sub(1));
     for (i, f) in files.iter().enumerate().skip(start).take(visible) {
