@@ -109,21 +109,28 @@ pub fn start_in(name: &str, dir: &Path, env: &str, args: &str) -> Option<Session
     let _ = Command::new("tmux")
         .args(["kill-session", "-t", name])
         .output();
-    let ok = Command::new("tmux")
-        .args([
-            "new-session",
-            "-d",
-            "-s",
-            name,
-            "-x",
-            "100",
-            "-y",
-            "30",
-            &cmd,
-        ])
-        .status()
-        .map(|s| s.success())
-        .unwrap_or(false);
+    // Tests run in parallel on one tmux server, which exits when its last
+    // session ends: a new session can race that exit, so try again.
+    let ok = (0..10).any(|attempt| {
+        if attempt > 0 {
+            std::thread::sleep(Duration::from_millis(200));
+        }
+        Command::new("tmux")
+            .args([
+                "new-session",
+                "-d",
+                "-s",
+                name,
+                "-x",
+                "100",
+                "-y",
+                "30",
+                &cmd,
+            ])
+            .status()
+            .map(|s| s.success())
+            .unwrap_or(false)
+    });
     if !ok {
         assert!(
             std::env::var_os("CI").is_none(),
