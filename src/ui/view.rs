@@ -523,17 +523,19 @@ fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let tr = traces(app, |s| &s.traces.noise, None, Joining::Continuous);
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
     let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
-    let marks = vec![
-        VMark {
-            x: s.band.0.log10(),
-            label: "band".into(),
-        },
-        VMark {
-            x: s.band.1.log10(),
-            label: "band".into(),
-        },
-    ];
+    let marks = band_marks(s);
     plot(app, tr, x, y, marks).render(inner, buf);
+}
+
+/// The band's two edges as plot marks.
+fn band_marks(s: &crate::engine::Scenario) -> Vec<VMark> {
+    [s.band.0, s.band.1]
+        .into_iter()
+        .map(|f| VMark {
+            x: f.log10(),
+            label: "band".into(),
+        })
+        .collect()
 }
 
 /// The output envelope at the internal output across the band: the
@@ -594,16 +596,7 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         (-1.0, 1.0)
     };
     let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
-    let mut marks = vec![
-        VMark {
-            x: s.band.0.log10(),
-            label: "band".into(),
-        },
-        VMark {
-            x: s.band.1.log10(),
-            label: "band".into(),
-        },
-    ];
+    let mut marks = band_marks(s);
     if let Some((f, _)) = l.envelope_limit {
         marks.push(VMark {
             x: f.log10(),
