@@ -86,6 +86,10 @@ pub enum Command {
         /// Also report the figures at this frequency (repeatable; `1k`, `2.5M`).
         #[arg(long = "at", value_name = "HZ", value_parser = parse_frequency, allow_hyphen_values = true)]
         at: Vec<f64>,
+        /// With --json: add N samples of the step response (`t_s`, `v`)
+        /// from 0 to twice its 0.01 % settling time.
+        #[arg(long, value_name = "N", requires = "json", value_parser = clap::value_parser!(u32).range(2..=1_000_000))]
+        waveform: Option<u32>,
         /// A one-page Markdown design note: parts, figures, warnings.
         #[arg(long, conflicts_with = "json")]
         md: bool,

@@ -21,6 +21,7 @@ fn report(
     file: Option<&Path>,
     json: bool,
     at: &[f64],
+    waveform: Option<u32>,
     md: bool,
     figures: Option<&Path>,
     force: bool,
@@ -35,7 +36,12 @@ fn report(
         };
         note::write_markdown(&s, &a, &links, &mut buf)?;
     } else if json {
-        Report::new(&s, &a, at).write_json(&mut buf)?;
+        let r = Report::new(&s, &a, at);
+        match waveform {
+            Some(n) => r.with_waveform(&a, n as usize),
+            None => r,
+        }
+        .write_json(&mut buf)?;
     } else {
         write_text(&Report::new(&s, &a, at), &s, &a, &mut buf)?;
     }
@@ -214,10 +220,19 @@ fn run(cli: Cli) -> Result<()> {
             file,
             json,
             at,
+            waveform,
             md,
             figures,
             force,
-        } => report(file.as_deref(), *json, at, *md, figures.as_deref(), *force)?,
+        } => report(
+            file.as_deref(),
+            *json,
+            at,
+            *waveform,
+            *md,
+            figures.as_deref(),
+            *force,
+        )?,
         Command::Compare { a, b, json } => compare(a, b, *json)?,
         Command::Sweep {
             file,

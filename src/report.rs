@@ -45,6 +45,8 @@ pub struct NoiseReport {
 pub struct Report {
     pub title: String,
     pub figures: Vec<(&'static str, Option<f64>)>,
+    /// The step response's figures (and, when asked, its waveform).
+    pub step: serde_json::Map<String, serde_json::Value>,
     pub band_hz: (f64, f64),
     pub noise_sources: Vec<NoiseReport>,
     pub points: Vec<PointReport>,
@@ -59,6 +61,7 @@ impl Serialize for Report {
         for (key, v) in &self.figures {
             m.serialize_entry(key, v)?;
         }
+        m.serialize_entry("step", &self.step)?;
         m.serialize_entry("band_hz", &self.band_hz)?;
         m.serialize_entry("noise_sources", &self.noise_sources)?;
         m.serialize_entry("points", &self.points)?;
@@ -106,8 +109,13 @@ impl Report {
             title: s.title.clone(),
             figures: FIGURES
                 .iter()
-                .filter(|f| f.shown.json)
+                .filter(|f| f.shown.json && f.section.json_object().is_none())
                 .map(|f| (f.key, f.json(e)))
+                .collect(),
+            step: FIGURES
+                .iter()
+                .filter(|f| f.shown.json && f.section == Section::Step)
+                .map(|f| (f.key.to_string(), f.json_value(e)))
                 .collect(),
             band_hz: s.band,
             noise_sources: e
@@ -128,6 +136,20 @@ impl Report {
     pub fn write_json(&self, w: &mut impl Write) -> io::Result<()> {
         serde_json::to_writer_pretty(&mut *w, self)?;
         writeln!(w)
+    }
+
+    /// Add `n` samples of the step waveform (`t_s`, `v`) to the step object.
+    pub fn with_waveform(mut self, e: &Evaluation, n: usize) -> Report {
+        let (t, v) = if e.unstable() {
+            (Vec::new(), Vec::new())
+        } else {
+            e.step.waveform(n)
+        };
+        let nums =
+            |x: Vec<f64>| serde_json::Value::from(x.into_iter().map(fin).collect::<Vec<_>>());
+        self.step.insert("t_s".into(), nums(t));
+        self.step.insert("v".into(), nums(v));
+        self
     }
 }
 

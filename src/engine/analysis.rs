@@ -281,6 +281,8 @@ pub struct Analysis {
     /// DC errors and signal limits (their figures are None without their
     /// inputs).
     pub limits: super::limits::Limits,
+    /// The response to a step of the source EMF (time domain).
+    pub step: super::step::StepResponse,
 }
 
 /// Wrap an angle in degrees into (−180, 180].
@@ -640,6 +642,8 @@ pub fn analyze(s: &Scenario) -> Analysis {
     let gm = gain_margin(&circuit, &sweep, dc.loop_gain);
     let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
     let limits = super::limits::limits(s, &circuit, &sweep, dc_gain);
+    let f_3db_hz = f_3db(&circuit, &sweep.points, dc_gain);
+    let step = step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, phase_margin_deg);
     let gain_error = if ideal_gain != 0.0 && ideal_gain.is_finite() {
         (dc_gain - ideal_gain) / ideal_gain
     } else {
@@ -650,7 +654,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
         ideal_gain,
         dc_gain,
         gain_error,
-        f_3db_hz: f_3db(&circuit, &sweep.points, dc_gain),
+        f_3db_hz,
         peaking_db: peaking_db(&circuit, &sweep.points, dc_gain),
         loop_gain_dc: dc.loop_gain.re,
         crossover_hz: cross.map(|c| c.0),
@@ -667,7 +671,25 @@ pub fn analyze(s: &Scenario) -> Analysis {
         sweep,
         dc,
         limits,
+        step,
     }
+}
+
+/// The step response, sampled from the loop's fastest closed-loop figure
+/// (crossover or f−3dB, else the gain-bandwidth); none when unstable.
+fn step_of(
+    s: &Scenario,
+    circuit: &Circuit,
+    crossover: Option<f64>,
+    f_3db: Option<f64>,
+    pm: Option<f64>,
+) -> super::step::StepResponse {
+    let f_ref = match (crossover, f_3db) {
+        (Some(a), Some(b)) => a.max(b),
+        (a, b) => a.or(b).unwrap_or(s.amp.gbw),
+    };
+    let unstable = pm.is_some_and(|p| p <= 0.0);
+    super::step::step_response(s, &circuit.net, f_ref, unstable)
 }
 
 impl Analysis {

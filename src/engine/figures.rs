@@ -21,6 +21,10 @@ pub enum Unit {
     Degrees,
     /// A count of things.
     Count,
+    /// A number already in percent.
+    Percent,
+    /// Yes or no (JSON true/false; read as 1 or 0).
+    Flag,
 }
 
 /// The text report's section for a figure.
@@ -32,17 +36,25 @@ pub enum Section {
     Noise,
     DcErrors,
     SignalLimits,
+    /// The step response: in JSON an object `step` of its own.
+    Step,
 }
 
 impl Section {
-    pub const ALL: [Section; 6] = [
+    pub const ALL: [Section; 7] = [
         Section::Gain,
         Section::Loop,
         Section::Impedance,
         Section::Noise,
         Section::DcErrors,
         Section::SignalLimits,
+        Section::Step,
     ];
+
+    /// The JSON object the section's figures sit in (None: top level).
+    pub fn json_object(self) -> Option<&'static str> {
+        (self == Section::Step).then_some("step")
+    }
 
     /// Whether the text report shows the section for this stage: the DC
     /// errors and signal limits only when their inputs are given.
@@ -61,6 +73,7 @@ impl Section {
             Section::Noise => "Noise at the load",
             Section::DcErrors => "DC errors",
             Section::SignalLimits => "Signal limits",
+            Section::Step => "Step response",
         }
     }
 }
@@ -200,11 +213,11 @@ impl Figure {
     }
 }
 
-use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits};
+use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 35] = [
+pub static FIGURES: [Figure; 45] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -541,6 +554,105 @@ pub static FIGURES: [Figure; 35] = [
         |e| e.limits.out_offset_max_v,
     )
     .given(),
+    fig("size_v", "step size", "step", Si("V"), Step, REPORT, |e| {
+        Some(e.step.size_v)
+    }),
+    fig(
+        "final_v",
+        "final value",
+        "final",
+        Si("V"),
+        Step,
+        REPORT,
+        |e| e.step.final_v,
+    )
+    .closed_loop()
+    .undefined("none (the response does not settle)"),
+    fig(
+        "rise_s",
+        "rise 10–90 %",
+        "rise",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.rise_s,
+    )
+    .closed_loop()
+    .undefined("none (never reaches 90 %)"),
+    fig(
+        "overshoot_pct",
+        "overshoot",
+        "overshoot",
+        Percent,
+        Step,
+        ALL_VIEWS,
+        |e| e.step.overshoot_pct,
+    )
+    .closed_loop(),
+    fig(
+        "peak_time_s",
+        "peak at",
+        "tpeak",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.peak_time_s,
+    )
+    .closed_loop()
+    .undefined("none (no overshoot)"),
+    fig(
+        "settle_1pct_s",
+        "settling to 1 %",
+        "ts 1%",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.settle_s[0],
+    )
+    .closed_loop()
+    .undefined("none (does not settle)"),
+    fig(
+        "settle_01pct_s",
+        "settling to 0.1 %",
+        "ts 0.1%",
+        Si("s"),
+        Step,
+        ALL_VIEWS,
+        |e| e.step.settle_s[1],
+    )
+    .closed_loop()
+    .undefined("none (does not settle)"),
+    fig(
+        "settle_001pct_s",
+        "settling to 0.01 %",
+        "ts 0.01%",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.settle_s[2],
+    )
+    .closed_loop()
+    .undefined("none (does not settle)"),
+    fig(
+        "slew_limited",
+        "slew-limited",
+        "slewing",
+        Flag,
+        Step,
+        REPORT,
+        |e| e.step.slew_limited.map(|b| f64::from(u8::from(b))),
+    )
+    .closed_loop(),
+    fig(
+        "clipped",
+        "held at a rail",
+        "clipped",
+        Flag,
+        Step,
+        REPORT,
+        |e| e.step.clipped.map(|b| f64::from(u8::from(b))),
+    )
+    .closed_loop(),
 ];
 
 /// The key figures, in order.
@@ -598,6 +710,15 @@ impl Figure {
         self.read(e).value()
     }
 
+    /// The JSON value itself: a number, true/false for a flag, or null.
+    pub fn json_value(&self, e: &Evaluation) -> serde_json::Value {
+        match (self.json(e), self.unit) {
+            (Some(v), Flag) => serde_json::Value::Bool(v != 0.0),
+            (Some(v), _) => serde_json::json!(v),
+            (None, _) => serde_json::Value::Null,
+        }
+    }
+
     /// The number alone, at the precision of the text views; `signed`
     /// puts a + before positive values (differences).
     pub fn number(&self, v: f64, signed: bool) -> String {
@@ -608,6 +729,8 @@ impl Figure {
             Db => format!("{} dB", fixed(v, 2, signed)),
             Degrees => format!("{}°", fixed(v, 1, signed)),
             Count => fixed(v, 0, signed),
+            Percent => format!("{} %", fixed(v, 3, signed)),
+            Flag => if v != 0.0 { "yes" } else { "no" }.into(),
             Si(u) => format!("{sign}{}", fmt_eng(v, u)),
         }
     }
@@ -643,6 +766,8 @@ impl Figure {
             Db => format!("{}dB", fixed(v, 1, signed)),
             Degrees => format!("{}°", fixed(v, 0, signed)),
             Count => fixed(v, 0, signed),
+            Percent => format!("{}%", fixed(v, 2, signed)),
+            Flag => if v != 0.0 { "yes" } else { "no" }.into(),
             Si(u) => {
                 let text = fmt_eng(v.abs(), u).replace(' ', "");
                 match (v < 0.0, signed) {

@@ -6,6 +6,7 @@
 //! `netlist`; `warnings` reads an `Analysis`; [`evaluate`] composes the two.
 
 pub mod analysis;
+pub mod dense;
 pub mod eseries;
 pub mod figures;
 pub mod filetext;
@@ -15,6 +16,7 @@ pub mod netlist;
 pub mod params;
 pub mod scenario;
 pub mod solver;
+pub mod step;
 pub mod traces;
 pub mod values;
 pub mod warnings;

@@ -130,6 +130,26 @@ pub struct Netlist {
     pub noise: Vec<NoiseSource>,
 }
 
+/// The time-domain equations `C·x' + G·x = b·E(t)` of a stage (row-major
+/// `n`×`n` matrices; see [`Netlist::time_equations`]).
+#[derive(Debug, Clone)]
+pub struct TimeEquations {
+    pub n: usize,
+    pub g: Vec<f64>,
+    pub c: Vec<f64>,
+    /// The right-hand side per volt of source EMF.
+    pub b: Vec<f64>,
+    /// An ideal source fixes this node's voltage; its branch is this row.
+    pub fixed: Option<(usize, usize)>,
+    /// The load terminal.
+    pub out: Option<usize>,
+    /// The op-amp's first internal state (the one the slew and swing
+    /// limits act on) and, with a second pole, the second.
+    pub x1: usize,
+    pub x2: Option<usize>,
+    pub tau1: f64,
+}
+
 /// Whether the load is stamped (it is removed to read Zout exactly).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum LoadState {
@@ -584,6 +604,99 @@ impl Netlist {
             Drive::Norton { node, g } => (C64::new(1.0, 0.0) - Self::node_v(x, node)) * g,
             Drive::Branch { row, .. } => -x[row],
         }
+    }
+
+    /// The stage's equations in the time domain, `C·x' + G·x = b·E(t)`,
+    /// from the same elements as [`Netlist::stamp_into`]: every resistor,
+    /// capacitor and the load, the ideal source and noise-probe branches,
+    /// and the op-amp's gain as two internal states (`x1`, and `x2` with a
+    /// second pole): τ1·x1' = a0·vd − x1, τ2·x2' = x1 − x2, the controlled
+    /// source behind ro being the last of them. So its transfer function is
+    /// exactly the frequency-domain A(s) = a0/((1 + s/ωp1)(1 + s/ωp2)).
+    /// None around a nullor (no time-domain model).
+    pub fn time_equations(&self) -> Option<TimeEquations> {
+        if self.model == AmpModel::Nullor {
+            return None;
+        }
+        let x1 = self.dim;
+        let x2 = self.wp2.map(|_| x1 + 1);
+        let n = self.dim + 1 + usize::from(x2.is_some());
+        let mut eq = TimeEquations {
+            n,
+            g: vec![0.0; n * n],
+            c: vec![0.0; n * n],
+            b: vec![0.0; n],
+            fixed: None,
+            out: self.out,
+            x1,
+            x2,
+            tau1: 1.0 / self.wp1,
+        };
+        fn admit(m: &mut [f64], n: usize, a: Option<usize>, b: Option<usize>, y: f64) {
+            if let Some(i) = a {
+                m[i * n + i] += y;
+            }
+            if let Some(j) = b {
+                m[j * n + j] += y;
+            }
+            if let (Some(i), Some(j)) = (a, b) {
+                m[i * n + j] -= y;
+                m[j * n + i] -= y;
+            }
+        }
+        for e in &self.elements {
+            match *e {
+                Element::Conductance(a, b, g) => admit(&mut eq.g, n, a, b, g),
+                Element::Capacitance(a, b, c) => admit(&mut eq.c, n, a, b, c),
+            }
+        }
+        admit(&mut eq.g, n, self.out, None, self.load_g);
+        admit(&mut eq.c, n, self.out, None, self.load_c);
+        let mut branch = |row: usize, node: Option<usize>, sign: f64| {
+            if let Some(i) = node {
+                eq.g[row * n + i] += sign;
+                eq.g[i * n + row] += sign;
+            }
+        };
+        match self.drive {
+            Drive::Norton { node, g } => {
+                if let Some(i) = node {
+                    eq.b[i] = g;
+                }
+            }
+            Drive::Branch { node, row } => {
+                branch(row, node, 1.0);
+                eq.b[row] = 1.0;
+                eq.fixed = node.map(|i| (i, row));
+            }
+        }
+        let (p, q) = self.en_nodes;
+        branch(self.en_row, p, 1.0);
+        branch(self.en_row, q, -1.0);
+        let last = x2.unwrap_or(x1);
+        let r = self.amp_row;
+        if self.inv_ro > 0.0 {
+            // The current x/ro into the output node (Norton form).
+            eq.g[r * n + last] -= self.inv_ro;
+        } else {
+            // V(int) = x through the output branch.
+            branch(r, self.amp_out, 1.0);
+            eq.g[r * n + last] -= 1.0;
+        }
+        eq.c[x1 * n + x1] = eq.tau1;
+        eq.g[x1 * n + x1] = 1.0;
+        if let Some(i) = self.sense_p {
+            eq.g[x1 * n + i] -= self.a0;
+        }
+        if let Some(i) = self.sense_n {
+            eq.g[x1 * n + i] += self.a0;
+        }
+        if let (Some(k), Some(w2)) = (x2, self.wp2) {
+            eq.c[k * n + k] = 1.0 / w2;
+            eq.g[k * n + k] = 1.0;
+            eq.g[k * n + x1] = -1.0;
+        }
+        Some(eq)
     }
 
     pub fn node_v(x: &[C64], n: Option<usize>) -> C64 {

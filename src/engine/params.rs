@@ -7,7 +7,7 @@
 //! to [`PARAMS`]. Nothing else needs to know.
 
 use super::eseries::{Series, CAPACITOR_SERIES};
-use super::scenario::{FieldProblem, Scenario, Supply, Topology};
+use super::scenario::{FieldProblem, Scenario, Step, Supply, Topology};
 use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -233,7 +233,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 37] = [
+pub static PARAMS: [Param; 38] = [
     entry(
         "stage.topology",
         "topology",
@@ -626,6 +626,20 @@ pub static PARAMS: [Param; 37] = [
         number!(opt source.peak),
     )
     .starting(|_| 1.0),
+    entry(
+        "step.size",
+        "step",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.step.map(|x| x.size),
+            set: |s, v| s.step = v.map(|size| Step { size }),
+        },
+    )
+    .starting(|_| crate::engine::step::DEFAULT_STEP_V),
     entry(
         "temp_c",
         "temp",

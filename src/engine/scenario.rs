@@ -173,6 +173,13 @@ impl Default for Supply {
     }
 }
 
+/// The step of the source EMF for the step response (V, not zero).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Step {
+    pub size: f64,
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Load {
@@ -202,6 +209,9 @@ pub struct Scenario {
     pub load: Load,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub supply: Option<Supply>,
+    /// The step the time-domain analysis applies (10 mV without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub step: Option<Step>,
     pub temp_c: f64,
     pub band: (f64, f64),
     #[serde(
@@ -488,6 +498,7 @@ fn outer_path(outer: &str) -> String {
         "Source" => "source".into(),
         "Load" => "load".into(),
         "Supply" => "supply".into(),
+        "Step" => "step".into(),
         _ => String::new(),
     }
 }

@@ -23,6 +23,7 @@ pub enum View {
     Loop,
     Noise,
     Envelope,
+    Step,
 }
 
 impl View {
@@ -31,7 +32,8 @@ impl View {
             View::Response => View::Loop,
             View::Loop => View::Noise,
             View::Noise => View::Envelope,
-            View::Envelope => View::Response,
+            View::Envelope => View::Step,
+            View::Step => View::Response,
         }
     }
     /// The view's name in the SVG figures' view table.
@@ -41,6 +43,7 @@ impl View {
             View::Loop => "loop",
             View::Noise => "noise",
             View::Envelope => "envelope",
+            View::Step => "step",
         }
     }
     pub fn title(self) -> &'static str {
@@ -49,6 +52,7 @@ impl View {
             View::Loop => "Loop gain",
             View::Noise => "Output noise density",
             View::Envelope => "Output envelope",
+            View::Step => "Step response",
         }
     }
 }

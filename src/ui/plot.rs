@@ -61,6 +61,9 @@ pub struct LogPlot<'a> {
     pub tick: &'static str,
     /// Whether the bottom row carries the decade labels.
     pub x_labels: bool,
+    /// Labels for a linear x axis (the step view's time) instead of
+    /// decades: (position, label).
+    pub x_ticks: Option<Vec<(f64, String)>>,
 }
 
 /// y of a trace at x, by linear interpolation.
@@ -230,9 +233,18 @@ impl LogPlot<'_> {
         }
         let (x0, x1) = self.x_range;
         let mut next_free = plot.x;
-        for d in decade_ticks(x0, x1, plot.width, 4) {
-            let label = decade_label(d, "");
-            let frac = (d as f64 - x0) / (x1 - x0);
+        let ticks: Vec<(f64, String)> = match &self.x_ticks {
+            Some(t) => t.clone(),
+            None => decade_ticks(x0, x1, plot.width, 4)
+                .into_iter()
+                .map(|d| (d as f64, decade_label(d, "")))
+                .collect(),
+        };
+        for (d, label) in ticks {
+            if d < x0 - 1e-12 * (x1 - x0).abs() || d > x1 + 1e-12 * (x1 - x0).abs() {
+                continue;
+            }
+            let frac = (d - x0) / (x1 - x0);
             let col = plot.x + (frac * (plot.width - 1) as f64).round() as u16;
             let w = label.chars().count() as u16;
             let start = col.saturating_sub(w / 2).max(plot.x);

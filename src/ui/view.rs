@@ -78,6 +78,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         View::Response | View::Loop => bode(app, upper, buf),
         View::Noise => noise_plot(app, upper, buf),
         View::Envelope => envelope_plot(app, upper, buf),
+        View::Step => step_plot(app, upper, buf),
     }
     impedance_plot(app, lower, buf);
     figures_table(app, figures, buf);
@@ -351,6 +352,7 @@ fn plot<'a>(
         rule: if app.theme.ascii { "|" } else { "│" },
         tick: if app.theme.ascii { "+" } else { "├" },
         x_labels: true,
+        x_ticks: None,
     }
 }
 
@@ -604,6 +606,136 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         });
     }
     plot(app, tr, x, y, marks).render(inner, buf);
+}
+
+/// The step response on a linear time axis: each stage's waveform, A's
+/// final value and ±0.1 % band, marks at the 10 % and 90 % points and at
+/// the 0.1 % settling time.
+fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let slot = app.slot();
+    let r = &slot.analysis.step;
+    let title = format!(
+        " Step response, {} step, V{} ",
+        compact(r.size_v, "V"),
+        legend(app)
+    );
+    let pct = |v: f64| format!("{}%", crate::engine::values::fmt_plain(v, 3));
+    let bottom = match (r.final_v, r.settle_s[1]) {
+        _ if slot.analysis.unstable() => " unstable: no step response ".to_string(),
+        (Some(_), Some(ts)) => {
+            let mut t = format!(
+                " overshoot {} · 0.1 % in {}",
+                pct(r.overshoot_pct.unwrap_or(0.0)),
+                compact(ts, "s")
+            );
+            if r.slew_limited == Some(true) {
+                t.push_str(" · slewing");
+            }
+            if r.clipped == Some(true) {
+                t.push_str(" · at a rail");
+            }
+            t + " "
+        }
+        _ => " does not settle in the window ".to_string(),
+    };
+    let b = block(app, title).title_bottom(Line::styled(bottom, app.theme.dim));
+    let inner = b.inner(area);
+    b.render(area, buf);
+    // One time window for every stage: 1.5 × the slowest 0.1 % settling.
+    let end = app
+        .slots
+        .iter()
+        .filter_map(|s| {
+            let st = &s.analysis.step;
+            st.settle_s[1]
+                .filter(|t| *t > 0.0)
+                .map(|t| 1.5 * t)
+                .or(st.window_s())
+        })
+        .fold(0.0, f64::max);
+    if end <= 0.0 {
+        return;
+    }
+    let n = (inner.width as usize * 2).clamp(50, 600);
+    let waves: Vec<Vec<(f64, f64)>> = app
+        .slots
+        .iter()
+        .map(|s| s.analysis.step.sampled(end, n))
+        .collect();
+    let mut tr: Vec<Trace> = waves
+        .iter()
+        .enumerate()
+        .map(|(i, w)| Trace {
+            points: w,
+            style: if i == 0 {
+                app.theme.trace_a
+            } else {
+                app.theme.trace_b
+            },
+            stroke: if i == 1 {
+                Stroke::Dotted
+            } else {
+                Stroke::Solid
+            },
+            label: None,
+            label_at: 0.85,
+            joining: Joining::Continuous,
+        })
+        .collect();
+    let lines: Vec<Vec<(f64, f64)>> = r
+        .final_v
+        .map(|f| {
+            [1.0, 1.001, 0.999]
+                .iter()
+                .map(|k| vec![(0.0, f * k), (end, f * k)])
+                .collect()
+        })
+        .unwrap_or_default();
+    for (i, l) in lines.iter().enumerate() {
+        tr.insert(
+            0,
+            Trace {
+                points: l,
+                style: app.theme.dim,
+                stroke: Stroke::Solid,
+                label: (i == 0).then(|| "final".to_string()),
+                label_at: 0.9,
+                joining: Joining::Continuous,
+            },
+        );
+    }
+    let (lo, hi) = tr
+        .iter()
+        .flat_map(|t| t.points.iter().map(|p| p.1))
+        .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
+    let ((y0, y1), yt) = nice_linear(lo, hi, (inner.height as usize / 2).max(2));
+    let y_ticks = yt.into_iter().map(|v| (v, compact(v, ""))).collect();
+    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
+    let x_ticks = xt
+        .into_iter()
+        .filter(|t| *t <= end)
+        .map(|t| (t, compact(t, "s")))
+        .collect();
+    let mut marks = Vec::new();
+    if let (Some(t10), Some(rise)) = (r.rise_start_s, r.rise_s) {
+        marks.push(VMark {
+            x: t10,
+            label: "10%".into(),
+        });
+        marks.push(VMark {
+            x: t10 + rise,
+            label: "90%".into(),
+        });
+    }
+    if let Some(ts) = r.settle_s[1] {
+        marks.push(VMark {
+            x: ts,
+            label: "ts".into(),
+        });
+    }
+    let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), marks);
+    p.x_ticks = Some(x_ticks);
+    p.render(inner, buf);
 }
 
 fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
