@@ -56,10 +56,33 @@ fn frame(c: &mut Criterion) {
     });
 }
 
+/// The step response alone, on the demo (linear) and on the demo with a
+/// 10 V step and a 1 V/µs slew limit (slewing, then linear).
+fn step_response(c: &mut Criterion) {
+    use loopwright::engine::analysis::Circuit;
+    use loopwright::engine::step;
+    let linear = scenario::demo();
+    let mut slewing = linear.clone();
+    slewing.amp.slew = Some(1.0e6);
+    slewing.step = Some(scenario::Step { size: 10.0 });
+    for (name, s) in [
+        ("step_response", &linear),
+        ("step_response_slewing", &slewing),
+    ] {
+        let a = analyze(s);
+        let f_ref = a.crossover_hz.unwrap_or(s.amp.gbw);
+        let circuit = Circuit::new(s);
+        c.bench_function(name, |b| {
+            b.iter(|| step::step_response(black_box(s), &circuit.net, f_ref, false))
+        });
+    }
+}
+
 criterion_group!(
     benches,
     full_analysis,
     full_analysis_with_limits,
+    step_response,
     one_point,
     frame
 );
