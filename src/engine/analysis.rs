@@ -413,13 +413,24 @@ fn crossover(
     Some((fc, 180.0 + unwrap_near(loop_at(fc), ref_phase)))
 }
 
-/// Maximise g on [a, b] by golden-section search.
-pub(super) fn refine_max(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> (f64, f64) {
+/// Maximise g on [a, b] by golden-section search (to 1e-6 in its unit).
+pub(super) fn refine_max(a: f64, b: f64, g: impl Fn(f64) -> f64) -> (f64, f64) {
+    refine_max_to(a, b, 1e-6, g)
+}
+
+/// Maximise g on [a, b] by golden-section search until the bracket is
+/// `tol` wide: (where, the maximum).
+pub(super) fn refine_max_to(
+    mut a: f64,
+    mut b: f64,
+    tol: f64,
+    g: impl Fn(f64) -> f64,
+) -> (f64, f64) {
     let r = (5f64.sqrt() - 1.0) / 2.0;
     let mut c = b - r * (b - a);
     let mut d = a + r * (b - a);
     let (mut gc, mut gd) = (g(c), g(d));
-    while (b - a).abs() > 1e-6 {
+    while (b - a).abs() > tol {
         if gc > gd {
             b = d;
             d = c;

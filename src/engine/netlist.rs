@@ -130,6 +130,15 @@ pub struct Netlist {
     pub noise: Vec<NoiseSource>,
 }
 
+/// A voltage-source branch in a row-major `n`×`n` matrix: row `row`
+/// senses `node` and its current enters that node's equation.
+fn branch(g: &mut [f64], n: usize, row: usize, node: Option<usize>, sign: f64) {
+    if let Some(i) = node {
+        g[row * n + i] += sign;
+        g[i * n + row] += sign;
+    }
+}
+
 /// The time-domain equations `C·x' + G·x = b·E(t)` of a stage (row-major
 /// `n`×`n` matrices; see [`Netlist::time_equations`]).
 #[derive(Debug, Clone)]
@@ -652,12 +661,6 @@ impl Netlist {
         }
         admit(&mut eq.g, n, self.out, None, self.load_g);
         admit(&mut eq.c, n, self.out, None, self.load_c);
-        let mut branch = |row: usize, node: Option<usize>, sign: f64| {
-            if let Some(i) = node {
-                eq.g[row * n + i] += sign;
-                eq.g[i * n + row] += sign;
-            }
-        };
         match self.drive {
             Drive::Norton { node, g } => {
                 if let Some(i) = node {
@@ -665,14 +668,22 @@ impl Netlist {
                 }
             }
             Drive::Branch { node, row } => {
-                branch(row, node, 1.0);
+                branch(&mut eq.g, n, row, node, 1.0);
                 eq.b[row] = 1.0;
                 eq.fixed = node.map(|i| (i, row));
             }
         }
         let (p, q) = self.en_nodes;
-        branch(self.en_row, p, 1.0);
-        branch(self.en_row, q, -1.0);
+        branch(&mut eq.g, n, self.en_row, p, 1.0);
+        branch(&mut eq.g, n, self.en_row, q, -1.0);
+        self.stamp_amp_states(&mut eq);
+        Some(eq)
+    }
+
+    /// The op-amp in the time-domain equations: its states x1 (and x2)
+    /// and the controlled source behind ro they drive.
+    fn stamp_amp_states(&self, eq: &mut TimeEquations) {
+        let (n, x1, x2) = (eq.n, eq.x1, eq.x2);
         let last = x2.unwrap_or(x1);
         let r = self.amp_row;
         if self.inv_ro > 0.0 {
@@ -680,7 +691,7 @@ impl Netlist {
             eq.g[r * n + last] -= self.inv_ro;
         } else {
             // V(int) = x through the output branch.
-            branch(r, self.amp_out, 1.0);
+            branch(&mut eq.g, n, r, self.amp_out, 1.0);
             eq.g[r * n + last] -= 1.0;
         }
         eq.c[x1 * n + x1] = eq.tau1;
@@ -696,7 +707,6 @@ impl Netlist {
             eq.g[k * n + k] = 1.0;
             eq.g[k * n + x1] = -1.0;
         }
-        Some(eq)
     }
 
     pub fn node_v(x: &[C64], n: Option<usize>) -> C64 {

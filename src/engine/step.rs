@@ -43,6 +43,7 @@
 //!    rate points back inside. Each instant is bracketed on the step,
 //!    guessed on the interpolant and refined on exact propagations.
 
+use super::analysis::refine_max_to;
 use super::dense::{double_step, expm1, Lu, Mat};
 use super::netlist::{Netlist, TimeEquations};
 use super::scenario::Scenario;
@@ -192,35 +193,20 @@ fn find(parent: &mut [usize], mut i: usize) -> usize {
     i
 }
 
-fn reduce(eq: &TimeEquations) -> Option<Reduced> {
-    let n = eq.n;
-    let (g, c) = (
-        Mat {
-            rows: n,
-            cols: n,
-            a: eq.g.clone(),
-        },
-        Mat {
-            rows: n,
-            cols: n,
-            a: eq.c.clone(),
-        },
-    );
-    // 1. The known node and its branch leave; E moves to the right.
-    let gone: Vec<usize> = eq.fixed.map(|(k, br)| vec![k, br]).unwrap_or_default();
-    let keep: Vec<usize> = (0..n).filter(|i| !gone.contains(i)).collect();
-    let m = keep.len();
-    let (g, c) = (g.select(&keep, &keep), c.select(&keep, &keep));
-    let (mut beta, mut gamma) = (vec![0.0; m], vec![0.0; m]);
-    for (i, &row) in keep.iter().enumerate() {
-        beta[i] = eq.b[row];
-        if let Some((k, _)) = eq.fixed {
-            beta[i] -= eq.g[row * n + k];
-            gamma[i] = eq.c[row * n + k];
-        }
-    }
-    // 2. Capacitor components: grounded ones keep every node, floating
-    //    ones their differences to a reference.
+/// The reduced equations' coordinates: x = to_x·z.
+struct Coordinates {
+    to_x: Mat,
+    /// The unknowns that are states, in order.
+    dynamic: Vec<usize>,
+    /// For a state that is a difference, the unknown it is taken from.
+    reference: Vec<Option<usize>>,
+}
+
+/// Capacitor components of `c`: grounded ones keep every node as a state,
+/// floating ones the differences to their first node (the common mode is
+/// then algebraic).
+fn coordinates(c: &Mat) -> Coordinates {
+    let m = c.rows;
     let mut parent: Vec<usize> = (0..m).collect();
     for i in 0..m {
         for j in 0..m {
@@ -258,6 +244,46 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
         }
     }
     dynamic.sort_unstable();
+    Coordinates {
+        to_x,
+        dynamic,
+        reference,
+    }
+}
+
+fn reduce(eq: &TimeEquations) -> Option<Reduced> {
+    let n = eq.n;
+    let (g, c) = (
+        Mat {
+            rows: n,
+            cols: n,
+            a: eq.g.clone(),
+        },
+        Mat {
+            rows: n,
+            cols: n,
+            a: eq.c.clone(),
+        },
+    );
+    // 1. The known node and its branch leave; E moves to the right.
+    let gone: Vec<usize> = eq.fixed.map(|(k, br)| vec![k, br]).unwrap_or_default();
+    let keep: Vec<usize> = (0..n).filter(|i| !gone.contains(i)).collect();
+    let m = keep.len();
+    let (g, c) = (g.select(&keep, &keep), c.select(&keep, &keep));
+    let (mut beta, mut gamma) = (vec![0.0; m], vec![0.0; m]);
+    for (i, &row) in keep.iter().enumerate() {
+        beta[i] = eq.b[row];
+        if let Some((k, _)) = eq.fixed {
+            beta[i] -= eq.g[row * n + k];
+            gamma[i] = eq.c[row * n + k];
+        }
+    }
+    // 2. States from the capacitor graph.
+    let Coordinates {
+        to_x,
+        dynamic,
+        reference,
+    } = coordinates(&c);
     let algebraic: Vec<usize> = (0..m).filter(|i| !dynamic.contains(i)).collect();
     // Tᵀ·M·T and Tᵀ·v.
     let tt = transpose(&to_x);
@@ -788,121 +814,123 @@ fn states_of(red: &Reduced, x: &[f64]) -> Vec<f64> {
 /// Points inside one interpolation interval where crossings are looked for.
 const SUB: usize = 8;
 
-/// The figures read off the waveform's interpolants.
-fn figures(r: &mut StepResponse, ended: bool) {
-    let Some(fin) = r.final_v.filter(|v| *v != 0.0 && v.is_finite()) else {
-        return;
-    };
-    let s = &r.samples;
-    if s.len() < 2 {
-        return;
+/// The waveform's interpolants, normalised to the final value.
+struct Wave<'s> {
+    s: &'s [Sample],
+    fin: f64,
+}
+
+impl Wave<'_> {
+    /// q = y/final on interval i at t.
+    fn q(&self, i: usize, t: f64) -> f64 {
+        hermite(&self.s[i - 1], &self.s[i], t) / self.fin
     }
-    let q = |a: &Sample, b: &Sample, t: f64| hermite(a, b, t) / fin;
-    // Each interval sampled at SUB + 1 points.
-    let points = |i: usize| {
-        let (a, b) = (&s[i - 1], &s[i]);
+
+    /// Interval i sampled at SUB + 1 points (t, q).
+    fn points(&self, i: usize) -> impl Iterator<Item = (f64, f64)> + '_ {
+        let (a, b) = (self.s[i - 1].t, self.s[i].t);
         (0..=SUB).map(move |k| {
-            let t = a.t + (b.t - a.t) * k as f64 / SUB as f64;
-            (t, q(a, b, t))
+            let t = a + (b - a) * k as f64 / SUB as f64;
+            (t, self.q(i, t))
         })
-    };
-    let bisect = |i: usize, mut lo: f64, mut hi: f64, inside: &dyn Fn(f64) -> bool| {
-        let (a, b) = (&s[i - 1], &s[i]);
+    }
+
+    /// Where on interval i between lo (outside) and hi `inside` starts.
+    fn bisect(&self, i: usize, mut lo: f64, mut hi: f64, inside: impl Fn(f64) -> bool) -> f64 {
         for _ in 0..60 {
             let mid = 0.5 * (lo + hi);
-            if inside(q(a, b, mid)) {
+            if inside(self.q(i, mid)) {
                 hi = mid;
             } else {
                 lo = mid;
             }
         }
-        let _ = (a, b);
         0.5 * (lo + hi)
-    };
-    // First time q reaches a level (from below).
-    let first = |level: f64| -> Option<f64> {
-        if s[0].y / fin >= level {
+    }
+
+    /// The first time q reaches a level (from below).
+    fn first(&self, level: f64) -> Option<f64> {
+        if self.s[0].y / self.fin >= level {
             return Some(0.0);
         }
-        for i in 1..s.len() {
-            let mut prev = s[i - 1].t;
-            for (t, v) in points(i) {
+        for i in 1..self.s.len() {
+            let mut prev = self.s[i - 1].t;
+            for (t, v) in self.points(i) {
                 if v >= level {
-                    return Some(bisect(i, prev, t, &|v| v >= level));
+                    return Some(self.bisect(i, prev, t, |v| v >= level));
                 }
                 prev = t;
             }
         }
         None
-    };
-    let (t10, t90) = (first(0.1), first(0.9));
-    r.rise_s = t10.zip(t90).map(|(a, b)| b - a);
-    r.rise_start_s = t10.filter(|_| r.rise_s.is_some());
-    // The largest q and when: the best sub-point, refined around it.
-    let mut best = (f64::NEG_INFINITY, 0.0, 1, 0);
-    for i in 1..s.len() {
-        for (k, (t, v)) in points(i).enumerate() {
-            if v > best.0 {
-                best = (v, t, i, k);
-            }
-        }
     }
-    let (_, _, i, k) = best;
-    let (a, b) = (&s[i - 1], &s[i]);
-    let width = (b.t - a.t) / SUB as f64;
-    let lo = (a.t + width * (k as f64 - 1.0)).max(a.t);
-    let hi = (a.t + width * (k as f64 + 1.0)).min(b.t);
-    let (t, v) = golden_max(|t| q(a, b, t), lo, hi);
-    let best = if v > best.0 { (v, t) } else { (best.0, best.1) };
-    // Below OVERSHOOT_FLOOR an excess is the interpolation's own error
-    // (TOL) on a response that creeps up to its final value: none.
-    let over = best.0 - 1.0;
-    let over = if over > OVERSHOOT_FLOOR { over } else { 0.0 };
-    r.overshoot_pct = Some(100.0 * over);
-    r.peak_time_s = (over > 0.0).then_some(best.1);
-    // The last time |q − 1| exceeds each band.
-    for (k, band) in BANDS.iter().enumerate() {
-        let out = |v: f64| (v - 1.0).abs() > *band;
-        let last = s.len() - 1;
-        if out(s[last].y / fin) {
-            r.settle_s[k] = None;
-            continue;
-        }
-        let mut found = Some(0.0);
-        'search: for i in (1..s.len()).rev() {
-            let pts: Vec<(f64, f64)> = points(i).collect();
-            for j in (0..pts.len()).rev() {
-                if out(pts[j].1) {
-                    let hi = pts[(j + 1).min(pts.len() - 1)].0;
-                    found = Some(bisect(i, pts[j].0, hi, &|v| !out(v)));
-                    break 'search;
+
+    /// The largest q and when: the best sub-point, refined around it.
+    fn peak(&self) -> (f64, f64) {
+        let mut best = (f64::NEG_INFINITY, 0.0, 1, 0);
+        for i in 1..self.s.len() {
+            for (k, (t, v)) in self.points(i).enumerate() {
+                if v > best.0 {
+                    best = (v, t, i, k);
                 }
             }
         }
-        r.settle_s[k] = found.filter(|_| ended);
+        let (_, _, i, k) = best;
+        let (a, b) = (self.s[i - 1].t, self.s[i].t);
+        let width = (b - a) / SUB as f64;
+        let lo = (a + width * (k as f64 - 1.0)).max(a);
+        let hi = (a + width * (k as f64 + 1.0)).min(b);
+        // A bracket 1e-12 of its width, never below the doubles' spacing.
+        let tol = (1e-12 * (hi - lo))
+            .max(8.0 * f64::EPSILON * hi.abs())
+            .max(f64::MIN_POSITIVE);
+        let (t, v) = refine_max_to(lo, hi, tol, |t| self.q(i, t));
+        if v > best.0 {
+            (v, t)
+        } else {
+            (best.0, best.1)
+        }
+    }
+
+    /// The last time |q − 1| exceeds `band` (0 if never; None when the
+    /// window ends outside it).
+    fn last_outside(&self, band: f64) -> Option<f64> {
+        let out = |v: f64| (v - 1.0).abs() > band;
+        let s = self.s;
+        if out(s[s.len() - 1].y / self.fin) {
+            return None;
+        }
+        for i in (1..s.len()).rev() {
+            let pts: Vec<(f64, f64)> = self.points(i).collect();
+            if let Some(j) = (0..pts.len()).rev().find(|&j| out(pts[j].1)) {
+                let hi = pts[(j + 1).min(pts.len() - 1)].0;
+                return Some(self.bisect(i, pts[j].0, hi, |v| !out(v)));
+            }
+        }
+        Some(0.0)
     }
 }
 
-/// Golden-section search for a maximum of f on [a, b].
-fn golden_max(f: impl Fn(f64) -> f64, mut a: f64, mut b: f64) -> (f64, f64) {
-    const G: f64 = 0.618_033_988_749_894_8;
-    let (mut c, mut d) = (b - G * (b - a), a + G * (b - a));
-    let (mut fc, mut fd) = (f(c), f(d));
-    for _ in 0..60 {
-        if fc > fd {
-            b = d;
-            d = c;
-            fd = fc;
-            c = b - G * (b - a);
-            fc = f(c);
-        } else {
-            a = c;
-            c = d;
-            fc = fd;
-            d = a + G * (b - a);
-            fd = f(d);
-        }
+/// The figures read off the waveform's interpolants.
+fn figures(r: &mut StepResponse, ended: bool) {
+    let Some(fin) = r.final_v.filter(|v| *v != 0.0 && v.is_finite()) else {
+        return;
+    };
+    if r.samples.len() < 2 {
+        return;
     }
-    let t = 0.5 * (a + b);
-    (t, f(t))
+    let w = Wave { s: &r.samples, fin };
+    let (t10, t90) = (w.first(0.1), w.first(0.9));
+    let rise = t10.zip(t90).map(|(a, b)| b - a);
+    let (peak_q, peak_t) = w.peak();
+    // Below OVERSHOOT_FLOOR an excess is the interpolation's own error
+    // (TOL) on a response that creeps up to its final value: none.
+    let over = peak_q - 1.0;
+    let over = if over > OVERSHOOT_FLOOR { over } else { 0.0 };
+    let settle = BANDS.map(|band| w.last_outside(band).filter(|_| ended));
+    r.rise_s = rise;
+    r.rise_start_s = t10.filter(|_| rise.is_some());
+    r.overshoot_pct = Some(100.0 * over);
+    r.peak_time_s = (over > 0.0).then_some(peak_t);
+    r.settle_s = settle;
 }

@@ -286,6 +286,15 @@ fn legend(app: &App) -> String {
     }
 }
 
+/// How slot i's traces are drawn: A solid, B dotted.
+fn slot_style(app: &App, i: usize) -> (ratatui::style::Style, Stroke) {
+    if i == 0 {
+        (app.theme.trace_a, Stroke::Solid)
+    } else {
+        (app.theme.trace_b, Stroke::Dotted)
+    }
+}
+
 /// Traces for each slot: A solid, B dotted.
 fn traces<'a>(
     app: &'a App,
@@ -298,16 +307,8 @@ fn traces<'a>(
         .enumerate()
         .map(|(i, s)| Trace {
             points: pick(s),
-            style: if i == 0 {
-                app.theme.trace_a
-            } else {
-                app.theme.trace_b
-            },
-            stroke: if i == 1 {
-                Stroke::Dotted
-            } else {
-                Stroke::Solid
-            },
+            style: slot_style(app, i).0,
+            stroke: slot_style(app, i).1,
             label: if i == app.active {
                 label.map(str::to_string)
             } else {
@@ -608,19 +609,12 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     plot(app, tr, x, y, marks).render(inner, buf);
 }
 
-/// The step response on a linear time axis: each stage's waveform, A's
-/// final value and ±0.1 % band, marks at the 10 % and 90 % points and at
-/// the 0.1 % settling time.
-fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+/// The step view's bottom line: overshoot, settling, limits.
+fn step_summary(app: &App) -> String {
     let slot = app.slot();
     let r = &slot.analysis.step;
-    let title = format!(
-        " Step response, {} step, V{} ",
-        compact(r.size_v, "V"),
-        legend(app)
-    );
     let pct = |v: f64| format!("{}%", crate::engine::values::fmt_plain(v, 3));
-    let bottom = match (r.final_v, r.settle_s[1]) {
+    match (r.final_v, r.settle_s[1]) {
         _ if slot.analysis.unstable() => " unstable: no step response ".to_string(),
         (Some(_), Some(ts)) => {
             let mut t = format!(
@@ -637,13 +631,13 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             t + " "
         }
         _ => " does not settle in the window ".to_string(),
-    };
-    let b = block(app, title).title_bottom(Line::styled(bottom, app.theme.dim));
-    let inner = b.inner(area);
-    b.render(area, buf);
-    // One time window for every stage: 1.5 × the slowest 0.1 % settling.
-    let end = app
-        .slots
+    }
+}
+
+/// One time window for every stage: 1.5 × the slowest 0.1 % settling
+/// (the simulated window where a stage does not settle).
+fn step_window(app: &App) -> f64 {
+    app.slots
         .iter()
         .filter_map(|s| {
             let st = &s.analysis.step;
@@ -652,70 +646,11 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
                 .map(|t| 1.5 * t)
                 .or(st.window_s())
         })
-        .fold(0.0, f64::max);
-    if end <= 0.0 {
-        return;
-    }
-    let n = (inner.width as usize * 2).clamp(50, 600);
-    let waves: Vec<Vec<(f64, f64)>> = app
-        .slots
-        .iter()
-        .map(|s| s.analysis.step.sampled(end, n))
-        .collect();
-    let mut tr: Vec<Trace> = waves
-        .iter()
-        .enumerate()
-        .map(|(i, w)| Trace {
-            points: w,
-            style: if i == 0 {
-                app.theme.trace_a
-            } else {
-                app.theme.trace_b
-            },
-            stroke: if i == 1 {
-                Stroke::Dotted
-            } else {
-                Stroke::Solid
-            },
-            label: None,
-            label_at: 0.85,
-            joining: Joining::Continuous,
-        })
-        .collect();
-    let lines: Vec<Vec<(f64, f64)>> = r
-        .final_v
-        .map(|f| {
-            [1.0, 1.001, 0.999]
-                .iter()
-                .map(|k| vec![(0.0, f * k), (end, f * k)])
-                .collect()
-        })
-        .unwrap_or_default();
-    for (i, l) in lines.iter().enumerate() {
-        tr.insert(
-            0,
-            Trace {
-                points: l,
-                style: app.theme.dim,
-                stroke: Stroke::Solid,
-                label: (i == 0).then(|| "final".to_string()),
-                label_at: 0.9,
-                joining: Joining::Continuous,
-            },
-        );
-    }
-    let (lo, hi) = tr
-        .iter()
-        .flat_map(|t| t.points.iter().map(|p| p.1))
-        .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
-    let ((y0, y1), yt) = nice_linear(lo, hi, (inner.height as usize / 2).max(2));
-    let y_ticks = yt.into_iter().map(|v| (v, compact(v, ""))).collect();
-    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
-    let x_ticks = xt
-        .into_iter()
-        .filter(|t| *t <= end)
-        .map(|t| (t, compact(t, "s")))
-        .collect();
+        .fold(0.0, f64::max)
+}
+
+/// Marks at the 10 % and 90 % points and at the 0.1 % settling time.
+fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
     let mut marks = Vec::new();
     if let (Some(t10), Some(rise)) = (r.rise_start_s, r.rise_s) {
         marks.push(VMark {
@@ -733,7 +668,76 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             label: "ts".into(),
         });
     }
-    let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), marks);
+    marks
+}
+
+/// The step response on a linear time axis: each stage's waveform, A's
+/// final value and ±0.1 % band, and the marks of [`step_marks`].
+fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let r = &app.slot().analysis.step;
+    let title = format!(
+        " Step response, {} step, V{} ",
+        compact(r.size_v, "V"),
+        legend(app)
+    );
+    let b = block(app, title).title_bottom(Line::styled(step_summary(app), app.theme.dim));
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let end = step_window(app);
+    if end <= 0.0 {
+        return;
+    }
+    let n = (inner.width as usize * 2).clamp(50, 600);
+    let waves: Vec<Vec<(f64, f64)>> = app
+        .slots
+        .iter()
+        .map(|s| s.analysis.step.sampled(end, n))
+        .collect();
+    let lines: Vec<Vec<(f64, f64)>> = r
+        .final_v
+        .map(|f| {
+            [1.0, 1.001, 0.999]
+                .iter()
+                .map(|k| vec![(0.0, f * k), (end, f * k)])
+                .collect()
+        })
+        .unwrap_or_default();
+    // The band lines first, under the waveforms.
+    let mut tr: Vec<Trace> = Vec::new();
+    for (i, l) in lines.iter().enumerate().rev() {
+        tr.push(Trace {
+            points: l,
+            style: app.theme.dim,
+            stroke: Stroke::Solid,
+            label: (i == 0).then(|| "final".to_string()),
+            label_at: 0.9,
+            joining: Joining::Continuous,
+        });
+    }
+    for (i, w) in waves.iter().enumerate() {
+        let (style, stroke) = slot_style(app, i);
+        tr.push(Trace {
+            points: w,
+            style,
+            stroke,
+            label: None,
+            label_at: 0.85,
+            joining: Joining::Continuous,
+        });
+    }
+    let (lo, hi) = tr
+        .iter()
+        .flat_map(|t| t.points.iter().map(|p| p.1))
+        .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
+    let ((y0, y1), yt) = nice_linear(lo, hi, (inner.height as usize / 2).max(2));
+    let y_ticks = yt.into_iter().map(|v| (v, compact(v, ""))).collect();
+    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
+    let x_ticks = xt
+        .into_iter()
+        .filter(|t| *t <= end)
+        .map(|t| (t, compact(t, "s")))
+        .collect();
+    let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), step_marks(r));
     p.x_ticks = Some(x_ticks);
     p.render(inner, buf);
 }
