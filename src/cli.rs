@@ -39,6 +39,11 @@ gain and phase, crossover and phase margin marked), noise (output noise density,
 marked), impedance (|Zout| and |Zin|). envelope, step and spread are reserved: their analyses \
 do not exist yet, so they are refused with a message and a non-zero exit.";
 
+const SPREAD_HELP: &str = "What varies: rg, rf and riso within ±stage.tolerance, and as the \
+scenario's `spread` block gives: cf (cap_tol), gbw (gbw_tol), a0 (a0_min to a0), ro (ro_tol). \
+Every corner of those extremes is analysed, then the Monte Carlo trials; the same seed gives \
+the same result on any number of cores.";
+
 /// The shells `completions` writes for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum CompletionShell {
@@ -169,6 +174,36 @@ pub enum Command {
         /// One JSON object: each column name holds an array, null where undefined.
         #[arg(long)]
         json: bool,
+    },
+    /// The spread of every figure over the parts' tolerances: worst case by
+    /// corners and Monte Carlo, and the yield against the spec.
+    #[command(after_help = SPREAD_HELP)]
+    Spread {
+        file: PathBuf,
+        /// Monte Carlo trials (the scenario's `spread.trials`, else 2000).
+        #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
+        trials: Option<u32>,
+        /// The generator's seed (the scenario's `spread.seed`, else 1).
+        #[arg(long, value_name = "S")]
+        seed: Option<u64>,
+        /// One JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Check each file against its spec: PASS or FAIL per file. Exit 0
+    /// when all pass, 1 when any fails, 2 when a file cannot be read.
+    Check {
+        #[arg(value_name = "FILE", required = true, num_args = 1..)]
+        files: Vec<PathBuf>,
+        /// Monte Carlo trials (each file's `spread.trials`, else 2000).
+        #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=1_000_000))]
+        trials: Option<u32>,
+        /// One JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Each limit with nominal, worst trial and pass/fail, and the yield.
+        #[arg(long, short = 'v')]
+        verbose: bool,
     },
     /// Print the base values of one decade of an IEC 60063 series.
     Series {

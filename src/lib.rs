@@ -16,6 +16,7 @@
 //! ```
 
 pub mod cli;
+pub mod design;
 pub mod engine;
 pub mod note;
 pub mod plot_svg;

@@ -4,7 +4,7 @@ use loopwright::cli::{Cli, Command, CompletionShell};
 use loopwright::engine::{evaluate, scenario, Evaluation, Scenario, Series};
 use loopwright::report::{write_text, Comparison, Report};
 use loopwright::ui::app::Stage;
-use loopwright::{note, plot_svg, storage, sweep};
+use loopwright::{design, note, plot_svg, storage, sweep};
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -211,10 +211,38 @@ fn workbench(cli: &Cli) -> Result<()> {
     loopwright::ui::run(stages, looks)
 }
 
-fn run(cli: Cli) -> Result<()> {
+/// `spread`: text or JSON.
+fn spread(file: &Path, trials: Option<u32>, seed: Option<u64>, json: bool) -> Result<Vec<u8>> {
+    let s = Scenario::load(file)?;
+    let r = design::spread_with_progress(&s, trials, seed);
+    let mut buf = Vec::new();
+    if json {
+        serde_json::to_writer_pretty(&mut buf, &design::spread_json(&r))?;
+        buf.push(b'\n');
+    } else {
+        design::write_spread(&r, &s.title, &mut buf)?;
+    }
+    Ok(buf)
+}
+
+fn run(cli: Cli) -> Result<ExitCode> {
     let Some(command) = &cli.command else {
-        return workbench(&cli);
+        return workbench(&cli).map(|_| ExitCode::SUCCESS);
     };
+    if let Command::Check {
+        files,
+        trials,
+        json,
+        verbose,
+    } = command
+    {
+        let c = design::check(files, *trials, *json, *verbose);
+        io::stderr().write_all(&c.stderr)?;
+        let mut out = io::stdout().lock();
+        out.write_all(&c.stdout)?;
+        out.flush()?;
+        return Ok(ExitCode::from(c.code));
+    }
     let buf = match command {
         Command::Report {
             file,
@@ -267,19 +295,25 @@ fn run(cli: Cli) -> Result<()> {
             Vec::new()
         }
         Command::Series { name } => series(name)?,
+        Command::Spread {
+            file,
+            trials,
+            seed,
+            json,
+        } => spread(file, *trials, *seed, *json)?,
         other => generated(other)?.unwrap_or_default(),
     };
     let stdout = io::stdout();
     let mut out = stdout.lock();
     out.write_all(&buf)?;
     out.flush()?;
-    Ok(())
+    Ok(ExitCode::SUCCESS)
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     match run(cli) {
-        Ok(()) => ExitCode::SUCCESS,
+        Ok(code) => code,
         Err(e) => {
             let broken_pipe = e.chain().any(|c| {
                 c.downcast_ref::<io::Error>()

@@ -272,6 +272,8 @@ pub struct Analysis {
     pub zin_dc_ohm: Option<f64>,
     /// |Zout| at 1 kHz.
     pub zout_1khz_ohm: Option<f64>,
+    /// |Zout| where the spec holds it ([`zout_probe_hz`]).
+    pub zout_at_ohm: Option<f64>,
     pub noise_density_1khz: f64,
     pub noise_rms: f64,
     pub noise_sources: Vec<NoiseShare>,
@@ -505,9 +507,13 @@ fn ideal_gain(s: &Scenario) -> f64 {
 
 /// The sweep, widened to cover the band, with the band edges as points and
 /// the loop phase unwrapped from DC.
-fn run_sweep(circuit: &Circuit, band: (f64, f64), dc: &Point) -> Sweep {
+fn run_sweep(circuit: &Circuit, band: (f64, f64), dc: &Point, per_decade: f64) -> Sweep {
     let (band_lo, band_hi) = band;
-    let mut freqs = sweep_frequencies(SWEEP_START_HZ.min(band_lo), SWEEP_STOP_HZ.max(band_hi));
+    let mut freqs = log_grid(
+        SWEEP_START_HZ.min(band_lo),
+        SWEEP_STOP_HZ.max(band_hi),
+        per_decade,
+    );
     for f in [band_lo, band_hi] {
         if let Err(i) = freqs.binary_search_by(|x| x.total_cmp(&f)) {
             freqs.insert(i, f);
@@ -630,15 +636,54 @@ fn noise_shares(net: &Netlist, points: &[Point], band: (f64, f64)) -> (Vec<Noise
     (shares, total.sqrt())
 }
 
+/// How thoroughly [`analyze_to`] works.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Depth {
+    /// Sweep points per decade.
+    pub per_decade: f64,
+    /// Whether to run the step response.
+    pub step: bool,
+    /// Whether to find the phase margin without the load capacitance.
+    pub bare_margin: bool,
+}
+
+/// Everything, on the full sweep: the reports and the workbench.
+pub const FULL: Depth = Depth {
+    per_decade: POINTS_PER_DECADE as f64,
+    step: true,
+    bare_margin: true,
+};
+
+/// One spread trial: a third of the sweep points (the figures are refined
+/// between them, so they agree with [`FULL`] to the report's precision; a
+/// test checks it), no step unless a limit needs it.
+pub const TRIAL: Depth = Depth {
+    per_decade: 10.0,
+    step: false,
+    bare_margin: false,
+};
+
 /// Run every analysis of the scenario: figures only (the design rules are
 /// applied by [`crate::engine::evaluate`]). The scenario must be valid
 /// ([`Scenario::validate`]); an invalid one gives meaningless results.
 pub fn analyze(s: &Scenario) -> Analysis {
+    analyze_to(s, FULL)
+}
+
+/// Where a spec holds |Zout| (DC without `zout_at_hz`), when it does.
+pub fn zout_probe_hz(s: &Scenario) -> Option<f64> {
+    let spec = s.spec.as_ref()?;
+    (spec.zout_max_ohm.is_some() || spec.zout_at_hz.is_some())
+        .then(|| spec.zout_at_hz.unwrap_or(0.0))
+}
+
+/// [`analyze`] to the given depth.
+pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
     let circuit = Circuit::new(s);
     let ideal_gain = ideal_gain(s);
     let dc = circuit.eval_or_blank(0.0);
     let dc_gain = dc.gain.re;
-    let sweep = run_sweep(&circuit, s.band, &dc);
+    let sweep = run_sweep(&circuit, s.band, &dc, depth.per_decade);
     let (lo, hi) = (
         sweep.points.first().map_or(SWEEP_START_HZ, |p| p.f_hz),
         sweep.points.last().map_or(SWEEP_STOP_HZ, |p| p.f_hz),
@@ -649,12 +694,17 @@ pub fn analyze(s: &Scenario) -> Analysis {
     let phase_margin_deg = cross.map(|c| c.1);
     let margin_without = present(s.load.c)
         .and(phase_margin_deg)
+        .filter(|_| depth.bare_margin)
         .and_then(|_| margin_without_load_c(s, lo, hi));
     let gm = gain_margin(&circuit, &sweep, dc.loop_gain);
     let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
     let limits = super::limits::limits(s, &circuit, &sweep, dc_gain);
     let f_3db_hz = f_3db(&circuit, &sweep.points, dc_gain);
-    let step = step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, phase_margin_deg);
+    let step = if depth.step {
+        step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, phase_margin_deg)
+    } else {
+        Default::default()
+    };
     let gain_error = if ideal_gain != 0.0 && ideal_gain.is_finite() {
         (dc_gain - ideal_gain) / ideal_gain
     } else {
@@ -676,6 +726,7 @@ pub fn analyze(s: &Scenario) -> Analysis {
         zout_dc_ohm: dc.zout.re,
         zin_dc_ohm: dc.zin.map(|z| z.re),
         zout_1khz_ohm: circuit.eval(1.0e3).map(|p| p.zout.norm()),
+        zout_at_ohm: zout_probe_hz(s).and_then(|f| circuit.eval(f).map(|p| p.zout.norm())),
         noise_density_1khz: circuit.eval_or_blank(1.0e3).noise_density(),
         noise_rms,
         noise_sources,

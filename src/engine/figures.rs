@@ -217,7 +217,7 @@ use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 45] = [
+pub static FIGURES: [Figure; 46] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -342,6 +342,16 @@ pub static FIGURES: [Figure; 45] = [
     )
     .closed_loop()
     .at_probe(),
+    fig(
+        "zout_at_ohm",
+        "|Zout| where the spec holds it",
+        "Zout spec",
+        Si("Ω"),
+        Impedance,
+        REPORT,
+        |e| e.zout_at_ohm,
+    )
+    .given(),
     fig(
         "noise_density_1khz",
         "density at 1 kHz",
@@ -722,17 +732,7 @@ impl Figure {
     /// The number alone, at the precision of the text views; `signed`
     /// puts a + before positive values (differences).
     pub fn number(&self, v: f64, signed: bool) -> String {
-        let sign = if signed && v > 0.0 { "+" } else { "" };
-        match self.unit {
-            Ratio => fixed(v, 6, signed),
-            Fraction => format!("{} %", fixed(v * 100.0, 4, signed)),
-            Db => format!("{} dB", fixed(v, 2, signed)),
-            Degrees => format!("{}°", fixed(v, 1, signed)),
-            Count => fixed(v, 0, signed),
-            Percent => format!("{} %", fixed(v, 3, signed)),
-            Flag => if v != 0.0 { "yes" } else { "no" }.into(),
-            Si(u) => format!("{sign}{}", fmt_eng(v, u)),
-        }
+        self.unit.number(v, signed)
     }
 
     /// The text report's value: the number, "unstable" or the figure's
@@ -754,13 +754,34 @@ impl Figure {
 
     /// A compact cell for the figures row (no space before the unit).
     pub fn cell(&self, r: Reading, signed: bool) -> String {
-        let Reading::Value(v) = r else {
-            return match r {
-                Reading::Unstable => "unstable".into(),
-                _ => "—".into(),
-            };
-        };
-        match self.unit {
+        match r {
+            Reading::Value(v) => self.unit.cell(v, signed),
+            Reading::Unstable => "unstable".into(),
+            Reading::Undefined => "—".into(),
+        }
+    }
+}
+
+impl Unit {
+    /// A number of this unit at the precision of the text views; `signed`
+    /// puts a + before positive values (differences).
+    pub fn number(self, v: f64, signed: bool) -> String {
+        let sign = if signed && v > 0.0 { "+" } else { "" };
+        match self {
+            Ratio => fixed(v, 6, signed),
+            Fraction => format!("{} %", fixed(v * 100.0, 4, signed)),
+            Db => format!("{} dB", fixed(v, 2, signed)),
+            Degrees => format!("{}°", fixed(v, 1, signed)),
+            Count => fixed(v, 0, signed),
+            Percent => format!("{} %", fixed(v, 3, signed)),
+            Flag => if v != 0.0 { "yes" } else { "no" }.into(),
+            Si(u) => format!("{sign}{}", fmt_eng(v, u)),
+        }
+    }
+
+    /// A compact number of this unit (no space before the unit).
+    pub fn cell(self, v: f64, signed: bool) -> String {
+        match self {
             Ratio => fixed(v, 4, signed),
             Fraction => format!("{}%", fixed(v * 100.0, 3, signed)),
             Db => format!("{}dB", fixed(v, 1, signed)),

@@ -16,6 +16,8 @@ pub mod netlist;
 pub mod params;
 pub mod scenario;
 pub mod solver;
+pub mod spec;
+pub mod spread;
 pub mod step;
 pub mod traces;
 pub mod values;

@@ -7,7 +7,7 @@
 //! to [`PARAMS`]. Nothing else needs to know.
 
 use super::eseries::{Series, CAPACITOR_SERIES};
-use super::scenario::{FieldProblem, Scenario, Step, Supply, Topology};
+use super::scenario::{Dist, FieldProblem, Scenario, Step, Supply, Topology};
 use super::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -18,6 +18,7 @@ pub enum Group {
     SourceLoad,
     SupplySignal,
     Environment,
+    Spread,
 }
 
 impl Group {
@@ -28,6 +29,7 @@ impl Group {
             Group::SourceLoad => "Source and load",
             Group::SupplySignal => "Supply and signal",
             Group::Environment => "Environment",
+            Group::Spread => "Spread and spec",
         }
     }
 }
@@ -78,8 +80,10 @@ pub enum Presence {
 pub enum Format {
     /// Engineering notation with the unit, four significant digits.
     Eng,
-    /// A fraction shown as a percentage.
+    /// A tolerance (a fraction) shown as ± a percentage.
     Percent,
+    /// A fraction shown as a plain percentage (a yield).
+    Share,
     /// A plain ratio with its value in dB.
     RatioDb,
     /// Degrees Celsius.
@@ -138,6 +142,11 @@ const TOPOLOGIES: [Topology; 3] = [
 const TOPOLOGY_NAMES: [&str; 3] = ["NonInverting", "Inverting", "Follower"];
 const SERIES_NAMES: [&str; 7] = ["E3", "E6", "E12", "E24", "E48", "E96", "E192"];
 const TOLERANCES: [f64; 9] = [0.0005, 0.001, 0.0025, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2];
+const SPREADS: [f64; 8] = [0.01, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5, 0.9];
+const ERROR_LIMITS: [f64; 8] = [1e-4, 1e-3, 2e-3, 5e-3, 0.01, 0.02, 0.05, 0.1];
+const YIELDS: [f64; 7] = [0.5, 0.9, 0.95, 0.99, 0.997, 0.999, 1.0];
+const DISTS: [Dist; 2] = [Dist::Uniform, Dist::Normal];
+const DIST_NAMES: [&str; 2] = ["Uniform", "Normal"];
 
 /// Accepted ranges (README "Accepted ranges").
 pub const OHMS: (f64, f64) = (1.0e-3, 1.0e13);
@@ -168,6 +177,19 @@ pub const CM: (f64, f64) = (-50.0, 50.0);
 pub const IOUT: (f64, f64) = (1.0e-6, 100.0);
 pub const VOLTS: (f64, f64) = (-500.0, 500.0);
 pub const PEAK: (f64, f64) = (0.0, 500.0);
+/// A part's spread (fraction of its value).
+pub const SPREAD: (f64, f64) = (0.0, 0.99);
+pub const TRIALS: (f64, f64) = (1.0, 1.0e6);
+/// Seeds are whole numbers a double holds exactly.
+pub const SEED: (f64, f64) = (0.0, 9.007_199_254_740_992e15);
+pub const GAIN_TARGET: (f64, f64) = (-1.0e9, 1.0e9);
+pub const FRACTION: (f64, f64) = (0.0, 1.0);
+pub const DB_LIMIT: (f64, f64) = (0.0, 100.0);
+pub const DEG_LIMIT: (f64, f64) = (0.0, 180.0);
+pub const OHM_LIMIT: (f64, f64) = (0.0, 1.0e13);
+pub const HZ_AT: (f64, f64) = (0.0, 1.0e12);
+pub const SECONDS: (f64, f64) = (0.0, 1.0e3);
+pub const RMS_LIMIT: (f64, f64) = (0.0, 1.0e3);
 /// The widest band, in decades.
 pub const MAX_BAND_DECADES: f64 = 15.0;
 
@@ -189,6 +211,40 @@ macro_rules! number {
             },
         }
     };
+}
+
+/// Access to an optional field of an optional block (`spread.cap_tol`):
+/// setting a value makes the block, and a block left with nothing in it
+/// goes away.
+macro_rules! block {
+    ($b:ident . $f:ident) => {
+        Access::Number {
+            get: |s| s.$b.as_ref().and_then(|b| b.$f),
+            set: |s, v| {
+                s.$b.get_or_insert_with(Default::default).$f = v;
+                tidy(s);
+            },
+        }
+    };
+    ($b:ident . $f:ident as $t:ty) => {
+        Access::Number {
+            get: |s| s.$b.as_ref().and_then(|b| b.$f).map(|x| x as f64),
+            set: |s, v| {
+                s.$b.get_or_insert_with(Default::default).$f = v.map(|x| x.round() as $t);
+                tidy(s);
+            },
+        }
+    };
+}
+
+/// Drop a spread or spec block that holds nothing.
+fn tidy(s: &mut Scenario) {
+    if s.spread.as_ref().is_some_and(|b| *b == Default::default()) {
+        s.spread = None;
+    }
+    if s.spec.as_ref().is_some_and(|b| *b == Default::default()) {
+        s.spec = None;
+    }
 }
 
 /// One table row; the builder methods below set the less common parts.
@@ -228,12 +284,12 @@ impl Param {
     }
 }
 
-use Group::{Amplifier, Environment, SourceLoad, Stage, SupplySignal};
+use Group::{Amplifier, Environment, SourceLoad, Spread, Stage, SupplySignal};
 use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 38] = [
+pub static PARAMS: [Param; 57] = [
     entry(
         "stage.topology",
         "topology",
@@ -671,6 +727,223 @@ pub static PARAMS: [Param; 38] = [
         HERTZ,
         number!(req band.1),
     ),
+    entry(
+        "spread.dist",
+        "spread dist",
+        "",
+        Spread,
+        Choice,
+        Required,
+        (0.0, 0.0),
+        Access::Choice {
+            names: &DIST_NAMES,
+            get: |s| s.spread.as_ref().map_or(0, |b| b.dist as usize),
+            set: |s, i| {
+                s.spread.get_or_insert_with(Default::default).dist = DISTS[i];
+                tidy(s);
+            },
+        },
+    ),
+    entry(
+        "spread.cap_tol",
+        "cf spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.cap_tol),
+    )
+    .starting(|_| 0.1)
+    .shown(Format::Percent),
+    entry(
+        "spread.gbw_tol",
+        "gbw spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.gbw_tol),
+    )
+    .starting(|_| 0.3)
+    .shown(Format::Percent),
+    entry(
+        "spread.a0_min",
+        "a0 lowest",
+        "",
+        Spread,
+        OneTwoFive,
+        Optional,
+        A0,
+        block!(spread.a0_min),
+    )
+    .starting(|s| s.amp.a0 / 2.0),
+    entry(
+        "spread.ro_tol",
+        "ro spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.ro_tol),
+    )
+    .starting(|_| 0.2)
+    .shown(Format::Percent),
+    entry(
+        "spread.trials",
+        "trials",
+        "",
+        Spread,
+        OneTwoFive,
+        Optional,
+        TRIALS,
+        block!(spread.trials as u32),
+    )
+    .starting(|_| 2000.0),
+    entry(
+        "spread.seed",
+        "seed",
+        "",
+        Spread,
+        Linear(1.0),
+        Optional,
+        SEED,
+        block!(spread.seed as u64),
+    ),
+    entry(
+        "spec.gain_target",
+        "target gain",
+        "",
+        Spread,
+        OneTwoFive,
+        Optional,
+        GAIN_TARGET,
+        block!(spec.gain_target),
+    )
+    .starting(crate::engine::analysis::nominal_gain),
+    entry(
+        "spec.gain_error_max",
+        "gain error ≤",
+        "",
+        Spread,
+        List(&ERROR_LIMITS),
+        Optional,
+        FRACTION,
+        block!(spec.gain_error_max),
+    )
+    .starting(|_| 0.01)
+    .shown(Format::Percent),
+    entry(
+        "spec.f_3db_min",
+        "f−3dB ≥",
+        "Hz",
+        Spread,
+        OneTwoFive,
+        Optional,
+        HERTZ,
+        block!(spec.f_3db_min),
+    )
+    .starting(|s| s.band.1),
+    entry(
+        "spec.peaking_max_db",
+        "peaking ≤",
+        "dB",
+        Spread,
+        Linear(0.5),
+        Optional,
+        DB_LIMIT,
+        block!(spec.peaking_max_db),
+    ),
+    entry(
+        "spec.pm_min_deg",
+        "margin ≥",
+        "°",
+        Spread,
+        Linear(5.0),
+        Optional,
+        DEG_LIMIT,
+        block!(spec.pm_min_deg),
+    )
+    .starting(|_| 45.0),
+    entry(
+        "spec.zout_max_ohm",
+        "|Zout| ≤",
+        "Ω",
+        Spread,
+        OneTwoFive,
+        Optional,
+        OHM_LIMIT,
+        block!(spec.zout_max_ohm),
+    ),
+    entry(
+        "spec.zout_at_hz",
+        "|Zout| at",
+        "Hz",
+        Spread,
+        OneTwoFive,
+        Optional,
+        HZ_AT,
+        block!(spec.zout_at_hz),
+    )
+    .starting(|_| 100.0e3),
+    entry(
+        "spec.noise_rms_max",
+        "noise ≤",
+        "V",
+        Spread,
+        OneTwoFive,
+        Optional,
+        RMS_LIMIT,
+        block!(spec.noise_rms_max),
+    )
+    .starting(|_| 100.0e-6),
+    entry(
+        "spec.offset_max_v",
+        "offset ≤",
+        "V",
+        Spread,
+        OneTwoFive,
+        Optional,
+        PEAK,
+        block!(spec.offset_max_v),
+    )
+    .starting(|_| 10.0e-3),
+    entry(
+        "spec.settle_max_s",
+        "settling ≤",
+        "s",
+        Spread,
+        OneTwoFive,
+        Optional,
+        SECONDS,
+        block!(spec.settle_max_s),
+    )
+    .starting(|_| 1.0e-6),
+    entry(
+        "spec.headroom_min_v",
+        "headroom ≥",
+        "V",
+        Spread,
+        Linear(0.1),
+        Optional,
+        VOLTS,
+        block!(spec.headroom_min_v),
+    )
+    .starting(|_| 0.2),
+    entry(
+        "spec.yield_min",
+        "yield ≥",
+        "",
+        Spread,
+        List(&YIELDS),
+        Optional,
+        FRACTION,
+        block!(spec.yield_min),
+    )
+    .starting(|_| 0.99)
+    .shown(Format::Share),
 ];
 
 /// The table entry with this dotted path.
@@ -770,6 +1043,7 @@ impl Param {
         match self.format {
             Format::Eng => fmt_eng_sig(v, self.unit, 4).replace(' ', ""),
             Format::Percent => format!("±{}", pct(v)),
+            Format::Share => pct(v),
             Format::RatioDb => format!(
                 "{} ({} dB)",
                 fmt_plain(v, 3),
@@ -786,7 +1060,7 @@ impl Param {
             return name.into();
         }
         match (self.get(s), self.format) {
-            (Some(v), Format::Percent) => format!("{}%", fmt_compact(v * 100.0)),
+            (Some(v), Format::Percent | Format::Share) => format!("{}%", fmt_compact(v * 100.0)),
             (Some(v), _) => fmt_compact(v),
             (None, _) => "none".into(),
         }
@@ -839,7 +1113,7 @@ impl Param {
     fn display_number(&self, v: f64) -> String {
         match self.format {
             Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
-            Format::Percent => pct(v),
+            Format::Percent | Format::Share => pct(v),
             _ => fmt_eng(v, self.unit),
         }
     }
@@ -848,7 +1122,7 @@ impl Param {
     pub fn range_text(&self) -> String {
         let (lo, hi) = self.range;
         match self.format {
-            Format::Percent => format!("{} to {}", pct(lo), pct(hi)),
+            Format::Percent | Format::Share => format!("{} to {}", pct(lo), pct(hi)),
             _ => format!("{} to {}", fmt_eng(lo, self.unit), fmt_eng(hi, self.unit)),
         }
     }
@@ -870,8 +1144,10 @@ impl Param {
             return Ok(());
         }
         let v = match (self.format, t.strip_suffix('%')) {
-            (Format::Percent, Some(num)) => parse_value(num).map_err(|e| e.to_string())? / 100.0,
-            (Format::Percent, None) => {
+            (Format::Percent | Format::Share, Some(num)) => {
+                parse_value(num).map_err(|e| e.to_string())? / 100.0
+            }
+            (Format::Percent | Format::Share, None) => {
                 let v = parse_value(t).map_err(|e| e.to_string())?;
                 if v >= 1.0 {
                     v / 100.0
@@ -1005,6 +1281,7 @@ impl Param {
 /// The rules between fields, after each field's own check.
 fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     let mut p = supply_checks(s);
+    p.extend(spread_checks(s));
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {
         if hi <= lo {
@@ -1021,6 +1298,30 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
                 ),
             });
         }
+    }
+    p
+}
+
+/// The spread's open-loop gain range in order, and a gain target that is
+/// not zero.
+fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let mut p = Vec::new();
+    if let Some(lo) = s.spread.as_ref().and_then(|b| b.a0_min) {
+        if lo > s.amp.a0 {
+            p.push(FieldProblem {
+                field: "spread.a0_min".into(),
+                message: format!(
+                    "{lo} (lowest open-loop gain) must not be above amp.a0 {}",
+                    s.amp.a0
+                ),
+            });
+        }
+    }
+    if s.spec.as_ref().and_then(|b| b.gain_target) == Some(0.0) {
+        p.push(FieldProblem {
+            field: "spec.gain_target".into(),
+            message: "0 is not a gain target: the error is relative to it".into(),
+        });
     }
     p
 }

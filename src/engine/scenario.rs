@@ -180,6 +180,87 @@ pub struct Step {
     pub size: f64,
 }
 
+/// How a varied part is drawn within its spread.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Dist {
+    /// Uniform over ±tolerance.
+    #[default]
+    Uniform,
+    /// Normal with tolerance = 3σ, truncated at ±tolerance.
+    Normal,
+}
+
+impl Dist {
+    pub fn name(self) -> &'static str {
+        match self {
+            Dist::Uniform => "Uniform",
+            Dist::Normal => "Normal",
+        }
+    }
+}
+
+/// How the parts of a built stage vary (the resistors within
+/// `stage.tolerance`; absent spreads are 0).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Spread {
+    #[serde(default)]
+    pub dist: Dist,
+    /// cf within ±cap_tol (fraction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cap_tol: Option<f64>,
+    /// The gain-bandwidth within ±gbw_tol (fraction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gbw_tol: Option<f64>,
+    /// The open-loop gain between a0_min and amp.a0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub a0_min: Option<f64>,
+    /// The open-loop output resistance within ±ro_tol (fraction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ro_tol: Option<f64>,
+    /// Monte Carlo trials (2000 without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub trials: Option<u32>,
+    /// The generator's seed (1 without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub seed: Option<u64>,
+}
+
+/// Limits a built stage must meet; each present one is checked on the
+/// nominal design and on every trial (equal to the limit passes).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Spec {
+    /// The gain the error is measured against (the nominal stage's
+    /// network gain without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gain_target: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gain_error_max: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub f_3db_min: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub peaking_max_db: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pm_min_deg: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub zout_max_ohm: Option<f64>,
+    /// Where zout_max_ohm applies (0 or absent: DC).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub zout_at_hz: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub noise_rms_max: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub offset_max_v: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub settle_max_s: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub headroom_min_v: Option<f64>,
+    /// The fraction of trials that must meet every limit (1 without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub yield_min: Option<f64>,
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Load {
@@ -214,6 +295,12 @@ pub struct Scenario {
     pub step: Option<Step>,
     pub temp_c: f64,
     pub band: (f64, f64),
+    /// How the parts vary from board to board.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub spread: Option<Spread>,
+    /// The limits every board must meet.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub spec: Option<Spec>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
@@ -499,6 +586,8 @@ fn outer_path(outer: &str) -> String {
         "Load" => "load".into(),
         "Supply" => "supply".into(),
         "Step" => "step".into(),
+        "Spread" => "spread".into(),
+        "Spec" => "spec".into(),
         _ => String::new(),
     }
 }

@@ -1,0 +1,330 @@
+//! The `spread` and `check` commands: the engine's spread as text or JSON,
+//! and a pass/fail per file for CI. No analysis here, only reading
+//! [`SpreadResult`].
+
+use crate::engine::spread::{spread, unit_and_label, Run, SpreadResult, BINS};
+use crate::engine::values::{fmt_compact, fmt_plain};
+use crate::engine::Scenario;
+use anyhow::Result;
+use indicatif::{ProgressBar, ProgressDrawTarget};
+use serde_json::{json, Value};
+use std::io::{IsTerminal, Write};
+use std::path::Path;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+
+/// How long a run goes before the progress bar shows.
+const QUIET_FOR: Duration = Duration::from_millis(500);
+
+/// Run the spread with a progress bar on stderr when it is a terminal and
+/// the run lasts more than about half a second; nothing on stderr else.
+pub fn spread_with_progress(s: &Scenario, trials: Option<u32>, seed: Option<u64>) -> SpreadResult {
+    let n = trials
+        .or(s.spread.as_ref().and_then(|b| b.trials))
+        .unwrap_or(crate::engine::spread::DEFAULT_TRIALS);
+    let bar = ProgressBar::with_draw_target(Some(u64::from(n)), ProgressDrawTarget::hidden());
+    let terminal = std::io::stderr().is_terminal();
+    let shown = AtomicBool::new(false);
+    let start = Instant::now();
+    let progress = |done: usize| {
+        if terminal && !shown.load(Ordering::Relaxed) && start.elapsed() > QUIET_FOR {
+            shown.store(true, Ordering::Relaxed);
+            bar.set_draw_target(ProgressDrawTarget::stderr());
+        }
+        bar.set_position(done as u64);
+    };
+    let r = spread(
+        s,
+        &Run {
+            trials,
+            seed,
+            progress: Some(&progress),
+        },
+    );
+    bar.finish_and_clear();
+    r
+}
+
+fn or_null(v: Option<f64>) -> Value {
+    v.filter(|x| x.is_finite()).map_or(Value::Null, |x| json!(x))
+}
+
+fn corner_json(at: &[(&str, f64)]) -> Value {
+    at.iter()
+        .map(|(field, value)| json!({"field": field, "value": value}))
+        .collect()
+}
+
+/// `spread --json`: one object with the issue's keys.
+pub fn spread_json(r: &SpreadResult) -> Value {
+    let figures: Vec<Value> = r
+        .figures
+        .iter()
+        .map(|f| {
+            json!({
+                "key": f.key,
+                "nominal": or_null(f.nominal),
+                "mean": or_null(f.mean),
+                "std": or_null(f.std),
+                "min": or_null(f.min),
+                "max": or_null(f.max),
+                "p_low": or_null(f.p_low),
+                "p_high": or_null(f.p_high),
+                "corner_min": or_null(f.corner_min),
+                "corner_max": or_null(f.corner_max),
+                "corner_min_at": corner_json(&f.corner_min_at),
+                "corner_max_at": corner_json(&f.corner_max_at),
+                "undefined": f.undefined,
+                "histogram": f.histogram.to_vec(),
+            })
+        })
+        .collect();
+    json!({
+        "trials": r.trials,
+        "seed": r.seed,
+        "dist": r.dist.name(),
+        "figures": figures,
+        "yield": or_null(r.yield_frac),
+    })
+}
+
+/// A value of a spread figure as text ("—" when undefined).
+fn cell(key: &str, v: Option<f64>) -> String {
+    v.map_or("—".into(), |v| {
+        unit_and_label(key).0.number(v, false).replace(' ', "")
+    })
+}
+
+/// `spread` as text: the varied parts, the figure table, the limits and
+/// the yield.
+pub fn write_spread(r: &SpreadResult, title: &str, out: &mut impl Write) -> Result<()> {
+    writeln!(out, "Spread of {title}")?;
+    writeln!(
+        out,
+        "{} trials, seed {}, {} within each tolerance",
+        r.trials,
+        r.seed,
+        r.dist.name().to_lowercase()
+    )?;
+    writeln!(out, "Varied parts ({} corners):", 1usize << r.knobs.len())?;
+    for k in &r.knobs {
+        writeln!(
+            out,
+            "  {:<12} {} to {}",
+            k.field,
+            fmt_compact(k.lo),
+            fmt_compact(k.hi)
+        )?;
+    }
+    writeln!(out)?;
+    write_figure_table(r, out)?;
+    if !r.limits.is_empty() || r.yield_frac.is_some() {
+        writeln!(out)?;
+        write_limits(r, out)?;
+    }
+    Ok(())
+}
+
+fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
+    let head = [
+        "figure", "nominal", "mean", "std", "min", "max", "0.135%", "99.865%", "corner lo",
+        "corner hi", "undef", "histogram",
+    ];
+    let mut rows = vec![head.iter().map(|h| h.to_string()).collect::<Vec<_>>()];
+    let mut inside = false;
+    for f in &r.figures {
+        let mark = if f.extreme_inside() { " *" } else { "" };
+        inside |= f.extreme_inside();
+        rows.push(vec![
+            unit_and_label(f.key).1.to_string(),
+            cell(f.key, f.nominal),
+            cell(f.key, f.mean),
+            cell(f.key, f.std),
+            format!("{}{mark}", cell(f.key, f.min)),
+            format!("{}{mark}", cell(f.key, f.max)),
+            cell(f.key, f.p_low),
+            cell(f.key, f.p_high),
+            cell(f.key, f.corner_min),
+            cell(f.key, f.corner_max),
+            f.undefined.to_string(),
+            sparkline(&f.histogram),
+        ]);
+    }
+    write_columns(&rows, out)?;
+    if inside {
+        writeln!(
+            out,
+            "* a trial went beyond the corners: this figure's extreme lies inside the \
+             tolerance box, not at a corner"
+        )?;
+    }
+    Ok(())
+}
+
+/// Rows of cells, each column as wide as its widest cell.
+fn write_columns(rows: &[Vec<String>], out: &mut impl Write) -> Result<()> {
+    let cols = rows.first().map_or(0, Vec::len);
+    let width: Vec<usize> = (0..cols)
+        .map(|c| rows.iter().map(|r| r[c].chars().count()).max().unwrap_or(0))
+        .collect();
+    for r in rows {
+        let line: Vec<String> = r
+            .iter()
+            .zip(&width)
+            .enumerate()
+            .map(|(c, (cell, w))| {
+                let pad = w - cell.chars().count();
+                if c == 0 {
+                    format!("{cell}{}", " ".repeat(pad))
+                } else {
+                    format!("{}{cell}", " ".repeat(pad))
+                }
+            })
+            .collect();
+        writeln!(out, "{}", line.join("  ").trim_end())?;
+    }
+    Ok(())
+}
+
+/// The limits table: limit, nominal, worst trial, trials failing, pass.
+pub fn write_limits(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
+    let mut rows = vec![["limit", "value", "nominal", "worst trial", "failing", ""]
+        .iter()
+        .map(|h| h.to_string())
+        .collect::<Vec<_>>()];
+    for l in &r.limits {
+        let key = l.limit.figures[0];
+        rows.push(vec![
+            l.limit.field.to_string(),
+            cell(key, Some(l.value)),
+            cell(key, l.nominal),
+            cell(key, l.worst),
+            format!("{}/{}", l.failed, r.trials),
+            if l.nominal_pass { "pass" } else { "FAIL" }.into(),
+        ]);
+    }
+    write_columns(&rows, out)?;
+    match r.yield_frac {
+        Some(y) => writeln!(
+            out,
+            "yield {} % of {} trials (needs ≥ {} %): {}",
+            fmt_plain(100.0 * y, 4),
+            r.trials,
+            fmt_plain(100.0 * r.yield_min, 4),
+            if r.passes() { "PASS" } else { "FAIL" }
+        )?,
+        None => writeln!(out, "no spec: no yield")?,
+    }
+    Ok(())
+}
+
+/// Why a stage fails its spec, in one line ("pm_min_deg 41.2 < 50").
+pub fn failures(r: &SpreadResult) -> String {
+    let mut why: Vec<String> = r
+        .limits
+        .iter()
+        .filter(|l| !l.nominal_pass)
+        .map(|l| l.limit.failure(l.nominal, l.value))
+        .collect();
+    if let Some(y) = r.yield_frac.filter(|y| *y < r.yield_min) {
+        why.push(format!(
+            "yield {} < {}",
+            fmt_plain(y, 4),
+            fmt_plain(r.yield_min, 4)
+        ));
+    }
+    why.join("; ")
+}
+
+/// One file's check as JSON.
+fn check_json(file: &Path, r: Option<&SpreadResult>) -> Value {
+    let Some(r) = r else {
+        return json!({"file": file.display().to_string(), "spec": false, "pass": true});
+    };
+    let limits: Vec<Value> = r
+        .limits
+        .iter()
+        .map(|l| {
+            json!({
+                "field": l.limit.field,
+                "limit": l.value,
+                "nominal": or_null(l.nominal),
+                "worst": or_null(l.worst),
+                "failed": l.failed,
+                "pass": l.nominal_pass,
+            })
+        })
+        .collect();
+    json!({
+        "file": file.display().to_string(),
+        "spec": true,
+        "pass": r.passes(),
+        "limits": limits,
+        "trials": r.trials,
+        "yield": or_null(r.yield_frac),
+        "yield_min": r.yield_min,
+    })
+}
+
+/// What `check` gives: the output and the exit code (0 all pass, 1 a
+/// file fails its spec, 2 a file could not be read; 2 wins).
+pub struct Checked {
+    pub stdout: Vec<u8>,
+    pub stderr: Vec<u8>,
+    pub code: u8,
+}
+
+/// `check FILE...`: one line per file, or the table with `verbose`.
+pub fn check(files: &[std::path::PathBuf], trials: Option<u32>, json_out: bool, verbose: bool) -> Checked {
+    let (mut stdout, mut stderr, mut code) = (Vec::new(), Vec::new(), 0u8);
+    let mut all = Vec::new();
+    for file in files {
+        let s = match Scenario::load(file) {
+            Ok(s) => s,
+            Err(e) => {
+                let _ = writeln!(stderr, "loopwright: {e}");
+                code = 2;
+                continue;
+            }
+        };
+        let r = s.spec.is_some().then(|| spread_with_progress(&s, trials, None));
+        let pass = r.as_ref().is_none_or(SpreadResult::passes);
+        if !pass && code == 0 {
+            code = 1;
+        }
+        all.push(check_json(file, r.as_ref()));
+        if json_out {
+            continue;
+        }
+        let name = file.display();
+        let _ = match &r {
+            None => writeln!(stdout, "PASS {name} (no spec)"),
+            Some(r) if pass => writeln!(stdout, "PASS {name}"),
+            Some(r) => writeln!(stdout, "FAIL {name}: {}", failures(r)),
+        };
+        if let (true, Some(r)) = (verbose, &r) {
+            let _ = write_limits(r, &mut stdout).and_then(|_| Ok(writeln!(stdout)?));
+        }
+    }
+    if json_out {
+        let doc = json!({"pass": code == 0, "files": all});
+        let _ = writeln!(stdout, "{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+    }
+    Checked {
+        stdout,
+        stderr,
+        code,
+    }
+}
+
+/// The histogram as a row of block characters (for text views).
+pub fn sparkline(h: &[usize; BINS]) -> String {
+    const BARS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];
+    let top = h.iter().copied().max().unwrap_or(0).max(1);
+    h.iter()
+        .map(|&c| match c {
+            0 => ' ',
+            c => BARS[((c * 8 - 1) / top).min(7)],
+        })
+        .collect()
+}
