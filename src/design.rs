@@ -46,7 +46,8 @@ pub fn spread_with_progress(s: &Scenario, trials: Option<u32>, seed: Option<u64>
 }
 
 fn or_null(v: Option<f64>) -> Value {
-    v.filter(|x| x.is_finite()).map_or(Value::Null, |x| json!(x))
+    v.filter(|x| x.is_finite())
+        .map_or(Value::Null, |x| json!(x))
 }
 
 fn corner_json(at: &[(&str, f64)]) -> Value {
@@ -127,8 +128,18 @@ pub fn write_spread(r: &SpreadResult, title: &str, out: &mut impl Write) -> Resu
 
 fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
     let head = [
-        "figure", "nominal", "mean", "std", "min", "max", "0.135%", "99.865%", "corner lo",
-        "corner hi", "undef", "histogram",
+        "figure",
+        "nominal",
+        "mean",
+        "std",
+        "min",
+        "max",
+        "0.135%",
+        "99.865%",
+        "corner lo",
+        "corner hi",
+        "undef",
+        "histogram",
     ];
     let mut rows = vec![head.iter().map(|h| h.to_string()).collect::<Vec<_>>()];
     let mut inside = false;
@@ -188,10 +199,17 @@ fn write_columns(rows: &[Vec<String>], out: &mut impl Write) -> Result<()> {
 
 /// The limits table: limit, nominal, worst trial, trials failing, pass.
 pub fn write_limits(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
-    let mut rows = vec![["limit", "value", "nominal", "worst trial", "failing", ""]
-        .iter()
-        .map(|h| h.to_string())
-        .collect::<Vec<_>>()];
+    let mut rows = vec![[
+        "limit",
+        "value",
+        "nominal",
+        "worst trial",
+        "failing",
+        "nominal is",
+    ]
+    .iter()
+    .map(|h| h.to_string())
+    .collect::<Vec<_>>()];
     for l in &r.limits {
         let key = l.limit.figures[0];
         rows.push(vec![
@@ -275,7 +293,12 @@ pub struct Checked {
 }
 
 /// `check FILE...`: one line per file, or the table with `verbose`.
-pub fn check(files: &[std::path::PathBuf], trials: Option<u32>, json_out: bool, verbose: bool) -> Checked {
+pub fn check(
+    files: &[std::path::PathBuf],
+    trials: Option<u32>,
+    json_out: bool,
+    verbose: bool,
+) -> Checked {
     let (mut stdout, mut stderr, mut code) = (Vec::new(), Vec::new(), 0u8);
     let mut all = Vec::new();
     for file in files {
@@ -287,7 +310,10 @@ pub fn check(files: &[std::path::PathBuf], trials: Option<u32>, json_out: bool, 
                 continue;
             }
         };
-        let r = s.spec.is_some().then(|| spread_with_progress(&s, trials, None));
+        let r = s
+            .spec
+            .is_some()
+            .then(|| spread_with_progress(&s, trials, None));
         let pass = r.as_ref().is_none_or(SpreadResult::passes);
         if !pass && code == 0 {
             code = 1;
@@ -308,7 +334,11 @@ pub fn check(files: &[std::path::PathBuf], trials: Option<u32>, json_out: bool, 
     }
     if json_out {
         let doc = json!({"pass": code == 0, "files": all});
-        let _ = writeln!(stdout, "{}", serde_json::to_string_pretty(&doc).unwrap_or_default());
+        let _ = writeln!(
+            stdout,
+            "{}",
+            serde_json::to_string_pretty(&doc).unwrap_or_default()
+        );
     }
     Checked {
         stdout,

@@ -514,6 +514,13 @@ fn run_sweep(circuit: &Circuit, band: (f64, f64), dc: &Point, per_decade: f64) -
         SWEEP_STOP_HZ.max(band_hi),
         per_decade,
     );
+    // A coarser sweep keeps the full density inside the band, where the
+    // noise is integrated on the points.
+    if per_decade < POINTS_PER_DECADE as f64 {
+        freqs.retain(|f| *f < band_lo || *f > band_hi);
+        freqs.extend(sweep_frequencies(band_lo, band_hi));
+        freqs.sort_by(f64::total_cmp);
+    }
     for f in [band_lo, band_hi] {
         if let Err(i) = freqs.binary_search_by(|x| x.total_cmp(&f)) {
             freqs.insert(i, f);
@@ -654,8 +661,9 @@ pub const FULL: Depth = Depth {
     bare_margin: true,
 };
 
-/// One spread trial: a third of the sweep points (the figures are refined
-/// between them, so they agree with [`FULL`] to the report's precision; a
+/// One spread trial: a third of the sweep points outside the band (the
+/// figures are refined between them, and the band keeps its points for
+/// the noise, so they agree with [`FULL`] to the report's precision; a
 /// test checks it), no step unless a limit needs it.
 pub const TRIAL: Depth = Depth {
     per_decade: 10.0,

@@ -121,6 +121,8 @@ pub struct Param {
     pub start: fn(&Scenario) -> f64,
     pub format: Format,
     pub access: Access,
+    /// A count or a seed: whole numbers only.
+    pub whole: bool,
 }
 
 /// A reference to a table entry; compared by identity of the path.
@@ -270,6 +272,7 @@ const fn entry(
         start: |_| 1.0,
         format: Format::Eng,
         access,
+        whole: false,
     }
 }
 
@@ -280,6 +283,10 @@ impl Param {
     }
     const fn shown(mut self, format: Format) -> Param {
         self.format = format;
+        self
+    }
+    const fn whole(mut self) -> Param {
+        self.whole = true;
         self
     }
 }
@@ -801,7 +808,8 @@ pub static PARAMS: [Param; 57] = [
         TRIALS,
         block!(spread.trials as u32),
     )
-    .starting(|_| 2000.0),
+    .starting(|_| 2000.0)
+    .whole(),
     entry(
         "spread.seed",
         "seed",
@@ -811,7 +819,8 @@ pub static PARAMS: [Param; 57] = [
         Optional,
         SEED,
         block!(spread.seed as u64),
-    ),
+    )
+    .whole(),
     entry(
         "spec.gain_target",
         "target gain",
@@ -1157,6 +1166,9 @@ impl Param {
             }
             _ => parse_value(t).map_err(|e| e.to_string())?,
         };
+        if self.whole && v.fract() != 0.0 {
+            return Err(format!("{t} is not a whole number"));
+        }
         if v == 0.0 && self.zero_is_absent(s) {
             self.set(s, None);
         } else {
@@ -1467,6 +1479,7 @@ mod tests {
             .filter(|p| matches!(p.access, Access::Number { .. }))
         {
             let v = (p.range.0.max(1e-9) * p.range.1.max(1e-9)).sqrt();
+            let v = if p.whole { v.round() } else { v };
             p.set(&mut s, Some(v));
             assert_eq!(p.raw(&s), Some(v), "{}", p.path);
         }

@@ -7,6 +7,7 @@
 
 use super::scenario::{Scenario, Spec};
 use super::values::fmt_compact;
+use super::warnings::{Code, Severity, Warning};
 
 /// When a figure meets its limit (a value equal to the limit passes).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -141,7 +142,11 @@ impl Limit {
             AtLeast => (v, "<"),
             MagnitudeAtMost => (v.abs(), ">"),
         };
-        let bar = if self.rule == MagnitudeAtMost { "|" } else { "" };
+        let bar = if self.rule == MagnitudeAtMost {
+            "|"
+        } else {
+            ""
+        };
         format!(
             "{} {bar}{}{bar} {op} {}",
             self.field,
@@ -162,4 +167,20 @@ pub fn given(s: &Scenario) -> Vec<(&'static Limit, f64)> {
 /// The fraction of trials that must meet every limit (1 without it).
 pub fn yield_min(s: &Scenario) -> f64 {
     s.spec.as_ref().and_then(|x| x.yield_min).unwrap_or(1.0)
+}
+
+/// One `spec` warning per limit the nominal stage fails, with the numbers.
+pub fn nominal_warnings(s: &Scenario, e: &super::Evaluation) -> Vec<Warning> {
+    let target = super::spread::target(s, e);
+    given(s)
+        .into_iter()
+        .filter_map(|(l, limit)| {
+            let v = l.held(|k| super::spread::read(e, k, target));
+            (!l.passes(v, limit)).then(|| Warning {
+                code: Code::Spec,
+                severity: Severity::Warning,
+                text: format!("the stage misses its spec: {}", l.failure(v, limit)),
+            })
+        })
+        .collect()
 }

@@ -228,20 +228,14 @@ impl Plan {
         let held = |key: &str| limits.iter().any(|(l, _)| l.figures.contains(&key));
         let keys = SPREAD_FIGURES
             .iter()
-            .filter(|(key, when)| {
-                match when {
-                    When::Always => true,
-                    When::Given => held(key) || read(nominal, key, 1.0).is_some(),
-                    When::Held => held(key),
-                }
+            .filter(|(key, when)| match when {
+                When::Always => true,
+                When::Given => held(key) || read(nominal, key, 1.0).is_some(),
+                When::Held => held(key),
             })
             .map(|(key, _)| *key)
             .collect();
-        let target = s
-            .spec
-            .as_ref()
-            .and_then(|x| x.gain_target)
-            .unwrap_or(nominal.ideal_gain);
+        let target = target(s, nominal);
         let depth = Depth {
             step: held("settle_01pct_s"),
             ..TRIAL
@@ -263,8 +257,17 @@ impl Plan {
     }
 }
 
+/// The gain `target_error` is measured against: the spec's target, or
+/// the nominal stage's network gain.
+pub fn target(s: &Scenario, nominal: &Evaluation) -> f64 {
+    s.spec
+        .as_ref()
+        .and_then(|x| x.gain_target)
+        .unwrap_or(nominal.ideal_gain)
+}
+
 /// A spread figure of an evaluated stage (None: undefined or unstable).
-fn read(e: &Evaluation, key: &str, target: f64) -> Option<f64> {
+pub fn read(e: &Evaluation, key: &str, target: f64) -> Option<f64> {
     if key == "target_error" {
         let g = figure("dc_gain")?.read(e).value()?;
         return Some((g - target) / target).filter(|v| v.is_finite());
@@ -351,7 +354,10 @@ fn corners(s: &Scenario, plan: &Plan, knobs: &[Knob], figures: &mut [FigureSprea
         })
         .collect();
     for (j, f) in figures.iter_mut().enumerate() {
-        let defined = rows.iter().enumerate().filter_map(|(c, r)| Some((c, r[j]?)));
+        let defined = rows
+            .iter()
+            .enumerate()
+            .filter_map(|(c, r)| Some((c, r[j]?)));
         let lo = defined.clone().min_by(|a, b| a.1.total_cmp(&b.1));
         let hi = defined.max_by(|a, b| a.1.total_cmp(&b.1));
         if let (Some(lo), Some(hi)) = (lo, hi) {

@@ -46,10 +46,11 @@ pub enum Code {
     Slew,
     OutputCurrent,
     DcOffset,
+    Spec,
 }
 
 impl Code {
-    pub const ALL: [Code; 16] = [
+    pub const ALL: [Code; 17] = [
         Code::InputInvalid,
         Code::PhaseMargin,
         Code::NoCrossover,
@@ -66,6 +67,7 @@ impl Code {
         Code::Slew,
         Code::OutputCurrent,
         Code::DcOffset,
+        Code::Spec,
     ];
 
     /// The stable kebab-case name.
@@ -87,6 +89,7 @@ impl Code {
             Code::Slew => "slew",
             Code::OutputCurrent => "output-current",
             Code::DcOffset => "dc-offset",
+            Code::Spec => "spec",
         }
     }
 }

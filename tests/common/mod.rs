@@ -48,6 +48,8 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
         step: None,
         temp_c: 25.0,
         band: (10.0, 100.0e3),
+        spread: None,
+        spec: None,
         notes: None,
     }
 }
