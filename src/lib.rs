@@ -17,6 +17,7 @@
 
 pub mod cli;
 pub mod engine;
+pub mod helpers_cmd;
 pub mod note;
 pub mod plot_svg;
 pub mod report;
