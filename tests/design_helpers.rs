@@ -224,8 +224,15 @@ fn pairs_text_is_a_table_in_engineering_notation() {
         lines[2].contains("1 kΩ") && lines[2].contains("4.7 MΩ"),
         "{text}"
     );
-    let col = lines[1].find("rf").unwrap();
-    assert!(lines[2..].iter().all(|l| l.chars().count() > col), "{text}");
+    // Aligned: every row's rf value starts in the column of the rf header.
+    let col = lines[1].chars().position(|c| c == 'f').unwrap() - 1;
+    for l in &lines[2..] {
+        let cells: Vec<char> = l.chars().collect();
+        assert!(
+            cells[col - 1] == ' ' && cells[col].is_ascii_digit(),
+            "{text}"
+        );
+    }
 }
 
 /// Run the binary expecting failure; its stderr.
@@ -510,4 +517,20 @@ fn m_lists_the_options_and_enter_applies_the_chosen_part() {
     let cf = s.stage.cf.expect("cf applied");
     assert_eq!(listed, loopwright::ui::app::Pick::Part(Part::Cf, cf));
     assert!(Series::E12.contains(cf) && margin(s) >= 60.0, "{cf}");
+}
+
+#[test]
+fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
+    // a0 = 10 around β = rg/(rg + rf) = 1/101: T(0) = a0·β ≈ 0.099 (the
+    // textbook loop gain Aβ), and a single pole only lowers it, so |T|
+    // never reaches 1 and there is no crossover to read a margin at.
+    let mut s = common::in_range(common::plain(Topology::NonInverting, 1e3, 100e3));
+    s.amp.a0 = 10.0;
+    s.amp.gbw = 1e3;
+    let a = analyze(&s);
+    assert!(a.phase_margin_deg.is_none());
+    common::assert_rel("T(0)", a.loop_gain_dc, 10.0 / 101.0, 1e-3);
+    assert!(stabilize::meets(&a, 89.0));
+    let o = stabilize::options(&s, 60.0).unwrap();
+    assert!(o.already_met && o.margin_now.is_none(), "{o:?}");
 }
