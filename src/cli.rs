@@ -2,6 +2,8 @@
 
 use crate::engine::params::HERTZ;
 use crate::engine::values::{fmt_eng, parse_quantity};
+use crate::engine::{Series, Topology};
+use crate::helpers_cmd as helpers;
 use clap::builder::PossibleValuesParser;
 use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
@@ -209,5 +211,41 @@ pub enum Command {
     Series {
         /// E3, E6, E12, E24, E48, E96 or E192.
         name: String,
+    },
+    /// E-series (rg, rf) pairs for a gain, closest first (ties: lower
+    /// resistor noise, then lower output load).
+    Pairs {
+        /// The gain magnitude (NonInverting: 1 + rf/rg; Inverting: rf/rg).
+        #[arg(value_name = "GAIN", value_parser = helpers::parse_gain, allow_negative_numbers = true)]
+        gain: f64,
+        /// The series both resistors come from.
+        #[arg(long, default_value = "E24", value_parser = helpers::parse_series)]
+        series: Series,
+        /// NonInverting or Inverting.
+        #[arg(long, default_value = "NonInverting", value_parser = helpers::parse_pair_topology)]
+        topology: Topology,
+        /// Smallest rg (`1k`, `4k7`).
+        #[arg(long = "rg-min", value_name = "OHMS", default_value = "1k", value_parser = helpers::parse_resistance, allow_negative_numbers = true)]
+        rg_min: f64,
+        /// Largest rg.
+        #[arg(long = "rg-max", value_name = "OHMS", default_value = "100k", value_parser = helpers::parse_resistance, allow_negative_numbers = true)]
+        rg_max: f64,
+        /// How many pairs to list.
+        #[arg(long, default_value_t = 10, value_parser = clap::value_parser!(u32).range(1..=10_000))]
+        count: u32,
+        /// One JSON object: `target` and `pairs` (rg, rf, gain, error, noise_density, load_ohm).
+        #[arg(long)]
+        json: bool,
+    },
+    /// The smallest riso (stage's series) and cf (E12) that reach a
+    /// phase-margin target, each with the figures it gives.
+    Stabilize {
+        file: PathBuf,
+        /// The phase-margin target, degrees.
+        #[arg(long, value_name = "DEG", default_value = "60", value_parser = helpers::parse_margin, allow_negative_numbers = true)]
+        margin: f64,
+        /// One JSON object: `target_deg`, `options`, `reason`.
+        #[arg(long)]
+        json: bool,
     },
 }

@@ -18,6 +18,7 @@
 pub mod cli;
 pub mod design;
 pub mod engine;
+pub mod helpers_cmd;
 pub mod note;
 pub mod plot_svg;
 pub mod report;

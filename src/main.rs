@@ -4,7 +4,7 @@ use loopwright::cli::{Cli, Command, CompletionShell};
 use loopwright::engine::{evaluate, scenario, Evaluation, Scenario, Series};
 use loopwright::report::{write_text, Comparison, Report};
 use loopwright::ui::app::Stage;
-use loopwright::{design, note, plot_svg, storage, sweep};
+use loopwright::{design, helpers_cmd, note, plot_svg, storage, sweep};
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -301,6 +301,27 @@ fn run(cli: Cli) -> Result<ExitCode> {
             seed,
             json,
         } => spread(file, *trials, *seed, *json)?,
+        Command::Pairs {
+            gain,
+            series,
+            topology,
+            rg_min,
+            rg_max,
+            count,
+            json,
+        } => {
+            let q = loopwright::engine::pairs::Query {
+                target: *gain,
+                series: *series,
+                topology: *topology,
+                rg_range: (*rg_min, *rg_max),
+                count: *count as usize,
+            };
+            helpers_cmd::pairs_output(&q, *json)?
+        }
+        Command::Stabilize { file, margin, json } => {
+            helpers_cmd::stabilize_output(file, *margin, *json)?
+        }
         other => generated(other)?.unwrap_or_default(),
     };
     let stdout = io::stdout();

@@ -209,3 +209,36 @@ impl fmt::Display for Series {
 
 /// Capacitors step along E12 (common practice).
 pub const CAPACITOR_SERIES: Series = Series::E12;
+
+/// Slack for "inside the range" at the ends of [`Series::values_between`]
+/// (a typed `1k` is 1000 exactly; this only absorbs rounding).
+const RANGE_REL: f64 = 1e-9;
+
+impl Series {
+    /// Every series value from `lo` to `hi` (both ends included), in
+    /// increasing order, each computed as the table's integer times a power
+    /// of ten so it is the correctly rounded decimal (4.7 kΩ is 4700, not
+    /// 4700.000000000001). Empty when the range holds no value.
+    pub fn values_between(self, lo: f64, hi: f64) -> Vec<f64> {
+        if !(lo > 0.0 && hi >= lo && hi.is_finite()) {
+            return Vec::new();
+        }
+        let shift = self.digits() as i32 - 1;
+        let (first, last) = (Self::decade(lo) - 1, Self::decade(hi) + 1);
+        let mut out = Vec::new();
+        for d in first..=last {
+            let e = d - shift;
+            for &t in self.table() {
+                let v = if e >= 0 {
+                    t as f64 * 10f64.powi(e)
+                } else {
+                    t as f64 / 10f64.powi(-e)
+                };
+                if v >= lo * (1.0 - RANGE_REL) && v <= hi * (1.0 + RANGE_REL) {
+                    out.push(v);
+                }
+            }
+        }
+        out
+    }
+}

@@ -16,6 +16,10 @@ use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyEventKind};
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
 
+mod helper_lists;
+use helper_lists::{list_key, ListKey};
+pub use helper_lists::{Choices, Pick};
+
 /// Which plot the upper right panel shows.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum View {
@@ -172,6 +176,8 @@ pub enum Prompt {
     SaveAs,
     Probe,
     Title,
+    /// The target gain the resistor pairs are listed for.
+    Gain,
 }
 
 impl Prompt {
@@ -181,6 +187,7 @@ impl Prompt {
             Prompt::SaveAs => "save as",
             Prompt::Probe => "Zout at (Hz)",
             Prompt::Title => "title",
+            Prompt::Gain => "target gain",
         }
     }
 }
@@ -202,6 +209,9 @@ pub enum Mode {
     ConfirmCopy,
     /// Choosing an amplifier archetype: the highlighted entry.
     Pick(usize),
+    /// Choosing from a design helper's list (resistor pairs, stabilising
+    /// options).
+    Choose(Choices),
     Help,
     ConfirmQuit,
     /// The edited stage has unsaved changes: open this file over it?
@@ -459,6 +469,7 @@ impl App {
                             s.title = text.trim().to_string();
                             Ok(())
                         }),
+                        Prompt::Gain => self.list_pairs(&text),
                     }
                 }
             }
@@ -468,18 +479,30 @@ impl App {
                 typed,
             } => self.on_open_key(key, files, selected, typed),
             Mode::Pick(sel) => self.on_pick_key(key, sel),
+            Mode::Choose(list) => self.on_choose_key(key, list),
         }
     }
 
     fn on_pick_key(&mut self, key: KeyEvent, sel: usize) {
-        match key.code {
-            KeyCode::Up | KeyCode::Char('k') => self.mode = Mode::Pick(sel.saturating_sub(1)),
-            KeyCode::Down | KeyCode::Char('j') => {
-                let last = self.archetypes.len().saturating_sub(1);
-                self.mode = Mode::Pick((sel + 1).min(last));
+        match list_key(&key, sel, self.archetypes.len()) {
+            ListKey::Move(i) => self.mode = Mode::Pick(i),
+            ListKey::Apply => self.apply_archetype(sel),
+            ListKey::Leave => self.info("amplifier unchanged"),
+        }
+    }
+
+    fn on_choose_key(&mut self, key: KeyEvent, mut list: Choices) {
+        match list_key(&key, list.selected, list.picks.len()) {
+            ListKey::Move(i) => {
+                list.selected = i;
+                self.mode = Mode::Choose(list);
             }
-            KeyCode::Enter => self.apply_archetype(sel),
-            _ => self.info("amplifier unchanged"),
+            ListKey::Apply => {
+                if let Some(&pick) = list.picks.get(list.selected) {
+                    self.apply_pick(pick);
+                }
+            }
+            ListKey::Leave => self.info("stage unchanged"),
         }
     }
 
@@ -575,6 +598,8 @@ impl App {
                 self.info("open: ↑↓ choose, or type a path; Enter opens, Esc cancels");
             }
             Action::PickArchetype => self.start_pick(),
+            Action::ResistorPairs => self.start_pairs(),
+            Action::StabilizeOptions => self.list_fixes(),
             Action::CopyToOther => self.copy_to_other(true),
             Action::SwitchSlot => self.switch_slot(),
             Action::Undo => self.undo(),

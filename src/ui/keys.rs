@@ -24,6 +24,8 @@ pub enum Action {
     ScrollWarningsDown,
     ScrollWarningsUp,
     PickArchetype,
+    ResistorPairs,
+    StabilizeOptions,
     CopyToOther,
     SwitchSlot,
     Undo,
@@ -165,6 +167,21 @@ pub const KEYS: &[Binding] = &[
         shown: "a",
         action: Action::PickArchetype,
         help: "amplifier: pick a generic archetype (typical values)",
+        hint: None,
+    },
+    // The two design helpers share one help row (the help fits 80×24).
+    Binding {
+        keys: &[k('r')],
+        shown: "r, m",
+        action: Action::ResistorPairs,
+        help: "r: rg, rf for a typed gain · m: riso or cf for 60° margin",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('m')],
+        shown: "",
+        action: Action::StabilizeOptions,
+        help: "",
         hint: None,
     },
     Binding {

@@ -1,6 +1,6 @@
 //! Drawing: reads the App, never changes it.
 
-use super::app::{App, Mode, Slot, View};
+use super::app::{App, Choices, Mode, Slot, View};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
@@ -92,6 +92,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             typed,
         } => open_overlay(app, area, buf, files, *selected, typed),
         Mode::Pick(sel) => pick_overlay(app, area, buf, *sel),
+        Mode::Choose(list) => choose_overlay(app, area, buf, list),
         _ => {}
     }
     if app.theme.ascii {
@@ -1076,41 +1077,80 @@ fn open_overlay(
     Paragraph::new(lines).render(inner, buf);
 }
 
-fn pick_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, sel: usize) {
-    let h = (app.archetypes.len() as u16 + 3).min(area.height.saturating_sub(2));
-    let r = centered(area, 72, h);
+/// A list overlay: a title, an optional dim header, rows (the selected
+/// one highlighted, scrolled into view) and a dim note under them. The
+/// archetype picker and the design helpers' lists share it.
+fn list_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: ListView) {
+    let extra = 3 + u16::from(!list.header.is_empty());
+    let h = (list.rows.len() as u16 + extra).min(area.height.saturating_sub(2));
+    let r = centered(area, 76, h);
     Clear.render(r, buf);
-    let b = block(app, " Amplifier archetype (typical values, ↑↓ Enter, Esc) ");
+    let b = block(app, list.title);
     let inner = b.inner(r);
     b.render(r, buf);
-    let mut lines: Vec<Line> = app
+    let mut lines = Vec::new();
+    if !list.header.is_empty() {
+        lines.push(Line::styled(format!("  {}", list.header), app.theme.dim));
+    }
+    let room = (inner.height as usize)
+        .saturating_sub(lines.len() + 1)
+        .max(1);
+    let start = list.selected.saturating_sub(room - 1);
+    for (i, row) in list.rows.iter().enumerate().skip(start).take(room) {
+        let style = if i == list.selected {
+            app.theme.selected
+        } else {
+            app.theme.normal
+        };
+        lines.push(Line::styled(format!("  {row}"), style));
+    }
+    lines.push(Line::styled(format!("  {}", list.note), app.theme.dim));
+    Paragraph::new(lines).render(inner, buf);
+}
+
+/// What [`list_overlay`] draws.
+struct ListView<'a> {
+    title: &'a str,
+    header: &'a str,
+    rows: &'a [String],
+    selected: usize,
+    note: &'a str,
+}
+
+fn pick_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, sel: usize) {
+    let rows: Vec<String> = app
         .archetypes
         .iter()
-        .enumerate()
-        .map(|(i, a)| {
-            let style = if i == sel {
-                app.theme.selected
-            } else {
-                app.theme.normal
-            };
+        .map(|a| {
             let m = &a.amp;
-            Line::styled(
-                format!(
-                    "  {:<24} gbw {:>7}  en {:>6}/√Hz  in {:>6}/√Hz",
-                    a.name,
-                    compact(m.gbw, "Hz"),
-                    compact(m.vnoise, "V"),
-                    compact(m.inoise, "A")
-                ),
-                style,
+            format!(
+                "{:<24} gbw {:>7}  en {:>6}/√Hz  in {:>6}/√Hz",
+                a.name,
+                compact(m.gbw, "Hz"),
+                compact(m.vnoise, "V"),
+                compact(m.inoise, "A")
             )
         })
         .collect();
-    lines.push(Line::styled(
-        "  check the data sheet of the part you use",
-        app.theme.dim,
-    ));
-    Paragraph::new(lines).render(inner, buf);
+    let list = ListView {
+        title: " Amplifier archetype (typical values, ↑↓ Enter, Esc) ",
+        header: "",
+        rows: &rows,
+        selected: sel,
+        note: "check the data sheet of the part you use",
+    };
+    list_overlay(app, area, buf, list);
+}
+
+fn choose_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, c: &Choices) {
+    let list = ListView {
+        title: &c.title,
+        header: &c.header,
+        rows: &c.rows,
+        selected: c.selected,
+        note: &c.note,
+    };
+    list_overlay(app, area, buf, list);
 }
 
 /// A plain-text snapshot of a buffer, one string per row (for tests).

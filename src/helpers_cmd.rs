@@ -1,0 +1,266 @@
+//! The design helpers `pairs` and `stabilize`: argument parsers for clap,
+//! and their text tables and JSON objects from the engine's results (the
+//! workbench's lists reuse the rows).
+
+use crate::engine::pairs::{self, Pair, Query, QueryField};
+use crate::engine::stabilize::{self, Fix, Options};
+use crate::engine::values::{fmt_compact, fmt_eng, fmt_fixed, fmt_plain, parse_quantity};
+use crate::engine::{Scenario, Series, Topology};
+use anyhow::{bail, Result};
+use serde::Serialize;
+use std::path::Path;
+
+/// A plain number (no unit), in engineering notation or RKM code.
+fn parse_number(text: &str, what: &str) -> Result<f64, String> {
+    let (v, unit) = parse_quantity(text).map_err(|e| e.to_string())?;
+    if !unit.is_empty() {
+        return Err(format!("`{text}`: {what} takes no unit ({unit})"));
+    }
+    Ok(v)
+}
+
+/// The GAIN of `pairs`: a plain number (checked against the topology later).
+pub fn parse_gain(text: &str) -> Result<f64, String> {
+    parse_number(text, "a gain")
+}
+
+/// The `--margin` of `stabilize`, in degrees.
+pub fn parse_margin(text: &str) -> Result<f64, String> {
+    let v = parse_number(text.trim_end_matches('°'), "a margin in degrees")?;
+    stabilize::check_target(v).map_err(|e| format!("`{text}` {e}"))?;
+    Ok(v)
+}
+
+/// A resistance: `1k`, `4k7`, `100kΩ`.
+pub fn parse_resistance(text: &str) -> Result<f64, String> {
+    let (v, unit) = parse_quantity(text).map_err(|e| e.to_string())?;
+    if !matches!(unit.as_str(), "" | "Ω" | "ohm" | "ohms" | "Ohm") {
+        return Err(format!(
+            "`{text}` is not a resistance: give ohms, not {unit}"
+        ));
+    }
+    if v <= 0.0 {
+        return Err(format!("`{text}`: a resistance must be above 0"));
+    }
+    Ok(v)
+}
+
+/// An IEC 60063 series name.
+pub fn parse_series(text: &str) -> Result<Series, String> {
+    Series::parse(text).ok_or_else(|| {
+        let names: Vec<&str> = Series::ALL.iter().map(|s| s.name()).collect();
+        format!("unknown series `{text}`: use {}", names.join(", "))
+    })
+}
+
+/// NonInverting or Inverting (a follower has no rg and rf).
+pub fn parse_pair_topology(text: &str) -> Result<Topology, String> {
+    [Topology::NonInverting, Topology::Inverting]
+        .into_iter()
+        .find(|t| t.name().eq_ignore_ascii_case(text.trim()))
+        .ok_or_else(|| {
+            format!("`{text}`: use NonInverting or Inverting (a follower has no rg or rf)")
+        })
+}
+
+/// How the command line names each field of a pairs query.
+fn option_name(field: QueryField) -> &'static str {
+    match field {
+        QueryField::Target => "GAIN",
+        QueryField::Topology => "--topology",
+        QueryField::RgMin => "--rg-min",
+        QueryField::RgMax => "--rg-max",
+        QueryField::Count => "--count",
+    }
+}
+
+/// The value of a query field as typed back to the user.
+fn field_value(q: &Query, field: QueryField) -> String {
+    match field {
+        QueryField::Target => fmt_plain(q.target, 6),
+        QueryField::Topology => q.topology.name().into(),
+        QueryField::RgMin => fmt_compact(q.rg_range.0),
+        QueryField::RgMax => fmt_compact(q.rg_range.1),
+        QueryField::Count => q.count.to_string(),
+    }
+}
+
+/// The pairs for a query, or an error naming the option and its value.
+pub fn find_pairs(q: &Query) -> Result<Vec<Pair>> {
+    pairs::find(q).or_else(|p| {
+        // A range problem also shows the other end of the range.
+        let context = match p.field {
+            QueryField::RgMax => format!(" (--rg-min {})", field_value(q, QueryField::RgMin)),
+            _ => String::new(),
+        };
+        bail!(
+            "{} {}: {}{context}",
+            option_name(p.field),
+            field_value(q, p.field),
+            p.message
+        )
+    })
+}
+
+/// Lines of a table: each column as wide as its widest cell, two spaces
+/// apart, the header first.
+pub fn table(header: &[&str], rows: &[Vec<String>]) -> Vec<String> {
+    let mut widths: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
+    for row in rows {
+        for (w, cell) in widths.iter_mut().zip(row) {
+            *w = (*w).max(cell.chars().count());
+        }
+    }
+    let line = |cells: Vec<&str>| {
+        let padded: Vec<String> = cells
+            .iter()
+            .zip(&widths)
+            .map(|(c, w)| format!("{c:<w$}"))
+            .collect();
+        padded.join("  ").trim_end().to_string()
+    };
+    std::iter::once(line(header.to_vec()))
+        .chain(
+            rows.iter()
+                .map(|r| line(r.iter().map(String::as_str).collect())),
+        )
+        .collect()
+}
+
+/// The columns of a pairs row.
+pub const PAIR_HEADER: [&str; 6] = ["rg", "rf", "gain", "error", "noise (25 °C)", "load"];
+
+/// A signed relative error in percent: `+0.23 %`, `-1.5 %`, `0 %`.
+fn signed_percent(e: f64) -> String {
+    let text = fmt_plain(e * 100.0, 3);
+    if e > 0.0 && !text.starts_with('-') && text != "0" {
+        format!("+{text} %")
+    } else {
+        format!("{text} %")
+    }
+}
+
+pub fn pair_cells(p: &Pair) -> Vec<String> {
+    vec![
+        fmt_eng(p.rg, "Ω"),
+        fmt_eng(p.rf, "Ω"),
+        fmt_plain(p.gain, 6),
+        signed_percent(p.error),
+        fmt_eng(p.noise_density, "V/√Hz"),
+        fmt_eng(p.load_ohm, "Ω"),
+    ]
+}
+
+/// The columns of a stabilising option.
+pub const FIX_HEADER: [&str; 6] = ["part", "value", "margin", "peaking", "f−3dB", "Zout DC"];
+
+fn or_none(v: Option<f64>, show: impl Fn(f64) -> String) -> String {
+    v.map_or("none".into(), show)
+}
+
+pub fn fix_cells(f: &Fix) -> Vec<String> {
+    vec![
+        f.part.name().into(),
+        fmt_eng(f.value, f.part.unit()),
+        or_none(f.phase_margin_deg, |m| format!("{}°", fmt_fixed(m, 1))),
+        format!("{} dB", fmt_fixed(f.peaking_db, 2)),
+        or_none(f.f_3db_hz, |v| fmt_eng(v, "Hz")),
+        fmt_eng(f.zout_dc_ohm, "Ω"),
+    ]
+}
+
+#[derive(Serialize)]
+struct PairsJson<'a> {
+    target: f64,
+    pairs: &'a [Pair],
+}
+
+/// `pairs`: the table or the JSON object.
+pub fn pairs_output(q: &Query, json: bool) -> Result<Vec<u8>> {
+    let found = find_pairs(q)?;
+    let mut buf = Vec::new();
+    if json {
+        let out = PairsJson {
+            target: q.target,
+            pairs: &found,
+        };
+        serde_json::to_writer_pretty(&mut buf, &out)?;
+        buf.push(b'\n');
+        return Ok(buf);
+    }
+    let head = format!(
+        "Resistor pairs for gain {} ({}, {}, rg {} to {}), best first\n",
+        fmt_plain(q.target, 6),
+        q.topology.name(),
+        q.series,
+        fmt_eng(q.rg_range.0, "Ω"),
+        fmt_eng(q.rg_range.1, "Ω"),
+    );
+    buf.extend_from_slice(head.as_bytes());
+    let rows: Vec<Vec<String>> = found.iter().map(pair_cells).collect();
+    for line in table(&PAIR_HEADER, &rows) {
+        buf.extend_from_slice(format!("  {line}\n").as_bytes());
+    }
+    Ok(buf)
+}
+
+#[derive(Serialize)]
+struct StabilizeJson<'a> {
+    target_deg: f64,
+    options: &'a [Fix],
+    reason: Option<String>,
+}
+
+/// What the stage's margin is now, against the target, in words.
+pub fn margin_now_text(o: &Options) -> String {
+    let now = o
+        .margin_now
+        .map_or("no crossover".into(), |m| format!("{}°", fmt_fixed(m, 1)));
+    if o.already_met {
+        format!(
+            "the stage already meets {}° (now {now}): smallest values that keep it",
+            o.target_deg
+        )
+    } else {
+        format!("phase margin now {now}, below the {}° target", o.target_deg)
+    }
+}
+
+/// The stabilising options of a stage (errors as text).
+pub fn options_for(s: &Scenario, margin: f64) -> Result<Options> {
+    stabilize::options(s, margin).or_else(|e| bail!("--margin {margin}: {e}"))
+}
+
+/// `stabilize`: the options as text or the JSON object.
+pub fn stabilize_output(file: &Path, margin: f64, json: bool) -> Result<Vec<u8>> {
+    let s = Scenario::load(file)?;
+    let o = options_for(&s, margin)?;
+    let mut buf = Vec::new();
+    if json {
+        let out = StabilizeJson {
+            target_deg: o.target_deg,
+            options: &o.options,
+            reason: o.reason(),
+        };
+        serde_json::to_writer_pretty(&mut buf, &out)?;
+        buf.push(b'\n');
+        return Ok(buf);
+    }
+    let mut text = format!(
+        "Stabilising options for {}: target {}° phase margin\n  {}\n",
+        crate::engine::values::printable(&s.title),
+        o.target_deg,
+        margin_now_text(&o)
+    );
+    let rows: Vec<Vec<String>> = o.options.iter().map(fix_cells).collect();
+    if !rows.is_empty() {
+        for line in table(&FIX_HEADER, &rows) {
+            text.push_str(&format!("  {line}\n"));
+        }
+    }
+    for miss in &o.misses {
+        text.push_str(&format!("  none reaches the target: {miss}\n"));
+    }
+    buf.extend_from_slice(text.as_bytes());
+    Ok(buf)
+}

@@ -1,0 +1,162 @@
+//! The workbench's design-helper lists: resistor pairs for a typed gain
+//! (`r`) and the stabilising options (`m`), shown in one list overlay;
+//! Enter applies the highlighted row as one undoable change.
+
+use super::{App, Mode, Prompt};
+use crate::engine::pairs::{self, Query};
+use crate::engine::scenario::Topology;
+use crate::engine::stabilize::{self, Part};
+use crate::engine::values::{fmt_eng, fmt_plain, parse_value};
+use crate::helpers_cmd::{self, FIX_HEADER, PAIR_HEADER};
+use crate::ui::field::Field;
+use ratatui::crossterm::event::{KeyCode, KeyEvent};
+
+/// What Enter applies from a helper's list.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Pick {
+    /// rg and rf, as one change.
+    Pair { rg: f64, rf: f64 },
+    /// riso or cf.
+    Part(Part, f64),
+}
+
+/// A design helper's list: aligned rows (a header first), what each row
+/// applies and the highlighted one.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Choices {
+    pub title: String,
+    pub header: String,
+    pub rows: Vec<String>,
+    pub picks: Vec<Pick>,
+    pub selected: usize,
+    /// A line under the rows.
+    pub note: String,
+}
+
+impl Choices {
+    /// A list from a header and rows of cells (aligned together).
+    fn new(title: String, header: &[&str], cells: &[Vec<String>], picks: Vec<Pick>) -> Choices {
+        let mut lines = crate::helpers_cmd::table(header, cells).into_iter();
+        Choices {
+            title,
+            header: lines.next().unwrap_or_default(),
+            rows: lines.collect(),
+            picks,
+            selected: 0,
+            note: String::new(),
+        }
+    }
+}
+
+/// What a key does in a list overlay.
+pub(super) enum ListKey {
+    Move(usize),
+    Apply,
+    Leave,
+}
+
+/// ↑↓ (k j) move within `len` rows, Enter applies, any other key leaves.
+pub(super) fn list_key(key: &KeyEvent, sel: usize, len: usize) -> ListKey {
+    match key.code {
+        KeyCode::Up | KeyCode::Char('k') => ListKey::Move(sel.saturating_sub(1)),
+        KeyCode::Down | KeyCode::Char('j') => ListKey::Move((sel + 1).min(len.saturating_sub(1))),
+        KeyCode::Enter => ListKey::Apply,
+        _ => ListKey::Leave,
+    }
+}
+
+impl App {
+    /// `r`: ask for the target gain (the stage's own gain offered).
+    pub(super) fn start_pairs(&mut self) {
+        let s = &self.slot().scenario;
+        if s.stage.topology == Topology::Follower {
+            self.error("a follower has no rg or rf: resistor pairs are for NonInverting and Inverting stages");
+            return;
+        }
+        let now = fmt_plain(self.slot().analysis.nominal_gain.abs(), 6);
+        self.mode = Mode::Prompt(Prompt::Gain, Field::offering(&now));
+        self.info("target gain (the magnitude, e.g. 11); Enter lists resistor pairs, Esc cancels");
+    }
+
+    /// The best pairs for a typed gain on the stage's series and topology.
+    pub(super) fn list_pairs(&mut self, text: &str) {
+        let target = match parse_value(text) {
+            Ok(v) => v,
+            Err(e) => return self.error(format!("{e} (no pairs listed)")),
+        };
+        let stage = &self.slot().scenario.stage;
+        let q = Query {
+            series: stage.series,
+            topology: stage.topology,
+            ..Query::new(target)
+        };
+        let found = match pairs::find(&q) {
+            Ok(found) => found,
+            Err(p) => return self.error(format!("gain {}: {p} (no pairs listed)", text.trim())),
+        };
+        let cells: Vec<Vec<String>> = found.iter().map(helpers_cmd::pair_cells).collect();
+        let picks = found
+            .iter()
+            .map(|p| Pick::Pair { rg: p.rg, rf: p.rf })
+            .collect();
+        let title = format!(
+            " Pairs for gain {} ({}, rg {} to {}; ↑↓ Enter, Esc) ",
+            fmt_plain(target, 6),
+            q.series,
+            fmt_eng(q.rg_range.0, "Ω"),
+            fmt_eng(q.rg_range.1, "Ω")
+        );
+        let mut list = Choices::new(title, &PAIR_HEADER, &cells, picks);
+        list.note = "closest gain first; ties: lower resistor noise, then lower load".into();
+        self.mode = Mode::Choose(list);
+        self.info("resistor pairs: ↑↓ choose, Enter applies rg and rf, Esc cancels");
+    }
+
+    /// `m`: the stabilising options of the edited stage at 60°.
+    pub(super) fn list_fixes(&mut self) {
+        let target = stabilize::DEFAULT_MARGIN_DEG;
+        let o = match stabilize::options(&self.slot().scenario, target) {
+            Ok(o) => o,
+            Err(e) => return self.error(e),
+        };
+        if let Some(reason) = o.reason() {
+            return self.error(reason);
+        }
+        let cells: Vec<Vec<String>> = o.options.iter().map(helpers_cmd::fix_cells).collect();
+        let picks = o
+            .options
+            .iter()
+            .map(|f| Pick::Part(f.part, f.value))
+            .collect();
+        let title = format!(" Stabilising options for {target}° (↑↓ Enter, Esc) ");
+        let mut list = Choices::new(title, &FIX_HEADER, &cells, picks);
+        list.note = helpers_cmd::margin_now_text(&o);
+        self.mode = Mode::Choose(list);
+        self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");
+    }
+
+    /// Apply one row of a helper's list as one change (one undo step).
+    pub(super) fn apply_pick(&mut self, pick: Pick) {
+        let label = Self::slot_label(self.active);
+        let done = match pick {
+            Pick::Pair { rg, rf } => {
+                self.change("resistor pair", |s| {
+                    s.stage.rg = Some(rg);
+                    s.stage.rf = Some(rf);
+                    Ok(())
+                });
+                format!("rg {}, rf {}", fmt_eng(rg, "Ω"), fmt_eng(rf, "Ω"))
+            }
+            Pick::Part(part, v) => {
+                self.change(part.name(), |s| {
+                    *s = part.applied(s, v);
+                    Ok(())
+                });
+                format!("{} {}", part.name(), fmt_eng(v, part.unit()))
+            }
+        };
+        if self.status_kind == super::StatusKind::Info {
+            self.info(format!("{label}: {done} (Backspace takes it back)"));
+        }
+    }
+}
