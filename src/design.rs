@@ -39,6 +39,7 @@ pub fn spread_with_progress(s: &Scenario, trials: Option<u32>, seed: Option<u64>
             trials,
             seed,
             progress: Some(&progress),
+            ..Run::default()
         },
     );
     bar.finish_and_clear();

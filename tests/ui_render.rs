@@ -361,11 +361,13 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     assert!(s.contains("need"), "{s}");
     assert!(s.contains("slew"), "{s}");
     assert!(s.contains("passes the swing ceiling"), "{s}");
-    // The next press shows the step view, one more comes back to the
-    // response.
+    // The next press shows the step view, then the spread view, and one
+    // more comes back to the response.
     a.on_key(key(KeyCode::Char('v')));
     let s = screen(&a, 80, 24);
     assert!(s.contains("Step response"), "{s}");
+    a.on_key(key(KeyCode::Char('v')));
+    assert!(screen(&a, 80, 24).contains("Spread over the tolerances"));
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Closed-loop response"));
     // Without a source peak the view says what it needs.

@@ -1279,6 +1279,10 @@ impl Param {
             return false;
         }
         match self.stepping {
+            // A yield near 100 % is the usual ask, not a slip.
+            _ if self.format == Format::Share => false,
+            // A spread from 0 is near its end only close to the top.
+            _ if self.format == Format::Percent && lo == 0.0 => v > hi - 0.1 * (hi - lo),
             // A range starting at 0 has no low end to be near: 0 is a
             // plain value there.
             Linear(_) => {

@@ -367,13 +367,22 @@ fn corners(s: &Scenario, plan: &Plan, knobs: &[Knob], figures: &mut [FigureSprea
     }
 }
 
-/// Run options: trials and seed (the scenario's or the defaults when None)
-/// and a progress callback, called with each finished trial's count.
+/// Run options: trials and seed (the scenario's or the defaults when None),
+/// a progress callback, called with each finished trial's count, and a
+/// flag that stops the run early (its result is then meaningless).
 #[derive(Default)]
 pub struct Run<'a> {
     pub trials: Option<u32>,
     pub seed: Option<u64>,
     pub progress: Option<&'a (dyn Fn(usize) + Sync)>,
+    pub cancel: Option<&'a std::sync::atomic::AtomicBool>,
+}
+
+impl Run<'_> {
+    fn cancelled(&self) -> bool {
+        self.cancel
+            .is_some_and(|c| c.load(std::sync::atomic::Ordering::Relaxed))
+    }
 }
 
 /// The spread of a valid scenario.
@@ -391,6 +400,9 @@ pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
     let rows: Vec<Vec<Option<f64>>> = (0..trials as u64)
         .into_par_iter()
         .map(|i| {
+            if run.cancelled() {
+                return vec![None; plan.keys.len()];
+            }
             let u = draws(seed, i, b.dist, knobs.len());
             let t = with_values(s, &knobs, |j, k| {
                 0.5 * (k.lo + k.hi) + 0.5 * (k.hi - k.lo) * u[j]
@@ -416,7 +428,9 @@ pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
             statistics(k, nominal_values[j], &column)
         })
         .collect();
-    corners(s, &plan, &knobs, &mut figures);
+    if !run.cancelled() {
+        corners(s, &plan, &knobs, &mut figures);
+    }
     let (limits, yield_frac) = check_limits(s, &plan, &nominal_values, &rows);
     SpreadResult {
         trials,

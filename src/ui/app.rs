@@ -28,6 +28,7 @@ pub enum View {
     Noise,
     Envelope,
     Step,
+    Spread,
 }
 
 impl View {
@@ -37,7 +38,8 @@ impl View {
             View::Loop => View::Noise,
             View::Noise => View::Envelope,
             View::Envelope => View::Step,
-            View::Step => View::Response,
+            View::Step => View::Spread,
+            View::Spread => View::Response,
         }
     }
     /// The view's name in the SVG figures' view table.
@@ -48,6 +50,7 @@ impl View {
             View::Noise => "noise",
             View::Envelope => "envelope",
             View::Step => "step",
+            View::Spread => "spread",
         }
     }
     pub fn title(self) -> &'static str {
@@ -57,6 +60,7 @@ impl View {
             View::Noise => "Output noise density",
             View::Envelope => "Output envelope",
             View::Step => "Step response",
+            View::Spread => "Spread over the tolerances",
         }
     }
 }
@@ -279,6 +283,8 @@ pub struct App {
     /// Where the Bode view is too short for both, it shows the phase
     /// instead of the magnitude.
     pub show_phase: bool,
+    /// The spread view's background Monte Carlo of the edited stage.
+    pub spread: super::spread_job::SpreadJob,
 }
 
 /// A copy's title: the original's with the slot it came from, once.
@@ -342,7 +348,21 @@ impl App {
             archetypes: archetypes(),
             archetype: 0,
             show_phase: false,
+            spread: Default::default(),
         }
+    }
+
+    /// Between events: keep the spread view's job on the edited stage and
+    /// pick up its progress. True when the screen should be redrawn.
+    pub fn tick(&mut self) -> bool {
+        if self.view != View::Spread {
+            // Off the view, a running spread only costs the editing time.
+            self.spread.stop();
+            return false;
+        }
+        let s = &self.slots[self.active].scenario;
+        self.spread.follow(s);
+        self.spread.poll()
     }
 
     pub fn slot(&self) -> &Slot {

@@ -5,6 +5,8 @@ pub mod app;
 pub mod field;
 pub mod keys;
 pub mod plot;
+pub mod spread_job;
+pub mod spread_view;
 pub mod theme;
 pub mod view;
 
@@ -223,10 +225,11 @@ fn event_loop(
                 draw_frame(terminal, app)?;
                 redraw = false;
             }
-            // No timer redraws: a frame only follows an event. Events
-            // already queued (a held key over a slow link) are all applied
-            // before the next frame, so the screen keeps up.
-            if event::poll(Duration::from_millis(200))? {
+            // A frame follows an event, or the spread job's progress.
+            // Events already queued (a held key over a slow link) are all
+            // applied before the next frame, so the screen keeps up.
+            let wait = if app.spread.running() { 100 } else { 200 };
+            if event::poll(Duration::from_millis(wait))? {
                 redraw = handle(app, event::read()?);
                 while app.running && event::poll(Duration::ZERO)? {
                     redraw |= handle(app, event::read()?);
@@ -236,6 +239,7 @@ fn event_loop(
                     *p = rescues(app);
                 }
             }
+            redraw |= app.tick();
             Ok(())
         })();
         if let Err(e) = step {

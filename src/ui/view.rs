@@ -79,6 +79,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         View::Noise => noise_plot(app, upper, buf),
         View::Envelope => envelope_plot(app, upper, buf),
         View::Step => step_plot(app, upper, buf),
+        View::Spread => super::spread_view::spread_plot(app, upper, buf),
     }
     impedance_plot(app, lower, buf);
     figures_table(app, figures, buf);
@@ -115,6 +116,10 @@ pub fn ascii_char(c: char) -> char {
         '∥' | '│' => '|',
         '├' => '+',
         '▸' => '>',
+        '◂' => '<',
+        '┆' => ':',
+        '≥' => '>',
+        '≤' => '<',
         '…' => '.',
         '±' => '~',
         '↑' => '^',
@@ -163,7 +168,7 @@ fn field_spans(
     ]
 }
 
-fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
+pub(super) fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
     Block::default()
         .borders(Borders::ALL)
         .border_set(app.theme.border())

@@ -1,0 +1,231 @@
+//! The spread view: histograms of the gain error, f−3dB and phase margin
+//! over the edited stage's tolerances, with the spec limits marked and the
+//! yield; it only reads the background job's [`SpreadResult`].
+
+use super::app::App;
+use super::view::block;
+use crate::engine::spread::{unit_and_label, FigureSpread, LimitCheck, SpreadResult, BINS};
+use crate::engine::values::fmt_plain;
+use ratatui::buffer::Buffer;
+use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::text::Line;
+use ratatui::widgets::{Paragraph, Widget};
+
+/// The figures the view draws, left to right, with their short names.
+pub const SHOWN: [(&str, &str); 3] = [
+    ("target_error", "gain error"),
+    ("f_3db_hz", "f−3dB"),
+    ("phase_margin_deg", "margin"),
+];
+
+/// Eighth blocks for the bar tops.
+const EIGHTHS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];
+
+pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
+    let job = &app.spread;
+    let title = format!(
+        " Spread over the tolerances, stage {}: {} trials  (v: next view) ",
+        App::slot_label(app.active),
+        job.total
+    );
+    let b = block(app, title);
+    let inner = b.inner(area);
+    b.render(area, buf);
+    if inner.height < 2 || inner.width < 12 {
+        return;
+    }
+    let [head, body] =
+        Layout::vertical([Constraint::Length(2), Constraint::Fill(1)]).areas(inner);
+    let Some(r) = &job.result else {
+        let text = format!(
+            "computing the spread: {} of {} trials…",
+            job.done(),
+            job.total
+        );
+        Paragraph::new(Line::styled(text, app.theme.dim)).render(head, buf);
+        return;
+    };
+    Paragraph::new(yield_lines(app, r)).render(head, buf);
+    let cols = Layout::horizontal([Constraint::Fill(1); 3]).areas::<3>(body);
+    for ((key, name), col) in SHOWN.iter().zip(cols) {
+        if let Some(f) = r.figure(key) {
+            panel(app, r, (f, name), col, buf);
+        }
+    }
+}
+
+/// "yield 73.5 % (needs ≥ 99 %): FAILS the spec" or the lack of a spec,
+/// then the limits trials fail.
+fn yield_lines(app: &App, r: &SpreadResult) -> Vec<Line<'static>> {
+    let corners = format!("{} corners", 1usize << r.knobs.len());
+    match r.yield_frac {
+        Some(y) => {
+            let pass = r.passes();
+            let failing: Vec<String> = r
+                .limits
+                .iter()
+                .filter(|l| l.failed > 0 || !l.nominal_pass)
+                .map(|l| format!("{} {}", l.limit.field, l.failed))
+                .collect();
+            let failing = if failing.is_empty() {
+                "every trial meets every limit".to_string()
+            } else {
+                format!("trials failing: {}", failing.join(", "))
+            };
+            let text = format!(
+                "yield {} % (needs ≥ {} %): {} · {corners}",
+                fmt_plain(100.0 * y, 4),
+                fmt_plain(100.0 * r.yield_min, 4),
+                if pass { "meets the spec" } else { "FAILS the spec" }
+            );
+            let style = if pass {
+                app.theme.normal
+            } else {
+                app.theme.warning
+            };
+            vec![
+                Line::styled(text, style),
+                Line::styled(failing, app.theme.dim),
+            ]
+        }
+        None => vec![Line::styled(
+            format!("no spec in the file: no yield · {corners}"),
+            app.theme.dim,
+        )],
+    }
+}
+
+/// Counts per column: bins widened (or merged) to fill `w` columns.
+pub fn columns(h: &[usize; BINS], w: usize) -> Vec<usize> {
+    let mut c = vec![0; w];
+    if w >= BINS {
+        for (i, slot) in c.iter_mut().enumerate() {
+            *slot = h[i * BINS / w];
+        }
+    } else {
+        for (b, n) in h.iter().enumerate() {
+            c[b * w / BINS] += n;
+        }
+    }
+    c
+}
+
+/// The limits on this figure: (value, trials failing, lower bound?).
+fn marks(r: &SpreadResult, key: &str) -> Vec<(f64, &'static str, usize)> {
+    let on: Vec<&LimitCheck> = r
+        .limits
+        .iter()
+        .filter(|l| l.limit.figures.contains(&key))
+        .collect();
+    let mut out = Vec::new();
+    for l in on {
+        use crate::engine::spec::Rule;
+        match l.limit.rule {
+            Rule::AtLeast => out.push((l.value, "≥", l.failed)),
+            Rule::AtMost => out.push((l.value, "≤", l.failed)),
+            Rule::MagnitudeAtMost => {
+                out.push((-l.value, "±", l.failed));
+                out.push((l.value, "±", l.failed));
+            }
+        }
+    }
+    out
+}
+
+/// One histogram: its name, the bars, the range and the limit.
+fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, buf: &mut Buffer) {
+    let (f, label) = shown;
+    let area = Rect {
+        width: area.width.saturating_sub(1),
+        ..area
+    };
+    if area.height < 4 || area.width < 6 {
+        return;
+    }
+    let (unit, _) = unit_and_label(f.key);
+    let cell = |v: f64| unit.cell(v, false);
+    let [name, bars, axis, foot] = Layout::vertical([
+        Constraint::Length(1),
+        Constraint::Fill(1),
+        Constraint::Length(1),
+        Constraint::Length(1),
+    ])
+    .areas(area);
+    let spread = match (f.mean, f.std) {
+        (Some(m), Some(s)) => format!(" {}±{}", cell(m), cell(s)),
+        _ => String::new(),
+    };
+    let fits = label.chars().count() + spread.chars().count() <= usize::from(name.width);
+    let head = if fits { format!("{label}{spread}") } else { label.to_string() };
+    Paragraph::new(Line::styled(head, app.theme.title)).render(name, buf);
+    let (Some(lo), Some(hi)) = (f.min, f.max) else {
+        Paragraph::new(Line::styled("undefined in every trial", app.theme.dim)).render(bars, buf);
+        return;
+    };
+    draw_bars(app, &f.histogram, bars, buf);
+    let ends = cell(lo).chars().count() + cell(hi).chars().count();
+    let axis_text = match (axis.width as usize).checked_sub(ends) {
+        Some(gap) if gap > 0 => format!("{}{}{}", cell(lo), " ".repeat(gap), cell(hi)),
+        _ => format!("from {}", cell(lo)),
+    };
+    Paragraph::new(Line::styled(axis_text, app.theme.dim)).render(axis, buf);
+    let mut notes = Vec::new();
+    for (v, op, failed) in marks(r, f.key) {
+        let span = hi - lo;
+        let x = if span > 0.0 { (v - lo) / span } else { 0.5 };
+        if (0.0..=1.0).contains(&x) {
+            let col = bars.x + ((x * f64::from(bars.width - 1)).round() as u16);
+            for y in bars.y..bars.y + bars.height {
+                if buf[(col, y)].symbol() == " " {
+                    buf[(col, y)].set_symbol("┆").set_style(app.theme.warning);
+                }
+            }
+        }
+        let shown = if op == "±" { v.abs() } else { v };
+        let side = match (op, x) {
+            ("±", _) => "",
+            (_, x) if x < 0.0 => "◂ ",
+            (_, x) if x > 1.0 => "▸ ",
+            _ => "",
+        };
+        let fails = if failed > 0 {
+            format!("{failed} fail")
+        } else {
+            "ok".into()
+        };
+        let text = format!("{side}{op}{} {fails}", cell(shown));
+        if !notes.contains(&text) {
+            notes.push(text);
+        }
+    }
+    let style = if notes.iter().any(|n| !n.ends_with(" ok")) {
+        app.theme.warning
+    } else {
+        app.theme.dim
+    };
+    Paragraph::new(Line::styled(notes.join(" "), style)).render(foot, buf);
+}
+
+/// The histogram as columns of eighth blocks, tallest at full height.
+fn draw_bars(app: &App, h: &[usize; BINS], area: Rect, buf: &mut Buffer) {
+    let counts = columns(h, area.width as usize);
+    let top = counts.iter().copied().max().unwrap_or(0).max(1);
+    let rows = usize::from(area.height);
+    for (i, &n) in counts.iter().enumerate() {
+        // In eighths of a row; a non-zero count shows at least one eighth.
+        let eighths = if n == 0 { 0 } else { (n * rows * 8).div_ceil(top).max(1) };
+        for row in 0..rows {
+            let filled = eighths.saturating_sub(row * 8).min(8);
+            if filled == 0 {
+                break;
+            }
+            let (x, y) = (area.x + i as u16, area.y + area.height - 1 - row as u16);
+            let sym = if app.theme.ascii {
+                "#".to_string()
+            } else {
+                EIGHTHS[filled - 1].to_string()
+            };
+            buf[(x, y)].set_symbol(&sym).set_style(app.theme.trace_a);
+        }
+    }
+}

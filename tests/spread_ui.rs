@@ -1,0 +1,100 @@
+//! The workbench's spread view: computed in the background, histograms
+//! with the spec limits and the yield, results dropped when the stage
+//! changes; the `spec` warning in the strip.
+
+mod common;
+use common::{key, screen_at};
+use crossterm::event::KeyCode;
+use loopwright::engine::scenario::Scenario;
+use loopwright::engine::{evaluate, spread};
+use loopwright::ui::app::{App, View};
+use loopwright::ui::theme::Theme;
+
+fn example(name: &str) -> Scenario {
+    Scenario::load(std::path::Path::new(&format!("scenarios/{name}.ron"))).unwrap()
+}
+
+/// The app on the spread view with the background job finished.
+fn on_spread_view(s: Scenario) -> App {
+    let mut a = App::new(vec![(s, None)], Theme::new(false, false));
+    while a.view != View::Spread {
+        a.on_key(key(KeyCode::Char('v')));
+    }
+    a.tick();
+    a.spread.wait();
+    a
+}
+
+#[test]
+fn spread_view_shows_histograms_limits_and_yield_at_80x24() {
+    let mut s = example("adc_driver_2n2");
+    s.spread.as_mut().unwrap().trials = Some(300);
+    let a = on_spread_view(s.clone());
+    let screen = screen_at(&a, 80, 24);
+    for want in ["gain error", "f−3dB", "margin", "yield", "needs ≥ 99 %", "≥60°"] {
+        assert!(screen.contains(want), "{want}\n{screen}");
+    }
+    // The yield shown is the engine's for the same stage and trials.
+    let r = spread::spread(&s, &spread::Run::default());
+    let y = format!("yield {} %", loopwright::engine::values::fmt_plain(100.0 * r.yield_frac.unwrap(), 4));
+    assert!(screen.contains(&y), "{y}\n{screen}");
+    // The limit the trials fail is named.
+    assert!(screen.contains("settle_max_s"), "{screen}");
+    // Larger screens too.
+    let big = screen_at(&a, 120, 40);
+    assert!(big.contains("yield") && big.contains("margin"), "{big}");
+}
+
+#[test]
+fn a_change_drops_the_result_and_a_new_one_follows() {
+    let mut s = example("line_driver_cable");
+    s.spread.as_mut().unwrap().trials = Some(200);
+    let mut a = on_spread_view(s);
+    let before = a.spread.result.clone().unwrap();
+    // Select rf (the start) and step it: the old result is gone at once.
+    a.on_key(key(KeyCode::Right));
+    a.tick();
+    assert!(a.spread.result.is_none());
+    assert!(screen_at(&a, 80, 24).contains("computing the spread"));
+    a.spread.wait();
+    let after = a.spread.result.clone().unwrap();
+    let gain = |r: &spread::SpreadResult| r.figure("dc_gain").unwrap().nominal.unwrap();
+    assert!(gain(&after) > gain(&before), "rf up raises the gain");
+    assert_eq!(
+        after,
+        spread::spread(&a.slot().scenario, &spread::Run::default())
+    );
+}
+
+#[test]
+fn leaving_the_view_stops_the_job() {
+    let mut s = example("line_driver_cable");
+    s.spread.as_mut().unwrap().trials = Some(100_000);
+    let mut a = App::new(vec![(s, None)], Theme::new(false, false));
+    while a.view != View::Spread {
+        a.on_key(key(KeyCode::Char('v')));
+    }
+    a.tick();
+    assert!(a.spread.running());
+    a.on_key(key(KeyCode::Char('v')));
+    a.tick();
+    assert!(!a.spread.running());
+}
+
+/// One `spec` warning per limit the nominal stage misses, with the numbers.
+#[test]
+fn spec_failures_are_warnings() {
+    let mut s = example("line_driver_cable");
+    let spec = s.spec.as_mut().unwrap();
+    spec.pm_min_deg = Some(89.0);
+    spec.noise_rms_max = Some(1.0e-6);
+    let e = evaluate(&s);
+    let w: Vec<_> = e.warnings.iter().filter(|w| w.code == "spec").collect();
+    assert_eq!(w.len(), 2, "{w:?}");
+    let pm = e.phase_margin_deg.unwrap();
+    assert!(w[0].text.contains("pm_min_deg") && w[0].text.contains("< 89"), "{}", w[0].text);
+    assert!(w[0].text.contains(&format!("{:.1}", pm)) || w[0].text.contains(&format!("{:.2}", pm)), "{} vs {pm}", w[0].text);
+    assert!(w[1].text.contains("noise_rms_max") && w[1].text.contains("> 1u"), "{}", w[1].text);
+    // The file as it is meets its spec: no spec warning.
+    assert!(evaluate(&example("line_driver_cable")).warnings.iter().all(|w| w.code != "spec"));
+}
