@@ -78,8 +78,34 @@ fn step_response(c: &mut Criterion) {
     }
 }
 
+/// 10 000 Monte Carlo trials of the demo (its resistors vary, 4 corners),
+/// in parallel on every core; and one trial's analysis alone.
+fn spread_10k(c: &mut Criterion) {
+    use loopwright::engine::analysis::{analyze_to, TRIAL};
+    use loopwright::engine::spread::{spread, Run};
+    let s = scenario::demo();
+    let mut g = c.benchmark_group("spread");
+    g.sample_size(10);
+    g.bench_function("spread_10k", |b| {
+        b.iter(|| {
+            spread(
+                black_box(&s),
+                &Run {
+                    trials: Some(10_000),
+                    ..Run::default()
+                },
+            )
+        })
+    });
+    g.finish();
+    c.bench_function("spread_trial", |b| {
+        b.iter(|| analyze_to(black_box(&s), TRIAL))
+    });
+}
+
 criterion_group!(
     benches,
+    spread_10k,
     full_analysis,
     full_analysis_with_limits,
     step_response,

@@ -31,12 +31,22 @@ fn spread_view_shows_histograms_limits_and_yield_at_80x24() {
     s.spread.as_mut().unwrap().trials = Some(300);
     let a = on_spread_view(s.clone());
     let screen = screen_at(&a, 80, 24);
-    for want in ["gain error", "f−3dB", "margin", "yield", "needs ≥ 99 %", "≥60°"] {
+    for want in [
+        "gain error",
+        "f−3dB",
+        "margin",
+        "yield",
+        "needs ≥ 99 %",
+        "≥60°",
+    ] {
         assert!(screen.contains(want), "{want}\n{screen}");
     }
     // The yield shown is the engine's for the same stage and trials.
     let r = spread::spread(&s, &spread::Run::default());
-    let y = format!("yield {} %", loopwright::engine::values::fmt_plain(100.0 * r.yield_frac.unwrap(), 4));
+    let y = format!(
+        "yield {} %",
+        loopwright::engine::values::fmt_plain(100.0 * r.yield_frac.unwrap(), 4)
+    );
     assert!(screen.contains(&y), "{y}\n{screen}");
     // The limit the trials fail is named.
     assert!(screen.contains("settle_max_s"), "{screen}");
@@ -92,9 +102,24 @@ fn spec_failures_are_warnings() {
     let w: Vec<_> = e.warnings.iter().filter(|w| w.code == "spec").collect();
     assert_eq!(w.len(), 2, "{w:?}");
     let pm = e.phase_margin_deg.unwrap();
-    assert!(w[0].text.contains("pm_min_deg") && w[0].text.contains("< 89"), "{}", w[0].text);
-    assert!(w[0].text.contains(&format!("{:.1}", pm)) || w[0].text.contains(&format!("{:.2}", pm)), "{} vs {pm}", w[0].text);
-    assert!(w[1].text.contains("noise_rms_max") && w[1].text.contains("> 1u"), "{}", w[1].text);
+    assert!(
+        w[0].text.contains("pm_min_deg") && w[0].text.contains("< 89"),
+        "{}",
+        w[0].text
+    );
+    assert!(
+        w[0].text.contains(&format!("{:.1}", pm)) || w[0].text.contains(&format!("{:.2}", pm)),
+        "{} vs {pm}",
+        w[0].text
+    );
+    assert!(
+        w[1].text.contains("noise_rms_max") && w[1].text.contains("> 1u"),
+        "{}",
+        w[1].text
+    );
     // The file as it is meets its spec: no spec warning.
-    assert!(evaluate(&example("line_driver_cable")).warnings.iter().all(|w| w.code != "spec"));
+    assert!(evaluate(&example("line_driver_cable"))
+        .warnings
+        .iter()
+        .all(|w| w.code != "spec"));
 }

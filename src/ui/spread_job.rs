@@ -40,7 +40,10 @@ impl SpreadJob {
             .and_then(|b| b.trials)
             .unwrap_or(DEFAULT_TRIALS) as usize;
         self.seen = 0;
-        let (done, cancel) = (Arc::new(AtomicUsize::new(0)), Arc::new(AtomicBool::new(false)));
+        let (done, cancel) = (
+            Arc::new(AtomicUsize::new(0)),
+            Arc::new(AtomicBool::new(false)),
+        );
         (self.done, self.cancel) = (Arc::clone(&done), Arc::clone(&cancel));
         let (tx, rx) = channel();
         self.rx = Some(rx);

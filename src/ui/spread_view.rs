@@ -34,8 +34,7 @@ pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
     if inner.height < 2 || inner.width < 12 {
         return;
     }
-    let [head, body] =
-        Layout::vertical([Constraint::Length(2), Constraint::Fill(1)]).areas(inner);
+    let [head, body] = Layout::vertical([Constraint::Length(2), Constraint::Fill(1)]).areas(inner);
     let Some(r) = &job.result else {
         let text = format!(
             "computing the spread: {} of {} trials…",
@@ -76,7 +75,11 @@ fn yield_lines(app: &App, r: &SpreadResult) -> Vec<Line<'static>> {
                 "yield {} % (needs ≥ {} %): {} · {corners}",
                 fmt_plain(100.0 * y, 4),
                 fmt_plain(100.0 * r.yield_min, 4),
-                if pass { "meets the spec" } else { "FAILS the spec" }
+                if pass {
+                    "meets the spec"
+                } else {
+                    "FAILS the spec"
+                }
             );
             let style = if pass {
                 app.theme.normal
@@ -156,7 +159,11 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
         _ => String::new(),
     };
     let fits = label.chars().count() + spread.chars().count() <= usize::from(name.width);
-    let head = if fits { format!("{label}{spread}") } else { label.to_string() };
+    let head = if fits {
+        format!("{label}{spread}")
+    } else {
+        label.to_string()
+    };
     Paragraph::new(Line::styled(head, app.theme.title)).render(name, buf);
     let (Some(lo), Some(hi)) = (f.min, f.max) else {
         Paragraph::new(Line::styled("undefined in every trial", app.theme.dim)).render(bars, buf);
@@ -213,7 +220,11 @@ fn draw_bars(app: &App, h: &[usize; BINS], area: Rect, buf: &mut Buffer) {
     let rows = usize::from(area.height);
     for (i, &n) in counts.iter().enumerate() {
         // In eighths of a row; a non-zero count shows at least one eighth.
-        let eighths = if n == 0 { 0 } else { (n * rows * 8).div_ceil(top).max(1) };
+        let eighths = if n == 0 {
+            0
+        } else {
+            (n * rows * 8).div_ceil(top).max(1)
+        };
         for row in 0..rows {
             let filled = eighths.saturating_sub(row * 8).min(8);
             if filled == 0 {
