@@ -38,8 +38,10 @@ sweep's points; the values equal `report --at` at the same frequency.";
 
 const PLOT_HELP: &str = "Views: response (closed-loop gain and phase, f−3dB marked), loop (loop \
 gain and phase, crossover and phase margin marked), noise (output noise density, band edges \
-marked), impedance (|Zout| and |Zin|). envelope, step and spread are reserved: their analyses \
-do not exist yet, so they are refused with a message and a non-zero exit.";
+marked), impedance (|Zout| and |Zin|), envelope (the peak needed at the internal output under \
+its swing, slew and current ceilings; needs source.peak), step (the step response against time, \
+±0.1 % band and settling time marked), spread (histograms of gain error, f−3dB and phase margin \
+over the tolerances, spec limits marked).";
 
 const SPREAD_HELP: &str = "What varies: rg, rf and riso within ±stage.tolerance, and as the \
 scenario's `spread` block gives: cf (cap_tol), gbw (gbw_tol), a0 (a0_min to a0), ro (ro_tol). \

@@ -20,6 +20,7 @@ pub mod design;
 pub mod engine;
 pub mod helpers_cmd;
 pub mod note;
+pub mod plot_linear;
 pub mod plot_svg;
 pub mod report;
 pub mod storage;

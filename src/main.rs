@@ -60,9 +60,14 @@ fn write_figures(
     let stem = file
         .and_then(|f| f.file_stem())
         .map_or("demo".into(), |f| f.to_string_lossy().into_owned());
+    let stage = [plot_svg::Stage {
+        scenario: s,
+        eval: e,
+    }];
+    // The views this stage can be drawn in (the envelope needs a peak).
     let views: Vec<_> = plot_svg::VIEWS
         .iter()
-        .filter(|v| v.missing.is_none())
+        .filter(|v| (v.needs)(&stage[0]).is_none())
         .collect();
     let paths: Vec<PathBuf> = views
         .iter()
@@ -72,10 +77,6 @@ fn write_figures(
         storage::refuse_existing(p, force)?;
     }
     std::fs::create_dir_all(dir).with_context(|| format!("cannot make {}", dir.display()))?;
-    let stage = [plot_svg::Stage {
-        scenario: s,
-        eval: e,
-    }];
     let mut links = Vec::new();
     for (v, p) in views.iter().zip(&paths) {
         let svg =
@@ -100,9 +101,6 @@ fn plot(
             plot_svg::view_names().join(", ")
         );
     };
-    if let Some(why) = view.missing {
-        bail!("{why}");
-    }
     storage::refuse_existing(output, force)?;
     let scenarios = files
         .iter()

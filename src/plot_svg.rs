@@ -35,6 +35,9 @@ pub struct Curve {
     /// Drawn against the right-hand axis.
     pub right: bool,
     pub points: Vec<(f64, f64)>,
+    /// 0: the view's main quantity; 1, 2, 3: secondary lines (limits,
+    /// ceilings) in their own colours and a thinner stroke.
+    pub tone: u8,
 }
 
 /// A vertical mark at a frequency, with its text.
@@ -43,16 +46,27 @@ pub struct Mark {
     pub text: String,
 }
 
-/// One view: what it shows, or why it cannot yet.
+/// A view that draws its own chart (linear axes: time, a histogram) in
+/// the area above the footer.
+pub type OwnChart =
+    fn(&DrawingArea<SVGBackend, plotters::coord::Shift>, &[Stage], Look, u32) -> Result<(), String>;
+
+/// One view: what it shows, and what it needs of a stage.
 pub struct View {
     pub name: &'static str,
     pub title: &'static str,
-    /// Some: the analysis this view needs does not exist yet.
-    pub missing: Option<&'static str>,
+    /// Why this stage cannot be drawn in the view (an input it lacks).
+    pub needs: fn(&Stage) -> Option<String>,
     pub left: Axis,
     pub right: Option<Axis>,
     pub curves: fn(&Traces) -> Vec<Curve>,
     pub marks: fn(&Stage) -> Vec<Mark>,
+    /// Some: a chart of its own instead of the frequency chart.
+    pub own: Option<OwnChart>,
+}
+
+fn nothing_needed(_: &Stage) -> Option<String> {
+    None
 }
 
 const DB: Axis = Axis {
@@ -69,6 +83,7 @@ fn curve(name: &'static str, right: bool, points: &[(f64, f64)]) -> Curve {
         name,
         right,
         points: points.to_vec(),
+        tone: 0,
     }
 }
 
@@ -120,17 +135,78 @@ fn band_marks(s: &Stage) -> Vec<Mark> {
     ]
 }
 
-/// A view whose analysis does not exist yet.
-const fn later(name: &'static str, title: &'static str, missing: &'static str) -> View {
+/// A view drawn on linear axes by `chart`.
+const fn linear(
+    name: &'static str,
+    title: &'static str,
+    needs: fn(&Stage) -> Option<String>,
+    chart: OwnChart,
+) -> View {
     View {
         name,
         title,
-        missing: Some(missing),
+        needs,
         left: DB,
         right: None,
         curves: no_curves,
         marks: no_marks,
+        own: Some(chart),
     }
+}
+
+/// The envelope needs the signal's peak.
+fn needs_peak(s: &Stage) -> Option<String> {
+    s.scenario.source.peak.is_none().then(|| {
+        format!(
+            "the envelope view needs source.peak (the signal's peak at the source); \
+             “{}” gives none",
+            printable(&s.scenario.title)
+        )
+    })
+}
+
+/// The ceilings where they matter: up to two decades above the largest need.
+fn envelope_curves(t: &Traces) -> Vec<Curve> {
+    let top = t.env_need.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max) + 2.0;
+    let under = |pts: &[(f64, f64)]| -> Vec<(f64, f64)> {
+        pts.iter().copied().filter(|p| p.1 <= top).collect()
+    };
+    // The swing ceiling is flat: drawn on the need's frequencies.
+    let swing: Vec<(f64, f64)> = t
+        .env_swing
+        .first()
+        .map(|s| t.env_need.iter().map(|p| (p.0, s.1)).collect())
+        .unwrap_or_default();
+    let mut c = vec![curve("need", false, &t.env_need)];
+    for (tone, (name, pts)) in [
+        ("swing ceiling", &swing),
+        ("slew ceiling", &t.env_slew),
+        ("current ceiling", &t.env_current),
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let pts = under(pts);
+        if !pts.is_empty() {
+            c.push(Curve {
+                tone: tone as u8 + 1,
+                ..curve(name, false, &pts)
+            });
+        }
+    }
+    c
+}
+
+/// The band edges and where the need first passes a ceiling.
+fn envelope_marks(s: &Stage) -> Vec<Mark> {
+    let mut m = band_marks(s);
+    if let Some((f, what)) = s.eval.limits.envelope_limit {
+        m.push(Mark {
+            f_hz: f,
+            text: format!("passes the {what} ceiling at {}", fmt_eng(f, "Hz")),
+        });
+    }
+    m
 }
 
 /// Every view, in `--view` order.
@@ -138,7 +214,7 @@ pub static VIEWS: [View; 7] = [
     View {
         name: "response",
         title: "Closed-loop response",
-        missing: None,
+        needs: nothing_needed,
         left: DB,
         right: Some(DEG),
         curves: |t| {
@@ -148,11 +224,12 @@ pub static VIEWS: [View; 7] = [
             ]
         },
         marks: f3db_mark,
+        own: None,
     },
     View {
         name: "loop",
         title: "Loop gain",
-        missing: None,
+        needs: nothing_needed,
         left: DB,
         right: Some(DEG),
         curves: |t| {
@@ -162,11 +239,12 @@ pub static VIEWS: [View; 7] = [
             ]
         },
         marks: crossover_mark,
+        own: None,
     },
     View {
         name: "noise",
         title: "Output noise density",
-        missing: None,
+        needs: nothing_needed,
         left: Axis {
             desc: "noise density (V/√Hz)",
             log_unit: Some("V"),
@@ -174,11 +252,12 @@ pub static VIEWS: [View; 7] = [
         right: None,
         curves: |t| vec![curve("noise", false, &t.noise)],
         marks: band_marks,
+        own: None,
     },
     View {
         name: "impedance",
         title: "Output and input impedance",
-        missing: None,
+        needs: nothing_needed,
         left: Axis {
             desc: "|Z| (Ω)",
             log_unit: Some("Ω"),
@@ -186,21 +265,32 @@ pub static VIEWS: [View; 7] = [
         right: None,
         curves: |t| vec![curve("|Zout|", false, &t.zout), curve("|Zin|", false, &t.zin)],
         marks: no_marks,
+        own: None,
     },
-    later(
-        "envelope",
-        "Output envelope",
-        "the envelope view needs a large-signal envelope analysis, which loopwright does not have yet",
-    ),
-    later(
+    View {
+        name: "envelope",
+        title: "Output envelope",
+        needs: needs_peak,
+        left: Axis {
+            desc: "peak at the internal output (V)",
+            log_unit: Some("V"),
+        },
+        right: None,
+        curves: envelope_curves,
+        marks: envelope_marks,
+        own: None,
+    },
+    linear(
         "step",
         "Step response",
-        "the step view needs a step-response analysis, which loopwright does not have yet",
+        crate::plot_linear::needs_step,
+        crate::plot_linear::step_chart,
     ),
-    later(
+    linear(
         "spread",
         "Tolerance spread",
-        "the spread view needs a tolerance-spread analysis, which loopwright does not have yet",
+        nothing_needed,
+        crate::plot_linear::spread_chart,
     ),
 ];
 
@@ -238,13 +328,13 @@ pub const SIZE: (u32, u32) = (200, 8000);
 
 /// How one stage's curves are drawn: A solid and thick, B thinner with a
 /// ring every few points, so they differ without colour too.
-struct Style {
-    color: RGBColor,
-    width: u32,
-    rings: bool,
+pub(crate) struct Style {
+    pub(crate) color: RGBColor,
+    pub(crate) width: u32,
+    pub(crate) rings: bool,
 }
 
-fn style(slot: usize, right: bool, mono: bool) -> Style {
+pub(crate) fn style(slot: usize, right: bool, mono: bool) -> Style {
     let color = match (mono, slot, right) {
         (true, 0, _) => RGBColor(0, 0, 0),
         (true, _, _) => RGBColor(90, 90, 90),
@@ -257,6 +347,30 @@ fn style(slot: usize, right: bool, mono: bool) -> Style {
         color,
         width: if right { 1 } else { 2 } + u32::from(slot == 0 && !right),
         rings: slot > 0,
+    }
+}
+
+/// A secondary line's style (tone 1, 2, 3): its own colour (grey levels
+/// in mono), thin; B's with rings as its main curves.
+fn tone_style(slot: usize, tone: u8, mono: bool) -> Style {
+    let palette = if mono {
+        [RGBColor(70, 70, 70), RGBColor(120, 120, 120), RGBColor(160, 160, 160)]
+    } else {
+        [RGBColor(30, 130, 60), RGBColor(130, 60, 170), RGBColor(110, 110, 110)]
+    };
+    Style {
+        color: palette[usize::from(tone.clamp(1, 3)) - 1],
+        width: 1,
+        rings: slot > 0,
+    }
+}
+
+/// How one curve of one stage is drawn.
+fn curve_style(slot: usize, c: &Curve, mono: bool) -> Style {
+    if c.tone == 0 {
+        style(slot, c.right, mono)
+    } else {
+        tone_style(slot, c.tone, mono)
     }
 }
 
@@ -318,8 +432,8 @@ fn y_keys(axis: Axis, (lo, hi): (f64, f64)) -> Vec<f64> {
 }
 
 /// The x range: whole decades around every stage's sweep.
-fn x_range(traces: &[Traces]) -> (f64, f64) {
-    let xs = traces.iter().flat_map(|t| t.gain_db.iter().map(|p| p.0));
+fn x_range(curves: &[Vec<Curve>]) -> (f64, f64) {
+    let xs = curves.iter().flatten().flat_map(|c| c.points.iter().map(|p| p.0));
     let (lo, hi) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
         (a.min(x), b.max(x))
     });
@@ -358,7 +472,7 @@ fn footer(stages: &[Stage]) -> Vec<String> {
 }
 
 /// The caption: the view, then the title of A (and of B).
-fn caption(view: &View, stages: &[Stage]) -> String {
+pub(crate) fn caption(view: &View, stages: &[Stage]) -> String {
     let titles: Vec<String> = stages
         .iter()
         .map(|s| printable(&s.scenario.title))
@@ -377,7 +491,7 @@ pub struct Keyed {
 }
 
 impl Keyed {
-    fn new((lo, hi): (f64, f64), bold: Vec<f64>, light: Vec<f64>) -> Keyed {
+    pub(crate) fn new((lo, hi): (f64, f64), bold: Vec<f64>, light: Vec<f64>) -> Keyed {
         Keyed {
             lo,
             hi,
@@ -409,16 +523,16 @@ impl Ranged for Keyed {
     }
 }
 
-type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<Keyed, Keyed>>;
+pub(crate) type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<Keyed, Keyed>>;
 
-fn err(e: impl std::fmt::Display) -> String {
+pub(crate) fn err(e: impl std::fmt::Display) -> String {
     format!("cannot draw the figure: {e}")
 }
 
 /// Draw `view` of the stages (A first) as an SVG document.
 pub fn render(view: &View, stages: &[Stage], look: Look) -> Result<String, String> {
-    if let Some(why) = view.missing {
-        return Err(why.to_string());
+    if let Some(why) = stages.iter().find_map(|s| (view.needs)(s)) {
+        return Err(why);
     }
     for side in [look.width, look.height] {
         if !(SIZE.0..=SIZE.1).contains(&side) {
@@ -437,7 +551,10 @@ pub fn render(view: &View, stages: &[Stage], look: Look) -> Result<String, Strin
         let font = (look.height / 50).clamp(10, 16);
         let foot_h = (lines.len() as u32 + 1) * (font + 4);
         let (upper, lower) = root.split_vertically(look.height.saturating_sub(foot_h));
-        draw_chart(&upper, view, stages, &traces, look, font)?;
+        match view.own {
+            Some(chart) => chart(&upper, stages, look, font)?,
+            None => draw_chart(&upper, view, stages, &traces, look, font)?,
+        }
         for (i, l) in lines.iter().enumerate() {
             let y = (i as u32 * (font + 4) + 4) as i32;
             lower
@@ -470,7 +587,7 @@ fn draw_chart(
             .filter(|c| c.right == right)
             .collect()
     };
-    let (x0, x1) = x_range(traces);
+    let (x0, x1) = x_range(&curves);
     let ly = y_range(&side(false), view.left);
     let x_keys = steps(x0, x1, 1.0);
     let mut builder = ChartBuilder::on(area);
@@ -582,13 +699,13 @@ fn legend_name(n: usize, slot: usize, c: &Curve) -> String {
     }
 }
 
-fn legend_sample(st: &Style) -> impl Fn((i32, i32)) -> PathElement<(i32, i32)> {
+pub(crate) fn legend_sample(st: &Style) -> impl Fn((i32, i32)) -> PathElement<(i32, i32)> {
     let s = st.color.stroke_width(st.width);
     move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], s)
 }
 
 /// Rings along a B curve, every tenth point.
-fn rings(points: &[(f64, f64)], st: &Style) -> Vec<Circle<(f64, f64), u32>> {
+pub(crate) fn rings(points: &[(f64, f64)], st: &Style) -> Vec<Circle<(f64, f64), u32>> {
     points
         .iter()
         .step_by(10)
@@ -608,7 +725,7 @@ fn draw_curves<'a, 'b: 'a>(
             .iter()
             .filter(|c| c.right == right && !c.points.is_empty())
         {
-            let st = style(slot, right, look.mono);
+            let st = curve_style(slot, c, look.mono);
             chart
                 .draw_series(LineSeries::new(
                     c.points.clone(),
@@ -625,13 +742,22 @@ fn draw_curves<'a, 'b: 'a>(
     Ok(())
 }
 
-fn legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, font: u32) -> Result<(), String> {
+pub(crate) fn legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, font: u32) -> Result<(), String> {
+    legend_at(chart, font, SeriesLabelPosition::LowerLeft)
+}
+
+/// The legend box at a chosen corner.
+pub(crate) fn legend_at<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    font: u32,
+    at: SeriesLabelPosition,
+) -> Result<(), String> {
     chart
         .configure_series_labels()
         .label_font(("sans-serif", font).into_font())
         .background_style(WHITE.mix(0.85))
         .border_style(BLACK)
-        .position(SeriesLabelPosition::LowerLeft)
+        .position(at)
         .draw()
         .map_err(err)
 }

@@ -168,9 +168,9 @@ fn bad_input_leaves_no_file() {
     let a = scenario("mic_preamp.ron");
     refused(&["/nonexistent/a.ron", "-o", o], "a.ron", &out);
     refused(&[&a, "--view", "nyquist", "-o", o], "possible values", &out);
-    for view in ["envelope", "step", "spread"] {
-        refused(&[&a, "--view", view, "-o", o], "does not have yet", &out);
-    }
+    // The demo stage gives no source peak: no envelope to draw.
+    let demo = format!("{}/assets/demo.ron", env!("CARGO_MANIFEST_DIR"));
+    refused(&[&demo, "--view", "envelope", "-o", o], "source.peak", &out);
     refused(&[&a, "--width", "10", "-o", o], "200 to 8000", &out);
     let deep = dir.join("no/such/folder/x.svg");
     refused(&[&a, "-o", deep.to_str().unwrap()], "cannot write", &deep);
@@ -192,5 +192,69 @@ fn an_existing_file_needs_force() {
     let o = plot(&[&a, "-o", out.to_str().unwrap(), "--force"]);
     assert!(o.status.success());
     assert!(std::fs::read_to_string(&out).unwrap().starts_with("<svg"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Every text node's text, for the views on linear axes.
+fn has_text(doc: &roxmltree::Document, want: &str) -> bool {
+    texts(doc).iter().any(|s| s.contains(want))
+}
+
+/// The envelope, step and spread views on every scenario: well-formed,
+/// their axes and marks, one path per curve (per stage); the envelope
+/// refused where the file gives no source peak.
+#[test]
+fn envelope_step_and_spread_views() {
+    let dir = temp_dir("plot-linear");
+    let out = dir.join("f.svg");
+    for entry in std::fs::read_dir(scenario("")).unwrap() {
+        let path = entry.unwrap().path();
+        let p = path.to_str().unwrap();
+        let s = loopwright::engine::Scenario::load(&path).unwrap();
+        // Step: time axis, the band, the settling mark, one waveform.
+        let doc_text = svg(&[p, "--view", "step"], &out);
+        let doc = roxmltree::Document::parse(&doc_text).unwrap();
+        assert!(has_text(&doc, "time (s)") && has_text(&doc, "ts 0.1 %"), "{p}");
+        assert!(has_text(&doc, "±0.1 % of the final value"), "{p}");
+        assert_eq!(curves(&doc), 1, "{p} step: one waveform");
+        // Spread: three histograms, one outline each.
+        let doc_text = svg(&[p, "--view", "spread", "--width", "900", "--height", "450"], &out);
+        let doc = roxmltree::Document::parse(&doc_text).unwrap();
+        assert_eq!(doc.root_element().attribute("width"), Some("900"));
+        for want in ["gain error against the target", "f−3dB", "phase margin", "trials"] {
+            assert!(has_text(&doc, want), "{p} spread: {want}");
+        }
+        assert_eq!(curves(&doc), 3, "{p} spread: one outline per histogram");
+        if s.spec.as_ref().and_then(|x| x.pm_min_deg).is_some() {
+            assert!(has_text(&doc, "limit ≥"), "{p} spread: the limit mark");
+        }
+        // Envelope: only with a source peak.
+        if s.source.peak.is_some() {
+            let doc_text = svg(&[p, "--view", "envelope"], &out);
+            let doc = roxmltree::Document::parse(&doc_text).unwrap();
+            assert!(has_text(&doc, "frequency (Hz)") && has_text(&doc, "need"), "{p}");
+            assert!(has_text(&doc, "band"), "{p} envelope: band marks");
+            assert!(curves(&doc) >= 1, "{p} envelope: the need");
+        } else {
+            let o = plot(&[p, "--view", "envelope", "-o", out.to_str().unwrap(), "--force"]);
+            assert!(!o.status.success());
+            assert!(String::from_utf8_lossy(&o.stderr).contains("source.peak"));
+        }
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// A and B step by different sizes: each is shown against its own final
+/// value, and both waveforms are there.
+#[test]
+fn step_view_of_two_stages() {
+    let dir = temp_dir("plot-step-ab");
+    let out = dir.join("ab.svg");
+    let (a, b) = (scenario("line_driver_cable.ron"), scenario("adc_driver_2n2.ron"));
+    let doc_text = svg(&[&a, &b, "--view", "step"], &out);
+    let doc = roxmltree::Document::parse(&doc_text).unwrap();
+    assert!(has_text(&doc, "output / its final value"));
+    assert!(has_text(&doc, "A output") && has_text(&doc, "B output"));
+    assert_eq!(curves(&doc), 2);
     std::fs::remove_dir_all(&dir).ok();
 }

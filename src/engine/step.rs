@@ -95,6 +95,15 @@ impl StepResponse {
         self.samples.last().map(|s| s.t)
     }
 
+    /// How much of the waveform a plot shows: half as much again as the
+    /// 0.1 % settling time, or the whole window when it does not settle.
+    pub fn view_end(&self) -> Option<f64> {
+        self.settle_s[1]
+            .filter(|t| *t > 0.0)
+            .map(|t| 1.5 * t)
+            .or(self.window_s())
+    }
+
     /// y(t), interpolated on the waveform (None outside it).
     pub fn at(&self, t: f64) -> Option<f64> {
         let s = &self.samples;

@@ -2,6 +2,7 @@
 //! labels, scales chosen from the data, and a widget that draws traces on a
 //! ratatui Canvas with its own axis labels.
 
+pub use crate::engine::values::nice_linear;
 use crate::engine::values::fmt_eng;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
@@ -104,33 +105,6 @@ pub fn decade_ticks(lo: f64, hi: f64, cols: u16, label_w: u16) -> Vec<i32> {
         .collect()
 }
 
-/// A linear scale with "nice" steps (1, 2, 5 × 10^k) covering the data.
-pub fn nice_linear(min: f64, max: f64, target_ticks: usize) -> ((f64, f64), Vec<f64>) {
-    let (mut lo, mut hi) = (min, max);
-    if !lo.is_finite() || !hi.is_finite() {
-        return ((0.0, 1.0), vec![0.0, 1.0]);
-    }
-    if hi - lo < 1e-9 {
-        lo -= 1.0;
-        hi += 1.0;
-    }
-    let raw = (hi - lo) / target_ticks.max(1) as f64;
-    let mag = 10f64.powf(raw.log10().floor());
-    let step = [1.0, 2.0, 5.0, 10.0]
-        .iter()
-        .map(|m| m * mag)
-        .find(|s| *s >= raw)
-        .unwrap_or(10.0 * mag);
-    let lo = (lo / step).floor() * step;
-    let hi = (hi / step).ceil() * step;
-    let mut ticks = Vec::new();
-    let mut t = lo;
-    while t <= hi + step * 1e-6 {
-        ticks.push(if t.abs() < step * 1e-9 { 0.0 } else { t });
-        t += step;
-    }
-    ((lo, hi), ticks)
-}
 
 /// A phase scale in degrees with steps of 45°, 90° or 180° (whichever
 /// gives at most `max_ticks` ticks).

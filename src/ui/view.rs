@@ -645,13 +645,7 @@ fn step_summary(app: &App) -> String {
 fn step_window(app: &App) -> f64 {
     app.slots
         .iter()
-        .filter_map(|s| {
-            let st = &s.analysis.step;
-            st.settle_s[1]
-                .filter(|t| *t > 0.0)
-                .map(|t| 1.5 * t)
-                .or(st.window_s())
-        })
+        .filter_map(|s| s.analysis.step.view_end())
         .fold(0.0, f64::max)
 }
 
