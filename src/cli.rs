@@ -178,6 +178,13 @@ pub enum Command {
         /// One JSON object: each column name holds an array, null where undefined.
         #[arg(long)]
         json: bool,
+        /// The step response instead: columns t_s,v, evenly sampled from 0 to
+        /// twice the 0.01 % settling time.
+        #[arg(long, conflicts_with_all = ["from", "to", "ppd"])]
+        step: bool,
+        /// With --step: how many samples (1000 without it).
+        #[arg(long, value_name = "N", requires = "step", value_parser = clap::value_parser!(u32).range(2..=1_000_000))]
+        points: Option<u32>,
     },
     /// The spread of every figure over the parts' tolerances: worst case by
     /// corners and Monte Carlo, and the yield against the spec.

@@ -119,16 +119,29 @@ fn plot(
 }
 
 /// `sweep`: the rows as CSV or JSON columns.
-fn sweep_rows(file: &Path, range: sweep::Range, json: bool) -> Result<Vec<u8>> {
+fn sweep_rows(
+    file: &Path,
+    range: sweep::Range,
+    step: Option<usize>,
+    json: bool,
+) -> Result<Vec<u8>> {
     let s = Scenario::load(file)?;
     let a = evaluate(&s);
+    let mut buf = Vec::new();
+    if let Some(n) = step {
+        let rows = sweep::step_rows(&a, n).map_err(anyhow::Error::msg)?;
+        let names = &sweep::STEP_COLUMNS;
+        match json {
+            true => sweep::write_json(names, &rows, &mut buf)?,
+            false => sweep::write_csv(names, &rows, &mut buf)?,
+        }
+        return Ok(buf);
+    }
     let freqs = range.frequencies(&a).map_err(anyhow::Error::msg)?;
     let rows = sweep::rows(&s, &a, &freqs);
-    let mut buf = Vec::new();
-    if json {
-        sweep::write_json(&rows, &mut buf)?;
-    } else {
-        sweep::write_csv(&rows, &mut buf)?;
+    match json {
+        true => sweep::write_json(&sweep::COLUMNS, &rows, &mut buf)?,
+        false => sweep::write_csv(&sweep::COLUMNS, &rows, &mut buf)?,
     }
     Ok(buf)
 }
@@ -267,13 +280,16 @@ fn run(cli: Cli) -> Result<ExitCode> {
             ppd,
             csv: _,
             json,
+            step,
+            points,
         } => {
             let range = sweep::Range {
                 from: *from,
                 to: *to,
                 per_decade: *ppd,
             };
-            sweep_rows(file, range, *json)?
+            let step = step.then(|| points.map_or(sweep::STEP_POINTS, |n| n as usize));
+            sweep_rows(file, range, step, *json)?
         }
         Command::Plot {
             files,

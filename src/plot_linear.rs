@@ -7,8 +7,8 @@ use crate::engine::spread::{self, unit_and_label, FigureSpread, SpreadResult, BI
 use crate::engine::values::{fmt_eng, fmt_plain, nice_linear, printable};
 use crate::plot_svg::{err, legend_at, legend_sample, rings, style, Chart, Keyed, Look, Stage};
 use plotters::coord::Shift;
-use plotters::style::text_anchor::{HPos, Pos, VPos};
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 type Area<'a, 'b> = DrawingArea<SVGBackend<'b>, Shift>;
 
@@ -65,7 +65,10 @@ fn vmark<'a, 'b: 'a>(
 
 /// The step waveforms to draw: in volts, or each divided by its own final
 /// value when the stages step by different sizes (then comparable).
-fn step_waves(stages: &[Stage], end: f64) -> (Vec<Vec<(f64, f64)>>, Option<&'static str>) {
+/// Waveforms, one per stage.
+type Waves = Vec<Vec<(f64, f64)>>;
+
+fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
     let sizes: Vec<f64> = stages.iter().map(|s| s.eval.step.size_v).collect();
     let same = sizes.windows(2).all(|w| w[0] == w[1]);
     let waves = stages.iter().map(|s| {
@@ -106,7 +109,10 @@ pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> Resul
         .collect();
     let mut chart = ChartBuilder::on(area)
         .caption(
-            caption(&format!("Step response, {} step", sizes.join(" / ")), stages),
+            caption(
+                &format!("Step response, {} step", sizes.join(" / ")),
+                stages,
+            ),
             ("sans-serif", font + 4).into_font(),
         )
         .margin(12)
@@ -189,7 +195,11 @@ fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
     let (Some(lo), Some(hi)) = (f.min, f.max) else {
         return Vec::new();
     };
-    let w = if hi > lo { (hi - lo) / BINS as f64 } else { 1.0 };
+    let w = if hi > lo {
+        (hi - lo) / BINS as f64
+    } else {
+        1.0
+    };
     let mut pts = vec![(lo * scale, 0.0)];
     for (i, &c) in f.histogram.iter().enumerate() {
         let (a, b) = (lo + w * i as f64, lo + w * (i + 1) as f64);
@@ -251,7 +261,11 @@ fn histogram_panel(
         .iter()
         .enumerate()
         .flat_map(|(slot, r)| {
-            let tag = if results.len() > 1 { ["A ", "B "][slot.min(1)] } else { "" };
+            let tag = if results.len() > 1 {
+                ["A ", "B "][slot.min(1)]
+            } else {
+                ""
+            };
             limit_marks(r, key, scale)
                 .into_iter()
                 .map(move |(x, text)| (slot, x, format!("{tag}{text}")))
@@ -303,9 +317,16 @@ fn histogram_panel(
     }
     for (slot, pts) in outlines.iter().enumerate().filter(|(_, p)| !p.is_empty()) {
         let st = style(slot, false, look.mono);
-        let label = if results.len() > 1 { ["A", "B"][slot.min(1)] } else { "trials" };
+        let label = if results.len() > 1 {
+            ["A", "B"][slot.min(1)]
+        } else {
+            "trials"
+        };
         chart
-            .draw_series(LineSeries::new(pts.clone(), st.color.stroke_width(st.width)))
+            .draw_series(LineSeries::new(
+                pts.clone(),
+                st.color.stroke_width(st.width),
+            ))
             .map_err(err)?
             .label(label)
             .legend(legend_sample(&st));

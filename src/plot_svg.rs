@@ -167,7 +167,12 @@ fn needs_peak(s: &Stage) -> Option<String> {
 
 /// The ceilings where they matter: up to two decades above the largest need.
 fn envelope_curves(t: &Traces) -> Vec<Curve> {
-    let top = t.env_need.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max) + 2.0;
+    let top = t
+        .env_need
+        .iter()
+        .map(|p| p.1)
+        .fold(f64::NEG_INFINITY, f64::max)
+        + 2.0;
     let under = |pts: &[(f64, f64)]| -> Vec<(f64, f64)> {
         pts.iter().copied().filter(|p| p.1 <= top).collect()
     };
@@ -263,7 +268,12 @@ pub static VIEWS: [View; 7] = [
             log_unit: Some("Ω"),
         },
         right: None,
-        curves: |t| vec![curve("|Zout|", false, &t.zout), curve("|Zin|", false, &t.zin)],
+        curves: |t| {
+            vec![
+                curve("|Zout|", false, &t.zout),
+                curve("|Zin|", false, &t.zin),
+            ]
+        },
         marks: no_marks,
         own: None,
     },
@@ -354,9 +364,17 @@ pub(crate) fn style(slot: usize, right: bool, mono: bool) -> Style {
 /// in mono), thin; B's with rings as its main curves.
 fn tone_style(slot: usize, tone: u8, mono: bool) -> Style {
     let palette = if mono {
-        [RGBColor(70, 70, 70), RGBColor(120, 120, 120), RGBColor(160, 160, 160)]
+        [
+            RGBColor(70, 70, 70),
+            RGBColor(120, 120, 120),
+            RGBColor(160, 160, 160),
+        ]
     } else {
-        [RGBColor(30, 130, 60), RGBColor(130, 60, 170), RGBColor(110, 110, 110)]
+        [
+            RGBColor(30, 130, 60),
+            RGBColor(130, 60, 170),
+            RGBColor(110, 110, 110),
+        ]
     };
     Style {
         color: palette[usize::from(tone.clamp(1, 3)) - 1],
@@ -433,7 +451,10 @@ fn y_keys(axis: Axis, (lo, hi): (f64, f64)) -> Vec<f64> {
 
 /// The x range: whole decades around every stage's sweep.
 fn x_range(curves: &[Vec<Curve>]) -> (f64, f64) {
-    let xs = curves.iter().flatten().flat_map(|c| c.points.iter().map(|p| p.0));
+    let xs = curves
+        .iter()
+        .flatten()
+        .flat_map(|c| c.points.iter().map(|p| p.0));
     let (lo, hi) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
         (a.min(x), b.max(x))
     });

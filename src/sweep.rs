@@ -104,12 +104,37 @@ pub fn rows(s: &Scenario, a: &Analysis, freqs: &[f64]) -> Vec<Row> {
         .collect()
 }
 
+/// The step response's columns (`sweep --step`).
+pub const STEP_COLUMNS: [&str; 2] = ["t_s", "v"];
+
+/// Samples of the step response without `--points`.
+pub const STEP_POINTS: usize = 1000;
+
+/// The step waveform's rows: `n` even samples from 0 to twice the 0.01 %
+/// settling time (as `report --waveform`); an error when the stage has no
+/// step response.
+pub fn step_rows(a: &Analysis, n: usize) -> Result<Vec<[Option<f64>; 2]>, String> {
+    let (t, v) = a.step.waveform(n);
+    if t.is_empty() {
+        return Err("the stage has no step response (its loop is unstable)".into());
+    }
+    Ok(t.into_iter()
+        .zip(v)
+        .map(|(t, v)| [Some(t), Some(v).filter(|v| v.is_finite())])
+        .collect())
+}
+
 /// CSV: the header, then one line per row; `{}` prints the shortest text
 /// that reads back to the same double; an empty cell where undefined.
-pub fn write_csv(rows: &[Row], w: &mut impl Write) -> io::Result<()> {
-    writeln!(w, "{}", COLUMNS.join(","))?;
+pub fn write_csv<R: AsRef<[Option<f64>]>>(
+    names: &[&str],
+    rows: &[R],
+    w: &mut impl Write,
+) -> io::Result<()> {
+    writeln!(w, "{}", names.join(","))?;
     for r in rows {
         let cells: Vec<String> = r
+            .as_ref()
             .iter()
             .map(|v| v.map(|x| format!("{x}")).unwrap_or_default())
             .collect();
@@ -118,15 +143,15 @@ pub fn write_csv(rows: &[Row], w: &mut impl Write) -> io::Result<()> {
     Ok(())
 }
 
-/// The columns in [`COLUMNS`] order, for serde.
-struct Columns<'a>(&'a [Row]);
+/// The columns in order, for serde.
+struct Columns<'a, R>(&'a [&'a str], &'a [R]);
 
-impl serde::Serialize for Columns<'_> {
+impl<R: AsRef<[Option<f64>]>> serde::Serialize for Columns<'_, R> {
     fn serialize<S: serde::Serializer>(&self, ser: S) -> Result<S::Ok, S::Error> {
         use serde::ser::SerializeMap;
-        let mut m = ser.serialize_map(Some(COLUMNS.len()))?;
-        for (i, name) in COLUMNS.iter().enumerate() {
-            let col: Vec<Option<f64>> = self.0.iter().map(|r| r[i]).collect();
+        let mut m = ser.serialize_map(Some(self.0.len()))?;
+        for (i, name) in self.0.iter().enumerate() {
+            let col: Vec<Option<f64>> = self.1.iter().map(|r| r.as_ref()[i]).collect();
             m.serialize_entry(name, &col)?;
         }
         m.end()
@@ -135,7 +160,11 @@ impl serde::Serialize for Columns<'_> {
 
 /// JSON: one object, each column name holding its array in column order
 /// (null where undefined).
-pub fn write_json(rows: &[Row], w: &mut impl Write) -> io::Result<()> {
-    serde_json::to_writer(&mut *w, &Columns(rows))?;
+pub fn write_json<R: AsRef<[Option<f64>]>>(
+    names: &[&str],
+    rows: &[R],
+    w: &mut impl Write,
+) -> io::Result<()> {
+    serde_json::to_writer(&mut *w, &Columns(names, rows))?;
     writeln!(w)
 }

@@ -214,14 +214,25 @@ fn envelope_step_and_spread_views() {
         // Step: time axis, the band, the settling mark, one waveform.
         let doc_text = svg(&[p, "--view", "step"], &out);
         let doc = roxmltree::Document::parse(&doc_text).unwrap();
-        assert!(has_text(&doc, "time (s)") && has_text(&doc, "ts 0.1 %"), "{p}");
+        assert!(
+            has_text(&doc, "time (s)") && has_text(&doc, "ts 0.1 %"),
+            "{p}"
+        );
         assert!(has_text(&doc, "±0.1 % of the final value"), "{p}");
         assert_eq!(curves(&doc), 1, "{p} step: one waveform");
         // Spread: three histograms, one outline each.
-        let doc_text = svg(&[p, "--view", "spread", "--width", "900", "--height", "450"], &out);
+        let doc_text = svg(
+            &[p, "--view", "spread", "--width", "900", "--height", "450"],
+            &out,
+        );
         let doc = roxmltree::Document::parse(&doc_text).unwrap();
         assert_eq!(doc.root_element().attribute("width"), Some("900"));
-        for want in ["gain error against the target", "f−3dB", "phase margin", "trials"] {
+        for want in [
+            "gain error against the target",
+            "f−3dB",
+            "phase margin",
+            "trials",
+        ] {
             assert!(has_text(&doc, want), "{p} spread: {want}");
         }
         assert_eq!(curves(&doc), 3, "{p} spread: one outline per histogram");
@@ -232,11 +243,21 @@ fn envelope_step_and_spread_views() {
         if s.source.peak.is_some() {
             let doc_text = svg(&[p, "--view", "envelope"], &out);
             let doc = roxmltree::Document::parse(&doc_text).unwrap();
-            assert!(has_text(&doc, "frequency (Hz)") && has_text(&doc, "need"), "{p}");
+            assert!(
+                has_text(&doc, "frequency (Hz)") && has_text(&doc, "need"),
+                "{p}"
+            );
             assert!(has_text(&doc, "band"), "{p} envelope: band marks");
             assert!(curves(&doc) >= 1, "{p} envelope: the need");
         } else {
-            let o = plot(&[p, "--view", "envelope", "-o", out.to_str().unwrap(), "--force"]);
+            let o = plot(&[
+                p,
+                "--view",
+                "envelope",
+                "-o",
+                out.to_str().unwrap(),
+                "--force",
+            ]);
             assert!(!o.status.success());
             assert!(String::from_utf8_lossy(&o.stderr).contains("source.peak"));
         }
@@ -250,7 +271,10 @@ fn envelope_step_and_spread_views() {
 fn step_view_of_two_stages() {
     let dir = temp_dir("plot-step-ab");
     let out = dir.join("ab.svg");
-    let (a, b) = (scenario("line_driver_cable.ron"), scenario("adc_driver_2n2.ron"));
+    let (a, b) = (
+        scenario("line_driver_cable.ron"),
+        scenario("adc_driver_2n2.ron"),
+    );
     let doc_text = svg(&[&a, &b, "--view", "step"], &out);
     let doc = roxmltree::Document::parse(&doc_text).unwrap();
     assert!(has_text(&doc, "output / its final value"));

@@ -187,3 +187,56 @@ fn bad_input_is_refused_with_a_message() {
         assert!(err.contains(says), "{args:?}: {err}");
     }
 }
+
+/// `sweep --step`: the header `t_s,v`, every row read back, the same
+/// samples as `report --json --waveform`, and a one-pole follower's
+/// step y = G·ΔV·(1 − e^{−t/τ}), τ = a0/(2π·gbw·(1 + a0)) (the first-order
+/// step response of any control text), G = a0/(1 + a0).
+#[test]
+fn step_waveform_as_csv_and_json() {
+    let dir = temp_dir("sweep-step");
+    let mut s = common::in_range(common::follower());
+    s.step = Some(loopwright::engine::scenario::Step { size: 1.0 });
+    let file = dir.join("follower.ron");
+    std::fs::write(&file, s.to_ron()).unwrap();
+    let f = file.to_str().unwrap();
+    let text = stdout_of(&["sweep", f, "--step", "--points", "200"]);
+    assert_eq!(text.lines().next(), Some("t_s,v"));
+    let (header, rows) = read_csv(&text);
+    assert_eq!(header, ["t_s", "v"]);
+    assert_eq!(rows.len(), 200);
+    let (a0, gbw) = (s.amp.a0, s.amp.gbw);
+    let tau = a0 / (2.0 * std::f64::consts::PI * gbw * (1.0 + a0));
+    let g = a0 / (1.0 + a0);
+    for r in &rows[1..] {
+        let (t, v) = (r[0].unwrap(), r[1].unwrap());
+        let want = g * (1.0 - (-t / tau).exp());
+        assert!((v - want).abs() < 1e-6, "t {t}: {v} vs {want}");
+    }
+    // The same samples as the report's waveform (serde_json's default
+    // float parser may be one unit in the last place off).
+    let json: Value =
+        serde_json::from_str(&stdout_of(&["report", f, "--json", "--waveform", "200"])).unwrap();
+    let w = &json["step"];
+    for (i, r) in rows.iter().enumerate() {
+        for (col, k) in [(0, "t_s"), (1, "v")] {
+            let (a, b) = (w[k][i].as_f64().unwrap(), r[col].unwrap());
+            assert!(
+                rel(a, b) < 1e-15 || (a - b).abs() < 1e-300,
+                "{k} row {i}: {a} vs {b}"
+            );
+        }
+    }
+    // JSON columns of the same names.
+    let cols: Value = serde_json::from_str(&stdout_of(&[
+        "sweep", f, "--step", "--points", "200", "--json",
+    ]))
+    .unwrap();
+    assert_eq!(cols.as_object().unwrap().len(), 2);
+    assert_eq!(cols["v"].as_array().unwrap().len(), 200);
+    // --step takes no frequency range.
+    assert!(!run(&["sweep", f, "--step", "--from", "1k"])
+        .status
+        .success());
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -2,8 +2,8 @@
 //! labels, scales chosen from the data, and a widget that draws traces on a
 //! ratatui Canvas with its own axis labels.
 
-pub use crate::engine::values::nice_linear;
 use crate::engine::values::fmt_eng;
+pub use crate::engine::values::nice_linear;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::style::Style;
@@ -104,7 +104,6 @@ pub fn decade_ticks(lo: f64, hi: f64, cols: u16, label_w: u16) -> Vec<i32> {
         .filter(|d| (d - first) % stride == 0)
         .collect()
 }
-
 
 /// A phase scale in degrees with steps of 45°, 90° or 180° (whichever
 /// gives at most `max_ticks` ticks).
