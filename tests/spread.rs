@@ -221,6 +221,28 @@ fn a0_min_above_a0_is_refused() {
     assert!(e.line.is_some() && e.message.contains("400000"), "{e}");
 }
 
+#[test]
+fn a_gain_target_of_the_wrong_sign_is_refused() {
+    // The textbook closed-loop gains: −rf/rg for the inverting stage,
+    // 1 + rf/rg for the non-inverting one. A target of the other sign
+    // would read as an error near −200 % on every board.
+    let line = std::fs::read_to_string("scenarios/line_driver_cable.ron").unwrap();
+    let wrong = line.replace("gain_target: 2.0", "gain_target: -2.0");
+    let e = Scenario::from_ron(&wrong, Some("x.ron")).unwrap_err();
+    assert_eq!(e.field.as_deref(), Some("spec.gain_target"), "{e}");
+    let inv = std::fs::read_to_string("scenarios/single_supply_inverter_clips.ron").unwrap();
+    let with = |t: &str| {
+        inv.replace(
+            "band: (20.0, 50000.0),",
+            &format!("band: (20.0, 50000.0),\n    spec: (gain_target: {t}, gain_error_max: 0.05),"),
+        )
+    };
+    let e = Scenario::from_ron(&with("10.0"), Some("x.ron")).unwrap_err();
+    assert_eq!(e.field.as_deref(), Some("spec.gain_target"), "{e}");
+    assert!(e.message.contains("-10"), "{e}");
+    assert!(Scenario::from_ron(&with("-10.0"), Some("x.ron")).is_ok());
+}
+
 fn write(dir: &std::path::Path, name: &str, text: &str) -> String {
     let p = dir.join(name);
     std::fs::write(&p, text).unwrap();

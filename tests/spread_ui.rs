@@ -123,3 +123,25 @@ fn spec_failures_are_warnings() {
         .iter()
         .all(|w| w.code != "spec"));
 }
+
+#[test]
+fn histogram_columns_keep_bar_heights_at_every_width() {
+    use loopwright::engine::spread::BINS;
+    use loopwright::ui::spread_view::columns;
+    // A histogram's bar height stands for the count in an equal-width bin
+    // (the definition of a histogram): equal counts must draw level bars
+    // and rising counts rising bars at any panel width, whether bins are
+    // widened or merged to fit it.
+    let flat = [100usize; BINS];
+    let mut rising = [0usize; BINS];
+    for (i, n) in rising.iter_mut().enumerate() {
+        *n = i + 1;
+    }
+    for w in 1..=3 * BINS {
+        let c = columns(&flat, w);
+        assert_eq!(c.len(), w);
+        assert!(c.iter().all(|&n| n == c[0]), "width {w}: {c:?}");
+        let r = columns(&rising, w);
+        assert!(r.windows(2).all(|p| p[0] <= p[1]), "width {w}: {r:?}");
+    }
+}

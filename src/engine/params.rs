@@ -1339,6 +1339,21 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
             message: "0 is not a gain target: the error is relative to it".into(),
         });
     }
+    // The target is signed like the stage's gain: −rf/rg inverting, else
+    // positive; the other sign would read as an error near −200 %.
+    if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
+        let inverting = s.stage.topology == Topology::Inverting;
+        if t != 0.0 && (t < 0.0) != inverting {
+            let sign = if inverting { "negative" } else { "positive" };
+            p.push(FieldProblem {
+                field: "spec.gain_target".into(),
+                message: format!(
+                    "{t}: the stage is {:?}, its gain is {sign}: write {}",
+                    s.stage.topology, -t
+                ),
+            });
+        }
+    }
     p
 }
 

@@ -124,7 +124,7 @@ pub const KEYS: &[Binding] = &[
         keys: &[k('v')],
         shown: "v",
         action: Action::NextView,
-        help: "next plot view: response / loop gain / noise / envelope / step / spread",
+        help: "next view: response, loop, noise, envelope, step, spread",
         hint: None,
     },
     Binding {

@@ -98,19 +98,17 @@ fn yield_lines(app: &App, r: &SpreadResult) -> Vec<Line<'static>> {
     }
 }
 
-/// Counts per column: bins widened (or merged) to fill `w` columns.
+/// Counts per column: bins merged into equal groups (the most groups, up
+/// to `w`, that split the bins evenly, so every bar holds as many bins),
+/// then widened to fill `w` columns.
 pub fn columns(h: &[usize; BINS], w: usize) -> Vec<usize> {
-    let mut c = vec![0; w];
-    if w >= BINS {
-        for (i, slot) in c.iter_mut().enumerate() {
-            *slot = h[i * BINS / w];
-        }
-    } else {
-        for (b, n) in h.iter().enumerate() {
-            c[b * w / BINS] += n;
-        }
-    }
-    c
+    let groups = (1..=BINS.min(w))
+        .rev()
+        .find(|g| BINS.is_multiple_of(*g))
+        .unwrap_or(1);
+    let per = BINS / groups;
+    let merged: Vec<usize> = h.chunks(per).map(|c| c.iter().sum()).collect();
+    (0..w).map(|i| merged[i * groups / w]).collect()
 }
 
 /// The limits on this figure: (value, trials failing, lower bound?).
