@@ -103,12 +103,16 @@ pub fn write_spread(r: &SpreadResult, title: &str, out: &mut impl Write) -> Resu
     writeln!(out, "Spread of {title}")?;
     writeln!(
         out,
-        "{} trials, seed {}, {} within each tolerance",
+        "{} trial{}, seed {}, {} within each tolerance",
         r.trials,
+        if r.trials == 1 { "" } else { "s" },
         r.seed,
         r.dist.name().to_lowercase()
     )?;
-    writeln!(out, "Varied parts ({} corners):", 1usize << r.knobs.len())?;
+    match r.knobs.len() {
+        0 => writeln!(out, "No part varies: every trial is the nominal stage.")?,
+        k => writeln!(out, "Varied parts ({} corners):", 1usize << k)?,
+    }
     for k in &r.knobs {
         writeln!(
             out,
@@ -145,15 +149,16 @@ fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
     let mut rows = vec![head.iter().map(|h| h.to_string()).collect::<Vec<_>>()];
     let mut inside = false;
     for f in &r.figures {
-        let mark = if f.extreme_inside() { " *" } else { "" };
-        inside |= f.extreme_inside();
+        let (below, above) = f.beyond_corners();
+        let mark = |on: bool| if on { " *" } else { "" };
+        inside |= below || above;
         rows.push(vec![
             unit_and_label(f.key).1.to_string(),
             cell(f.key, f.nominal),
             cell(f.key, f.mean),
             cell(f.key, f.std),
-            format!("{}{mark}", cell(f.key, f.min)),
-            format!("{}{mark}", cell(f.key, f.max)),
+            format!("{}{}", cell(f.key, f.min), mark(below)),
+            format!("{}{}", cell(f.key, f.max), mark(above)),
             cell(f.key, f.p_low),
             cell(f.key, f.p_high),
             cell(f.key, f.corner_min),
@@ -246,8 +251,20 @@ pub fn failures(r: &SpreadResult) -> String {
         .map(|l| l.limit.failure(l.nominal, l.value))
         .collect();
     if let Some(y) = r.yield_frac.filter(|y| *y < r.yield_min) {
+        // The limit that fails the most trials.
+        let most = r
+            .limits
+            .iter()
+            .filter(|l| l.failed > 0)
+            .max_by_key(|l| l.failed);
+        let by = most.map_or(String::new(), |l| {
+            format!(
+                " ({} fails {} of {} trials)",
+                l.limit.field, l.failed, r.trials
+            )
+        });
         why.push(format!(
-            "yield {} < {}",
+            "yield {} < {}{by}",
             fmt_plain(y, 4),
             fmt_plain(r.yield_min, 4)
         ));
@@ -307,6 +324,7 @@ pub fn check(
             Ok(s) => s,
             Err(e) => {
                 let _ = writeln!(stderr, "loopwright: {e}");
+                all.push(json!({"file": file.display().to_string(), "error": e.to_string(), "pass": false}));
                 code = 2;
                 continue;
             }

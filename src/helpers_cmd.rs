@@ -218,7 +218,7 @@ pub fn margin_now_text(o: &Options) -> String {
         .map_or("no crossover".into(), |m| format!("{}°", fmt_fixed(m, 1)));
     if o.already_met {
         format!(
-            "the stage already meets {}° (now {now}): smallest values that keep it",
+            "no change needed: the stage already meets {}° (now {now}); added, these keep it",
             o.target_deg
         )
     } else {

@@ -61,9 +61,14 @@ prop_compose! {
             s.amp.swing_neg = s.amp.swing_neg.map(|v| v.max(0.0));
             s.amp.swing_pos = s.amp.swing_pos.map(|v| v.max(0.0));
         }
-        // The spread's lowest open-loop gain at or below a0 (a cross-field rule).
+        // The spread's lowest open-loop gain at or below a0, and a gain
+        // target of the topology's sign (cross-field rules).
         if let Some(b) = s.spread.as_mut() {
             b.a0_min = b.a0_min.map(|v| v.min(s.amp.a0));
+        }
+        if let Some(x) = s.spec.as_mut() {
+            let inverting = s.stage.topology == Topology::Inverting;
+            x.gain_target = x.gain_target.map(|g| if inverting { -g.abs() } else { g.abs() });
         }
         let lo = at((1e-6, 1e12), band_lo, false);
         let hi = (lo * 10f64.powf(band_decades)).min(1e12);

@@ -113,7 +113,7 @@ fn spec_failures_are_warnings() {
         w[0].text
     );
     assert!(
-        w[1].text.contains("noise_rms_max") && w[1].text.contains("> 1u"),
+        w[1].text.contains("noise_rms_max") && w[1].text.contains("> 1 µV"),
         "{}",
         w[1].text
     );

@@ -344,7 +344,7 @@ pub static FIGURES: [Figure; 46] = [
     .at_probe(),
     fig(
         "zout_at_ohm",
-        "|Zout| where the spec holds it",
+        "|Zout| at the spec's frequency",
         "Zout spec",
         Si("Ω"),
         Impedance,

@@ -6,7 +6,7 @@
 //! be one of the spread figures).
 
 use super::scenario::{Scenario, Spec};
-use super::values::fmt_compact;
+use super::values::fmt_plain;
 use super::warnings::{Code, Severity, Warning};
 
 /// When a figure meets its limit (a value equal to the limit passes).
@@ -132,10 +132,23 @@ impl Limit {
         Some(if x_worse { x } else { y })
     }
 
-    /// "pm_min_deg 41.2 < 50": how a value fails the limit.
+    /// "pm_min_deg 41.2 < 50": how a value fails the limit, in plain SI
+    /// numbers (the field's name carries the unit) for scripts and logs.
     pub fn failure(&self, value: Option<f64>, limit: f64) -> String {
+        self.failure_with(value, limit, |v| fmt_plain(v, 4))
+    }
+
+    /// The same for the screen: "phase margin 41.2° < 50° (pm_min_deg)".
+    pub fn failure_readable(&self, value: Option<f64>, limit: f64) -> String {
+        let (unit, label) = super::spread::unit_and_label(self.figures[0]);
+        let text = self.failure_with(value, limit, |v| unit.number(v, false));
+        let named = text.replacen(self.field, label, 1);
+        format!("{named} ({})", self.field)
+    }
+
+    fn failure_with(&self, value: Option<f64>, limit: f64, num: impl Fn(f64) -> String) -> String {
         let Some(v) = value else {
-            return format!("{} undefined (limit {})", self.field, fmt_compact(limit));
+            return format!("{} undefined (limit {})", self.field, num(limit));
         };
         let (shown, op) = match self.rule {
             AtMost => (v, ">"),
@@ -150,8 +163,8 @@ impl Limit {
         format!(
             "{} {bar}{}{bar} {op} {}",
             self.field,
-            fmt_compact(shown),
-            fmt_compact(limit)
+            num(shown),
+            num(limit)
         )
     }
 }
@@ -179,7 +192,7 @@ pub fn nominal_warnings(s: &Scenario, e: &super::Evaluation) -> Vec<Warning> {
             (!l.passes(v, limit)).then(|| Warning {
                 code: Code::Spec,
                 severity: Severity::Warning,
-                text: format!("the stage misses its spec: {}", l.failure(v, limit)),
+                text: format!("misses its spec: {}", l.failure_readable(v, limit)),
             })
         })
         .collect()

@@ -92,14 +92,24 @@ impl FigureSpread {
     /// Whether a Monte Carlo extreme lies beyond the corners: the
     /// figure's extreme is inside the tolerance box, not at a corner.
     pub fn extreme_inside(&self) -> bool {
-        let (Some(lo), Some(hi)) = (self.corner_min, self.corner_max) else {
-            return false;
-        };
-        // Beyond by more than rounding: a millionth of the corner span.
-        let eps = 1e-6 * (hi - lo).max(lo.abs().max(hi.abs()) * 1e-9);
-        let below = self.min.is_some_and(|m| m < lo - eps);
-        let above = self.max.is_some_and(|m| m > hi + eps);
+        let (below, above) = self.beyond_corners();
         below || above
+    }
+
+    /// Whether a trial went below the lowest corner, and above the
+    /// highest, by more than rounding (a millionth of the corner span, and
+    /// never by less than 1e-12: a figure that does not move is noise).
+    pub fn beyond_corners(&self) -> (bool, bool) {
+        let (Some(lo), Some(hi)) = (self.corner_min, self.corner_max) else {
+            return (false, false);
+        };
+        let eps = (1e-6 * (hi - lo))
+            .max(1e-9 * lo.abs().max(hi.abs()))
+            .max(1e-12);
+        (
+            self.min.is_some_and(|m| m < lo - eps),
+            self.max.is_some_and(|m| m > hi + eps),
+        )
     }
 }
 
@@ -313,6 +323,9 @@ fn statistics(key: &'static str, nominal: Option<f64>, column: &[Option<f64>]) -
         (ss / (n - 1) as f64).sqrt()
     });
     let (min, max) = (v.first().copied(), v.last().copied());
+    // A figure no part moves differs only by rounding between trials.
+    let still = matches!((min, max), (Some(a), Some(b)) if b - a <= 1e-12 * a.abs().max(b.abs()));
+    let std = if still { std.map(|_| 0.0) } else { std };
     FigureSpread {
         key,
         nominal,
@@ -491,6 +504,9 @@ fn check_limits(
 pub fn unit_and_label(key: &str) -> (super::figures::Unit, &'static str) {
     match figure(key) {
         Some(f) => (f.unit, f.label),
-        None => (super::figures::Unit::Fraction, "error against target"),
+        None => (
+            super::figures::Unit::Fraction,
+            "gain error against the target",
+        ),
     }
 }

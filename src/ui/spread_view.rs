@@ -4,7 +4,7 @@
 
 use super::app::App;
 use super::view::block;
-use crate::engine::spread::{unit_and_label, FigureSpread, LimitCheck, SpreadResult, BINS};
+use crate::engine::spread::{unit_and_label, FigureSpread, SpreadResult, BINS};
 use crate::engine::values::fmt_plain;
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
@@ -24,7 +24,7 @@ const EIGHTHS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '�
 pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
     let job = &app.spread;
     let title = format!(
-        " Spread over the tolerances, stage {}: {} trials  (v: next view) ",
+        " Spread over the tolerances, {}, {} trials ",
         App::slot_label(app.active),
         job.total
     );
@@ -111,26 +111,21 @@ pub fn columns(h: &[usize; BINS], w: usize) -> Vec<usize> {
     (0..w).map(|i| merged[i * groups / w]).collect()
 }
 
-/// The limits on this figure: (value, trials failing, lower bound?).
-fn marks(r: &SpreadResult, key: &str) -> Vec<(f64, &'static str, usize)> {
-    let on: Vec<&LimitCheck> = r
-        .limits
+/// The limits on this figure: the values they mark (two for a ± limit),
+/// their sign and the trials failing them.
+fn marks<'r>(
+    r: &'r SpreadResult,
+    key: &'r str,
+) -> impl Iterator<Item = (Vec<f64>, &'static str, usize)> + 'r {
+    use crate::engine::spec::Rule;
+    r.limits
         .iter()
-        .filter(|l| l.limit.figures.contains(&key))
-        .collect();
-    let mut out = Vec::new();
-    for l in on {
-        use crate::engine::spec::Rule;
-        match l.limit.rule {
-            Rule::AtLeast => out.push((l.value, "≥", l.failed)),
-            Rule::AtMost => out.push((l.value, "≤", l.failed)),
-            Rule::MagnitudeAtMost => {
-                out.push((-l.value, "±", l.failed));
-                out.push((l.value, "±", l.failed));
-            }
-        }
-    }
-    out
+        .filter(move |l| l.limit.figures.contains(&key))
+        .map(|l| match l.limit.rule {
+            Rule::AtLeast => (vec![l.value], "≥", l.failed),
+            Rule::AtMost => (vec![l.value], "≤", l.failed),
+            Rule::MagnitudeAtMost => (vec![-l.value, l.value], "±", l.failed),
+        })
 }
 
 /// One histogram: its name, the bars, the range and the limit.
@@ -175,33 +170,34 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
     };
     Paragraph::new(Line::styled(axis_text, app.theme.dim)).render(axis, buf);
     let mut notes = Vec::new();
-    for (v, op, failed) in marks(r, f.key) {
-        let span = hi - lo;
-        let x = if span > 0.0 { (v - lo) / span } else { 0.5 };
-        if (0.0..=1.0).contains(&x) {
-            let col = bars.x + ((x * f64::from(bars.width - 1)).round() as u16);
-            for y in bars.y..bars.y + bars.height {
-                if buf[(col, y)].symbol() == " " {
-                    buf[(col, y)].set_symbol("┆").set_style(app.theme.warning);
+    let span = hi - lo;
+    for (values, op, failed) in marks(r, f.key) {
+        let (mut left, mut right) = ("", "");
+        for v in &values {
+            let x = if span > 0.0 { (v - lo) / span } else { 0.5 };
+            if x < 0.0 {
+                left = "◂";
+            } else if x > 1.0 {
+                right = "▸";
+            } else {
+                let col = bars.x + ((x * f64::from(bars.width - 1)).round() as u16);
+                for y in bars.y..bars.y + bars.height {
+                    if buf[(col, y)].symbol() == " " {
+                        buf[(col, y)].set_symbol("┆").set_style(app.theme.warning);
+                    }
                 }
             }
         }
-        let shown = if op == "±" { v.abs() } else { v };
-        let side = match (op, x) {
-            ("±", _) => "",
-            (_, x) if x < 0.0 => "◂ ",
-            (_, x) if x > 1.0 => "▸ ",
-            _ => "",
-        };
+        // Arrows: the limit lies off the chart on that side.
+        let side = format!("{left}{right}");
+        let side = if side.is_empty() { side } else { side + " " };
         let fails = if failed > 0 {
             format!("{failed} fail")
         } else {
             "ok".into()
         };
-        let text = format!("{side}{op}{} {fails}", cell(shown));
-        if !notes.contains(&text) {
-            notes.push(text);
-        }
+        let shown = values.last().copied().unwrap_or(0.0);
+        notes.push(format!("{side}{op}{} {fails}", cell(shown)));
     }
     let style = if notes.iter().any(|n| !n.ends_with(" ok")) {
         app.theme.warning
