@@ -207,3 +207,30 @@ fn minus_input_capacitance_raises_the_noise_gain() {
         );
     }
 }
+
+/// At DC a 1/f noise density en·(1 + fc/f) has no finite value (the
+/// 1/f model itself, any noise text): with a corner given, the density
+/// at 0 Hz is undefined; without corners it is the white density, the
+/// limit of the density as f → 0.
+#[test]
+fn density_at_dc_with_and_without_a_corner() {
+    let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+    s.amp.vnoise = 10e-9;
+    s.amp.inoise = 1e-12;
+    s.source.r = 1e3;
+    let white = Circuit::new(&s);
+    let dc = white.eval(0.0).unwrap().noise_density();
+    let low = white.eval(1e-6).unwrap().noise_density();
+    assert_rel("white density at DC", dc, low, 1e-9);
+    s.amp.vnoise_corner = Some(100.0);
+    let pink = Circuit::new(&s);
+    assert!(!pink.eval(0.0).unwrap().noise_density().is_finite());
+    // The report gives null there.
+    let dir = common::temp_dir("noise-dc");
+    let file = dir.join("s.ron");
+    std::fs::write(&file, common::in_range(s).to_ron()).unwrap();
+    let out = common::stdout_of(&["report", file.to_str().unwrap(), "--json", "--at", "0"]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert!(v["points"][0]["noise_density"].is_null(), "{}", v["points"][0]);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -66,12 +66,13 @@ pub enum Coupling {
 }
 
 impl NoiseSource {
-    /// Density at frequency f (with the 1/f rise).
+    /// Density at frequency f (with the 1/f rise): unbounded at DC when a
+    /// corner is given (reported as undefined), white without one.
     pub fn density(&self, f: f64) -> f64 {
-        if self.corner > 0.0 && f > 0.0 {
-            self.white * (1.0 + self.corner / f)
-        } else {
-            self.white
+        match (self.corner > 0.0 && self.white > 0.0, f > 0.0) {
+            (true, true) => self.white * (1.0 + self.corner / f),
+            (true, false) => f64::INFINITY,
+            (false, _) => self.white,
         }
     }
 }
