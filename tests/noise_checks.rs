@@ -231,6 +231,10 @@ fn density_at_dc_with_and_without_a_corner() {
     std::fs::write(&file, common::in_range(s).to_ron()).unwrap();
     let out = common::stdout_of(&["report", file.to_str().unwrap(), "--json", "--at", "0"]);
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
-    assert!(v["points"][0]["noise_density"].is_null(), "{}", v["points"][0]);
+    assert!(
+        v["points"][0]["noise_density"].is_null(),
+        "{}",
+        v["points"][0]
+    );
     std::fs::remove_dir_all(&dir).ok();
 }

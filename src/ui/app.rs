@@ -16,6 +16,7 @@ use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyEventKind};
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
 
+mod cursor;
 mod helper_lists;
 use helper_lists::{list_key, ListKey};
 pub use helper_lists::{Choices, Pick};
@@ -95,6 +96,8 @@ pub struct Slot {
     pub traces: Traces,
     /// The solved point at the chosen probe frequency.
     pub probe: Option<Point>,
+    /// The cursor readout there: the figures of `report --at`.
+    pub readout: Option<crate::report::PointReport>,
     pub path: Option<PathBuf>,
     pub dirty: bool,
     /// The file's text and stamp as loaded (or last saved): saving patches
@@ -119,6 +122,7 @@ impl Slot {
             traces: Traces::new(&analysis),
             analysis,
             probe: None,
+            readout: None,
             scenario,
             path,
             dirty: false,
@@ -140,7 +144,9 @@ impl Slot {
 
     /// Solve the stage at the probe frequency (the "Zout at" figure).
     fn set_probe(&mut self, probe_hz: f64) {
-        self.probe = Circuit::new(&self.scenario).eval(probe_hz);
+        let c = Circuit::new(&self.scenario);
+        self.probe = c.eval(probe_hz);
+        self.readout = Some(crate::report::point_report(&c, &self.analysis, probe_hz));
     }
 
     pub fn name(&self) -> String {
@@ -189,7 +195,7 @@ impl Prompt {
     pub fn label(self) -> &'static str {
         match self {
             Prompt::SaveAs => "save as",
-            Prompt::Probe => "Zout at (Hz)",
+            Prompt::Probe => "cursor at (Hz)",
             Prompt::Title => "title",
             Prompt::Gain => "target gain",
         }
@@ -596,10 +602,13 @@ impl App {
                 self.info(format!("view: {}", self.view.title()));
             }
             Action::WriteFigure => self.write_figure(),
+            Action::CursorDown => self.move_cursor(false),
+            Action::CursorUp => self.move_cursor(true),
+            Action::CursorJump => self.jump_cursor(),
             Action::ProbeFrequency => {
                 let now = values::fmt_compact(self.probe_hz);
                 self.mode = Mode::Prompt(Prompt::Probe, Field::offering(&now));
-                self.info("frequency for the Zout figure (e.g. 10k); Enter applies");
+                self.info("cursor frequency (e.g. 10k); Enter applies");
             }
             Action::ScrollWarningsDown => {
                 let n = self.slot().analysis.warnings.len();
@@ -771,15 +780,20 @@ impl App {
     }
 
     fn set_probe(&mut self, text: &str) {
+        let (lo, hi) = self.cursor_range();
+        let range = format!(
+            "{} to {}",
+            values::fmt_eng(lo, "Hz"),
+            values::fmt_eng(hi, "Hz")
+        );
         match values::parse_value(text) {
-            Ok(f) if f > 0.0 => {
-                self.probe_hz = f;
-                for s in &mut self.slots {
-                    s.set_probe(f);
-                }
-                self.info(format!("Zout figure at {}", values::fmt_eng(f, "Hz")));
+            Ok(f) if (lo..=hi).contains(&f) => {
+                self.put_cursor(f);
+                self.info(format!("cursor at {}", values::fmt_eng(f, "Hz")));
             }
-            Ok(f) => self.error(format!("frequency {f} must be above zero (unchanged)")),
+            Ok(f) => self.error(format!(
+                "{f} Hz is outside the sweep, {range} (cursor unchanged)"
+            )),
             Err(e) => self.error(format!("{e} (unchanged)")),
         }
     }

@@ -5,6 +5,7 @@ pub mod app;
 pub mod field;
 pub mod keys;
 pub mod plot;
+pub mod readout;
 pub mod spread_job;
 pub mod spread_view;
 pub mod theme;

@@ -59,9 +59,10 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .map(|w| warning_rows(w, width))
         .sum();
     let n_warn = needed.clamp(1, cap) as u16;
-    let [title, body, figures, warnings, status] = Layout::vertical([
+    let [title, body, cursor, figures, warnings, status] = Layout::vertical([
         Constraint::Length(1),
         Constraint::Fill(1),
+        Constraint::Length(app.slots.len() as u16),
         Constraint::Length(figures_h),
         Constraint::Length(n_warn + 1),
         Constraint::Length(1),
@@ -82,6 +83,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         View::Spread => super::spread_view::spread_plot(app, upper, buf),
     }
     impedance_plot(app, lower, buf);
+    super::readout::draw(app, cursor, buf);
     figures_table(app, figures, buf);
     warnings_strip(app, warnings, buf);
     status_line(app, status, buf);

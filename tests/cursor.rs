@@ -1,0 +1,101 @@
+//! The frequency cursor: moved by `,` `.`, jumped by `;`, typed with `f`;
+//! its readout equals `report --at` at the same frequency (an independent
+//! path: the command line's JSON), for A and B.
+
+mod common;
+use common::{key, press, screen_at, stdout_of, type_text};
+use crossterm::event::KeyCode;
+use loopwright::engine::scenario::Scenario;
+use loopwright::ui::app::App;
+use loopwright::ui::theme::Theme;
+
+fn example(name: &str) -> (Scenario, String) {
+    let p = format!("scenarios/{name}.ron");
+    (Scenario::load(std::path::Path::new(&p)).unwrap(), p)
+}
+
+fn at(file: &str, f: &str) -> serde_json::Value {
+    let out = stdout_of(&["report", file, "--json", "--at", f]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    v["points"][0].clone()
+}
+
+#[test]
+fn readout_equals_report_at_for_a_and_b() {
+    let (a, fa) = example("adc_driver_2n2");
+    let (b, fb) = example("line_driver_cable");
+    let mut app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    app.on_key(key(KeyCode::Char('f')));
+    type_text(&mut app, "10k");
+    app.on_key(key(KeyCode::Enter));
+    assert_eq!(app.probe_hz, 10e3);
+    let screen = screen_at(&app, 120, 40);
+    for (label, file, slot) in [("A", &fa, 0), ("B", &fb, 1)] {
+        let p = at(file, "10k");
+        let r = app.slots[slot].readout.as_ref().unwrap();
+        for (k, got) in [
+            ("gain_mag", r.gain_mag),
+            ("gain_phase_deg", r.gain_phase_deg),
+            ("loop_mag", r.loop_mag),
+            ("loop_phase_deg", r.loop_phase_deg),
+            ("zout_mag", r.zout_mag),
+            ("zin_mag", r.zin_mag),
+            ("noise_density", r.noise_density),
+        ] {
+            let want = p[k].as_f64().unwrap();
+            let got = got.unwrap();
+            assert!(
+                ((got - want) / want).abs() < 1e-12,
+                "{label} {k}: {got} vs {want}"
+            );
+        }
+        // The line on screen: 20·log10 |H| with one decimal and the phase.
+        let line = format!(
+            "{label} @ 10kHz · gain {:.1}dB ∠{:.1}°",
+            20.0 * p["gain_mag"].as_f64().unwrap().log10(),
+            p["gain_phase_deg"].as_f64().unwrap()
+        );
+        assert!(screen.contains(&line), "{line}\n{screen}");
+    }
+}
+
+#[test]
+fn keys_move_jump_and_stay_within_the_sweep() {
+    let (s, file) = example("adc_driver_2n2");
+    let mut app = App::new(vec![(s, None)], Theme::new(false, false));
+    let start = app.probe_hz;
+    // Ten tenths of a decade up is one decade.
+    press(&mut app, KeyCode::Char('.'), 10);
+    assert!((app.probe_hz / (10.0 * start) - 1.0).abs() < 1e-9);
+    press(&mut app, KeyCode::Char(','), 10);
+    assert!((app.probe_hz / start - 1.0).abs() < 1e-9);
+    // `;` visits f−3dB, the crossover and the band edges in frequency order.
+    let r: serde_json::Value =
+        serde_json::from_str(&stdout_of(&["report", &file, "--json"])).unwrap();
+    let mut marks = vec![
+        r["f_3db_hz"].as_f64().unwrap(),
+        r["crossover_hz"].as_f64().unwrap(),
+        r["band_hz"][0].as_f64().unwrap(),
+        r["band_hz"][1].as_f64().unwrap(),
+    ];
+    marks.sort_by(f64::total_cmp);
+    let above: Vec<f64> = marks.iter().copied().filter(|f| *f > start).collect();
+    for want in above.iter().chain(marks.iter()) {
+        app.on_key(key(KeyCode::Char(';')));
+        assert!(
+            (app.probe_hz / want - 1.0).abs() < 1e-12,
+            "{} vs {want}",
+            app.probe_hz
+        );
+    }
+    // The cursor stops at the sweep's ends; a typed frequency outside it
+    // is refused and the cursor stays.
+    press(&mut app, KeyCode::Char('.'), 200);
+    let top = app.slot().analysis.sweep.points.last().unwrap().f_hz;
+    assert_eq!(app.probe_hz, top);
+    app.on_key(key(KeyCode::Char('f')));
+    type_text(&mut app, "0");
+    app.on_key(key(KeyCode::Enter));
+    assert_eq!(app.probe_hz, top);
+    assert!(app.status.contains("outside the sweep"), "{}", app.status);
+}
