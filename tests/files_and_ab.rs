@@ -305,9 +305,10 @@ fn two_candidates_side_by_side() {
     assert_eq!(a.active, 1);
     a.on_key(key(KeyCode::Right)); // B: rf 11k
     let text = screen(&a);
+    // The figures rows (the cursor readout lines read "A @ …").
     let row = |p: &str| {
         text.lines()
-            .find(|l| l.starts_with(p))
+            .find(|l| l.starts_with(p) && !l.contains(" @ "))
             .unwrap_or_else(|| panic!("no {p} row:\n{text}"))
             .to_string()
     };

@@ -49,9 +49,10 @@ fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
     let mut a = app(vec![scenario::demo()]);
     let before = screen(&a, 100, 30);
     assert!(line_with(&before, " rf ").contains("10kΩ"), "{before}");
+    // The figures row (the cursor readout line reads "A @ …").
     let figures_row = |s: &str| {
         s.lines()
-            .find(|l| l.starts_with("A "))
+            .find(|l| l.starts_with("A ") && !l.contains(" @ "))
             .unwrap_or("")
             .to_string()
     };

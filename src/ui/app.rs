@@ -375,6 +375,19 @@ impl App {
         &self.slots[self.active]
     }
 
+    /// The warnings strip: every stage's warnings with its slot, worst
+    /// first (A before B at the same severity).
+    pub fn strip_warnings(&self) -> Vec<(usize, &crate::engine::Warning)> {
+        let mut w: Vec<(usize, &crate::engine::Warning)> = self
+            .slots
+            .iter()
+            .enumerate()
+            .flat_map(|(i, s)| s.analysis.warnings.iter().map(move |x| (i, x)))
+            .collect();
+        w.sort_by_key(|x| std::cmp::Reverse(x.1.severity));
+        w
+    }
+
     pub fn slot_label(i: usize) -> &'static str {
         if i == 0 {
             "A"
@@ -611,7 +624,7 @@ impl App {
                 self.info("cursor frequency (e.g. 10k); Enter applies");
             }
             Action::ScrollWarningsDown => {
-                let n = self.slot().analysis.warnings.len();
+                let n = self.strip_warnings().len();
                 self.warn_scroll = (self.warn_scroll + 1).min(n.saturating_sub(1));
             }
             Action::ScrollWarningsUp => self.warn_scroll = self.warn_scroll.saturating_sub(1),

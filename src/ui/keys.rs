@@ -146,16 +146,16 @@ pub const KEYS: &[Binding] = &[
     },
     Binding {
         keys: &[k('f')],
-        shown: "f",
+        shown: "f , . ;",
         action: Action::ProbeFrequency,
-        help: "type the cursor's frequency",
+        help: "frequency cursor: type it, move ±0.1 decade, jump to marks",
         hint: None,
     },
     Binding {
         keys: &[k(',')],
-        shown: ", . ;",
+        shown: "",
         action: Action::CursorDown,
-        help: "cursor down / up a tenth of a decade; ; jumps to f−3dB, crossover, band",
+        help: "cursor down a tenth of a decade",
         hint: None,
     },
     Binding {

@@ -106,7 +106,7 @@ impl Theme {
     /// Severity symbols: severe, warning, info.
     pub fn symbols(&self) -> [&'static str; 3] {
         if self.ascii {
-            ["!!", "! ", "i "]
+            ["!! ", "!  ", "i  "]
         } else {
             ["✖ ", "▲ ", "• "]
         }

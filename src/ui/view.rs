@@ -51,12 +51,10 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     };
     let width = area.width.max(1) as usize;
     let needed: usize = app
-        .slot()
-        .analysis
-        .warnings
+        .strip_warnings()
         .iter()
         .skip(app.warn_scroll)
-        .map(|w| warning_rows(w, width))
+        .map(|w| warning_rows(w.1, width))
         .sum();
     let n_warn = needed.clamp(1, cap) as u16;
     let [title, body, cursor, figures, warnings, status] = Layout::vertical([
@@ -113,7 +111,7 @@ pub fn ascii_char(c: char) -> char {
         '√' => 'r',
         '−' | '—' | '–' | '─' => '-',
         'Δ' => 'D',
-        '≠' => '*',
+        '≠' => '#',
         '·' | '•' => '.',
         '∥' | '│' => '|',
         '├' => '+',
@@ -229,7 +227,7 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let b = block(app, label);
     let inner = b.inner(area);
     b.render(area, buf);
-    let differs_mark = if t.ascii { "*" } else { "≠" };
+    let differs_mark = if t.ascii { "#" } else { "≠" };
     let mut lines: Vec<Line> = Vec::new();
     let mut selected_line = 0;
     let mut group: Option<Group> = None;
@@ -879,12 +877,14 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 
 /// Rows a warning takes when wrapped to `width` (symbol, severity, code, text).
 fn warning_rows(w: &crate::engine::Warning, width: usize) -> usize {
-    (w.text.chars().count() + w.code.as_str().len() + 12).div_ceil(width.max(1))
+    // Symbol, severity, an A/B tag, the code and the text.
+    (w.text.chars().count() + w.code.as_str().len() + 15).div_ceil(width.max(1))
 }
 
 fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
-    let w = &app.slot().analysis.warnings;
+    let tagged = app.strip_warnings();
+    let w: Vec<&crate::engine::Warning> = tagged.iter().map(|x| x.1).collect();
     // How many warnings fit, each wrapped to the width.
     let width = area.width.max(1) as usize;
     let mut rows = 0;
@@ -907,7 +907,7 @@ fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         String::new()
     };
     let title = if app.slots.len() > 1 {
-        format!(" Warnings {}{more} ", App::slot_label(app.active))
+        format!(" Warnings of A and B{more} ")
     } else {
         format!(" Warnings{more} ")
     };
@@ -923,17 +923,24 @@ fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let lines: Vec<Line> = if w.is_empty() {
         vec![Line::styled("no warnings", t.dim)]
     } else {
-        w.iter()
+        tagged
+            .iter()
             .skip(app.warn_scroll)
             .take(shown)
-            .map(|x| {
+            .map(|&(slot, x)| {
                 let (s, style) = match x.severity {
                     Severity::Severe => (sym[0], t.severe),
                     Severity::Warning => (sym[1], t.warning),
                     Severity::Info => (sym[2], t.info),
                 };
+                let tag = if app.slots.len() > 1 {
+                    format!("{} ", App::slot_label(slot))
+                } else {
+                    String::new()
+                };
                 Line::from(vec![
                     Span::styled(format!("{s}{:<8}", x.severity.name()), style),
+                    Span::styled(tag, t.marker),
                     Span::styled(format!("{} ", x.code), t.dim),
                     Span::raw(x.text.clone()),
                 ])

@@ -1,0 +1,49 @@
+//! The warnings strip with two stages (both stages' warnings, tagged A and
+//! B, worst first) and the ASCII look (the differs mark and the severity
+//! symbols stay apart from trace A's `*`).
+
+mod common;
+use common::{key, screen_at};
+use crossterm::event::KeyCode;
+use loopwright::engine::scenario::Scenario;
+use loopwright::engine::{evaluate, Severity};
+use loopwright::ui::app::App;
+use loopwright::ui::theme::Theme;
+
+fn example(name: &str) -> Scenario {
+    Scenario::load(std::path::Path::new(&format!("scenarios/{name}.ron"))).unwrap()
+}
+
+#[test]
+fn both_stages_warnings_are_in_the_strip_tagged() {
+    // B rings into 10 nF: a severe phase-margin warning of its own.
+    let (a, b) = (example("line_driver_cable"), example("buffer_rings_10n"));
+    let wb = evaluate(&b).warnings;
+    assert!(wb.iter().any(|w| w.severity == Severity::Severe));
+    let app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    assert_eq!(app.active, 0, "A is edited");
+    let screen = screen_at(&app, 120, 40);
+    assert!(screen.contains("Warnings of A and B"), "{screen}");
+    assert!(screen.contains("B phase-margin"), "{screen}");
+    // Worst first across both stages.
+    let strip = app.strip_warnings();
+    assert_eq!(strip.len(), app.slots[0].analysis.warnings.len() + wb.len());
+    assert!(strip.windows(2).all(|w| w[0].1.severity >= w[1].1.severity));
+}
+
+#[test]
+fn ascii_marks_differ_from_trace_a() {
+    let s = example("buffer_rings_10n");
+    let mut app = App::new(vec![(s.clone(), None), (s, None)], Theme::new(false, true));
+    // B differs in rf: the pane marks it.
+    app.on_key(key(KeyCode::Tab));
+    app.on_key(key(KeyCode::Right));
+    let screen = screen_at(&app, 100, 30);
+    assert!(screen.contains("!! severe"), "{screen}");
+    assert!(!screen.contains("!!severe"), "{screen}");
+    let pane_rf = screen
+        .lines()
+        .find(|l| l.contains(" rf "))
+        .unwrap_or_else(|| panic!("{screen}"));
+    assert!(pane_rf.contains('#') && !pane_rf.contains('*'), "{pane_rf}");
+}
