@@ -47,3 +47,47 @@ fn ascii_marks_differ_from_trace_a() {
         .unwrap_or_else(|| panic!("{screen}"));
     assert!(pane_rf.contains('#') && !pane_rf.contains('*'), "{pane_rf}");
 }
+
+/// The selected row carries a pointer, and at 80×24 the pane says how
+/// many rows run past its top and bottom edges.
+#[test]
+fn pane_pointer_and_scroll_marks() {
+    let mut app = App::new(
+        vec![(example("adc_driver_2n2"), None)],
+        Theme::new(false, false),
+    );
+    let screen = screen_at(&app, 80, 24);
+    let rf = screen.lines().find(|l| l.contains("rf ")).unwrap();
+    assert!(rf.contains("▸rf"), "{rf}");
+    assert_eq!(screen.matches('▸').count(), 1, "{screen}");
+    assert!(screen.lines().nth(1).is_some_and(|l| !l.contains('▲')));
+    for _ in 0..12 {
+        app.on_key(key(KeyCode::Down));
+    }
+    let screen = screen_at(&app, 80, 24);
+    let count = |line: &str, arrow: char| -> usize {
+        let at = line
+            .find(arrow)
+            .unwrap_or_else(|| panic!("{arrow} in {line}"));
+        line[at + arrow.len_utf8()..]
+            .split_whitespace()
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap()
+    };
+    let lines: Vec<&str> = screen.lines().collect();
+    let top = count(lines[1], '▲');
+    let bottom_line = lines.iter().find(|l| l.contains('▼')).unwrap();
+    let bottom = count(bottom_line, '▼');
+    // Rows: one per visible parameter and one per group title.
+    let vis = app.visible();
+    let mut groups = vis.iter().map(|p| p.group).collect::<Vec<_>>();
+    groups.dedup();
+    let shown = lines
+        .iter()
+        .skip(2)
+        .take_while(|l| l.starts_with('│'))
+        .count();
+    assert_eq!(top + shown + bottom, vis.len() + groups.len(), "{screen}");
+}

@@ -250,9 +250,15 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         if is_sel {
             selected_line = lines.len();
         }
+        // The selected row: a pointer as well as reverse video.
+        let pointer = match (is_sel, t.ascii) {
+            (false, _) => " ",
+            (true, false) => "▸",
+            (true, true) => ">",
+        };
         let mut spans = vec![
             Span::styled(mark, if diff { t.differs } else { t.normal }),
-            Span::styled(format!(" {:<10}", p.label), row_style),
+            Span::styled(format!("{pointer}{:<10}", p.label), row_style),
         ];
         match (&app.mode, is_sel) {
             (Mode::Edit(field), true) => {
@@ -274,9 +280,38 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let scroll = (selected_line + 1).saturating_sub(h);
     // Keep the group title in view when scrolling back to the top.
     let scroll = scroll.min(lines.len().saturating_sub(h));
+    let below = lines.len().saturating_sub(scroll + h);
     Paragraph::new(lines)
         .scroll((scroll as u16, 0))
         .render(inner, buf);
+    scroll_marks(app, area, (scroll, below), buf);
+}
+
+/// Where the pane's rows run past its edges: "▲ 5 more" in the top
+/// border, "▼ 12 more" in the bottom one.
+fn scroll_marks(
+    app: &App,
+    area: Rect,
+    (above, below): (usize, usize),
+    buf: &mut ratatui::buffer::Buffer,
+) {
+    let (up, down) = if app.theme.ascii {
+        ("^", "v")
+    } else {
+        ("▲", "▼")
+    };
+    for (n, arrow, y) in [
+        (above, up, area.y),
+        (below, down, area.y + area.height.saturating_sub(1)),
+    ] {
+        let text = format!(" {arrow} {n} more ");
+        let w = text.chars().count() as u16;
+        if n == 0 || area.width < w + 4 || area.height < 3 {
+            continue;
+        }
+        let x = area.x + area.width - w - 2;
+        buf.set_string(x, y, &text, app.theme.dim);
+    }
 }
 
 /// The A/B legend for a plot title, or the view hint with one stage.
