@@ -343,7 +343,8 @@ fn two_candidates_side_by_side() {
         first("B ")
     );
     assert!((first("Δ ") - (gb - ga)).abs() < 1.2e-4, "{text}");
-    assert!(text.contains("≠ rf"), "differing parameter marked:\n{text}");
+    // rf differs, and is the selected row (its pointer follows the mark).
+    assert!(text.contains("≠▸rf"), "differing parameter marked:\n{text}");
     assert!(
         text.contains("B ··· dotted"),
         "legend tells the traces apart"

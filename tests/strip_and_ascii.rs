@@ -91,3 +91,49 @@ fn pane_pointer_and_scroll_marks() {
         .count();
     assert_eq!(top + shown + bottom, vis.len() + groups.len(), "{screen}");
 }
+
+/// The figures row: its columns keep their places as the values change
+/// length (gain 11.0 → 9.3 as rg steps up), and at 80×24 with two stages
+/// no column is cut at the right edge.
+#[test]
+fn figures_header_is_stable_and_whole() {
+    let demo = loopwright::engine::scenario::demo();
+    let mut app = App::new(vec![(demo.clone(), None)], Theme::new(false, false));
+    let header = |app: &App| {
+        let s = screen_at(app, 100, 30);
+        s.lines()
+            .find(|l| l.contains(" gain ") && l.contains("f-3dB"))
+            .unwrap()
+            .to_string()
+    };
+    let before = header(&app);
+    app.on_key(key(KeyCode::Up)); // rg
+    for _ in 0..3 {
+        app.on_key(key(KeyCode::Right));
+    }
+    assert!(
+        app.slot().analysis.dc_gain < 10.0,
+        "{}",
+        app.slot().analysis.dc_gain
+    );
+    assert_eq!(header(&app), before);
+    let two = App::new(
+        vec![(demo.clone(), None), (demo, None)],
+        Theme::new(false, false),
+    );
+    let s = screen_at(&two, 80, 24);
+    let head = s
+        .lines()
+        .find(|l| l.contains(" gain ") && l.contains("f-3dB"))
+        .unwrap();
+    let shorts: Vec<String> = loopwright::engine::figures::FIGURES
+        .iter()
+        .map(|f| f.short.replace("{f}", "1k"))
+        .collect();
+    // The row ends with a whole column name (a cut one reads "wa", "oversh").
+    let end = head.trim_end();
+    assert!(
+        shorts.iter().any(|x| end.ends_with(&format!(" {x}"))),
+        "last column is cut:\n{head}"
+    );
+}

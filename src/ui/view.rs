@@ -852,6 +852,21 @@ fn figure_columns(app: &App) -> (Vec<&'static Figure>, usize) {
     (cols, fixed)
 }
 
+/// The figures row keeps at least this many columns, however narrow.
+const MIN_FIGURE_COLUMNS: usize = 5;
+
+/// A usual cell's width for a unit ("-0.9995", "-0.001%", "3.83MHz").
+fn usual_width(unit: crate::engine::figures::Unit) -> usize {
+    use crate::engine::figures::Unit;
+    match unit {
+        Unit::Ratio | Unit::Si(_) | Unit::Percent => 7,
+        Unit::Fraction => 8,
+        Unit::Db => 6,
+        Unit::Degrees | Unit::Count => 4,
+        Unit::Flag => 3,
+    }
+}
+
 fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let probe = compact(app.probe_hz, "");
@@ -865,18 +880,21 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         if app.slots.len() > 1 {
             rows.push(delta_cells(&app.slots[0], &app.slots[1], &cols));
         }
+        // At least a usual cell's width, so columns keep their places
+        // as values change from key to key.
         let widths: Vec<usize> = (0..header.len())
             .map(|c| {
                 rows.iter()
                     .map(|cells| cells[c].chars().count())
-                    .chain(std::iter::once(header[c].chars().count()))
+                    .chain([header[c].chars().count(), usual_width(cols[c].unit)])
                     .max()
                     .unwrap_or(4)
             })
             .collect();
         let total: usize = 2 + widths.iter().map(|w| w + 1).sum::<usize>();
-        // The optional columns go first when the row is too wide.
-        if total <= area.width as usize || cols.len() == fixed {
+        // The optional columns go first when the row is too wide, then
+        // the key figures from the end, down to the first few.
+        if total <= area.width as usize || cols.len() <= fixed.min(MIN_FIGURE_COLUMNS) {
             break widths;
         }
         cols.pop();
