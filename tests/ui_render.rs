@@ -126,6 +126,12 @@ fn sizes_render_without_panicking() {
     for (w, h) in [(0, 0), (1, 1), (2, 2), (20, 6)] {
         assert!(!screen(&a, w, h).contains("Parameters"), "{w}x{h}");
     }
+    // At 20×5 the request wraps and is whole: every word of it shows.
+    let tiny = screen(&a, 20, 5);
+    let words: Vec<&str> = tiny.split_whitespace().collect();
+    for w in "Terminal 20x5 is too small: enlarge it to at least 80x24".split(' ') {
+        assert!(words.contains(&w), "{w} missing at 20x5:\n{tiny}");
+    }
 }
 
 #[test]

@@ -460,13 +460,20 @@ mod tests {
 pub fn printable(s: &str) -> String {
     let mut out = String::with_capacity(s.len());
     for c in s.chars() {
-        if c.is_control() {
+        if c.is_control() || is_bidi_control(c) {
             out.push_str(&c.escape_unicode().to_string());
         } else {
             out.push(c);
         }
     }
     out
+}
+
+/// The bidirectional formatting characters of Unicode Standard Annex #9
+/// (ALM, LRM, RLM, the embeddings, overrides and isolates): invisible,
+/// they reorder the rest of a terminal line.
+fn is_bidi_control(c: char) -> bool {
+    matches!(c, '\u{061C}' | '\u{200E}' | '\u{200F}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}')
 }
 
 #[cfg(test)]
@@ -481,6 +488,13 @@ mod printable_tests {
             printable("a\u{1b}[2Jb\u{7}\u{7f}\u{9b}µΩ"),
             "a\\u{1b}[2Jb\\u{7}\\u{7f}\\u{9b}µΩ"
         );
+    }
+
+    #[test]
+    fn bidi_marks_are_escaped() {
+        // U+200F RIGHT-TO-LEFT MARK and U+202E RIGHT-TO-LEFT OVERRIDE are
+        // bidirectional formatting characters (Unicode Standard Annex #9).
+        assert_eq!(printable("a\u{200f}b\u{202e}c"), "a\\u{200f}b\\u{202e}c");
     }
 }
 

@@ -37,9 +37,10 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             "Terminal {}x{} is too small: enlarge it to at least {MIN_W}x{MIN_H}",
             area.width, area.height
         );
-        if area.height > 0 {
-            Paragraph::new(msg).render(Rect { height: 1, ..area }, buf);
-        }
+        // Wrapped, so the whole request shows even at 20×5.
+        Paragraph::new(msg)
+            .wrap(ratatui::widgets::Wrap { trim: true })
+            .render(area, buf);
         return;
     }
     let figures_h = if app.slots.len() > 1 { 4 } else { 2 };
