@@ -43,7 +43,7 @@ fn ascii_marks_differ_from_trace_a() {
     assert!(!screen.contains("!!severe"), "{screen}");
     let pane_rf = screen
         .lines()
-        .find(|l| l.contains(" rf "))
+        .find(|l| l.contains(">rf "))
         .unwrap_or_else(|| panic!("{screen}"));
     assert!(pane_rf.contains('#') && !pane_rf.contains('*'), "{pane_rf}");
 }

@@ -40,8 +40,17 @@ fn screen(app: &App, w: u16, h: u16) -> String {
     buffer_text(t.backend().buffer()).join("\n")
 }
 
+/// The line holding `needle`; a leading space also matches the selected
+/// row's pointer (`▸rf `, `>rf ` in ASCII).
 fn line_with<'a>(screen: &'a str, needle: &str) -> &'a str {
-    screen.lines().find(|l| l.contains(needle)).unwrap_or("")
+    let pointed: Vec<String> = match needle.strip_prefix(' ') {
+        Some(rest) => vec![format!("▸{rest}"), format!(">{rest}")],
+        None => Vec::new(),
+    };
+    screen
+        .lines()
+        .find(|l| l.contains(needle) || pointed.iter().any(|p| l.contains(p.as_str())))
+        .unwrap_or("")
 }
 
 #[test]

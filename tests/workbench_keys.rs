@@ -86,7 +86,7 @@ fn model_numbers_step_1_2_5_and_temperature_by_5() {
     assert_eq!(a.slots[0].scenario.temp_c, t + 5.0);
     press(&mut a, KeyCode::Left, 3);
     assert_eq!(a.slots[0].scenario.temp_c, t - 10.0);
-    assert!(screen_at(&a, 100, 30).contains(" temp "));
+    assert!(screen_at(&a, 100, 30).contains("▸temp "));
 }
 
 #[test]
@@ -160,13 +160,14 @@ fn warnings_scroll() {
 }
 
 #[test]
-fn ascii_marks_differing_parameters_with_a_star() {
+fn ascii_marks_differing_parameters_with_a_hash() {
     let mut a = App::new(vec![(scenario::demo(), None)], Theme::new(false, true));
     a.on_key(key(KeyCode::Char('c')));
     a.on_key(key(KeyCode::Tab));
     a.on_key(key(KeyCode::Right));
     let text = screen_at(&a, 100, 30);
-    assert!(text.contains("* rf"), "{text}");
+    // `#` (not trace A's `*`), then the selected row's pointer `>`.
+    assert!(text.contains("#>rf"), "{text}");
     assert!(!text.contains('≠'));
 }
 
