@@ -232,8 +232,8 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     writeln!(w)?;
     writeln!(
         w,
-        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
-        "f", "gain", "phase", "Zout", "phase", "Zin", "loop", "phase", "noise"
+        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+        "f", "gain", "phase", "Zout", "phase", "Zout pin", "Zin", "loop", "phase", "noise"
     )?;
     let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
     let deg = |v: Option<f64>| {
@@ -244,12 +244,13 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     for p in points {
         writeln!(
             w,
-            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
+            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
             fmt_eng(p.f_hz, "Hz"),
             ratio(p.gain_mag),
             deg(p.gain_phase_deg),
             num(p.zout_mag, "Ω"),
             deg(p.zout_phase_deg),
+            num(p.zout_pin_mag, "Ω"),
             p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
             ratio(p.loop_mag),
             deg(p.loop_phase_deg),
