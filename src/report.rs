@@ -23,6 +23,8 @@ pub struct PointReport {
     pub gain_phase_deg: Option<f64>,
     pub zout_mag: Option<f64>,
     pub zout_phase_deg: Option<f64>,
+    /// |Zout| at the amplifier pin (before riso; riso and load removed).
+    pub zout_pin_mag: Option<f64>,
     pub zin_mag: Option<f64>,
     pub zin_phase_deg: Option<f64>,
     pub loop_mag: Option<f64>,
@@ -80,6 +82,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             gain_phase_deg: fin(phase_deg(p.gain)),
             zout_mag: fin(p.zout.norm()),
             zout_phase_deg: fin(phase_deg(p.zout)),
+            zout_pin_mag: fin(p.zout_pin.norm()),
             zin_mag: p.zin.and_then(|z| fin(z.norm())),
             zin_phase_deg: p.zin.and_then(|z| fin(phase_deg(z))),
             loop_mag: fin(p.loop_gain.norm()),
@@ -93,6 +96,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             gain_phase_deg: None,
             zout_mag: None,
             zout_phase_deg: None,
+            zout_pin_mag: None,
             zin_mag: None,
             zin_phase_deg: None,
             loop_mag: None,
@@ -228,8 +232,8 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     writeln!(w)?;
     writeln!(
         w,
-        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
-        "f", "gain", "phase", "Zout", "phase", "Zin", "loop", "phase", "noise"
+        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+        "f", "gain", "phase", "Zout", "phase", "Zout pin", "Zin", "loop", "phase", "noise"
     )?;
     let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
     let deg = |v: Option<f64>| {
@@ -240,12 +244,13 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     for p in points {
         writeln!(
             w,
-            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>10} {:>8} {:>14}",
+            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
             fmt_eng(p.f_hz, "Hz"),
             ratio(p.gain_mag),
             deg(p.gain_phase_deg),
             num(p.zout_mag, "Ω"),
             deg(p.zout_phase_deg),
+            num(p.zout_pin_mag, "Ω"),
             p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
             ratio(p.loop_mag),
             deg(p.loop_phase_deg),

@@ -528,3 +528,113 @@ fn follower_loop_gain_is_exact_at_the_top_of_the_a0_range() {
     assert_rel("loop gain at DC", a.loop_gain_dc, 1e9, 1e-6);
     assert_rel("DC gain", a.dc_gain, 1e9 / (1.0 + 1e9), 1e-12);
 }
+
+/// Closed-loop output impedance at the amplifier pin, riso and load
+/// removed, source EMF shorted: KCL at the pin with a test current I
+/// (textbook feedback theory: ro/(1 + A·β) in parallel with the feedback
+/// network, β = rb/(rb + rf) from the divider, rb the resistance from the
+/// − input to ground — rg, or rg + source r for an inverting stage):
+///   I/V = 1/(rf + rb) + (1 + A(jf)·β)/ro.
+/// Exact for this model with no rin, no cin and no cf (no input currents).
+fn pin_closed_form(s: &loopwright::engine::Scenario, rb: f64, f: f64) -> num_complex::Complex64 {
+    let rf = s.stage.rf.unwrap_or(0.0);
+    let beta = rb / (rb + rf);
+    let one = num_complex::Complex64::new(1.0, 0.0);
+    one / ((one + open_loop(s, f) * beta) / s.amp.ro + 1.0 / (rf + rb))
+}
+
+#[test]
+fn pin_impedance_without_riso_is_the_output_impedance() {
+    // riso = 0: the pin is the load terminal, so Zout_pin = Zout (both
+    // with the load removed) and both follow the KCL closed form above.
+    let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+    s.amp.ro = 75.0;
+    s.load.r = Some(1e3);
+    s.load.c = Some(100e-12);
+    let c = Circuit::new(&s);
+    for f in [0.0, 100.0, 1e4, 1e6] {
+        let p = c.eval(f).unwrap();
+        let want = pin_closed_form(&s, 1e3, f);
+        // Measured error ≤ 1e-12; tolerance 1e-9.
+        assert!((p.zout_pin - want).norm() <= 1e-9 * want.norm(), "{f} Hz");
+        assert!((p.zout_pin - p.zout).norm() <= 1e-9 * want.norm(), "{f} Hz");
+    }
+    // Behind a 1 nΩ load the loaded impedance is the load itself: taking
+    // the load out again must not cancel the pin's digits away.
+    s.load.r = Some(1e-9);
+    let p = Circuit::new(&s).eval(1e3).unwrap();
+    let want = pin_closed_form(&s, 1e3, 1e3);
+    assert!(
+        (p.zout_pin - want).norm() <= 1e-9 * want.norm(),
+        "1 nΩ load"
+    );
+}
+
+#[test]
+fn pin_impedance_excludes_the_isolation_resistor() {
+    // riso R, no load, no cf: R carries no current with the load terminal
+    // open, so Zout = R + Zout_pin (series resistances) and at DC, where
+    // both are resistive, |Zout_pin| = |Zout| − R. The pin side is the KCL
+    // closed form, whatever R is.
+    let mut s = plain(Topology::NonInverting, 1e3, 9e3);
+    s.amp.ro = 75.0;
+    s.stage.riso = Some(100.0);
+    let c = Circuit::new(&s);
+    let dc = c.eval(0.0).unwrap();
+    let want = pin_closed_form(&s, 1e3, 0.0).re;
+    // ro/(1 + a0/10) ∥ 10 kΩ ≈ 7.5 mΩ.
+    // Measured errors 1e-16 and 2.4e-12 (100 Ω − 7.5 mΩ cancels about
+    // four digits of Zout); tolerance 1e-9.
+    assert_rel("Zout_pin at DC", dc.zout_pin.norm(), want, 1e-9);
+    assert_rel(
+        "|Zout| − R at DC",
+        dc.zout_pin.norm(),
+        dc.zout.norm() - 100.0,
+        1e-9,
+    );
+    for f in [10.0, 1e3, 1e5] {
+        let p = c.eval(f).unwrap();
+        let want = pin_closed_form(&s, 1e3, f);
+        assert!((p.zout_pin - want).norm() <= 1e-9 * want.norm(), "{f} Hz");
+    }
+}
+
+#[test]
+fn pin_impedance_where_the_loop_gain_is_near_one() {
+    // Where |A·β| = 1 the feedback no longer holds the pin down: the
+    // closed form gives about ro/|1 + A·β| with A·β ≈ −j, |1 + A·β| ≈ √2.
+    // riso and a heavy RC load are attached and must not show in it; an
+    // inverting stage with source r checks that the source EMF is shorted
+    // with its r kept in the divider (rb = rg + source r).
+    let mut non = plain(Topology::NonInverting, 1e3, 9e3);
+    non.load.r = Some(100.0);
+    non.load.c = Some(10e-9);
+    let mut inv = plain(Topology::Inverting, 1e3, 10e3);
+    inv.source.r = 1e3;
+    inv.load.r = Some(1e3);
+    let mut fol = follower();
+    fol.load.c = Some(1e-9);
+    for (mut s, rb) in [(non, 1e3), (inv, 2e3), (fol, f64::INFINITY)] {
+        s.amp.ro = 75.0;
+        s.stage.riso = Some(50.0);
+        let beta = if rb.is_finite() {
+            rb / (rb + s.stage.rf.unwrap())
+        } else {
+            1.0
+        };
+        let fc = unity_crossing(1.0, 1e9, |f| open_loop(&s, f).norm() * beta);
+        let want = if rb.is_finite() {
+            pin_closed_form(&s, rb, fc)
+        } else {
+            // Follower: no divider to ground, ro/(1 + A).
+            75.0 / (1.0 + open_loop(&s, fc))
+        };
+        let got = Circuit::new(&s).eval(fc).unwrap().zout_pin;
+        // Measured error ≤ 1e-12; tolerance 1e-9.
+        assert!(
+            (got - want).norm() <= 1e-9 * want.norm(),
+            "{:?} at {fc} Hz: {got} vs {want}",
+            s.stage.topology
+        );
+    }
+}

@@ -47,13 +47,14 @@ const KEYS: [&str; 20] = [
 ];
 
 /// The keys of one `--at` point (README).
-const POINT_KEYS: [&str; 11] = [
+const POINT_KEYS: [&str; 12] = [
     "f_hz",
     "gain_mag",
     "gain_db",
     "gain_phase_deg",
     "zout_mag",
     "zout_phase_deg",
+    "zout_pin_mag",
     "zin_mag",
     "zin_phase_deg",
     "loop_mag",
@@ -150,6 +151,34 @@ fn point_values_match_closed_forms() {
     }
     // Without rin the + input is open: Zin is null at every frequency.
     assert!(p["zin_mag"].is_null() && p["zin_phase_deg"].is_null());
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn pin_impedance_point_leaves_out_the_isolation_resistor() {
+    // The closed-form stage with riso 100 Ω and a 1 kΩ load. At the pin
+    // (riso and load removed) KCL gives, with A and β as above,
+    //   1/Zout_pin = 1/(rf + rg) + (1 + A·β)/ro,
+    // and at the load terminal (load removed) riso is in series:
+    //   Zout = riso + Zout_pin (series resistances, no current elsewhere).
+    let text = common::CLOSED_FORM_RON
+        .replace("tolerance: 0.01)", "tolerance: 0.01, riso: 100.0)")
+        .replace("load: ()", "load: (r: 1000.0)");
+    let (dir, path) = scenario_file("pinz", &text);
+    let v = json(&["report", path.to_str().unwrap(), "--json", "--at", "1k"]);
+    let p = &v["points"][0];
+    let one = num_complex::Complex64::new(1.0, 0.0);
+    let a = 1e8 / num_complex::Complex64::new(1.0, 1e3 / 1e3);
+    let pin = one / (1.0 / 10e3 + (one + a * 0.1) / 10.0);
+    let got = p["zout_pin_mag"].as_f64().unwrap();
+    // Expected error about 1e-15; tolerance 1e-9.
+    assert!(
+        ((got - pin.norm()) / pin.norm()).abs() < 1e-9,
+        "{got} vs {pin}"
+    );
+    let zout = p["zout_mag"].as_f64().unwrap();
+    let want = (100.0 + pin).norm();
+    assert!(((zout - want) / want).abs() < 1e-9, "{zout} vs {want}");
     std::fs::remove_dir_all(&dir).ok();
 }
 

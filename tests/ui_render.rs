@@ -532,3 +532,44 @@ fn help_lists_every_key_at_80x24() {
         assert!(text.contains(b.help), "{}\n{text}", b.help);
     }
 }
+
+#[test]
+fn impedance_plot_says_what_zout_is_and_draws_the_pin() {
+    // Issue 12, item 2: the title says where Zout is taken (the load
+    // terminal, riso included, load removed), and |Zout| at the amplifier
+    // pin is a second trace labelled "pin" when riso makes it differ.
+    let mut s = scenario::demo();
+    s.stage.riso = Some(100.0);
+    let a = app(vec![s.clone()]);
+    let small = screen(&a, 80, 24);
+    assert!(line_with(&small, "Impedance").contains("|Zout| pin |Zin| Ω"));
+    let caption = "Zout at load, riso in, no load; pin: at amp";
+    assert!(small.contains(caption), "{small}");
+    // The pin label sits in the impedance plot, between title and caption.
+    let inside = |screen: &str| -> String {
+        screen
+            .lines()
+            .skip_while(|l| !l.contains("Impedance"))
+            .skip(1)
+            .take_while(|l| !l.contains("Zout at"))
+            .collect()
+    };
+    assert!(inside(&small).contains("pin"), "{small}");
+    let wide = screen(&a, 200, 60);
+    assert!(
+        wide.contains(
+            "Zout at the load terminal, riso included, load removed · \
+             pin: at the amplifier pin, before riso"
+        ),
+        "{wide}"
+    );
+    // Without riso the pin is the load terminal: one curve, no pin label.
+    s.stage.riso = None;
+    let plain = screen(&app(vec![s]), 80, 24);
+    assert!(plain.contains(caption), "{plain}");
+    let inside = inside(&plain);
+    assert!(
+        !inside.contains("pin") && inside.contains("Zout"),
+        "{plain}"
+    );
+}

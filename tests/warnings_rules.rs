@@ -114,8 +114,77 @@ fn resistor_noise_share_at_the_threshold() {
             );
             // rg and rf carry equal halves of it.
             assert!(w.text.contains("alone 26 %"), "{}", w.text);
+            // The largest single part the design can change is en's 48 %.
+            assert!(
+                w.text
+                    .contains("amp voltage noise (48 %): an amplifier with lower voltage noise"),
+                "{}",
+                w.text
+            );
         }
     }
+}
+
+/// Output noise power densities of a non-inverting stage around an ideal
+/// amplifier (textbook noise analysis, Johnson–Nyquist 4kTR with k from SI
+/// 2019, 25 °C): the source's and en through the noise gain G = 1 + rf/rg,
+/// rg's current 4kT/rg through rf, rf's voltage straight to the output.
+/// Returns (source r, rg, rf, en) in V²/Hz.
+fn non_inverting_psd(rs: f64, rg: f64, rf: f64, en: f64) -> [f64; 4] {
+    let kt4 = 4.0 * 1.380649e-23 * 298.15;
+    let g = 1.0 + rf / rg;
+    [
+        kt4 * rs * g * g,
+        kt4 / rg * rf * rf,
+        kt4 * rf,
+        en * en * g * g,
+    ]
+}
+
+#[test]
+fn source_resistance_that_dominates_the_noise_is_named_not_advised_on() {
+    // rg 100 Ω, rf 200 Ω (G = 3), source r 3.3 kΩ, noiseless amplifier:
+    // source 9·4kT·3300 against 4kT·(400 + 200): 98 % from the source.
+    // Flat over the band, so its rms is its density · √(100 kHz − 10 Hz).
+    let mut s = fast(plain(Topology::NonInverting, 100.0, 200.0));
+    s.source.r = 3300.0;
+    let psd = non_inverting_psd(3300.0, 100.0, 200.0, 0.0);
+    let total: f64 = psd.iter().sum();
+    let source = psd[0] / total;
+    assert!((source - 0.98).abs() < 1e-3, "{source}");
+    let floor = (psd[0] * (100e3 - 10.0)).sqrt();
+    let w = warning(&s, "resistor-noise").unwrap();
+    let says = format!(
+        "the source resistance makes {:.0} % of the output noise power: \
+         the stage cannot do better than {} rms",
+        source * 100.0,
+        loopwright::engine::values::fmt_eng(floor, "V")
+    );
+    assert!(w.text.contains(&says), "{}\n{says}", w.text);
+    assert!(!w.text.contains("lower resistor values"), "{}", w.text);
+    // rg is what the design can change most: 400 of 30 300 parts, 1.3 %.
+    let rg = format!("rg is the largest ({:.0} %)", psd[1] / total * 100.0);
+    assert!(w.text.contains(&rg), "{}", w.text);
+}
+
+#[test]
+fn feedback_resistor_that_dominates_the_noise_gets_the_resistor_advice() {
+    // rg 10 kΩ, rf 5 kΩ (G = 1.5): rf's 4kT·5k against rg's 4kT·2.5k,
+    // with source r 100 Ω and en 1 nV/√Hz far below: rf is the largest.
+    let mut s = fast(plain(Topology::NonInverting, 10e3, 5e3));
+    s.source.r = 100.0;
+    s.amp.vnoise = 1e-9;
+    let psd = non_inverting_psd(100.0, 10e3, 5e3, 1e-9);
+    let total: f64 = psd.iter().sum();
+    let w = warning(&s, "resistor-noise").unwrap();
+    let resistors = (psd[0] + psd[1] + psd[2]) / total * 100.0;
+    let rf = psd[2] / total * 100.0;
+    let says = format!(
+        "resistor thermal noise is {resistors:.0} % of the output noise power \
+         (rf alone {rf:.0} %); lower resistor values reduce it, rf first ({rf:.0} %)"
+    );
+    assert_eq!(w.text, says);
+    assert!(!w.text.contains("source resistance makes"), "{}", w.text);
 }
 
 #[test]

@@ -27,8 +27,12 @@ pub struct Point {
     pub gain: C64,
     /// Loop gain (return ratio of the controlled source).
     pub loop_gain: C64,
-    /// Output impedance at the load terminal, load removed.
+    /// Output impedance at the load terminal, load removed, riso included
+    /// (source EMF shorted, its r in place).
     pub zout: C64,
+    /// Output impedance at the amplifier's output pin (before riso), with
+    /// riso and the load removed (source EMF shorted, its r in place).
+    pub zout_pin: C64,
     /// Input impedance seen by the source, source r excluded; None = open.
     pub zin: Option<C64>,
     /// Output noise density contributions, V²/Hz, in netlist noise order.
@@ -79,11 +83,14 @@ impl Circuit {
         Some(lu)
     }
 
-    /// Zout with the load removed from the matrix: one more solve, for
-    /// the points where taking the load out of Z∥ would cancel digits.
-    fn zout_unloaded(&self, s: C64) -> Option<C64> {
+    /// The driving-point impedance at `node` with the load removed from
+    /// the matrix: one more factorisation, for the points where taking the
+    /// load out of the loaded impedance would cancel digits. At the
+    /// amplifier pin this is Zout_pin: without the load, riso carries no
+    /// current and the load terminal floats.
+    fn unloaded_at(&self, s: C64, node: Option<usize>) -> Option<C64> {
         let net = &self.net;
-        let o = net.out?;
+        let o = node?;
         let mut m = [[ZERO; MAXN]; MAXN];
         net.stamp_into(s, &mut m, LoadState::Removed);
         let lu = Lu::factor(m, net.dim).ok()?;
@@ -92,19 +99,33 @@ impl Circuit {
         Some(lu.solve(&e)[o])
     }
 
-    /// Zout (load removed) from Z∥ = Zout ∥ load: 1/(1/Z∥ − Y_L), solved
-    /// again without the load when that subtraction would lose more than
-    /// about six digits (a high Zout behind a low load).
-    fn zout_from_parallel(&self, s: C64, z_par: C64) -> C64 {
-        let yl = self.net.load_admittance(s);
-        if yl == ZERO {
+    /// The impedance at `node` without the shunt `y` that the loaded
+    /// driving-point impedance `z_par` includes: 1/(1/Z∥ − y), solved again
+    /// without the load when that subtraction would lose more than about
+    /// six digits (a high impedance behind a low load).
+    fn unshunted(&self, s: C64, node: Option<usize>, z_par: C64, y: C64) -> C64 {
+        if y == ZERO {
             return z_par;
         }
-        let kept = C64::new(1.0, 0.0) - yl * z_par;
+        let kept = C64::new(1.0, 0.0) - y * z_par;
         if kept.norm() > 1e-6 {
             return z_par / kept;
         }
-        self.zout_unloaded(s).unwrap_or(z_par / kept)
+        self.unloaded_at(s, node).unwrap_or(z_par / kept)
+    }
+
+    /// Zout_pin: the driving-point impedance at the amplifier's output pin
+    /// (one more pair of triangular solves with the same factors), with
+    /// the riso + load branch taken out.
+    fn zout_pin(&self, lu: &Lu, s: C64) -> C64 {
+        let net = &self.net;
+        let Some(a) = net.amp_node else {
+            return ZERO;
+        };
+        let mut e = [ZERO; MAXN];
+        e[a] = C64::new(1.0, 0.0);
+        let z_par = lu.solve(&e)[a];
+        self.unshunted(s, net.amp_node, z_par, net.pin_shunt_admittance(s))
     }
 
     /// Like [`Circuit::eval`], with all-zero figures where the matrix is
@@ -115,6 +136,7 @@ impl Circuit {
             gain: ZERO,
             loop_gain: ZERO,
             zout: ZERO,
+            zout_pin: ZERO,
             zin: None,
             noise_psd: [0.0; MAX_NOISE],
             signals: Signals::default(),
@@ -206,7 +228,8 @@ impl Circuit {
             lu.solve_transposed_into(&eo, &mut z);
         }
         let z_par = Netlist::node_v(&z[..n], net.out);
-        let zout = self.zout_from_parallel(s, z_par);
+        let zout = self.unshunted(s, net.out, z_par, net.load_admittance(s));
+        let zout_pin = self.zout_pin(&lu, s);
         let mut noise_psd = [0.0; MAX_NOISE];
         for (k, src) in net.noise.iter().enumerate() {
             let h = match src.coupling {
@@ -220,6 +243,7 @@ impl Circuit {
             gain,
             loop_gain,
             zout,
+            zout_pin,
             zin,
             noise_psd,
             signals: self.signals_of(s, &x[..n]),

@@ -125,6 +125,9 @@ pub struct Netlist {
     model: AmpModel,
     pub out: Option<usize>,
     pub term: Option<usize>,
+    /// The isolation resistor between the amplifier pin and the load
+    /// terminal, ohms (0 when absent: the two are one node).
+    pub riso: f64,
     /// Load at the out node (removed for Zout).
     pub load_g: f64,
     pub load_c: f64,
@@ -460,6 +463,7 @@ impl Netlist {
             model,
             out: node(Out),
             term: node(Term),
+            riso: s.stage.riso.unwrap_or(0.0),
             load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
             load_c: s.load.c.unwrap_or(0.0),
             noise,
@@ -488,6 +492,17 @@ impl Netlist {
     /// Load admittance at s.
     pub fn load_admittance(&self, s: C64) -> C64 {
         self.load_g + s * self.load_c
+    }
+
+    /// The admittance the amplifier pin sees into riso and the load, at s
+    /// (the load alone when riso is absent): the shunt removed for Zout_pin.
+    pub fn pin_shunt_admittance(&self, s: C64) -> C64 {
+        let yl = self.load_admittance(s);
+        if self.out == self.amp_node || self.riso == 0.0 {
+            yl
+        } else {
+            yl / (C64::new(1.0, 0.0) + self.riso * yl)
+        }
     }
 
     /// The full matrix at s (load attached, amplifier active).

@@ -32,8 +32,10 @@ pub struct Traces {
     pub gain_phase: Vec<(f64, f64)>,
     pub loop_db: Vec<(f64, f64)>,
     pub loop_phase: Vec<(f64, f64)>,
-    /// log10 |Z| in ohms.
+    /// log10 |Z| in ohms: Zout at the load terminal (riso included, load
+    /// removed), Zout_pin at the amplifier pin (riso and load removed), Zin.
     pub zout: Vec<(f64, f64)>,
+    pub zout_pin: Vec<(f64, f64)>,
     pub zin: Vec<(f64, f64)>,
     /// log10 of the density in V/√Hz.
     pub noise: Vec<(f64, f64)>,
@@ -62,6 +64,7 @@ impl Traces {
                     .map(|(p, ph)| (lf(p), *ph)),
             ),
             zout: finite(pts.iter().map(|p| (lf(p), p.zout.norm().log10()))),
+            zout_pin: finite(pts.iter().map(|p| (lf(p), p.zout_pin.norm().log10()))),
             zin: finite(
                 pts.iter()
                     .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),

@@ -133,6 +133,9 @@ pub const PEAKING_SEVERE_DB: f64 = 3.0;
 pub const HEAVY_LOAD_OHM: f64 = 300.0;
 /// Resistors' share of the output noise power above which they "dominate".
 pub const RESISTOR_NOISE_SHARE: f64 = 0.5;
+/// The source resistance's share above which it, not the design, sets the
+/// noise (the resistor-noise warning then says so instead of advising).
+pub const SOURCE_NOISE_SHARE: f64 = 0.5;
 /// Output headroom below this share of the supply span is a warning
 /// (common practice: rails and swing vary with load and temperature).
 pub const HEADROOM_WARN_SHARE: f64 = 0.05;
@@ -395,16 +398,71 @@ fn resistor_noise(cx: &Context, w: &mut Vec<Warning>) {
     if share <= RESISTOR_NOISE_SHARE || a.noise_rms <= 0.0 {
         return;
     }
-    let top = resistors
+    let source: Vec<_> = resistors
         .iter()
-        .max_by(|x, y| x.share.total_cmp(&y.share))
-        .map(|n| format!(" ({} alone {:.0} %)", n.label, n.share * 100.0))
-        .unwrap_or_default();
-    let text = format!(
-        "resistor thermal noise is {:.0} % of the output noise power{top}; lower resistor values reduce it",
-        share * 100.0
-    );
+        .filter(|n| n.kind == NoiseKind::SourceResistance)
+        .collect();
+    let source_share: f64 = source.iter().map(|n| n.share).sum();
+    // The largest source the design can change: not the source resistance.
+    let changeable = a
+        .noise_sources
+        .iter()
+        .filter(|n| n.kind != NoiseKind::SourceResistance && n.share > 0.0)
+        .max_by(|x, y| x.share.total_cmp(&y.share));
+    let text = if source_share > SOURCE_NOISE_SHARE {
+        let floor = source.iter().map(|n| n.rms * n.rms).sum::<f64>().sqrt();
+        let then = changeable
+            .map(|n| {
+                format!(
+                    "; of what the design can change, {} is the largest ({:.0} %)",
+                    n.label,
+                    n.share * 100.0
+                )
+            })
+            .unwrap_or_default();
+        format!(
+            "the source resistance makes {:.0} % of the output noise power: the stage cannot \
+             do better than {} rms over the band at this gain (the source's own noise){then}",
+            source_share * 100.0,
+            fmt_eng(floor, "V")
+        )
+    } else {
+        let top = resistors
+            .iter()
+            .max_by(|x, y| x.share.total_cmp(&y.share))
+            .map(|n| format!(" ({} alone {:.0} %)", n.label, n.share * 100.0))
+            .unwrap_or_default();
+        format!(
+            "resistor thermal noise is {:.0} % of the output noise power{top}{}",
+            share * 100.0,
+            changeable.map(noise_advice).unwrap_or_default()
+        )
+    };
     push(w, Code::ResistorNoise, Severity::Info, text);
+}
+
+/// What to do about the largest noise source the design can change.
+fn noise_advice(n: &super::analysis::NoiseShare) -> String {
+    let pct = n.share * 100.0;
+    match n.kind {
+        NoiseKind::StageResistor => {
+            format!(
+                "; lower resistor values reduce it, {} first ({pct:.0} %)",
+                n.label
+            )
+        }
+        NoiseKind::AmpVoltage => format!(
+            "; the largest part the design can change is the {} ({pct:.0} %): \
+             an amplifier with lower voltage noise reduces it",
+            n.label
+        ),
+        NoiseKind::AmpCurrent => format!(
+            "; the largest part the design can change is the {} ({pct:.0} %): \
+             an amplifier with lower current noise, or lower resistance at its inputs, reduces it",
+            n.label
+        ),
+        NoiseKind::SourceResistance => String::new(),
+    }
 }
 
 /// What the amplifier output drives at DC: the feedback network and the load.

@@ -784,12 +784,20 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     } else {
         String::new()
     };
-    let title = format!(" Impedance |Zout| |Zin| Ω{ab} ");
-    let b = block(app, title);
+    let title = format!(" Impedance |Zout| pin |Zin| Ω{ab} ");
+    let b =
+        block(app, title).title_bottom(Line::styled(impedance_caption(area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     let x = X_WINDOW;
-    let mut tr = traces(app, |s| &s.traces.zout, Some("Zout"), Joining::Continuous);
+    // The pin traces first, under Zout: without riso the two coincide.
+    let mut tr = pin_traces(app);
+    tr.extend(traces(
+        app,
+        |s| &s.traces.zout,
+        Some("Zout"),
+        Joining::Continuous,
+    ));
     for (i, s) in app.slots.iter().enumerate() {
         tr.push(Trace {
             points: &s.traces.zin,
@@ -811,6 +819,40 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         "",
     );
     plot(app, tr, x, y, Vec::new()).render(inner, buf);
+}
+
+/// Under the impedance plot: where each Zout is taken, as long as it fits.
+fn impedance_caption(width: u16) -> String {
+    let room = usize::from(width.saturating_sub(2));
+    [
+        "Zout at the load terminal, riso included, load removed · pin: at the amplifier pin, before riso",
+        "Zout at the load terminal (riso in, load removed) · pin: before riso",
+        "Zout at load, riso in, no load; pin: at amp",
+        "Zout at load, riso in, no load",
+    ]
+    .iter()
+    .map(|t| format!(" {t} "))
+    .find(|t| t.chars().count() <= room)
+    .unwrap_or_default()
+}
+
+/// |Zout| at the amplifier pin (riso and load removed), per stage in its
+/// stroke, dim; labelled "pin" where riso makes it differ from Zout.
+fn pin_traces(app: &App) -> Vec<Trace<'_>> {
+    app.slots
+        .iter()
+        .enumerate()
+        .map(|(i, s)| Trace {
+            points: &s.traces.zout_pin,
+            style: app.theme.dim,
+            stroke: slot_style(app, i).1,
+            label: (i == app.active
+                && crate::engine::scenario::present(s.scenario.stage.riso).is_some())
+            .then(|| "pin".to_string()),
+            label_at: 0.3,
+            joining: Joining::Continuous,
+        })
+        .collect()
 }
 
 /// Compact text for a value in a table cell (no space before the unit).
