@@ -448,7 +448,7 @@ impl Pen {
                 continue;
             }
             self.last = Some(p);
-            if self.count % self.every == 0 {
+            if self.count.is_multiple_of(self.every) {
                 d.set(p.0, p.1);
             }
             self.count += 1;
@@ -481,12 +481,10 @@ fn clip(
             t1 = t1.min(q / p);
         }
     }
-    (t0 <= t1).then(|| {
-        (
-            (a.0 + t0 * d.0, a.1 + t0 * d.1),
-            (a.0 + t1 * d.0, a.1 + t1 * d.1),
-        )
-    })
+    (t0 <= t1).then_some((
+        (a.0 + t0 * d.0, a.1 + t0 * d.1),
+        (a.0 + t1 * d.0, a.1 + t1 * d.1),
+    ))
 }
 
 /// A trace's dots: joined segments (not across a phase wrap where asked),
