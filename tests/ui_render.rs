@@ -573,3 +573,105 @@ fn impedance_plot_says_what_zout_is_and_draws_the_pin() {
         "{plain}"
     );
 }
+
+/// The demo as a follower whose second pole is set (by bisection) for
+/// 2 dB of peaking, by the engine's own peaking figure (checked against
+/// the second-order damping formula in engine_checks).
+fn peaking_2db() -> Scenario {
+    let mut s = scenario::demo();
+    s.stage.topology = loopwright::engine::Topology::Follower;
+    s.stage.rg = None;
+    s.stage.rf = None;
+    s.stage.cf = None;
+    let (mut lo, mut hi) = (1e5f64, 1e9f64);
+    for _ in 0..60 {
+        let mid = (lo * hi).sqrt();
+        s.amp.fp2 = Some(mid);
+        // A lower second pole peaks more.
+        if loopwright::engine::evaluate(&s).peaking_db > 2.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    s.amp.fp2 = Some(hi);
+    s
+}
+
+/// Rows (in the response plot, colour theme) of A's gain trace at its
+/// leftmost cell (the passband) and at its highest cell (the peak).
+fn passband_and_peak_rows(a: &App) -> (u16, u16, String) {
+    let mut t = Terminal::new(TestBackend::new(80, 24)).unwrap();
+    t.draw(|f| draw(f, a)).unwrap();
+    let buf = t.backend().buffer();
+    let text = buffer_text(buf).join("\n");
+    let end = text.lines().position(|l| l.contains("Impedance")).unwrap() as u16;
+    let green = a.theme.trace_a.fg;
+    let cells: Vec<(u16, u16)> = (1..end)
+        .flat_map(|y| (0..80).map(move |x| (x, y)))
+        .filter(|&p| {
+            let c = &buf[p];
+            c.fg == green.unwrap() && c.symbol().chars().all(|c| ('⠁'..='⣿').contains(&c))
+        })
+        .collect();
+    let pass = cells.iter().min_by_key(|p| p.0).unwrap().1;
+    let peak = cells.iter().map(|p| p.1).min().unwrap();
+    (pass, peak, text)
+}
+
+#[test]
+fn gain_view_shows_2db_of_peaking_and_z_restores_the_full_range() {
+    let s = peaking_2db();
+    let mut a = App::new(vec![(s, None)], Theme::new(true, false));
+    let p = a.slots[0].analysis.peaking_db;
+    assert!((p - 2.0).abs() < 0.05, "{p}");
+    let (pass, peak, text) = passband_and_peak_rows(&a);
+    assert!(
+        pass >= peak + 2,
+        "passband row {pass}, peak row {peak}\n{text}"
+    );
+    // z: the full range, where 2 dB is less than a row (the old view).
+    a.on_key(key(KeyCode::Char('z')));
+    let (pass, peak, text) = passband_and_peak_rows(&a);
+    assert!(
+        pass <= peak + 1,
+        "passband row {pass}, peak row {peak}\n{text}"
+    );
+    assert!(text.contains("-50dB"), "{text}");
+    // And back.
+    a.on_key(key(KeyCode::Char('z')));
+    assert!(!passband_and_peak_rows(&a).2.contains("-50dB"));
+}
+
+/// The braille dots of a screen character (0 for any other).
+fn braille_dots(c: char) -> u32 {
+    let c = c as u32;
+    if (0x2801..=0x28ff).contains(&c) {
+        c - 0x2800
+    } else {
+        0
+    }
+}
+
+#[test]
+fn two_identical_stages_keep_every_dot_of_a() {
+    // B is drawn over A dot by dot: on two copies of one stage every
+    // trace dot of A's response plot on the one-stage screen is still
+    // there. (Two stages take one more row of figures and one more cursor
+    // readout row: two rows more keep the response plot's size.)
+    let one = screen(&app(vec![example("mic_preamp")]), 80, 24);
+    let two = screen(&app(vec![example("mic_preamp"); 2]), 80, 26);
+    let bode = |s: &str| s.lines().position(|l| l.contains("Impedance")).unwrap();
+    assert_eq!(bode(&one), bode(&two), "{one}\n{two}");
+    let mut cells = 0;
+    for (l1, l2) in one.lines().zip(two.lines()).take(bode(&one)) {
+        for (c1, c2) in l1.chars().skip(33).zip(l2.chars().skip(33)) {
+            let d = braille_dots(c1);
+            if d != 0 {
+                cells += 1;
+                assert_eq!(braille_dots(c2) & d, d, "{c1} → {c2}\n{one}\n{two}");
+            }
+        }
+    }
+    assert!(cells > 20, "{one}");
+}

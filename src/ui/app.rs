@@ -289,6 +289,8 @@ pub struct App {
     /// Where the Bode view is too short for both, it shows the phase
     /// instead of the magnitude.
     pub show_phase: bool,
+    /// The gain view over its full range instead of the zoomed one.
+    pub full_range: bool,
     /// The spread view's background Monte Carlo of the edited stage.
     pub spread: super::spread_job::SpreadJob,
 }
@@ -354,6 +356,7 @@ impl App {
             archetypes: archetypes(),
             archetype: 0,
             show_phase: false,
+            full_range: false,
             spread: Default::default(),
         }
     }
@@ -653,6 +656,11 @@ impl App {
                     "magnitude"
                 };
                 self.info(format!("a short Bode plot shows the {which}"));
+            }
+            Action::GainRange => {
+                self.full_range = !self.full_range;
+                let range = ["peak and passband", "full range"][usize::from(self.full_range)];
+                self.info(format!("the gain view shows the {range}"));
             }
             Action::EditTitle => {
                 let title = self.slot().scenario.title.clone();

@@ -34,6 +34,7 @@ pub enum Action {
     Undo,
     EditTitle,
     GainOrPhase,
+    GainRange,
     Save,
     SaveAs,
     Open,
@@ -137,11 +138,19 @@ pub const KEYS: &[Binding] = &[
         help: "write the plot view as SVG next to the stage's file",
         hint: None,
     },
+    // Two plot keys share one help row (the help fits 80×24).
     Binding {
         keys: &[k('g')],
-        shown: "g",
+        shown: "g, z",
         action: Action::GainOrPhase,
-        help: "magnitude or phase, where the plot is too short for both",
+        help: "g: gain or phase where short · z: gain zoomed or full range",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('z')],
+        shown: "",
+        action: Action::GainRange,
+        help: "",
         hint: None,
     },
     Binding {

@@ -8,7 +8,6 @@ use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::style::Style;
 use ratatui::symbols::Marker;
-use ratatui::widgets::canvas::{Canvas, Context, Line as CLine, Points};
 use ratatui::widgets::Widget;
 
 /// How a trace is drawn.
@@ -65,21 +64,9 @@ pub struct LogPlot<'a> {
     /// Labels for a linear x axis (the step view's time) instead of
     /// decades: (position, label).
     pub x_ticks: Option<Vec<(f64, String)>>,
-}
-
-/// y of a trace at x, by linear interpolation.
-fn value_at(points: &[(f64, f64)], x: f64) -> Option<f64> {
-    let i = points.iter().position(|p| p.0 >= x)?;
-    if i == 0 {
-        return Some(points[0].1);
-    }
-    let (a, b) = (points[i - 1], points[i]);
-    let t = if b.0 > a.0 {
-        (x - a.0) / (b.0 - a.0)
-    } else {
-        0.0
-    };
-    Some(a.1 + t * (b.1 - a.1))
+    /// Grid lines in `label_style` at the y ticks and the decades (or the
+    /// x ticks), under the traces: (across, down) characters; None: none.
+    pub grid: Option<(char, char)>,
 }
 
 pub use crate::engine::traces::finite;
@@ -161,8 +148,7 @@ impl Widget for &LogPlot<'_> {
         }
         self.draw_y_ticks(area, label_w, plot, buf);
         self.draw_x_labels(plot, buf);
-        self.draw_canvas(plot, buf);
-        self.draw_mark_labels(plot, buf);
+        self.draw_cells(plot, buf);
     }
 }
 
@@ -182,13 +168,14 @@ impl LogPlot<'_> {
         for row in plot.y..plot.y + plot.height {
             buf.set_string(plot.x - 1, row, self.rule, self.label_style);
         }
+        // Ticks on the rows where a trace at the value lands.
+        let map = Mapping::new(self, plot);
         let mut used_rows = Vec::new();
         for (v, label) in &self.y_ticks {
             if *v < y0 - 1e-9 || *v > y1 + 1e-9 {
                 continue;
             }
-            let frac = (y1 - v) / (y1 - y0);
-            let row = plot.y + (frac * (plot.height - 1) as f64).round() as u16;
+            let row = plot.y + map.row(*v);
             if used_rows.contains(&row) {
                 continue;
             }
@@ -230,103 +217,382 @@ impl LogPlot<'_> {
         }
     }
 
-    /// The canvas with the vertical marks, the traces and their names.
-    fn draw_canvas(&self, plot: Rect, buf: &mut Buffer) {
-        let (x0, x1) = self.x_range;
-        let (y0, y1) = self.y_range;
-        let canvas = Canvas::default()
-            .x_bounds([x0, x1])
-            .y_bounds([y0, y1])
-            .marker(self.markers.0)
-            .paint(|ctx| {
-                // Vertical marks first, under the traces.
-                self.paint_marks(ctx);
-                ctx.layer();
-                for t in &self.traces {
-                    self.paint_trace(ctx, t);
-                    ctx.layer();
-                }
-                self.paint_trace_labels(ctx, plot.width);
-            });
-        canvas.render(plot, buf);
-    }
-
-    /// Vertical marks as dotted columns of points.
-    fn paint_marks(&self, ctx: &mut Context<'_>) {
-        let (y0, y1) = self.y_range;
-        for m in &self.marks {
-            let n = 24;
-            let pts: Vec<(f64, f64)> = (0..=n)
-                .filter(|i| i % 2 == 0)
-                .map(|i| (m.x, y0 + (y1 - y0) * i as f64 / n as f64))
-                .collect();
-            ctx.draw(&Points {
-                coords: &pts,
-                color: self.mark_style.fg.unwrap_or_default(),
-            });
-        }
-    }
-
-    /// One trace: every other point when dotted, else line segments that
-    /// skip phase wraps.
-    fn paint_trace(&self, ctx: &mut Context<'_>, t: &Trace<'_>) {
-        let (solid, dotted) = self.markers;
-        let color = t.style.fg.unwrap_or_default();
-        if t.stroke == Stroke::Dotted {
-            ctx.marker(dotted);
-            let every: Vec<(f64, f64)> = t.points.iter().step_by(2).copied().collect();
-            ctx.draw(&Points {
-                coords: &every,
-                color,
-            });
-        } else {
-            ctx.marker(solid);
-            for w in t.points.windows(2) {
-                if t.joining == Joining::BreakAtWrap && (w[1].1 - w[0].1).abs() > 180.0 {
-                    continue;
-                }
-                ctx.draw(&CLine {
-                    x1: w[0].0,
-                    y1: w[0].1,
-                    x2: w[1].0,
-                    y2: w[1].1,
-                    color,
-                });
+    /// The plot's cells: the grid under everything, the marks' dotted
+    /// columns under the traces, the traces merged per cell, then the
+    /// labels where they cover no trace cell.
+    fn draw_cells(&self, plot: Rect, buf: &mut Buffer) {
+        let map = Mapping::new(self, plot);
+        let traces: Vec<Dots> = self.traces.iter().map(|t| trace_dots(t, &map)).collect();
+        let marks = self.mark_dots(&map);
+        let mut taken: Vec<bool> = (0..plot.width as usize * plot.height as usize)
+            .map(|i| traces.iter().any(|d| d.bits[i] != 0))
+            .collect();
+        self.draw_grid(plot, &map, &taken, &marks, buf);
+        for (i, &t) in taken.iter().enumerate() {
+            let pos = cell_pos(plot, i);
+            if t {
+                self.draw_trace_cell(&traces, i, &mut buf[pos]);
+            } else if marks.bits[i] != 0 {
+                let sym = match self.ascii_marks() {
+                    Some(_) => ":".to_string(),
+                    None => braille(marks.bits[i]).to_string(),
+                };
+                buf[pos].set_symbol(&sym).set_style(self.mark_style);
             }
         }
-    }
-
-    /// Trace names printed on their traces, kept inside the plot.
-    fn paint_trace_labels(&self, ctx: &mut Context<'_>, width: u16) {
-        let (x0, x1) = self.x_range;
-        let (y0, y1) = self.y_range;
-        let cell = (x1 - x0) / width.max(1) as f64;
-        for t in &self.traces {
-            if let Some(label) = &t.label {
-                let len = label.chars().count() as f64 + 1.0;
-                let x = (x0 + (x1 - x0) * t.label_at).min(x1 - cell * len);
-                if let Some(y) = value_at(t.points, x) {
-                    if y >= y0 && y <= y1 {
-                        let line = ratatui::text::Line::styled(label.clone(), t.style);
-                        ctx.print(x, y, line);
-                    }
-                }
+        for (i, t) in self.traces.iter().enumerate() {
+            let Some(label) = &t.label else { continue };
+            if let Some((c, r)) = trace_label_spot(t, label, &traces[i], &taken, plot) {
+                put_label(plot, (c, r), label, t.style, &mut taken, buf);
             }
         }
-    }
-
-    /// Mark labels, one row apart so they never overprint.
-    fn draw_mark_labels(&self, plot: Rect, buf: &mut Buffer) {
-        let (x0, x1) = self.x_range;
         for (i, m) in self.marks.iter().enumerate() {
-            if m.x < x0 || m.x > x1 || i as u16 >= plot.height {
+            if m.x < self.x_range.0 || m.x > self.x_range.1 {
                 continue;
             }
-            let col = plot.x + ((m.x - x0) / (x1 - x0) * (plot.width - 1) as f64).round() as u16;
-            let w = m.label.chars().count() as u16;
-            let col = col.min(plot.x + plot.width.saturating_sub(w));
-            buf.set_string(col, plot.y + i as u16, &m.label, self.mark_style);
+            let col = (map.dot(m.x, self.y_range.0).0.round() / 2.0) as u16;
+            if let Some(spot) = mark_label_spot(col, i as u16, &m.label, &taken, plot) {
+                put_label(plot, spot, &m.label, self.mark_style, &mut taken, buf);
+            }
         }
+    }
+
+    /// The trace markers as characters when the theme is plain ASCII.
+    fn ascii_marks(&self) -> Option<(char, char)> {
+        match self.markers {
+            (Marker::Custom(a), Marker::Custom(b)) => Some((a, b)),
+            _ => None,
+        }
+    }
+
+    /// A cell with trace dots: every trace's dots merged (A's are never
+    /// wiped by B's), in the style of the first trace drawn there. In
+    /// ASCII a cell where a solid and a dotted trace meet is `#`.
+    fn draw_trace_cell(&self, traces: &[Dots], i: usize, cell: &mut ratatui::buffer::Cell) {
+        let hits: Vec<usize> = (0..traces.len())
+            .filter(|&t| traces[t].bits[i] != 0)
+            .collect();
+        let style = self.traces[hits[0]].style;
+        let sym = match self.ascii_marks() {
+            Some((solid, dotted)) => {
+                let has = |s: Stroke| hits.iter().any(|&t| self.traces[t].stroke == s);
+                match (has(Stroke::Solid), has(Stroke::Dotted)) {
+                    (true, true) => '#',
+                    (true, false) => solid,
+                    _ => dotted,
+                }
+            }
+            None => braille(hits.iter().fold(0, |b, &t| b | traces[t].bits[i])),
+        };
+        cell.set_symbol(&sym.to_string()).set_style(style);
+    }
+
+    /// Vertical marks as dotted columns (every other dot row).
+    fn mark_dots(&self, map: &Mapping) -> Dots {
+        let mut d = Dots::new(map.w, map.h);
+        for m in &self.marks {
+            if m.x < self.x_range.0 || m.x > self.x_range.1 {
+                continue;
+            }
+            let x = map.dot(m.x, self.y_range.0).0.round() as i64;
+            for y in (0..map.h as i64 * 4).step_by(2) {
+                d.set(x, y);
+            }
+        }
+        d
+    }
+
+    /// Grid lines at the y ticks and at decades (or the x ticks) in the
+    /// cells that hold neither a trace nor a mark.
+    fn draw_grid(&self, plot: Rect, map: &Mapping, taken: &[bool], marks: &Dots, buf: &mut Buffer) {
+        let Some((across, down)) = self.grid else {
+            return;
+        };
+        let (x0, x1) = self.x_range;
+        let (y0, y1) = self.y_range;
+        let xs: Vec<f64> = match &self.x_ticks {
+            Some(t) => t.iter().map(|p| p.0).collect(),
+            // The labelled decades: every one where they are wide enough.
+            None => decade_ticks(x0, x1, plot.width, 4)
+                .into_iter()
+                .map(f64::from)
+                .collect(),
+        };
+        let cols: Vec<u16> = xs
+            .into_iter()
+            .filter(|x| *x > x0 && *x <= x1)
+            .map(|x| (map.dot(x, y0).0.round() / 2.0) as u16)
+            .collect();
+        let rows: Vec<u16> = (self.y_ticks.iter())
+            .filter(|(v, _)| *v >= y0 - 1e-9 && *v <= y1 + 1e-9)
+            .map(|(v, _)| map.row(*v))
+            .collect();
+        for i in 0..taken.len() {
+            let (col, row) = (i as u16 % plot.width, i as u16 / plot.width);
+            if taken[i] || marks.bits[i] != 0 {
+                continue;
+            }
+            let sym = if cols.contains(&col) {
+                down
+            } else if rows.contains(&row) {
+                across
+            } else {
+                continue;
+            };
+            buf[cell_pos(plot, i)]
+                .set_symbol(&sym.to_string())
+                .set_style(self.label_style);
+        }
+    }
+}
+
+/// The buffer position of cell i of the plot (row-major).
+fn cell_pos(plot: Rect, i: usize) -> (u16, u16) {
+    let w = plot.width as usize;
+    (plot.x + (i % w) as u16, plot.y + (i / w) as u16)
+}
+
+/// The braille character of a cell's dot bits.
+fn braille(bits: u8) -> char {
+    char::from_u32(0x2800 + u32::from(bits)).unwrap_or(' ')
+}
+
+/// The bit of the dot in column c (0, 1) and row r (0..4, from the top)
+/// of a braille cell (Unicode's dot numbering 1-2-3-7, 4-5-6-8).
+const DOT_BITS: [[u8; 4]; 2] = [[0x01, 0x02, 0x04, 0x40], [0x08, 0x10, 0x20, 0x80]];
+
+/// Plot units to dot coordinates: 2 dots across and 4 down per cell.
+struct Mapping {
+    x: (f64, f64),
+    y: (f64, f64),
+    w: u16,
+    h: u16,
+}
+
+impl Mapping {
+    fn new(p: &LogPlot<'_>, plot: Rect) -> Mapping {
+        Mapping {
+            x: p.x_range,
+            y: p.y_range,
+            w: plot.width,
+            h: plot.height,
+        }
+    }
+
+    /// (column, row) of a point in dots, row 0 at the top; unrounded.
+    fn dot(&self, x: f64, y: f64) -> (f64, f64) {
+        let fx = (x - self.x.0) / (self.x.1 - self.x.0);
+        let fy = (self.y.1 - y) / (self.y.1 - self.y.0);
+        (
+            fx * (2.0 * self.w as f64 - 1.0),
+            fy * (4.0 * self.h as f64 - 1.0),
+        )
+    }
+
+    /// The cell row where a value's dot lands (tick marks, grid lines).
+    fn row(&self, y: f64) -> u16 {
+        let r = self.dot(self.x.0, y).1.round().max(0.0) as u16 / 4;
+        r.min(self.h.saturating_sub(1))
+    }
+}
+
+/// One layer of braille dots over the plot's cells.
+struct Dots {
+    w: u16,
+    h: u16,
+    bits: Vec<u8>,
+}
+
+impl Dots {
+    fn new(w: u16, h: u16) -> Dots {
+        Dots {
+            w,
+            h,
+            bits: vec![0; w as usize * h as usize],
+        }
+    }
+
+    /// Set the dot at (x, y) in dots; outside the plot it is ignored.
+    fn set(&mut self, x: i64, y: i64) {
+        if x < 0 || y < 0 || x >= 2 * self.w as i64 || y >= 4 * self.h as i64 {
+            return;
+        }
+        let i = (y / 4) as usize * self.w as usize + (x / 2) as usize;
+        self.bits[i] |= DOT_BITS[(x % 2) as usize][(y % 4) as usize];
+    }
+}
+
+/// Where a pen is along a trace: a dotted pen sets every other dot of
+/// its path, counted across segments.
+struct Pen {
+    every: usize,
+    count: usize,
+    last: Option<(i64, i64)>,
+}
+
+impl Pen {
+    /// The dots of a segment (in dot coordinates), clipped to the plot.
+    fn line(&mut self, d: &mut Dots, a: (f64, f64), b: (f64, f64)) {
+        let hi = (2.0 * d.w as f64 - 0.5, 4.0 * d.h as f64 - 0.5);
+        let Some((a, b)) = clip(a, b, (-0.5, -0.5), hi) else {
+            return;
+        };
+        let n = (b.0 - a.0).abs().max((b.1 - a.1).abs()).ceil().max(1.0) as usize;
+        for k in 0..=n {
+            let t = k as f64 / n as f64;
+            let p = (
+                (a.0 + t * (b.0 - a.0)).round() as i64,
+                (a.1 + t * (b.1 - a.1)).round() as i64,
+            );
+            if self.last == Some(p) {
+                continue;
+            }
+            self.last = Some(p);
+            if self.count.is_multiple_of(self.every) {
+                d.set(p.0, p.1);
+            }
+            self.count += 1;
+        }
+    }
+}
+
+/// The part of segment a–b inside the box lo–hi (Liang–Barsky).
+fn clip(
+    a: (f64, f64),
+    b: (f64, f64),
+    lo: (f64, f64),
+    hi: (f64, f64),
+) -> Option<((f64, f64), (f64, f64))> {
+    let d = (b.0 - a.0, b.1 - a.1);
+    let (mut t0, mut t1) = (0.0f64, 1.0f64);
+    for (p, q) in [
+        (-d.0, a.0 - lo.0),
+        (d.0, hi.0 - a.0),
+        (-d.1, a.1 - lo.1),
+        (d.1, hi.1 - a.1),
+    ] {
+        if p == 0.0 {
+            if q < 0.0 {
+                return None;
+            }
+        } else if p < 0.0 {
+            t0 = t0.max(q / p);
+        } else {
+            t1 = t1.min(q / p);
+        }
+    }
+    (t0 <= t1).then_some((
+        (a.0 + t0 * d.0, a.1 + t0 * d.1),
+        (a.0 + t1 * d.0, a.1 + t1 * d.1),
+    ))
+}
+
+/// A trace's dots: joined segments (not across a phase wrap where asked),
+/// every dot when solid, every other one when dotted.
+fn trace_dots(t: &Trace<'_>, map: &Mapping) -> Dots {
+    let mut d = Dots::new(map.w, map.h);
+    let every = if t.stroke == Stroke::Dotted { 2 } else { 1 };
+    let mut pen = Pen {
+        every,
+        count: 0,
+        last: None,
+    };
+    if let [only] = t.points {
+        let p = map.dot(only.0, only.1);
+        pen.line(&mut d, p, p);
+    }
+    for w in t.points.windows(2) {
+        if t.joining == Joining::BreakAtWrap && (w[1].1 - w[0].1).abs() > 180.0 {
+            continue;
+        }
+        pen.line(&mut d, map.dot(w[0].0, w[0].1), map.dot(w[1].0, w[1].1));
+    }
+    d
+}
+
+/// Whether `len` cells from (col, row) are inside the plot and free.
+fn free(taken: &[bool], plot: Rect, col: i32, row: i32, len: u16) -> bool {
+    let (w, h) = (plot.width as i32, plot.height as i32);
+    if col < 0 || row < 0 || row >= h || col + len as i32 > w {
+        return false;
+    }
+    (col..col + len as i32).all(|c| !taken[(row * w + c) as usize])
+}
+
+/// A spot for a trace's name right above or below the trace, as near to
+/// `label_at` as there is one that covers no trace cell and no label.
+fn trace_label_spot(
+    t: &Trace<'_>,
+    label: &str,
+    dots: &Dots,
+    taken: &[bool],
+    plot: Rect,
+) -> Option<(u16, u16)> {
+    let len = label.chars().count() as u16;
+    let w = plot.width as i32;
+    let start = ((t.label_at * (w - 1) as f64).round() as i32).min(w - len as i32);
+    for off in 0..2 * w {
+        let col = start
+            + if off % 2 == 0 {
+                off / 2
+            } else {
+                -(off + 1) / 2
+            };
+        if col < 0 || col + len as i32 > w {
+            continue;
+        }
+        let rows: Vec<i32> = (0..plot.height as i32)
+            .filter(|r| (col..col + len as i32).any(|c| dots.bits[(r * w + c) as usize] != 0))
+            .collect();
+        let (Some(&top), Some(&bottom)) = (rows.first(), rows.last()) else {
+            continue;
+        };
+        for row in [top - 1, bottom + 1] {
+            if free(taken, plot, col, row, len) {
+                return Some((col as u16, row as u16));
+            }
+        }
+    }
+    None
+}
+
+/// A spot for a mark's label: on, right of or left of its column, from
+/// row `first` on (then the rows above), covering no trace cell.
+fn mark_label_spot(
+    col: u16,
+    first: u16,
+    label: &str,
+    taken: &[bool],
+    plot: Rect,
+) -> Option<(u16, u16)> {
+    let len = label.chars().count() as i32;
+    let col = col as i32;
+    let h = plot.height as i32;
+    let rows = (first as i32..h).chain(0..first as i32);
+    for row in rows {
+        for start in [col, col + 1, col - len] {
+            let start = start.min(plot.width as i32 - len);
+            if free(taken, plot, start, row, len as u16) {
+                return Some((start as u16, row as u16));
+            }
+        }
+    }
+    None
+}
+
+/// Write a label at a plot cell and mark its cells taken.
+fn put_label(
+    plot: Rect,
+    (col, row): (u16, u16),
+    label: &str,
+    style: Style,
+    taken: &mut [bool],
+    buf: &mut Buffer,
+) {
+    buf.set_string(plot.x + col, plot.y + row, label, style);
+    let w = plot.width as usize;
+    for c in col..col + label.chars().count() as u16 {
+        taken[row as usize * w + c as usize] = true;
     }
 }
 

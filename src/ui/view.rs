@@ -396,6 +396,11 @@ fn plot<'a>(
         tick: if app.theme.ascii { "+" } else { "├" },
         x_labels: true,
         x_ticks: None,
+        grid: Some(if app.theme.ascii {
+            ('.', ':')
+        } else {
+            ('·', '┊')
+        }),
     }
 }
 
@@ -461,10 +466,12 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         )
     };
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
-    let hi_axis = hi + 5.0;
-    let lo_axis = lo.max(hi - 100.0);
     let rows = mag.height as usize;
-    let y = linear_axis((lo_axis, hi_axis), (rows / 2).max(2), "dB");
+    let plot_rows = rows.saturating_sub(usize::from(phase.height == 0));
+    let y = match gain_zoom(app, plot_rows).filter(|_| !loop_view && !app.full_range) {
+        Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2)),
+        None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), "dB"),
+    };
     let mut marks = Vec::new();
     if let Some(f) = a.f_3db_hz.filter(|_| !loop_view) {
         marks.push(VMark {
@@ -505,6 +512,72 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
     plot(app, ph_tr, x, y, margin).render(phase, buf);
+}
+
+/// The closed-loop gain of every stage in the middle of its band (the
+/// passband) and the highest gain of the sweep (the peak), in dB.
+fn passband_and_peak(app: &App) -> Vec<(f64, f64)> {
+    let mid = |pts: &[(f64, f64)], x: f64| {
+        let i = pts.iter().position(|p| p.0 >= x)?;
+        Some(pts[i].1)
+    };
+    app.slots
+        .iter()
+        .filter_map(|s| {
+            let pts = &s.traces.gain_db;
+            let x = (s.scenario.band.0 * s.scenario.band.1).sqrt().log10();
+            let peak = pts.iter().map(|p| p.1).fold(f64::NEG_INFINITY, f64::max);
+            mid(pts, x)
+                .filter(|v| v.is_finite() && peak.is_finite())
+                .map(|v| (v, peak))
+        })
+        .collect()
+}
+
+/// The gain view's range in dB: from a little above the peak to 40 dB
+/// under the passband; where that would squeeze peaking of 1 dB or more
+/// into fewer than 2.5 rows, finer (the peak one row from the top),
+/// covering every stage's passband; true when that finer range is to be
+/// kept as it is. None: no gain to scale to.
+fn gain_zoom(app: &App, rows: usize) -> Option<((f64, f64), bool)> {
+    let pp = passband_and_peak(app);
+    let pass = pp.iter().map(|p| p.0).reduce(f64::min)?;
+    let peak = pp.iter().map(|p| p.1).fold(pass, f64::max);
+    let peaking = pp.iter().map(|p| p.1 - p.0).fold(0.0, f64::max);
+    let intervals = rows.saturating_sub(1).max(1) as f64;
+    let wide = (pass - 40.0, peak + 3.0);
+    let fine = if peaking >= 1.0 {
+        peaking / 2.5
+    } else {
+        f64::INFINITY
+    };
+    let both = (peak - pass) / (intervals - 2.0).max(1.0);
+    let per_row = fine.max(both).max(0.1);
+    if per_row * intervals >= wide.1 - wide.0 {
+        return Some((wide, false));
+    }
+    let hi = peak + per_row;
+    Some(((hi - per_row * intervals, hi), true))
+}
+
+/// A dB axis over `range`, rounded out to grid steps unless `exact`, with
+/// ticks at round steps inside it.
+fn zoom_axis(range: (f64, f64), exact: bool, ticks: usize) -> ((f64, f64), Vec<(f64, String)>) {
+    let ((lo, hi), t) = nice_linear(range.0, range.1, ticks);
+    let r = if exact { range } else { (lo, hi) };
+    let labelled = t
+        .into_iter()
+        .filter(|v| *v >= r.0 - 1e-9 && *v <= r.1 + 1e-9)
+        .map(|v| (v, format!("{}dB", fmt_plain_db(v))))
+        .collect();
+    (r, labelled)
+}
+
+/// A tick value in dB without a trailing ".0" or a negative zero.
+fn fmt_plain_db(v: f64) -> String {
+    let v = if v.abs() < 1e-9 { 0.0 } else { v };
+    let s = format!("{v:.1}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
 /// The stage's gains, from the figure table's gain ratios: nominal, with
