@@ -72,7 +72,7 @@ fn keys_move_jump_and_stay_within_the_sweep() {
     // `;` visits f−3dB, the crossover and the band edges in frequency order.
     let r: serde_json::Value =
         serde_json::from_str(&stdout_of(&["report", &file, "--json"])).unwrap();
-    let mut marks = vec![
+    let mut marks = [
         r["f_3db_hz"].as_f64().unwrap(),
         r["crossover_hz"].as_f64().unwrap(),
         r["band_hz"][0].as_f64().unwrap(),
