@@ -64,6 +64,7 @@ fn plot(traces: Vec<Trace<'_>>, marks: Vec<VMark>, grid: bool) -> LogPlot<'_> {
         x_labels: true,
         x_ticks: None,
         grid: grid.then_some(('·', '┊')),
+        cursor: None,
     }
 }
 

@@ -67,6 +67,9 @@ pub struct LogPlot<'a> {
     /// Grid lines in `label_style` at the y ticks and the decades (or the
     /// x ticks), under the traces: (across, down) characters; None: none.
     pub grid: Option<(char, char)>,
+    /// The frequency cursor (in x units) and its style: a solid column in
+    /// the cells no trace holds.
+    pub cursor: Option<(f64, Style)>,
 }
 
 pub use crate::engine::traces::finite;
@@ -240,6 +243,7 @@ impl LogPlot<'_> {
                 buf[pos].set_symbol(&sym).set_style(self.mark_style);
             }
         }
+        self.draw_cursor(plot, &map, &mut taken, buf);
         for (i, t) in self.traces.iter().enumerate() {
             let Some(label) = &t.label else { continue };
             if let Some((c, r)) = trace_label_spot(t, label, &traces[i], &taken, plot) {
@@ -253,6 +257,26 @@ impl LogPlot<'_> {
             let col = (map.dot(m.x, self.y_range.0).0.round() / 2.0) as u16;
             if let Some(spot) = mark_label_spot(col, i as u16, &m.label, &taken, plot) {
                 put_label(plot, spot, &m.label, self.mark_style, &mut taken, buf);
+            }
+        }
+    }
+
+    /// The cursor's column: a rule in the free cells (trace cells keep
+    /// their dots), taken so no label covers it.
+    fn draw_cursor(&self, plot: Rect, map: &Mapping, taken: &mut [bool], buf: &mut Buffer) {
+        let Some((x, style)) = self.cursor else {
+            return;
+        };
+        if !(self.x_range.0..=self.x_range.1).contains(&x) || plot.width == 0 {
+            return;
+        }
+        let col = ((map.dot(x, self.y_range.0).0.round() / 2.0) as u16).min(plot.width - 1);
+        let sym = if self.ascii_marks().is_some() { "|" } else { "│" };
+        for row in 0..plot.height {
+            let i = row as usize * plot.width as usize + col as usize;
+            if !taken[i] {
+                buf[(plot.x + col, plot.y + row)].set_symbol(sym).set_style(style);
+                taken[i] = true;
             }
         }
     }

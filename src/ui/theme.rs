@@ -103,6 +103,11 @@ impl Theme {
         }
     }
 
+    /// The frequency cursor: bold in the marker colour (bold alone in mono).
+    pub fn cursor(&self) -> Style {
+        self.marker.add_modifier(Modifier::BOLD)
+    }
+
     /// Severity symbols: severe, warning, info.
     pub fn symbols(&self) -> [&'static str; 3] {
         if self.ascii {

@@ -401,6 +401,7 @@ fn plot<'a>(
         } else {
             ('·', '┊')
         }),
+        cursor: Some((app.probe_hz.log10(), app.theme.cursor())),
     }
 }
 
@@ -848,6 +849,8 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .collect();
     let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), step_marks(r));
     p.x_ticks = Some(x_ticks);
+    // Time, not frequency: no cursor.
+    p.cursor = None;
     p.render(inner, buf);
 }
 
