@@ -137,3 +137,33 @@ fn figures_header_is_stable_and_whole() {
         "last column is cut:\n{head}"
     );
 }
+
+/// With two stages the plots mark both: each stage's f−3dB, margins and
+/// noise band (tagged A and B), and the noise view spans both bands.
+#[test]
+fn both_stages_marks_on_the_plots() {
+    let (a, b) = (example("mic_preamp"), example("bridge_gain_101"));
+    assert_ne!(a.band, b.band, "the two example bands differ");
+    let mut app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    let response = screen_at(&app, 160, 50);
+    assert!(
+        response.contains("A -3dB") && response.contains("B -3dB"),
+        "{response}"
+    );
+    app.on_key(key(KeyCode::Char('v')));
+    let loop_view = screen_at(&app, 160, 50);
+    assert!(
+        loop_view.contains("A margin") && loop_view.contains("B margin"),
+        "{loop_view}"
+    );
+    app.on_key(key(KeyCode::Char('v')));
+    let noise = screen_at(&app, 160, 50);
+    assert!(
+        noise.contains("A band rms") && noise.contains("B band rms"),
+        "{noise}"
+    );
+    assert!(
+        noise.contains("A band") && noise.contains("B band"),
+        "{noise}"
+    );
+}

@@ -271,11 +271,17 @@ impl LogPlot<'_> {
             return;
         }
         let col = ((map.dot(x, self.y_range.0).0.round() / 2.0) as u16).min(plot.width - 1);
-        let sym = if self.ascii_marks().is_some() { "|" } else { "│" };
+        let sym = if self.ascii_marks().is_some() {
+            "|"
+        } else {
+            "│"
+        };
         for row in 0..plot.height {
             let i = row as usize * plot.width as usize + col as usize;
             if !taken[i] {
-                buf[(plot.x + col, plot.y + row)].set_symbol(sym).set_style(style);
+                buf[(plot.x + col, plot.y + row)]
+                    .set_symbol(sym)
+                    .set_style(style);
                 taken[i] = true;
             }
         }

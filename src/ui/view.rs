@@ -433,8 +433,45 @@ fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f6
     (r, labelled)
 }
 
+/// "A " / "B " before a mark's label when two stages are shown.
+fn tag(app: &App, slot: usize) -> &'static str {
+    match (app.slots.len() > 1, slot) {
+        (false, _) => "",
+        (true, 0) => "A ",
+        (true, _) => "B ",
+    }
+}
+
+/// One stage's marks on the Bode view: f−3dB on the response, the
+/// crossover and gain margin on the loop view; and its phase-margin note
+/// (on the loop view only), each label tagged with the stage.
+fn bode_marks(a: &crate::engine::Analysis, loop_view: bool, tag: &str) -> (Vec<VMark>, Vec<VMark>) {
+    let mark = |f: f64, label: String| VMark {
+        x: f.log10(),
+        label: format!("{tag}{label}"),
+    };
+    let mut marks = Vec::new();
+    if let Some(f) = a.f_3db_hz.filter(|_| !loop_view) {
+        marks.push(mark(f, "-3dB".into()));
+    }
+    if let Some(f) = a.crossover_hz.filter(|_| loop_view) {
+        marks.push(mark(f, "fc".into()));
+    }
+    if let (Some(f), Some(gm), true) = (a.phase_180_hz, a.gain_margin_db, loop_view) {
+        let text = format!("gain margin {} dB @ {}", fmt_fixed(gm, 0), fmt_eng(f, "Hz"));
+        marks.push(mark(f, text));
+    }
+    // The margin is a property of the loop: written on its view only, on
+    // the phase plot (or the magnitude when the phase is not shown).
+    let mut margin = Vec::new();
+    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
+        let text = format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz"));
+        margin.push(mark(f, text));
+    }
+    (marks, margin)
+}
+
 fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let a = &app.slot().analysis;
     let loop_view = app.view == View::Loop;
     let title = format!(" {}{} ", app.view.title(), legend(app));
     let mut b = block(app, title);
@@ -473,33 +510,11 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2)),
         None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), "dB"),
     };
-    let mut marks = Vec::new();
-    if let Some(f) = a.f_3db_hz.filter(|_| !loop_view) {
-        marks.push(VMark {
-            x: f.log10(),
-            label: "-3dB".into(),
-        });
-    }
-    if let Some(f) = a.crossover_hz.filter(|_| loop_view) {
-        marks.push(VMark {
-            x: f.log10(),
-            label: "fc".into(),
-        });
-    }
-    if let (Some(f), Some(gm), true) = (a.phase_180_hz, a.gain_margin_db, loop_view) {
-        marks.push(VMark {
-            x: f.log10(),
-            label: format!("gain margin {} dB @ {}", fmt_fixed(gm, 0), fmt_eng(f, "Hz")),
-        });
-    }
-    // The margin is a property of the loop: written on its view only, on
-    // the phase plot (or the magnitude when the phase is not shown).
-    let mut margin = Vec::new();
-    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
-        margin.push(VMark {
-            x: f.log10(),
-            label: format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz")),
-        });
+    let (mut marks, mut margin) = (Vec::new(), Vec::new());
+    for (slot, s) in app.slots.iter().enumerate() {
+        let (m, g) = bode_marks(&s.analysis, loop_view, tag(app, slot));
+        marks.extend(m);
+        margin.extend(g);
     }
     if phase.height == 0 {
         marks.append(&mut margin);
@@ -614,10 +629,26 @@ fn trim_zeros(cell: &str) -> String {
     }
 }
 
-fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let s = &app.slot().scenario;
-    let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
-    let mut shares: Vec<_> = app.slot().analysis.noise_sources.iter().collect();
+/// The noise view's bottom line: each stage's band rms, and with one
+/// stage the largest sources.
+fn noise_summary(app: &App) -> String {
+    if app.slots.len() > 1 {
+        let each: Vec<String> = app
+            .slots
+            .iter()
+            .enumerate()
+            .map(|(i, s)| {
+                format!(
+                    "{}band rms {}",
+                    tag(app, i),
+                    compact(s.analysis.noise_rms, "V")
+                )
+            })
+            .collect();
+        return format!(" {} ", each.join(" · "));
+    }
+    let a = &app.slot().analysis;
+    let mut shares: Vec<_> = a.noise_sources.iter().collect();
     shares.sort_by(|a, b| b.share.total_cmp(&a.share));
     let top: Vec<String> = shares
         .iter()
@@ -625,25 +656,52 @@ fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .filter(|n| n.share >= 0.005)
         .map(|n| format!("{} {:.0}%", n.label, n.share * 100.0))
         .collect();
-    let b = block(app, title).title_bottom(Line::styled(
-        format!(
-            " band rms {}: {} ",
-            compact(app.slot().analysis.noise_rms, "V"),
-            top.join(", ")
-        ),
-        app.theme.dim,
-    ));
+    format!(
+        " band rms {}: {} ",
+        compact(a.noise_rms, "V"),
+        top.join(", ")
+    )
+}
+
+fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
+    let b = block(app, title).title_bottom(Line::styled(noise_summary(app), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
+    // Every stage's band, a decade either side.
+    let (lo_f, hi_f) = app.slots.iter().fold((f64::INFINITY, 0.0f64), |(a, b), s| {
+        (a.min(s.scenario.band.0), b.max(s.scenario.band.1))
+    });
     let x = (
-        (s.band.0.log10() - 1.0).max(-2.0),
-        (s.band.1.log10() + 1.0).min(9.0),
+        (lo_f.log10() - 1.0).max(-2.0),
+        (hi_f.log10() + 1.0).min(9.0),
     );
     let tr = traces(app, |s| &s.traces.noise, None, Joining::Continuous);
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
     let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
-    let marks = band_marks(s);
+    let marks = all_band_marks(app);
     plot(app, tr, x, y, marks).render(inner, buf);
+}
+
+/// Each stage's band edges (one set when the bands are the same).
+fn all_band_marks(app: &App) -> Vec<VMark> {
+    let same = app
+        .slots
+        .windows(2)
+        .all(|w| w[0].scenario.band == w[1].scenario.band);
+    if same {
+        return band_marks(&app.slot().scenario);
+    }
+    app.slots
+        .iter()
+        .enumerate()
+        .flat_map(|(i, s)| {
+            band_marks(&s.scenario).into_iter().map(move |m| VMark {
+                label: format!("{}{}", tag(app, i), m.label),
+                ..m
+            })
+        })
+        .collect()
 }
 
 /// The band's two edges as plot marks.
@@ -847,7 +905,20 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .filter(|t| *t <= end)
         .map(|t| (t, compact(t, "s")))
         .collect();
-    let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), step_marks(r));
+    let marks = app
+        .slots
+        .iter()
+        .enumerate()
+        .flat_map(|(i, s)| {
+            step_marks(&s.analysis.step)
+                .into_iter()
+                .map(move |m| VMark {
+                    label: format!("{}{}", tag(app, i), m.label),
+                    ..m
+                })
+        })
+        .collect();
+    let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), marks);
     p.x_ticks = Some(x_ticks);
     // Time, not frequency: no cursor.
     p.cursor = None;
