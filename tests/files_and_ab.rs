@@ -346,7 +346,7 @@ fn two_candidates_side_by_side() {
     // rf differs, and is the selected row (its pointer follows the mark).
     assert!(text.contains("≠▸rf"), "differing parameter marked:\n{text}");
     assert!(
-        text.contains("B ··· dotted"),
+        text.contains("A ─── B ···"),
         "legend tells the traces apart"
     );
 }

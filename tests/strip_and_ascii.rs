@@ -167,3 +167,12 @@ fn both_stages_marks_on_the_plots() {
         "{noise}"
     );
 }
+
+/// At 80×24 with two stages the plot legend is whole.
+#[test]
+fn two_stage_legend_fits_at_80x24() {
+    let s = example("mic_preamp");
+    let app = App::new(vec![(s.clone(), None), (s, None)], Theme::new(false, false));
+    let screen = screen_at(&app, 80, 24);
+    assert!(screen.contains("A ─── B ···"), "{screen}");
+}

@@ -319,9 +319,9 @@ fn scroll_marks(
 fn legend(app: &App) -> String {
     if app.slots.len() > 1 {
         if app.theme.ascii {
-            "  A *** solid  B +++ dotted".into()
+            "  A *** B +++".into()
         } else {
-            "  A ─── solid  B ··· dotted".into()
+            "  A ─── B ···".into()
         }
     } else {
         "  (v: next view)".into()
