@@ -510,12 +510,25 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2)),
         None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), "dB"),
     };
-    let (mut marks, mut margin) = (Vec::new(), Vec::new());
-    for (slot, s) in app.slots.iter().enumerate() {
-        let (m, g) = bode_marks(&s.analysis, loop_view, tag(app, slot));
-        marks.extend(m);
-        margin.extend(g);
-    }
+    // Each stage's marks; where B's fall on A's (the same stage twice),
+    // A's alone, untagged.
+    let per: Vec<_> = app
+        .slots
+        .iter()
+        .enumerate()
+        .map(|(i, s)| bode_marks(&s.analysis, loop_view, tag(app, i)))
+        .collect();
+    let at = |m: &[VMark]| m.iter().map(|v| v.x).collect::<Vec<f64>>();
+    let (mut marks, mut margin) = if per.len() > 1 && at(&per[0].0) == at(&per[1].0) {
+        bode_marks(&app.slots[0].analysis, loop_view, "")
+    } else {
+        per.into_iter()
+            .fold((Vec::new(), Vec::new()), |(mut m, mut g), (a, b)| {
+                m.extend(a);
+                g.extend(b);
+                (m, g)
+            })
+    };
     if phase.height == 0 {
         marks.append(&mut margin);
     }
