@@ -236,25 +236,9 @@ fn spread(file: &Path, trials: Option<u32>, seed: Option<u64>, json: bool) -> Re
     Ok(buf)
 }
 
-fn run(cli: Cli) -> Result<ExitCode> {
-    let Some(command) = &cli.command else {
-        return workbench(&cli).map(|_| ExitCode::SUCCESS);
-    };
-    if let Command::Check {
-        files,
-        trials,
-        json,
-        verbose,
-    } = command
-    {
-        let c = design::check(files, *trials, *json, *verbose);
-        io::stderr().write_all(&c.stderr)?;
-        let mut out = io::stdout().lock();
-        out.write_all(&c.stdout)?;
-        out.flush()?;
-        return Ok(ExitCode::from(c.code));
-    }
-    let buf = match command {
+/// The analysis commands' output (None: not one of them).
+fn analysis_output(command: &Command) -> Result<Option<Vec<u8>>> {
+    Ok(Some(match command {
         Command::Report {
             file,
             json,
@@ -309,6 +293,13 @@ fn run(cli: Cli) -> Result<ExitCode> {
             Vec::new()
         }
         Command::Series { name } => series(name)?,
+        _ => return Ok(None),
+    }))
+}
+
+/// The spread and design-helper commands' output (None: not one of them).
+fn design_output(command: &Command) -> Result<Option<Vec<u8>>> {
+    Ok(Some(match command {
         Command::Spread {
             file,
             trials,
@@ -336,7 +327,34 @@ fn run(cli: Cli) -> Result<ExitCode> {
         Command::Stabilize { file, margin, json } => {
             helpers_cmd::stabilize_output(file, *margin, *json)?
         }
-        other => generated(other)?.unwrap_or_default(),
+        _ => return Ok(None),
+    }))
+}
+
+fn run(cli: Cli) -> Result<ExitCode> {
+    let Some(command) = &cli.command else {
+        return workbench(&cli).map(|_| ExitCode::SUCCESS);
+    };
+    if let Command::Check {
+        files,
+        trials,
+        json,
+        verbose,
+    } = command
+    {
+        let c = design::check(files, *trials, *json, *verbose);
+        io::stderr().write_all(&c.stderr)?;
+        let mut out = io::stdout().lock();
+        out.write_all(&c.stdout)?;
+        out.flush()?;
+        return Ok(ExitCode::from(c.code));
+    }
+    let buf = match analysis_output(command)? {
+        Some(buf) => buf,
+        None => match design_output(command)? {
+            Some(buf) => buf,
+            None => generated(command)?.unwrap_or_default(),
+        },
     };
     let stdout = io::stdout();
     let mut out = stdout.lock();

@@ -257,20 +257,7 @@ fn histogram_panel(
         .iter()
         .map(|r| r.figure(key).map_or(Vec::new(), |f| outline(f, scale)))
         .collect();
-    let limits: Vec<(usize, f64, String)> = results
-        .iter()
-        .enumerate()
-        .flat_map(|(slot, r)| {
-            let tag = if results.len() > 1 {
-                ["A ", "B "][slot.min(1)]
-            } else {
-                ""
-            };
-            limit_marks(r, key, scale)
-                .into_iter()
-                .map(move |(x, text)| (slot, x, format!("{tag}{text}")))
-        })
-        .collect();
+    let limits = tagged_limits(results, key, scale);
     let xs = outlines
         .iter()
         .flatten()
@@ -315,9 +302,22 @@ fn histogram_panel(
         };
         vmark(&mut chart, x, yr, i, text, (color, font))?;
     }
+    draw_outlines(&mut chart, &outlines, look)?;
+    if results.len() > 1 {
+        legend_at(&mut chart, font, SeriesLabelPosition::UpperRight)?;
+    }
+    Ok(())
+}
+
+/// Each stage's histogram outline in its style (A solid, B with rings).
+fn draw_outlines<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    outlines: &[Vec<(f64, f64)>],
+    look: Look,
+) -> Result<(), String> {
     for (slot, pts) in outlines.iter().enumerate().filter(|(_, p)| !p.is_empty()) {
         let st = style(slot, false, look.mono);
-        let label = if results.len() > 1 {
+        let label = if outlines.len() > 1 {
             ["A", "B"][slot.min(1)]
         } else {
             "trials"
@@ -334,10 +334,26 @@ fn histogram_panel(
             chart.draw_series(rings(pts, &st)).map_err(err)?;
         }
     }
-    if results.len() > 1 {
-        legend_at(&mut chart, font, SeriesLabelPosition::UpperRight)?;
-    }
     Ok(())
+}
+
+/// Every stage's limits on one figure: (stage, x, text), tagged A and B
+/// when there are two.
+fn tagged_limits(results: &[SpreadResult], key: &str, scale: f64) -> Vec<(usize, f64, String)> {
+    results
+        .iter()
+        .enumerate()
+        .flat_map(|(slot, r)| {
+            let tag = if results.len() > 1 {
+                ["A ", "B "][slot.min(1)]
+            } else {
+                ""
+            };
+            limit_marks(r, key, scale)
+                .into_iter()
+                .map(move |(x, text)| (slot, x, format!("{tag}{text}")))
+        })
+        .collect()
 }
 
 /// The spec limits on one figure, as (x, text) in the panel's scale.

@@ -852,6 +852,22 @@ fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
     marks
 }
 
+/// Every stage's step marks, tagged A and B when there are two.
+fn all_step_marks(app: &App) -> Vec<VMark> {
+    app.slots
+        .iter()
+        .enumerate()
+        .flat_map(|(i, s)| {
+            step_marks(&s.analysis.step)
+                .into_iter()
+                .map(move |m| VMark {
+                    label: format!("{}{}", tag(app, i), m.label),
+                    ..m
+                })
+        })
+        .collect()
+}
+
 /// The step response on a linear time axis: each stage's waveform, A's
 /// final value and ±0.1 % band, and the marks of [`step_marks`].
 fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -918,20 +934,13 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .filter(|t| *t <= end)
         .map(|t| (t, compact(t, "s")))
         .collect();
-    let marks = app
-        .slots
-        .iter()
-        .enumerate()
-        .flat_map(|(i, s)| {
-            step_marks(&s.analysis.step)
-                .into_iter()
-                .map(move |m| VMark {
-                    label: format!("{}{}", tag(app, i), m.label),
-                    ..m
-                })
-        })
-        .collect();
-    let mut p = plot(app, tr, (0.0, end), ((y0, y1), y_ticks), marks);
+    let mut p = plot(
+        app,
+        tr,
+        (0.0, end),
+        ((y0, y1), y_ticks),
+        all_step_marks(app),
+    );
     p.x_ticks = Some(x_ticks);
     // Time, not frequency: no cursor.
     p.cursor = None;
