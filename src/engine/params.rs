@@ -736,7 +736,7 @@ pub static PARAMS: [Param; 57] = [
     ),
     entry(
         "spread.dist",
-        "spread dist",
+        "spread as",
         "",
         Spread,
         Choice,
@@ -823,7 +823,7 @@ pub static PARAMS: [Param; 57] = [
     .whole(),
     entry(
         "spec.gain_target",
-        "target gain",
+        "gain aim",
         "",
         Spread,
         OneTwoFive,
@@ -834,7 +834,7 @@ pub static PARAMS: [Param; 57] = [
     .starting(crate::engine::analysis::nominal_gain),
     entry(
         "spec.gain_error_max",
-        "gain error ≤",
+        "gain err ≤",
         "",
         Spread,
         List(&ERROR_LIMITS),
