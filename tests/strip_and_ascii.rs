@@ -176,3 +176,68 @@ fn two_stage_legend_fits_at_80x24() {
     let screen = screen_at(&app, 80, 24);
     assert!(screen.contains("A ─── B ···"), "{screen}");
 }
+
+/// The 80×24 layout, cell by cell where it is fixed: the title row, the
+/// pane (33 columns) beside the plots, then the cursor readout (one row a
+/// stage), the figures (header and a row a stage, and Δ with two), the
+/// warnings and the hint line at the bottom.
+#[test]
+fn exact_layout_at_80x24_for_one_and_two_stages() {
+    let one = vec![(example("mic_preamp"), None)];
+    let two = vec![
+        (example("mic_preamp"), None),
+        (example("bridge_gain_101"), None),
+    ];
+    for stages in [one, two] {
+        let n = stages.len();
+        let app = App::new(stages, Theme::new(false, false));
+        let screen = screen_at(&app, 80, 24);
+        let rows: Vec<Vec<char>> = screen.lines().map(|l| l.chars().collect()).collect();
+        assert_eq!(rows.len(), 24);
+        assert!(rows.iter().all(|r| r.len() == 80), "{screen}");
+        let text = |r: usize| rows[r].iter().collect::<String>();
+        // The program's name at the right where the stages' names leave room.
+        assert!(text(0).starts_with(" A"), "{screen}");
+        assert!(
+            n > 1 || text(0).trim_end().ends_with("loopwright"),
+            "{screen}"
+        );
+        assert!(text(1).starts_with("╭ Parameters"), "{screen}");
+        assert_eq!(
+            (rows[1][32], rows[1][33], rows[1][79]),
+            ('╮', '╭', '╮'),
+            "{screen}"
+        );
+        let warn = (0..24).find(|&r| text(r).starts_with(" Warnings")).unwrap();
+        let figures = if n > 1 { 4 } else { 2 };
+        let readout = warn - figures - n;
+        let pane_end = readout - 1;
+        assert_eq!(
+            (rows[pane_end][0], rows[pane_end][32]),
+            ('╰', '╯'),
+            "{screen}"
+        );
+        // The pane's sides; on the right the plots' sides and corners
+        // (the response plot above the impedance plot).
+        for r in 2..pane_end {
+            assert_eq!((rows[r][0], rows[r][32]), ('│', '│'), "row {r}\n{screen}");
+            assert!("│╯╮".contains(rows[r][79]), "row {r}\n{screen}");
+        }
+        assert_eq!(rows[pane_end][79], '╯', "{screen}");
+        for (i, tag) in ["A", "B"].iter().take(n).enumerate() {
+            assert!(
+                text(readout + i).starts_with(&format!("{tag} @ ")),
+                "{screen}"
+            );
+            assert!(
+                text(readout + n + 1 + i).starts_with(&format!("{tag} ")),
+                "{screen}"
+            );
+        }
+        assert!(text(readout + n).contains(" gain ") && text(readout + n).contains("f-3dB"));
+        if n > 1 {
+            assert!(text(readout + n + 3).starts_with("Δ "), "{screen}");
+        }
+        assert!(text(23).contains("? keys"), "{screen}");
+    }
+}
