@@ -219,9 +219,9 @@ fn exact_layout_at_80x24_for_one_and_two_stages() {
         );
         // The pane's sides; on the right the plots' sides and corners
         // (the response plot above the impedance plot).
-        for r in 2..pane_end {
-            assert_eq!((rows[r][0], rows[r][32]), ('│', '│'), "row {r}\n{screen}");
-            assert!("│╯╮".contains(rows[r][79]), "row {r}\n{screen}");
+        for (r, row) in rows.iter().enumerate().take(pane_end).skip(2) {
+            assert_eq!((row[0], row[32]), ('│', '│'), "row {r}\n{screen}");
+            assert!("│╯╮".contains(row[79]), "row {r}\n{screen}");
         }
         assert_eq!(rows[pane_end][79], '╯', "{screen}");
         for (i, tag) in ["A", "B"].iter().take(n).enumerate() {
