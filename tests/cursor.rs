@@ -99,3 +99,31 @@ fn keys_move_jump_and_stay_within_the_sweep() {
     assert_eq!(app.probe_hz, top);
     assert!(app.status.contains("outside the sweep"), "{}", app.status);
 }
+
+/// Issue 12 item 13: the figures header keeps its columns in place as the
+/// cursor moves, even where the probed frequency's text grows
+/// ("Zout@1k" to "Zout@12.6M").
+#[test]
+fn figures_header_keeps_its_columns_as_the_cursor_moves() {
+    let (a, _) = example("line_driver_cable");
+    let mut app = App::new(vec![(a, None)], Theme::new(false, false));
+    let header_at = |app: &App| {
+        let screen = screen_at(app, 120, 40);
+        let line = screen
+            .lines()
+            .find(|l| l.contains("noise rms"))
+            .unwrap()
+            .to_string();
+        line.chars()
+            .collect::<Vec<_>>()
+            .windows(9)
+            .position(|w| w.iter().collect::<String>() == "noise rms")
+            .unwrap()
+    };
+    let before = header_at(&app);
+    app.on_key(key(KeyCode::Char('f')));
+    type_text(&mut app, "12.6M");
+    app.on_key(key(KeyCode::Enter));
+    assert!(screen_at(&app, 120, 40).contains("Zout@12.6M"));
+    assert_eq!(header_at(&app), before);
+}

@@ -331,6 +331,12 @@ fn the_title_can_be_edited() {
     type_text(&mut a, "Strain gauge, gain 11");
     a.on_key(key(KeyCode::Enter));
     assert_eq!(a.slots[0].scenario.title, "Strain gauge, gain 11");
+    // The status line speaks of the title, not of the selected parameter.
+    assert!(
+        a.status.contains("title → Strain gauge, gain 11"),
+        "{}",
+        a.status
+    );
     assert!(a.slots[0].dirty);
     assert!(screen_at(&a, 80, 24).contains("Strain gauge, gain 11"));
     // Esc keeps the title.

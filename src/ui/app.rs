@@ -417,15 +417,28 @@ impl App {
 
     /// Apply a change to the active scenario; keep it only if it is valid.
     fn change(&mut self, what: &str, f: impl FnOnce(&mut Scenario) -> Result<(), String>) {
+        if self.apply_change(what, f) {
+            let shown = self.selected.display(&self.slot().scenario);
+            self.report_change(what, &shown);
+        }
+    }
+
+    /// Apply a change to the edited stage's scenario if it validates;
+    /// false (and an error on the status line) when it does not.
+    fn apply_change(
+        &mut self,
+        what: &str,
+        f: impl FnOnce(&mut Scenario) -> Result<(), String>,
+    ) -> bool {
         let mut s = self.slot().scenario.clone();
         if let Err(e) = f(&mut s) {
             self.error(format!("{what}: {e} (value unchanged)"));
-            return;
+            return false;
         }
         if let Err(problems) = s.validate() {
             let p = &problems[0];
             self.error(format!("{}: {} (value unchanged)", p.field, p.message));
-            return;
+            return false;
         }
         let probe = self.probe_hz;
         let slot = &mut self.slots[self.active];
@@ -434,7 +447,10 @@ impl App {
             slot.dirty = true;
             slot.refresh(probe);
         }
-        let shown = self.selected.display(&self.slot().scenario);
+        true
+    }
+
+    fn report_change(&mut self, what: &str, shown: &str) {
         self.info(format!(
             "{}: {what} → {shown}",
             Self::slot_label(self.active)
@@ -507,10 +523,15 @@ impl App {
                     match kind {
                         Prompt::SaveAs => self.save_as(&text),
                         Prompt::Probe => self.set_probe(&text),
-                        Prompt::Title => self.change("title", |s| {
-                            s.title = text.trim().to_string();
-                            Ok(())
-                        }),
+                        Prompt::Title => {
+                            let title = text.trim().to_string();
+                            if self.apply_change("title", |s| {
+                                s.title = title.clone();
+                                Ok(())
+                            }) {
+                                self.report_change("title", &title);
+                            }
+                        }
                         Prompt::Gain => self.list_pairs(&text),
                     }
                 }

@@ -1079,6 +1079,12 @@ fn usual_width(unit: crate::engine::figures::Unit) -> usize {
     }
 }
 
+/// A header's width at the widest cursor text ("12.6M"), so a column
+/// named after the cursor's frequency keeps its place as the cursor moves.
+fn widest_header(f: &Figure) -> usize {
+    f.short.replace("{f}", "12.6M").chars().count()
+}
+
 fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let probe = compact(app.probe_hz, "");
@@ -1098,7 +1104,11 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             .map(|c| {
                 rows.iter()
                     .map(|cells| cells[c].chars().count())
-                    .chain([header[c].chars().count(), usual_width(cols[c].unit)])
+                    .chain([
+                        header[c].chars().count(),
+                        widest_header(cols[c]),
+                        usual_width(cols[c].unit),
+                    ])
                     .max()
                     .unwrap_or(4)
             })
