@@ -65,21 +65,12 @@ fn vmark<'a, 'b: 'a>(
 
 /// The step waveforms to draw: in volts, or each divided by its own final
 /// value when the stages step by different sizes (then comparable).
-/// Waveforms, one per stage.
-type Waves = Vec<Vec<(f64, f64)>>;
-
-fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
-    let sizes: Vec<f64> = stages.iter().map(|s| s.eval.step.size_v).collect();
-    let same = sizes.windows(2).all(|w| w[0] == w[1]);
-    let waves = stages.iter().map(|s| {
-        let w = s.eval.step.sampled(end, 400);
-        match (same, s.eval.step.final_v) {
-            (false, Some(f)) if f != 0.0 => w.into_iter().map(|(t, v)| (t, v / f)).collect(),
-            _ => w,
-        }
-    });
-    let unit = (!same).then_some("output / its final value");
-    (waves.collect(), unit)
+/// The waveforms and, when each is divided by its final value, the axis
+/// description that says so.
+fn step_waves(stages: &[Stage], end: f64) -> (Vec<Vec<(f64, f64)>>, Option<&'static str>) {
+    let responses: Vec<_> = stages.iter().map(|s| &s.eval.step).collect();
+    let (waves, divided) = crate::engine::step::shown_waves(&responses, end, 400);
+    (waves, divided.then_some("output / its final value"))
 }
 
 /// The step response of each stage against time, the ±0.1 % band around

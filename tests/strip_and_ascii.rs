@@ -241,3 +241,21 @@ fn exact_layout_at_80x24_for_one_and_two_stages() {
         assert!(text(23).contains("? keys"), "{screen}");
     }
 }
+
+/// Two stages whose steps settle far apart (gain 2 and gain 101 on the
+/// same 10 mV step): the step view shows each against its own final
+/// value, and the summary line speaks of both.
+#[test]
+fn step_view_of_two_stages_compares_them() {
+    let (a, b) = (example("line_driver_cable"), example("mic_preamp"));
+    let mut app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    while app.view != loopwright::ui::app::View::Step {
+        app.on_key(key(KeyCode::Char('v')));
+    }
+    let screen = screen_at(&app, 120, 40);
+    assert!(screen.contains("output / final value"), "{screen}");
+    assert!(
+        screen.contains("A overshoot") && screen.contains("B overshoot"),
+        "{screen}"
+    );
+}

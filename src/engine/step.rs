@@ -943,3 +943,33 @@ fn figures(r: &mut StepResponse, ended: bool) {
     r.peak_time_s = (over > 0.0).then_some(peak_t);
     r.settle_s = settle;
 }
+
+/// Waveforms to draw side by side, `n` samples each from 0 to `end`: in
+/// volts, or each divided by its own final value when the stages step by
+/// different sizes or settle more than twice apart (one would lie flat on
+/// the other's scale). True when divided.
+pub fn shown_waves(
+    responses: &[&StepResponse],
+    end: f64,
+    n: usize,
+) -> (Vec<Vec<(f64, f64)>>, bool) {
+    let comparable = |a: &StepResponse, b: &StepResponse| {
+        let ratio = match (a.final_v, b.final_v) {
+            (Some(x), Some(y)) if x != 0.0 && y != 0.0 => (x / y).abs(),
+            _ => 1.0,
+        };
+        a.size_v == b.size_v && (0.5..=2.0).contains(&ratio)
+    };
+    let same = responses.windows(2).all(|w| comparable(w[0], w[1]));
+    let waves = responses
+        .iter()
+        .map(|r| {
+            let w = r.sampled(end, n);
+            match (same, r.final_v) {
+                (false, Some(f)) if f != 0.0 => w.into_iter().map(|(t, v)| (t, v / f)).collect(),
+                _ => w,
+            }
+        })
+        .collect();
+    (waves, !same)
+}

@@ -798,26 +798,33 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 
 /// The step view's bottom line: overshoot, settling, limits.
 fn step_summary(app: &App) -> String {
-    let slot = app.slot();
+    let each: Vec<String> = (0..app.slots.len())
+        .map(|i| format!("{}{}", tag(app, i), stage_step_summary(&app.slots[i])))
+        .collect();
+    format!(" {} ", each.join(" · "))
+}
+
+/// One stage's overshoot and settling (or why not).
+fn stage_step_summary(slot: &Slot) -> String {
     let r = &slot.analysis.step;
     let pct = |v: f64| format!("{}%", crate::engine::values::fmt_plain(v, 3));
     match (r.final_v, r.settle_s[1]) {
-        _ if slot.analysis.unstable() => " unstable: no step response ".to_string(),
+        _ if slot.analysis.unstable() => "unstable: no step response".to_string(),
         (Some(_), Some(ts)) => {
             let mut t = format!(
-                " overshoot {} · 0.1 % in {}",
+                "overshoot {}, 0.1 % in {}",
                 pct(r.overshoot_pct.unwrap_or(0.0)),
                 compact(ts, "s")
             );
             if r.slew_limited == Some(true) {
-                t.push_str(" · slewing");
+                t.push_str(", slewing");
             }
             if r.clipped == Some(true) {
-                t.push_str(" · at a rail");
+                t.push_str(", at a rail");
             }
-            t + " "
+            t
         }
-        _ => " does not settle in the window ".to_string(),
+        _ => "does not settle in the window".to_string(),
     }
 }
 
@@ -872,26 +879,25 @@ fn all_step_marks(app: &App) -> Vec<VMark> {
 /// final value and ±0.1 % band, and the marks of [`step_marks`].
 fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let r = &app.slot().analysis.step;
+    let end = step_window(app);
+    let n = (area.width as usize * 4).clamp(50, 600);
+    let responses: Vec<_> = app.slots.iter().map(|s| &s.analysis.step).collect();
+    let (waves, divided) = crate::engine::step::shown_waves(&responses, end, n);
+    let sizes: Vec<String> = responses.iter().map(|r| compact(r.size_v, "V")).collect();
+    let unit = if divided { "output / final value" } else { "V" };
     let title = format!(
-        " Step response, {} step, V{} ",
-        compact(r.size_v, "V"),
+        " Step response, {} step, {unit}{} ",
+        sizes.join(" / "),
         legend(app)
     );
     let b = block(app, title).title_bottom(Line::styled(step_summary(app), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
-    let end = step_window(app);
     if end <= 0.0 {
         return;
     }
-    let n = (inner.width as usize * 2).clamp(50, 600);
-    let waves: Vec<Vec<(f64, f64)>> = app
-        .slots
-        .iter()
-        .map(|s| s.analysis.step.sampled(end, n))
-        .collect();
-    let lines: Vec<Vec<(f64, f64)>> = r
-        .final_v
+    let final_shown = if divided { Some(1.0) } else { r.final_v };
+    let lines: Vec<Vec<(f64, f64)>> = final_shown
         .map(|f| {
             [1.0, 1.001, 0.999]
                 .iter()
