@@ -259,3 +259,19 @@ fn step_view_of_two_stages_compares_them() {
         "{screen}"
     );
 }
+
+/// Where a whole margin note finds no free cells its short form shows, so
+/// both stages' margins are written at 120×40 and 80×24.
+#[test]
+fn both_margins_written_on_a_crowded_loop_view() {
+    let (a, b) = (example("line_driver_cable"), example("mic_preamp"));
+    let mut app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    app.on_key(key(KeyCode::Char('v')));
+    for (w, h) in [(120, 40), (80, 24)] {
+        let s = screen_at(&app, w, h);
+        assert!(
+            s.contains("A margin") && s.contains("B margin"),
+            "{w}x{h}\n{s}"
+        );
+    }
+}

@@ -255,8 +255,14 @@ impl LogPlot<'_> {
                 continue;
             }
             let col = (map.dot(m.x, self.y_range.0).0.round() / 2.0) as u16;
-            if let Some(spot) = mark_label_spot(col, i as u16, &m.label, &taken, plot) {
-                put_label(plot, spot, &m.label, self.mark_style, &mut taken, buf);
+            // Where the whole note finds no free cells, its part before
+            // " @ " (the frequency is the mark's own place).
+            let short = m.label.split_once(" @ ").map(|(head, _)| head);
+            for text in std::iter::once(m.label.as_str()).chain(short) {
+                if let Some(spot) = mark_label_spot(col, i as u16, text, &taken, plot) {
+                    put_label(plot, spot, text, self.mark_style, &mut taken, buf);
+                    break;
+                }
             }
         }
     }
