@@ -113,8 +113,8 @@ fn crossover_mark(s: &Stage) -> Vec<Mark> {
         .map(|f| Mark {
             f_hz: f,
             text: match e.phase_margin_deg {
-                Some(pm) => format!("fc {}, PM {pm:.0}°", fmt_eng(f, "Hz")),
-                None => format!("fc {}", fmt_eng(f, "Hz")),
+                Some(pm) => format!("margin {pm:.0}° @ {}", fmt_eng(f, "Hz")),
+                None => format!("crossover {}", fmt_eng(f, "Hz")),
             },
         })
         .into_iter()
@@ -152,6 +152,30 @@ const fn linear(
         marks: no_marks,
         own: Some(chart),
     }
+}
+
+/// |Zout| at the load terminal, |Zin| in its own tone and, where riso
+/// makes it differ, |Zout| at the amplifier pin.
+fn impedance_curves(t: &Traces) -> Vec<Curve> {
+    let mut c = vec![
+        curve("|Zout|", false, &t.zout),
+        Curve {
+            tone: 1,
+            ..curve("|Zin|", false, &t.zin)
+        },
+    ];
+    let differs = t.zout_pin.len() != t.zout.len()
+        || t.zout_pin
+            .iter()
+            .zip(&t.zout)
+            .any(|(p, z)| (p.1 - z.1).abs() > 1e-6);
+    if differs {
+        c.push(Curve {
+            tone: 2,
+            ..curve("|Zout| at the pin", false, &t.zout_pin)
+        });
+    }
+    c
 }
 
 /// The envelope needs the signal's peak.
@@ -268,12 +292,7 @@ pub static VIEWS: [View; 7] = [
             log_unit: Some("Ω"),
         },
         right: None,
-        curves: |t| {
-            vec![
-                curve("|Zout|", false, &t.zout),
-                curve("|Zin|", false, &t.zin),
-            ]
-        },
+        curves: impedance_curves,
         marks: no_marks,
         own: None,
     },

@@ -120,10 +120,12 @@ fn two_stages_legend_size_and_units() {
     }
     // The footer names both stages' phase margins.
     assert!(t.iter().filter(|s| s.contains("PM ")).count() >= 2);
-    // Both stages have rin, so both |Zin| curves exist beside |Zout|.
+    // Both stages have rin, so both |Zin| curves exist beside |Zout|, and
+    // both have riso, so |Zout| at the pin differs from it: three each.
     let text = svg(&[&a, &b, "--view", "impedance"], &out);
     let doc = roxmltree::Document::parse(&text).unwrap();
-    assert_eq!(curves(&doc), 4);
+    assert_eq!(curves(&doc), 6);
+    assert!(texts(&doc).iter().any(|s| s.contains("|Zout| at the pin")));
     assert!(texts(&doc).iter().any(|s| s == "|Z| (Ω)"));
     std::fs::remove_dir_all(&dir).ok();
 }
