@@ -174,12 +174,13 @@ fn draw_wave<'a, 'b: 'a>(
     Ok(())
 }
 
-/// The histograms the spread view draws, with their names.
-const SHOWN: [(&str, &str); 3] = [
-    ("target_error", "gain error against the target"),
-    ("f_3db_hz", "f−3dB"),
-    ("phase_margin_deg", "phase margin"),
-];
+/// A histogram's name over its panel.
+fn panel_name(key: &str) -> &'static str {
+    match key {
+        "f_3db_hz" => "f−3dB",
+        other => unit_and_label(other).1,
+    }
+}
 
 /// A histogram as one step outline: up and down each bin from min to max.
 fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
@@ -227,8 +228,10 @@ pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> Res
         ("sans-serif", font + 4).into_font(),
     ))
     .map_err(err)?;
-    for (panel, (key, name)) in body.split_evenly((1, 3)).iter().zip(SHOWN) {
-        histogram_panel(panel, &results, (key, name), look, font)?;
+    // A's histograms (and B's of the same figures).
+    let keys = spread::shown_figures(&results[0], 4);
+    for (panel, key) in body.split_evenly((1, keys.len())).iter().zip(&keys) {
+        histogram_panel(panel, &results, (key, panel_name(key)), look, font)?;
     }
     Ok(())
 }

@@ -49,7 +49,8 @@ fn spread_view_shows_histograms_limits_and_yield_at_80x24() {
     );
     assert!(screen.contains(&y), "{y}\n{screen}");
     // The limit the trials fail is named.
-    assert!(screen.contains("settle_max_s"), "{screen}");
+    // The limit the trials fail is named, with how many fail.
+    assert!(screen.contains("trials failing: settling"), "{screen}");
     // Larger screens too.
     let big = screen_at(&a, 120, 40);
     assert!(big.contains("yield") && big.contains("margin"), "{big}");

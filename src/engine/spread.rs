@@ -510,3 +510,18 @@ pub fn unit_and_label(key: &str) -> (super::figures::Unit, &'static str) {
         ),
     }
 }
+
+/// The histograms a view draws: the gain error, f−3dB and the phase
+/// margin, then the figure of each limit that trials fail (so the reason
+/// for a low yield is on the chart), at most `most` in all.
+pub fn shown_figures(r: &SpreadResult, most: usize) -> Vec<&'static str> {
+    let mut keys = vec!["target_error", "f_3db_hz", "phase_margin_deg"];
+    for l in r.limits.iter().filter(|l| l.failed > 0) {
+        let key = l.limit.figures[0];
+        if !keys.contains(&key) && r.figure(key).is_some() {
+            keys.push(key);
+        }
+    }
+    keys.truncate(most);
+    keys
+}

@@ -11,12 +11,16 @@ use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::Line;
 use ratatui::widgets::{Paragraph, Widget};
 
-/// The figures the view draws, left to right, with their short names.
-pub const SHOWN: [(&str, &str); 3] = [
-    ("target_error", "gain error"),
-    ("f_3db_hz", "f−3dB"),
-    ("phase_margin_deg", "margin"),
-];
+/// A histogram's name in a narrow panel.
+fn short_name(key: &str) -> &'static str {
+    match key {
+        "target_error" => "gain error",
+        "f_3db_hz" => "f−3dB",
+        "phase_margin_deg" => "margin",
+        "settle_01pct_s" => "settling",
+        other => crate::engine::figures::figure(other).map_or("", |f| f.short),
+    }
+}
 
 /// Eighth blocks for the bar tops.
 const EIGHTHS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];
@@ -45,10 +49,11 @@ pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
         return;
     };
     Paragraph::new(yield_lines(app, r)).render(head, buf);
-    let cols = Layout::horizontal([Constraint::Fill(1); 3]).areas::<3>(body);
-    for ((key, name), col) in SHOWN.iter().zip(cols) {
+    let keys = crate::engine::spread::shown_figures(r, 4);
+    let cols = Layout::horizontal(vec![Constraint::Fill(1); keys.len()]).split(body);
+    for (key, col) in keys.iter().zip(cols.iter()) {
         if let Some(f) = r.figure(key) {
-            panel(app, r, (f, name), col, buf);
+            panel(app, r, (f, short_name(key)), *col, buf);
         }
     }
 }
@@ -64,7 +69,14 @@ fn yield_lines(app: &App, r: &SpreadResult) -> Vec<Line<'static>> {
                 .limits
                 .iter()
                 .filter(|l| l.failed > 0 || !l.nominal_pass)
-                .map(|l| format!("{} {}", l.limit.field, l.failed))
+                .map(|l| {
+                    format!(
+                        "{} {} of {}",
+                        short_name(l.limit.figures[0]),
+                        l.failed,
+                        r.trials
+                    )
+                })
                 .collect();
             let failing = if failing.is_empty() {
                 "every trial meets every limit".to_string()
