@@ -5,7 +5,7 @@
 use crate::engine::figures::{Section, FIGURES};
 use crate::engine::params::PARAMS;
 use crate::engine::scenario::Scenario;
-use crate::engine::values::{fmt_eng, printable};
+use crate::engine::values::{fmt_eng, fmt_plain, printable};
 use crate::engine::Evaluation;
 use std::io::{self, Write};
 
@@ -68,9 +68,15 @@ fn write_figures(s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result
     writeln!(w)?;
     writeln!(w, "| figure | value |")?;
     writeln!(w, "| --- | --- |")?;
-    for sec in Section::ALL {
+    // As the text report: a section only where its inputs are given, a
+    // figure that needs an input left out when it has none.
+    for sec in Section::ALL.into_iter().filter(|s| s.shown_for(e)) {
         for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
-            writeln!(w, "| {} | {} |", cell(f.label), cell(&f.text(f.read(e))))?;
+            let r = f.read(e);
+            if f.needs_input && r == crate::engine::figures::Reading::Undefined {
+                continue;
+            }
+            writeln!(w, "| {} | {} |", cell(f.label), cell(&f.text(r)))?;
         }
     }
     writeln!(
@@ -80,6 +86,55 @@ fn write_figures(s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result
         fmt_eng(s.band.1, "Hz")
     )?;
     Ok(())
+}
+
+/// The spec over the tolerances: each limit on the nominal stage and the
+/// worst trial, and the yield (the numbers of `check --verbose`).
+fn write_spec(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
+    use crate::engine::spread::{spread, unit_and_label, Run};
+    if s.spec.is_none() {
+        return Ok(());
+    }
+    let r = spread(s, &Run::default());
+    writeln!(w)?;
+    writeln!(w, "## Spec over the tolerances")?;
+    writeln!(w)?;
+    writeln!(
+        w,
+        "| limit | value | nominal | worst trial | trials failing |"
+    )?;
+    writeln!(w, "| --- | --- | --- | --- | --- |")?;
+    for l in &r.limits {
+        let unit = unit_and_label(l.limit.figures[0]).0;
+        let num = |v: Option<f64>| v.map_or("undefined".to_string(), |v| unit.number(v, false));
+        let nominal = format!(
+            "{}{}",
+            num(l.nominal),
+            if l.nominal_pass { "" } else { " (fails)" }
+        );
+        writeln!(
+            w,
+            "| `{}` | {} | {} | {} | {} of {} |",
+            l.limit.field,
+            num(Some(l.value)),
+            cell(&nominal),
+            num(l.worst),
+            l.failed,
+            r.trials
+        )?;
+    }
+    writeln!(w)?;
+    let verdict = if r.passes() { "meets" } else { "does not meet" };
+    match r.yield_frac {
+        Some(y) => writeln!(
+            w,
+            "Yield {} % over {} trials (the spec asks {} %): the stage {verdict} its spec.",
+            fmt_plain(100.0 * y, 4),
+            r.trials,
+            fmt_plain(100.0 * r.yield_min, 4)
+        ),
+        None => Ok(()),
+    }
 }
 
 fn write_warnings(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
@@ -123,6 +178,7 @@ pub fn write_markdown(
     write_parts(s, w)?;
     writeln!(w)?;
     write_figures(s, e, w)?;
+    write_spec(s, w)?;
     writeln!(w)?;
     write_warnings(e, w)?;
     if !figures.is_empty() {

@@ -173,3 +173,33 @@ fn manual_to_a_file_refuses_to_overwrite() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A file with a spec gets the spec over the tolerances in its note: each
+/// limit, and the yield with the verdict `check` gives (exit 1 = fails).
+#[test]
+fn note_holds_the_spec_and_its_yield() {
+    for (name, passes) in [
+        ("adc_driver_2n2.ron", false),
+        ("line_driver_cable.ron", true),
+    ] {
+        let p = scenario(name);
+        let md = unescaped(&stdout_of(&["report", &p, "--md"]));
+        assert!(md.contains("## Spec over the tolerances"), "{md}");
+        assert!(md.contains("| `pm_min_deg` |"), "{md}");
+        let code = common::bin()
+            .args(["check", &p])
+            .output()
+            .unwrap()
+            .status
+            .code();
+        assert_eq!(code == Some(0), passes);
+        let verdict = if passes {
+            "the stage meets its spec"
+        } else {
+            "the stage does not meet its spec"
+        };
+        assert!(md.contains(verdict), "{md}");
+    }
+    // Without a spec, no such section.
+    assert!(!stdout_of(&["report", &scenario("mic_preamp.ron"), "--md"]).contains("## Spec"));
+}
