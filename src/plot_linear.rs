@@ -65,9 +65,12 @@ fn vmark<'a, 'b: 'a>(
 
 /// The step waveforms to draw: in volts, or each divided by its own final
 /// value when the stages step by different sizes (then comparable).
+/// Waveforms, one per stage.
+type Waves = Vec<Vec<(f64, f64)>>;
+
 /// The waveforms and, when each is divided by its final value, the axis
 /// description that says so.
-fn step_waves(stages: &[Stage], end: f64) -> (Vec<Vec<(f64, f64)>>, Option<&'static str>) {
+fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
     let responses: Vec<_> = stages.iter().map(|s| &s.eval.step).collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, 400);
     (waves, divided.then_some("output / its final value"))
