@@ -275,3 +275,21 @@ fn both_margins_written_on_a_crowded_loop_view() {
         );
     }
 }
+
+/// At 80×24 the help shows every key, and says that its notes (the plot
+/// legend and the rest) continue on a taller terminal.
+#[test]
+fn help_at_80x24_says_what_it_leaves_out() {
+    let mut app = App::new(
+        vec![(example("mic_preamp"), None)],
+        Theme::new(false, false),
+    );
+    app.on_key(key(KeyCode::Char('?')));
+    let small = screen_at(&app, 80, 24);
+    assert!(small.contains("more notes on a taller terminal"), "{small}");
+    let tall = screen_at(&app, 80, 40);
+    assert!(!tall.contains("more notes"), "{tall}");
+    for (k, _) in loopwright::ui::keys::LEGEND {
+        assert!(tall.contains(k), "{k}\n{tall}");
+    }
+}

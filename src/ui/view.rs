@@ -1311,7 +1311,12 @@ fn help_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .collect();
     let r = centered(area, 78, rows.len() as u16 + 2);
     Clear.render(r, buf);
-    let b = block(app, " Keys ");
+    let mut b = block(app, " Keys ");
+    let hidden = keys::LEGEND.len().saturating_sub(legend);
+    if hidden > 0 {
+        let more = format!(" {hidden} more notes on a taller terminal, all in the README ");
+        b = b.title_bottom(Line::styled(more, app.theme.dim));
+    }
     let inner = b.inner(r);
     b.render(r, buf);
     let lines: Vec<Line> = rows
