@@ -51,7 +51,7 @@ fn readout_equals_report_at_for_a_and_b() {
         }
         // The line on screen: 20·log10 |H| with one decimal and the phase.
         let line = format!(
-            "{label} @ 10kHz · gain {:.1}dB ∠{:.1}°",
+            "{label} @ 10kHz · gain {:.1}dB∠{:.1}°",
             20.0 * p["gain_mag"].as_f64().unwrap().log10(),
             p["gain_phase_deg"].as_f64().unwrap()
         );
@@ -126,4 +126,20 @@ fn figures_header_keeps_its_columns_as_the_cursor_moves() {
     app.on_key(key(KeyCode::Enter));
     assert!(screen_at(&app, 120, 40).contains("Zout@12.6M"));
     assert_eq!(header_at(&app), before);
+}
+
+/// At 80 columns the readout still holds every part (closer set), for A
+/// and for B.
+#[test]
+fn readout_fits_every_part_at_80_columns() {
+    let (a, _) = example("mic_preamp");
+    let (b, _) = example("bridge_gain_101");
+    let app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    let screen = screen_at(&app, 80, 24);
+    for tag in ["A @ ", "B @ "] {
+        let line = screen.lines().find(|l| l.starts_with(tag)).unwrap();
+        for part in ["gain ", "loop ", "Zout ", "Zin ", "en "] {
+            assert!(line.contains(part), "{part} in {line}");
+        }
+    }
 }

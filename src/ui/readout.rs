@@ -16,25 +16,49 @@ fn eng(v: f64, unit: &str) -> String {
 /// The readout's parts for one stage, most important first.
 pub fn parts(r: &PointReport) -> Vec<String> {
     let db = |m: f64| fmt_fixed(20.0 * m.log10(), 1);
-    let deg = |p: Option<f64>| p.map_or(String::new(), |p| format!(" ∠{}°", fmt_fixed(p, 1)));
+    let deg = |p: Option<f64>, d| p.map_or(String::new(), |p| format!("∠{}°", fmt_fixed(p, d)));
     let mut out = Vec::new();
     if let Some(g) = r.gain_mag {
-        out.push(format!("gain {}dB{}", db(g), deg(r.gain_phase_deg)));
+        out.push(format!("gain {}dB{}", db(g), deg(r.gain_phase_deg, 1)));
     }
     if let Some(l) = r.loop_mag {
-        out.push(format!("loop {}dB{}", db(l), deg(r.loop_phase_deg)));
+        out.push(format!("loop {}dB{}", db(l), deg(r.loop_phase_deg, 0)));
     }
     if let Some(z) = r.zout_mag {
-        out.push(format!("|Zout| {}", eng(z, "Ω")));
+        out.push(format!("Zout {}", eng(z, "Ω")));
     }
     out.push(match r.zin_mag {
-        Some(z) => format!("|Zin| {}", eng(z, "Ω")),
-        None => "|Zin| open".into(),
+        Some(z) => format!("Zin {}", eng(z, "Ω")),
+        None => "Zin open".into(),
     });
     if let Some(n) = r.noise_density {
         out.push(format!("en {}", eng(n, "V/√Hz")));
     }
     out
+}
+
+/// The head and the parts joined by the widest separator that lets all
+/// of them fit; else single spaces and as many parts as fit.
+fn fit(head: &str, parts: &[String], width: usize) -> String {
+    let len = |sep: &str| {
+        head.chars().count()
+            + parts
+                .iter()
+                .map(|p| sep.chars().count() + p.chars().count())
+                .sum::<usize>()
+    };
+    let sep = [" · ", "  "]
+        .into_iter()
+        .find(|s| len(s) <= width)
+        .unwrap_or(" ");
+    let mut text = head.to_string();
+    for p in parts {
+        if text.chars().count() + sep.chars().count() + p.chars().count() > width {
+            break;
+        }
+        text = format!("{text}{sep}{p}");
+    }
+    text
 }
 
 /// Each stage's line: its label, the cursor, then as many parts as fit.
@@ -45,15 +69,8 @@ pub fn draw(app: &App, area: Rect, buf: &mut Buffer) {
             break;
         }
         let head = format!("{} @ {}", App::slot_label(i), eng(app.probe_hz, "Hz"));
-        let mut text = head.clone();
-        if let Some(r) = &slot.readout {
-            for p in parts(r) {
-                if text.chars().count() + 3 + p.chars().count() > width {
-                    break;
-                }
-                text = format!("{text} · {p}");
-            }
-        }
+        let parts = slot.readout.as_ref().map(parts).unwrap_or_default();
+        let text = fit(&head, &parts, width);
         let rest = text[head.len()..].to_string();
         let line = Line::from(vec![
             Span::styled(head, app.theme.marker),
