@@ -293,3 +293,15 @@ fn help_at_80x24_says_what_it_leaves_out() {
         assert!(tall.contains(k), "{k}\n{tall}");
     }
 }
+
+/// In ASCII, B's trace is `o`: not the `+` of the axis ticks and corners.
+#[test]
+fn ascii_b_trace_is_not_the_tick_character() {
+    let s = example("mic_preamp");
+    let mut b = s.clone();
+    b.stage.rf = Some(4.7e3);
+    let app = App::new(vec![(s, None), (b, None)], Theme::new(false, true));
+    let screen = screen_at(&app, 120, 40);
+    assert!(screen.contains("A *** B ooo"), "{screen}");
+    assert!(screen.lines().any(|l| l.contains("oo")), "{screen}");
+}

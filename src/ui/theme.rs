@@ -97,7 +97,7 @@ impl Theme {
     /// Marker of the A trace (solid line) and the B trace (dots).
     pub fn markers(&self) -> (Marker, Marker) {
         if self.ascii {
-            (Marker::Custom('*'), Marker::Custom('+'))
+            (Marker::Custom('*'), Marker::Custom('o'))
         } else {
             (Marker::Braille, Marker::Dot)
         }

@@ -319,7 +319,7 @@ fn scroll_marks(
 fn legend(app: &App) -> String {
     if app.slots.len() > 1 {
         if app.theme.ascii {
-            "  A *** B +++".into()
+            "  A *** B ooo".into()
         } else {
             "  A ─── B ···".into()
         }
