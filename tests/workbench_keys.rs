@@ -320,8 +320,11 @@ fn backspace_takes_back_the_last_change_and_puts_it_back() {
     a.on_key(key(KeyCode::Backspace));
     assert_eq!(a.slots[0].scenario, before);
     assert!(screen_at(&a, 80, 24).contains("10kΩ"));
+    assert!(a.status.contains("taken back"), "{}", a.status);
     a.on_key(key(KeyCode::Backspace));
     assert_eq!(a.slots[0].scenario, after);
+    // The message says which way it went.
+    assert!(a.status.contains("put back"), "{}", a.status);
 }
 
 #[test]

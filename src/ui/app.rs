@@ -107,6 +107,8 @@ pub struct Slot {
     pub untitled: String,
     /// The scenario before the last change (one level of undo).
     pub undo: Option<Scenario>,
+    /// Whether the last Backspace took a change back (the next puts it back).
+    pub undone: bool,
 }
 
 impl Slot {
@@ -129,6 +131,7 @@ impl Slot {
             original,
             untitled: "(built-in demo)".into(),
             undo: None,
+            undone: false,
         };
         slot.set_probe(probe_hz);
         slot
@@ -443,6 +446,7 @@ impl App {
         let probe = self.probe_hz;
         let slot = &mut self.slots[self.active];
         if slot.scenario != s {
+            slot.undone = false;
             slot.undo = Some(std::mem::replace(&mut slot.scenario, s));
             slot.dirty = true;
             slot.refresh(probe);
@@ -834,7 +838,8 @@ impl App {
                 self.info(format!("cursor at {}", values::fmt_eng(f, "Hz")));
             }
             Ok(f) => self.error(format!(
-                "{f} Hz is outside the sweep, {range} (cursor unchanged)"
+                "{} is outside the sweep, {range} (cursor unchanged)",
+                values::fmt_eng(f, "Hz")
             )),
             Err(e) => self.error(format!("{e} (unchanged)")),
         }
@@ -916,12 +921,16 @@ impl App {
         };
         slot.undo = Some(std::mem::replace(&mut slot.scenario, before));
         slot.dirty = true;
+        slot.undone = !slot.undone;
+        let what = if slot.undone {
+            "last change taken back (Backspace again puts it back)"
+        } else {
+            "change put back (Backspace again takes it back)"
+        };
         slot.refresh(probe);
         self.ensure_visible_selection();
         self.warn_scroll = 0;
-        self.info(format!(
-            "{label}: last change taken back (Backspace again puts it back)"
-        ));
+        self.info(format!("{label}: {what}"));
     }
 
     pub fn save(&mut self) {
