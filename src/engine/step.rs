@@ -260,25 +260,27 @@ fn coordinates(c: &Mat) -> Coordinates {
     }
 }
 
-fn reduce(eq: &TimeEquations) -> Option<Reduced> {
+/// The equations without the known (source) node and its branch: G and C
+/// on the kept unknowns, the source's drive β·E and its derivative's γ·Ė.
+struct Kept {
+    keep: Vec<usize>,
+    g: Mat,
+    c: Mat,
+    beta: Vec<f64>,
+    gamma: Vec<f64>,
+}
+
+/// 1. The known node and its branch leave; E moves to the right.
+fn without_known(eq: &TimeEquations) -> Kept {
     let n = eq.n;
-    let (g, c) = (
-        Mat {
-            rows: n,
-            cols: n,
-            a: eq.g.clone(),
-        },
-        Mat {
-            rows: n,
-            cols: n,
-            a: eq.c.clone(),
-        },
-    );
-    // 1. The known node and its branch leave; E moves to the right.
+    let full = |a: &[f64]| Mat {
+        rows: n,
+        cols: n,
+        a: a.to_vec(),
+    };
     let gone: Vec<usize> = eq.fixed.map(|(k, br)| vec![k, br]).unwrap_or_default();
     let keep: Vec<usize> = (0..n).filter(|i| !gone.contains(i)).collect();
     let m = keep.len();
-    let (g, c) = (g.select(&keep, &keep), c.select(&keep, &keep));
     let (mut beta, mut gamma) = (vec![0.0; m], vec![0.0; m]);
     for (i, &row) in keep.iter().enumerate() {
         beta[i] = eq.b[row];
@@ -287,6 +289,46 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
             gamma[i] = eq.c[row * n + k];
         }
     }
+    Kept {
+        g: full(&eq.g).select(&keep, &keep),
+        c: full(&eq.c).select(&keep, &keep),
+        keep,
+        beta,
+        gamma,
+    }
+}
+
+/// x = T·z = T_d·z_d + T_a·(P·z_d + p·E): the unknowns from the states
+/// (matrix) and from the source (vector).
+fn unknowns_from_states(
+    to_x: &Mat,
+    idx: (&[usize], &[usize]),
+    p: (&Mat, &[f64]),
+) -> (Mat, Vec<f64>) {
+    let (d_idx, a_idx) = idx;
+    let m = to_x.rows;
+    let (td, ta) = (to_x.select(&all(m), d_idx), to_x.select(&all(m), a_idx));
+    if a_idx.is_empty() {
+        return (td, vec![0.0; m]);
+    }
+    let tap = ta.mul(p.0);
+    let xz = Mat {
+        rows: m,
+        cols: d_idx.len(),
+        a: td.a.iter().zip(&tap.a).map(|(x, y)| x + y).collect(),
+    };
+    (xz, ta.mul_vec(p.1))
+}
+
+fn reduce(eq: &TimeEquations) -> Option<Reduced> {
+    let Kept {
+        keep,
+        g,
+        c,
+        beta,
+        gamma,
+    } = without_known(eq);
+    let m = keep.len();
     // 2. States from the capacitor graph.
     let Coordinates {
         to_x,
@@ -333,23 +375,7 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
         .into_iter()
         .map(|v| -v)
         .collect();
-    // x = T·z = T_d·z_d + T_a·(P·z_d + p·E)
-    let (td, ta) = (to_x.select(&all(m), d_idx), to_x.select(&all(m), a_idx));
-    let xz = if a_idx.is_empty() {
-        td
-    } else {
-        let tap = ta.mul(&p_mat);
-        Mat {
-            rows: m,
-            cols: r,
-            a: td.a.iter().zip(&tap.a).map(|(x, y)| x + y).collect(),
-        }
-    };
-    let xe = if a_idx.is_empty() {
-        vec![0.0; m]
-    } else {
-        ta.mul_vec(&p_vec)
-    };
+    let (xz, xe) = unknowns_from_states(&to_x, (d_idx, a_idx), (&p_mat, &p_vec));
     // The load terminal (never the known node) among the kept unknowns.
     let out = keep.iter().position(|&i| Some(i) == eq.out)?;
     let x1 = d_idx.iter().position(|&i| keep[i] == eq.x1)?;
