@@ -101,6 +101,11 @@ fn plot(
             plot_svg::view_names().join(", ")
         );
     };
+    if let Some(ext) = output.extension().and_then(|e| e.to_str()) {
+        if !ext.eq_ignore_ascii_case("svg") {
+            bail!("{}: plot writes SVG; name the file .svg", output.display());
+        }
+    }
     storage::refuse_existing(output, force)?;
     let scenarios = files
         .iter()

@@ -174,6 +174,13 @@ fn bad_input_leaves_no_file() {
     let demo = format!("{}/assets/demo.ron", env!("CARGO_MANIFEST_DIR"));
     refused(&[&demo, "--view", "envelope", "-o", o], "source.peak", &out);
     refused(&[&a, "--width", "10", "-o", o], "200 to 8000", &out);
+    // SVG only: another extension is refused, not filled with SVG.
+    let png = dir.join("x.png");
+    refused(
+        &[&a, "-o", png.to_str().unwrap()],
+        "name the file .svg",
+        &png,
+    );
     let deep = dir.join("no/such/folder/x.svg");
     refused(&[&a, "-o", deep.to_str().unwrap()], "cannot write", &deep);
     // No temporary file is left in the folder either.

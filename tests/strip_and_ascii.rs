@@ -310,3 +310,19 @@ fn ascii_b_trace_is_not_the_tick_character() {
         .any(|l| l.contains("oo"));
     assert!(traced, "{screen}");
 }
+
+/// Trace names keep a space between them (two stages' impedance labels at
+/// 80×24 ran together as "pinZout").
+#[test]
+fn labels_keep_apart() {
+    let (a, b) = (example("mic_preamp"), example("bridge_gain_101"));
+    let app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
+    for (w, h) in [(80, 24), (120, 40)] {
+        let s = screen_at(&app, w, h);
+        for joined in [
+            "pinZout", "ZinZout", "ZoutZin", "Zoutpin", "Zinpin", "pinZin",
+        ] {
+            assert!(!s.contains(joined), "{joined} at {w}x{h}\n{s}");
+        }
+    }
+}

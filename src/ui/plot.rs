@@ -627,8 +627,10 @@ fn put_label(
 ) {
     buf.set_string(plot.x + col, plot.y + row, label, style);
     let w = plot.width as usize;
-    for c in col..col + label.chars().count() as u16 {
-        taken[row as usize * w + c as usize] = true;
+    // The cells after it too, so the next label keeps a space away.
+    let end = (col as usize + label.chars().count() + 1).min(w);
+    for c in col as usize..end {
+        taken[row as usize * w + c] = true;
     }
 }
 
