@@ -627,9 +627,9 @@ fn put_label(
 ) {
     buf.set_string(plot.x + col, plot.y + row, label, style);
     let w = plot.width as usize;
-    // The cells after it too, so the next label keeps a space away.
+    // The cells either side too, so other labels keep a space away.
     let end = (col as usize + label.chars().count() + 1).min(w);
-    for c in col as usize..end {
+    for c in (col as usize).saturating_sub(1)..end {
         taken[row as usize * w + c] = true;
     }
 }
