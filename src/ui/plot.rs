@@ -605,8 +605,14 @@ fn mark_label_spot(
     let col = col as i32;
     let h = plot.height as i32;
     let rows = (first as i32..h).chain(0..first as i32);
+    // On the mark, right of it, left of it, then anywhere it still
+    // touches the mark's column.
+    let starts: Vec<i32> = [col, col + 1, col - len]
+        .into_iter()
+        .chain((col - len..=col).rev())
+        .collect();
     for row in rows {
-        for start in [col, col + 1, col - len] {
+        for &start in &starts {
             let start = start.min(plot.width as i32 - len);
             if free(taken, plot, start, row, len as u16) {
                 return Some((start as u16, row as u16));
