@@ -317,14 +317,23 @@ fn backspace_takes_back_the_last_change_and_puts_it_back() {
     a.on_key(key(KeyCode::Right));
     let after = a.slots[0].scenario.clone();
     assert_ne!(before, after);
+    assert!(a.slots[0].dirty);
     a.on_key(key(KeyCode::Backspace));
     assert_eq!(a.slots[0].scenario, before);
     assert!(screen_at(&a, 80, 24).contains("10kΩ"));
     assert!(a.status.contains("taken back"), "{}", a.status);
+    // Back at the stage as loaded: nothing unsaved any more.
+    assert!(!a.slots[0].dirty);
+    assert!(!screen_at(&a, 80, 24).contains(" edited"));
     a.on_key(key(KeyCode::Backspace));
     assert_eq!(a.slots[0].scenario, after);
+    assert!(a.slots[0].dirty);
     // The message says which way it went.
     assert!(a.status.contains("put back"), "{}", a.status);
+    // Stepping back by hand also leaves nothing unsaved.
+    a.on_key(key(KeyCode::Left));
+    assert_eq!(a.slots[0].scenario, before);
+    assert!(!a.slots[0].dirty);
 }
 
 #[test]

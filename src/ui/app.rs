@@ -100,6 +100,9 @@ pub struct Slot {
     pub readout: Option<crate::report::PointReport>,
     pub path: Option<PathBuf>,
     pub dirty: bool,
+    /// The stage as loaded or last saved (None for a copy, never saved):
+    /// a stage edited back to it is no longer unsaved.
+    pub saved: Option<Scenario>,
     /// The file's text and stamp as loaded (or last saved): saving patches
     /// the changed numbers into it and checks it was not changed meanwhile.
     pub original: Option<Original>,
@@ -125,6 +128,7 @@ impl Slot {
             analysis,
             probe: None,
             readout: None,
+            saved: Some(scenario.clone()),
             scenario,
             path,
             dirty: false,
@@ -448,7 +452,7 @@ impl App {
         if slot.scenario != s {
             slot.undone = false;
             slot.undo = Some(std::mem::replace(&mut slot.scenario, s));
-            slot.dirty = true;
+            slot.dirty = slot.saved.as_ref() != Some(&slot.scenario);
             slot.refresh(probe);
         }
         true
@@ -892,6 +896,7 @@ impl App {
         }
         let mut copy = self.slot().clone();
         copy.dirty = true;
+        copy.saved = None;
         copy.path = None;
         copy.original = None;
         copy.undo = None;
@@ -920,7 +925,7 @@ impl App {
             return;
         };
         slot.undo = Some(std::mem::replace(&mut slot.scenario, before));
-        slot.dirty = true;
+        slot.dirty = slot.saved.as_ref() != Some(&slot.scenario);
         slot.undone = !slot.undone;
         let what = if slot.undone {
             "last change taken back (Backspace again puts it back)"
@@ -1001,6 +1006,7 @@ impl App {
                 let slot = &mut self.slots[self.active];
                 slot.path = Some(p.to_path_buf());
                 slot.dirty = false;
+                slot.saved = Some(slot.scenario.clone());
                 slot.original = Some(Original {
                     stamp: storage::stamp(p),
                     text: rendered.text,
