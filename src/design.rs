@@ -19,10 +19,8 @@ const QUIET_FOR: Duration = Duration::from_millis(500);
 /// Run the spread with a progress bar on stderr when it is a terminal and
 /// the run lasts more than about half a second; nothing on stderr else.
 pub fn spread_with_progress(s: &Scenario, trials: Option<u32>, seed: Option<u64>) -> SpreadResult {
-    let n = trials
-        .or(s.spread.as_ref().and_then(|b| b.trials))
-        .unwrap_or(crate::engine::spread::DEFAULT_TRIALS);
-    let bar = ProgressBar::with_draw_target(Some(u64::from(n)), ProgressDrawTarget::hidden());
+    let n = crate::engine::spread::trials_of(s, trials) as u64;
+    let bar = ProgressBar::with_draw_target(Some(n), ProgressDrawTarget::hidden());
     let terminal = std::io::stderr().is_terminal();
     let shown = AtomicBool::new(false);
     let start = Instant::now();

@@ -5,7 +5,9 @@
 
 use crate::engine::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use crate::engine::values::{fmt_eng, fmt_plain, nice_linear, printable};
-use crate::plot_svg::{err, legend_at, legend_sample, rings, style, Chart, Keyed, Look, Stage};
+use crate::plot_svg::{
+    err, legend_at, legend_sample, rings, style, titled, Chart, Keyed, Look, Stage,
+};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -26,15 +28,6 @@ pub fn needs_step(s: &Stage) -> Option<String> {
 fn axis(range: (f64, f64), n: usize) -> ((f64, f64), Keyed) {
     let ((lo, hi), ticks) = nice_linear(range.0, range.1, n);
     ((lo, hi), Keyed::new((lo, hi), ticks, Vec::new()))
-}
-
-/// The caption of a linear view.
-fn caption(title: &str, stages: &[Stage]) -> String {
-    let titles: Vec<String> = stages
-        .iter()
-        .map(|s| printable(&s.scenario.title))
-        .collect();
-    format!("{title} — {}", titles.join(" vs "))
 }
 
 /// A vertical line over the chart with its text near the top.
@@ -103,7 +96,7 @@ pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> Resul
         .collect();
     let mut chart = ChartBuilder::on(area)
         .caption(
-            caption(
+            titled(
                 &format!("Step response, {} step", sizes.join(" / ")),
                 stages,
             ),
@@ -226,7 +219,7 @@ pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> Res
     );
     let (head, body) = area.split_vertically(font * 2 + 16);
     head.draw(&Text::new(
-        caption(&title, stages),
+        titled(&title, stages),
         (12, 8),
         ("sans-serif", font + 4).into_font(),
     ))

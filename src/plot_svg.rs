@@ -512,12 +512,17 @@ fn footer(stages: &[Stage]) -> Vec<String> {
 }
 
 /// The caption: the view, then the title of A (and of B).
-pub(crate) fn caption(view: &View, stages: &[Stage]) -> String {
+fn caption(view: &View, stages: &[Stage]) -> String {
+    titled(view.title, stages)
+}
+
+/// A heading, then the title of A (and of B).
+pub(crate) fn titled(heading: &str, stages: &[Stage]) -> String {
     let titles: Vec<String> = stages
         .iter()
         .map(|s| printable(&s.scenario.title))
         .collect();
-    format!("{} — {}", view.title, titles.join(" vs "))
+    format!("{heading} — {}", titles.join(" vs "))
 }
 
 /// A linear axis with the grid lines we choose: bold ones (labelled) and

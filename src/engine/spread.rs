@@ -398,10 +398,18 @@ impl Run<'_> {
     }
 }
 
+/// How many trials a run makes: the asked number, else the scenario's,
+/// else [`DEFAULT_TRIALS`].
+pub fn trials_of(s: &Scenario, asked: Option<u32>) -> usize {
+    asked
+        .or(s.spread.as_ref().and_then(|b| b.trials))
+        .unwrap_or(DEFAULT_TRIALS) as usize
+}
+
 /// The spread of a valid scenario.
 pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
     let b = s.spread.clone().unwrap_or_default();
-    let trials = run.trials.or(b.trials).unwrap_or(DEFAULT_TRIALS) as usize;
+    let trials = trials_of(s, run.trials);
     let seed = run.seed.or(b.seed).unwrap_or(DEFAULT_SEED);
     let nominal = Evaluation {
         analysis: analyze_to(s, FULL),

@@ -2,7 +2,7 @@
 //! runs on its own thread after a change, so keys stay responsive; a new
 //! change cancels the running job and its result is dropped.
 
-use crate::engine::spread::{spread, Run, SpreadResult, DEFAULT_TRIALS};
+use crate::engine::spread::{spread, trials_of, Run, SpreadResult};
 use crate::engine::Scenario;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::mpsc::{channel, Receiver};
@@ -34,11 +34,7 @@ impl SpreadJob {
         self.cancel.store(true, Ordering::Relaxed);
         self.result = None;
         self.for_scenario = Some(s.clone());
-        self.total = s
-            .spread
-            .as_ref()
-            .and_then(|b| b.trials)
-            .unwrap_or(DEFAULT_TRIALS) as usize;
+        self.total = trials_of(s, None);
         self.seen = 0;
         let (done, cancel) = (
             Arc::new(AtomicUsize::new(0)),
