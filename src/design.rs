@@ -176,27 +176,15 @@ fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
     Ok(())
 }
 
-/// Rows of cells, each column as wide as its widest cell.
+/// Rows of cells (the first the header): the first column left, the
+/// numbers right-aligned.
 fn write_columns(rows: &[Vec<String>], out: &mut impl Write) -> Result<()> {
-    let cols = rows.first().map_or(0, Vec::len);
-    let width: Vec<usize> = (0..cols)
-        .map(|c| rows.iter().map(|r| r[c].chars().count()).max().unwrap_or(0))
-        .collect();
-    for r in rows {
-        let line: Vec<String> = r
-            .iter()
-            .zip(&width)
-            .enumerate()
-            .map(|(c, (cell, w))| {
-                let pad = w - cell.chars().count();
-                if c == 0 {
-                    format!("{cell}{}", " ".repeat(pad))
-                } else {
-                    format!("{}{cell}", " ".repeat(pad))
-                }
-            })
-            .collect();
-        writeln!(out, "{}", line.join("  ").trim_end())?;
+    let Some((header, body)) = rows.split_first() else {
+        return Ok(());
+    };
+    let header: Vec<&str> = header.iter().map(String::as_str).collect();
+    for line in crate::helpers_cmd::aligned(&header, body, true) {
+        writeln!(out, "{line}")?;
     }
     Ok(())
 }

@@ -105,6 +105,12 @@ pub fn find_pairs(q: &Query) -> Result<Vec<Pair>> {
 /// Lines of a table: each column as wide as its widest cell, two spaces
 /// apart, the header first.
 pub fn table(header: &[&str], rows: &[Vec<String>]) -> Vec<String> {
+    aligned(header, rows, false)
+}
+
+/// A table's lines, each column as wide as its widest cell, two spaces
+/// apart; `numbers_right`: every column after the first right-aligned.
+pub fn aligned(header: &[&str], rows: &[Vec<String>], numbers_right: bool) -> Vec<String> {
     let mut widths: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
     for row in rows {
         for (w, cell) in widths.iter_mut().zip(row) {
@@ -115,7 +121,11 @@ pub fn table(header: &[&str], rows: &[Vec<String>]) -> Vec<String> {
         let padded: Vec<String> = cells
             .iter()
             .zip(&widths)
-            .map(|(c, w)| format!("{c:<w$}"))
+            .enumerate()
+            .map(|(i, (c, w))| match numbers_right && i > 0 {
+                true => format!("{c:>w$}"),
+                false => format!("{c:<w$}"),
+            })
             .collect();
         padded.join("  ").trim_end().to_string()
     };
