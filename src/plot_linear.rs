@@ -348,18 +348,18 @@ fn tagged_limits(results: &[SpreadResult], key: &str, scale: f64) -> Vec<(usize,
 
 /// The spec limits on one figure, as (x, text) in the panel's scale.
 fn limit_marks(r: &SpreadResult, key: &str, scale: f64) -> Vec<(f64, String)> {
-    use crate::engine::spec::Rule;
     let (unit, _) = unit_and_label(key);
-    let shown = |v: f64| unit.cell(v, false);
     let mut out = Vec::new();
     for l in r.limits.iter().filter(|l| l.limit.figures.contains(&key)) {
-        match l.limit.rule {
-            Rule::AtLeast => out.push((l.value * scale, format!("limit ≥ {}", shown(l.value)))),
-            Rule::AtMost => out.push((l.value * scale, format!("limit ≤ {}", shown(l.value)))),
-            Rule::MagnitudeAtMost => {
-                out.push((-l.value * scale, format!("limit −{}", shown(l.value))));
-                out.push((l.value * scale, format!("limit +{}", shown(l.value))));
-            }
+        let value = unit.cell(l.value, false);
+        // A magnitude limit's edges: the lower (−) first, then the upper.
+        for (i, x) in l.limit.edges(l.value).into_iter().enumerate() {
+            let text = match (l.limit.sign(), i) {
+                ("±", 0) => format!("limit −{value}"),
+                ("±", _) => format!("limit +{value}"),
+                (sign, _) => format!("limit {sign} {value}"),
+            };
+            out.push((x * scale, text));
         }
     }
     out

@@ -119,6 +119,24 @@ impl Limit {
         })
     }
 
+    /// Where the limit stands on its figure's axis: the value, or −value
+    /// and +value for a limit on the magnitude.
+    pub fn edges(&self, limit: f64) -> Vec<f64> {
+        match self.rule {
+            MagnitudeAtMost => vec![-limit, limit],
+            AtMost | AtLeast => vec![limit],
+        }
+    }
+
+    /// The sign the limit is written with: ≥, ≤ or ±.
+    pub fn sign(&self) -> &'static str {
+        match self.rule {
+            AtLeast => "≥",
+            AtMost => "≤",
+            MagnitudeAtMost => "±",
+        }
+    }
+
     /// Of two values, the one further from passing (undefined is worst).
     pub fn worse(&self, a: Option<f64>, b: Option<f64>) -> Option<f64> {
         let (Some(x), Some(y)) = (a, b) else {

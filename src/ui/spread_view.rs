@@ -129,15 +129,10 @@ fn marks<'r>(
     r: &'r SpreadResult,
     key: &'r str,
 ) -> impl Iterator<Item = (Vec<f64>, &'static str, usize)> + 'r {
-    use crate::engine::spec::Rule;
     r.limits
         .iter()
         .filter(move |l| l.limit.figures.contains(&key))
-        .map(|l| match l.limit.rule {
-            Rule::AtLeast => (vec![l.value], "≥", l.failed),
-            Rule::AtMost => (vec![l.value], "≤", l.failed),
-            Rule::MagnitudeAtMost => (vec![-l.value, l.value], "±", l.failed),
-        })
+        .map(|l| (l.limit.edges(l.value), l.limit.sign(), l.failed))
 }
 
 /// One histogram: its name, the bars, the range and the limit.
