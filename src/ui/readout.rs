@@ -2,16 +2,14 @@
 //! at the frequency cursor (the figures of `report --at` there).
 
 use super::app::App;
-use crate::engine::values::{fmt_eng_sig, fmt_fixed};
+use crate::engine::values::fmt_fixed;
 use crate::report::PointReport;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
-fn eng(v: f64, unit: &str) -> String {
-    fmt_eng_sig(v, unit, 3).replace(' ', "")
-}
+use super::view::compact as eng;
 
 /// The readout's parts for one stage, most important first.
 pub fn parts(r: &PointReport) -> Vec<String> {

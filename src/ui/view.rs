@@ -705,11 +705,17 @@ fn all_band_marks(app: &App) -> Vec<VMark> {
     if same {
         return band_marks(&app.slot().scenario);
     }
+    tagged_marks(app, |s| band_marks(&s.scenario))
+}
+
+/// Every stage's marks from `of`, each label tagged with its stage.
+fn tagged_marks(app: &App, of: impl Fn(&Slot) -> Vec<VMark>) -> Vec<VMark> {
+    let of = &of;
     app.slots
         .iter()
         .enumerate()
         .flat_map(|(i, s)| {
-            band_marks(&s.scenario).into_iter().map(move |m| VMark {
+            of(s).into_iter().map(move |m| VMark {
                 label: format!("{}{}", tag(app, i), m.label),
                 ..m
             })
@@ -861,18 +867,7 @@ fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
 
 /// Every stage's step marks, tagged A and B when there are two.
 fn all_step_marks(app: &App) -> Vec<VMark> {
-    app.slots
-        .iter()
-        .enumerate()
-        .flat_map(|(i, s)| {
-            step_marks(&s.analysis.step)
-                .into_iter()
-                .map(move |m| VMark {
-                    label: format!("{}{}", tag(app, i), m.label),
-                    ..m
-                })
-        })
-        .collect()
+    tagged_marks(app, |s| step_marks(&s.analysis.step))
 }
 
 /// The step response on a linear time axis: each stage's waveform, A's
