@@ -2,7 +2,8 @@
 //! key press in the workbench.
 
 use criterion::{criterion_group, criterion_main, Criterion};
-use loopwright::engine::{analyze, scenario};
+use loopwright::engine::analyze;
+use loopwright::files::load as scenario;
 use std::hint::black_box;
 
 fn full_analysis(c: &mut Criterion) {
@@ -19,7 +20,7 @@ fn full_analysis_with_limits(c: &mut Criterion) {
     (a.slew, a.iout) = (Some(0.5e6), Some(20.0e-3));
     (a.swing_neg, a.swing_pos, a.cm_neg, a.cm_pos) = (Some(1.5), Some(1.5), Some(2.0), Some(2.0));
     (s.source.dc, s.source.peak) = (Some(0.5), Some(0.5));
-    s.supply = Some(scenario::Supply {
+    s.supply = Some(loopwright::model::scenario::Supply {
         neg: -15.0,
         pos: 15.0,
     });
@@ -64,7 +65,7 @@ fn step_response(c: &mut Criterion) {
     let linear = scenario::demo();
     let mut slewing = linear.clone();
     slewing.amp.slew = Some(1.0e6);
-    slewing.step = Some(scenario::Step { size: 10.0 });
+    slewing.step = Some(loopwright::model::scenario::Step { size: 10.0 });
     for (name, s) in [
         ("step_response", &linear),
         ("step_response_slewing", &slewing),
@@ -82,7 +83,7 @@ fn step_response(c: &mut Criterion) {
 /// in parallel on every core; and one trial's analysis alone.
 fn spread_10k(c: &mut Criterion) {
     use loopwright::engine::analysis::{analyze_to, TRIAL};
-    use loopwright::engine::spread::{spread, Run};
+    use loopwright::study::spread::{spread, Run};
     let s = scenario::demo();
     let mut g = c.benchmark_group("spread");
     g.sample_size(10);

@@ -5,7 +5,7 @@
 mod common;
 use common::{key, press, screen_at, stdout_of, type_text};
 use crossterm::event::KeyCode;
-use loopwright::engine::scenario::Scenario;
+use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
 use loopwright::ui::theme::Theme;
 

@@ -6,9 +6,12 @@
 mod common;
 use common::{bin, key, press, screen_at, stdout_of, type_text};
 use crossterm::event::KeyCode;
-use loopwright::engine::pairs::{self, Query};
-use loopwright::engine::stabilize::{self, Part};
-use loopwright::engine::{analyze, Scenario, Series, Topology};
+use loopwright::engine::analyze;
+use loopwright::model::Scenario;
+use loopwright::model::Series;
+use loopwright::model::Topology;
+use loopwright::study::pairs::{self, Query};
+use loopwright::study::stabilize::{self, Part};
 use loopwright::ui::app::{App, Mode};
 use loopwright::ui::theme::Theme;
 use serde_json::Value;
@@ -422,7 +425,7 @@ fn app_on(s: Scenario) -> App {
 }
 
 fn demo_app() -> App {
-    app_on(loopwright::engine::scenario::demo())
+    app_on(loopwright::files::load::demo())
 }
 
 fn stage_rg_rf(a: &App) -> (Option<f64>, Option<f64>) {

@@ -5,9 +5,10 @@
 
 mod common;
 use common::{assert_rel, closed_form_margin, fast, follower, open_loop, plain, unity_crossing};
-use loopwright::engine::scenario::{self, Scenario};
-use loopwright::engine::Topology;
-use loopwright::engine::{evaluate, Circuit};
+use loopwright::engine::Circuit;
+use loopwright::judge::evaluate;
+use loopwright::model::scenario::Scenario;
+use loopwright::model::Topology;
 use num_complex::Complex64 as C64;
 use std::f64::consts::PI;
 
@@ -199,14 +200,14 @@ fn same_figures(a: &Scenario, b: &Scenario, what: &str) {
     ] {
         assert_eq!(p, q, "{what}: {name}");
     }
-    let codes = |w: &[loopwright::engine::Warning]| w.iter().map(|w| w.code).collect::<Vec<_>>();
+    let codes = |w: &[loopwright::judge::Warning]| w.iter().map(|w| w.code).collect::<Vec<_>>();
     assert_eq!(codes(&x.warnings), codes(&y.warnings), "{what}: warnings");
 }
 
 #[test]
 fn zero_means_absent() {
     // README: zero means "absent" for cf, riso, cin and the noise corners.
-    let mut none = scenario::demo();
+    let mut none = loopwright::files::load::demo();
     none.stage.cf = None;
     none.stage.riso = None;
     none.amp.cin = None;
@@ -228,7 +229,7 @@ fn zero_means_absent() {
 #[test]
 fn a_follower_ignores_rg() {
     // README: a follower ignores rg.
-    let mut bare = scenario::demo();
+    let mut bare = loopwright::files::load::demo();
     bare.stage.topology = Topology::Follower;
     bare.stage.rg = None;
     bare.stage.rf = None;

@@ -4,8 +4,9 @@
 mod common;
 use common::{assert_rel, follower, open_loop, plain, rel, unity_crossing};
 use loopwright::engine::netlist::BOLTZMANN;
-use loopwright::engine::Topology;
-use loopwright::engine::{evaluate, Circuit};
+use loopwright::engine::Circuit;
+use loopwright::judge::evaluate;
+use loopwright::model::Topology;
 use std::f64::consts::PI;
 
 #[test]
@@ -379,7 +380,7 @@ fn load_capacitance_cost_is_the_margin_it_takes() {
     // ≈ 30° taken: at or above the 20° threshold (README), a warning.
     let w = common::warning(&s, "load-capacitance").unwrap();
     assert!(want0 - want >= 20.0, "{}", want0 - want);
-    assert_eq!(w.severity, loopwright::engine::Severity::Warning);
+    assert_eq!(w.severity, loopwright::judge::Severity::Warning);
     for n in [want0 - want, want, want0] {
         assert!(w.text.contains(&format!("{n:.0}°")), "{n:.0} in {}", w.text);
     }
@@ -397,7 +398,7 @@ fn asymptotic_gain_formula_ties_gain_to_the_return_ratio() {
     // H∞ the gain with A → ∞, H0 the gain with A = 0. Checked on the demo
     // (rin, cin, cf, ro, source r and a capacitive load all present) and on
     // an inverting stage with riso, at frequencies across the loop's range.
-    let mut demo = loopwright::engine::scenario::demo();
+    let mut demo = loopwright::files::load::demo();
     demo.amp.fp2 = None;
     let mut inv = demo.clone();
     inv.stage.topology = Topology::Inverting;
@@ -440,7 +441,7 @@ fn blackman_formula_for_the_output_impedance() {
     // The engine's Zout (load removed) must agree at every frequency. Like
     // the asymptotic-gain test it holds for any linear network, so it checks
     // the solves, not the wiring of the stage.
-    let mut demo = loopwright::engine::scenario::demo();
+    let mut demo = loopwright::files::load::demo();
     demo.amp.fp2 = Some(10e6);
     let mut inv = demo.clone();
     inv.stage.topology = Topology::Inverting;
@@ -481,7 +482,7 @@ fn blackman_formula_for_the_input_impedance() {
     // T_short with the input terminal grounded (ideal source), T_open with it
     // left open (a source of 1 PΩ stands in for open). Holds for any linear
     // network: a check of the solves, not of the wiring.
-    let demo = loopwright::engine::scenario::demo();
+    let demo = loopwright::files::load::demo();
     let mut inv = demo.clone();
     inv.stage.topology = Topology::Inverting;
     for base in [demo, inv] {
@@ -536,7 +537,7 @@ fn follower_loop_gain_is_exact_at_the_top_of_the_a0_range() {
 /// − input to ground — rg, or rg + source r for an inverting stage):
 ///   I/V = 1/(rf + rb) + (1 + A(jf)·β)/ro.
 /// Exact for this model with no rin, no cin and no cf (no input currents).
-fn pin_closed_form(s: &loopwright::engine::Scenario, rb: f64, f: f64) -> num_complex::Complex64 {
+fn pin_closed_form(s: &loopwright::model::Scenario, rb: f64, f: f64) -> num_complex::Complex64 {
     let rf = s.stage.rf.unwrap_or(0.0);
     let beta = rb / (rb + rf);
     let one = num_complex::Complex64::new(1.0, 0.0);

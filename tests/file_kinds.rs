@@ -5,7 +5,7 @@
 
 mod common;
 use common::bin;
-use loopwright::engine::scenario::{self, Scenario};
+use loopwright::model::scenario::Scenario;
 use std::path::Path;
 use std::process::{Command, Output, Stdio};
 use std::time::{Duration, Instant};
@@ -98,10 +98,10 @@ fn a_50_mb_file_is_refused_by_size() {
 #[test]
 fn a_byte_order_mark_is_accepted() {
     // U+FEFF encoded in UTF-8 is EF BB BF (Unicode Standard, ch. 23.8).
-    let text = format!("\u{feff}{}", scenario::DEMO_RON);
+    let text = format!("\u{feff}{}", loopwright::files::load::DEMO_RON);
     assert_eq!(&text.as_bytes()[..3], &[0xEF, 0xBB, 0xBF]);
     let s = Scenario::from_ron(&text, None).unwrap();
-    assert_eq!(s, scenario::demo());
+    assert_eq!(s, loopwright::files::load::demo());
     let d = common::temp_dir("bom");
     let p = d.join("bom.ron");
     std::fs::write(&p, &text).unwrap();
@@ -116,8 +116,11 @@ fn a_byte_order_mark_is_accepted() {
 
 #[test]
 fn crlf_files_load() {
-    let text = scenario::DEMO_RON.replace('\n', "\r\n");
-    assert_eq!(Scenario::from_ron(&text, None).unwrap(), scenario::demo());
+    let text = loopwright::files::load::DEMO_RON.replace('\n', "\r\n");
+    assert_eq!(
+        Scenario::from_ron(&text, None).unwrap(),
+        loopwright::files::load::demo()
+    );
 }
 
 #[test]
@@ -137,8 +140,8 @@ fn non_utf8_gives_the_position_of_the_first_bad_byte() {
 }
 
 fn demo_with(from: &str, to: &str) -> String {
-    assert!(scenario::DEMO_RON.contains(from), "{from}");
-    scenario::DEMO_RON.replacen(from, to, 1)
+    assert!(loopwright::files::load::DEMO_RON.contains(from), "{from}");
+    loopwright::files::load::DEMO_RON.replacen(from, to, 1)
 }
 
 #[test]
@@ -173,7 +176,7 @@ fn a_number_for_the_topology_names_the_field_and_the_choices() {
 fn control_characters_in_the_title_do_not_reach_the_text_report() {
     let d = common::temp_dir("ctl");
     let p = d.join("ctl.ron");
-    let text = scenario::DEMO_RON.replacen(
+    let text = loopwright::files::load::DEMO_RON.replacen(
         "title: \"",
         "notes: \"x\\u{9b}y\",\n    title: \"a\\u{1b}[2Jb\\u{7}",
         1,

@@ -4,7 +4,7 @@
 mod common;
 use common::bin;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
-use loopwright::engine::scenario::{self, Scenario};
+use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::{archetypes, write_atomic, App};
 use loopwright::ui::theme::Theme;
 use loopwright::ui::view::{buffer_text, draw};
@@ -29,7 +29,10 @@ fn screen(app: &App) -> String {
 }
 
 fn demo_app(path: Option<PathBuf>) -> App {
-    App::new(vec![(scenario::demo(), path)], Theme::new(false, false))
+    App::new(
+        vec![(loopwright::files::load::demo(), path)],
+        Theme::new(false, false),
+    )
 }
 
 fn save_as(a: &mut App, path: &Path) {
@@ -68,7 +71,7 @@ fn save_as_adds_ron_and_the_file_reloads_equal() {
 fn failed_saves_keep_the_edits_and_the_old_file() {
     let d = common::temp_dir("ro");
     let path = d.join("stage.ron");
-    let original = scenario::demo().to_ron();
+    let original = loopwright::files::load::demo().to_ron();
     std::fs::write(&path, &original).unwrap();
     let mut a = demo_app(Some(path.clone()));
     a.on_key(key(KeyCode::Right));
@@ -174,7 +177,7 @@ fn saving_over_a_file_leaves_a_complete_valid_file() {
     let d = common::temp_dir("over");
     let path = d.join("s.ron");
     std::fs::write(&path, "(broken").unwrap();
-    let mut s = scenario::demo();
+    let mut s = loopwright::files::load::demo();
     for i in 0..20 {
         s.stage.rf = Some(1000.0 + i as f64);
         write_atomic(&path, &s.to_ron()).unwrap();
@@ -188,7 +191,7 @@ fn saving_over_a_file_leaves_a_complete_valid_file() {
 #[test]
 fn broken_files_report_position_and_keep_the_open_scenario() {
     let d = common::temp_dir("broken");
-    let good = scenario::DEMO_RON;
+    let good = loopwright::files::load::DEMO_RON;
     let cases = [
         ("cut.ron", good[..good.len() / 2].to_string()),
         ("type.ron", good.replace("rg: 1000.0", "rg: \"one k\"")),
@@ -259,8 +262,8 @@ fn open_lists_scenarios_and_loads_one() {
 #[test]
 fn older_files_without_a_version_still_load() {
     // Files written before the version field existed have none: they load as version 1.
-    let s = Scenario::from_ron(scenario::DEMO_RON, None).unwrap();
-    assert!(!scenario::DEMO_RON.contains("version"));
+    let s = Scenario::from_ron(loopwright::files::load::DEMO_RON, None).unwrap();
+    assert!(!loopwright::files::load::DEMO_RON.contains("version"));
     assert_eq!(s.version, 1);
 }
 
@@ -269,7 +272,7 @@ fn archetypes_are_valid_and_a_key_applies_them() {
     let list = archetypes();
     assert!(list.len() >= 6, "six archetypes");
     for arch in &list {
-        let mut s = scenario::demo();
+        let mut s = loopwright::files::load::demo();
         s.amp = arch.amp.clone();
         assert!(s.validate().is_ok(), "{}", arch.name);
     }
@@ -412,7 +415,7 @@ fn save_as_over_an_existing_file_asks_first() {
 fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
     let d = common::temp_dir("ask-changed");
     let p = d.join("s.ron");
-    std::fs::write(&p, scenario::DEMO_RON).unwrap();
+    std::fs::write(&p, loopwright::files::load::DEMO_RON).unwrap();
     let mut a = App::new(
         vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
         Theme::new(false, false),
@@ -420,7 +423,8 @@ fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
     a.on_key(key(KeyCode::Right));
     // Another program rewrites the file (a different length, so the
     // change shows whatever the clock's resolution).
-    let theirs = scenario::DEMO_RON.replace("gain 11\"", "gain 11, edited elsewhere\"");
+    let theirs =
+        loopwright::files::load::DEMO_RON.replace("gain 11\"", "gain 11, edited elsewhere\"");
     std::fs::write(&p, &theirs).unwrap();
     a.on_key(key(KeyCode::Char('s')));
     assert!(
@@ -444,7 +448,7 @@ fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
 fn a_save_that_would_drop_comments_asks_first() {
     let d = common::temp_dir("ask-comments");
     let p = d.join("s.ron");
-    let text = scenario::DEMO_RON.replace("riso: 0.0,", "riso: 0.0, /* keep */");
+    let text = loopwright::files::load::DEMO_RON.replace("riso: 0.0,", "riso: 0.0, /* keep */");
     std::fs::write(&p, &text).unwrap();
     let mut a = App::new(
         vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
@@ -456,7 +460,7 @@ fn a_save_that_would_drop_comments_asks_first() {
     assert!(a.status.starts_with("saved"), "{}", a.status);
     assert!(std::fs::read_to_string(&p).unwrap().contains("/* keep */"));
     // Typing `none` for cf removes a field: the save asks.
-    a.selected = loopwright::engine::params::param("stage.cf").unwrap();
+    a.selected = loopwright::model::params::param("stage.cf").unwrap();
     a.on_key(key(KeyCode::Enter));
     for _ in 0..20 {
         a.on_key(key(KeyCode::Backspace));
@@ -491,6 +495,6 @@ fn opening_a_fifo_in_the_workbench_is_refused_without_blocking() {
     a.on_key(key(KeyCode::Enter));
     assert!(a.status.contains("not a regular file"), "{}", a.status);
     assert!(a.status.contains("p.ron"), "{}", a.status);
-    assert_eq!(a.slot().scenario, scenario::demo());
+    assert_eq!(a.slot().scenario, loopwright::files::load::demo());
     std::fs::remove_dir_all(&d).ok();
 }

@@ -5,7 +5,7 @@
 mod common;
 
 use common::{assert_rel, in_range};
-use loopwright::engine::scenario::{Scenario, Supply};
+use loopwright::model::scenario::{Scenario, Supply};
 
 /// The shared test stages with ro inside its accepted range (10 mΩ): the
 /// current through ro is read as a voltage difference over ro, which a
@@ -17,7 +17,10 @@ fn plain(t: Topology, rg: f64, rf: f64) -> Scenario {
 fn follower() -> Scenario {
     in_range(common::follower())
 }
-use loopwright::engine::{evaluate, Evaluation, Severity, Topology};
+use loopwright::judge::evaluate;
+use loopwright::judge::Evaluation;
+use loopwright::judge::Severity;
+use loopwright::model::Topology;
 use std::f64::consts::PI;
 
 fn par(a: f64, b: f64) -> f64 {
@@ -357,16 +360,16 @@ fn absent_inputs_give_null_figures_and_no_sections() {
     // A file without the new fields: every new figure null, no new report
     // sections (README).
     let e = evaluate(&plain(Topology::NonInverting, 1.0e3, 10.0e3));
-    for f in loopwright::engine::figures::FIGURES
+    for f in loopwright::judge::figures::FIGURES
         .iter()
         .filter(|f| f.needs_input)
     {
         assert_eq!(f.json(&e), None, "{}", f.key);
     }
     let s = plain(Topology::NonInverting, 1.0e3, 10.0e3);
-    let r = loopwright::report::Report::new(&s, &e, &[]);
+    let r = loopwright::output::report::Report::new(&s, &e, &[]);
     let mut text = Vec::new();
-    loopwright::report::write_text(&r, &s, &e, &mut text).unwrap();
+    loopwright::output::report::write_text(&r, &s, &e, &mut text).unwrap();
     let text = String::from_utf8(text).unwrap();
     assert!(
         !text.contains("DC errors") && !text.contains("Signal limits"),

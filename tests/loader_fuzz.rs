@@ -3,7 +3,7 @@
 //! scenario or an error that says where (line and column).
 
 mod common;
-use loopwright::engine::Scenario;
+use loopwright::model::Scenario;
 use std::path::PathBuf;
 
 /// Every shipped RON file: the example scenarios and the assets.
@@ -27,7 +27,7 @@ fn shipped() -> Vec<(PathBuf, Vec<u8>)> {
 }
 
 #[track_caller]
-fn check(result: Result<Scenario, loopwright::engine::ScenarioError>, what: &str) {
+fn check(result: Result<Scenario, loopwright::model::ScenarioError>, what: &str) {
     match result {
         Ok(s) => assert!(s.validate().is_ok(), "{what}: loaded but invalid"),
         Err(e) => assert!(

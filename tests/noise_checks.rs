@@ -5,9 +5,10 @@
 
 mod common;
 use common::{assert_rel, fast, follower, johnson, noise_transfer, plain};
-use loopwright::engine::scenario::Scenario;
-use loopwright::engine::Topology;
-use loopwright::engine::{evaluate, Circuit};
+use loopwright::engine::Circuit;
+use loopwright::judge::evaluate;
+use loopwright::model::scenario::Scenario;
+use loopwright::model::Topology;
 
 #[test]
 fn low_rin_voltage_noise_gain_closed_form() {

@@ -4,8 +4,8 @@
 mod common;
 use clap::CommandFactory;
 use common::{bin, stdout_of, temp_dir};
-use loopwright::cli::Cli;
-use loopwright::engine::figures::FIGURES;
+use loopwright::commands::Cli;
+use loopwright::judge::figures::FIGURES;
 
 fn run(args: &[&str]) -> std::process::Output {
     bin().args(args).output().unwrap()

@@ -219,7 +219,7 @@ fn envelope_step_and_spread_views() {
     for entry in std::fs::read_dir(scenario("")).unwrap() {
         let path = entry.unwrap().path();
         let p = path.to_str().unwrap();
-        let s = loopwright::engine::Scenario::load(&path).unwrap();
+        let s = loopwright::model::Scenario::load(&path).unwrap();
         // Step: time axis, the band, the settling mark, one waveform.
         let doc_text = svg(&[p, "--view", "step"], &out);
         let doc = roxmltree::Document::parse(&doc_text).unwrap();

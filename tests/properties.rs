@@ -1,8 +1,11 @@
 //! Property tests over random valid scenarios: the analysis never panics
 //! and never yields NaN or infinity where a number is defined.
 
-use loopwright::engine::params::{Access, Presence, Stepping, PARAMS};
-use loopwright::engine::{evaluate, scenario, Scenario, Series, Topology};
+use loopwright::judge::evaluate;
+use loopwright::model::params::{Access, Presence, Stepping, PARAMS};
+use loopwright::model::Scenario;
+use loopwright::model::Series;
+use loopwright::model::Topology;
 use proptest::prelude::*;
 
 /// A value at fraction `u` of a range: log-spaced for positive ranges,
@@ -28,7 +31,7 @@ prop_compose! {
         band_lo in prop_oneof![Just(0.0), Just(1.0), 0.0..=1.0f64],
         band_decades in prop_oneof![Just(15.0), 0.01..=15.0f64],
     ) -> Scenario {
-        let mut s = scenario::demo();
+        let mut s = loopwright::files::load::demo();
         s.title = "random".into();
         s.stage.topology = topology;
         s.stage.series = Series::ALL[series];
@@ -101,8 +104,8 @@ proptest! {
         }
         prop_assert!(a.zout_dc_ohm > 0.0, "Zout = {}", a.zout_dc_ohm);
         // The DC-error and signal-limit figures: finite where defined.
-        for f in loopwright::engine::figures::FIGURES.iter().filter(|f| f.needs_input) {
-            if let loopwright::engine::figures::Reading::Value(v) = f.read(&a) {
+        for f in loopwright::judge::figures::FIGURES.iter().filter(|f| f.needs_input) {
+            if let loopwright::judge::figures::Reading::Value(v) = f.read(&a) {
                 prop_assert!(v.is_finite(), "{} = {}", f.key, v);
             }
         }
@@ -125,9 +128,9 @@ proptest! {
     #[test]
     fn reports_are_written(s in scenario()) {
         let e = evaluate(&s);
-        let r = loopwright::report::Report::new(&s, &e, &[0.0, 1e3, 1e12]);
+        let r = loopwright::output::report::Report::new(&s, &e, &[0.0, 1e3, 1e12]);
         let mut text = Vec::new();
-        loopwright::report::write_text(&r, &s, &e, &mut text).unwrap();
+        loopwright::output::report::write_text(&r, &s, &e, &mut text).unwrap();
         prop_assert!(!String::from_utf8(text).unwrap().contains("NaN"));
         let mut json = Vec::new();
         r.write_json(&mut json).unwrap();

@@ -1,7 +1,7 @@
 //! The README's tables list what the program's own tables hold: every key
 //! of the key table and every warning code of the rules, no more, no less.
 
-use loopwright::engine::Code;
+use loopwright::judge::Code;
 use loopwright::ui::keys;
 use std::collections::BTreeSet;
 

@@ -3,8 +3,10 @@
 
 mod common;
 use common::bin;
-use loopwright::engine::scenario::{Scenario, DEMO_RON};
-use loopwright::engine::{evaluate, Topology};
+use loopwright::files::load::DEMO_RON;
+use loopwright::judge::evaluate;
+use loopwright::model::scenario::Scenario;
+use loopwright::model::Topology;
 
 const DOC_EXAMPLE: &str = r#"(
     title: "Bridge sensor front-end, gain 11",
@@ -18,7 +20,7 @@ const DOC_EXAMPLE: &str = r#"(
 )
 "#;
 
-fn err(text: &str) -> loopwright::engine::ScenarioError {
+fn err(text: &str) -> loopwright::model::ScenarioError {
     Scenario::from_ron(text, Some("t.ron")).expect_err("should fail")
 }
 

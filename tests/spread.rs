@@ -7,9 +7,11 @@ mod common;
 
 use common::{bin, in_range, plain, temp_dir};
 use loopwright::engine::analysis::{analyze_to, FULL, TRIAL};
-use loopwright::engine::scenario::{Dist, Spec, Spread};
-use loopwright::engine::spread::{self, draws, histogram, quantile, Run};
-use loopwright::engine::{Evaluation, Scenario, Topology};
+use loopwright::judge::Evaluation;
+use loopwright::model::scenario::{Dist, Spec, Spread};
+use loopwright::model::Scenario;
+use loopwright::model::Topology;
+use loopwright::study::spread::{self, draws, histogram, quantile, Run};
 
 /// A non-inverting gain-11 stage on a near-ideal amplifier (a0 1e7, so the
 /// loop gain's share of the gain error is about 1e-6), resistors ±t.
@@ -170,7 +172,7 @@ fn limit_at_the_nominal_gives_half_yield() {
 /// analysis within the text report's precision on every scenario.
 #[test]
 fn trial_depth_agrees_with_the_full_analysis() {
-    use loopwright::engine::figures::Unit;
+    use loopwright::judge::figures::Unit;
     for entry in std::fs::read_dir("scenarios").unwrap() {
         let s = Scenario::load(&entry.unwrap().path()).unwrap();
         let eval = |d| Evaluation {
@@ -191,8 +193,8 @@ fn trial_depth_agrees_with_the_full_analysis() {
             "headroom_high_v",
         ] {
             let (a, b) = (
-                spread::read(&full, key, 1.0),
-                spread::read(&trial, key, 1.0),
+                loopwright::judge::spread_figures::read(&full, key, 1.0),
+                loopwright::judge::spread_figures::read(&trial, key, 1.0),
             );
             let (unit, _) = spread::unit_and_label(key);
             let half = match unit {

@@ -5,8 +5,9 @@
 mod common;
 use common::{key, screen_at};
 use crossterm::event::KeyCode;
-use loopwright::engine::scenario::Scenario;
-use loopwright::engine::{evaluate, spread};
+use loopwright::judge::evaluate;
+use loopwright::model::scenario::Scenario;
+use loopwright::study::spread;
 use loopwright::ui::app::{App, View};
 use loopwright::ui::theme::Theme;
 
@@ -45,7 +46,7 @@ fn spread_view_shows_histograms_limits_and_yield_at_80x24() {
     let r = spread::spread(&s, &spread::Run::default());
     let y = format!(
         "yield {} %",
-        loopwright::engine::values::fmt_plain(100.0 * r.yield_frac.unwrap(), 4)
+        loopwright::model::values::fmt_plain(100.0 * r.yield_frac.unwrap(), 4)
     );
     assert!(screen.contains(&y), "{y}\n{screen}");
     // The limit the trials fail is named.
@@ -127,7 +128,7 @@ fn spec_failures_are_warnings() {
 
 #[test]
 fn histogram_columns_keep_bar_heights_at_every_width() {
-    use loopwright::engine::spread::BINS;
+    use loopwright::study::spread::BINS;
     use loopwright::ui::spread_view::columns;
     // A histogram's bar height stands for the count in an equal-width bin
     // (the definition of a histogram): equal counts must draw level bars

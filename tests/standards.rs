@@ -4,8 +4,8 @@
 
 mod common;
 use common::bin;
-use loopwright::engine::values::{parse_non_negative, parse_positive, parse_value};
-use loopwright::engine::Series;
+use loopwright::model::values::{parse_non_negative, parse_positive, parse_value};
+use loopwright::model::Series;
 
 // IEC 60063, table 1 (E3 ... E24), two-digit values of one decade.
 const IEC_E3: [f64; 3] = [1.0, 2.2, 4.7];

@@ -6,10 +6,12 @@ mod common;
 
 use common::{assert_rel, follower, plain};
 use loopwright::engine::analysis::Circuit;
-use loopwright::engine::scenario::{Step, Supply};
-use loopwright::engine::solver::Lu;
+use loopwright::engine::analyze;
 use loopwright::engine::step::StepResponse;
-use loopwright::engine::{analyze, Scenario, Topology};
+use loopwright::model::scenario::{Step, Supply};
+use loopwright::model::Scenario;
+use loopwright::model::Topology;
+use loopwright::num::solver::Lu;
 use num_complex::Complex64 as C64;
 use std::f64::consts::PI;
 

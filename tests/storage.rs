@@ -2,12 +2,12 @@
 //! files (src/storage.rs).
 
 mod common;
-use loopwright::engine::scenario::{self, Scenario};
-use loopwright::storage::{render, write_atomic, Original};
+use loopwright::files::storage::{render, write_atomic, Original};
+use loopwright::model::scenario::Scenario;
 use std::os::unix::fs::{MetadataExt, PermissionsExt};
 
 fn demo_text() -> String {
-    scenario::DEMO_RON.to_string()
+    loopwright::files::load::DEMO_RON.to_string()
 }
 
 #[test]

@@ -5,8 +5,9 @@
 mod common;
 use common::{key, screen_at};
 use crossterm::event::KeyCode;
-use loopwright::engine::scenario::Scenario;
-use loopwright::engine::{evaluate, Severity};
+use loopwright::judge::evaluate;
+use loopwright::judge::Severity;
+use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
 use loopwright::ui::theme::Theme;
 
@@ -97,7 +98,7 @@ fn pane_pointer_and_scroll_marks() {
 /// no column is cut at the right edge.
 #[test]
 fn figures_header_is_stable_and_whole() {
-    let demo = loopwright::engine::scenario::demo();
+    let demo = loopwright::files::load::demo();
     let mut app = App::new(vec![(demo.clone(), None)], Theme::new(false, false));
     let header = |app: &App| {
         let s = screen_at(app, 100, 30);
@@ -126,7 +127,7 @@ fn figures_header_is_stable_and_whole() {
         .lines()
         .find(|l| l.contains(" gain ") && l.contains("f-3dB"))
         .unwrap();
-    let shorts: Vec<String> = loopwright::engine::figures::FIGURES
+    let shorts: Vec<String> = loopwright::judge::figures::FIGURES
         .iter()
         .map(|f| f.short.replace("{f}", "1k"))
         .collect();

@@ -111,7 +111,7 @@ fn terminal_is_restored_after_a_panic() {
 /// A scratch folder holding a copy of the demo as `s.ron`.
 fn folder_with_demo(name: &str) -> std::path::PathBuf {
     let d = common::temp_dir(name);
-    std::fs::write(d.join("s.ron"), loopwright::engine::scenario::DEMO_RON).unwrap();
+    std::fs::write(d.join("s.ron"), loopwright::files::load::DEMO_RON).unwrap();
     d
 }
 
@@ -139,7 +139,7 @@ fn signal_restores_and_rescues(name: &str, signal: &str, code: i32) {
     assert_restored(&s.0, &done);
     let rescue = d.join("s.ron.rescue");
     assert!(done.contains("s.ron.rescue"), "says where:\n{done}");
-    let back = loopwright::engine::Scenario::load(&rescue).expect("rescue file loads");
+    let back = loopwright::model::Scenario::load(&rescue).expect("rescue file loads");
     assert_eq!(back.stage.rf, Some(11_000.0));
     std::fs::remove_dir_all(&d).ok();
 }
@@ -170,12 +170,12 @@ fn a_panic_leaves_a_rescue_file() {
     assert!(done.contains("EXIT=101"), "{done}");
     assert!(done.contains("s.ron.rescue"), "says where:\n{done}");
     assert_restored(&s.0, &done);
-    let back = loopwright::engine::Scenario::load(&d.join("s.ron.rescue")).unwrap();
+    let back = loopwright::model::Scenario::load(&d.join("s.ron.rescue")).unwrap();
     assert_eq!(back.stage.rf, Some(11_000.0));
     // The file itself is untouched.
     assert_eq!(
         std::fs::read_to_string(d.join("s.ron")).unwrap(),
-        loopwright::engine::scenario::DEMO_RON
+        loopwright::files::load::DEMO_RON
     );
     std::fs::remove_dir_all(&d).ok();
 }
@@ -218,10 +218,7 @@ fn external_change_before_save_asks_in_a_real_terminal() {
     wait_for(&s.0, "Parameters").expect("workbench starts");
     tmux(&["send-keys", "-t", &s.0, "l"]);
     wait_for(&s.0, "11kΩ").expect("rf stepped");
-    let theirs = format!(
-        "// edited elsewhere\n{}",
-        loopwright::engine::scenario::DEMO_RON
-    );
+    let theirs = format!("// edited elsewhere\n{}", loopwright::files::load::DEMO_RON);
     std::fs::write(d.join("s.ron"), &theirs).unwrap();
     tmux(&["send-keys", "-t", &s.0, "s"]);
     wait_for(&s.0, "changed by another program").expect("asks");
@@ -232,7 +229,7 @@ fn external_change_before_save_asks_in_a_real_terminal() {
     wait_for(&s.0, "changed by another program").expect("asks again");
     tmux(&["send-keys", "-t", &s.0, "y"]);
     wait_for(&s.0, "saved").expect("saved");
-    let back = loopwright::engine::Scenario::load(&d.join("s.ron")).unwrap();
+    let back = loopwright::model::Scenario::load(&d.join("s.ron")).unwrap();
     assert_eq!(back.stage.rf, Some(11_000.0));
     tmux(&["send-keys", "-t", &s.0, "C-c"]);
     wait_for(&s.0, "EXIT=").expect("exits");
@@ -283,7 +280,7 @@ fn stepping_band_from_to_its_end_cannot_crash() {
     // From rf (selected at start) down to "band from", counted in the
     // parameter table (every row applies to the demo's stage).
     let row = |path: &str| {
-        loopwright::engine::params::PARAMS
+        loopwright::model::params::PARAMS
             .iter()
             .position(|p| p.path == path)
             .unwrap()

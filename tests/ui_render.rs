@@ -4,7 +4,7 @@
 
 mod common;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
-use loopwright::engine::scenario::{self, Scenario};
+use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
 use loopwright::ui::theme::Theme;
 use loopwright::ui::view::{buffer_text, draw};
@@ -55,7 +55,7 @@ fn line_with<'a>(screen: &'a str, needle: &str) -> &'a str {
 
 #[test]
 fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     let before = screen(&a, 100, 30);
     assert!(line_with(&before, " rf ").contains("10kΩ"), "{before}");
     // The figures row (the cursor readout line reads "A @ …").
@@ -82,8 +82,8 @@ fn demo_shows_rf_and_stepping_it_shows_11k_and_a_new_gain() {
 
 #[test]
 fn follower_on_1nf_shows_a_phase_margin_warning() {
-    let mut s = scenario::demo();
-    s.stage.topology = loopwright::engine::Topology::Follower;
+    let mut s = loopwright::files::load::demo();
+    s.stage.topology = loopwright::model::Topology::Follower;
     s.stage.rg = None;
     s.stage.rf = None;
     s.stage.cf = None;
@@ -99,7 +99,7 @@ fn follower_on_1nf_shows_a_phase_margin_warning() {
 
 #[test]
 fn help_lists_the_keys() {
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     a.on_key(key(KeyCode::Char('?')));
     let text = screen(&a, 100, 30);
     for k in loopwright::ui::keys::help_rows() {
@@ -112,7 +112,7 @@ fn help_lists_the_keys() {
 
 #[test]
 fn sizes_render_without_panicking() {
-    let a = app(vec![scenario::demo()]);
+    let a = app(vec![loopwright::files::load::demo()]);
     let text = screen(&a, 80, 24);
     assert!(text.contains("Parameters"));
     assert!(text.contains("Impedance"));
@@ -145,7 +145,7 @@ fn sizes_render_without_panicking() {
 
 #[test]
 fn resize_redraws_at_the_new_size() {
-    let a = app(vec![scenario::demo()]);
+    let a = app(vec![loopwright::files::load::demo()]);
     let mut t = Terminal::new(TestBackend::new(100, 30)).unwrap();
     t.draw(|f| draw(f, &a)).unwrap();
     t.backend_mut().resize(60, 20);
@@ -162,7 +162,7 @@ fn resize_redraws_at_the_new_size() {
 
 #[test]
 fn typed_values_accept_rkm_and_reject_bad_text() {
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     type_value(&mut a, "4k7");
     assert_eq!(a.slot().scenario.stage.rf, Some(4700.0));
     // A bad entry leaves the value and says why.
@@ -187,7 +187,7 @@ fn typed_values_accept_rkm_and_reject_bad_text() {
 
 #[test]
 fn series_cycle_snap_and_off_series_mark() {
-    let mut s = scenario::demo();
+    let mut s = loopwright::files::load::demo();
     s.stage.rf = Some(10_500.0);
     let mut a = app(vec![s]);
     let text = screen(&a, 100, 30);
@@ -197,7 +197,7 @@ fn series_cycle_snap_and_off_series_mark() {
     a.on_key(key(KeyCode::Char('e')));
     assert_eq!(
         a.slot().scenario.stage.series,
-        loopwright::engine::Series::E48
+        loopwright::model::Series::E48
     );
     let text = screen(&a, 100, 30);
     assert!(line_with(&text, " rf ").contains("E48"), "{text}");
@@ -205,7 +205,7 @@ fn series_cycle_snap_and_off_series_mark() {
 
 #[test]
 fn view_toggle_and_select_with_vi_keys() {
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 100, 30).contains("Loop gain"));
     a.on_key(key(KeyCode::Char('v')));
@@ -232,7 +232,10 @@ fn view_toggle_and_select_with_vi_keys() {
 
 #[test]
 fn ascii_mode_uses_plain_characters() {
-    let a = App::new(vec![(scenario::demo(), None)], Theme::new(false, true));
+    let a = App::new(
+        vec![(loopwright::files::load::demo(), None)],
+        Theme::new(false, true),
+    );
     let text = screen(&a, 100, 30);
     assert!(text.contains('+') && text.contains('|'));
     assert!(!text.contains('╭') && !text.contains('⠉'), "{text}");
@@ -269,7 +272,10 @@ fn one_step_sends_few_bytes() {
         },
     )
     .unwrap();
-    let mut a = App::new(vec![(scenario::demo(), None)], Theme::new(true, false));
+    let mut a = App::new(
+        vec![(loopwright::files::load::demo(), None)],
+        Theme::new(true, false),
+    );
     loopwright::ui::draw_frame(&mut t, &a).unwrap();
     let first = out.0.borrow().len();
     out.0.borrow_mut().clear();
@@ -327,7 +333,7 @@ mod random_keys {
             w in 0u16..180,
             h in 0u16..60,
         ) {
-            let mut a = app(vec![scenario::demo()]);
+            let mut a = app(vec![loopwright::files::load::demo()]);
             let mut t = Terminal::new(TestBackend::new(w, h)).unwrap();
             for (i, k) in seq.into_iter().enumerate() {
                 a.on_key(key(k));
@@ -345,8 +351,8 @@ mod random_keys {
 
 #[test]
 fn follower_rf_can_be_a_resistor_or_a_wire() {
-    let mut s = scenario::demo();
-    loopwright::engine::params::set_topology(&mut s, loopwright::engine::Topology::Follower);
+    let mut s = loopwright::files::load::demo();
+    loopwright::model::params::set_topology(&mut s, loopwright::model::Topology::Follower);
     s.stage.rf = None;
     let mut a = app(vec![s]);
     let text = screen(&a, 100, 30);
@@ -387,7 +393,7 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Closed-loop response"));
     // Without a source peak the view says what it needs.
-    let mut d = app(vec![scenario::demo()]);
+    let mut d = app(vec![loopwright::files::load::demo()]);
     for _ in 0..3 {
         d.on_key(key(KeyCode::Char('v')));
     }
@@ -398,7 +404,7 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
 fn hint_line_speaks_of_the_selected_parameter() {
     // rf = 10 kΩ on E24 (assets/demo.ron); IEC 60063 E24 neighbours 9.1
     // and 11; the accepted range 1 mΩ to 10 TΩ (README).
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     let text = screen(&a, 80, 24);
     let hint = text.lines().last().unwrap();
     assert!(
@@ -430,7 +436,7 @@ fn response_view_states_the_three_gains() {
     // A gain-2 driver (rf = rg) with riso 100 Ω into 1 kΩ: nominal
     // 1 + rf/rg = 2, at the load 2·1000/1100 = 1.8182 (voltage divider),
     // and the load-divider warning on screen.
-    let mut s = scenario::demo();
+    let mut s = loopwright::files::load::demo();
     s.stage.rf = Some(1e3);
     s.stage.riso = Some(100.0);
     s.load.r = Some(1e3);
@@ -453,7 +459,7 @@ fn margin_is_written_on_the_loop_view_only() {
     let (fc, pm) = common::closed_form_margin(|f| common::open_loop(&s, f));
     let want = format!(
         "margin {pm:.0}° @ {}",
-        loopwright::engine::values::fmt_eng(fc, "Hz")
+        loopwright::model::values::fmt_eng(fc, "Hz")
     );
     let mut a = app(vec![s.clone()]);
     let response = screen(&a, 120, 40);
@@ -469,7 +475,7 @@ fn margin_is_written_on_the_loop_view_only() {
 
 #[test]
 fn help_legend_is_not_cut_at_80x24() {
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     a.on_key(key(KeyCode::Char('?')));
     let text = screen(&a, 80, 24);
     for (_, what) in loopwright::ui::keys::LEGEND {
@@ -483,7 +489,7 @@ fn help_legend_is_not_cut_at_80x24() {
 #[test]
 fn the_y_axis_is_a_rule_with_tick_marks() {
     // Our own axis: a full-height rule with ├ ticks one column from the labels.
-    let a = app(vec![scenario::demo()]);
+    let a = app(vec![loopwright::files::load::demo()]);
     let text = screen(&a, 80, 24);
     assert!(!text.contains('┤'), "{text}");
     assert!(text.contains("0dB ├"), "{text}");
@@ -496,7 +502,7 @@ fn the_y_axis_is_a_rule_with_tick_marks() {
 
 #[test]
 fn short_bode_plot_shows_magnitude_or_phase_and_g_toggles() {
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     let text = screen(&a, 80, 24);
     assert!(text.contains("0dB ├"), "{text}");
     assert!(!text.contains("0° ├"), "{text}");
@@ -514,7 +520,7 @@ fn closed_loop_phase_is_unwrapped() {
     // Three poles in the loop (gbw, fp2 and ro with 1 µF of load) take the
     // closed-loop phase past −180°: a continuous phase never steps by more
     // than 180° between neighbouring sweep points, and reaches below −180°.
-    let mut s = scenario::demo();
+    let mut s = loopwright::files::load::demo();
     s.load.c = Some(1e-6);
     let a = app(vec![s]);
     let ph = &a.slots[0].traces.gain_phase;
@@ -525,7 +531,7 @@ fn closed_loop_phase_is_unwrapped() {
 #[test]
 fn help_lists_every_key_at_80x24() {
     // Every row of the key table fits on the smallest screen.
-    let mut a = app(vec![scenario::demo()]);
+    let mut a = app(vec![loopwright::files::load::demo()]);
     a.on_key(key(KeyCode::Char('?')));
     let text = screen(&a, 80, 24);
     for b in loopwright::ui::keys::help_rows() {
@@ -538,7 +544,7 @@ fn impedance_plot_says_what_zout_is_and_draws_the_pin() {
     // Issue 12, item 2: the title says where Zout is taken (the load
     // terminal, riso included, load removed), and |Zout| at the amplifier
     // pin is a second trace labelled "pin" when riso makes it differ.
-    let mut s = scenario::demo();
+    let mut s = loopwright::files::load::demo();
     s.stage.riso = Some(100.0);
     let a = app(vec![s.clone()]);
     let small = screen(&a, 80, 24);
@@ -578,8 +584,8 @@ fn impedance_plot_says_what_zout_is_and_draws_the_pin() {
 /// 2 dB of peaking, by the engine's own peaking figure (checked against
 /// the second-order damping formula in engine_checks).
 fn peaking_2db() -> Scenario {
-    let mut s = scenario::demo();
-    s.stage.topology = loopwright::engine::Topology::Follower;
+    let mut s = loopwright::files::load::demo();
+    s.stage.topology = loopwright::model::Topology::Follower;
     s.stage.rg = None;
     s.stage.rf = None;
     s.stage.cf = None;
@@ -588,7 +594,7 @@ fn peaking_2db() -> Scenario {
         let mid = (lo * hi).sqrt();
         s.amp.fp2 = Some(mid);
         // A lower second pole peaks more.
-        if loopwright::engine::evaluate(&s).peaking_db > 2.0 {
+        if loopwright::judge::evaluate(&s).peaking_db > 2.0 {
             lo = mid;
         } else {
             hi = mid;

@@ -5,7 +5,7 @@
 
 mod common;
 use common::{closed_form_margin, fast, in_range, open_loop, warning, warnings_of};
-use loopwright::engine::Scenario;
+use loopwright::model::Scenario;
 
 /// The shared test stages, with ro inside its accepted range.
 fn plain(t: Topology, rg: f64, rf: f64) -> Scenario {
@@ -15,7 +15,9 @@ fn plain(t: Topology, rg: f64, rf: f64) -> Scenario {
 fn follower() -> Scenario {
     in_range(common::follower())
 }
-use loopwright::engine::{evaluate, Severity, Topology};
+use loopwright::judge::evaluate;
+use loopwright::judge::Severity;
+use loopwright::model::Topology;
 
 #[test]
 fn clean_stage_has_no_warnings() {
@@ -44,7 +46,7 @@ fn low_phase_margin_warns_and_is_severe_below_30() {
             "{}",
             w.text
         );
-        let at = loopwright::engine::values::fmt_eng(fc, "Hz");
+        let at = loopwright::model::values::fmt_eng(fc, "Hz");
         assert!(w.text.contains(&at), "{at} in {}", w.text);
         assert!(!w.text.contains("unstable"));
     }
@@ -158,7 +160,7 @@ fn source_resistance_that_dominates_the_noise_is_named_not_advised_on() {
         "the source resistance makes {:.0} % of the output noise power: \
          the stage cannot do better than {} rms",
         source * 100.0,
-        loopwright::engine::values::fmt_eng(floor, "V")
+        loopwright::model::values::fmt_eng(floor, "V")
     );
     assert!(w.text.contains(&says), "{}\n{says}", w.text);
     assert!(!w.text.contains("lower resistor values"), "{}", w.text);
@@ -363,7 +365,7 @@ fn value_range_each_trigger() {
     // Common practice: resistors above 10 MΩ, rf not small against rin
     // (above a tenth of it), and a dominant pole gbw/a0 above 1 GHz are
     // worth a second look (README: value-range).
-    let texts = |s: &loopwright::engine::Scenario| -> Vec<String> {
+    let texts = |s: &loopwright::model::Scenario| -> Vec<String> {
         warnings_of(s)
             .into_iter()
             .filter(|w| w.code == "value-range")

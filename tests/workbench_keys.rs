@@ -4,12 +4,15 @@
 mod common;
 use common::{key, press, screen_at, type_text};
 use crossterm::event::KeyCode;
-use loopwright::engine::scenario::{self, Scenario};
+use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
 use loopwright::ui::theme::Theme;
 
 fn demo_app() -> App {
-    App::new(vec![(scenario::demo(), None)], Theme::new(false, false))
+    App::new(
+        vec![(loopwright::files::load::demo(), None)],
+        Theme::new(false, false),
+    )
 }
 
 /// Rows below rf (selected at start) in the demo's parameter pane, in the
@@ -22,7 +25,7 @@ const GBW: usize = 6;
 /// demo's rows all apply).
 fn temp_rows() -> usize {
     let at = |path| {
-        loopwright::engine::params::PARAMS
+        loopwright::model::params::PARAMS
             .iter()
             .position(|p| p.path == path)
             .unwrap()
@@ -161,7 +164,10 @@ fn warnings_scroll() {
 
 #[test]
 fn ascii_marks_differing_parameters_with_a_hash() {
-    let mut a = App::new(vec![(scenario::demo(), None)], Theme::new(false, true));
+    let mut a = App::new(
+        vec![(loopwright::files::load::demo(), None)],
+        Theme::new(false, true),
+    );
     a.on_key(key(KeyCode::Char('c')));
     a.on_key(key(KeyCode::Tab));
     a.on_key(key(KeyCode::Right));
@@ -198,7 +204,7 @@ fn two_files_open_side_by_side() {
 fn p_writes_the_plot_view_beside_the_file() {
     let dir = common::temp_dir("key-p");
     let path = dir.join("stage.ron");
-    std::fs::write(&path, scenario::DEMO_RON).unwrap();
+    std::fs::write(&path, loopwright::files::load::DEMO_RON).unwrap();
     let s = Scenario::load(&path).unwrap();
     let mut a = App::new(vec![(s, Some(path.clone()))], Theme::new(false, false));
     a.on_key(key(KeyCode::Char('v')));
@@ -271,7 +277,7 @@ fn control_keys_clear_delete_a_word_and_are_never_typed() {
 fn save_as_typed_over_the_offered_path_replaces_it() {
     let d = common::temp_dir("saveas-replace");
     let old = d.join("old.ron");
-    std::fs::write(&old, scenario::DEMO_RON).unwrap();
+    std::fs::write(&old, loopwright::files::load::DEMO_RON).unwrap();
     let s = Scenario::load(&old).unwrap();
     let mut a = App::new(vec![(s, Some(old.clone()))], Theme::new(false, false));
     a.on_key(key(KeyCode::Right));
@@ -289,7 +295,7 @@ fn copy_asks_before_replacing_unsaved_changes_and_titles_the_copy() {
     let mut a = demo_app();
     a.on_key(key(KeyCode::Char('c')));
     assert_eq!(a.slots.len(), 2);
-    let title = &scenario::demo().title;
+    let title = &loopwright::files::load::demo().title;
     assert_eq!(a.slots[1].scenario.title, format!("{title} (copy of A)"));
     // B is unsaved (a copy): copying A again asks, and "n" keeps B.
     a.on_key(key(KeyCode::Tab));

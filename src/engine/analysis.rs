@@ -1,263 +1,18 @@
 //! One analysis call: every figure the views show, from one netlist solved
 //! by modified nodal analysis at each frequency (one LU per point).
 
-pub use super::netlist::MAX_NOISE;
-use super::netlist::{AmpModel, Coupling, LoadState, Netlist, NoiseKind};
-use super::scenario::{present, Scenario, Topology};
-use super::solver::{Lu, Vector, MAXN, ZERO};
+use crate::engine::circuit::sweep_frequencies;
+pub use crate::engine::circuit::{
+    Circuit, Point, Signals, Sweep, POINTS_PER_DECADE, SWEEP_START_HZ, SWEEP_STOP_HZ, ZIN_OPEN_OHM,
+};
+pub use crate::engine::netlist::MAX_NOISE;
+use crate::engine::netlist::{AmpModel, Netlist, NoiseKind};
+use crate::model::scenario::{present, Scenario};
+use crate::num::refine::{
+    bracket, log_grid, refine_between, refine_max, segment_integral, unwrap_near,
+};
+use crate::num::solver::{Lu, ZERO};
 use num_complex::Complex64 as C64;
-use std::cell::RefCell;
-use std::f64::consts::PI;
-
-/// Default sweep: 0.01 Hz to 1 GHz.
-pub const SWEEP_START_HZ: f64 = 0.01;
-pub const SWEEP_STOP_HZ: f64 = 1.0e9;
-/// Points per decade of the sweep.
-pub const POINTS_PER_DECADE: usize = 30;
-
-/// Input impedances above this are reported as open (the solve cannot
-/// resolve them against the source's own current).
-pub const ZIN_OPEN_OHM: f64 = 1.0e15;
-
-/// Everything solved at one frequency.
-#[derive(Debug, Clone, Copy)]
-pub struct Point {
-    pub f_hz: f64,
-    /// Closed-loop gain V(out)/V(source EMF).
-    pub gain: C64,
-    /// Loop gain (return ratio of the controlled source).
-    pub loop_gain: C64,
-    /// Output impedance at the load terminal, load removed, riso included
-    /// (source EMF shorted, its r in place).
-    pub zout: C64,
-    /// Output impedance at the amplifier's output pin (before riso), with
-    /// riso and the load removed (source EMF shorted, its r in place).
-    pub zout_pin: C64,
-    /// Input impedance seen by the source, source r excluded; None = open.
-    pub zin: Option<C64>,
-    /// Output noise density contributions, V²/Hz, in netlist noise order.
-    pub noise_psd: [f64; MAX_NOISE],
-    /// The signal inside the stage, per volt of source EMF.
-    pub signals: Signals,
-}
-
-/// Where the signal goes inside the stage, per volt of source EMF.
-#[derive(Debug, Clone, Copy, Default)]
-pub struct Signals {
-    /// The load terminal (the closed-loop gain).
-    pub out: C64,
-    /// The internal output V(int) = A(s)·vd, behind ro.
-    pub int: C64,
-    /// The + input pin (outside the offset and noise generator).
-    pub pin: C64,
-    /// The current out of the amplifier, through ro (A per volt).
-    pub amp_i: C64,
-}
-
-impl Point {
-    pub fn noise_density(&self) -> f64 {
-        self.noise_psd.iter().sum::<f64>().sqrt()
-    }
-}
-
-/// A netlist ready to be evaluated at any frequency.
-pub struct Circuit {
-    pub net: Netlist,
-    /// Reused matrix storage, so a point costs no large copies.
-    work: RefCell<Lu>,
-}
-
-impl Circuit {
-    pub fn new(s: &Scenario) -> Circuit {
-        Circuit {
-            net: Netlist::build(s, AmpModel::Real),
-            work: RefCell::new(Lu::zeroed()),
-        }
-    }
-
-    /// Stamp and factor the matrix at s into the workspace.
-    fn factor_at(&self, s: C64) -> Option<std::cell::RefMut<'_, Lu>> {
-        let mut lu = self.work.borrow_mut();
-        self.net.stamp_into(s, lu.matrix(), LoadState::Attached);
-        lu.factor_in_place(self.net.dim).ok()?;
-        Some(lu)
-    }
-
-    /// The driving-point impedance at `node` with the load removed from
-    /// the matrix: one more factorisation, for the points where taking the
-    /// load out of the loaded impedance would cancel digits. At the
-    /// amplifier pin this is Zout_pin: without the load, riso carries no
-    /// current and the load terminal floats.
-    fn unloaded_at(&self, s: C64, node: Option<usize>) -> Option<C64> {
-        let net = &self.net;
-        let o = node?;
-        let mut m = [[ZERO; MAXN]; MAXN];
-        net.stamp_into(s, &mut m, LoadState::Removed);
-        let lu = Lu::factor(m, net.dim).ok()?;
-        let mut e = [ZERO; MAXN];
-        e[o] = C64::new(1.0, 0.0);
-        Some(lu.solve(&e)[o])
-    }
-
-    /// The impedance at `node` without the shunt `y` that the loaded
-    /// driving-point impedance `z_par` includes: 1/(1/Z∥ − y), solved again
-    /// without the load when that subtraction would lose more than about
-    /// six digits (a high impedance behind a low load).
-    fn unshunted(&self, s: C64, node: Option<usize>, z_par: C64, y: C64) -> C64 {
-        if y == ZERO {
-            return z_par;
-        }
-        let kept = C64::new(1.0, 0.0) - y * z_par;
-        if kept.norm() > 1e-6 {
-            return z_par / kept;
-        }
-        self.unloaded_at(s, node).unwrap_or(z_par / kept)
-    }
-
-    /// Zout_pin: the driving-point impedance at the amplifier's output pin
-    /// (one more pair of triangular solves with the same factors), with
-    /// the riso + load branch taken out.
-    fn zout_pin(&self, lu: &Lu, s: C64) -> C64 {
-        let net = &self.net;
-        let Some(a) = net.amp_node else {
-            return ZERO;
-        };
-        let mut e = [ZERO; MAXN];
-        e[a] = C64::new(1.0, 0.0);
-        let z_par = lu.solve(&e)[a];
-        self.unshunted(s, net.amp_node, z_par, net.pin_shunt_admittance(s))
-    }
-
-    /// Like [`Circuit::eval`], with all-zero figures where the matrix is
-    /// singular (never for a valid scenario).
-    pub fn eval_or_blank(&self, f_hz: f64) -> Point {
-        self.eval(f_hz).unwrap_or(Point {
-            f_hz,
-            gain: ZERO,
-            loop_gain: ZERO,
-            zout: ZERO,
-            zout_pin: ZERO,
-            zin: None,
-            noise_psd: [0.0; MAX_NOISE],
-            signals: Signals::default(),
-        })
-    }
-
-    /// The signals of a solution vector at s.
-    fn signals_of(&self, s: C64, x: &[C64]) -> Signals {
-        let net = &self.net;
-        Signals {
-            out: Netlist::node_v(x, net.out),
-            int: net.int_v(s, x),
-            pin: Netlist::node_v(x, net.inp),
-            amp_i: net.amp_current(s, x),
-        }
-    }
-
-    /// The signals at one frequency (one LU, one solve), or zeros where
-    /// the matrix is singular.
-    pub fn signals_at(&self, f_hz: f64) -> Signals {
-        let s = C64::new(0.0, 2.0 * PI * f_hz);
-        match self.factor_at(s) {
-            Some(lu) => {
-                let x = lu.solve(&self.net.drive_rhs());
-                self.signals_of(s, &x[..self.net.dim])
-            }
-            None => Signals::default(),
-        }
-    }
-
-    /// Solve the full matrix at one frequency for several right-hand
-    /// sides with one factorisation.
-    pub fn solve_at(&self, f_hz: f64, rhs: &[Vector]) -> Option<Vec<Vector>> {
-        let lu = self.factor_at(C64::new(0.0, 2.0 * PI * f_hz))?;
-        Some(rhs.iter().map(|b| lu.solve(b)).collect())
-    }
-
-    /// The gain solve (source EMF = 1 V) and the amplifier-row solve in
-    /// one pass: the solution vector, the closed-loop gain and the loop
-    /// gain (Sherman–Morrison: T = A·y/(1 − A·y)).
-    fn gain_and_loop_solve(&self, lu: &Lu, s: C64) -> (Vector, C64, C64) {
-        let net = &self.net;
-        let mut e = [ZERO; MAXN];
-        e[net.amp_row] = C64::new(1.0, 0.0);
-        let (mut x, mut w) = ([ZERO; MAXN], [ZERO; MAXN]);
-        lu.solve_pair(&net.drive_rhs(), &e, &mut x, &mut w);
-        let gain = Netlist::node_v(&x[..net.dim], net.out);
-        let ay = net.loop_factor(s) * net.minus_vd(&w[..net.dim]);
-        (x, gain, ay / (C64::new(1.0, 0.0) - ay))
-    }
-
-    /// Closed-loop gain and loop gain only (for the refinements), or zeros
-    /// where the matrix is singular.
-    pub fn gain_and_loop(&self, f_hz: f64) -> (C64, C64) {
-        let s = C64::new(0.0, 2.0 * PI * f_hz);
-        match self.factor_at(s) {
-            Some(lu) => {
-                let (_, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
-                (gain, loop_gain)
-            }
-            None => (ZERO, ZERO),
-        }
-    }
-
-    /// Solve at frequency f (f = 0 is DC). None if the matrix is singular.
-    pub fn eval(&self, f_hz: f64) -> Option<Point> {
-        let net = &self.net;
-        let s = C64::new(0.0, 2.0 * PI * f_hz);
-        let lu = self.factor_at(s)?;
-        let n = net.dim;
-
-        // Gain, loop gain and Zin: source EMF = 1 V.
-        let (x, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
-        let i_in = net.source_current(&x[..n]);
-        let v_term = Netlist::node_v(&x[..n], net.term);
-        let zin = if i_in == ZERO {
-            None
-        } else {
-            let z = v_term / i_in;
-            let m2 = z.norm_sqr();
-            (m2.is_finite() && m2 < ZIN_OPEN_OHM * ZIN_OPEN_OHM).then_some(z)
-        };
-
-        // Adjoint: transimpedance from every node/branch to V(out).
-        let mut z = [ZERO; MAXN];
-        if let Some(o) = net.out {
-            let mut eo = [ZERO; MAXN];
-            eo[o] = C64::new(1.0, 0.0);
-            lu.solve_transposed_into(&eo, &mut z);
-        }
-        let z_par = Netlist::node_v(&z[..n], net.out);
-        let zout = self.unshunted(s, net.out, z_par, net.load_admittance(s));
-        let zout_pin = self.zout_pin(&lu, s);
-        let mut noise_psd = [0.0; MAX_NOISE];
-        for (k, src) in net.noise.iter().enumerate() {
-            let h = match src.coupling {
-                Coupling::Current(a, b) => Netlist::node_v(&z, a) - Netlist::node_v(&z, b),
-                Coupling::Branch(r) => z[r],
-            };
-            noise_psd[k] = h.norm_sqr() * src.density(f_hz);
-        }
-        Some(Point {
-            f_hz,
-            gain,
-            loop_gain,
-            zout,
-            zout_pin,
-            zin,
-            noise_psd,
-            signals: self.signals_of(s, &x[..n]),
-        })
-    }
-}
-
-/// The frequency sweep, in plot-ready form.
-#[derive(Debug, Clone, Default)]
-pub struct Sweep {
-    pub points: Vec<Point>,
-    /// arg T in degrees, unwrapped continuously from DC.
-    pub loop_phase_deg: Vec<f64>,
-}
 
 /// One noise source's part of the total.
 #[derive(Debug, Clone, PartialEq)]
@@ -306,116 +61,9 @@ pub struct Analysis {
     pub dc: Point,
     /// DC errors and signal limits (their figures are None without their
     /// inputs).
-    pub limits: super::limits::Limits,
+    pub limits: crate::engine::limits::Limits,
     /// The response to a step of the source EMF (time domain).
-    pub step: super::step::StepResponse,
-}
-
-/// Wrap an angle in degrees into (−180, 180].
-pub fn principal_deg(d: f64) -> f64 {
-    let mut x = d % 360.0;
-    if x <= -180.0 {
-        x += 360.0;
-    } else if x > 180.0 {
-        x -= 360.0;
-    }
-    x
-}
-
-/// Phase of z in degrees, principal value in (−180, 180].
-pub fn phase_deg(z: C64) -> f64 {
-    principal_deg(z.arg().to_degrees())
-}
-
-/// arg z unwrapped to the branch nearest `reference` (degrees).
-pub fn unwrap_near(z: C64, reference: f64) -> f64 {
-    let p = z.arg().to_degrees();
-    p + 360.0 * ((reference - p) / 360.0).round()
-}
-
-/// Most sweep points, whatever the band (18 decades at 30 per decade fit).
-const MAX_SWEEP_POINTS: usize = 2000;
-
-/// `per_decade` log-spaced frequencies from `lo` to `hi` (both ends
-/// included; at most [`MAX_SWEEP_POINTS`]).
-pub fn log_grid(lo: f64, hi: f64, per_decade: f64) -> Vec<f64> {
-    let decades = hi.log10() - lo.log10();
-    if !(decades.is_finite() && decades > 0.0) {
-        return vec![lo];
-    }
-    let n = ((decades * per_decade).ceil() as usize).clamp(1, MAX_SWEEP_POINTS);
-    (0..=n)
-        .map(|i| lo * 10f64.powf(decades * i as f64 / n as f64))
-        .collect()
-}
-
-/// The log-spaced sweep frequencies from `lo` to `hi`.
-pub fn sweep_frequencies(lo: f64, hi: f64) -> Vec<f64> {
-    log_grid(lo, hi, POINTS_PER_DECADE as f64)
-}
-
-/// The bracket around the first sweep point `i` where a condition holds:
-/// the point before it, or far below the first point.
-fn bracket(freqs: impl Fn(usize) -> f64, i: usize) -> (f64, f64) {
-    let below = if i == 0 {
-        freqs(0) * 1e-3
-    } else {
-        freqs(i - 1)
-    };
-    (below, freqs(i))
-}
-
-/// Refine a sign change of g(f) between fa and fb on ln f.
-fn refine_between(fa: f64, fb: f64, g: impl Fn(f64) -> f64) -> f64 {
-    refine_root(fa.ln(), fb.ln(), |x| g(x.exp())).exp()
-}
-
-/// Find x in [a, b] where g changes sign (g(a), g(b) of opposite signs),
-/// on x = ln f, by the Illinois variant of regula falsi.
-fn refine_root(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> f64 {
-    let (mut ga, mut gb) = (g(a), g(b));
-    if ga == 0.0 {
-        return a;
-    }
-    if gb == 0.0 {
-        return b;
-    }
-    let mut side = 0;
-    for _ in 0..60 {
-        let c = if (ga - gb).abs() > 0.0 {
-            (a * gb - b * ga) / (gb - ga)
-        } else {
-            0.5 * (a + b)
-        };
-        let c = if c.is_finite() && c > a.min(b) && c < a.max(b) {
-            c
-        } else {
-            0.5 * (a + b)
-        };
-        let gc = g(c);
-        if gc == 0.0 || (b - a).abs() < 1e-12 * (1.0 + c.abs()) {
-            return c;
-        }
-        if gc.signum() == gb.signum() {
-            b = c;
-            gb = gc;
-            if side == -1 {
-                ga *= 0.5;
-            }
-            side = -1;
-        } else {
-            a = c;
-            ga = gc;
-            if side == 1 {
-                gb *= 0.5;
-            }
-            side = 1;
-        }
-        if (b - a).abs() < 1e-10 {
-            break;
-        }
-    }
-    0.5 * (a + b)
+    pub step: crate::engine::step::StepResponse,
 }
 
 /// First fall of |T| through 1 on a grid of (f, T, unwrapped arg T in
@@ -439,62 +87,6 @@ fn crossover(
     Some((fc, 180.0 + unwrap_near(loop_at(fc), ref_phase)))
 }
 
-/// Maximise g on [a, b] by golden-section search (to 1e-6 in its unit).
-pub(super) fn refine_max(a: f64, b: f64, g: impl Fn(f64) -> f64) -> (f64, f64) {
-    refine_max_to(a, b, 1e-6, g)
-}
-
-/// Maximise g on [a, b] by golden-section search until the bracket is
-/// `tol` wide: (where, the maximum).
-pub(super) fn refine_max_to(
-    mut a: f64,
-    mut b: f64,
-    tol: f64,
-    g: impl Fn(f64) -> f64,
-) -> (f64, f64) {
-    let r = (5f64.sqrt() - 1.0) / 2.0;
-    let mut c = b - r * (b - a);
-    let mut d = a + r * (b - a);
-    let (mut gc, mut gd) = (g(c), g(d));
-    while (b - a).abs() > tol {
-        if gc > gd {
-            b = d;
-            d = c;
-            gd = gc;
-            c = b - r * (b - a);
-            gc = g(c);
-        } else {
-            a = c;
-            c = d;
-            gc = gd;
-            d = a + r * (b - a);
-            gd = g(d);
-        }
-    }
-    if gc > gd {
-        (c, gc)
-    } else {
-        (d, gd)
-    }
-}
-
-/// ∫ S df over [f1, f2] for a density that follows a power law between the
-/// end values (exact for white and 1/f stretches).
-fn segment_integral(f1: f64, s1: f64, f2: f64, s2: f64) -> f64 {
-    if s1 <= 0.0 || s2 <= 0.0 {
-        return 0.5 * (s1 + s2) * (f2 - f1);
-    }
-    let l = (f2 / f1).ln();
-    let alpha = (s2 / s1).ln() / l;
-    let bexp = (alpha + 1.0) * l;
-    let factor = if bexp.abs() < 1e-12 {
-        1.0
-    } else {
-        bexp.exp_m1() / bexp
-    };
-    s1 * f1 * l * factor
-}
-
 /// Integrated noise power per source over the band, V².
 fn band_power(points: &[Point], lo: f64, hi: f64, n_src: usize) -> Vec<f64> {
     let mut p = vec![0.0; n_src];
@@ -508,16 +100,6 @@ fn band_power(points: &[Point], lo: f64, hi: f64, n_src: usize) -> Vec<f64> {
         }
     }
     p
-}
-
-/// The gain the resistor ratio sets: 1 + rf/rg, −rf/rg, or 1.
-pub fn nominal_gain(s: &Scenario) -> f64 {
-    let (rg, rf) = (s.stage.rg.unwrap_or(0.0), s.stage.rf.unwrap_or(0.0));
-    match s.stage.topology {
-        Topology::NonInverting => 1.0 + rf / rg,
-        Topology::Inverting => -rf / rg,
-        Topology::Follower => 1.0,
-    }
 }
 
 /// The DC gain of the same passive network around a nullor.
@@ -696,7 +278,7 @@ pub const TRIAL: Depth = Depth {
 };
 
 /// Run every analysis of the scenario: figures only (the design rules are
-/// applied by [`crate::engine::evaluate`]). The scenario must be valid
+/// applied by [`crate::judge::evaluate`]). The scenario must be valid
 /// ([`Scenario::validate`]); an invalid one gives meaningless results.
 pub fn analyze(s: &Scenario) -> Analysis {
     analyze_to(s, FULL)
@@ -730,7 +312,7 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         .and_then(|_| margin_without_load_c(s, lo, hi));
     let gm = gain_margin(&circuit, &sweep, dc.loop_gain);
     let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
-    let limits = super::limits::limits(s, &circuit, &sweep, dc_gain);
+    let limits = crate::engine::limits::limits(s, &circuit, &sweep, dc_gain);
     let f_3db_hz = f_3db(&circuit, &sweep.points, dc_gain);
     let step = if depth.step {
         step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, phase_margin_deg)
@@ -743,7 +325,7 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         0.0
     };
     Analysis {
-        nominal_gain: nominal_gain(s),
+        nominal_gain: s.nominal_gain(),
         ideal_gain,
         dc_gain,
         gain_error,
@@ -777,13 +359,13 @@ fn step_of(
     crossover: Option<f64>,
     f_3db: Option<f64>,
     pm: Option<f64>,
-) -> super::step::StepResponse {
+) -> crate::engine::step::StepResponse {
     let f_ref = match (crossover, f_3db) {
         (Some(a), Some(b)) => a.max(b),
         (a, b) => a.or(b).unwrap_or(s.amp.gbw),
     };
     let unstable = pm.is_some_and(|p| p <= 0.0);
-    super::step::step_response(s, &circuit.net, f_ref, unstable)
+    crate::engine::step::step_response(s, &circuit.net, f_ref, unstable)
 }
 
 impl Analysis {

@@ -10,10 +10,11 @@
 //! non-inverting input, to every place that matters; the band maxima come
 //! from the sweep's solutions.
 
-use super::analysis::{refine_max, Circuit, Signals, Sweep};
-use super::netlist::Netlist;
-use super::scenario::{present, Scenario, Topology};
-use super::solver::{Lu, Vector, MAXN, ZERO};
+use crate::engine::circuit::{Circuit, Signals, Sweep};
+use crate::engine::netlist::Netlist;
+use crate::model::scenario::{present, Scenario, Topology};
+use crate::num::refine::refine_max;
+use crate::num::solver::{Lu, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
 use std::f64::consts::PI;
 

@@ -2,8 +2,8 @@
 //! at any complex frequency. Topologies differ only in how the builder wires
 //! the same elements; the solver never knows which one it has.
 
-use super::scenario::{present, Amp, Scenario, Topology};
-use super::solver::{Matrix, Vector, MAXN, ZERO};
+use crate::model::scenario::{present, Amp, Scenario, Topology};
+use crate::num::solver::{Matrix, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
 
 /// Logical nodes of a stage, before zero-ohm wires are merged.

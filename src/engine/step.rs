@@ -43,13 +43,12 @@
 //!    rate points back inside. Each instant is bracketed on the step,
 //!    guessed on the interpolant and refined on exact propagations.
 
-use super::analysis::refine_max_to;
-use super::dense::{double_step, expm1, Lu, Mat};
-use super::netlist::{Netlist, TimeEquations};
-use super::scenario::Scenario;
+use crate::engine::netlist::{Netlist, TimeEquations};
+use crate::model::scenario::Scenario;
+use crate::num::dense::{double_step, expm1, Lu, Mat};
+use crate::num::refine::refine_max_to;
 
-/// The step without a `step` field, volts.
-pub const DEFAULT_STEP_V: f64 = 0.01;
+pub use crate::model::scenario::DEFAULT_STEP_V;
 
 /// The settling bands the figures report: 1 %, 0.1 %, 0.01 %.
 pub const BANDS: [f64; 3] = [1e-2, 1e-3, 1e-4];

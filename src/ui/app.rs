@@ -6,12 +6,13 @@ use super::field::Field;
 use super::keys::{self, Action, FieldAction, FieldKey};
 use super::theme::Theme;
 use crate::engine::analysis::{Circuit, Point};
-use crate::engine::params::{self, param, Direction, ParamRef, PARAMS};
-use crate::engine::scenario::{Amp, Scenario};
-pub use crate::engine::traces::Traces;
-use crate::engine::{evaluate, evaluate_with, values, Evaluation};
-use crate::storage::{self, Original};
-pub use crate::storage::{leading_comments, write_atomic};
+use crate::files::storage::{self, Original};
+pub use crate::files::storage::{leading_comments, write_atomic};
+use crate::judge::{evaluate, evaluate_with, Evaluation};
+use crate::model::params::{self, param, Direction, ParamRef, PARAMS};
+use crate::model::scenario::{Amp, Scenario};
+use crate::model::values;
+pub use crate::output::traces::Traces;
 use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyEventKind};
 use serde::Deserialize;
 use std::path::{Path, PathBuf};
@@ -97,7 +98,7 @@ pub struct Slot {
     /// The solved point at the chosen probe frequency.
     pub probe: Option<Point>,
     /// The cursor readout there: the figures of `report --at`.
-    pub readout: Option<crate::report::PointReport>,
+    pub readout: Option<crate::output::report::PointReport>,
     pub path: Option<PathBuf>,
     pub dirty: bool,
     /// The stage as loaded or last saved (None for a copy, never saved):
@@ -153,7 +154,11 @@ impl Slot {
     fn set_probe(&mut self, probe_hz: f64) {
         let c = Circuit::new(&self.scenario);
         self.probe = c.eval(probe_hz);
-        self.readout = Some(crate::report::point_report(&c, &self.analysis, probe_hz));
+        self.readout = Some(crate::output::report::point_report(
+            &c,
+            &self.analysis,
+            probe_hz,
+        ));
     }
 
     pub fn name(&self) -> String {
@@ -387,8 +392,8 @@ impl App {
 
     /// The warnings strip: every stage's warnings with its slot, worst
     /// first (A before B at the same severity).
-    pub fn strip_warnings(&self) -> Vec<(usize, &crate::engine::Warning)> {
-        let mut w: Vec<(usize, &crate::engine::Warning)> = self
+    pub fn strip_warnings(&self) -> Vec<(usize, &crate::judge::Warning)> {
+        let mut w: Vec<(usize, &crate::judge::Warning)> = self
             .slots
             .iter()
             .enumerate()
@@ -423,7 +428,7 @@ impl App {
     }
 
     /// Apply a change to the active scenario; keep it only if it is valid.
-    fn change(&mut self, what: &str, f: impl FnOnce(&mut Scenario) -> Result<(), String>) {
+    fn change(&mut self, what: &str, f: impl FnOnce(&mut Scenario) -> anyhow::Result<()>) {
         if self.apply_change(what, f) {
             let shown = self.selected.display(&self.slot().scenario);
             self.report_change(what, &shown);
@@ -435,7 +440,7 @@ impl App {
     fn apply_change(
         &mut self,
         what: &str,
-        f: impl FnOnce(&mut Scenario) -> Result<(), String>,
+        f: impl FnOnce(&mut Scenario) -> anyhow::Result<()>,
     ) -> bool {
         let mut s = self.slot().scenario.clone();
         if let Err(e) = f(&mut s) {
@@ -702,20 +707,20 @@ impl App {
     /// Write the plot view of every stage (A first) as SVG next to the
     /// active stage's file, under a name not yet taken, and say where.
     fn write_figure(&mut self) {
-        let Some(view) = crate::plot_svg::view(self.view.figure_name()) else {
+        let Some(view) = crate::output::views::view(self.view.figure_name()) else {
             return;
         };
         let stages: Vec<_> = self
             .slots
             .iter()
-            .map(|s| crate::plot_svg::Stage {
+            .map(|s| crate::output::svg::Stage {
                 scenario: &s.scenario,
                 eval: &s.analysis,
             })
             .collect();
-        let svg = match crate::plot_svg::render(view, &stages, Default::default()) {
+        let svg = match crate::output::svg::render(view, &stages, Default::default()) {
             Ok(svg) => svg,
-            Err(e) => return self.error(e),
+            Err(e) => return self.error(e.to_string()),
         };
         let path = figure_path(self.slot().path.as_deref(), view.name);
         match storage::write_output(&path, &svg, false) {

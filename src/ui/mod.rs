@@ -10,8 +10,9 @@ pub mod spread_job;
 pub mod spread_view;
 pub mod theme;
 pub mod view;
+pub mod widgets;
 
-use crate::storage;
+use crate::files::storage;
 use anyhow::{bail, Result};
 use app::{App, Stage};
 use ratatui::backend::Backend;
@@ -22,6 +23,7 @@ use ratatui::Terminal;
 use signal_hook::consts::{SIGHUP, SIGTERM};
 use std::io::{IsTerminal, Write};
 use std::panic::AssertUnwindSafe;
+use std::process::ExitCode;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::{Arc, Mutex};
 use std::time::Duration;
@@ -257,7 +259,7 @@ fn event_loop(
 /// and first write each unsaved stage to a rescue file (see
 /// [`storage::rescue_path`]), saying where on stderr. After a signal the
 /// process exits with 128 + the signal number, after a panic with 101.
-pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
+pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<ExitCode> {
     if !std::io::stdin().is_terminal() || !std::io::stdout().is_terminal() {
         bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
     }
@@ -295,7 +297,7 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
     let (code, what) = match result {
         Ok(Ok(None)) => {
             restore();
-            return Ok(());
+            return Ok(ExitCode::SUCCESS);
         }
         Ok(Ok(Some(sig))) => {
             let name = if sig == SIGHUP { "SIGHUP" } else { "SIGTERM" };
@@ -320,5 +322,5 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<()> {
     for line in rescued {
         say(&line);
     }
-    std::process::exit(code);
+    Ok(ExitCode::from(code as u8))
 }

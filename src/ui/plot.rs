@@ -2,8 +2,8 @@
 //! labels, scales chosen from the data, and a widget that draws traces on a
 //! ratatui Canvas with its own axis labels.
 
-use crate::engine::values::fmt_eng;
-pub use crate::engine::values::nice_linear;
+use crate::model::values::fmt_eng;
+pub use crate::model::values::nice_linear;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::style::Style;
@@ -72,7 +72,7 @@ pub struct LogPlot<'a> {
     pub cursor: Option<(f64, Style)>,
 }
 
-pub use crate::engine::traces::finite;
+pub use crate::output::traces::finite;
 
 /// Label of a decade: 10^d Hz or Ω as "1", "10", "100", "1k", "10M", "1m".
 pub fn decade_label(d: i32, unit: &str) -> String {

@@ -2,14 +2,14 @@
 //! at the frequency cursor (the figures of `report --at` there).
 
 use super::app::App;
-use crate::engine::values::fmt_fixed;
-use crate::report::PointReport;
+use crate::model::values::fmt_fixed;
+use crate::output::report::PointReport;
 use ratatui::buffer::Buffer;
 use ratatui::layout::Rect;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Paragraph, Widget};
 
-use super::view::compact as eng;
+use super::widgets::compact as eng;
 
 /// The readout's parts for one stage, most important first.
 pub fn parts(r: &PointReport) -> Vec<String> {

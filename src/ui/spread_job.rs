@@ -2,8 +2,8 @@
 //! runs on its own thread after a change, so keys stay responsive; a new
 //! change cancels the running job and its result is dropped.
 
-use crate::engine::spread::{spread, trials_of, Run, SpreadResult};
-use crate::engine::Scenario;
+use crate::model::Scenario;
+use crate::study::spread::{spread, trials_of, Run, SpreadResult};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::mpsc::{channel, Receiver};
 use std::sync::Arc;

@@ -3,9 +3,9 @@
 //! yield; it only reads the background job's [`SpreadResult`].
 
 use super::app::App;
-use super::view::block;
-use crate::engine::spread::{unit_and_label, FigureSpread, SpreadResult, BINS};
-use crate::engine::values::fmt_plain;
+use super::widgets::block;
+use crate::model::values::fmt_plain;
+use crate::study::spread::{unit_and_label, FigureSpread, SpreadResult, BINS};
 use ratatui::buffer::Buffer;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::text::Line;
@@ -18,7 +18,7 @@ fn short_name(key: &str) -> &'static str {
         "f_3db_hz" => "f−3dB",
         "phase_margin_deg" => "margin",
         "settle_01pct_s" => "settling",
-        other => crate::engine::figures::figure(other).map_or("", |f| f.short),
+        other => crate::judge::figures::figure(other).map_or("", |f| f.short),
     }
 }
 
@@ -49,7 +49,7 @@ pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
         return;
     };
     Paragraph::new(yield_lines(app, r)).render(head, buf);
-    let keys = crate::engine::spread::shown_figures(r, 4);
+    let keys = crate::study::spread::shown_figures(r, 4);
     let cols = Layout::horizontal(vec![Constraint::Fill(1); keys.len()]).split(body);
     for (key, col) in keys.iter().zip(cols.iter()) {
         if let Some(f) = r.figure(key) {

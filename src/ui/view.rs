@@ -4,10 +4,11 @@ use super::app::{App, Choices, Mode, Slot, View};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
-use crate::engine::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
-use crate::engine::params::Group;
-use crate::engine::values::{fmt_eng, fmt_fixed};
-use crate::engine::Severity;
+pub use super::widgets::{block, compact};
+use crate::judge::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
+use crate::judge::Severity;
+use crate::model::params::Group;
+use crate::model::values::{fmt_eng, fmt_fixed};
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
 use ratatui::text::{Line, Span};
@@ -169,15 +170,6 @@ fn field_spans(
     ]
 }
 
-pub(super) fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
-    Block::default()
-        .borders(Borders::ALL)
-        .border_set(app.theme.border())
-        .border_style(app.theme.dim)
-        .title(title)
-        .title_style(app.theme.title)
-}
-
 /// The top line: each stage's label, file and an "edited" mark, the
 /// edited stage's title, and the program's name at the right.
 fn title_bar(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -202,7 +194,7 @@ fn title_bar(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     spans.push(Span::styled(
         format!(
             " · {}",
-            crate::engine::values::printable(&app.slot().scenario.title)
+            crate::model::values::printable(&app.slot().scenario.title)
         ),
         t.title,
     ));
@@ -613,7 +605,7 @@ fn fmt_plain_db(v: f64) -> String {
 /// the passive network, and the DC gain.
 fn gains_line(app: &App) -> String {
     let slot = app.slot();
-    let cells: Vec<String> = crate::engine::figures::FIGURES
+    let cells: Vec<String> = crate::judge::figures::FIGURES
         .iter()
         .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
         .map(|f| {
@@ -724,7 +716,7 @@ fn tagged_marks(app: &App, of: impl Fn(&Slot) -> Vec<VMark>) -> Vec<VMark> {
 }
 
 /// The band's two edges as plot marks.
-fn band_marks(s: &crate::engine::Scenario) -> Vec<VMark> {
+fn band_marks(s: &crate::model::Scenario) -> Vec<VMark> {
     [s.band.0, s.band.1]
         .into_iter()
         .map(|f| VMark {
@@ -813,7 +805,7 @@ fn step_summary(app: &App) -> String {
 /// One stage's overshoot and settling (or why not).
 fn stage_step_summary(slot: &Slot) -> String {
     let r = &slot.analysis.step;
-    let pct = |v: f64| format!("{}%", crate::engine::values::fmt_plain(v, 3));
+    let pct = |v: f64| format!("{}%", crate::model::values::fmt_plain(v, 3));
     match (r.final_v, r.settle_s[1]) {
         _ if slot.analysis.unstable() => "unstable: no step response".to_string(),
         (Some(_), Some(ts)) => {
@@ -1017,17 +1009,12 @@ fn pin_traces(app: &App) -> Vec<Trace<'_>> {
             style: app.theme.dim,
             stroke: slot_style(app, i).1,
             label: (i == app.active
-                && crate::engine::scenario::present(s.scenario.stage.riso).is_some())
+                && crate::model::scenario::present(s.scenario.stage.riso).is_some())
             .then(|| "pin".to_string()),
             label_at: 0.3,
             joining: Joining::Continuous,
         })
         .collect()
-}
-
-/// Compact text for a value in a table cell (no space before the unit).
-pub fn compact(v: f64, unit: &str) -> String {
-    fmt_eng(v, unit).replace(' ', "")
 }
 
 /// A key figure of one stage; the |Zout| figure at the chosen frequency.
@@ -1069,8 +1056,8 @@ fn figure_columns(app: &App) -> (Vec<&'static Figure>, usize) {
 const MIN_FIGURE_COLUMNS: usize = 5;
 
 /// A usual cell's width for a unit ("-0.9995", "-0.001%", "3.83MHz").
-fn usual_width(unit: crate::engine::figures::Unit) -> usize {
-    use crate::engine::figures::Unit;
+fn usual_width(unit: crate::judge::figures::Unit) -> usize {
+    use crate::judge::figures::Unit;
     match unit {
         Unit::Ratio | Unit::Si(_) | Unit::Percent => 7,
         Unit::Fraction => 8,
@@ -1152,7 +1139,7 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 }
 
 /// Rows a warning takes when wrapped to `width` (symbol, severity, code, text).
-fn warning_rows(w: &crate::engine::Warning, width: usize) -> usize {
+fn warning_rows(w: &crate::judge::Warning, width: usize) -> usize {
     // Symbol, severity, an A/B tag, the code and the text.
     (w.text.chars().count() + w.code.as_str().len() + 15).div_ceil(width.max(1))
 }
@@ -1160,7 +1147,7 @@ fn warning_rows(w: &crate::engine::Warning, width: usize) -> usize {
 fn warnings_strip(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let t = &app.theme;
     let tagged = app.strip_warnings();
-    let w: Vec<&crate::engine::Warning> = tagged.iter().map(|x| x.1).collect();
+    let w: Vec<&crate::judge::Warning> = tagged.iter().map(|x| x.1).collect();
     // How many warnings fit, each wrapped to the width.
     let width = area.width.max(1) as usize;
     let mut rows = 0;

@@ -3,8 +3,9 @@
 
 pub mod tmux;
 
-use loopwright::engine::scenario::{Amp, Load, Scenario, Source, Stage};
-use loopwright::engine::{Series, Topology};
+use loopwright::model::scenario::{Amp, Load, Scenario, Source, Stage};
+use loopwright::model::Series;
+use loopwright::model::Topology;
 
 /// A plain non-inverting stage around a single-pole op-amp with no input
 /// capacitance, no rin, a near-zero ro (1 µΩ, below the accepted range on
@@ -122,12 +123,12 @@ pub fn temp_dir(name: &str) -> std::path::PathBuf {
 
 /// The warnings of a scenario. Every test gets them through here, so a
 /// change in how the engine hands them out touches one place.
-pub fn warnings_of(s: &Scenario) -> Vec<loopwright::engine::Warning> {
-    loopwright::engine::evaluate(s).warnings
+pub fn warnings_of(s: &Scenario) -> Vec<loopwright::judge::Warning> {
+    loopwright::judge::evaluate(s).warnings
 }
 
 /// The warning with `code`, if the scenario raises it.
-pub fn warning(s: &Scenario, code: &str) -> Option<loopwright::engine::Warning> {
+pub fn warning(s: &Scenario, code: &str) -> Option<loopwright::judge::Warning> {
     warnings_of(s).into_iter().find(|w| w.code == code)
 }
 

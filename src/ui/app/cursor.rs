@@ -4,7 +4,7 @@
 //! each stage's values there, the same numbers as `report --at`.
 
 use super::App;
-use crate::engine::values::fmt_eng;
+use crate::model::values::fmt_eng;
 
 /// How far one `,` or `.` moves the cursor: a tenth of a decade.
 pub const STEP_DECADES: f64 = 0.1;

@@ -3,11 +3,11 @@
 //! Enter applies the highlighted row as one undoable change.
 
 use super::{App, Mode, Prompt};
-use crate::engine::pairs::{self, Query};
-use crate::engine::scenario::Topology;
-use crate::engine::stabilize::{self, Part};
-use crate::engine::values::{fmt_eng, fmt_plain, parse_value};
-use crate::helpers_cmd::{self, FIX_HEADER, PAIR_HEADER};
+use crate::model::scenario::Topology;
+use crate::model::values::{fmt_eng, fmt_plain, parse_value};
+use crate::output::helper_tables::{self, FIX_HEADER, PAIR_HEADER};
+use crate::study::pairs::{self, Query};
+use crate::study::stabilize::{self, Part};
 use crate::ui::field::Field;
 use ratatui::crossterm::event::{KeyCode, KeyEvent};
 
@@ -36,7 +36,7 @@ pub struct Choices {
 impl Choices {
     /// A list from a header and rows of cells (aligned together).
     fn new(title: String, header: &[&str], cells: &[Vec<String>], picks: Vec<Pick>) -> Choices {
-        let mut lines = crate::helpers_cmd::table(header, cells).into_iter();
+        let mut lines = crate::output::helper_tables::table(header, cells).into_iter();
         Choices {
             title,
             header: lines.next().unwrap_or_default(),
@@ -94,7 +94,7 @@ impl App {
             Ok(found) => found,
             Err(p) => return self.error(format!("gain {}: {p} (no pairs listed)", text.trim())),
         };
-        let cells: Vec<Vec<String>> = found.iter().map(helpers_cmd::pair_cells).collect();
+        let cells: Vec<Vec<String>> = found.iter().map(helper_tables::pair_cells).collect();
         let picks = found
             .iter()
             .map(|p| Pick::Pair { rg: p.rg, rf: p.rf })
@@ -117,12 +117,12 @@ impl App {
         let target = stabilize::DEFAULT_MARGIN_DEG;
         let o = match stabilize::options(&self.slot().scenario, target) {
             Ok(o) => o,
-            Err(e) => return self.error(e),
+            Err(e) => return self.error(e.to_string()),
         };
         if let Some(reason) = o.reason() {
             return self.error(reason);
         }
-        let cells: Vec<Vec<String>> = o.options.iter().map(helpers_cmd::fix_cells).collect();
+        let cells: Vec<Vec<String>> = o.options.iter().map(helper_tables::fix_cells).collect();
         let picks = o
             .options
             .iter()
@@ -130,7 +130,7 @@ impl App {
             .collect();
         let title = format!(" Stabilising options for {target}° (↑↓ Enter, Esc) ");
         let mut list = Choices::new(title, &FIX_HEADER, &cells, picks);
-        list.note = helpers_cmd::margin_now_text(&o);
+        list.note = helper_tables::margin_now_text(&o);
         self.mode = Mode::Choose(list);
         self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");
     }

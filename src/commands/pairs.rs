@@ -1,0 +1,45 @@
+//! `pairs`: E-series (rg, rf) pairs for a gain.
+
+use super::emit;
+use crate::model::{Series, Topology};
+use crate::output::helper_tables;
+use crate::study::pairs::Query;
+use anyhow::Result;
+use std::process::ExitCode;
+
+// The options of `pairs`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The gain magnitude (NonInverting: 1 + rf/rg; Inverting: rf/rg).
+    #[arg(value_name = "GAIN", value_parser = super::parse::parse_gain, allow_negative_numbers = true)]
+    pub gain: f64,
+    /// The series both resistors come from.
+    #[arg(long, default_value = "E24", value_parser = super::parse::parse_series)]
+    pub series: Series,
+    /// NonInverting or Inverting.
+    #[arg(long, default_value = "NonInverting", value_parser = super::parse::parse_pair_topology)]
+    pub topology: Topology,
+    /// Smallest rg (`1k`, `4k7`).
+    #[arg(long = "rg-min", value_name = "OHMS", default_value = "1k", value_parser = super::parse::parse_resistance, allow_negative_numbers = true)]
+    pub rg_min: f64,
+    /// Largest rg.
+    #[arg(long = "rg-max", value_name = "OHMS", default_value = "100k", value_parser = super::parse::parse_resistance, allow_negative_numbers = true)]
+    pub rg_max: f64,
+    /// How many pairs to list.
+    #[arg(long, default_value_t = 10, value_parser = clap::value_parser!(u32).range(1..=10_000))]
+    pub count: u32,
+    /// One JSON object: `target` and `pairs` (rg, rf, gain, error, noise_density, load_ohm).
+    #[arg(long)]
+    pub json: bool,
+}
+
+pub fn run(args: &Args) -> Result<ExitCode> {
+    let q = Query {
+        target: args.gain,
+        series: args.series,
+        topology: args.topology,
+        rg_range: (args.rg_min, args.rg_max),
+        count: args.count as usize,
+    };
+    emit(&helper_tables::pairs_output(&q, args.json)?)
+}

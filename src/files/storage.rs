@@ -1,0 +1,463 @@
+//! Saving scenario files without losing anything the user wrote: the text
+//! to write (changed numbers patched into the original text, so comments,
+//! spacing and line endings stay), the external-change check, the atomic
+//! write (through symbolic links, in place for hard links, mode and owner
+//! kept) and rescue files. No terminal code.
+
+use crate::files::filetext;
+use crate::files::load::{field_positions, FieldPos};
+use crate::model::scenario::Scenario;
+use atomic_write_file::AtomicWriteFile;
+use std::io::{self, Write};
+use std::os::unix::fs::MetadataExt;
+use std::path::{Path, PathBuf};
+use std::time::SystemTime;
+
+/// Size and modification time of a file, to tell whether another program
+/// changed it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Stamp {
+    len: u64,
+    modified: Option<SystemTime>,
+}
+
+/// The stamp of the file a path names (through links).
+pub fn stamp(path: &Path) -> Option<Stamp> {
+    let m = std::fs::metadata(path).ok()?;
+    Some(Stamp {
+        len: m.len(),
+        modified: m.modified().ok(),
+    })
+}
+
+/// A file as it was loaded (or last saved): its text and its stamp.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Original {
+    pub text: String,
+    pub stamp: Option<Stamp>,
+}
+
+impl Original {
+    /// Read a file's text and stamp (None when it cannot be read).
+    pub fn read(path: &Path) -> Option<Original> {
+        let stamp = stamp(path);
+        let text = filetext::read_text(path, filetext::MAX_BYTES).ok()?;
+        Some(Original { text, stamp })
+    }
+
+    /// Whether the file at `path` is no longer what was loaded: its stamp
+    /// differs and so does its text (a touched but equal file is not a
+    /// change), or it is gone.
+    pub fn changed_on_disk(&self, path: &Path) -> bool {
+        match stamp(path) {
+            None => true,
+            Some(s) if Some(&s) == self.stamp.as_ref() => false,
+            Some(_) => {
+                filetext::read_text(path, filetext::MAX_BYTES).ok().as_ref() != Some(&self.text)
+            }
+        }
+    }
+}
+
+/// The leading `//` comment lines of a scenario file.
+pub fn leading_comments(text: &str) -> String {
+    let mut out = String::new();
+    for line in text.lines() {
+        let t = line.trim_start();
+        if t.starts_with("//") {
+            out.push_str(line);
+            out.push('\n');
+        } else if !t.is_empty() {
+            break;
+        }
+    }
+    out
+}
+
+/// Byte length of the leading comment (and blank) lines.
+fn header_len(text: &str) -> usize {
+    let mut n = 0;
+    for line in text.split_inclusive('\n') {
+        let t = line.trim_start();
+        if t.is_empty() || t.starts_with("//") {
+            n += line.len();
+        } else {
+            break;
+        }
+    }
+    n
+}
+
+/// Whether the text has a comment (`//` or `/* */`, outside strings) at or
+/// after byte `from`.
+fn comment_after(text: &str, from: usize) -> bool {
+    let b = text.as_bytes();
+    let mut i = 0;
+    while i < b.len() {
+        match b[i] {
+            b'"' => {
+                i += 1;
+                while i < b.len() && b[i] != b'"' {
+                    i += if b[i] == b'\\' { 2 } else { 1 };
+                }
+            }
+            b'/' if i + 1 < b.len() && (b[i + 1] == b'/' || b[i + 1] == b'*') => {
+                if i >= from {
+                    return true;
+                }
+                let end = if b[i + 1] == b'/' { "\n" } else { "*/" };
+                i = text[i + 2..].find(end).map_or(b.len(), |k| i + 2 + k);
+            }
+            _ => {}
+        }
+        i += 1;
+    }
+    false
+}
+
+/// The text to save and whether it loses comments of the original.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Rendered {
+    pub text: String,
+    /// True when comments beyond the leading lines cannot be kept (the set
+    /// of fields changed, so the file is rewritten whole).
+    pub drops_comments: bool,
+}
+
+/// The file text for a scenario. With the original text and the same set
+/// of fields present, only the values that changed are replaced in it;
+/// otherwise the scenario is written whole after the original's leading
+/// comments. Either way the original's line ending and byte-order mark are
+/// kept and the text ends with a line ending.
+pub fn render(s: &Scenario, original: Option<&str>) -> Rendered {
+    let Some(orig) = original else {
+        return Rendered {
+            text: with_final_newline(s.to_ron(), "\n"),
+            drops_comments: false,
+        };
+    };
+    let (bom, body) = match orig.strip_prefix('\u{feff}') {
+        Some(b) => ("\u{feff}", b),
+        None => ("", orig),
+    };
+    let eol = if body.contains("\r\n") { "\r\n" } else { "\n" };
+    let patched = patch(body, s).filter(|t| Scenario::from_ron(t, None).as_ref() == Ok(s));
+    let (text, drops_comments) = match patched {
+        Some(t) => (t, false),
+        None => {
+            let whole = format!("{}{}", leading_comments(body), s.to_ron());
+            let whole = if eol == "\r\n" {
+                whole.replace("\r\n", "\n").replace('\n', "\r\n")
+            } else {
+                whole
+            };
+            (whole, comment_after(body, header_len(body)))
+        }
+    };
+    Rendered {
+        text: format!("{bom}{}", with_final_newline(text, eol)),
+        drops_comments,
+    }
+}
+
+fn with_final_newline(mut text: String, eol: &str) -> String {
+    if !text.ends_with('\n') {
+        text.push_str(eol);
+    }
+    text
+}
+
+/// Fields that hold a value (no fields inside them).
+fn leaves(fields: &[FieldPos]) -> Vec<&FieldPos> {
+    fields
+        .iter()
+        .filter(|f| {
+            let inner = format!("{}.", f.path);
+            !fields.iter().any(|g| g.path.starts_with(&inner))
+        })
+        .collect()
+}
+
+/// Byte range of the value that starts at or after `off`: a string, a
+/// bracketed tuple, or a bare token.
+fn value_span(text: &str, off: usize) -> (usize, usize) {
+    let b = text.as_bytes();
+    let mut i = off;
+    while i < b.len() && b[i].is_ascii_whitespace() {
+        i += 1;
+    }
+    let start = i;
+    match b.get(i) {
+        Some(b'"') => {
+            i += 1;
+            while i < b.len() && b[i] != b'"' {
+                i += if b[i] == b'\\' { 2 } else { 1 };
+            }
+            (start, (i + 1).min(b.len()))
+        }
+        Some(b'(') => {
+            let mut depth = 0;
+            while i < b.len() {
+                match b[i] {
+                    b'(' => depth += 1,
+                    b')' => {
+                        depth -= 1;
+                        if depth == 0 {
+                            return (start, i + 1);
+                        }
+                    }
+                    _ => {}
+                }
+                i += 1;
+            }
+            (start, i)
+        }
+        _ => {
+            while i < b.len() && !matches!(b[i], b',' | b')' | b'/') && !b[i].is_ascii_whitespace()
+            {
+                i += 1;
+            }
+            (start, i)
+        }
+    }
+}
+
+/// Two value texts mean the same: equal text, or the same numbers
+/// (`1e3` and `1000.0`), element by element for a tuple.
+fn same_value(a: &str, b: &str) -> bool {
+    if a == b {
+        return true;
+    }
+    let parts = |t: &str| -> Vec<String> {
+        t.trim_matches(|c| c == '(' || c == ')')
+            .split(',')
+            .map(|p| p.trim().to_string())
+            .collect()
+    };
+    let (pa, pb) = (parts(a), parts(b));
+    pa.len() == pb.len()
+        && pa.iter().zip(&pb).all(|(x, y)| {
+            x == y || matches!((x.parse::<f64>(), y.parse::<f64>()), (Ok(u), Ok(v)) if u == v)
+        })
+}
+
+/// The original text with only the changed values replaced, when the same
+/// fields are present (a missing `version` may stay missing).
+fn patch(body: &str, s: &Scenario) -> Option<String> {
+    let new = s.to_ron();
+    let (fo, fnew) = (field_positions(body), field_positions(&new));
+    let old_leaves = leaves(&fo);
+    let has_version = old_leaves.iter().any(|f| f.path == "version");
+    let new_leaves: Vec<&FieldPos> = leaves(&fnew)
+        .into_iter()
+        .filter(|f| has_version || f.path != "version")
+        .collect();
+    let names = |v: &[&FieldPos]| {
+        let mut n: Vec<String> = v.iter().map(|f| f.path.clone()).collect();
+        n.sort();
+        n
+    };
+    let old_names = names(&old_leaves);
+    if old_names != names(&new_leaves) || old_names.windows(2).any(|w| w[0] == w[1]) {
+        return None;
+    }
+    let mut edits: Vec<(usize, usize, &str)> = Vec::new();
+    for f in &old_leaves {
+        let g = new_leaves.iter().find(|g| g.path == f.path)?;
+        let (a0, a1) = value_span(body, f.value_offset);
+        let (b0, b1) = value_span(&new, g.value_offset);
+        if !same_value(&body[a0..a1], &new[b0..b1]) {
+            edits.push((a0, a1, &new[b0..b1]));
+        }
+    }
+    edits.sort_by_key(|e| std::cmp::Reverse(e.0));
+    let mut out = body.to_string();
+    for (a0, a1, v) in edits {
+        out.replace_range(a0..a1, v);
+    }
+    Some(out)
+}
+
+/// What a save did besides writing the text.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Written {
+    /// The file written (a symbolic link's target).
+    pub path: PathBuf,
+    /// When the file has several hard links: how many, and the backup
+    /// copy made before writing it in place.
+    pub hard_links: Option<(u64, PathBuf)>,
+    /// Stale temporary files of earlier saves removed from the folder.
+    pub cleaned: usize,
+}
+
+/// Follow symbolic links at the last component to the file they name.
+fn resolve_links(path: &Path) -> io::Result<PathBuf> {
+    let mut p = path.to_path_buf();
+    for _ in 0..40 {
+        match std::fs::symlink_metadata(&p) {
+            Ok(m) if m.file_type().is_symlink() => {
+                let t = std::fs::read_link(&p)?;
+                p = match p.parent() {
+                    Some(dir) if t.is_relative() => dir.join(t),
+                    _ => t,
+                };
+            }
+            _ => return Ok(p),
+        }
+    }
+    Err(io::Error::other(format!(
+        "{}: too many levels of symbolic links",
+        path.display()
+    )))
+}
+
+/// Remove `.NAME.ron.tmp-PID` files that an earlier save of this program
+/// left behind when it was killed (PID no longer running).
+fn clean_stale(dir: &Path) -> usize {
+    if !Path::new("/proc/self").exists() {
+        return 0; // cannot tell which processes are alive
+    }
+    let Ok(rd) = std::fs::read_dir(dir) else {
+        return 0;
+    };
+    let mut n = 0;
+    for e in rd.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        let Some((stem, pid)) = name.rsplit_once(".tmp-") else {
+            continue;
+        };
+        let ours = name.starts_with('.') && stem.ends_with(".ron");
+        let pid_ok = !pid.is_empty() && pid.bytes().all(|c| c.is_ascii_digit());
+        if ours && pid_ok && !Path::new("/proc").join(pid).exists() {
+            let is_file = e.file_type().map(|t| t.is_file()).unwrap_or(false);
+            if is_file && std::fs::remove_file(e.path()).is_ok() {
+                n += 1;
+            }
+        }
+    }
+    n
+}
+
+/// Write a file so that it is either the old or the new text, never half:
+/// an unnamed temporary file in the same folder, synced, renamed over the
+/// target and the folder synced (atomic-write-file), keeping mode and
+/// (where allowed) owner. A symbolic link's target is written, not the
+/// link. A file with several hard links is copied to `NAME.bak` and then
+/// written in place, so every link sees the new text.
+pub fn write_atomic(path: &Path, text: &str) -> io::Result<Written> {
+    let target = resolve_links(path)?;
+    let meta = std::fs::metadata(&target).ok();
+    if meta.as_ref().is_some_and(|m| m.is_dir()) {
+        return Err(io::Error::other(format!("{} is a folder", path.display())));
+    }
+    let dir = match target.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let cleaned = clean_stale(&dir);
+    if let Some(m) = meta.filter(|m| m.is_file() && m.nlink() > 1) {
+        let mut backup = target.clone().into_os_string();
+        backup.push(".bak");
+        let backup = PathBuf::from(backup);
+        let old = std::fs::read(&target)?;
+        commit(&backup, &old)?;
+        let mut f = std::fs::OpenOptions::new()
+            .write(true)
+            .truncate(true)
+            .open(&target)?;
+        f.write_all(text.as_bytes())?;
+        f.sync_all()?;
+        return Ok(Written {
+            path: target,
+            hard_links: Some((m.nlink(), backup)),
+            cleaned,
+        });
+    }
+    commit(&target, text.as_bytes())?;
+    Ok(Written {
+        path: target,
+        hard_links: None,
+        cleaned,
+    })
+}
+
+/// Write an output file (a figure, a man page): an existing file is
+/// refused unless `force`; the text goes through [`write_atomic`], so a
+/// failed write leaves no partial file behind.
+pub fn write_output(path: &Path, text: &str, force: bool) -> io::Result<PathBuf> {
+    refuse_existing(path, force)?;
+    write_atomic(path, text)
+        .map(|w| w.path)
+        .map_err(|e| io::Error::new(e.kind(), format!("cannot write {}: {e}", path.display())))
+}
+
+/// An error when `path` exists (as anything, a dangling link too) and
+/// `force` is not given.
+pub fn refuse_existing(path: &Path, force: bool) -> io::Result<()> {
+    if !force && std::fs::symlink_metadata(path).is_ok() {
+        return Err(io::Error::new(
+            io::ErrorKind::AlreadyExists,
+            format!("{} exists: give --force to overwrite it", path.display()),
+        ));
+    }
+    Ok(())
+}
+
+fn commit(path: &Path, bytes: &[u8]) -> io::Result<()> {
+    let mut f = AtomicWriteFile::open(path)?;
+    f.write_all(bytes)?;
+    f.commit()
+}
+
+/// Where the rescue copy of an unsaved stage goes: `NAME.ron.rescue` next
+/// to its file, or `./loopwright-A.rescue.ron` for a stage without one.
+pub fn rescue_path(path: Option<&Path>, label: &str) -> PathBuf {
+    match path.and_then(|p| p.file_name().map(|n| (p, n))) {
+        Some((p, name)) => {
+            let mut n = name.to_os_string();
+            n.push(".rescue");
+            p.with_file_name(n)
+        }
+        None => PathBuf::from(format!("loopwright-{label}.rescue.ron")),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn values_compare_as_numbers() {
+        assert!(same_value("1e3", "1000.0"));
+        assert!(same_value("(10.0, 1e5)", "(10.0, 100000.0)"));
+        assert!(!same_value("1e3", "1100.0"));
+        assert!(!same_value("\"a\"", "\"b\""));
+    }
+
+    #[test]
+    fn spans_of_values() {
+        let t = "x: \"a,b\" , y: (1, 2) z: 1e3/*c*/";
+        assert_eq!(&t[value_span(t, 2).0..value_span(t, 2).1], "\"a,b\"");
+        assert_eq!(&t[value_span(t, 13).0..value_span(t, 13).1], "(1, 2)");
+        assert_eq!(&t[value_span(t, 23).0..value_span(t, 23).1], "1e3");
+    }
+
+    #[test]
+    fn comments_after_the_header() {
+        let t = "// top\n(\n  a: \"//x\",\n)\n";
+        assert!(!comment_after(t, header_len(t)));
+        assert!(comment_after("// top\n( /* c */ )", 7));
+    }
+
+    #[test]
+    fn rescue_paths() {
+        assert_eq!(
+            rescue_path(Some(Path::new("d/s.ron")), "A"),
+            PathBuf::from("d/s.ron.rescue")
+        );
+        assert_eq!(
+            rescue_path(None, "B"),
+            PathBuf::from("loopwright-B.rescue.ron")
+        );
+    }
+}

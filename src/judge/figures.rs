@@ -1,0 +1,830 @@
+//! The figure table: one entry per scalar result, the only place a
+//! figure's JSON key, label, unit, formatting and source are written. The
+//! JSON and text reports, `compare`, the workbench's figures row and its
+//! A/B difference cells all iterate [`FIGURES`].
+//!
+//! To add a figure: compute it in the analysis, then add one entry here.
+
+use crate::judge::Evaluation;
+use crate::model::values::fmt_eng;
+
+/// How a figure's number reads.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Unit {
+    /// A plain ratio (gain), also shown in dB in the text report.
+    Ratio,
+    /// A fraction, shown in percent.
+    Fraction,
+    /// A quantity in engineering notation with this SI unit.
+    Si(&'static str),
+    Db,
+    Degrees,
+    /// A count of things.
+    Count,
+    /// A number already in percent.
+    Percent,
+    /// Yes or no (JSON true/false; read as 1 or 0).
+    Flag,
+}
+
+/// The text report's section for a figure.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Section {
+    Gain,
+    Loop,
+    Impedance,
+    Noise,
+    DcErrors,
+    SignalLimits,
+    /// The step response: in JSON an object `step` of its own.
+    Step,
+}
+
+impl Section {
+    pub const ALL: [Section; 7] = [
+        Section::Gain,
+        Section::Loop,
+        Section::Impedance,
+        Section::Noise,
+        Section::DcErrors,
+        Section::SignalLimits,
+        Section::Step,
+    ];
+
+    /// The JSON object the section's figures sit in (None: top level).
+    pub fn json_object(self) -> Option<&'static str> {
+        (self == Section::Step).then_some("step")
+    }
+
+    /// Whether the text report shows the section for this stage: the DC
+    /// errors and signal limits only when their inputs are given.
+    pub fn shown_for(self, e: &Evaluation) -> bool {
+        match self {
+            Section::DcErrors => e.limits.dc_given,
+            Section::SignalLimits => e.limits.signal_given,
+            _ => true,
+        }
+    }
+    pub fn title(self) -> &'static str {
+        match self {
+            Section::Gain => "Gain",
+            Section::Loop => "Loop",
+            Section::Impedance => "Impedance",
+            Section::Noise => "Noise at the load",
+            Section::DcErrors => "DC errors",
+            Section::SignalLimits => "Signal limits",
+            Section::Step => "Step response",
+        }
+    }
+}
+
+/// Where a figure appears.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shown {
+    /// A top-level key of `report --json`.
+    pub json: bool,
+    /// A line of the text report.
+    pub text: bool,
+    /// One of the key figures: `compare`, the workbench figures row and
+    /// its A/B differences.
+    pub key_figure: bool,
+    /// A column of the workbench figures row when a stage defines it.
+    pub row_when_given: bool,
+}
+
+const ALL_VIEWS: Shown = Shown {
+    json: true,
+    text: true,
+    key_figure: true,
+    row_when_given: false,
+};
+const REPORT: Shown = Shown {
+    json: true,
+    text: true,
+    key_figure: false,
+    row_when_given: false,
+};
+const TEXT_ONLY: Shown = Shown {
+    json: false,
+    text: true,
+    key_figure: false,
+    row_when_given: false,
+};
+const KEY_ONLY: Shown = Shown {
+    json: false,
+    text: false,
+    key_figure: true,
+    row_when_given: false,
+};
+
+const ROW_IF_GIVEN: Shown = Shown {
+    json: false,
+    text: false,
+    key_figure: false,
+    row_when_given: true,
+};
+
+/// One scalar result.
+pub struct Figure {
+    /// JSON key, also the figure's name in `compare --json`.
+    pub key: &'static str,
+    /// Name in the text report and `compare`.
+    pub label: &'static str,
+    /// Column header in the workbench's figures row.
+    pub short: &'static str,
+    pub unit: Unit,
+    pub section: Section,
+    pub shown: Shown,
+    /// A closed-loop figure means nothing when the loop is unstable.
+    pub closed_loop: bool,
+    /// |Zout| at one frequency: the workbench shows it at its own chosen
+    /// frequency (the `{f}` in `short`).
+    pub at_probe: bool,
+    /// What the text report says when the figure is undefined.
+    pub undefined: &'static str,
+    /// Defined only when its inputs are given: the text report leaves the
+    /// line out rather than print it undefined.
+    pub needs_input: bool,
+    read: fn(&Evaluation) -> Option<f64>,
+}
+
+/// What a figure is for one stage.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Reading {
+    Value(f64),
+    /// Undefined (no crossover, open, …).
+    Undefined,
+    /// A closed-loop figure of an unstable stage.
+    Unstable,
+}
+
+impl Reading {
+    pub fn value(self) -> Option<f64> {
+        match self {
+            Reading::Value(v) => Some(v),
+            _ => None,
+        }
+    }
+}
+
+const fn fig(
+    key: &'static str,
+    label: &'static str,
+    short: &'static str,
+    unit: Unit,
+    section: Section,
+    shown: Shown,
+    read: fn(&Evaluation) -> Option<f64>,
+) -> Figure {
+    Figure {
+        key,
+        label,
+        short,
+        unit,
+        section,
+        shown,
+        closed_loop: false,
+        at_probe: false,
+        undefined: "none",
+        needs_input: false,
+        read,
+    }
+}
+
+impl Figure {
+    const fn closed_loop(mut self) -> Figure {
+        self.closed_loop = true;
+        self
+    }
+    const fn at_probe(mut self) -> Figure {
+        self.at_probe = true;
+        self
+    }
+    /// A DC-error or signal-limit figure: closed-loop, and left out of the
+    /// text report without its inputs.
+    const fn given(mut self) -> Figure {
+        self.needs_input = true;
+        self.closed_loop = true;
+        self
+    }
+    const fn undefined(mut self, text: &'static str) -> Figure {
+        self.undefined = text;
+        self
+    }
+}
+
+use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
+use Unit::*;
+
+/// Every scalar figure, in JSON and report order.
+pub static FIGURES: [Figure; 46] = [
+    fig(
+        "nominal_gain",
+        "nominal gain",
+        "nominal",
+        Ratio,
+        Gain,
+        REPORT,
+        |e| Some(e.nominal_gain),
+    ),
+    fig(
+        "ideal_gain",
+        "network gain",
+        "network",
+        Ratio,
+        Gain,
+        REPORT,
+        |e| Some(e.ideal_gain),
+    ),
+    fig("dc_gain", "DC gain", "gain", Ratio, Gain, ALL_VIEWS, |e| {
+        Some(e.dc_gain)
+    })
+    .closed_loop(),
+    fig(
+        "gain_error",
+        "gain error",
+        "error",
+        Fraction,
+        Gain,
+        ALL_VIEWS,
+        |e| Some(e.gain_error),
+    )
+    .closed_loop(),
+    fig(
+        "f_3db_hz",
+        "f−3dB",
+        "f-3dB",
+        Si("Hz"),
+        Gain,
+        ALL_VIEWS,
+        |e| e.f_3db_hz,
+    )
+    .closed_loop(),
+    fig("peaking_db", "peaking", "peak", Db, Gain, ALL_VIEWS, |e| {
+        Some(e.peaking_db)
+    })
+    .closed_loop(),
+    fig(
+        "crossover_hz",
+        "crossover",
+        "fc",
+        Si("Hz"),
+        Loop,
+        REPORT,
+        |e| e.crossover_hz,
+    ),
+    fig(
+        "phase_margin_deg",
+        "phase margin",
+        "PM",
+        Degrees,
+        Loop,
+        ALL_VIEWS,
+        |e| e.phase_margin_deg,
+    ),
+    fig(
+        "gain_margin_db",
+        "gain margin",
+        "GM",
+        Db,
+        Loop,
+        ALL_VIEWS,
+        |e| e.gain_margin_db,
+    )
+    .undefined("none (phase never reaches −180° in the sweep)"),
+    fig(
+        "phase_180_hz",
+        "phase −180° at",
+        "f180",
+        Si("Hz"),
+        Loop,
+        TEXT_ONLY,
+        |e| e.phase_180_hz,
+    ),
+    fig(
+        "loop_gain_dc",
+        "DC loop gain",
+        "loop",
+        Ratio,
+        Loop,
+        REPORT,
+        |e| Some(e.loop_gain_dc),
+    ),
+    fig(
+        "zout_dc_ohm",
+        "Zout at DC",
+        "Zout DC",
+        Si("Ω"),
+        Impedance,
+        ALL_VIEWS,
+        |e| Some(e.zout_dc_ohm),
+    )
+    .closed_loop(),
+    fig(
+        "zin_dc_ohm",
+        "Zin at DC",
+        "Zin DC",
+        Si("Ω"),
+        Impedance,
+        REPORT,
+        |e| e.zin_dc_ohm,
+    )
+    .closed_loop()
+    .undefined("open (no DC path, or above 1 PΩ)"),
+    fig(
+        "zout_1khz_ohm",
+        "|Zout| at 1 kHz",
+        "Zout@{f}",
+        Si("Ω"),
+        Impedance,
+        ALL_VIEWS,
+        |e| e.zout_1khz_ohm,
+    )
+    .closed_loop()
+    .at_probe(),
+    fig(
+        "zout_at_ohm",
+        "|Zout| at the spec's frequency",
+        "Zout spec",
+        Si("Ω"),
+        Impedance,
+        REPORT,
+        |e| e.zout_at_ohm,
+    )
+    .given(),
+    fig(
+        "noise_density_1khz",
+        "density at 1 kHz",
+        "en@1k",
+        Si("V/√Hz"),
+        Noise,
+        REPORT,
+        |e| Some(e.noise_density_1khz),
+    )
+    .closed_loop(),
+    fig(
+        "noise_rms",
+        "noise rms",
+        "noise rms",
+        Si("V"),
+        Noise,
+        ALL_VIEWS,
+        |e| Some(e.noise_rms),
+    )
+    .closed_loop(),
+    fig(
+        "warnings",
+        "warnings",
+        "warn",
+        Count,
+        Noise,
+        KEY_ONLY,
+        |e| Some(e.warnings.len() as f64),
+    ),
+    fig(
+        "out_bias_v",
+        "bias error at load",
+        "bias",
+        Si("V"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.out_bias_v,
+    )
+    .given(),
+    fig(
+        "out_offset_max_v",
+        "offset, worst case",
+        "offset",
+        Si("V"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.out_offset_max_v,
+    )
+    .given(),
+    fig(
+        "out_dc_v",
+        "DC at load",
+        "out DC",
+        Si("V"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.out_dc_v,
+    )
+    .given(),
+    fig(
+        "bias_balance_ohm",
+        "bias balance r",
+        "rbal",
+        Si("Ω"),
+        DcErrors,
+        REPORT,
+        |e| e.limits.bias_balance_ohm,
+    )
+    .given(),
+    fig(
+        "int_dc_v",
+        "internal DC",
+        "int DC",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_dc_v,
+    )
+    .given(),
+    fig(
+        "int_peak_v",
+        "internal peak",
+        "int pk",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_peak_v,
+    )
+    .given(),
+    fig(
+        "int_low_v",
+        "internal low",
+        "int lo",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_low_v,
+    )
+    .given(),
+    fig(
+        "int_high_v",
+        "internal high",
+        "int hi",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.int_high_v,
+    )
+    .given(),
+    fig(
+        "headroom_low_v",
+        "headroom − rail",
+        "room−",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.headroom_low_v,
+    )
+    .given(),
+    fig(
+        "headroom_high_v",
+        "headroom + rail",
+        "room+",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.headroom_high_v,
+    )
+    .given(),
+    fig(
+        "cm_low_v",
+        "+ input low",
+        "cm lo",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.cm_low_v,
+    )
+    .given(),
+    fig(
+        "cm_high_v",
+        "+ input high",
+        "cm hi",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.cm_high_v,
+    )
+    .given(),
+    fig(
+        "cm_headroom_v",
+        "common-mode room",
+        "cm room",
+        Si("V"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.cm_headroom_v,
+    )
+    .given(),
+    fig(
+        "slew_needed_v_per_s",
+        "slew needed",
+        "slew",
+        Si("V/s"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.slew_needed_v_per_s,
+    )
+    .given(),
+    fig(
+        "fpbw_hz",
+        "full-power bw",
+        "fpbw",
+        Si("Hz"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.fpbw_hz,
+    )
+    .given(),
+    fig(
+        "iout_peak_a",
+        "output current",
+        "iout",
+        Si("A"),
+        SignalLimits,
+        REPORT,
+        |e| e.limits.iout_peak_a,
+    )
+    .given(),
+    fig(
+        "headroom_v",
+        "headroom",
+        "room",
+        Si("V"),
+        SignalLimits,
+        ROW_IF_GIVEN,
+        |e| {
+            let l = &e.limits;
+            Some(l.headroom_low_v?.min(l.headroom_high_v?))
+        },
+    )
+    .given(),
+    fig(
+        "offset_v",
+        "offset",
+        "offset",
+        Si("V"),
+        DcErrors,
+        ROW_IF_GIVEN,
+        |e| e.limits.out_offset_max_v,
+    )
+    .given(),
+    fig("size_v", "step size", "step", Si("V"), Step, REPORT, |e| {
+        Some(e.step.size_v)
+    }),
+    fig(
+        "final_v",
+        "final value",
+        "final",
+        Si("V"),
+        Step,
+        REPORT,
+        |e| e.step.final_v,
+    )
+    .closed_loop()
+    .undefined("none (the response does not settle)"),
+    fig(
+        "rise_s",
+        "rise 10–90 %",
+        "rise",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.rise_s,
+    )
+    .closed_loop()
+    .undefined("none (never reaches 90 %)"),
+    fig(
+        "overshoot_pct",
+        "overshoot",
+        "overshoot",
+        Percent,
+        Step,
+        ALL_VIEWS,
+        |e| e.step.overshoot_pct,
+    )
+    .closed_loop(),
+    fig(
+        "peak_time_s",
+        "peak at",
+        "tpeak",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.peak_time_s,
+    )
+    .closed_loop()
+    .undefined("none (no overshoot)"),
+    fig(
+        "settle_1pct_s",
+        "settling to 1 %",
+        "ts 1%",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.settle_s[0],
+    )
+    .closed_loop()
+    .undefined("none (does not settle)"),
+    fig(
+        "settle_01pct_s",
+        "settling to 0.1 %",
+        "ts 0.1%",
+        Si("s"),
+        Step,
+        ALL_VIEWS,
+        |e| e.step.settle_s[1],
+    )
+    .closed_loop()
+    .undefined("none (does not settle)"),
+    fig(
+        "settle_001pct_s",
+        "settling to 0.01 %",
+        "ts 0.01%",
+        Si("s"),
+        Step,
+        REPORT,
+        |e| e.step.settle_s[2],
+    )
+    .closed_loop()
+    .undefined("none (does not settle)"),
+    fig(
+        "slew_limited",
+        "slew-limited",
+        "slewing",
+        Flag,
+        Step,
+        REPORT,
+        |e| e.step.slew_limited.map(|b| f64::from(u8::from(b))),
+    )
+    .closed_loop(),
+    fig(
+        "clipped",
+        "held at a rail",
+        "clipped",
+        Flag,
+        Step,
+        REPORT,
+        |e| e.step.clipped.map(|b| f64::from(u8::from(b))),
+    )
+    .closed_loop(),
+];
+
+/// The key figures, in order.
+pub fn key_figures() -> impl Iterator<Item = &'static Figure> {
+    FIGURES.iter().filter(|f| f.shown.key_figure)
+}
+
+/// The figures the workbench row adds when a stage defines them.
+pub fn row_figures() -> impl Iterator<Item = &'static Figure> {
+    FIGURES.iter().filter(|f| f.shown.row_when_given)
+}
+
+/// The figure with this key.
+pub fn figure(key: &str) -> Option<&'static Figure> {
+    FIGURES.iter().find(|f| f.key == key)
+}
+
+/// A fixed-point number without a negative zero.
+fn fixed(v: f64, decimals: usize, signed: bool) -> String {
+    let text = format!("{v:.decimals$}");
+    let zero = text
+        .trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.');
+    let text = if zero {
+        text.trim_start_matches('-').to_string()
+    } else {
+        text
+    };
+    if signed && !text.starts_with('-') {
+        format!("+{text}")
+    } else {
+        text
+    }
+}
+
+impl Figure {
+    /// The figure of one evaluated stage.
+    pub fn read(&self, e: &Evaluation) -> Reading {
+        self.read_value(e, (self.read)(e))
+    }
+
+    /// The figure from a given value (for one the caller solved itself,
+    /// such as |Zout| at the workbench's chosen frequency).
+    pub fn read_value(&self, e: &Evaluation, v: Option<f64>) -> Reading {
+        if self.closed_loop && e.analysis.unstable() {
+            return Reading::Unstable;
+        }
+        v.filter(|v| v.is_finite())
+            .map_or(Reading::Undefined, Reading::Value)
+    }
+
+    /// The value for JSON: null where undefined or unstable.
+    pub fn json(&self, e: &Evaluation) -> Option<f64> {
+        self.read(e).value()
+    }
+
+    /// The JSON value itself: a number, true/false for a flag, or null.
+    pub fn json_value(&self, e: &Evaluation) -> serde_json::Value {
+        match (self.json(e), self.unit) {
+            (Some(v), Flag) => serde_json::Value::Bool(v != 0.0),
+            (Some(v), _) => serde_json::json!(v),
+            (None, _) => serde_json::Value::Null,
+        }
+    }
+
+    /// The number alone, at the precision of the text views; `signed`
+    /// puts a + before positive values (differences).
+    pub fn number(&self, v: f64, signed: bool) -> String {
+        self.unit.number(v, signed)
+    }
+
+    /// The text report's value: the number, "unstable" or the figure's
+    /// undefined text; ratios also in dB.
+    pub fn text(&self, r: Reading) -> String {
+        match r {
+            Reading::Value(v) if self.unit == Ratio && v != 0.0 => {
+                format!(
+                    "{} ({} dB)",
+                    self.number(v, false),
+                    fixed(20.0 * v.abs().log10(), 1, false)
+                )
+            }
+            Reading::Value(v) => self.number(v, false),
+            Reading::Undefined => self.undefined.into(),
+            Reading::Unstable => "unstable".into(),
+        }
+    }
+
+    /// A compact cell for the figures row (no space before the unit).
+    pub fn cell(&self, r: Reading, signed: bool) -> String {
+        match r {
+            Reading::Value(v) => self.unit.cell(v, signed),
+            Reading::Unstable => "unstable".into(),
+            Reading::Undefined => "—".into(),
+        }
+    }
+}
+
+impl Unit {
+    /// A number of this unit at the precision of the text views; `signed`
+    /// puts a + before positive values (differences).
+    pub fn number(self, v: f64, signed: bool) -> String {
+        let sign = if signed && v > 0.0 { "+" } else { "" };
+        match self {
+            Ratio => fixed(v, 6, signed),
+            Fraction => format!("{} %", fixed(v * 100.0, 4, signed)),
+            Db => format!("{} dB", fixed(v, 2, signed)),
+            Degrees => format!("{}°", fixed(v, 1, signed)),
+            Count => fixed(v, 0, signed),
+            Percent => format!("{} %", fixed(v, 3, signed)),
+            Flag => if v != 0.0 { "yes" } else { "no" }.into(),
+            Si(u) => format!("{sign}{}", fmt_eng(v, u)),
+        }
+    }
+
+    /// A compact number of this unit (no space before the unit).
+    pub fn cell(self, v: f64, signed: bool) -> String {
+        match self {
+            Ratio => fixed(v, 4, signed),
+            Fraction => format!("{}%", fixed(v * 100.0, 3, signed)),
+            Db => format!("{}dB", fixed(v, 1, signed)),
+            Degrees => format!("{}°", fixed(v, 0, signed)),
+            Count => fixed(v, 0, signed),
+            Percent => format!("{}%", fixed(v, 2, signed)),
+            Flag => if v != 0.0 { "yes" } else { "no" }.into(),
+            Si(u) => {
+                let text = fmt_eng(v.abs(), u).replace(' ', "");
+                match (v < 0.0, signed) {
+                    (true, _) => format!("-{text}"),
+                    (false, true) => format!("+{text}"),
+                    (false, false) => text,
+                }
+            }
+        }
+    }
+}
+
+/// B − A of a figure, where both are defined.
+pub fn delta(f: &Figure, a: &Evaluation, b: &Evaluation) -> Option<f64> {
+    match (f.read(a), f.read(b)) {
+        (Reading::Value(x), Reading::Value(y)) => Some(y - x).filter(|d| d.is_finite()),
+        _ => None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn keys_are_unique() {
+        for (i, f) in FIGURES.iter().enumerate() {
+            assert!(FIGURES[..i].iter().all(|g| g.key != f.key), "{}", f.key);
+            assert_eq!(figure(f.key).map(|g| g.key), Some(f.key));
+        }
+    }
+
+    #[test]
+    fn no_negative_zero() {
+        assert_eq!(fixed(-0.00001, 2, false), "0.00");
+        assert_eq!(fixed(-0.00001, 2, true), "+0.00");
+        assert_eq!(fixed(-1.5, 1, true), "-1.5");
+    }
+}

@@ -1,0 +1,241 @@
+//! The spec table: one entry per limit of a scenario's `spec` block, the
+//! only place a limit's field, the figure it holds and its pass rule are
+//! written. The spread, `check` and the `spec` warning all read [`LIMITS`].
+//!
+//! To add a limit: the field in [`Spec`], one entry here (its figure must
+//! be one of the spread figures).
+
+use crate::judge::warnings::{Code, Severity, Warning};
+use crate::model::scenario::{Scenario, Spec};
+use crate::model::values::fmt_plain;
+
+/// When a figure meets its limit (a value equal to the limit passes).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Rule {
+    AtMost,
+    AtLeast,
+    /// |value| ≤ limit.
+    MagnitudeAtMost,
+}
+
+/// One limit of the spec.
+#[derive(Debug)]
+pub struct Limit {
+    /// The field in the `spec` block (also its name in `check`).
+    pub field: &'static str,
+    /// The spread figures it holds; with two, the smaller one counts.
+    pub figures: &'static [&'static str],
+    pub rule: Rule,
+    get: fn(&Spec) -> Option<f64>,
+}
+
+impl PartialEq for Limit {
+    fn eq(&self, other: &Limit) -> bool {
+        self.field == other.field
+    }
+}
+
+use Rule::*;
+
+/// Every limit, in file order.
+pub static LIMITS: [Limit; 9] = [
+    Limit {
+        field: "gain_error_max",
+        figures: &["target_error"],
+        rule: MagnitudeAtMost,
+        get: |s| s.gain_error_max,
+    },
+    Limit {
+        field: "f_3db_min",
+        figures: &["f_3db_hz"],
+        rule: AtLeast,
+        get: |s| s.f_3db_min,
+    },
+    Limit {
+        field: "peaking_max_db",
+        figures: &["peaking_db"],
+        rule: AtMost,
+        get: |s| s.peaking_max_db,
+    },
+    Limit {
+        field: "pm_min_deg",
+        figures: &["phase_margin_deg"],
+        rule: AtLeast,
+        get: |s| s.pm_min_deg,
+    },
+    Limit {
+        field: "zout_max_ohm",
+        figures: &["zout_at_ohm"],
+        rule: AtMost,
+        get: |s| s.zout_max_ohm,
+    },
+    Limit {
+        field: "noise_rms_max",
+        figures: &["noise_rms"],
+        rule: AtMost,
+        get: |s| s.noise_rms_max,
+    },
+    Limit {
+        field: "offset_max_v",
+        figures: &["out_offset_max_v"],
+        rule: AtMost,
+        get: |s| s.offset_max_v,
+    },
+    Limit {
+        field: "headroom_min_v",
+        figures: &["headroom_low_v", "headroom_high_v"],
+        rule: AtLeast,
+        get: |s| s.headroom_min_v,
+    },
+    Limit {
+        field: "settle_max_s",
+        figures: &["settle_01pct_s"],
+        rule: AtMost,
+        get: |s| s.settle_max_s,
+    },
+];
+
+impl Limit {
+    /// The limit's value in this scenario's spec, when given.
+    pub fn value(&self, s: &Scenario) -> Option<f64> {
+        s.spec.as_ref().and_then(self.get)
+    }
+
+    /// The value the limit holds from the figures a stage gives (`read`
+    /// looks one up by key): the smaller of two; None if any is undefined.
+    pub fn held(&self, read: impl Fn(&str) -> Option<f64>) -> Option<f64> {
+        self.figures
+            .iter()
+            .map(|k| read(k))
+            .try_fold(f64::INFINITY, |m, v| v.map(|v| m.min(v)))
+    }
+
+    /// Whether a value meets the limit; an undefined one does not.
+    pub fn passes(&self, value: Option<f64>, limit: f64) -> bool {
+        value.is_some_and(|v| match self.rule {
+            AtMost => v <= limit,
+            AtLeast => v >= limit,
+            MagnitudeAtMost => v.abs() <= limit,
+        })
+    }
+
+    /// Where the limit stands on its figure's axis: the value, or −value
+    /// and +value for a limit on the magnitude.
+    pub fn edges(&self, limit: f64) -> Vec<f64> {
+        match self.rule {
+            MagnitudeAtMost => vec![-limit, limit],
+            AtMost | AtLeast => vec![limit],
+        }
+    }
+
+    /// The sign the limit is written with: ≥, ≤ or ±.
+    pub fn sign(&self) -> &'static str {
+        match self.rule {
+            AtLeast => "≥",
+            AtMost => "≤",
+            MagnitudeAtMost => "±",
+        }
+    }
+
+    /// Of two values, the one further from passing (undefined is worst).
+    pub fn worse(&self, a: Option<f64>, b: Option<f64>) -> Option<f64> {
+        let (Some(x), Some(y)) = (a, b) else {
+            return a.or(b);
+        };
+        let x_worse = match self.rule {
+            AtMost => x > y,
+            AtLeast => x < y,
+            MagnitudeAtMost => x.abs() > y.abs(),
+        };
+        Some(if x_worse { x } else { y })
+    }
+
+    /// "pm_min_deg 41.2 < 50": how a value fails the limit, in plain SI
+    /// numbers (the field's name carries the unit) for scripts and logs.
+    pub fn failure(&self, value: Option<f64>, limit: f64) -> String {
+        self.failure_with(value, limit, |v| fmt_plain(v, 4))
+    }
+
+    /// The same for the screen: "phase margin 41.2° < 50° (pm_min_deg)".
+    pub fn failure_readable(&self, value: Option<f64>, limit: f64) -> String {
+        let (unit, label) = crate::judge::spread_figures::unit_and_label(self.figures[0]);
+        let text = self.failure_with(value, limit, |v| unit.number(v, false));
+        let named = text.replacen(self.field, label, 1);
+        format!("{named} ({})", self.field)
+    }
+
+    fn failure_with(&self, value: Option<f64>, limit: f64, num: impl Fn(f64) -> String) -> String {
+        let Some(v) = value else {
+            return format!("{} undefined (limit {})", self.field, num(limit));
+        };
+        let (shown, op) = match self.rule {
+            AtMost => (v, ">"),
+            AtLeast => (v, "<"),
+            MagnitudeAtMost => (v.abs(), ">"),
+        };
+        let bar = if self.rule == MagnitudeAtMost {
+            "|"
+        } else {
+            ""
+        };
+        format!(
+            "{} {bar}{}{bar} {op} {}",
+            self.field,
+            num(shown),
+            num(limit)
+        )
+    }
+}
+
+/// The limits a scenario's spec gives, with their values.
+pub fn given(s: &Scenario) -> Vec<(&'static Limit, f64)> {
+    LIMITS
+        .iter()
+        .filter_map(|l| l.value(s).map(|v| (l, v)))
+        .collect()
+}
+
+/// The fraction of trials that must meet every limit (1 without it).
+pub fn yield_min(s: &Scenario) -> f64 {
+    s.spec.as_ref().and_then(|x| x.yield_min).unwrap_or(1.0)
+}
+
+/// One `spec` warning per limit the nominal stage fails, with the numbers.
+pub fn nominal_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warning> {
+    let target = crate::judge::spread_figures::target(s, e);
+    given(s)
+        .into_iter()
+        .filter_map(|(l, limit)| {
+            let v = l.held(|k| crate::judge::spread_figures::read(e, k, target));
+            (!l.passes(v, limit)).then(|| Warning {
+                code: Code::Spec,
+                severity: Severity::Warning,
+                text: format!("misses its spec: {}", l.failure_readable(v, limit)),
+            })
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod keys_resolve {
+    use super::*;
+    use crate::judge::figures::figure;
+    use crate::judge::spread_figures::{SPREAD_FIGURES, TARGET_ERROR};
+
+    /// Every key the spread and the spec name resolves to a figure.
+    #[test]
+    fn every_key_resolves() {
+        let keys = SPREAD_FIGURES.iter().map(|(k, _)| *k);
+        let held = LIMITS.iter().flat_map(|l| l.figures.iter().copied());
+        for key in keys.chain(held) {
+            assert!(
+                key == TARGET_ERROR || figure(key).is_some(),
+                "`{key}` names no figure"
+            );
+            assert!(
+                SPREAD_FIGURES.iter().any(|(k, _)| *k == key),
+                "`{key}` does not spread"
+            );
+        }
+    }
+}

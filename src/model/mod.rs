@@ -1,0 +1,11 @@
+//! What a stage is: the scenario types, values and their notation (SI and
+//! IEC 60062 RKM), the IEC 60063 series, and the parameter table with its
+//! ranges and validation. Nothing here solves or reads files.
+
+pub mod eseries;
+pub mod params;
+pub mod scenario;
+pub mod values;
+
+pub use eseries::Series;
+pub use scenario::{FieldProblem, Scenario, ScenarioError, Topology};

@@ -1,0 +1,1530 @@
+//! The parameter table: one entry per scenario field, the only place a
+//! field's label, unit, group, stepping, presence rule, accepted range and
+//! access are written. The workbench pane, typed entry, validation, the A/B
+//! differences and the text report all read it.
+//!
+//! To add a parameter: add the field to the scenario struct, then one entry
+//! to [`PARAMS`]. Nothing else needs to know.
+
+use crate::model::eseries::{Series, CAPACITOR_SERIES};
+use crate::model::scenario::{Dist, FieldProblem, Scenario, Step, Supply, Topology};
+use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
+
+/// Where a parameter sits in the pane and the report.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Group {
+    Stage,
+    Amplifier,
+    SourceLoad,
+    SupplySignal,
+    Environment,
+    Spread,
+}
+
+impl Group {
+    pub fn title(self) -> &'static str {
+        match self {
+            Group::Stage => "Stage",
+            Group::Amplifier => "Amplifier",
+            Group::SourceLoad => "Source and load",
+            Group::SupplySignal => "Supply and signal",
+            Group::Environment => "Environment",
+            Group::Spread => "Spread and spec",
+        }
+    }
+}
+
+/// How a value moves when stepped.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Stepping {
+    /// A real resistor: along the stage's E-series, crossing decades.
+    Resistor,
+    /// A capacitor: along E12.
+    Capacitor,
+    /// A model number: 1-2-5 per decade.
+    OneTwoFive,
+    /// A fixed additive step.
+    Linear(f64),
+    /// Along a list of usual values.
+    List(&'static [f64]),
+    /// One of a fixed set of names.
+    Choice,
+}
+
+/// Which way a step goes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Direction {
+    Up,
+    Down,
+}
+
+/// Whether a field may be absent, and what zero means.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Presence {
+    /// Always present.
+    Required,
+    /// May be absent; zero is not a valid value.
+    Optional,
+    /// May be absent; zero also means absent.
+    ZeroIsAbsent,
+    /// Zero is allowed and means something (an ideal source).
+    ZeroAllowed,
+    /// Needed by gain stages; a follower has no such part.
+    GainStage,
+    /// Needed by gain stages; in a follower absent or zero is a wire.
+    FeedbackResistor,
+}
+
+/// How a value is shown.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    /// Engineering notation with the unit, four significant digits.
+    Eng,
+    /// A tolerance (a fraction) shown as ± a percentage.
+    Percent,
+    /// A fraction shown as a plain percentage (a yield).
+    Share,
+    /// A plain ratio with its value in dB.
+    RatioDb,
+    /// Degrees Celsius.
+    Celsius,
+}
+
+/// How the value is read and written.
+#[derive(Debug, Clone, Copy)]
+pub enum Access {
+    Number {
+        get: fn(&Scenario) -> Option<f64>,
+        set: fn(&mut Scenario, Option<f64>),
+    },
+    Choice {
+        names: &'static [&'static str],
+        get: fn(&Scenario) -> usize,
+        set: fn(&mut Scenario, usize),
+    },
+}
+
+/// One scenario field.
+#[derive(Debug)]
+pub struct Param {
+    /// Dotted path in the file (`stage.rg`); also the field named in errors.
+    pub path: &'static str,
+    /// Short name on screen.
+    pub label: &'static str,
+    pub unit: &'static str,
+    pub group: Group,
+    pub stepping: Stepping,
+    pub presence: Presence,
+    /// Accepted range of a present, non-zero value (inclusive).
+    pub range: (f64, f64),
+    /// Where stepping up from "none" starts.
+    pub start: fn(&Scenario) -> f64,
+    pub format: Format,
+    pub access: Access,
+    /// A count or a seed: whole numbers only.
+    pub whole: bool,
+}
+
+/// A reference to a table entry; compared by identity of the path.
+pub type ParamRef = &'static Param;
+
+impl PartialEq for Param {
+    fn eq(&self, other: &Param) -> bool {
+        self.path == other.path
+    }
+}
+
+impl Eq for Param {}
+
+const TOPOLOGIES: [Topology; 3] = [
+    Topology::NonInverting,
+    Topology::Inverting,
+    Topology::Follower,
+];
+const TOPOLOGY_NAMES: [&str; 3] = ["NonInverting", "Inverting", "Follower"];
+const SERIES_NAMES: [&str; 7] = ["E3", "E6", "E12", "E24", "E48", "E96", "E192"];
+const TOLERANCES: [f64; 9] = [0.0005, 0.001, 0.0025, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2];
+const SPREADS: [f64; 8] = [0.01, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5, 0.9];
+const ERROR_LIMITS: [f64; 8] = [1e-4, 1e-3, 2e-3, 5e-3, 0.01, 0.02, 0.05, 0.1];
+const YIELDS: [f64; 7] = [0.5, 0.9, 0.95, 0.99, 0.997, 0.999, 1.0];
+const DISTS: [Dist; 2] = [Dist::Uniform, Dist::Normal];
+const DIST_NAMES: [&str; 2] = ["Uniform", "Normal"];
+
+/// Accepted ranges (README "Accepted ranges").
+pub const OHMS: (f64, f64) = (1.0e-3, 1.0e13);
+/// The amplifier's open-loop output resistance: wider makes the solve
+/// lose digits against milliohm feedback networks.
+pub const RO: (f64, f64) = (1.0e-3, 1.0e6);
+pub const FARADS: (f64, f64) = (1.0e-15, 1.0);
+/// Capacitors inside the stage (feedback, amplifier input): wider makes the
+/// solve lose digits against the amplifier's own impedances at high
+/// frequency.
+pub const STAGE_FARADS: (f64, f64) = (1.0e-15, 1.0e-6);
+pub const HERTZ: (f64, f64) = (1.0e-6, 1.0e12);
+pub const GBW: (f64, f64) = (1.0, 1.0e11);
+pub const A0: (f64, f64) = (1.0, 1.0e9);
+pub const VNOISE: (f64, f64) = (1.0e-12, 1.0e-3);
+pub const INOISE: (f64, f64) = (1.0e-18, 1.0e-6);
+pub const TOLERANCE: (f64, f64) = (1.0e-5, 0.5);
+pub const TEMP_C: (f64, f64) = (-273.15, 500.0);
+/// Signal limits (README "Accepted ranges"). A range that starts at 0
+/// takes 0 as a plain value; a signed one takes either sign.
+pub const VOS: (f64, f64) = (0.0, 1.0);
+pub const VOS_DRIFT: (f64, f64) = (0.0, 1.0e-3);
+pub const IB: (f64, f64) = (-1.0e-2, 1.0e-2);
+pub const IOS: (f64, f64) = (0.0, 1.0e-2);
+pub const SLEW: (f64, f64) = (1.0, 1.0e12);
+pub const SWING: (f64, f64) = (0.0, 50.0);
+pub const CM: (f64, f64) = (-50.0, 50.0);
+pub const IOUT: (f64, f64) = (1.0e-6, 100.0);
+pub const VOLTS: (f64, f64) = (-500.0, 500.0);
+pub const PEAK: (f64, f64) = (0.0, 500.0);
+/// A part's spread (fraction of its value).
+pub const SPREAD: (f64, f64) = (0.0, 0.99);
+pub const TRIALS: (f64, f64) = (1.0, 1.0e6);
+/// Seeds are whole numbers a double holds exactly.
+pub const SEED: (f64, f64) = (0.0, 9.007_199_254_740_992e15);
+pub const GAIN_TARGET: (f64, f64) = (-1.0e9, 1.0e9);
+pub const FRACTION: (f64, f64) = (0.0, 1.0);
+pub const DB_LIMIT: (f64, f64) = (0.0, 100.0);
+pub const DEG_LIMIT: (f64, f64) = (0.0, 180.0);
+pub const OHM_LIMIT: (f64, f64) = (0.0, 1.0e13);
+pub const HZ_AT: (f64, f64) = (0.0, 1.0e12);
+pub const SECONDS: (f64, f64) = (0.0, 1.0e3);
+pub const RMS_LIMIT: (f64, f64) = (0.0, 1.0e3);
+/// The widest band, in decades.
+pub const MAX_BAND_DECADES: f64 = 15.0;
+
+/// Access to an `Option<f64>` field (`opt a.b`) or an `f64` one (`req a.b`).
+macro_rules! number {
+    (opt $($p:tt).+) => {
+        Access::Number {
+            get: |s| s.$($p).+,
+            set: |s, v| s.$($p).+ = v,
+        }
+    };
+    (req $($p:tt).+) => {
+        Access::Number {
+            get: |s| Some(s.$($p).+),
+            set: |s, v| {
+                if let Some(x) = v {
+                    s.$($p).+ = x
+                }
+            },
+        }
+    };
+}
+
+/// Access to an optional field of an optional block (`spread.cap_tol`):
+/// setting a value makes the block, and a block left with nothing in it
+/// goes away.
+macro_rules! block {
+    ($b:ident . $f:ident) => {
+        Access::Number {
+            get: |s| s.$b.as_ref().and_then(|b| b.$f),
+            set: |s, v| {
+                s.$b.get_or_insert_with(Default::default).$f = v;
+                tidy(s);
+            },
+        }
+    };
+    ($b:ident . $f:ident as $t:ty) => {
+        Access::Number {
+            get: |s| s.$b.as_ref().and_then(|b| b.$f).map(|x| x as f64),
+            set: |s, v| {
+                s.$b.get_or_insert_with(Default::default).$f = v.map(|x| x.round() as $t);
+                tidy(s);
+            },
+        }
+    };
+}
+
+/// Drop a spread or spec block that holds nothing.
+fn tidy(s: &mut Scenario) {
+    if s.spread.as_ref().is_some_and(|b| *b == Default::default()) {
+        s.spread = None;
+    }
+    if s.spec.as_ref().is_some_and(|b| *b == Default::default()) {
+        s.spec = None;
+    }
+}
+
+/// One table row; the builder methods below set the less common parts.
+#[allow(clippy::too_many_arguments)]
+const fn entry(
+    path: &'static str,
+    label: &'static str,
+    unit: &'static str,
+    group: Group,
+    stepping: Stepping,
+    presence: Presence,
+    range: (f64, f64),
+    access: Access,
+) -> Param {
+    Param {
+        path,
+        label,
+        unit,
+        group,
+        stepping,
+        presence,
+        range,
+        start: |_| 1.0,
+        format: Format::Eng,
+        access,
+        whole: false,
+    }
+}
+
+impl Param {
+    const fn starting(mut self, start: fn(&Scenario) -> f64) -> Param {
+        self.start = start;
+        self
+    }
+    const fn shown(mut self, format: Format) -> Param {
+        self.format = format;
+        self
+    }
+    const fn whole(mut self) -> Param {
+        self.whole = true;
+        self
+    }
+}
+
+use Group::{Amplifier, Environment, SourceLoad, Spread, Stage, SupplySignal};
+use Presence::*;
+use Stepping::*;
+
+/// Every field, in file and pane order.
+pub static PARAMS: [Param; 57] = [
+    entry(
+        "stage.topology",
+        "topology",
+        "",
+        Stage,
+        Choice,
+        Required,
+        (0.0, 0.0),
+        Access::Choice {
+            names: &TOPOLOGY_NAMES,
+            get: |s| {
+                TOPOLOGIES
+                    .iter()
+                    .position(|t| *t == s.stage.topology)
+                    .unwrap_or(0)
+            },
+            set: |s, i| set_topology(s, TOPOLOGIES[i % TOPOLOGIES.len()]),
+        },
+    ),
+    entry(
+        "stage.rg",
+        "rg",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.rg),
+    )
+    .starting(|_| 1e3),
+    entry(
+        "stage.rf",
+        "rf",
+        "Ω",
+        Stage,
+        Resistor,
+        FeedbackResistor,
+        OHMS,
+        number!(opt stage.rf),
+    )
+    .starting(|_| 1e3),
+    entry(
+        "stage.cf",
+        "cf",
+        "F",
+        Stage,
+        Capacitor,
+        ZeroIsAbsent,
+        STAGE_FARADS,
+        number!(opt stage.cf),
+    )
+    .starting(|_| 1e-12),
+    entry(
+        "stage.riso",
+        "riso",
+        "Ω",
+        Stage,
+        Resistor,
+        ZeroIsAbsent,
+        OHMS,
+        number!(opt stage.riso),
+    )
+    .starting(|_| 10.0),
+    entry(
+        "stage.series",
+        "series",
+        "",
+        Stage,
+        Choice,
+        Required,
+        (0.0, 0.0),
+        Access::Choice {
+            names: &SERIES_NAMES,
+            get: |s| {
+                Series::ALL
+                    .iter()
+                    .position(|x| *x == s.stage.series)
+                    .unwrap_or(0)
+            },
+            set: |s, i| s.stage.series = Series::ALL[i % Series::ALL.len()],
+        },
+    ),
+    entry(
+        "stage.tolerance",
+        "tolerance",
+        "",
+        Stage,
+        List(&TOLERANCES),
+        Required,
+        TOLERANCE,
+        number!(req stage.tolerance),
+    )
+    .shown(Format::Percent),
+    entry(
+        "amp.a0",
+        "a0",
+        "",
+        Amplifier,
+        OneTwoFive,
+        Required,
+        A0,
+        number!(req amp.a0),
+    )
+    .shown(Format::RatioDb),
+    entry(
+        "amp.gbw",
+        "gbw",
+        "Hz",
+        Amplifier,
+        OneTwoFive,
+        Required,
+        GBW,
+        number!(req amp.gbw),
+    ),
+    entry(
+        "amp.fp2",
+        "fp2",
+        "Hz",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        HERTZ,
+        number!(opt amp.fp2),
+    )
+    .starting(|s| s.amp.gbw * 3.0),
+    entry(
+        "amp.rin",
+        "rin",
+        "Ω",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        OHMS,
+        number!(opt amp.rin),
+    )
+    .starting(|_| 1e6),
+    entry(
+        "amp.cin",
+        "cin",
+        "F",
+        Amplifier,
+        Capacitor,
+        ZeroIsAbsent,
+        STAGE_FARADS,
+        number!(opt amp.cin),
+    )
+    .starting(|_| 1e-12),
+    entry(
+        "amp.ro",
+        "ro",
+        "Ω",
+        Amplifier,
+        OneTwoFive,
+        Required,
+        RO,
+        number!(req amp.ro),
+    ),
+    entry(
+        "amp.vnoise",
+        "en",
+        "V/√Hz",
+        Amplifier,
+        OneTwoFive,
+        ZeroAllowed,
+        VNOISE,
+        number!(req amp.vnoise),
+    ),
+    entry(
+        "amp.vnoise_corner",
+        "en corner",
+        "Hz",
+        Amplifier,
+        OneTwoFive,
+        ZeroIsAbsent,
+        HERTZ,
+        number!(opt amp.vnoise_corner),
+    )
+    .starting(|_| 10.0),
+    entry(
+        "amp.inoise",
+        "in",
+        "A/√Hz",
+        Amplifier,
+        OneTwoFive,
+        ZeroAllowed,
+        INOISE,
+        number!(req amp.inoise),
+    ),
+    entry(
+        "amp.inoise_corner",
+        "in corner",
+        "Hz",
+        Amplifier,
+        OneTwoFive,
+        ZeroIsAbsent,
+        HERTZ,
+        number!(opt amp.inoise_corner),
+    )
+    .starting(|_| 10.0),
+    entry(
+        "amp.vos",
+        "vos",
+        "V",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        VOS,
+        number!(opt amp.vos),
+    )
+    .starting(|_| 1e-3),
+    entry(
+        "amp.vos_drift",
+        "vos drift",
+        "V/°C",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        VOS_DRIFT,
+        number!(opt amp.vos_drift),
+    )
+    .starting(|_| 1e-6),
+    entry(
+        "amp.ib",
+        "ib",
+        "A",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        IB,
+        number!(opt amp.ib),
+    )
+    .starting(|_| 10e-9),
+    entry(
+        "amp.ios",
+        "ios",
+        "A",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        IOS,
+        number!(opt amp.ios),
+    )
+    .starting(|_| 1e-9),
+    entry(
+        "amp.slew",
+        "slew",
+        "V/s",
+        Amplifier,
+        OneTwoFive,
+        ZeroIsAbsent,
+        SLEW,
+        number!(opt amp.slew),
+    )
+    .starting(|_| 1e6),
+    entry(
+        "amp.swing_neg",
+        "swing −",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        SWING,
+        number!(opt amp.swing_neg),
+    ),
+    entry(
+        "amp.swing_pos",
+        "swing +",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        SWING,
+        number!(opt amp.swing_pos),
+    ),
+    entry(
+        "amp.cm_neg",
+        "cm −",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        CM,
+        number!(opt amp.cm_neg),
+    ),
+    entry(
+        "amp.cm_pos",
+        "cm +",
+        "V",
+        Amplifier,
+        Linear(0.1),
+        Optional,
+        CM,
+        number!(opt amp.cm_pos),
+    ),
+    entry(
+        "amp.iout",
+        "iout",
+        "A",
+        Amplifier,
+        OneTwoFive,
+        ZeroIsAbsent,
+        IOUT,
+        number!(opt amp.iout),
+    )
+    .starting(|_| 20e-3),
+    entry(
+        "source.r",
+        "source r",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        ZeroAllowed,
+        OHMS,
+        number!(req source.r),
+    ),
+    entry(
+        "load.r",
+        "load r",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        OHMS,
+        number!(opt load.r),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "load.c",
+        "load c",
+        "F",
+        SourceLoad,
+        Capacitor,
+        ZeroIsAbsent,
+        FARADS,
+        number!(opt load.c),
+    )
+    .starting(|_| 100e-12),
+    entry(
+        "supply.neg",
+        "rail −",
+        "V",
+        SupplySignal,
+        Linear(0.5),
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.supply.map(|x| x.neg),
+            set: |s, v| match v {
+                Some(x) => s.supply.get_or_insert_with(Supply::default).neg = x,
+                None => s.supply = None,
+            },
+        },
+    )
+    .starting(|_| -15.0),
+    entry(
+        "supply.pos",
+        "rail +",
+        "V",
+        SupplySignal,
+        Linear(0.5),
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.supply.map(|x| x.pos),
+            set: |s, v| match v {
+                Some(x) => s.supply.get_or_insert_with(Supply::default).pos = x,
+                None => s.supply = None,
+            },
+        },
+    )
+    .starting(|_| 15.0),
+    entry(
+        "source.dc",
+        "source dc",
+        "V",
+        SupplySignal,
+        Linear(0.1),
+        Optional,
+        VOLTS,
+        number!(opt source.dc),
+    ),
+    entry(
+        "source.peak",
+        "peak",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        PEAK,
+        number!(opt source.peak),
+    )
+    .starting(|_| 1.0),
+    entry(
+        "step.size",
+        "step",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.step.map(|x| x.size),
+            set: |s, v| s.step = v.map(|size| Step { size }),
+        },
+    )
+    .starting(|_| crate::model::scenario::DEFAULT_STEP_V),
+    entry(
+        "temp_c",
+        "temp",
+        "°C",
+        Environment,
+        Linear(5.0),
+        Required,
+        TEMP_C,
+        number!(req temp_c),
+    )
+    .shown(Format::Celsius),
+    entry(
+        "band.from",
+        "band from",
+        "Hz",
+        Environment,
+        OneTwoFive,
+        Required,
+        HERTZ,
+        number!(req band.0),
+    ),
+    entry(
+        "band.to",
+        "band to",
+        "Hz",
+        Environment,
+        OneTwoFive,
+        Required,
+        HERTZ,
+        number!(req band.1),
+    ),
+    entry(
+        "spread.dist",
+        "spread as",
+        "",
+        Spread,
+        Choice,
+        Required,
+        (0.0, 0.0),
+        Access::Choice {
+            names: &DIST_NAMES,
+            get: |s| s.spread.as_ref().map_or(0, |b| b.dist as usize),
+            set: |s, i| {
+                s.spread.get_or_insert_with(Default::default).dist = DISTS[i];
+                tidy(s);
+            },
+        },
+    ),
+    entry(
+        "spread.cap_tol",
+        "cf spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.cap_tol),
+    )
+    .starting(|_| 0.1)
+    .shown(Format::Percent),
+    entry(
+        "spread.gbw_tol",
+        "gbw spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.gbw_tol),
+    )
+    .starting(|_| 0.3)
+    .shown(Format::Percent),
+    entry(
+        "spread.a0_min",
+        "a0 lowest",
+        "",
+        Spread,
+        OneTwoFive,
+        Optional,
+        A0,
+        block!(spread.a0_min),
+    )
+    .starting(|s| s.amp.a0 / 2.0),
+    entry(
+        "spread.ro_tol",
+        "ro spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.ro_tol),
+    )
+    .starting(|_| 0.2)
+    .shown(Format::Percent),
+    entry(
+        "spread.trials",
+        "trials",
+        "",
+        Spread,
+        OneTwoFive,
+        Optional,
+        TRIALS,
+        block!(spread.trials as u32),
+    )
+    .starting(|_| 2000.0)
+    .whole(),
+    entry(
+        "spread.seed",
+        "seed",
+        "",
+        Spread,
+        Linear(1.0),
+        Optional,
+        SEED,
+        block!(spread.seed as u64),
+    )
+    .whole(),
+    entry(
+        "spec.gain_target",
+        "gain aim",
+        "",
+        Spread,
+        OneTwoFive,
+        Optional,
+        GAIN_TARGET,
+        block!(spec.gain_target),
+    )
+    .starting(Scenario::nominal_gain),
+    entry(
+        "spec.gain_error_max",
+        "gain err ≤",
+        "",
+        Spread,
+        List(&ERROR_LIMITS),
+        Optional,
+        FRACTION,
+        block!(spec.gain_error_max),
+    )
+    .starting(|_| 0.01)
+    .shown(Format::Percent),
+    entry(
+        "spec.f_3db_min",
+        "f−3dB ≥",
+        "Hz",
+        Spread,
+        OneTwoFive,
+        Optional,
+        HERTZ,
+        block!(spec.f_3db_min),
+    )
+    .starting(|s| s.band.1),
+    entry(
+        "spec.peaking_max_db",
+        "peaking ≤",
+        "dB",
+        Spread,
+        Linear(0.5),
+        Optional,
+        DB_LIMIT,
+        block!(spec.peaking_max_db),
+    ),
+    entry(
+        "spec.pm_min_deg",
+        "margin ≥",
+        "°",
+        Spread,
+        Linear(5.0),
+        Optional,
+        DEG_LIMIT,
+        block!(spec.pm_min_deg),
+    )
+    .starting(|_| 45.0),
+    entry(
+        "spec.zout_max_ohm",
+        "|Zout| ≤",
+        "Ω",
+        Spread,
+        OneTwoFive,
+        Optional,
+        OHM_LIMIT,
+        block!(spec.zout_max_ohm),
+    ),
+    entry(
+        "spec.zout_at_hz",
+        "|Zout| at",
+        "Hz",
+        Spread,
+        OneTwoFive,
+        Optional,
+        HZ_AT,
+        block!(spec.zout_at_hz),
+    )
+    .starting(|_| 100.0e3),
+    entry(
+        "spec.noise_rms_max",
+        "noise ≤",
+        "V",
+        Spread,
+        OneTwoFive,
+        Optional,
+        RMS_LIMIT,
+        block!(spec.noise_rms_max),
+    )
+    .starting(|_| 100.0e-6),
+    entry(
+        "spec.offset_max_v",
+        "offset ≤",
+        "V",
+        Spread,
+        OneTwoFive,
+        Optional,
+        PEAK,
+        block!(spec.offset_max_v),
+    )
+    .starting(|_| 10.0e-3),
+    entry(
+        "spec.settle_max_s",
+        "settling ≤",
+        "s",
+        Spread,
+        OneTwoFive,
+        Optional,
+        SECONDS,
+        block!(spec.settle_max_s),
+    )
+    .starting(|_| 1.0e-6),
+    entry(
+        "spec.headroom_min_v",
+        "headroom ≥",
+        "V",
+        Spread,
+        Linear(0.1),
+        Optional,
+        VOLTS,
+        block!(spec.headroom_min_v),
+    )
+    .starting(|_| 0.2),
+    entry(
+        "spec.yield_min",
+        "yield ≥",
+        "",
+        Spread,
+        List(&YIELDS),
+        Optional,
+        FRACTION,
+        block!(spec.yield_min),
+    )
+    .starting(|_| 0.99)
+    .shown(Format::Share),
+];
+
+/// The table entry with this dotted path.
+pub fn param(path: &str) -> Option<ParamRef> {
+    PARAMS.iter().find(|p| p.path == path)
+}
+
+/// The field name errors use: `band` for both band ends, as in the file.
+pub fn file_field(path: &str) -> &str {
+    path.strip_prefix("band.").map(|_| "band").unwrap_or(path)
+}
+
+/// Change topology, filling in what the new one needs.
+pub fn set_topology(s: &mut Scenario, t: Topology) {
+    s.stage.topology = t;
+    if t != Topology::Follower {
+        if s.stage.rg.is_none() {
+            s.stage.rg = Some(1e3);
+        }
+        if s.stage.rf.filter(|v| *v > 0.0).is_none() {
+            s.stage.rf = Some(10e3);
+        }
+    }
+}
+
+fn follower(s: &Scenario) -> bool {
+    s.stage.topology == Topology::Follower
+}
+
+impl Param {
+    /// Whether the row applies to this topology (a follower has no rg).
+    pub fn applies(&self, s: &Scenario) -> bool {
+        !(self.presence == GainStage && follower(s))
+    }
+
+    /// Whether absent (or zero) is a valid state for this stage.
+    fn may_be_absent(&self, s: &Scenario) -> bool {
+        match self.presence {
+            Optional | ZeroIsAbsent => true,
+            GainStage | FeedbackResistor => follower(s),
+            Required | ZeroAllowed => false,
+        }
+    }
+
+    fn zero_is_absent(&self, s: &Scenario) -> bool {
+        self.presence == ZeroIsAbsent || (self.presence == FeedbackResistor && follower(s))
+    }
+
+    /// Whether the value is a real resistor that should sit on the series.
+    pub fn is_resistor(&self) -> bool {
+        self.stepping == Resistor
+    }
+
+    /// The raw value as stored (zero kept), None when absent or a choice.
+    pub fn raw(&self, s: &Scenario) -> Option<f64> {
+        match self.access {
+            Access::Number { get, .. } => get(s),
+            Access::Choice { .. } => None,
+        }
+    }
+
+    /// The value, None when absent (zero where zero means absent).
+    pub fn get(&self, s: &Scenario) -> Option<f64> {
+        self.raw(s)
+            .filter(|v| !(*v == 0.0 && self.zero_is_absent(s)))
+    }
+
+    /// Set the value (None = absent, for optional fields; ignored for
+    /// required ones).
+    pub fn set(&self, s: &mut Scenario, v: Option<f64>) {
+        if let Access::Number { set, .. } = self.access {
+            set(s, v);
+        }
+    }
+
+    /// A choice's current name.
+    pub fn choice(&self, s: &Scenario) -> Option<&'static str> {
+        match self.access {
+            Access::Choice { names, get, .. } => Some(names[get(s)]),
+            Access::Number { .. } => None,
+        }
+    }
+
+    /// The value as shown in the pane, with its unit.
+    pub fn display(&self, s: &Scenario) -> String {
+        if let Some(name) = self.choice(s) {
+            return if self.path == "stage.series" {
+                format!("{name} (±{} usual)", pct(s.stage.series.usual_tolerance()))
+            } else {
+                name.to_string()
+            };
+        }
+        let Some(v) = self.get(s) else {
+            let wire = self.presence == FeedbackResistor && follower(s);
+            return if wire { "wire" } else { "none" }.into();
+        };
+        match self.format {
+            Format::Eng => fmt_eng_sig(v, self.unit, 4).replace(' ', ""),
+            Format::Percent => format!("±{}", pct(v)),
+            Format::Share => pct(v),
+            Format::RatioDb => format!(
+                "{} ({} dB)",
+                fmt_plain(v, 3),
+                fmt_fixed(20.0 * v.log10(), 0)
+            ),
+            Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
+        }
+    }
+
+    /// Compact text that reads back to the same value ("none" when absent):
+    /// the edit field's start and the A/B difference list.
+    pub fn value_text(&self, s: &Scenario) -> String {
+        if let Some(name) = self.choice(s) {
+            return name.into();
+        }
+        match (self.get(s), self.format) {
+            (Some(v), Format::Percent | Format::Share) => format!("{}%", fmt_compact(v * 100.0)),
+            (Some(v), _) => fmt_compact(v),
+            (None, _) => "none".into(),
+        }
+    }
+
+    /// Text to start an edit with (empty for an absent value).
+    pub fn edit_text(&self, s: &Scenario) -> String {
+        match self.get(s) {
+            None if self.choice(s).is_none() => String::new(),
+            _ => self.value_text(s),
+        }
+    }
+
+    /// The series note of a resistor: (series name, whether on it).
+    pub fn series_note(&self, s: &Scenario) -> Option<(String, bool)> {
+        if !self.is_resistor() {
+            return None;
+        }
+        let v = self.get(s)?;
+        Some((
+            s.stage.series.name().to_string(),
+            s.stage.series.contains(v),
+        ))
+    }
+
+    /// How ← → move this value, in a few words ("along E24").
+    pub fn step_text(&self, s: &Scenario) -> String {
+        match self.stepping {
+            Resistor => format!("along {}", s.stage.series.name()),
+            Capacitor => format!("along {}", CAPACITOR_SERIES.name()),
+            OneTwoFive => "1-2-5 per decade".into(),
+            Linear(d) => format!("by {}", self.display_number(d)),
+            List(_) => "along usual values".into(),
+            Choice => "through the choices".into(),
+        }
+    }
+
+    /// The value the next step each way would give: (down, up); None at
+    /// an end.
+    pub fn step_preview(&self, s: &Scenario) -> (Option<String>, Option<String>) {
+        let side = |dir| {
+            let mut t = s.clone();
+            (self.step(&mut t, dir) && t.validate().is_ok()).then(|| self.display(&t))
+        };
+        (side(Direction::Down), side(Direction::Up))
+    }
+
+    /// A number in this field's format, without the choice or absence
+    /// cases (for step sizes).
+    fn display_number(&self, v: f64) -> String {
+        match self.format {
+            Format::Celsius => format!("{} °C", fmt_plain(v, 4)),
+            Format::Percent | Format::Share => pct(v),
+            _ => fmt_eng(v, self.unit),
+        }
+    }
+
+    /// The accepted range as text, e.g. "1 mΩ to 10 TΩ".
+    pub fn range_text(&self) -> String {
+        let (lo, hi) = self.range;
+        match self.format {
+            Format::Percent | Format::Share => format!("{} to {}", pct(lo), pct(hi)),
+            _ => format!("{} to {}", fmt_eng(lo, self.unit), fmt_eng(hi, self.unit)),
+        }
+    }
+
+    /// Apply typed text. Errors are a sentence for the status line.
+    pub fn apply_text(&self, s: &mut Scenario, text: &str) -> anyhow::Result<()> {
+        let t = text.trim();
+        if let Access::Choice { names, set, .. } = self.access {
+            let i = names
+                .iter()
+                .position(|n| n.eq_ignore_ascii_case(t))
+                .ok_or_else(|| anyhow::anyhow!("`{t}` is not one of {}", names.join(", ")))?;
+            set(s, i);
+            return Ok(());
+        }
+        let absent_words = ["", "none", "wire"];
+        if self.may_be_absent(s) && absent_words.iter().any(|w| w.eq_ignore_ascii_case(t)) {
+            self.set(s, None);
+            return Ok(());
+        }
+        let v = match (self.format, t.strip_suffix('%')) {
+            (Format::Percent | Format::Share, Some(num)) => parse_value(num)? / 100.0,
+            (Format::Percent | Format::Share, None) => {
+                let v = parse_value(t)?;
+                if v >= 1.0 {
+                    v / 100.0
+                } else {
+                    v
+                }
+            }
+            _ => parse_value(t)?,
+        };
+        if self.whole && v.fract() != 0.0 {
+            anyhow::bail!("{t} is not a whole number");
+        }
+        if v == 0.0 && self.zero_is_absent(s) {
+            self.set(s, None);
+        } else {
+            self.set(s, Some(v));
+        }
+        Ok(())
+    }
+
+    /// Step the value. Returns false when nothing moved (at the end of its
+    /// range, or absent and stepped down).
+    pub fn step(&self, s: &mut Scenario, dir: Direction) -> bool {
+        let up = dir == Direction::Up;
+        if let Access::Choice { names, get, set } = self.access {
+            let n = names.len();
+            set(s, (get(s) + if up { 1 } else { n - 1 }) % n);
+            return true;
+        }
+        let Some(v) = self.get(s) else {
+            if up {
+                self.set(s, Some((self.start)(s).clamp(self.range.0, self.range.1)));
+            }
+            return up;
+        };
+        let next = match self.stepping {
+            Resistor if up => s.stage.series.next_above(v),
+            Resistor => s.stage.series.next_below(v),
+            Capacitor if up => CAPACITOR_SERIES.next_above(v),
+            Capacitor => CAPACITOR_SERIES.next_below(v),
+            Linear(d) if up => round_nano(v + d),
+            Linear(d) => round_nano(v - d),
+            List(list) if up => list.iter().copied().find(|t| *t > v * 1.0001).unwrap_or(v),
+            List(list) => list
+                .iter()
+                .rev()
+                .copied()
+                .find(|t| *t < v * 0.9999)
+                .unwrap_or(v),
+            OneTwoFive | Choice => one_two_five(v, up),
+        };
+        let (lo, hi) = self.range;
+        let next = if next.is_finite() {
+            next.clamp(lo, hi)
+        } else {
+            v
+        };
+        if next == v {
+            return false;
+        }
+        self.set(s, Some(next));
+        true
+    }
+
+    /// Check this field of a scenario: a problem when a present value is not
+    /// finite or outside its range, or a needed value is absent.
+    pub fn check(&self, s: &Scenario) -> Option<FieldProblem> {
+        let raw = self.raw(s);
+        let problem = |message: String| {
+            Some(FieldProblem {
+                field: file_field(self.path).into(),
+                message,
+            })
+        };
+        let v = match raw {
+            None if !self.applies(s) || self.may_be_absent(s) => return None,
+            None if matches!(self.access, Access::Choice { .. }) => return None,
+            None => {
+                return problem(format!(
+                    "the field is missing: a {} stage needs {}",
+                    s.stage.topology.name(),
+                    self.label
+                ))
+            }
+            Some(v) => v,
+        };
+        if !v.is_finite() {
+            return problem(format!("{v} is not a finite number"));
+        }
+        let zero_ok = self.zero_is_absent(s) || self.presence == ZeroAllowed;
+        if v == 0.0 && zero_ok {
+            return None;
+        }
+        let (lo, hi) = self.range;
+        if v < lo || v > hi {
+            let zero = match self.presence {
+                ZeroIsAbsent => " (or 0 for none)",
+                ZeroAllowed => " (or 0)",
+                FeedbackResistor if follower(s) => " (or 0 for a wire)",
+                _ => "",
+            };
+            let range = self.range_text();
+            return problem(if v < 0.0 && lo >= 0.0 {
+                format!("{v} must not be negative (accepted: {range}{zero})")
+            } else {
+                format!("{v} is outside the accepted range {range}{zero}")
+            });
+        }
+        None
+    }
+
+    /// Whether a present value sits within a decade (a tenth of the span
+    /// for linear ranges) of an end of its accepted range.
+    pub fn near_range_end(&self, s: &Scenario) -> bool {
+        let Some(v) = self.get(s) else {
+            return false;
+        };
+        let (lo, hi) = self.range;
+        if v == 0.0 || lo == hi {
+            return false;
+        }
+        match self.stepping {
+            // A yield near 100 % is the usual ask, not a slip.
+            _ if self.format == Format::Share => false,
+            // A spread from 0 is near its end only close to the top.
+            _ if self.format == Format::Percent && lo == 0.0 => v > hi - 0.1 * (hi - lo),
+            // A range starting at 0 has no low end to be near: 0 is a
+            // plain value there.
+            Linear(_) => {
+                let span = hi - lo;
+                (lo != 0.0 && v < lo + 0.1 * span) || v > hi - 0.1 * span
+            }
+            _ => (lo > 0.0 && v < lo * 10.0) || (lo < 0.0 && v < lo / 10.0) || v > hi / 10.0,
+        }
+    }
+}
+
+/// The rules between fields, after each field's own check.
+fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let mut p = supply_checks(s);
+    p.extend(spread_checks(s));
+    let (lo, hi) = s.band;
+    if lo.is_finite() && hi.is_finite() && lo > 0.0 {
+        if hi <= lo {
+            p.push(FieldProblem {
+                field: "band".into(),
+                message: format!("{hi} (band end) must be above the band start {lo}"),
+            });
+        } else if (hi / lo).log10() > MAX_BAND_DECADES {
+            p.push(FieldProblem {
+                field: "band".into(),
+                message: format!(
+                    "{lo} to {hi} spans {:.1} decades; at most {MAX_BAND_DECADES} are accepted",
+                    (hi / lo).log10()
+                ),
+            });
+        }
+    }
+    p
+}
+
+/// The spread's open-loop gain range in order, and a gain target that is
+/// not zero.
+fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let mut p = Vec::new();
+    if let Some(lo) = s.spread.as_ref().and_then(|b| b.a0_min) {
+        if lo > s.amp.a0 {
+            p.push(FieldProblem {
+                field: "spread.a0_min".into(),
+                message: format!(
+                    "{lo} (lowest open-loop gain) must not be above amp.a0 {}",
+                    s.amp.a0
+                ),
+            });
+        }
+    }
+    if s.spec.as_ref().and_then(|b| b.gain_target) == Some(0.0) {
+        p.push(FieldProblem {
+            field: "spec.gain_target".into(),
+            message: "0 is not a gain target: the error is relative to it".into(),
+        });
+    }
+    // The target is signed like the stage's gain: −rf/rg inverting, else
+    // positive; the other sign would read as an error near −200 %.
+    if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
+        let inverting = s.stage.topology == Topology::Inverting;
+        if t != 0.0 && (t < 0.0) != inverting {
+            let sign = if inverting { "negative" } else { "positive" };
+            p.push(FieldProblem {
+                field: "spec.gain_target".into(),
+                message: format!(
+                    "{t}: the stage is {:?}, its gain is {sign}: write {}",
+                    s.stage.topology, -t
+                ),
+            });
+        }
+    }
+    p
+}
+
+/// The rails in order, and room between them for the output and the
+/// input common-mode range.
+fn supply_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let Some(Supply { neg, pos }) = s.supply else {
+        return Vec::new();
+    };
+    let problem = |field: &str, message: String| {
+        vec![FieldProblem {
+            field: field.into(),
+            message,
+        }]
+    };
+    if neg >= pos {
+        return problem(
+            "supply.neg",
+            format!("{neg} (negative rail) must be below the positive rail {pos}"),
+        );
+    }
+    let a = &s.amp;
+    let (sn, sp) = (a.swing_neg.unwrap_or(0.0), a.swing_pos.unwrap_or(0.0));
+    if neg + sn >= pos - sp {
+        return problem(
+            "amp.swing_neg",
+            format!("swing {sn} + {sp} leaves no output range between the rails {neg} and {pos}"),
+        );
+    }
+    let (cn, cp) = (a.cm_neg.unwrap_or(0.0), a.cm_pos.unwrap_or(0.0));
+    if neg + cn >= pos - cp {
+        return problem(
+            "amp.cm_neg",
+            format!("common-mode limits {cn} and {cp} leave no input range between the rails {neg} and {pos}"),
+        );
+    }
+    Vec::new()
+}
+
+/// Every problem of a scenario, in file order.
+pub fn problems(s: &Scenario) -> Vec<FieldProblem> {
+    let mut p: Vec<FieldProblem> = PARAMS.iter().filter_map(|x| x.check(s)).collect();
+    if p.is_empty() {
+        p = cross_checks(s);
+    }
+    p
+}
+
+/// Every field as (dotted name, value text), in file order; absent optional
+/// fields read "none". The band is one field in the file, so one entry.
+pub fn field_list(s: &Scenario) -> Vec<(&'static str, String)> {
+    let mut out = vec![("title", s.title.clone())];
+    for p in PARAMS.iter() {
+        match p.path {
+            "band.from" => out.push((
+                "band",
+                format!("{} to {}", fmt_compact(s.band.0), fmt_compact(s.band.1)),
+            )),
+            "band.to" => {}
+            _ => out.push((p.path, p.value_text(s))),
+        }
+    }
+    out
+}
+
+/// A sum of steps without the binary fraction's tail (1.5 + 0.1 = 1.6).
+fn round_nano(v: f64) -> f64 {
+    (v * 1e9).round() / 1e9
+}
+
+fn pct(f: f64) -> String {
+    format!("{}%", fmt_plain(f * 100.0, 3))
+}
+
+/// Next value of the 1-2-5 sequence above or below `v`.
+pub fn one_two_five(v: f64, up: bool) -> f64 {
+    if v < 0.0 {
+        return -one_two_five(-v, !up);
+    }
+    if v == 0.0 || !v.is_finite() {
+        return v;
+    }
+    let d = v.log10().floor();
+    let base = 10f64.powf(d);
+    let candidates: Vec<f64> = [-1.0, 0.0, 1.0]
+        .iter()
+        .flat_map(|k| {
+            let b = base * 10f64.powf(*k);
+            [b, 2.0 * b, 5.0 * b]
+        })
+        .chain(std::iter::once(base * 100.0))
+        .collect();
+    if up {
+        candidates
+            .into_iter()
+            .find(|c| *c > v * 1.0001)
+            .unwrap_or(v * 2.0)
+    } else {
+        candidates
+            .into_iter()
+            .rev()
+            .find(|c| *c < v * 0.9999)
+            .unwrap_or(v / 2.0)
+    }
+}
+
+/// Snap every real resistor to its nearest series value; how many moved.
+pub fn snap_resistors(s: &mut Scenario) -> usize {
+    let mut n = 0;
+    for p in PARAMS.iter().filter(|p| p.is_resistor()) {
+        if !p.applies(s) {
+            continue;
+        }
+        if let Some(v) = p.get(s) {
+            let snapped = s.stage.series.nearest(v);
+            if (snapped - v).abs() > 1e-9 * v {
+                p.set(s, Some(snapped));
+                n += 1;
+            }
+        }
+    }
+    n
+}
+
+impl Scenario {
+    /// Check every field against the parameter table; all problems are
+    /// returned, in file order.
+    pub fn validate(&self) -> Result<(), Vec<FieldProblem>> {
+        let p = problems(self);
+        if p.is_empty() {
+            Ok(())
+        } else {
+            Err(p)
+        }
+    }
+    /// The fields whose values differ: (name, value in self, value in other).
+    pub fn differences(&self, other: &Scenario) -> Vec<(&'static str, String, String)> {
+        field_list(self)
+            .into_iter()
+            .zip(field_list(other))
+            .filter(|(a, b)| a.1 != b.1)
+            .map(|(a, b)| (a.0, a.1, b.1))
+            .collect()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn paths_are_unique_and_name_fields() {
+        for (i, p) in PARAMS.iter().enumerate() {
+            assert!(PARAMS[..i].iter().all(|q| q.path != p.path), "{}", p.path);
+            assert_eq!(param(p.path).map(|q| q.path), Some(p.path));
+        }
+    }
+
+    #[test]
+    fn every_number_reads_back_what_it_set() {
+        // The built-in demo, read as the loader reads it (implicit Some).
+        let mut s: Scenario = ron::Options::default()
+            .with_default_extension(ron::extensions::Extensions::IMPLICIT_SOME)
+            .from_str(include_str!("../../assets/demo.ron"))
+            .expect("the demo reads");
+        for p in PARAMS
+            .iter()
+            .filter(|p| matches!(p.access, Access::Number { .. }))
+        {
+            let v = (p.range.0.max(1e-9) * p.range.1.max(1e-9)).sqrt();
+            let v = if p.whole { v.round() } else { v };
+            p.set(&mut s, Some(v));
+            assert_eq!(p.raw(&s), Some(v), "{}", p.path);
+        }
+    }
+}

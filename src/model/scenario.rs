@@ -1,0 +1,379 @@
+//! The scenario: one amplifier stage, its op-amp model, source, load and
+//! environment, in SI units. Stored as RON; errors name the field, line and
+//! column.
+
+use crate::model::eseries::Series;
+use serde::{Deserialize, Serialize};
+use std::fmt;
+
+/// The newest file-format version this build reads and writes.
+pub const FORMAT_VERSION: u32 = 1;
+
+fn default_version() -> u32 {
+    FORMAT_VERSION
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Topology {
+    NonInverting,
+    Inverting,
+    Follower,
+}
+
+impl Topology {
+    pub fn name(self) -> &'static str {
+        match self {
+            Topology::NonInverting => "NonInverting",
+            Topology::Inverting => "Inverting",
+            Topology::Follower => "Follower",
+        }
+    }
+
+    /// Next topology in the order NonInverting → Inverting → Follower.
+    pub fn cycle(self) -> Topology {
+        match self {
+            Topology::NonInverting => Topology::Inverting,
+            Topology::Inverting => Topology::Follower,
+            Topology::Follower => Topology::NonInverting,
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Stage {
+    pub topology: Topology,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub rg: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub rf: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub cf: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub riso: Option<f64>,
+    pub series: Series,
+    pub tolerance: f64,
+}
+
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Amp {
+    pub a0: f64,
+    pub gbw: f64,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub fp2: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub rin: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub cin: Option<f64>,
+    pub ro: f64,
+    pub vnoise: f64,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub vnoise_corner: Option<f64>,
+    pub inoise: f64,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub inoise_corner: Option<f64>,
+    /// Input offset voltage magnitude (V), sign unknown, in series with
+    /// the + input where the voltage noise sits.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub vos: Option<f64>,
+    /// Offset drift magnitude (V/°C) away from 25 °C.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub vos_drift: Option<f64>,
+    /// Input bias current (A, signed): positive flows into each pin.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ib: Option<f64>,
+    /// Input offset current magnitude |ib+ − ib−| (A), sign unknown.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ios: Option<f64>,
+    /// Slew rate (V/s); absent or 0 = no limit.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub slew: Option<f64>,
+    /// How close the internal output gets to the negative / positive rail (V).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub swing_neg: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub swing_pos: Option<f64>,
+    /// Where the input common-mode range ends inside the negative /
+    /// positive rail (V; negative = beyond the rail).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cm_neg: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cm_pos: Option<f64>,
+    /// Output current limit magnitude (A); absent or 0 = no limit.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub iout: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Source {
+    pub r: f64,
+    /// DC level of the source EMF (V).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub dc: Option<f64>,
+    /// Peak amplitude of the signal at the source EMF (V): the level the
+    /// signal limits are checked at.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub peak: Option<f64>,
+}
+
+/// The supply rails (V), neg below pos.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Supply {
+    pub neg: f64,
+    pub pos: f64,
+}
+
+impl Default for Supply {
+    /// What a rail typed into an absent supply starts from.
+    fn default() -> Supply {
+        Supply {
+            neg: -15.0,
+            pos: 15.0,
+        }
+    }
+}
+
+/// The step of the source EMF for the step response (V, not zero).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Step {
+    pub size: f64,
+}
+
+/// How a varied part is drawn within its spread.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Dist {
+    /// Uniform over ±tolerance.
+    #[default]
+    Uniform,
+    /// Normal with tolerance = 3σ, truncated at ±tolerance.
+    Normal,
+}
+
+impl Dist {
+    pub fn name(self) -> &'static str {
+        match self {
+            Dist::Uniform => "Uniform",
+            Dist::Normal => "Normal",
+        }
+    }
+}
+
+/// How the parts of a built stage vary (the resistors within
+/// `stage.tolerance`; absent spreads are 0).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Spread {
+    #[serde(default)]
+    pub dist: Dist,
+    /// cf within ±cap_tol (fraction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cap_tol: Option<f64>,
+    /// The gain-bandwidth within ±gbw_tol (fraction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gbw_tol: Option<f64>,
+    /// The open-loop gain between a0_min and amp.a0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub a0_min: Option<f64>,
+    /// The open-loop output resistance within ±ro_tol (fraction).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ro_tol: Option<f64>,
+    /// Monte Carlo trials (2000 without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub trials: Option<u32>,
+    /// The generator's seed (1 without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub seed: Option<u64>,
+}
+
+/// Limits a built stage must meet; each present one is checked on the
+/// nominal design and on every trial (equal to the limit passes).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Spec {
+    /// The gain the error is measured against (the nominal stage's
+    /// network gain without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gain_target: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub gain_error_max: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub f_3db_min: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub peaking_max_db: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub pm_min_deg: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub zout_max_ohm: Option<f64>,
+    /// Where zout_max_ohm applies (0 or absent: DC).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub zout_at_hz: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub noise_rms_max: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub offset_max_v: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub settle_max_s: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub headroom_min_v: Option<f64>,
+    /// The fraction of trials that must meet every limit (1 without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub yield_min: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Load {
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub r: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub c: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Scenario {
+    #[serde(default = "default_version")]
+    pub version: u32,
+    pub title: String,
+    pub stage: Stage,
+    pub amp: Amp,
+    pub source: Source,
+    pub load: Load,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub supply: Option<Supply>,
+    /// The step the time-domain analysis applies (10 mV without it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub step: Option<Step>,
+    pub temp_c: f64,
+    pub band: (f64, f64),
+    /// How the parts vary from board to board.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub spread: Option<Spread>,
+    /// The limits every board must meet.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub spec: Option<Spec>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub notes: Option<String>,
+}
+
+/// A value that is present and non-zero (zero means "absent" for the
+/// optional parts such as cf, riso, cin and the noise corners).
+pub fn present(v: Option<f64>) -> Option<f64> {
+    v.filter(|x| *x != 0.0)
+}
+
+/// A problem with one field of a scenario.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldProblem {
+    /// Dotted path, e.g. `stage.rg`.
+    pub field: String,
+    pub message: String,
+}
+
+/// A scenario that could not be loaded or is not valid.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScenarioError {
+    pub file: Option<String>,
+    pub field: Option<String>,
+    /// 1-based line and column, when the position is known.
+    pub line: Option<usize>,
+    pub col: Option<usize>,
+    pub message: String,
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if let Some(file) = &self.file {
+            write!(f, "{file}:")?;
+        }
+        if let (Some(l), Some(c)) = (self.line, self.col) {
+            write!(f, "{l}:{c}:")?;
+        }
+        if self.file.is_some() || self.line.is_some() {
+            f.write_str(" ")?;
+        }
+        if let Some(field) = &self.field {
+            write!(f, "field `{field}`: ")?;
+        }
+        f.write_str(&self.message)
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+/// A present optional value is written bare (`rf: 10000.0`), as the
+/// loader reads it; absent ones are skipped.
+fn bare<T: Serialize, S: serde::Serializer>(v: &Option<T>, s: S) -> Result<S::Ok, S::Error> {
+    match v {
+        Some(x) => x.serialize(s),
+        None => s.serialize_none(),
+    }
+}
+
+impl Scenario {
+    /// The gain the resistor ratio sets: 1 + rf/rg, −rf/rg, or 1.
+    pub fn nominal_gain(&self) -> f64 {
+        let s = self;
+        let (rg, rf) = (s.stage.rg.unwrap_or(0.0), s.stage.rf.unwrap_or(0.0));
+        match s.stage.topology {
+            Topology::NonInverting => 1.0 + rf / rg,
+            Topology::Inverting => -rf / rg,
+            Topology::Follower => 1.0,
+        }
+    }
+}
+
+/// The step without a `step` field, volts.
+pub const DEFAULT_STEP_V: f64 = 0.01;

@@ -1,0 +1,87 @@
+//! What a figure is, whatever draws it: one stage to draw, a view's axes,
+//! curves and marks, and a chart a view draws itself.
+
+use crate::judge::Evaluation;
+use crate::model::scenario::Scenario;
+use crate::output::traces::Traces;
+use plotters::prelude::*;
+
+/// One stage to draw.
+pub struct Stage<'a> {
+    pub scenario: &'a Scenario,
+    pub eval: &'a Evaluation,
+}
+
+/// A vertical axis: its description and whether the values are log10 of
+/// the quantity (labels then in engineering notation with `unit`).
+#[derive(Clone, Copy)]
+pub struct Axis {
+    pub desc: &'static str,
+    pub log_unit: Option<&'static str>,
+}
+
+/// One curve of a view for one stage.
+pub struct Curve {
+    pub name: &'static str,
+    /// Drawn against the right-hand axis.
+    pub right: bool,
+    pub points: Vec<(f64, f64)>,
+    /// 0: the view's main quantity; 1, 2, 3: secondary lines (limits,
+    /// ceilings) in their own colours and a thinner stroke.
+    pub tone: u8,
+}
+
+/// A vertical mark at a frequency, with its text.
+pub struct Mark {
+    pub f_hz: f64,
+    pub text: String,
+}
+
+/// A view that draws its own chart (linear axes: time, a histogram) in
+/// the area above the footer.
+pub type OwnChart =
+    fn(&DrawingArea<SVGBackend, plotters::coord::Shift>, &[Stage], Look, u32) -> anyhow::Result<()>;
+
+/// One view: what it shows, and what it needs of a stage.
+pub struct View {
+    pub name: &'static str,
+    pub title: &'static str,
+    /// Why this stage cannot be drawn in the view (an input it lacks).
+    pub needs: fn(&Stage) -> Option<String>,
+    pub left: Axis,
+    pub right: Option<Axis>,
+    pub curves: fn(&Traces) -> Vec<Curve>,
+    pub marks: fn(&Stage) -> Vec<Mark>,
+    /// Some: a chart of its own instead of the frequency chart.
+    pub own: Option<OwnChart>,
+}
+
+/// The magnitude axis in dB.
+pub const DB: Axis = Axis {
+    desc: "magnitude (dB)",
+    log_unit: None,
+};
+/// The phase axis in degrees.
+pub const DEG: Axis = Axis {
+    desc: "phase (°)",
+    log_unit: None,
+};
+
+/// Size and look of a figure.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Look {
+    pub width: u32,
+    pub height: u32,
+    pub mono: bool,
+}
+
+impl Default for Look {
+    /// 800 × 500 px in colour: fits a page and a slide.
+    fn default() -> Look {
+        Look {
+            width: 800,
+            height: 500,
+            mono: false,
+        }
+    }
+}

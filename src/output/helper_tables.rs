@@ -1,0 +1,220 @@
+//! The design helpers `pairs` and `stabilize`: their text tables and JSON objects from the engine's results (the
+//! workbench's lists reuse the rows).
+
+use crate::model::values::{fmt_compact, fmt_eng, fmt_fixed, fmt_plain};
+use crate::model::Scenario;
+use crate::study::pairs::{self, Pair, Query, QueryField};
+use crate::study::stabilize::{self, Fix, Options};
+use anyhow::{bail, Result};
+use serde::Serialize;
+
+/// How the command line names each field of a pairs query.
+fn option_name(field: QueryField) -> &'static str {
+    match field {
+        QueryField::Target => "GAIN",
+        QueryField::Topology => "--topology",
+        QueryField::RgMin => "--rg-min",
+        QueryField::RgMax => "--rg-max",
+        QueryField::Count => "--count",
+    }
+}
+
+/// The value of a query field as typed back to the user.
+fn field_value(q: &Query, field: QueryField) -> String {
+    match field {
+        QueryField::Target => fmt_plain(q.target, 6),
+        QueryField::Topology => q.topology.name().into(),
+        QueryField::RgMin => fmt_compact(q.rg_range.0),
+        QueryField::RgMax => fmt_compact(q.rg_range.1),
+        QueryField::Count => q.count.to_string(),
+    }
+}
+
+/// The pairs for a query, or an error naming the option and its value.
+pub fn find_pairs(q: &Query) -> Result<Vec<Pair>> {
+    pairs::find(q).or_else(|p| {
+        // A range problem also shows the other end of the range.
+        let context = match p.field {
+            QueryField::RgMax => format!(" (--rg-min {})", field_value(q, QueryField::RgMin)),
+            _ => String::new(),
+        };
+        bail!(
+            "{} {}: {}{context}",
+            option_name(p.field),
+            field_value(q, p.field),
+            p.message
+        )
+    })
+}
+
+/// Lines of a table: each column as wide as its widest cell, two spaces
+/// apart, the header first.
+pub fn table(header: &[&str], rows: &[Vec<String>]) -> Vec<String> {
+    aligned(header, rows, false)
+}
+
+/// A table's lines, each column as wide as its widest cell, two spaces
+/// apart; `numbers_right`: every column after the first right-aligned.
+pub fn aligned(header: &[&str], rows: &[Vec<String>], numbers_right: bool) -> Vec<String> {
+    let mut widths: Vec<usize> = header.iter().map(|h| h.chars().count()).collect();
+    for row in rows {
+        for (w, cell) in widths.iter_mut().zip(row) {
+            *w = (*w).max(cell.chars().count());
+        }
+    }
+    let line = |cells: Vec<&str>| {
+        let padded: Vec<String> = cells
+            .iter()
+            .zip(&widths)
+            .enumerate()
+            .map(|(i, (c, w))| match numbers_right && i > 0 {
+                true => format!("{c:>w$}"),
+                false => format!("{c:<w$}"),
+            })
+            .collect();
+        padded.join("  ").trim_end().to_string()
+    };
+    std::iter::once(line(header.to_vec()))
+        .chain(
+            rows.iter()
+                .map(|r| line(r.iter().map(String::as_str).collect())),
+        )
+        .collect()
+}
+
+/// The columns of a pairs row.
+pub const PAIR_HEADER: [&str; 6] = ["rg", "rf", "gain", "error", "noise (25 °C)", "load"];
+
+/// A signed relative error in percent: `+0.23 %`, `-1.5 %`, `0 %`.
+fn signed_percent(e: f64) -> String {
+    let text = fmt_plain(e * 100.0, 3);
+    if e > 0.0 && !text.starts_with('-') && text != "0" {
+        format!("+{text} %")
+    } else {
+        format!("{text} %")
+    }
+}
+
+pub fn pair_cells(p: &Pair) -> Vec<String> {
+    vec![
+        fmt_eng(p.rg, "Ω"),
+        fmt_eng(p.rf, "Ω"),
+        fmt_plain(p.gain, 6),
+        signed_percent(p.error),
+        fmt_eng(p.noise_density, "V/√Hz"),
+        fmt_eng(p.load_ohm, "Ω"),
+    ]
+}
+
+/// The columns of a stabilising option.
+pub const FIX_HEADER: [&str; 6] = ["part", "value", "margin", "peaking", "f−3dB", "Zout DC"];
+
+fn or_none(v: Option<f64>, show: impl Fn(f64) -> String) -> String {
+    v.map_or("none".into(), show)
+}
+
+pub fn fix_cells(f: &Fix) -> Vec<String> {
+    vec![
+        f.part.name().into(),
+        fmt_eng(f.value, f.part.unit()),
+        or_none(f.phase_margin_deg, |m| format!("{}°", fmt_fixed(m, 1))),
+        format!("{} dB", fmt_fixed(f.peaking_db, 2)),
+        or_none(f.f_3db_hz, |v| fmt_eng(v, "Hz")),
+        fmt_eng(f.zout_dc_ohm, "Ω"),
+    ]
+}
+
+#[derive(Serialize)]
+struct PairsJson<'a> {
+    target: f64,
+    pairs: &'a [Pair],
+}
+
+/// `pairs`: the table or the JSON object.
+pub fn pairs_output(q: &Query, json: bool) -> Result<Vec<u8>> {
+    let found = find_pairs(q)?;
+    let mut buf = Vec::new();
+    if json {
+        let out = PairsJson {
+            target: q.target,
+            pairs: &found,
+        };
+        serde_json::to_writer_pretty(&mut buf, &out)?;
+        buf.push(b'\n');
+        return Ok(buf);
+    }
+    let head = format!(
+        "Resistor pairs for gain {} ({}, {}, rg {} to {}), best first\n",
+        fmt_plain(q.target, 6),
+        q.topology.name(),
+        q.series,
+        fmt_eng(q.rg_range.0, "Ω"),
+        fmt_eng(q.rg_range.1, "Ω"),
+    );
+    buf.extend_from_slice(head.as_bytes());
+    let rows: Vec<Vec<String>> = found.iter().map(pair_cells).collect();
+    for line in table(&PAIR_HEADER, &rows) {
+        buf.extend_from_slice(format!("  {line}\n").as_bytes());
+    }
+    Ok(buf)
+}
+
+#[derive(Serialize)]
+struct StabilizeJson<'a> {
+    target_deg: f64,
+    options: &'a [Fix],
+    reason: Option<String>,
+}
+
+/// What the stage's margin is now, against the target, in words.
+pub fn margin_now_text(o: &Options) -> String {
+    let now = o
+        .margin_now
+        .map_or("no crossover".into(), |m| format!("{}°", fmt_fixed(m, 1)));
+    if o.already_met {
+        format!(
+            "no change needed: the stage already meets {}° (now {now}); added, these keep it",
+            o.target_deg
+        )
+    } else {
+        format!("phase margin now {now}, below the {}° target", o.target_deg)
+    }
+}
+
+/// The stabilising options of a stage (errors as text).
+pub fn options_for(s: &Scenario, margin: f64) -> Result<Options> {
+    stabilize::options(s, margin).or_else(|e| bail!("--margin {margin}: {e}"))
+}
+
+/// `stabilize`: the options as text or the JSON object.
+pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>> {
+    let o = options_for(s, margin)?;
+    let mut buf = Vec::new();
+    if json {
+        let out = StabilizeJson {
+            target_deg: o.target_deg,
+            options: &o.options,
+            reason: o.reason(),
+        };
+        serde_json::to_writer_pretty(&mut buf, &out)?;
+        buf.push(b'\n');
+        return Ok(buf);
+    }
+    let mut text = format!(
+        "Stabilising options for {}: target {}° phase margin\n  {}\n",
+        crate::model::values::printable(&s.title),
+        o.target_deg,
+        margin_now_text(&o)
+    );
+    let rows: Vec<Vec<String>> = o.options.iter().map(fix_cells).collect();
+    if !rows.is_empty() {
+        for line in table(&FIX_HEADER, &rows) {
+            text.push_str(&format!("  {line}\n"));
+        }
+    }
+    for miss in &o.misses {
+        text.push_str(&format!("  none reaches the target: {miss}\n"));
+    }
+    buf.extend_from_slice(text.as_bytes());
+    Ok(buf)
+}

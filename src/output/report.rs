@@ -1,0 +1,400 @@
+//! The headless report: the engine's results as readable text or as one
+//! JSON object (keys documented in the README).
+
+use crate::engine::analysis::{Analysis, Circuit};
+use crate::judge::figures::{delta, figure, key_figures, Section, FIGURES};
+use crate::judge::{Evaluation, Warning};
+use crate::model::params::{Group, PARAMS};
+use crate::model::scenario::Scenario;
+use crate::model::values::{fmt_eng, fmt_fixed, fmt_plain, printable};
+use crate::num::refine::phase_deg;
+use serde::Serialize;
+use std::io::{self, Write};
+
+/// A number for JSON: null where undefined or infinite.
+fn fin(x: f64) -> Option<f64> {
+    x.is_finite().then_some(x)
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PointReport {
+    pub f_hz: f64,
+    pub gain_mag: Option<f64>,
+    pub gain_db: Option<f64>,
+    pub gain_phase_deg: Option<f64>,
+    pub zout_mag: Option<f64>,
+    pub zout_phase_deg: Option<f64>,
+    /// |Zout| at the amplifier pin (before riso; riso and load removed).
+    pub zout_pin_mag: Option<f64>,
+    pub zin_mag: Option<f64>,
+    pub zin_phase_deg: Option<f64>,
+    pub loop_mag: Option<f64>,
+    pub loop_phase_deg: Option<f64>,
+    pub noise_density: Option<f64>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct NoiseReport {
+    pub key: &'static str,
+    pub label: &'static str,
+    pub rms: Option<f64>,
+    pub share: Option<f64>,
+}
+
+/// The JSON report: the title, every JSON figure of the figure table (in
+/// its order, null where undefined), the band, the noise sources, the
+/// points asked for and the warnings.
+#[derive(Debug, Clone)]
+pub struct Report {
+    pub title: String,
+    pub figures: Vec<(&'static str, Option<f64>)>,
+    /// The step response's figures (and, when asked, its waveform).
+    pub step: serde_json::Map<String, serde_json::Value>,
+    pub band_hz: (f64, f64),
+    pub noise_sources: Vec<NoiseReport>,
+    pub points: Vec<PointReport>,
+    pub warnings: Vec<Warning>,
+}
+
+impl Serialize for Report {
+    fn serialize<S: serde::Serializer>(&self, ser: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut m = ser.serialize_map(Some(self.figures.len() + 5))?;
+        m.serialize_entry("title", &self.title)?;
+        for (key, v) in &self.figures {
+            m.serialize_entry(key, v)?;
+        }
+        m.serialize_entry("step", &self.step)?;
+        m.serialize_entry("band_hz", &self.band_hz)?;
+        m.serialize_entry("noise_sources", &self.noise_sources)?;
+        m.serialize_entry("points", &self.points)?;
+        m.serialize_entry("warnings", &self.warnings)?;
+        m.end()
+    }
+}
+
+/// The figures at one frequency, solved exactly there (not interpolated).
+pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
+    match circuit.eval(f_hz) {
+        Some(p) => PointReport {
+            f_hz,
+            gain_mag: fin(p.gain.norm()),
+            gain_db: fin(20.0 * p.gain.norm().log10()),
+            gain_phase_deg: fin(phase_deg(p.gain)),
+            zout_mag: fin(p.zout.norm()),
+            zout_phase_deg: fin(phase_deg(p.zout)),
+            zout_pin_mag: fin(p.zout_pin.norm()),
+            zin_mag: p.zin.and_then(|z| fin(z.norm())),
+            zin_phase_deg: p.zin.and_then(|z| fin(phase_deg(z))),
+            loop_mag: fin(p.loop_gain.norm()),
+            loop_phase_deg: fin(a.loop_phase_at(circuit, f_hz)),
+            noise_density: fin(p.noise_density()),
+        },
+        None => PointReport {
+            f_hz,
+            gain_mag: None,
+            gain_db: None,
+            gain_phase_deg: None,
+            zout_mag: None,
+            zout_phase_deg: None,
+            zout_pin_mag: None,
+            zin_mag: None,
+            zin_phase_deg: None,
+            loop_mag: None,
+            loop_phase_deg: None,
+            noise_density: None,
+        },
+    }
+}
+
+impl Report {
+    pub fn new(s: &Scenario, e: &Evaluation, at: &[f64]) -> Report {
+        let circuit = Circuit::new(s);
+        Report {
+            title: s.title.clone(),
+            figures: FIGURES
+                .iter()
+                .filter(|f| f.shown.json && f.section.json_object().is_none())
+                .map(|f| (f.key, f.json(e)))
+                .collect(),
+            step: FIGURES
+                .iter()
+                .filter(|f| f.shown.json && f.section == Section::Step)
+                .map(|f| (f.key.to_string(), f.json_value(e)))
+                .collect(),
+            band_hz: s.band,
+            noise_sources: e
+                .noise_sources
+                .iter()
+                .map(|n| NoiseReport {
+                    key: n.key,
+                    label: n.label,
+                    rms: fin(n.rms),
+                    share: fin(n.share),
+                })
+                .collect(),
+            points: at.iter().map(|&f| point_report(&circuit, e, f)).collect(),
+            warnings: e.warnings.clone(),
+        }
+    }
+
+    pub fn write_json(&self, w: &mut impl Write) -> io::Result<()> {
+        serde_json::to_writer_pretty(&mut *w, self)?;
+        writeln!(w)
+    }
+
+    /// Add `n` samples of the step waveform (`t_s`, `v`) to the step object.
+    pub fn with_waveform(mut self, e: &Evaluation, n: usize) -> Report {
+        let (t, v) = if e.unstable() {
+            (Vec::new(), Vec::new())
+        } else {
+            e.step.waveform(n)
+        };
+        let nums =
+            |x: Vec<f64>| serde_json::Value::from(x.into_iter().map(fin).collect::<Vec<_>>());
+        self.step.insert("t_s".into(), nums(t));
+        self.step.insert("v".into(), nums(v));
+        self
+    }
+}
+
+pub fn severity_mark(w: &Warning) -> &'static str {
+    match w.severity {
+        crate::judge::Severity::Severe => "!!",
+        crate::judge::Severity::Warning => "! ",
+        crate::judge::Severity::Info => "i ",
+    }
+}
+
+/// The scenario's parameters, one line per group, from the parameter table.
+fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
+    let mut groups: Vec<Group> = Vec::new();
+    for p in PARAMS.iter() {
+        if !groups.contains(&p.group) {
+            groups.push(p.group);
+        }
+    }
+    for g in groups {
+        let items: Vec<String> = PARAMS
+            .iter()
+            .filter(|p| p.group == g && p.applies(s))
+            .map(|p| (p, p.display(s)))
+            .filter(|(_, v)| v != "none")
+            .map(|(p, v)| format!("{} {v}", p.label))
+            .collect();
+        // A group with nothing given (supply and signal in an older file)
+        // has no line, so such files report as before.
+        if items.is_empty() {
+            continue;
+        }
+        writeln!(w, "  {:<16} {}", g.title().to_lowercase(), items.join(", "))?;
+    }
+    Ok(())
+}
+
+/// The figures of one section of the text report.
+fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
+    if !sec.shown_for(e) {
+        return Ok(());
+    }
+    writeln!(w)?;
+    writeln!(w, "{}", sec.title())?;
+    for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
+        let r = f.read(e);
+        if f.needs_input && r == crate::judge::figures::Reading::Undefined {
+            continue;
+        }
+        writeln!(w, "  {:<18} {}", f.label, f.text(r))?;
+    }
+    Ok(())
+}
+
+/// Each noise source's rms and share, largest first.
+fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
+    let mut shares: Vec<_> = e.noise_sources.iter().collect();
+    shares.sort_by(|x, y| y.share.total_cmp(&x.share));
+    for n in shares {
+        writeln!(
+            w,
+            "    {:<22}{:>12}  {:5.1} %",
+            n.label,
+            fmt_eng(n.rms, "V"),
+            n.share * 100.0
+        )?;
+    }
+    Ok(())
+}
+
+/// The table of figures at the `--at` frequencies.
+fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
+    if points.is_empty() {
+        return Ok(());
+    }
+    writeln!(w)?;
+    writeln!(
+        w,
+        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+        "f", "gain", "phase", "Zout", "phase", "Zout pin", "Zin", "loop", "phase", "noise"
+    )?;
+    let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
+    let deg = |v: Option<f64>| {
+        v.map(|x| format!("{}°", fmt_fixed(x, 1)))
+            .unwrap_or("—".into())
+    };
+    let ratio = |v: Option<f64>| v.map(|x| fmt_plain(x, 3)).unwrap_or("—".into());
+    for p in points {
+        writeln!(
+            w,
+            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+            fmt_eng(p.f_hz, "Hz"),
+            ratio(p.gain_mag),
+            deg(p.gain_phase_deg),
+            num(p.zout_mag, "Ω"),
+            deg(p.zout_phase_deg),
+            num(p.zout_pin_mag, "Ω"),
+            p.zin_mag.map(|x| fmt_eng(x, "Ω")).unwrap_or("open".into()),
+            ratio(p.loop_mag),
+            deg(p.loop_phase_deg),
+            format!("{}/√Hz", num(p.noise_density, "V")),
+        )?;
+    }
+    Ok(())
+}
+
+fn write_warnings(warnings: &[Warning], w: &mut impl Write) -> io::Result<()> {
+    writeln!(w)?;
+    if warnings.is_empty() {
+        return writeln!(w, "No warnings.");
+    }
+    writeln!(w, "Warnings")?;
+    for x in warnings {
+        writeln!(
+            w,
+            "  {} {:<8} {}: {}",
+            severity_mark(x),
+            x.severity.name(),
+            x.code,
+            x.text
+        )?;
+    }
+    Ok(())
+}
+
+/// The readable text report.
+pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
+    writeln!(w, "{}", printable(&r.title))?;
+    write_parameters(s, w)?;
+    for sec in Section::ALL {
+        write_section(sec, e, w)?;
+        if sec == Section::Noise {
+            writeln!(
+                w,
+                "  band {} to {}",
+                fmt_eng(s.band.0, "Hz"),
+                fmt_eng(s.band.1, "Hz")
+            )?;
+            write_noise_shares(e, w)?;
+        }
+    }
+    write_points(&r.points, w)?;
+    write_warnings(&e.warnings, w)
+}
+
+/// One row of the A/B table: a figure for A and B and their difference.
+#[derive(Debug, Clone, Serialize)]
+pub struct FigureDelta {
+    pub key: &'static str,
+    pub a: Option<f64>,
+    pub b: Option<f64>,
+    /// b − a, null where either is undefined.
+    pub delta: Option<f64>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct ParamDiff {
+    pub field: &'static str,
+    pub a: String,
+    pub b: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Differences {
+    pub figures: Vec<FigureDelta>,
+    pub parameters: Vec<ParamDiff>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Comparison {
+    pub a: Report,
+    pub b: Report,
+    pub differences: Differences,
+}
+
+impl Comparison {
+    pub fn new(sa: &Scenario, ea: &Evaluation, sb: &Scenario, eb: &Evaluation) -> Comparison {
+        let figures = key_figures()
+            .map(|f| FigureDelta {
+                key: f.key,
+                a: f.json(ea),
+                b: f.json(eb),
+                delta: delta(f, ea, eb),
+            })
+            .collect();
+        let parameters = sa
+            .differences(sb)
+            .into_iter()
+            .map(|(field, a, b)| ParamDiff { field, a, b })
+            .collect();
+        Comparison {
+            a: Report::new(sa, ea, &[]),
+            b: Report::new(sb, eb, &[]),
+            differences: Differences {
+                figures,
+                parameters,
+            },
+        }
+    }
+
+    pub fn write_json(&self, w: &mut impl Write) -> io::Result<()> {
+        serde_json::to_writer_pretty(&mut *w, self)?;
+        writeln!(w)
+    }
+
+    /// The side-by-side table and the differing parameters, as text.
+    pub fn write_text(&self, w: &mut impl Write) -> io::Result<()> {
+        writeln!(w, "A: {}", printable(&self.a.title))?;
+        writeln!(w, "B: {}", printable(&self.b.title))?;
+        writeln!(w)?;
+        writeln!(
+            w,
+            "{:<18} {:>14} {:>14} {:>14}",
+            "figure", "A", "B", "B − A"
+        )?;
+        for d in &self.differences.figures {
+            let Some(f) = figure(d.key) else { continue };
+            let show = |v: Option<f64>, signed: bool| match v {
+                Some(v) => f.number(v, signed),
+                None => "none".into(),
+            };
+            writeln!(
+                w,
+                "{:<18} {:>14} {:>14} {:>14}",
+                f.label,
+                show(d.a, false),
+                show(d.b, false),
+                show(d.delta, true)
+            )?;
+        }
+        writeln!(w)?;
+        if self.differences.parameters.is_empty() {
+            writeln!(w, "The two stages have the same parameters.")?;
+        } else {
+            writeln!(w, "Parameters that differ")?;
+            for p in &self.differences.parameters {
+                let (a, b) = (printable(&p.a), printable(&p.b));
+                writeln!(w, "  {:<20} A {a:<16} B {b}", p.field)?;
+            }
+        }
+        Ok(())
+    }
+}

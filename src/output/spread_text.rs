@@ -1,0 +1,266 @@
+//! The spread as text or JSON, and one file's check as JSON. No analysis
+//! here, only reading
+//! [`SpreadResult`].
+
+use crate::model::values::{fmt_compact, fmt_plain};
+use crate::study::spread::{unit_and_label, SpreadResult, BINS};
+use anyhow::Result;
+use serde_json::{json, Value};
+use std::io::Write;
+use std::path::Path;
+
+fn or_null(v: Option<f64>) -> Value {
+    v.filter(|x| x.is_finite())
+        .map_or(Value::Null, |x| json!(x))
+}
+
+fn corner_json(at: &[(&str, f64)]) -> Value {
+    at.iter()
+        .map(|(field, value)| json!({"field": field, "value": value}))
+        .collect()
+}
+
+/// `spread --json`: one object with the issue's keys.
+pub fn spread_json(r: &SpreadResult) -> Value {
+    let figures: Vec<Value> = r
+        .figures
+        .iter()
+        .map(|f| {
+            json!({
+                "key": f.key,
+                "nominal": or_null(f.nominal),
+                "mean": or_null(f.mean),
+                "std": or_null(f.std),
+                "min": or_null(f.min),
+                "max": or_null(f.max),
+                "p_low": or_null(f.p_low),
+                "p_high": or_null(f.p_high),
+                "corner_min": or_null(f.corner_min),
+                "corner_max": or_null(f.corner_max),
+                "corner_min_at": corner_json(&f.corner_min_at),
+                "corner_max_at": corner_json(&f.corner_max_at),
+                "undefined": f.undefined,
+                "histogram": f.histogram.to_vec(),
+            })
+        })
+        .collect();
+    json!({
+        "trials": r.trials,
+        "seed": r.seed,
+        "dist": r.dist.name(),
+        "figures": figures,
+        "yield": or_null(r.yield_frac),
+    })
+}
+
+/// A value of a spread figure as text ("—" when undefined).
+fn cell(key: &str, v: Option<f64>) -> String {
+    v.map_or("—".into(), |v| {
+        unit_and_label(key).0.number(v, false).replace(' ', "")
+    })
+}
+
+/// `spread` as text: the varied parts, the figure table, the limits and
+/// the yield.
+pub fn write_spread(r: &SpreadResult, title: &str, out: &mut impl Write) -> Result<()> {
+    writeln!(out, "Spread of {title}")?;
+    writeln!(
+        out,
+        "{} trial{}, seed {}, {} within each tolerance",
+        r.trials,
+        if r.trials == 1 { "" } else { "s" },
+        r.seed,
+        r.dist.name().to_lowercase()
+    )?;
+    match r.knobs.len() {
+        0 => writeln!(out, "No part varies: every trial is the nominal stage.")?,
+        k => writeln!(out, "Varied parts ({} corners):", 1usize << k)?,
+    }
+    for k in &r.knobs {
+        writeln!(
+            out,
+            "  {:<12} {} to {}",
+            k.field,
+            fmt_compact(k.lo),
+            fmt_compact(k.hi)
+        )?;
+    }
+    writeln!(out)?;
+    write_figure_table(r, out)?;
+    if !r.limits.is_empty() || r.yield_frac.is_some() {
+        writeln!(out)?;
+        write_limits(r, out)?;
+    }
+    Ok(())
+}
+
+fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
+    let head = [
+        "figure",
+        "nominal",
+        "mean",
+        "std",
+        "min",
+        "max",
+        "0.135%",
+        "99.865%",
+        "corner lo",
+        "corner hi",
+        "undef",
+        "histogram",
+    ];
+    let mut rows = vec![head.iter().map(|h| h.to_string()).collect::<Vec<_>>()];
+    let mut inside = false;
+    for f in &r.figures {
+        let (below, above) = f.beyond_corners();
+        let mark = |on: bool| if on { " *" } else { "" };
+        inside |= below || above;
+        rows.push(vec![
+            unit_and_label(f.key).1.to_string(),
+            cell(f.key, f.nominal),
+            cell(f.key, f.mean),
+            cell(f.key, f.std),
+            format!("{}{}", cell(f.key, f.min), mark(below)),
+            format!("{}{}", cell(f.key, f.max), mark(above)),
+            cell(f.key, f.p_low),
+            cell(f.key, f.p_high),
+            cell(f.key, f.corner_min),
+            cell(f.key, f.corner_max),
+            f.undefined.to_string(),
+            sparkline(&f.histogram),
+        ]);
+    }
+    write_columns(&rows, out)?;
+    if inside {
+        writeln!(
+            out,
+            "* a trial went beyond the corners: this figure's extreme lies inside the \
+             tolerance box, not at a corner"
+        )?;
+    }
+    Ok(())
+}
+
+/// Rows of cells (the first the header): the first column left, the
+/// numbers right-aligned.
+fn write_columns(rows: &[Vec<String>], out: &mut impl Write) -> Result<()> {
+    let Some((header, body)) = rows.split_first() else {
+        return Ok(());
+    };
+    let header: Vec<&str> = header.iter().map(String::as_str).collect();
+    for line in crate::output::helper_tables::aligned(&header, body, true) {
+        writeln!(out, "{line}")?;
+    }
+    Ok(())
+}
+
+/// The limits table: limit, nominal, worst trial, trials failing, pass.
+pub fn write_limits(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
+    let mut rows = vec![[
+        "limit",
+        "value",
+        "nominal",
+        "worst trial",
+        "failing",
+        "nominal is",
+    ]
+    .iter()
+    .map(|h| h.to_string())
+    .collect::<Vec<_>>()];
+    for l in &r.limits {
+        let key = l.limit.figures[0];
+        rows.push(vec![
+            l.limit.field.to_string(),
+            cell(key, Some(l.value)),
+            cell(key, l.nominal),
+            cell(key, l.worst),
+            format!("{}/{}", l.failed, r.trials),
+            if l.nominal_pass { "pass" } else { "FAIL" }.into(),
+        ]);
+    }
+    write_columns(&rows, out)?;
+    match r.yield_frac {
+        Some(y) => writeln!(
+            out,
+            "yield {} % of {} trials (needs ≥ {} %): {}",
+            fmt_plain(100.0 * y, 4),
+            r.trials,
+            fmt_plain(100.0 * r.yield_min, 4),
+            if r.passes() { "PASS" } else { "FAIL" }
+        )?,
+        None => writeln!(out, "no spec: no yield")?,
+    }
+    Ok(())
+}
+
+/// Why a stage fails its spec, in one line ("pm_min_deg 41.2 < 50").
+pub fn failures(r: &SpreadResult) -> String {
+    let mut why: Vec<String> = r
+        .limits
+        .iter()
+        .filter(|l| !l.nominal_pass)
+        .map(|l| l.limit.failure(l.nominal, l.value))
+        .collect();
+    if let Some(y) = r.yield_frac.filter(|y| *y < r.yield_min) {
+        // The limit that fails the most trials.
+        let most = r
+            .limits
+            .iter()
+            .filter(|l| l.failed > 0)
+            .max_by_key(|l| l.failed);
+        let by = most.map_or(String::new(), |l| {
+            format!(
+                " ({} fails {} of {} trials)",
+                l.limit.field, l.failed, r.trials
+            )
+        });
+        why.push(format!(
+            "yield {} < {}{by}",
+            fmt_plain(y, 4),
+            fmt_plain(r.yield_min, 4)
+        ));
+    }
+    why.join("; ")
+}
+
+/// One file's check as JSON.
+pub fn check_json(file: &Path, r: Option<&SpreadResult>) -> Value {
+    let Some(r) = r else {
+        return json!({"file": file.display().to_string(), "spec": false, "pass": true});
+    };
+    let limits: Vec<Value> = r
+        .limits
+        .iter()
+        .map(|l| {
+            json!({
+                "field": l.limit.field,
+                "limit": l.value,
+                "nominal": or_null(l.nominal),
+                "worst": or_null(l.worst),
+                "failed": l.failed,
+                "pass": l.nominal_pass,
+            })
+        })
+        .collect();
+    json!({
+        "file": file.display().to_string(),
+        "spec": true,
+        "pass": r.passes(),
+        "limits": limits,
+        "trials": r.trials,
+        "yield": or_null(r.yield_frac),
+        "yield_min": r.yield_min,
+    })
+}
+
+/// The histogram as a row of block characters (for text views).
+pub fn sparkline(h: &[usize; BINS]) -> String {
+    const BARS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];
+    let top = h.iter().copied().max().unwrap_or(0).max(1);
+    h.iter()
+        .map(|&c| match c {
+            0 => ' ',
+            c => BARS[((c * 8 - 1) / top).min(7)],
+        })
+        .collect()
+}

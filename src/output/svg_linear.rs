@@ -1,0 +1,366 @@
+//! The SVG views on linear axes: the step response against time (with the
+//! ±0.1 % settling band and the settling-time mark) and the tolerance
+//! spread's histograms (with the spec limits). Both are entries of
+//! [`crate::output::views::VIEWS`] and share its styles, legend and footer.
+
+use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
+use crate::output::svg::{
+    err, legend_at, legend_sample, rings, style, titled, Chart, Keyed, Look, Stage,
+};
+use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
+use plotters::coord::Shift;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+type Area<'a, 'b> = DrawingArea<SVGBackend<'b>, Shift>;
+
+/// The step view needs a step response (none for an unstable loop).
+pub fn needs_step(s: &Stage) -> Option<String> {
+    s.eval.step.view_end().is_none().then(|| {
+        format!(
+            "{} has no step response to draw (its loop is unstable)",
+            printable(&s.scenario.title)
+        )
+    })
+}
+
+/// A linear axis over `range` with about `n` labelled steps.
+fn axis(range: (f64, f64), n: usize) -> ((f64, f64), Keyed) {
+    let ((lo, hi), ticks) = nice_linear(range.0, range.1, n);
+    ((lo, hi), Keyed::new((lo, hi), ticks, Vec::new()))
+}
+
+/// A vertical line over the chart with its text near the top.
+fn vmark<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    x: f64,
+    (y0, y1): (f64, f64),
+    row: usize,
+    text: String,
+    (color, font): (RGBColor, u32),
+) -> anyhow::Result<()> {
+    let line = PathElement::new(vec![(x, y0), (x, y1)], color.mix(0.6).stroke_width(1));
+    chart.draw_series(std::iter::once(line)).map_err(err)?;
+    let y = y1 - (y1 - y0) * 0.06 * (row as f64 + 1.0);
+    // Right of the line, or left of it in the chart's right part.
+    let r = chart.x_range();
+    let (xa, xb) = (r.start, r.end);
+    let right_part = xb > xa && (x - xa) / (xb - xa) > 0.6;
+    let h = if right_part { HPos::Right } else { HPos::Left };
+    let style = ("sans-serif", font)
+        .into_font()
+        .color(&color)
+        .pos(Pos::new(h, VPos::Top));
+    let label = Text::new(text, (x, y), style);
+    chart.draw_series(std::iter::once(label)).map_err(err)?;
+    Ok(())
+}
+
+/// The step waveforms to draw: in volts, or each divided by its own final
+/// value when the stages step by different sizes (then comparable).
+/// Waveforms, one per stage.
+type Waves = Vec<Vec<(f64, f64)>>;
+
+/// The waveforms and, when each is divided by its final value, the axis
+/// description that says so.
+fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
+    let responses: Vec<_> = stages.iter().map(|s| &s.eval.step).collect();
+    let (waves, divided) = crate::engine::step::shown_waves(&responses, end, 400);
+    (waves, divided.then_some("output / its final value"))
+}
+
+/// The step response of each stage against time, the ±0.1 % band around
+/// A's final value and each stage's 0.1 % settling time.
+pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyhow::Result<()> {
+    let end = stages
+        .iter()
+        .filter_map(|s| s.eval.step.view_end())
+        .fold(0.0, f64::max);
+    let (waves, normalised) = step_waves(stages, end);
+    let final_a = match normalised {
+        Some(_) => Some(1.0),
+        None => stages[0].eval.step.final_v,
+    };
+    let band: Vec<f64> = final_a.map_or(Vec::new(), |f| vec![f * 0.999, f * 1.001]);
+    let (lo, hi) = waves
+        .iter()
+        .flatten()
+        .map(|p| p.1)
+        .chain(band.iter().copied())
+        .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
+    let ((x0, x1), x_axis) = axis((0.0, end), 8);
+    let (yr, y_axis) = axis((lo, hi), 8);
+    let sizes: Vec<String> = stages
+        .iter()
+        .map(|s| fmt_eng(s.eval.step.size_v, "V"))
+        .collect();
+    let mut chart = ChartBuilder::on(area)
+        .caption(
+            titled(
+                &format!("Step response, {} step", sizes.join(" / ")),
+                stages,
+            ),
+            ("sans-serif", font + 4).into_font(),
+        )
+        .margin(12)
+        .x_label_area_size(font * 3)
+        .y_label_area_size(font * 5)
+        .build_cartesian_2d(x_axis, y_axis)
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc("time (s)")
+        .y_desc(normalised.unwrap_or("output at the load (V)"))
+        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
+        .y_label_formatter(&|y| match normalised {
+            Some(_) => fmt_plain(*y, 4),
+            None => fmt_eng(*y, "V").replace(' ', ""),
+        })
+        .label_style(("sans-serif", font).into_font())
+        .axis_desc_style(("sans-serif", font).into_font())
+        .draw()
+        .map_err(err)?;
+    let grey = RGBColor(120, 120, 120);
+    for (i, y) in band.iter().enumerate() {
+        let line = PathElement::new(vec![(x0, *y), (x1, *y)], grey.stroke_width(1));
+        let s = chart.draw_series(std::iter::once(line)).map_err(err)?;
+        if i == 0 {
+            s.label("±0.1 % of the final value")
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], grey));
+        }
+    }
+    for (slot, (s, w)) in stages.iter().zip(&waves).enumerate() {
+        draw_wave(&mut chart, (slot, stages.len()), s, w, (yr, look, font))?;
+    }
+    // Out of the waveform's way: below a rising step, above a falling one.
+    let at = if final_a.unwrap_or(1.0) >= 0.0 {
+        SeriesLabelPosition::LowerRight
+    } else {
+        SeriesLabelPosition::UpperRight
+    };
+    legend_at(&mut chart, font, at)
+}
+
+/// One stage's waveform and its settling-time mark.
+fn draw_wave<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    (slot, n): (usize, usize),
+    s: &Stage,
+    w: &[(f64, f64)],
+    (yr, look, font): ((f64, f64), Look, u32),
+) -> anyhow::Result<()> {
+    let st = style(slot, false, look.mono);
+    if let Some(ts) = s.eval.step.settle_s[1] {
+        let text = format!("ts 0.1 % {}", fmt_eng(ts, "s"));
+        vmark(chart, ts, yr, slot, text, (st.color, font))?;
+    }
+    let name = if n > 1 {
+        format!("{} output", ["A", "B"][slot.min(1)])
+    } else {
+        "output".to_string()
+    };
+    chart
+        .draw_series(LineSeries::new(w.to_vec(), st.color.stroke_width(st.width)))
+        .map_err(err)?
+        .label(name)
+        .legend(legend_sample(&st));
+    if st.rings {
+        chart.draw_series(rings(w, &st)).map_err(err)?;
+    }
+    Ok(())
+}
+
+/// A histogram's name over its panel.
+fn panel_name(key: &str) -> &str {
+    match key {
+        "f_3db_hz" => "f−3dB",
+        other => unit_and_label(other).1,
+    }
+}
+
+/// A histogram as one step outline: up and down each bin from min to max.
+fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
+    let (Some(lo), Some(hi)) = (f.min, f.max) else {
+        return Vec::new();
+    };
+    let w = if hi > lo {
+        (hi - lo) / BINS as f64
+    } else {
+        1.0
+    };
+    let mut pts = vec![(lo * scale, 0.0)];
+    for (i, &c) in f.histogram.iter().enumerate() {
+        let (a, b) = (lo + w * i as f64, lo + w * (i + 1) as f64);
+        pts.push((a * scale, c as f64));
+        pts.push((b * scale, c as f64));
+    }
+    pts.push(((lo + w * BINS as f64) * scale, 0.0));
+    pts
+}
+
+/// The spread of each stage: three histograms side by side, the spec's
+/// limits marked, the yield in each stage's legend.
+pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyhow::Result<()> {
+    let results: Vec<SpreadResult> = stages
+        .iter()
+        .map(|s| spread::spread(s.scenario, &spread::Run::default()))
+        .collect();
+    let yields: Vec<String> = results
+        .iter()
+        .map(|r| match r.yield_frac {
+            Some(y) => format!("yield {} %", fmt_plain(100.0 * y, 4)),
+            None => "no spec".into(),
+        })
+        .collect();
+    let title = format!(
+        "Tolerance spread, {} trials ({})",
+        results[0].trials,
+        yields.join(" vs ")
+    );
+    let (head, body) = area.split_vertically(font * 2 + 16);
+    head.draw(&Text::new(
+        titled(&title, stages),
+        (12, 8),
+        ("sans-serif", font + 4).into_font(),
+    ))
+    .map_err(err)?;
+    // A's histograms (and B's of the same figures).
+    let keys = spread::shown_figures(&results[0], 4);
+    for (panel, key) in body.split_evenly((1, keys.len())).iter().zip(&keys) {
+        histogram_panel(panel, &results, (key, panel_name(key)), look, font)?;
+    }
+    Ok(())
+}
+
+/// One figure's histograms (A and B outlined in their styles) and limits.
+fn histogram_panel(
+    area: &Area,
+    results: &[SpreadResult],
+    (key, name): (&str, &str),
+    look: Look,
+    font: u32,
+) -> anyhow::Result<()> {
+    let (unit, _) = unit_and_label(key);
+    // Fractions are drawn in percent.
+    let scale = if key == "target_error" { 100.0 } else { 1.0 };
+    let outlines: Vec<Vec<(f64, f64)>> = results
+        .iter()
+        .map(|r| r.figure(key).map_or(Vec::new(), |f| outline(f, scale)))
+        .collect();
+    let limits = tagged_limits(results, key, scale);
+    let xs = outlines
+        .iter()
+        .flatten()
+        .map(|p| p.0)
+        .chain(limits.iter().map(|l| l.1));
+    let (lo, hi) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+        (a.min(x), b.max(x))
+    });
+    let top = outlines.iter().flatten().map(|p| p.1).fold(1.0, f64::max);
+    let (_, x_axis) = axis((lo, hi), 4);
+    let (yr, y_axis) = axis((0.0, top * 1.15), 5);
+    let unit_text = match unit {
+        crate::judge::figures::Unit::Si(u) => u,
+        crate::judge::figures::Unit::Degrees => "°",
+        _ => "%",
+    };
+    let mut chart = ChartBuilder::on(area)
+        .caption(name, ("sans-serif", font + 2).into_font())
+        .margin(10)
+        .x_label_area_size(font * 3)
+        .y_label_area_size(font * 4)
+        .build_cartesian_2d(x_axis, y_axis)
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc(format!("{name} ({unit_text})"))
+        .y_desc("trials")
+        .x_label_formatter(&|x| match unit {
+            crate::judge::figures::Unit::Si(u) => fmt_eng(*x, u).replace(' ', ""),
+            _ => fmt_plain(*x, 4),
+        })
+        .y_label_formatter(&|y| format!("{y:.0}"))
+        .label_style(("sans-serif", font).into_font())
+        .axis_desc_style(("sans-serif", font).into_font())
+        .draw()
+        .map_err(err)?;
+    for (i, (slot, x, text)) in limits.into_iter().enumerate() {
+        let color = match (look.mono, slot) {
+            (true, _) => RGBColor(0, 0, 0),
+            (false, 0) => RGBColor(200, 30, 30),
+            (false, _) => RGBColor(150, 30, 110),
+        };
+        vmark(&mut chart, x, yr, i, text, (color, font))?;
+    }
+    draw_outlines(&mut chart, &outlines, look)?;
+    if results.len() > 1 {
+        legend_at(&mut chart, font, SeriesLabelPosition::UpperRight)?;
+    }
+    Ok(())
+}
+
+/// Each stage's histogram outline in its style (A solid, B with rings).
+fn draw_outlines<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    outlines: &[Vec<(f64, f64)>],
+    look: Look,
+) -> anyhow::Result<()> {
+    for (slot, pts) in outlines.iter().enumerate().filter(|(_, p)| !p.is_empty()) {
+        let st = style(slot, false, look.mono);
+        let label = if outlines.len() > 1 {
+            ["A", "B"][slot.min(1)]
+        } else {
+            "trials"
+        };
+        chart
+            .draw_series(LineSeries::new(
+                pts.clone(),
+                st.color.stroke_width(st.width),
+            ))
+            .map_err(err)?
+            .label(label)
+            .legend(legend_sample(&st));
+        if st.rings {
+            chart.draw_series(rings(pts, &st)).map_err(err)?;
+        }
+    }
+    Ok(())
+}
+
+/// Every stage's limits on one figure: (stage, x, text), tagged A and B
+/// when there are two.
+fn tagged_limits(results: &[SpreadResult], key: &str, scale: f64) -> Vec<(usize, f64, String)> {
+    results
+        .iter()
+        .enumerate()
+        .flat_map(|(slot, r)| {
+            let tag = if results.len() > 1 {
+                ["A ", "B "][slot.min(1)]
+            } else {
+                ""
+            };
+            limit_marks(r, key, scale)
+                .into_iter()
+                .map(move |(x, text)| (slot, x, format!("{tag}{text}")))
+        })
+        .collect()
+}
+
+/// The spec limits on one figure, as (x, text) in the panel's scale.
+fn limit_marks(r: &SpreadResult, key: &str, scale: f64) -> Vec<(f64, String)> {
+    let (unit, _) = unit_and_label(key);
+    let mut out = Vec::new();
+    for l in r.limits.iter().filter(|l| l.limit.figures.contains(&key)) {
+        let value = unit.cell(l.value, false);
+        // A magnitude limit's edges: the lower (−) first, then the upper.
+        for (i, x) in l.limit.edges(l.value).into_iter().enumerate() {
+            let text = match (l.limit.sign(), i) {
+                ("±", 0) => format!("limit −{value}"),
+                ("±", _) => format!("limit +{value}"),
+                (sign, _) => format!("limit {sign} {value}"),
+            };
+            out.push((x * scale, text));
+        }
+    }
+    out
+}

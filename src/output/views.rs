@@ -1,0 +1,269 @@
+//! The view registry: every view of a stage, its name, title, traces and
+//! marks, in `--view` order. The SVG figures, `plot --help`, the Markdown
+//! note and the workbench read it.
+//!
+//! To add a view: one entry in [`VIEWS`] (its axes, traces and marks).
+
+use crate::model::values::{fmt_eng, printable};
+use crate::output::figure::{Axis, Curve, Mark, OwnChart, Stage, View, DB, DEG};
+use crate::output::svg_linear;
+use crate::output::traces::Traces;
+
+fn nothing_needed(_: &Stage) -> Option<String> {
+    None
+}
+
+fn curve(name: &'static str, right: bool, points: &[(f64, f64)]) -> Curve {
+    Curve {
+        name,
+        right,
+        points: points.to_vec(),
+        tone: 0,
+    }
+}
+
+fn no_marks(_: &Stage) -> Vec<Mark> {
+    Vec::new()
+}
+
+fn no_curves(_: &Traces) -> Vec<Curve> {
+    Vec::new()
+}
+
+fn f3db_mark(s: &Stage) -> Vec<Mark> {
+    s.eval
+        .f_3db_hz
+        .filter(|_| !s.eval.unstable())
+        .map(|f| Mark {
+            f_hz: f,
+            text: format!("f−3dB {}", fmt_eng(f, "Hz")),
+        })
+        .into_iter()
+        .collect()
+}
+
+fn crossover_mark(s: &Stage) -> Vec<Mark> {
+    let e = s.eval;
+    e.crossover_hz
+        .map(|f| Mark {
+            f_hz: f,
+            text: match e.phase_margin_deg {
+                Some(pm) => format!("margin {pm:.0}° @ {}", fmt_eng(f, "Hz")),
+                None => format!("crossover {}", fmt_eng(f, "Hz")),
+            },
+        })
+        .into_iter()
+        .collect()
+}
+
+fn band_marks(s: &Stage) -> Vec<Mark> {
+    let (lo, hi) = s.scenario.band;
+    vec![
+        Mark {
+            f_hz: lo,
+            text: format!("band {}", fmt_eng(lo, "Hz")),
+        },
+        Mark {
+            f_hz: hi,
+            text: format!("band {}", fmt_eng(hi, "Hz")),
+        },
+    ]
+}
+
+/// A view drawn on linear axes by `chart`.
+const fn linear(
+    name: &'static str,
+    title: &'static str,
+    needs: fn(&Stage) -> Option<String>,
+    chart: OwnChart,
+) -> View {
+    View {
+        name,
+        title,
+        needs,
+        left: DB,
+        right: None,
+        curves: no_curves,
+        marks: no_marks,
+        own: Some(chart),
+    }
+}
+
+/// |Zout| at the load terminal, |Zin| in its own tone and, where riso
+/// makes it differ, |Zout| at the amplifier pin.
+fn impedance_curves(t: &Traces) -> Vec<Curve> {
+    let mut c = vec![
+        curve("|Zout|", false, &t.zout),
+        Curve {
+            tone: 1,
+            ..curve("|Zin|", false, &t.zin)
+        },
+    ];
+    let differs = t.zout_pin.len() != t.zout.len()
+        || t.zout_pin
+            .iter()
+            .zip(&t.zout)
+            .any(|(p, z)| (p.1 - z.1).abs() > 1e-6);
+    if differs {
+        c.push(Curve {
+            tone: 2,
+            ..curve("|Zout| at the pin", false, &t.zout_pin)
+        });
+    }
+    c
+}
+
+/// The envelope needs the signal's peak.
+fn needs_peak(s: &Stage) -> Option<String> {
+    s.scenario.source.peak.is_none().then(|| {
+        format!(
+            "the envelope view needs source.peak (the signal's peak at the source); \
+             “{}” gives none",
+            printable(&s.scenario.title)
+        )
+    })
+}
+
+/// The ceilings where they matter: up to two decades above the largest need.
+fn envelope_curves(t: &Traces) -> Vec<Curve> {
+    let top = t
+        .env_need
+        .iter()
+        .map(|p| p.1)
+        .fold(f64::NEG_INFINITY, f64::max)
+        + 2.0;
+    let under = |pts: &[(f64, f64)]| -> Vec<(f64, f64)> {
+        pts.iter().copied().filter(|p| p.1 <= top).collect()
+    };
+    // The swing ceiling is flat: drawn on the need's frequencies.
+    let swing: Vec<(f64, f64)> = t
+        .env_swing
+        .first()
+        .map(|s| t.env_need.iter().map(|p| (p.0, s.1)).collect())
+        .unwrap_or_default();
+    let mut c = vec![curve("need", false, &t.env_need)];
+    for (tone, (name, pts)) in [
+        ("swing ceiling", &swing),
+        ("slew ceiling", &t.env_slew),
+        ("current ceiling", &t.env_current),
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let pts = under(pts);
+        if !pts.is_empty() {
+            c.push(Curve {
+                tone: tone as u8 + 1,
+                ..curve(name, false, &pts)
+            });
+        }
+    }
+    c
+}
+
+/// The band edges and where the need first passes a ceiling.
+fn envelope_marks(s: &Stage) -> Vec<Mark> {
+    let mut m = band_marks(s);
+    if let Some((f, what)) = s.eval.limits.envelope_limit {
+        m.push(Mark {
+            f_hz: f,
+            text: format!("passes the {what} ceiling at {}", fmt_eng(f, "Hz")),
+        });
+    }
+    m
+}
+
+/// Every view, in `--view` order.
+pub static VIEWS: [View; 7] = [
+    View {
+        name: "response",
+        title: "Closed-loop response",
+        needs: nothing_needed,
+        left: DB,
+        right: Some(DEG),
+        curves: |t| {
+            vec![
+                curve("gain", false, &t.gain_db),
+                curve("phase", true, &t.gain_phase),
+            ]
+        },
+        marks: f3db_mark,
+        own: None,
+    },
+    View {
+        name: "loop",
+        title: "Loop gain",
+        needs: nothing_needed,
+        left: DB,
+        right: Some(DEG),
+        curves: |t| {
+            vec![
+                curve("loop gain", false, &t.loop_db),
+                curve("loop phase", true, &t.loop_phase),
+            ]
+        },
+        marks: crossover_mark,
+        own: None,
+    },
+    View {
+        name: "noise",
+        title: "Output noise density",
+        needs: nothing_needed,
+        left: Axis {
+            desc: "noise density (V/√Hz)",
+            log_unit: Some("V"),
+        },
+        right: None,
+        curves: |t| vec![curve("noise", false, &t.noise)],
+        marks: band_marks,
+        own: None,
+    },
+    View {
+        name: "impedance",
+        title: "Output and input impedance",
+        needs: nothing_needed,
+        left: Axis {
+            desc: "|Z| (Ω)",
+            log_unit: Some("Ω"),
+        },
+        right: None,
+        curves: impedance_curves,
+        marks: no_marks,
+        own: None,
+    },
+    View {
+        name: "envelope",
+        title: "Output envelope",
+        needs: needs_peak,
+        left: Axis {
+            desc: "peak at the internal output (V)",
+            log_unit: Some("V"),
+        },
+        right: None,
+        curves: envelope_curves,
+        marks: envelope_marks,
+        own: None,
+    },
+    linear(
+        "step",
+        "Step response",
+        svg_linear::needs_step,
+        svg_linear::step_chart,
+    ),
+    linear(
+        "spread",
+        "Tolerance spread",
+        nothing_needed,
+        svg_linear::spread_chart,
+    ),
+];
+
+/// The view with this name.
+pub fn view(name: &str) -> Option<&'static View> {
+    VIEWS.iter().find(|v| v.name == name)
+}
+
+/// The view names, for help and errors.
+pub fn view_names() -> Vec<&'static str> {
+    VIEWS.iter().map(|v| v.name).collect()
+}

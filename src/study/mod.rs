@@ -1,0 +1,6 @@
+//! Studies: many solves of one stage. The tolerance spread (corners and
+//! Monte Carlo), E-series pairs for a gain, and the stabilising options.
+
+pub mod pairs;
+pub mod spread;
+pub mod stabilize;

@@ -1,0 +1,212 @@
+//! Resistor pairs for a target gain: E-series (rg, rf) pairs ranked by
+//! how close their gain comes, then by the thermal noise they add at the
+//! output, then by the load they put on it.
+
+use crate::model::eseries::Series;
+use crate::model::scenario::Topology;
+use serde::Serialize;
+use std::cmp::Ordering;
+use std::fmt;
+
+/// Boltzmann constant, J/K (exact since the 2019 SI redefinition).
+pub const BOLTZMANN: f64 = 1.380649e-23;
+/// The temperature the noise column is given at: 25 °C in kelvin.
+pub const NOISE_TEMP_K: f64 = 298.15;
+/// The rf values searched: 1 Ω to 10 MΩ.
+pub const RF_RANGE: (f64, f64) = (1.0, 10.0e6);
+/// Relative gain errors this close count as equal (floating-point noise:
+/// 10k/1k and 100k/10k are the same ratio).
+pub const TIE: f64 = 1e-12;
+
+/// What to search for.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Query {
+    /// The gain magnitude wanted (for Inverting, rf/rg).
+    pub target: f64,
+    pub series: Series,
+    pub topology: Topology,
+    /// rg runs over every series value in this range (Ω, ends included).
+    pub rg_range: (f64, f64),
+    /// How many pairs to return.
+    pub count: usize,
+}
+
+impl Query {
+    /// Non-inverting on E24, rg from 1 kΩ to 100 kΩ, the best ten.
+    pub fn new(target: f64) -> Query {
+        Query {
+            target,
+            series: Series::E24,
+            topology: Topology::NonInverting,
+            rg_range: (1.0e3, 100.0e3),
+            count: 10,
+        }
+    }
+}
+
+/// Which part of a [`Query`] is wrong.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum QueryField {
+    Target,
+    Topology,
+    RgMin,
+    RgMax,
+    Count,
+}
+
+/// A query that cannot be answered, and why.
+#[derive(Debug, Clone, PartialEq)]
+pub struct QueryProblem {
+    pub field: QueryField,
+    pub message: String,
+}
+
+impl fmt::Display for QueryProblem {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl std::error::Error for QueryProblem {}
+
+/// One (rg, rf) pair and what it gives (serialised with these names).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Pair {
+    pub rg: f64,
+    pub rf: f64,
+    /// The gain magnitude: 1 + rf/rg (NonInverting) or rf/rg (Inverting).
+    pub gain: f64,
+    /// (gain − target)/target, signed.
+    pub error: f64,
+    /// Thermal noise of rg and rf at the output at 25 °C, V/√Hz.
+    pub noise_density: f64,
+    /// The resistance the network puts on the output, Ω.
+    pub load_ohm: f64,
+}
+
+impl Pair {
+    /// The figures of one pair for a target gain.
+    pub fn new(topology: Topology, target: f64, rg: f64, rf: f64) -> Pair {
+        let ratio = rf / rg;
+        let (gain, load_ohm) = match topology {
+            // The inverting input is a virtual ground: rg loads the source,
+            // only rf the output.
+            Topology::Inverting => (ratio, rf),
+            _ => (1.0 + ratio, rf + rg),
+        };
+        let four_kt = 4.0 * BOLTZMANN * NOISE_TEMP_K;
+        // rf's own noise reaches the output at gain 1, rg's at rf/rg
+        // (Johnson–Nyquist density 4kTR each, uncorrelated).
+        let noise_density = (four_kt * rf + four_kt * rg * ratio * ratio).sqrt();
+        Pair {
+            rg,
+            rf,
+            gain,
+            error: (gain - target) / target,
+            noise_density,
+            load_ohm,
+        }
+    }
+}
+
+fn problem(field: QueryField, message: String) -> QueryProblem {
+    QueryProblem { field, message }
+}
+
+/// Refuse a query without an answer: the problem names the field; its
+/// message says what is wrong with the field's value (without repeating it).
+pub fn check(q: &Query) -> Result<(), QueryProblem> {
+    let (lo, hi) = q.rg_range;
+    let fail = |field, message: &str| Err(problem(field, message.to_string()));
+    if q.topology == Topology::Follower {
+        return fail(
+            QueryField::Topology,
+            "a follower has no rg or rf: use NonInverting or Inverting",
+        );
+    }
+    if !(q.target.is_finite() && q.target > 0.0) {
+        return fail(QueryField::Target, "must be above 0 (give the magnitude)");
+    }
+    if q.topology == Topology::NonInverting && q.target <= 1.0 {
+        return fail(
+            QueryField::Target,
+            "must be above 1 for a non-inverting stage (its gain is 1 + rf/rg)",
+        );
+    }
+    if !(lo.is_finite() && lo > 0.0) {
+        return fail(QueryField::RgMin, "must be above 0 Ω");
+    }
+    if !(hi.is_finite() && hi >= lo) {
+        return fail(QueryField::RgMax, "is below the bottom of the rg range");
+    }
+    if q.series.values_between(lo, hi).is_empty() {
+        return Err(problem(
+            QueryField::RgMax,
+            format!("leaves no {} value for rg", q.series),
+        ));
+    }
+    if q.count == 0 {
+        return fail(QueryField::Count, "must be at least 1");
+    }
+    Ok(())
+}
+
+/// The ranking: |error| ascending, where a run of errors each within
+/// [`TIE`] of the run's first counts as one tie; inside a tie lower noise
+/// first, then lower load, then lower rg. Sorts in place.
+pub fn rank(pairs: &mut [Pair]) {
+    pairs.sort_by(|a, b| a.error.abs().total_cmp(&b.error.abs()));
+    let mut start = 0;
+    while start < pairs.len() {
+        let lead = pairs[start].error.abs();
+        let end = start
+            + pairs[start..]
+                .iter()
+                .take_while(|p| p.error.abs() - lead <= TIE)
+                .count();
+        pairs[start..end].sort_by(tie_order);
+        start = end;
+    }
+}
+
+fn tie_order(a: &Pair, b: &Pair) -> Ordering {
+    a.noise_density
+        .total_cmp(&b.noise_density)
+        .then(a.load_ohm.total_cmp(&b.load_ohm))
+        .then(a.rg.total_cmp(&b.rg))
+}
+
+/// Up to `n` rf values on each side of `ideal`, from an increasing list.
+fn nearest(rf: &[f64], ideal: f64, n: usize) -> &[f64] {
+    let split = rf.partition_point(|&v| v < ideal);
+    &rf[split.saturating_sub(n)..(split + n).min(rf.len())]
+}
+
+/// The best `q.count` pairs, best first.
+///
+/// For each rg only the `count` rf values nearest the ideal on either side
+/// are tried. This gives the same list as trying every rf: on each side
+/// the error grows with every step away from the ideal (by far more than
+/// [`TIE`]), so a pair beyond them has `count` pairs of its own rg in
+/// strictly earlier ties, and cannot make the list.
+pub fn find(q: &Query) -> Result<Vec<Pair>, QueryProblem> {
+    check(q)?;
+    let rf_values = q.series.values_between(RF_RANGE.0, RF_RANGE.1);
+    let ratio = match q.topology {
+        Topology::Inverting => q.target,
+        _ => q.target - 1.0,
+    };
+    let mut pairs: Vec<Pair> = q
+        .series
+        .values_between(q.rg_range.0, q.rg_range.1)
+        .into_iter()
+        .flat_map(|rg| {
+            nearest(&rf_values, rg * ratio, q.count)
+                .iter()
+                .map(move |&rf| Pair::new(q.topology, q.target, rg, rf))
+        })
+        .collect();
+    rank(&mut pairs);
+    pairs.truncate(q.count);
+    Ok(pairs)
+}

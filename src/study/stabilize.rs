@@ -1,0 +1,190 @@
+//! Stabilising options for a stage that drives its load: the smallest
+//! riso and the smallest cf that reach a phase-margin target, each found
+//! by solving the modified stage with [`analyze`], with the figures that
+//! show what the fix costs.
+
+use crate::engine::analysis::{analyze, Analysis};
+use crate::model::eseries::{Series, CAPACITOR_SERIES};
+use crate::model::scenario::{Scenario, Topology};
+use crate::model::values::fmt_eng;
+use serde::Serialize;
+
+/// The riso values searched (Ω), on the stage's own series.
+pub const RISO_RANGE: (f64, f64) = (0.1, 1.0e3);
+/// The cf values searched (F), on E12.
+pub const CF_RANGE: (f64, f64) = (0.1e-12, 10.0e-9);
+/// The target the workbench asks for (degrees; common practice for a
+/// well-damped loop).
+pub const DEFAULT_MARGIN_DEG: f64 = 60.0;
+
+/// The part a fix changes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Part {
+    Riso,
+    Cf,
+}
+
+impl Part {
+    /// The part's name in the scenario and in the JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Part::Riso => "riso",
+            Part::Cf => "cf",
+        }
+    }
+
+    pub fn unit(self) -> &'static str {
+        match self {
+            Part::Riso => "Ω",
+            Part::Cf => "F",
+        }
+    }
+
+    /// The series it is searched on and the range.
+    fn search(self, s: &Scenario) -> (Series, (f64, f64)) {
+        match self {
+            Part::Riso => (s.stage.series, RISO_RANGE),
+            Part::Cf => (CAPACITOR_SERIES, CF_RANGE),
+        }
+    }
+
+    /// The stage with this part set to `value` (the other part as it was).
+    pub fn applied(self, s: &Scenario, value: f64) -> Scenario {
+        let mut out = s.clone();
+        match self {
+            Part::Riso => out.stage.riso = Some(value),
+            Part::Cf => out.stage.cf = Some(value),
+        }
+        out
+    }
+}
+
+/// One option: a part value and the stage's figures with it (serialised
+/// with these names).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Fix {
+    pub part: Part,
+    pub value: f64,
+    pub phase_margin_deg: Option<f64>,
+    pub peaking_db: f64,
+    pub f_3db_hz: Option<f64>,
+    pub zout_dc_ohm: f64,
+}
+
+impl Fix {
+    fn new(part: Part, value: f64, a: &Analysis) -> Fix {
+        Fix {
+            part,
+            value,
+            phase_margin_deg: a.phase_margin_deg,
+            peaking_db: a.peaking_db,
+            f_3db_hz: a.f_3db_hz,
+            zout_dc_ohm: a.zout_dc_ohm,
+        }
+    }
+}
+
+/// The options for one stage and target.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Options {
+    pub target_deg: f64,
+    /// The stage's own phase margin (None: no crossover).
+    pub margin_now: Option<f64>,
+    /// Whether the stage as it is already meets the target.
+    pub already_met: bool,
+    /// riso first, then cf (where the topology has rf); only parts for
+    /// which some value in range reaches the target.
+    pub options: Vec<Fix>,
+    /// Parts searched without success, each with its range in words.
+    pub misses: Vec<String>,
+}
+
+impl Options {
+    /// Why the list is empty (None when it is not).
+    pub fn reason(&self) -> Option<String> {
+        self.options.is_empty().then(|| {
+            format!(
+                "no value reaches {}° of phase margin: {}",
+                self.target_deg,
+                self.misses.join("; ")
+            )
+        })
+    }
+}
+
+/// Whether an analysis meets a phase-margin target.
+///
+/// `analyze` gives no phase margin in two cases: |T| is below 1 at DC (a
+/// loop that never reaches unity gain cannot oscillate, so it counts as
+/// meeting any target, but only when |T| stays below 1 at every sweep
+/// point too), or |T| never falls through 1 within the sweep (no margin
+/// can be read: not met). An unstable loop has a margin ≤ 0°: not met.
+pub fn meets(a: &Analysis, target_deg: f64) -> bool {
+    match a.phase_margin_deg {
+        Some(pm) => pm >= target_deg,
+        None => {
+            a.dc.loop_gain.norm() < 1.0 && a.sweep.points.iter().all(|p| p.loop_gain.norm() < 1.0)
+        }
+    }
+}
+
+/// The parts a topology can be stabilised with.
+pub fn parts(topology: Topology) -> &'static [Part] {
+    match topology {
+        Topology::Follower => &[Part::Riso],
+        _ => &[Part::Riso, Part::Cf],
+    }
+}
+
+/// The smallest value of `part` that meets the target: the series values
+/// are scanned upward from the bottom of the range and the first whose
+/// margin is at least the target is taken. The margin need not grow with
+/// the value, so a larger value may fail again; "smallest" means this
+/// first one, not the start of a range that keeps working.
+pub fn smallest(s: &Scenario, part: Part, target_deg: f64) -> Option<Fix> {
+    let (series, (lo, hi)) = part.search(s);
+    series.values_between(lo, hi).into_iter().find_map(|v| {
+        let trial = part.applied(s, v);
+        trial.validate().ok()?;
+        let a = analyze(&trial);
+        meets(&a, target_deg).then(|| Fix::new(part, v, &a))
+    })
+}
+
+/// The target must be a margin a loop can have.
+pub fn check_target(target_deg: f64) -> anyhow::Result<()> {
+    if target_deg.is_finite() && target_deg > 0.0 && target_deg < 180.0 {
+        Ok(())
+    } else {
+        Err(anyhow::anyhow!("must be above 0° and below 180°"))
+    }
+}
+
+/// The options for a valid scenario.
+pub fn options(s: &Scenario, target_deg: f64) -> anyhow::Result<Options> {
+    check_target(target_deg)?;
+    let now = analyze(s);
+    let mut out = Options {
+        target_deg,
+        margin_now: now.phase_margin_deg,
+        already_met: meets(&now, target_deg),
+        options: Vec::new(),
+        misses: Vec::new(),
+    };
+    for &part in parts(s.stage.topology) {
+        match smallest(s, part, target_deg) {
+            Some(fix) => out.options.push(fix),
+            None => {
+                let (series, (lo, hi)) = part.search(s);
+                out.misses.push(format!(
+                    "{} from {} to {} on {series}",
+                    part.name(),
+                    fmt_eng(lo, part.unit()),
+                    fmt_eng(hi, part.unit())
+                ));
+            }
+        }
+    }
+    Ok(out)
+}
