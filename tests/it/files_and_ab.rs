@@ -1,7 +1,7 @@
 //! Saving and opening from the workbench, the archetype library, and the
 //! A/B comparison (workbench and `compare`).
 
-mod common;
+use crate::common;
 use common::bin;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::engine::scenario::{self, Scenario};

@@ -2,7 +2,7 @@
 //! size asked for, the marks, monochrome, and refused input with no file
 //! left behind.
 
-mod common;
+use crate::common;
 use common::{bin, temp_dir};
 use std::path::{Path, PathBuf};
 

@@ -3,7 +3,7 @@
 //! the riso/load divider. Each check value names its source; tolerances are
 //! a few times the error the engine really shows (measured, noted beside).
 
-mod common;
+use crate::common;
 use common::{assert_rel, fast, follower, johnson, noise_transfer, plain};
 use loopwright::engine::scenario::Scenario;
 use loopwright::engine::Topology;

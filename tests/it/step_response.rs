@@ -2,7 +2,7 @@
 //! control and circuit texts), the definition of slew rate, the rails, and
 //! the frequency-domain engine (Laplace transform of the waveform).
 
-mod common;
+use crate::common;
 
 use common::{assert_rel, follower, plain};
 use loopwright::engine::analysis::Circuit;

@@ -1,7 +1,7 @@
 //! The scenario file format: the documented shape loads, saves and reloads
 //! unchanged; bad files fail with the field, line and column.
 
-mod common;
+use crate::common;
 use common::bin;
 use loopwright::engine::scenario::{Scenario, DEMO_RON};
 use loopwright::engine::{evaluate, Topology};

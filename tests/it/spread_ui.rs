@@ -2,7 +2,7 @@
 //! with the spec limits and the yield, results dropped when the stage
 //! changes; the `spec` warning in the strip.
 
-mod common;
+use crate::common;
 use common::{key, screen_at};
 use crossterm::event::KeyCode;
 use loopwright::engine::scenario::Scenario;

@@ -3,7 +3,7 @@
 //! must name the field. Every refusal is an error value naming the file,
 //! never a hang or a panic.
 
-mod common;
+use crate::common;
 use common::bin;
 use loopwright::engine::scenario::{self, Scenario};
 use std::path::Path;

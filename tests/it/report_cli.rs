@@ -1,6 +1,6 @@
 //! The headless `report` command: JSON keys, units, nulls and phases.
 
-mod common;
+use crate::common;
 use common::{bin, temp_dir};
 use serde_json::Value;
 

@@ -1,7 +1,7 @@
 //! The workbench's keys, driven through `App::on_key` and checked through
 //! the slots' scenarios and the drawn screen (TestBackend, mono theme).
 
-mod common;
+use crate::common;
 use common::{key, press, screen_at, type_text};
 use crossterm::event::KeyCode;
 use loopwright::engine::scenario::{self, Scenario};

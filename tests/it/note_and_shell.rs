@@ -1,7 +1,7 @@
 //! `report --md` (the design note and its figures), `completions` and
 //! `manual`.
 
-mod common;
+use crate::common;
 use clap::CommandFactory;
 use common::{bin, stdout_of, temp_dir};
 use loopwright::cli::Cli;

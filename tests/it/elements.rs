@@ -3,7 +3,7 @@
 //! asymptotic-gain and Blackman checks in engine_checks.rs hold for any
 //! wiring; these do not.) Tolerances are a few times the measured error.
 
-mod common;
+use crate::common;
 use common::{assert_rel, closed_form_margin, fast, follower, open_loop, plain, unity_crossing};
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::engine::Topology;

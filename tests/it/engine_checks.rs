@@ -1,7 +1,7 @@
 //! The engine against closed-form textbook results, physical constants and
 //! facts of the trade. Every check value names where it comes from.
 
-mod common;
+use crate::common;
 use common::{assert_rel, follower, open_loop, plain, rel, unity_crossing};
 use loopwright::engine::netlist::BOLTZMANN;
 use loopwright::engine::Topology;

@@ -1,7 +1,7 @@
 //! Saving: links, permissions, line endings, comments and stale temporary
 //! files (src/storage.rs).
 
-mod common;
+use crate::common;
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::storage::{render, write_atomic, Original};
 use std::os::unix::fs::{MetadataExt, PermissionsExt};

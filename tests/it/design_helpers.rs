@@ -3,7 +3,7 @@
 //! Johnson–Nyquist formula with the SI 2019 Boltzmann constant, and the
 //! engine's own solve of each modified stage.
 
-mod common;
+use crate::common;
 use common::{bin, key, press, screen_at, stdout_of, type_text};
 use crossterm::event::KeyCode;
 use loopwright::engine::pairs::{self, Query};

@@ -3,7 +3,7 @@
 //! Thresholds are the common-practice ones in the README's warnings table;
 //! the figures they act on come from closed forms computed here.
 
-mod common;
+use crate::common;
 use common::{closed_form_margin, fast, in_range, open_loop, warning, warnings_of};
 use loopwright::engine::Scenario;
 

@@ -3,7 +3,7 @@
 //! distributions, the quantile definition, determinism across thread
 //! counts, and the `spread`/`check` commands.
 
-mod common;
+use crate::common;
 
 use common::{bin, in_range, plain, temp_dir};
 use loopwright::engine::analysis::{analyze_to, FULL, TRIAL};

@@ -2,7 +2,7 @@
 //! keys sent, the screen read back. Skipped (with a printed reason) where
 //! tmux is not installed, except under CI, where that fails.
 
-mod common;
+use crate::common;
 use common::tmux::{assert_restored, start, start_with, tmux, wait_for};
 
 #[test]

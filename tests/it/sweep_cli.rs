@@ -1,7 +1,7 @@
 //! `loopwright sweep`: the header, every row read by a CSV reader, values
 //! equal to `report --at`, the JSON columns, and refused input.
 
-mod common;
+use crate::common;
 use common::{bin, stdout_of, temp_dir};
 use serde_json::Value;
 

@@ -2,7 +2,7 @@
 //! its readout equals `report --at` at the same frequency (an independent
 //! path: the command line's JSON), for A and B.
 
-mod common;
+use crate::common;
 use common::{key, press, screen_at, stdout_of, type_text};
 use crossterm::event::KeyCode;
 use loopwright::engine::scenario::Scenario;

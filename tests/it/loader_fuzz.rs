@@ -2,7 +2,7 @@
 //! few thousand random byte edits. Never a panic; always either a valid
 //! scenario or an error that says where (line and column).
 
-mod common;
+use crate::common;
 use loopwright::engine::Scenario;
 use std::path::PathBuf;
 

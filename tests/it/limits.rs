@@ -2,7 +2,7 @@
 //! textbook DC-error expression, full-power bandwidth, the current into a
 //! capacitor, voltage dividers. Sources are named beside each check value.
 
-mod common;
+use crate::common;
 
 use common::{assert_rel, in_range};
 use loopwright::engine::scenario::{Scenario, Supply};

@@ -2,7 +2,7 @@
 //! so the text alone is asserted), driven by the same key handler as the
 //! terminal loop.
 
-mod common;
+use crate::common;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::ui::app::App;
