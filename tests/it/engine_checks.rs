@@ -1,8 +1,9 @@
 //! The engine against closed-form textbook results, physical constants and
 //! facts of the trade. Every check value names where it comes from.
 
-use crate::common;
-use common::{assert_rel, follower, open_loop, plain, rel, unity_crossing};
+use crate::support::closed_forms::{assert_rel, open_loop, rel, unity_crossing};
+use crate::support::stages::{follower, plain};
+use crate::support::warnings::warning;
 use loopwright::engine::netlist::BOLTZMANN;
 use loopwright::engine::Topology;
 use loopwright::engine::{evaluate, Circuit};
@@ -377,7 +378,7 @@ fn load_capacitance_cost_is_the_margin_it_takes() {
     assert!((pm - want).abs() < 1e-9, "{pm} vs {want}");
     assert!((without - want0).abs() < 1e-9, "{without} vs {want0}");
     // ≈ 30° taken: at or above the 20° threshold (README), a warning.
-    let w = common::warning(&s, "load-capacitance").unwrap();
+    let w = warning(&s, "load-capacitance").unwrap();
     assert!(want0 - want >= 20.0, "{}", want0 - want);
     assert_eq!(w.severity, loopwright::engine::Severity::Warning);
     for n in [want0 - want, want, want0] {

@@ -1,8 +1,7 @@
 //! Saving and opening from the workbench, the archetype library, and the
 //! A/B comparison (workbench and `compare`).
 
-use crate::common;
-use common::bin;
+use crate::support::cli::{bin, temp_dir};
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::ui::app::{archetypes, write_atomic, App};
@@ -43,7 +42,7 @@ fn save_as(a: &mut App, path: &Path) {
 
 #[test]
 fn save_as_adds_ron_and_the_file_reloads_equal() {
-    let d = common::temp_dir("saveas");
+    let d = temp_dir("saveas");
     let mut a = demo_app(None);
     a.on_key(key(KeyCode::Right)); // rf 10k -> 11k, now modified
     assert!(screen(&a).contains(" edited"));
@@ -66,7 +65,7 @@ fn save_as_adds_ron_and_the_file_reloads_equal() {
 
 #[test]
 fn failed_saves_keep_the_edits_and_the_old_file() {
-    let d = common::temp_dir("ro");
+    let d = temp_dir("ro");
     let path = d.join("stage.ron");
     let original = scenario::demo().to_ron();
     std::fs::write(&path, &original).unwrap();
@@ -141,7 +140,7 @@ fn failed_saves_keep_the_edits_and_the_old_file() {
 
 #[test]
 fn saving_keeps_the_comment_at_the_top() {
-    let d = common::temp_dir("comment");
+    let d = temp_dir("comment");
     let path = d.join("c.ron");
     let src = std::fs::read_to_string(concat!(
         env!("CARGO_MANIFEST_DIR"),
@@ -171,7 +170,7 @@ fn saving_keeps_the_comment_at_the_top() {
 
 #[test]
 fn saving_over_a_file_leaves_a_complete_valid_file() {
-    let d = common::temp_dir("over");
+    let d = temp_dir("over");
     let path = d.join("s.ron");
     std::fs::write(&path, "(broken").unwrap();
     let mut s = scenario::demo();
@@ -187,7 +186,7 @@ fn saving_over_a_file_leaves_a_complete_valid_file() {
 
 #[test]
 fn broken_files_report_position_and_keep_the_open_scenario() {
-    let d = common::temp_dir("broken");
+    let d = temp_dir("broken");
     let good = scenario::DEMO_RON;
     let cases = [
         ("cut.ron", good[..good.len() / 2].to_string()),
@@ -388,7 +387,7 @@ fn opening_two_files_and_compare_command() {
 
 #[test]
 fn save_as_over_an_existing_file_asks_first() {
-    let d = common::temp_dir("ask-over");
+    let d = temp_dir("ask-over");
     let other = d.join("other.ron");
     std::fs::write(&other, "// someone else's stage\n").unwrap();
     let mut a = demo_app(None);
@@ -410,7 +409,7 @@ fn save_as_over_an_existing_file_asks_first() {
 
 #[test]
 fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
-    let d = common::temp_dir("ask-changed");
+    let d = temp_dir("ask-changed");
     let p = d.join("s.ron");
     std::fs::write(&p, scenario::DEMO_RON).unwrap();
     let mut a = App::new(
@@ -442,7 +441,7 @@ fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
 
 #[test]
 fn a_save_that_would_drop_comments_asks_first() {
-    let d = common::temp_dir("ask-comments");
+    let d = temp_dir("ask-comments");
     let p = d.join("s.ron");
     let text = scenario::DEMO_RON.replace("riso: 0.0,", "riso: 0.0, /* keep */");
     std::fs::write(&p, &text).unwrap();
@@ -478,7 +477,7 @@ fn a_save_that_would_drop_comments_asks_first() {
 
 #[test]
 fn opening_a_fifo_in_the_workbench_is_refused_without_blocking() {
-    let d = common::temp_dir("open-fifo");
+    let d = temp_dir("open-fifo");
     let p = d.join("p.ron");
     assert!(std::process::Command::new("mkfifo")
         .arg(&p)

@@ -1,8 +1,8 @@
 //! The integration tests, one crate (one link of the library): each file
-//! beside this one is a module of checks, and `common` holds the shared
+//! beside this one is a module of checks, and `support` holds the shared
 //! helpers.
 
-mod common;
+mod support;
 
 mod cursor;
 mod design_helpers;

@@ -2,8 +2,7 @@
 //! with the spec limits and the yield, results dropped when the stage
 //! changes; the `spec` warning in the strip.
 
-use crate::common;
-use common::{key, screen_at};
+use crate::support::keys::{key, screen_at};
 use crossterm::event::KeyCode;
 use loopwright::engine::scenario::Scenario;
 use loopwright::engine::{evaluate, spread};

@@ -2,8 +2,7 @@
 //! IEC 60063:2015 (preferred number series for resistors and capacitors)
 //! and IEC 60062:2016 (marking codes: the RKM letter-and-digit code).
 
-use crate::common;
-use common::bin;
+use crate::support::cli::bin;
 use loopwright::engine::values::{parse_non_negative, parse_positive, parse_value};
 use loopwright::engine::Series;
 

@@ -2,8 +2,7 @@
 //! B, worst first) and the ASCII look (the differs mark and the severity
 //! symbols stay apart from trace A's `*`).
 
-use crate::common;
-use common::{key, screen_at};
+use crate::support::keys::{key, screen_at};
 use crossterm::event::KeyCode;
 use loopwright::engine::scenario::Scenario;
 use loopwright::engine::{evaluate, Severity};

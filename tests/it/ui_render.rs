@@ -2,7 +2,8 @@
 //! so the text alone is asserted), driven by the same key handler as the
 //! terminal loop.
 
-use crate::common;
+use crate::support::closed_forms::{closed_form_margin, open_loop};
+use crate::support::stages::follower;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::engine::scenario::{self, Scenario};
 use loopwright::ui::app::App;
@@ -448,9 +449,9 @@ fn response_view_states_the_three_gains() {
 fn margin_is_written_on_the_loop_view_only() {
     // Two-pole follower (β = 1): crossover and margin from the closed form
     // |A(jf)| = 1, PM = 180° + arg A (tests/common, bisection).
-    let mut s = common::follower();
+    let mut s = follower();
     s.amp.fp2 = Some(2e6);
-    let (fc, pm) = common::closed_form_margin(|f| common::open_loop(&s, f));
+    let (fc, pm) = closed_form_margin(|f| open_loop(&s, f));
     let want = format!(
         "margin {pm:.0}° @ {}",
         loopwright::engine::values::fmt_eng(fc, "Hz")
