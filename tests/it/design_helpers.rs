@@ -23,7 +23,7 @@ const T_25C: f64 = 298.15;
 
 /// Every value of `series` from lo to hi, built decade by decade from the
 /// one-decade table (the tables are checked against IEC 60063 in
-/// tests/standards.rs).
+/// tests/it/standards.rs).
 fn series_values(series: Series, lo: f64, hi: f64) -> Vec<f64> {
     let scale = if series.digits() == 2 { 10.0 } else { 100.0 };
     let mut out = Vec::new();

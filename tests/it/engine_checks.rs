@@ -392,7 +392,7 @@ fn asymptotic_gain_formula_ties_gain_to_the_return_ratio() {
     // Asymptotic-gain model (Rosenstark; Middlebrook's feedback theorem),
     // exact for the return ratio T of one controlled source in ANY linear
     // network: this checks the return-ratio solve, not the wiring (a missing
-    // cf or a misplaced cin would still pass; tests/elements.rs checks those
+    // cf or a misplaced cin would still pass; tests/it/elements.rs checks those
     // against closed forms of the stage):
     //   H = H∞·T/(1 + T) + H0/(1 + T),
     // H∞ the gain with A → ∞, H0 the gain with A = 0. Checked on the demo

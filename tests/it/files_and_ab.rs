@@ -292,7 +292,7 @@ fn archetypes_are_valid_and_a_key_applies_them() {
     a.on_key(key(KeyCode::Down));
     a.on_key(key(KeyCode::Esc));
     assert_eq!(a.slot().scenario.amp, list[1].amp);
-    // (Stepping an archetype's gbw along 1-2-5: tests/workbench_keys.rs.)
+    // (Stepping an archetype's gbw along 1-2-5: tests/it/workbench_keys.rs.)
 }
 
 #[test]

@@ -367,7 +367,7 @@ fn example(name: &str) -> Scenario {
 #[test]
 fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     // The clipping example: ground is 2.1 V outside the negative rail's
-    // usable range (see tests/limits.rs), so the need passes the swing
+    // usable range (see tests/it/limits.rs), so the need passes the swing
     // ceiling inside the band.
     let mut a = app(vec![example("single_supply_inverter_clips")]);
     for _ in 0..3 {
@@ -448,7 +448,7 @@ fn response_view_states_the_three_gains() {
 #[test]
 fn margin_is_written_on_the_loop_view_only() {
     // Two-pole follower (β = 1): crossover and margin from the closed form
-    // |A(jf)| = 1, PM = 180° + arg A (tests/common, bisection).
+    // |A(jf)| = 1, PM = 180° + arg A (tests/it/support/closed_forms.rs, bisection).
     let mut s = follower();
     s.amp.fp2 = Some(2e6);
     let (fc, pm) = closed_form_margin(|f| open_loop(&s, f));
