@@ -3,8 +3,7 @@
 //! must name the field. Every refusal is an error value naming the file,
 //! never a hang or a panic.
 
-mod common;
-use common::bin;
+use crate::support::cli::{bin, temp_dir};
 use loopwright::model::scenario::Scenario;
 use std::path::Path;
 use std::process::{Command, Output, Stdio};
@@ -52,7 +51,7 @@ fn refused(path: &Path, want: &str) -> String {
 
 #[test]
 fn a_fifo_is_refused_at_once() {
-    let d = common::temp_dir("fifo");
+    let d = temp_dir("fifo");
     let p = d.join("p.ron");
     let ok = Command::new("mkfifo").arg(&p).status().unwrap().success();
     assert!(ok, "mkfifo");
@@ -75,7 +74,7 @@ fn a_character_device_is_refused() {
 
 #[test]
 fn a_folder_is_refused() {
-    let d = common::temp_dir("folder");
+    let d = temp_dir("folder");
     let p = d.join("x.ron");
     std::fs::create_dir_all(&p).unwrap();
     refused(&p, "folder");
@@ -84,7 +83,7 @@ fn a_folder_is_refused() {
 
 #[test]
 fn a_50_mb_file_is_refused_by_size() {
-    let d = common::temp_dir("big");
+    let d = temp_dir("big");
     let p = d.join("big.ron");
     // 50 MiB of spaces after a valid scenario: valid RON, but far too big
     // for a hand-written stage (the cap is 1 MiB, see README).
@@ -102,7 +101,7 @@ fn a_byte_order_mark_is_accepted() {
     assert_eq!(&text.as_bytes()[..3], &[0xEF, 0xBB, 0xBF]);
     let s = Scenario::from_ron(&text, None).unwrap();
     assert_eq!(s, loopwright::files::load::demo());
-    let d = common::temp_dir("bom");
+    let d = temp_dir("bom");
     let p = d.join("bom.ron");
     std::fs::write(&p, &text).unwrap();
     let out = run_guarded(&["report".as_ref(), p.as_os_str()]);
@@ -125,7 +124,7 @@ fn crlf_files_load() {
 
 #[test]
 fn non_utf8_gives_the_position_of_the_first_bad_byte() {
-    let d = common::temp_dir("latin1");
+    let d = temp_dir("latin1");
     let p = d.join("latin1.ron");
     // 0xB5 is "µ" in ISO 8859-1; alone it is not valid UTF-8 (RFC 3629:
     // a continuation byte cannot start a sequence).
@@ -174,7 +173,7 @@ fn a_number_for_the_topology_names_the_field_and_the_choices() {
 
 #[test]
 fn control_characters_in_the_title_do_not_reach_the_text_report() {
-    let d = common::temp_dir("ctl");
+    let d = temp_dir("ctl");
     let p = d.join("ctl.ron");
     let text = loopwright::files::load::DEMO_RON.replacen(
         "title: \"",

@@ -5,7 +5,7 @@ use loopwright::judge::Code;
 use loopwright::ui::keys;
 use std::collections::BTreeSet;
 
-const README: &str = include_str!("../README.md");
+const README: &str = include_str!(concat!(env!("CARGO_MANIFEST_DIR"), "/README.md"));
 
 /// The first cells of the markdown table whose header row is `header`.
 fn first_column(header: &str) -> BTreeSet<String> {

@@ -3,8 +3,10 @@
 //! asymptotic-gain and Blackman checks in engine_checks.rs hold for any
 //! wiring; these do not.) Tolerances are a few times the measured error.
 
-mod common;
-use common::{assert_rel, closed_form_margin, fast, follower, open_loop, plain, unity_crossing};
+use crate::support::closed_forms::{
+    assert_rel, closed_form_margin, johnson, open_loop, unity_crossing,
+};
+use crate::support::stages::{fast, follower, plain};
 use loopwright::engine::Circuit;
 use loopwright::judge::evaluate;
 use loopwright::model::scenario::Scenario;
@@ -175,7 +177,7 @@ fn follower_with_a_real_feedback_resistor() {
     let c = Circuit::new(&n);
     let k = c.net.noise.iter().position(|x| x.key == "rf").unwrap();
     let got = c.eval(1e3).unwrap().noise_psd[k].sqrt();
-    assert_rel("rf noise", got, common::johnson(10e3, 25.0), 1e-8);
+    assert_rel("rf noise", got, johnson(10e3, 25.0), 1e-8);
 }
 
 /// The figures two scenarios should share exactly.

@@ -2,7 +2,8 @@
 //! so the text alone is asserted), driven by the same key handler as the
 //! terminal loop.
 
-mod common;
+use crate::support::closed_forms::{closed_form_margin, open_loop};
+use crate::support::stages::follower;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
@@ -372,7 +373,7 @@ fn example(name: &str) -> Scenario {
 #[test]
 fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     // The clipping example: ground is 2.1 V outside the negative rail's
-    // usable range (see tests/limits.rs), so the need passes the swing
+    // usable range (see tests/it/limits.rs), so the need passes the swing
     // ceiling inside the band.
     let mut a = app(vec![example("single_supply_inverter_clips")]);
     for _ in 0..3 {
@@ -453,10 +454,10 @@ fn response_view_states_the_three_gains() {
 #[test]
 fn margin_is_written_on_the_loop_view_only() {
     // Two-pole follower (β = 1): crossover and margin from the closed form
-    // |A(jf)| = 1, PM = 180° + arg A (tests/common, bisection).
-    let mut s = common::follower();
+    // |A(jf)| = 1, PM = 180° + arg A (tests/it/support/closed_forms.rs, bisection).
+    let mut s = follower();
     s.amp.fp2 = Some(2e6);
-    let (fc, pm) = common::closed_form_margin(|f| common::open_loop(&s, f));
+    let (fc, pm) = closed_form_margin(|f| open_loop(&s, f));
     let want = format!(
         "margin {pm:.0}° @ {}",
         loopwright::model::values::fmt_eng(fc, "Hz")

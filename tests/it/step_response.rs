@@ -2,9 +2,9 @@
 //! control and circuit texts), the definition of slew rate, the rails, and
 //! the frequency-domain engine (Laplace transform of the waveform).
 
-mod common;
+use crate::support::closed_forms::assert_rel;
+use crate::support::stages::{follower, plain};
 
-use common::{assert_rel, follower, plain};
 use loopwright::engine::analysis::Circuit;
 use loopwright::engine::analyze;
 use loopwright::engine::step::StepResponse;

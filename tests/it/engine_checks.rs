@@ -1,8 +1,9 @@
 //! The engine against closed-form textbook results, physical constants and
 //! facts of the trade. Every check value names where it comes from.
 
-mod common;
-use common::{assert_rel, follower, open_loop, plain, rel, unity_crossing};
+use crate::support::closed_forms::{assert_rel, open_loop, rel, unity_crossing};
+use crate::support::stages::{follower, plain};
+use crate::support::warnings::warning;
 use loopwright::engine::netlist::BOLTZMANN;
 use loopwright::engine::Circuit;
 use loopwright::judge::evaluate;
@@ -378,7 +379,7 @@ fn load_capacitance_cost_is_the_margin_it_takes() {
     assert!((pm - want).abs() < 1e-9, "{pm} vs {want}");
     assert!((without - want0).abs() < 1e-9, "{without} vs {want0}");
     // ≈ 30° taken: at or above the 20° threshold (README), a warning.
-    let w = common::warning(&s, "load-capacitance").unwrap();
+    let w = warning(&s, "load-capacitance").unwrap();
     assert!(want0 - want >= 20.0, "{}", want0 - want);
     assert_eq!(w.severity, loopwright::judge::Severity::Warning);
     for n in [want0 - want, want, want0] {
@@ -392,7 +393,7 @@ fn asymptotic_gain_formula_ties_gain_to_the_return_ratio() {
     // Asymptotic-gain model (Rosenstark; Middlebrook's feedback theorem),
     // exact for the return ratio T of one controlled source in ANY linear
     // network: this checks the return-ratio solve, not the wiring (a missing
-    // cf or a misplaced cin would still pass; tests/elements.rs checks those
+    // cf or a misplaced cin would still pass; tests/it/elements.rs checks those
     // against closed forms of the stage):
     //   H = H∞·T/(1 + T) + H0/(1 + T),
     // H∞ the gain with A → ∞, H0 the gain with A = 0. Checked on the demo

@@ -2,8 +2,7 @@
 //! IEC 60063:2015 (preferred number series for resistors and capacitors)
 //! and IEC 60062:2016 (marking codes: the RKM letter-and-digit code).
 
-mod common;
-use common::bin;
+use crate::support::cli::bin;
 use loopwright::model::values::{parse_non_negative, parse_positive, parse_value};
 use loopwright::model::Series;
 

@@ -1,8 +1,7 @@
 //! Saving and opening from the workbench, the archetype library, and the
 //! A/B comparison (workbench and `compare`).
 
-mod common;
-use common::bin;
+use crate::support::cli::{bin, temp_dir};
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::{archetypes, write_atomic, App};
@@ -46,7 +45,7 @@ fn save_as(a: &mut App, path: &Path) {
 
 #[test]
 fn save_as_adds_ron_and_the_file_reloads_equal() {
-    let d = common::temp_dir("saveas");
+    let d = temp_dir("saveas");
     let mut a = demo_app(None);
     a.on_key(key(KeyCode::Right)); // rf 10k -> 11k, now modified
     assert!(screen(&a).contains(" edited"));
@@ -69,7 +68,7 @@ fn save_as_adds_ron_and_the_file_reloads_equal() {
 
 #[test]
 fn failed_saves_keep_the_edits_and_the_old_file() {
-    let d = common::temp_dir("ro");
+    let d = temp_dir("ro");
     let path = d.join("stage.ron");
     let original = loopwright::files::load::demo().to_ron();
     std::fs::write(&path, &original).unwrap();
@@ -144,7 +143,7 @@ fn failed_saves_keep_the_edits_and_the_old_file() {
 
 #[test]
 fn saving_keeps_the_comment_at_the_top() {
-    let d = common::temp_dir("comment");
+    let d = temp_dir("comment");
     let path = d.join("c.ron");
     let src = std::fs::read_to_string(concat!(
         env!("CARGO_MANIFEST_DIR"),
@@ -174,7 +173,7 @@ fn saving_keeps_the_comment_at_the_top() {
 
 #[test]
 fn saving_over_a_file_leaves_a_complete_valid_file() {
-    let d = common::temp_dir("over");
+    let d = temp_dir("over");
     let path = d.join("s.ron");
     std::fs::write(&path, "(broken").unwrap();
     let mut s = loopwright::files::load::demo();
@@ -190,7 +189,7 @@ fn saving_over_a_file_leaves_a_complete_valid_file() {
 
 #[test]
 fn broken_files_report_position_and_keep_the_open_scenario() {
-    let d = common::temp_dir("broken");
+    let d = temp_dir("broken");
     let good = loopwright::files::load::DEMO_RON;
     let cases = [
         ("cut.ron", good[..good.len() / 2].to_string()),
@@ -296,7 +295,7 @@ fn archetypes_are_valid_and_a_key_applies_them() {
     a.on_key(key(KeyCode::Down));
     a.on_key(key(KeyCode::Esc));
     assert_eq!(a.slot().scenario.amp, list[1].amp);
-    // (Stepping an archetype's gbw along 1-2-5: tests/workbench_keys.rs.)
+    // (Stepping an archetype's gbw along 1-2-5: tests/it/workbench_keys.rs.)
 }
 
 #[test]
@@ -391,7 +390,7 @@ fn opening_two_files_and_compare_command() {
 
 #[test]
 fn save_as_over_an_existing_file_asks_first() {
-    let d = common::temp_dir("ask-over");
+    let d = temp_dir("ask-over");
     let other = d.join("other.ron");
     std::fs::write(&other, "// someone else's stage\n").unwrap();
     let mut a = demo_app(None);
@@ -413,7 +412,7 @@ fn save_as_over_an_existing_file_asks_first() {
 
 #[test]
 fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
-    let d = common::temp_dir("ask-changed");
+    let d = temp_dir("ask-changed");
     let p = d.join("s.ron");
     std::fs::write(&p, loopwright::files::load::DEMO_RON).unwrap();
     let mut a = App::new(
@@ -446,7 +445,7 @@ fn a_file_changed_on_disk_since_loading_is_not_overwritten_silently() {
 
 #[test]
 fn a_save_that_would_drop_comments_asks_first() {
-    let d = common::temp_dir("ask-comments");
+    let d = temp_dir("ask-comments");
     let p = d.join("s.ron");
     let text = loopwright::files::load::DEMO_RON.replace("riso: 0.0,", "riso: 0.0, /* keep */");
     std::fs::write(&p, &text).unwrap();
@@ -482,7 +481,7 @@ fn a_save_that_would_drop_comments_asks_first() {
 
 #[test]
 fn opening_a_fifo_in_the_workbench_is_refused_without_blocking() {
-    let d = common::temp_dir("open-fifo");
+    let d = temp_dir("open-fifo");
     let p = d.join("p.ron");
     assert!(std::process::Command::new("mkfifo")
         .arg(&p)

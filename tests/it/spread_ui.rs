@@ -2,8 +2,7 @@
 //! with the spec limits and the yield, results dropped when the stage
 //! changes; the `spec` warning in the strip.
 
-mod common;
-use common::{key, screen_at};
+use crate::support::keys::{key, screen_at};
 use crossterm::event::KeyCode;
 use loopwright::judge::evaluate;
 use loopwright::model::scenario::Scenario;

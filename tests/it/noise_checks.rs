@@ -3,8 +3,9 @@
 //! the riso/load divider. Each check value names its source; tolerances are
 //! a few times the error the engine really shows (measured, noted beside).
 
-mod common;
-use common::{assert_rel, fast, follower, johnson, noise_transfer, plain};
+use crate::support::cli::{stdout_of, temp_dir};
+use crate::support::closed_forms::{assert_rel, johnson, noise_transfer};
+use crate::support::stages::{fast, follower, in_range, plain};
 use loopwright::engine::Circuit;
 use loopwright::judge::evaluate;
 use loopwright::model::scenario::Scenario;
@@ -227,10 +228,10 @@ fn density_at_dc_with_and_without_a_corner() {
     let pink = Circuit::new(&s);
     assert!(!pink.eval(0.0).unwrap().noise_density().is_finite());
     // The report gives null there.
-    let dir = common::temp_dir("noise-dc");
+    let dir = temp_dir("noise-dc");
     let file = dir.join("s.ron");
-    std::fs::write(&file, common::in_range(s).to_ron()).unwrap();
-    let out = common::stdout_of(&["report", file.to_str().unwrap(), "--json", "--at", "0"]);
+    std::fs::write(&file, in_range(s).to_ron()).unwrap();
+    let out = stdout_of(&["report", file.to_str().unwrap(), "--json", "--at", "0"]);
     let v: serde_json::Value = serde_json::from_str(&out).unwrap();
     assert!(
         v["points"][0]["noise_density"].is_null(),

@@ -1,8 +1,8 @@
 //! `loopwright sweep`: the header, every row read by a CSV reader, values
 //! equal to `report --at`, the JSON columns, and refused input.
 
-mod common;
-use common::{bin, stdout_of, temp_dir};
+use crate::support::cli::{bin, stdout_of, temp_dir};
+use crate::support::stages::{follower, in_range, CLOSED_FORM_RON};
 use serde_json::Value;
 
 /// The header the README and the issue give, exactly.
@@ -115,7 +115,7 @@ fn a_grid_against_closed_forms_and_json_columns() {
     // feedback network, no load), and Zin open.
     let dir = temp_dir("sweep-closed");
     let path = dir.join("closed.ron");
-    std::fs::write(&path, common::CLOSED_FORM_RON).unwrap();
+    std::fs::write(&path, CLOSED_FORM_RON).unwrap();
     let p = path.to_str().unwrap();
     let text = stdout_of(&["sweep", p, "--from", "1k", "--to", "100k", "--ppd", "1"]);
     let (_, rows) = read_csv(&text);
@@ -195,7 +195,7 @@ fn bad_input_is_refused_with_a_message() {
 #[test]
 fn step_waveform_as_csv_and_json() {
     let dir = temp_dir("sweep-step");
-    let mut s = common::in_range(common::follower());
+    let mut s = in_range(follower());
     s.step = Some(loopwright::model::scenario::Step { size: 1.0 });
     let file = dir.join("follower.ron");
     std::fs::write(&file, s.to_ron()).unwrap();

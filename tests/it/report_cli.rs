@@ -1,7 +1,7 @@
 //! The headless `report` command: JSON keys, units, nulls and phases.
 
-mod common;
-use common::{bin, temp_dir};
+use crate::support::cli::{bin, temp_dir};
+use crate::support::stages::CLOSED_FORM_RON;
 use serde_json::Value;
 
 fn json(args: &[&str]) -> Value {
@@ -120,7 +120,7 @@ fn point_values_match_closed_forms() {
     //   gain = (1 + rf/rg)/(1 + 1/(Aβ))                  (finite-gain loop)
     //   1/Zout = 1/(rf + rg) + 1/ro + A·rg/(ro·(rg + rf)) (KCL at the output)
     //   noise² = (en·NG)² + 4kT·rg·(rf/rg)² + 4kT·rf     (textbook, NG = 10)
-    let (dir, path) = scenario_file("closed", common::CLOSED_FORM_RON);
+    let (dir, path) = scenario_file("closed", CLOSED_FORM_RON);
     let v = json(&["report", path.to_str().unwrap(), "--json", "--at", "1k"]);
     let p = &v["points"][0];
     let one = num_complex::Complex64::new(1.0, 0.0);
@@ -161,7 +161,7 @@ fn pin_impedance_point_leaves_out_the_isolation_resistor() {
     //   1/Zout_pin = 1/(rf + rg) + (1 + A·β)/ro,
     // and at the load terminal (load removed) riso is in series:
     //   Zout = riso + Zout_pin (series resistances, no current elsewhere).
-    let text = common::CLOSED_FORM_RON
+    let text = CLOSED_FORM_RON
         .replace("tolerance: 0.01)", "tolerance: 0.01, riso: 100.0)")
         .replace("load: ()", "load: (r: 1000.0)");
     let (dir, path) = scenario_file("pinz", &text);

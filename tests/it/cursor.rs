@@ -2,8 +2,8 @@
 //! its readout equals `report --at` at the same frequency (an independent
 //! path: the command line's JSON), for A and B.
 
-mod common;
-use common::{key, press, screen_at, stdout_of, type_text};
+use crate::support::cli::stdout_of;
+use crate::support::keys::{key, press, screen_at, type_text};
 use crossterm::event::KeyCode;
 use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;

@@ -2,8 +2,8 @@
 //! keys sent, the screen read back. Skipped (with a printed reason) where
 //! tmux is not installed, except under CI, where that fails.
 
-mod common;
-use common::tmux::{assert_restored, start, start_with, tmux, wait_for};
+use crate::support::cli::temp_dir;
+use crate::support::tmux::{assert_restored, start, start_in, start_with, tmux, wait_for};
 
 #[test]
 fn step_a_resistor_and_quit_in_a_real_terminal() {
@@ -110,7 +110,7 @@ fn terminal_is_restored_after_a_panic() {
 
 /// A scratch folder holding a copy of the demo as `s.ron`.
 fn folder_with_demo(name: &str) -> std::path::PathBuf {
-    let d = common::temp_dir(name);
+    let d = temp_dir(name);
     std::fs::write(d.join("s.ron"), loopwright::files::load::DEMO_RON).unwrap();
     d
 }
@@ -119,7 +119,7 @@ fn folder_with_demo(name: &str) -> std::path::PathBuf {
 /// and the rescue file.
 fn signal_restores_and_rescues(name: &str, signal: &str, code: i32) {
     let d = folder_with_demo(name);
-    let Some(s) = common::tmux::start_in(name, &d, "", "s.ron") else {
+    let Some(s) = start_in(name, &d, "", "s.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
@@ -157,8 +157,7 @@ fn sighup_restores_the_terminal_and_rescues_edits() {
 #[test]
 fn a_panic_leaves_a_rescue_file() {
     let d = folder_with_demo("lw_e2e_rescue");
-    let Some(s) = common::tmux::start_in("lw_e2e_rescue", &d, "LOOPWRIGHT_TEST_PANIC=1", "s.ron")
-    else {
+    let Some(s) = start_in("lw_e2e_rescue", &d, "LOOPWRIGHT_TEST_PANIC=1", "s.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
@@ -184,7 +183,7 @@ fn a_panic_leaves_a_rescue_file() {
 fn save_as_over_an_existing_file_asks_in_a_real_terminal() {
     let d = folder_with_demo("lw_e2e_saveas");
     std::fs::write(d.join("b.ron"), "// keep me\n").unwrap();
-    let Some(s) = common::tmux::start_in("lw_e2e_saveas", &d, "", "s.ron") else {
+    let Some(s) = start_in("lw_e2e_saveas", &d, "", "s.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
@@ -212,7 +211,7 @@ fn save_as_over_an_existing_file_asks_in_a_real_terminal() {
 #[test]
 fn external_change_before_save_asks_in_a_real_terminal() {
     let d = folder_with_demo("lw_e2e_changed");
-    let Some(s) = common::tmux::start_in("lw_e2e_changed", &d, "", "s.ron") else {
+    let Some(s) = start_in("lw_e2e_changed", &d, "", "s.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
@@ -273,7 +272,7 @@ fn two_files_on_the_command_line() {
 #[test]
 fn stepping_band_from_to_its_end_cannot_crash() {
     let d = folder_with_demo("lw_e2e_band");
-    let Some(s) = common::tmux::start_in("lw_e2e_band", &d, "", "s.ron") else {
+    let Some(s) = start_in("lw_e2e_band", &d, "", "s.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
@@ -307,7 +306,7 @@ fn saving_through_links_keeps_them_and_the_mode() {
     let (real, link, hard) = (d.join("s.ron"), d.join("via.ron"), d.join("other.ron"));
     std::os::unix::fs::symlink(&real, &link).unwrap();
     std::fs::set_permissions(&real, std::fs::Permissions::from_mode(0o600)).unwrap();
-    let Some(s) = common::tmux::start_in("lw_e2e_links", &d, "", "via.ron") else {
+    let Some(s) = start_in("lw_e2e_links", &d, "", "via.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
@@ -348,7 +347,7 @@ fn closing_the_terminal_ends_the_program_and_rescues_edits() {
     // drops) sends SIGHUP and leaves end-of-file on the input: the program
     // must not outlive it, and the unsaved edit is rescued.
     let d = folder_with_demo("lw_e2e_gone");
-    let Some(s) = common::tmux::start_in("lw_e2e_gone", &d, "", "s.ron") else {
+    let Some(s) = start_in("lw_e2e_gone", &d, "", "s.ron") else {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");

@@ -1,8 +1,9 @@
 //! The workbench's keys, driven through `App::on_key` and checked through
 //! the slots' scenarios and the drawn screen (TestBackend, mono theme).
 
-mod common;
-use common::{key, press, screen_at, type_text};
+use crate::support::cli::temp_dir;
+use crate::support::keys::{key, press, screen_at, type_text};
+use crate::support::warnings::warnings_of;
 use crossterm::event::KeyCode;
 use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
@@ -124,7 +125,7 @@ fn typing_none_removes_an_optional_part() {
 
 #[test]
 fn save_asks_for_a_path_when_there_is_none() {
-    let d = common::temp_dir("savepath");
+    let d = temp_dir("savepath");
     let mut a = demo_app();
     a.on_key(key(KeyCode::Right));
     a.on_key(key(KeyCode::Char('s')));
@@ -144,7 +145,7 @@ fn warnings_scroll() {
         "/scenarios/buffer_rings_10n.ron"
     );
     let s = Scenario::load(std::path::Path::new(p)).unwrap();
-    let n = common::warnings_of(&s).len();
+    let n = warnings_of(&s).len();
     assert!(n >= 3, "{n} warnings");
     let mut a = App::new(vec![(s, None)], Theme::new(false, false));
     let first = screen_at(&a, 80, 24);
@@ -202,7 +203,7 @@ fn two_files_open_side_by_side() {
 
 #[test]
 fn p_writes_the_plot_view_beside_the_file() {
-    let dir = common::temp_dir("key-p");
+    let dir = temp_dir("key-p");
     let path = dir.join("stage.ron");
     std::fs::write(&path, loopwright::files::load::DEMO_RON).unwrap();
     let s = Scenario::load(&path).unwrap();
@@ -275,7 +276,7 @@ fn control_keys_clear_delete_a_word_and_are_never_typed() {
 
 #[test]
 fn save_as_typed_over_the_offered_path_replaces_it() {
-    let d = common::temp_dir("saveas-replace");
+    let d = temp_dir("saveas-replace");
     let old = d.join("old.ron");
     std::fs::write(&old, loopwright::files::load::DEMO_RON).unwrap();
     let s = Scenario::load(&old).unwrap();

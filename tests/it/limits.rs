@@ -2,20 +2,20 @@
 //! textbook DC-error expression, full-power bandwidth, the current into a
 //! capacitor, voltage dividers. Sources are named beside each check value.
 
-mod common;
+use crate::support::closed_forms::assert_rel;
+use crate::support::stages::{self, in_range};
 
-use common::{assert_rel, in_range};
 use loopwright::model::scenario::{Scenario, Supply};
 
 /// The shared test stages with ro inside its accepted range (10 mΩ): the
 /// current through ro is read as a voltage difference over ro, which a
 /// 1 µΩ ro would drown in rounding.
 fn plain(t: Topology, rg: f64, rf: f64) -> Scenario {
-    in_range(common::plain(t, rg, rf))
+    in_range(stages::plain(t, rg, rf))
 }
 
 fn follower() -> Scenario {
-    in_range(common::follower())
+    in_range(stages::follower())
 }
 use loopwright::judge::evaluate;
 use loopwright::judge::Evaluation;

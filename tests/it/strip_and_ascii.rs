@@ -2,8 +2,7 @@
 //! B, worst first) and the ASCII look (the differs mark and the severity
 //! symbols stay apart from trace A's `*`).
 
-mod common;
-use common::{key, screen_at};
+use crate::support::keys::{key, screen_at};
 use crossterm::event::KeyCode;
 use loopwright::judge::evaluate;
 use loopwright::judge::Severity;

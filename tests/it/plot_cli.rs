@@ -2,8 +2,7 @@
 //! size asked for, the marks, monochrome, and refused input with no file
 //! left behind.
 
-mod common;
-use common::{bin, temp_dir};
+use crate::support::cli::{bin, temp_dir};
 use std::path::{Path, PathBuf};
 
 fn scenario(name: &str) -> String {

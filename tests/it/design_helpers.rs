@@ -3,8 +3,10 @@
 //! Johnson–Nyquist formula with the SI 2019 Boltzmann constant, and the
 //! engine's own solve of each modified stage.
 
-mod common;
-use common::{bin, key, press, screen_at, stdout_of, type_text};
+use crate::support::cli::{bin, stdout_of};
+use crate::support::closed_forms::assert_rel;
+use crate::support::keys::{key, press, screen_at, type_text};
+use crate::support::stages::{in_range, plain};
 use crossterm::event::KeyCode;
 use loopwright::engine::analyze;
 use loopwright::model::Scenario;
@@ -24,7 +26,7 @@ const T_25C: f64 = 298.15;
 
 /// Every value of `series` from lo to hi, built decade by decade from the
 /// one-decade table (the tables are checked against IEC 60063 in
-/// tests/standards.rs).
+/// tests/it/standards.rs).
 fn series_values(series: Series, lo: f64, hi: f64) -> Vec<f64> {
     let scale = if series.digits() == 2 { 10.0 } else { 100.0 };
     let mut out = Vec::new();
@@ -174,7 +176,7 @@ fn pairs_json_for_gain_11_starts_with_the_exact_lowest_noise_pair() {
     assert_eq!(first["gain"], 11.0);
     assert_eq!(first["load_ohm"], 11e3, "rf + rg");
     let noise = first["noise_density"].as_f64().unwrap();
-    common::assert_rel("noise 1k/10k", noise, pair_noise(1e3, 10e3), 1e-12);
+    assert_rel("noise 1k/10k", noise, pair_noise(1e3, 10e3), 1e-12);
     let mut last = 0.0;
     for r in rows {
         assert_eq!(r["error"], 0.0);
@@ -210,7 +212,7 @@ fn thermal_noise_of_one_kilohm_and_the_inverting_load() {
     );
     assert_eq!(first["load_ohm"], 1e3);
     let n = first["noise_density"].as_f64().unwrap();
-    common::assert_rel("inverting 1k/1k", n, 2f64.sqrt() * one_k, 1e-12);
+    assert_rel("inverting 1k/1k", n, 2f64.sqrt() * one_k, 1e-12);
 }
 
 #[test]
@@ -527,12 +529,12 @@ fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
     // a0 = 10 around β = rg/(rg + rf) = 1/101: T(0) = a0·β ≈ 0.099 (the
     // textbook loop gain Aβ), and a single pole only lowers it, so |T|
     // never reaches 1 and there is no crossover to read a margin at.
-    let mut s = common::in_range(common::plain(Topology::NonInverting, 1e3, 100e3));
+    let mut s = in_range(plain(Topology::NonInverting, 1e3, 100e3));
     s.amp.a0 = 10.0;
     s.amp.gbw = 1e3;
     let a = analyze(&s);
     assert!(a.phase_margin_deg.is_none());
-    common::assert_rel("T(0)", a.loop_gain_dc, 10.0 / 101.0, 1e-3);
+    assert_rel("T(0)", a.loop_gain_dc, 10.0 / 101.0, 1e-3);
     assert!(stabilize::meets(&a, 89.0));
     let o = stabilize::options(&s, 60.0).unwrap();
     assert!(o.already_met && o.margin_now.is_none(), "{o:?}");

@@ -2,7 +2,7 @@
 //! few thousand random byte edits. Never a panic; always either a valid
 //! scenario or an error that says where (line and column).
 
-mod common;
+use crate::support::cli::temp_dir;
 use loopwright::model::Scenario;
 use std::path::PathBuf;
 
@@ -70,7 +70,7 @@ fn random_byte_edits_of_the_shipped_files() {
     // a stray continuation byte and an invalid lead byte.
     const BYTES: &[u8] = b"(),:\"-.e0159 \n\r/*_\x80\xc3\xff";
     let files = shipped();
-    let dir = common::temp_dir("mutate");
+    let dir = temp_dir("mutate");
     let path = dir.join("m.ron");
     let mut rng = Lcg(2026);
     for case in 0..3000 {

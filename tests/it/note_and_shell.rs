@@ -1,9 +1,8 @@
 //! `report --md` (the design note and its figures), `completions` and
 //! `manual`.
 
-mod common;
+use crate::support::cli::{bin, stdout_of, temp_dir};
 use clap::CommandFactory;
-use common::{bin, stdout_of, temp_dir};
 use loopwright::commands::Cli;
 use loopwright::judge::figures::FIGURES;
 
@@ -186,12 +185,7 @@ fn note_holds_the_spec_and_its_yield() {
         let md = unescaped(&stdout_of(&["report", &p, "--md"]));
         assert!(md.contains("## Spec over the tolerances"), "{md}");
         assert!(md.contains("| `pm_min_deg` |"), "{md}");
-        let code = common::bin()
-            .args(["check", &p])
-            .output()
-            .unwrap()
-            .status
-            .code();
+        let code = bin().args(["check", &p]).output().unwrap().status.code();
         assert_eq!(code == Some(0), passes);
         let verdict = if passes {
             "the stage meets its spec"

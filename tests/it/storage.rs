@@ -1,7 +1,7 @@
 //! Saving: links, permissions, line endings, comments and stale temporary
 //! files (src/storage.rs).
 
-mod common;
+use crate::support::cli::temp_dir;
 use loopwright::files::storage::{render, write_atomic, Original};
 use loopwright::model::scenario::Scenario;
 use std::os::unix::fs::{MetadataExt, PermissionsExt};
@@ -12,7 +12,7 @@ fn demo_text() -> String {
 
 #[test]
 fn saving_through_a_symlink_writes_its_target() {
-    let d = common::temp_dir("st-symlink");
+    let d = temp_dir("st-symlink");
     let real = d.join("real.ron");
     let link = d.join("link.ron");
     std::fs::write(&real, demo_text()).unwrap();
@@ -32,7 +32,7 @@ fn saving_through_a_symlink_writes_its_target() {
 
 #[test]
 fn a_hard_linked_file_is_written_in_place_after_a_backup() {
-    let d = common::temp_dir("st-hard");
+    let d = temp_dir("st-hard");
     let a = d.join("a.ron");
     let b = d.join("b.ron");
     std::fs::write(&a, "old\n").unwrap();
@@ -55,7 +55,7 @@ fn a_hard_linked_file_is_written_in_place_after_a_backup() {
 
 #[test]
 fn the_file_mode_is_kept() {
-    let d = common::temp_dir("st-mode");
+    let d = temp_dir("st-mode");
     let p = d.join("s.ron");
     std::fs::write(&p, "old\n").unwrap();
     std::fs::set_permissions(&p, std::fs::Permissions::from_mode(0o600)).unwrap();
@@ -67,7 +67,7 @@ fn the_file_mode_is_kept() {
 
 #[test]
 fn stale_temporary_files_are_removed_on_the_next_save() {
-    let d = common::temp_dir("st-stale");
+    let d = temp_dir("st-stale");
     let p = d.join("s.ron");
     std::fs::write(&p, "old\n").unwrap();
     // PIDs above the Linux maximum (2^22, proc(5) pid_max) are never alive.
@@ -103,7 +103,7 @@ fn crlf_files_stay_crlf_and_end_with_a_newline() {
     assert!(!r.text.replace("\r\n", "").contains('\n'), "no bare LF");
     assert_eq!(Scenario::from_ron(&r.text, None).unwrap(), s);
     // Round trip through a file.
-    let d = common::temp_dir("st-crlf");
+    let d = temp_dir("st-crlf");
     let p = d.join("s.ron");
     write_atomic(&p, &r.text).unwrap();
     assert_eq!(Scenario::load(&p).unwrap(), s);

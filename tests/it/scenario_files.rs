@@ -1,8 +1,7 @@
 //! The scenario file format: the documented shape loads, saves and reloads
 //! unchanged; bad files fail with the field, line and column.
 
-mod common;
-use common::bin;
+use crate::support::cli::{bin, temp_dir};
 use loopwright::files::load::DEMO_RON;
 use loopwright::judge::evaluate;
 use loopwright::model::scenario::Scenario;
@@ -213,7 +212,7 @@ fn every_library_scenario_loads_analyses_and_round_trips() {
 
 #[test]
 fn bad_file_in_the_cli_fails_cleanly() {
-    let dir = common::temp_dir("bad");
+    let dir = temp_dir("bad");
     let path = dir.join("bad.ron");
     std::fs::write(&path, DOC_EXAMPLE.replace("rg: 1000.0", "rg: -1.0")).unwrap();
     let out = bin().arg("report").arg(&path).output().unwrap();

@@ -3,17 +3,18 @@
 //! Thresholds are the common-practice ones in the README's warnings table;
 //! the figures they act on come from closed forms computed here.
 
-mod common;
-use common::{closed_form_margin, fast, in_range, open_loop, warning, warnings_of};
+use crate::support::closed_forms::{closed_form_margin, johnson, open_loop};
+use crate::support::stages::{self, fast, in_range};
+use crate::support::warnings::{warning, warnings_of};
 use loopwright::model::Scenario;
 
 /// The shared test stages, with ro inside its accepted range.
 fn plain(t: Topology, rg: f64, rf: f64) -> Scenario {
-    in_range(common::plain(t, rg, rf))
+    in_range(stages::plain(t, rg, rf))
 }
 
 fn follower() -> Scenario {
-    in_range(common::follower())
+    in_range(stages::follower())
 }
 use loopwright::judge::evaluate;
 use loopwright::judge::Severity;
@@ -100,7 +101,7 @@ fn resistor_noise_share_at_the_threshold() {
     // 8kTR/(8kTR + 4en²), and en² = 8kTR·(1 − share)/(4·share) sets it.
     // 48 % and 52 % straddle the README's 50 % threshold.
     let r = 10e3;
-    let x = 2.0 * common::johnson(r, 25.0).powi(2);
+    let x = 2.0 * johnson(r, 25.0).powi(2);
     for share in [0.48, 0.52] {
         let mut s = fast(plain(Topology::Inverting, r, r));
         s.amp.vnoise = (x * (1.0 - share) / (4.0 * share)).sqrt();

@@ -3,9 +3,10 @@
 //! distributions, the quantile definition, determinism across thread
 //! counts, and the `spread`/`check` commands.
 
-mod common;
+use crate::support::cli::{bin, temp_dir};
+use crate::support::closed_forms::assert_rel;
+use crate::support::stages::{in_range, plain};
 
-use common::{bin, in_range, plain, temp_dir};
 use loopwright::engine::analysis::{analyze_to, FULL, TRIAL};
 use loopwright::judge::Evaluation;
 use loopwright::model::scenario::{Dist, Spec, Spread};
@@ -65,8 +66,8 @@ fn corner_extremes_of_the_gain() {
     let f = r.figure("dc_gain").unwrap();
     let g_max = 1.0 + 10.0e3 * (1.0 + t) / (1.0e3 * (1.0 - t));
     let g_min = 1.0 + 10.0e3 * (1.0 - t) / (1.0e3 * (1.0 + t));
-    common::assert_rel("G_max", f.corner_max.unwrap(), g_max, 1e-5);
-    common::assert_rel("G_min", f.corner_min.unwrap(), g_min, 1e-5);
+    assert_rel("G_max", f.corner_max.unwrap(), g_max, 1e-5);
+    assert_rel("G_min", f.corner_min.unwrap(), g_min, 1e-5);
     // ... at rf high, rg low and the other way round.
     let at = |c: &[(&str, f64)], field: &str| c.iter().find(|x| x.0 == field).unwrap().1;
     assert_eq!(at(&f.corner_max_at, "stage.rf"), 10.0e3 * (1.0 + t));
