@@ -91,13 +91,6 @@ impl SpreadJob {
     pub fn done(&self) -> usize {
         self.done.load(Ordering::Relaxed)
     }
-
-    /// Block until the running job has finished (for tests and scripts).
-    pub fn wait(&mut self) {
-        if let Some(r) = self.rx.take().and_then(|rx| rx.recv().ok()) {
-            self.result = Some(r);
-        }
-    }
 }
 
 impl Drop for SpreadJob {

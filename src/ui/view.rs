@@ -1428,15 +1428,3 @@ fn choose_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, c: &
     };
     list_overlay(app, area, buf, list);
 }
-
-/// A plain-text snapshot of a buffer, one string per row (for tests).
-pub fn buffer_text(buf: &ratatui::buffer::Buffer) -> Vec<String> {
-    let a = buf.area;
-    (a.y..a.y + a.height)
-        .map(|y| {
-            (a.x..a.x + a.width)
-                .map(|x| buf[(x, y)].symbol().to_string())
-                .collect::<String>()
-        })
-        .collect()
-}

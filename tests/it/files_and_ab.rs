@@ -2,11 +2,12 @@
 //! A/B comparison (workbench and `compare`).
 
 use crate::support::cli::{bin, temp_dir};
+use crate::support::screen::buffer_text;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::{archetypes, write_atomic, App};
 use loopwright::ui::theme::Theme;
-use loopwright::ui::view::{buffer_text, draw};
+use loopwright::ui::view::draw;
 use ratatui::backend::TestBackend;
 use ratatui::Terminal;
 use std::path::{Path, PathBuf};

@@ -103,7 +103,7 @@ fn trace_cells_kept(bare: &Buffer, full: &Buffer) -> Vec<String> {
 }
 
 fn text(buf: &Buffer) -> String {
-    loopwright::ui::view::buffer_text(buf).join("\n")
+    crate::support::screen::buffer_text(buf).join("\n")
 }
 
 #[test]

@@ -3,12 +3,13 @@
 //! terminal loop.
 
 use crate::support::closed_forms::{closed_form_margin, open_loop};
+use crate::support::screen::buffer_text;
 use crate::support::stages::follower;
 use crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
 use loopwright::model::scenario::Scenario;
 use loopwright::ui::app::App;
 use loopwright::ui::theme::Theme;
-use loopwright::ui::view::{buffer_text, draw};
+use loopwright::ui::view::draw;
 use ratatui::backend::TestBackend;
 use ratatui::Terminal;
 

@@ -24,5 +24,5 @@ pub fn press(a: &mut loopwright::ui::app::App, c: crossterm::event::KeyCode, n: 
 pub fn screen_at(app: &loopwright::ui::app::App, w: u16, h: u16) -> String {
     let mut t = ratatui::Terminal::new(ratatui::backend::TestBackend::new(w, h)).unwrap();
     t.draw(|f| loopwright::ui::view::draw(f, app)).unwrap();
-    loopwright::ui::view::buffer_text(t.backend().buffer()).join("\n")
+    crate::support::screen::buffer_text(t.backend().buffer()).join("\n")
 }
