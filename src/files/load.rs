@@ -240,7 +240,9 @@ pub fn field_positions(text: &str) -> Vec<FieldPos> {
     let mut cur = Cursor::new(text);
     let mut out = Vec::new();
     let mut depth = 0usize;
-    let mut names: Vec<String> = Vec::new();
+    // Each name with the nesting depth it stands at: `supply: Some((neg: …,
+    // pos: …))` puts `pos` beside `neg`, not inside it.
+    let mut names: Vec<(usize, String)> = Vec::new();
     while let Some(c) = cur.peek(0) {
         let next = cur.peek(1);
         if c == '/' && next == Some('/') {
@@ -253,10 +255,11 @@ pub fn field_positions(text: &str) -> Vec<FieldPos> {
             let (offset, line, col) = (cur.offset(), cur.line, cur.col);
             let ident = cur.ident();
             if let Some(value_offset) = cur.colon_after() {
-                names.truncate(depth.max(1) - 1);
-                names.push(ident);
+                names.retain(|(d, _)| *d < depth);
+                names.push((depth, ident));
+                let path: Vec<&str> = names.iter().map(|(_, n)| n.as_str()).collect();
                 out.push(FieldPos {
-                    path: names.join("."),
+                    path: path.join("."),
                     line,
                     col,
                     offset,
@@ -268,7 +271,7 @@ pub fn field_positions(text: &str) -> Vec<FieldPos> {
                 '(' | '[' | '{' => depth += 1,
                 ')' | ']' | '}' => {
                     depth = depth.saturating_sub(1);
-                    names.truncate(depth);
+                    names.retain(|(d, _)| *d <= depth);
                 }
                 _ => {}
             }

@@ -6,6 +6,7 @@
 
 use crate::files::filetext;
 use crate::files::load::{field_positions, FieldPos};
+use crate::model::params::PARAMS;
 use crate::model::scenario::Scenario;
 use atomic_write_file::AtomicWriteFile;
 use std::io::{self, Write};
@@ -167,17 +168,6 @@ fn with_final_newline(mut text: String, eol: &str) -> String {
     text
 }
 
-/// Fields that hold a value (no fields inside them).
-fn leaves(fields: &[FieldPos]) -> Vec<&FieldPos> {
-    fields
-        .iter()
-        .filter(|f| {
-            let inner = format!("{}.", f.path);
-            !fields.iter().any(|g| g.path.starts_with(&inner))
-        })
-        .collect()
-}
-
 /// Byte range of the value that starts at or after `off`: a string, a
 /// bracketed tuple, or a bare token.
 fn value_span(text: &str, off: usize) -> (usize, usize) {
@@ -241,39 +231,244 @@ fn same_value(a: &str, b: &str) -> bool {
         })
 }
 
-/// The original text with only the changed values replaced, when the same
-/// fields are present (a missing `version` may stay missing).
-fn patch(body: &str, s: &Scenario) -> Option<String> {
-    let new = s.to_ron();
-    let (fo, fnew) = (field_positions(body), field_positions(&new));
-    let old_leaves = leaves(&fo);
-    let has_version = old_leaves.iter().any(|f| f.path == "version");
-    let new_leaves: Vec<&FieldPos> = leaves(&fnew)
-        .into_iter()
-        .filter(|f| has_version || f.path != "version")
-        .collect();
-    let names = |v: &[&FieldPos]| {
-        let mut n: Vec<String> = v.iter().map(|f| f.path.clone()).collect();
-        n.sort();
-        n
+/// The file's field paths whose values differ between two scenarios (a
+/// tuple such as `band` is one field).
+fn changed_fields(a: &Scenario, b: &Scenario) -> Vec<&'static str> {
+    let mut out = Vec::new();
+    let mut push = |p: &'static str| {
+        if !out.contains(&p) {
+            out.push(p);
+        }
     };
-    let old_names = names(&old_leaves);
-    if old_names != names(&new_leaves) || old_names.windows(2).any(|w| w[0] == w[1]) {
-        return None;
+    if a.version != b.version {
+        push("version");
     }
-    let mut edits: Vec<(usize, usize, &str)> = Vec::new();
-    for f in &old_leaves {
-        let g = new_leaves.iter().find(|g| g.path == f.path)?;
-        let (a0, a1) = value_span(body, f.value_offset);
-        let (b0, b1) = value_span(&new, g.value_offset);
-        if !same_value(&body[a0..a1], &new[b0..b1]) {
-            edits.push((a0, a1, &new[b0..b1]));
+    if a.title != b.title {
+        push("title");
+    }
+    if a.notes != b.notes {
+        push("notes");
+    }
+    for p in PARAMS.iter() {
+        if p.raw(a) != p.raw(b) || p.value_text(a) != p.value_text(b) {
+            push(p.path.split_once(".from").map_or(p.path, |_| "band"));
         }
     }
-    edits.sort_by_key(|e| std::cmp::Reverse(e.0));
+    if a.band != b.band {
+        push("band");
+    }
+    out
+}
+
+/// One edit of the original text: replace `range` with `text`.
+struct Edit {
+    at: (usize, usize),
+    text: String,
+}
+
+/// The parent of a dotted path ("" at the top).
+fn parent(path: &str) -> &str {
+    path.rsplit_once('.').map_or("", |p| p.0)
+}
+
+/// The last name of a dotted path.
+fn name(path: &str) -> &str {
+    path.rsplit_once('.').map_or(path, |p| p.1)
+}
+
+/// The rest of the line after `at`, without a `//` comment.
+fn rest_of_line(text: &str, at: usize) -> &str {
+    let line = &text[at..text[at..].find('\n').map_or(text.len(), |k| at + k)];
+    line.split("//").next().unwrap_or("")
+}
+
+/// Start of the line holding `at`, and its indentation.
+fn line_start(text: &str, at: usize) -> (usize, &str) {
+    let start = text[..at].rfind('\n').map_or(0, |k| k + 1);
+    let indent_len = text[start..]
+        .find(|c: char| c != ' ' && c != '\t')
+        .unwrap_or(0);
+    (start, &text[start..start + indent_len])
+}
+
+/// After the end of the line holding `at` (past its line ending).
+fn next_line(text: &str, at: usize) -> usize {
+    text[at..].find('\n').map_or(text.len(), |k| at + k + 1)
+}
+
+/// A value written by the serializer, on one line: a block's fields joined
+/// with ", " and no trailing comma.
+fn one_line(value: &str) -> String {
+    let joined: Vec<&str> = value.lines().map(str::trim).collect();
+    joined
+        .join(" ")
+        .replace("( ", "(")
+        .replace(", )", ")")
+        .replace(",)", ")")
+}
+
+/// Insert `field: value` into the original's block of `path`'s parent, next
+/// to the sibling before it in the serializer's order, in the block's style.
+fn insert(body: &str, fo: &[FieldPos], new: &str, fnew: &[FieldPos], path: &str) -> Option<Edit> {
+    let g = fnew.iter().position(|f| f.path == path)?;
+    let (v0, v1) = value_span(new, fnew[g].value_offset);
+    let field = format!("{}: {}", name(path), one_line(&new[v0..v1]));
+    let siblings = |f: &&FieldPos| parent(&f.path) == parent(path) && f.path != path;
+    let before = fnew[..g]
+        .iter()
+        .filter(siblings)
+        .rev()
+        .find_map(|f| fo.iter().find(|o| o.path == f.path));
+    let eol = if body.contains("\r\n") { "\r\n" } else { "\n" };
+    if let Some(s) = before {
+        let end = value_span(body, s.value_offset).1;
+        let rest = rest_of_line(body, end).trim();
+        let rest = rest.strip_prefix(',').unwrap_or(rest).trim();
+        if !rest.is_empty() {
+            return Some(Edit {
+                at: (end, end),
+                text: format!(", {field}"),
+            });
+        }
+        // The sibling ends its line: a line of its own, indented alike.
+        let comma = rest_of_line(body, end).trim_start().starts_with(',');
+        let (start, indent) = line_start(body, s.offset);
+        let _ = start;
+        let at = next_line(body, end);
+        let lead = if comma { "" } else { "," };
+        let tail = if comma { "," } else { "" };
+        if at >= body.len() && !body.ends_with('\n') {
+            return None;
+        }
+        return Some(Edit {
+            at: (end, at),
+            text: format!(
+                "{lead}{}{eol}{indent}{field}{tail}{eol}",
+                &body[end..at].trim_end_matches(['\r', '\n'])
+            ),
+        });
+    }
+    // The first of its block: before the sibling after it.
+    let after = fnew[g + 1..]
+        .iter()
+        .filter(siblings)
+        .find_map(|f| fo.iter().find(|o| o.path == f.path))?;
+    let (start, indent) = line_start(body, after.offset);
+    if start + indent.len() == after.offset {
+        Some(Edit {
+            at: (start, start),
+            text: format!("{indent}{field},{eol}"),
+        })
+    } else {
+        Some(Edit {
+            at: (after.offset, after.offset),
+            text: format!("{field}, "),
+        })
+    }
+}
+
+/// Remove a field with its comma, and its line when nothing else is on it.
+fn delete(body: &str, f: &FieldPos) -> Edit {
+    let (_, v1) = value_span(body, f.value_offset);
+    let mut end = v1;
+    let b = body.as_bytes();
+    while end < b.len() && (b[end] == b' ' || b[end] == b'\t') {
+        end += 1;
+    }
+    let comma = b.get(end) == Some(&b',');
+    if comma {
+        end += 1;
+        while end < b.len() && (b[end] == b' ' || b[end] == b'\t') {
+            end += 1;
+        }
+    }
+    let (start, indent) = line_start(body, f.offset);
+    let alone = start + indent.len() == f.offset && rest_of_line(body, end).trim().is_empty();
+    if alone && comma {
+        return Edit {
+            at: (start, next_line(body, end)),
+            text: String::new(),
+        };
+    }
+    let mut begin = f.offset;
+    if !comma {
+        // The last of its block: take the comma before it instead.
+        let before = body[..begin].trim_end();
+        if before.ends_with(',') {
+            begin = before.len() - 1;
+        }
+    }
+    Edit {
+        at: (begin, end),
+        text: String::new(),
+    }
+}
+
+/// The original text with only what changed edited: a changed value
+/// replaced in place, an added field inserted in its block in the file's
+/// style (a missing block as one line), a removed field deleted with its
+/// text. None when the text cannot be patched (the caller writes it whole).
+fn patch(body: &str, s: &Scenario) -> Option<String> {
+    let before = Scenario::from_ron(body, None).ok()?;
+    let new = s.to_ron();
+    let (fo, fnew) = (field_positions(body), field_positions(&new));
+    if fo
+        .iter()
+        .enumerate()
+        .any(|(i, f)| fo[..i].iter().any(|g| g.path == f.path))
+    {
+        return None;
+    }
+    let mut edits: Vec<Edit> = Vec::new();
+    // Fields and blocks already added or removed whole.
+    let mut added: Vec<String> = Vec::new();
+    for path in changed_fields(&before, s) {
+        let old = fo.iter().find(|f| f.path == path);
+        let now = fnew.iter().find(|f| f.path == path);
+        match (old, now) {
+            (Some(f), Some(g)) => {
+                let (a0, a1) = value_span(body, f.value_offset);
+                let (b0, b1) = value_span(&new, g.value_offset);
+                if !same_value(&body[a0..a1], &new[b0..b1]) {
+                    edits.push(Edit {
+                        at: (a0, a1),
+                        text: one_line(&new[b0..b1]),
+                    });
+                }
+            }
+            (Some(_), None) => {
+                // The outermost part the new text lacks: the field, or its block.
+                let mut at = path.to_string();
+                while !parent(&at).is_empty() && !fnew.iter().any(|f| f.path == parent(&at)) {
+                    at = parent(&at).to_string();
+                }
+                let f = fo.iter().find(|f| f.path == at)?;
+                if !added.contains(&at) {
+                    edits.push(delete(body, f));
+                    added.push(at);
+                }
+            }
+            (None, Some(_)) => {
+                // The outermost part the original lacks: the field, or its block.
+                let mut at = path.to_string();
+                while !parent(&at).is_empty() && !fo.iter().any(|f| f.path == parent(&at)) {
+                    at = parent(&at).to_string();
+                }
+                if !added.contains(&at) {
+                    edits.push(insert(body, &fo, &new, &fnew, &at)?);
+                    added.push(at);
+                }
+            }
+            (None, None) => {}
+        }
+    }
+    edits.sort_by_key(|e| std::cmp::Reverse(e.at));
+    if edits.windows(2).any(|w| w[1].at.1 > w[0].at.0) {
+        return None;
+    }
     let mut out = body.to_string();
-    for (a0, a1, v) in edits {
-        out.replace_range(a0..a1, v);
+    for e in edits {
+        out.replace_range(e.at.0..e.at.1, &e.text);
     }
     Some(out)
 }

@@ -111,33 +111,73 @@ pub struct Amp {
     pub inoise_corner: Option<f64>,
     /// Input offset voltage magnitude (V), sign unknown, in series with
     /// the + input where the voltage noise sits.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub vos: Option<f64>,
     /// Offset drift magnitude (V/°C) away from 25 °C.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub vos_drift: Option<f64>,
     /// Input bias current (A, signed): positive flows into each pin.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub ib: Option<f64>,
     /// Input offset current magnitude |ib+ − ib−| (A), sign unknown.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub ios: Option<f64>,
     /// Slew rate (V/s); absent or 0 = no limit.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub slew: Option<f64>,
     /// How close the internal output gets to the negative / positive rail (V).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub swing_neg: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub swing_pos: Option<f64>,
     /// Where the input common-mode range ends inside the negative /
     /// positive rail (V; negative = beyond the rail).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub cm_neg: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub cm_pos: Option<f64>,
     /// Output current limit magnitude (A); absent or 0 = no limit.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub iout: Option<f64>,
 }
 
@@ -146,11 +186,19 @@ pub struct Amp {
 pub struct Source {
     pub r: f64,
     /// DC level of the source EMF (V).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub dc: Option<f64>,
     /// Peak amplitude of the signal at the source EMF (V): the level the
     /// signal limits are checked at.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub peak: Option<f64>,
 }
 
@@ -206,22 +254,46 @@ pub struct Spread {
     #[serde(default)]
     pub dist: Dist,
     /// cf within ±cap_tol (fraction).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub cap_tol: Option<f64>,
     /// The gain-bandwidth within ±gbw_tol (fraction).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub gbw_tol: Option<f64>,
     /// The open-loop gain between a0_min and amp.a0.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub a0_min: Option<f64>,
     /// The open-loop output resistance within ±ro_tol (fraction).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub ro_tol: Option<f64>,
     /// Monte Carlo trials (2000 without it).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub trials: Option<u32>,
     /// The generator's seed (1 without it).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub seed: Option<u64>,
 }
 
@@ -232,31 +304,79 @@ pub struct Spread {
 pub struct Spec {
     /// The gain the error is measured against (the nominal stage's
     /// network gain without it).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub gain_target: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub gain_error_max: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub f_3db_min: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub peaking_max_db: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub pm_min_deg: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub zout_max_ohm: Option<f64>,
     /// Where zout_max_ohm applies (0 or absent: DC).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub zout_at_hz: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub noise_rms_max: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub offset_max_v: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub settle_max_s: Option<f64>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub headroom_min_v: Option<f64>,
     /// The fraction of trials that must meet every limit (1 without it).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub yield_min: Option<f64>,
 }
 
@@ -287,18 +407,34 @@ pub struct Scenario {
     pub amp: Amp,
     pub source: Source,
     pub load: Load,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub supply: Option<Supply>,
     /// The step the time-domain analysis applies (10 mV without it).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub step: Option<Step>,
     pub temp_c: f64,
     pub band: (f64, f64),
     /// How the parts vary from board to board.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub spread: Option<Spread>,
     /// The limits every board must meet.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
     pub spec: Option<Spec>,
     #[serde(
         default,

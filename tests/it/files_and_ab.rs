@@ -459,7 +459,8 @@ fn a_save_that_would_drop_comments_asks_first() {
     a.on_key(key(KeyCode::Char('s')));
     assert!(a.status.starts_with("saved"), "{}", a.status);
     assert!(std::fs::read_to_string(&p).unwrap().contains("/* keep */"));
-    // Typing `none` for cf removes a field: the save asks.
+    // Typing `none` for cf removes a field: deleted in place, no question,
+    // the comment kept.
     a.selected = loopwright::model::params::param("stage.cf").unwrap();
     a.on_key(key(KeyCode::Enter));
     for _ in 0..20 {
@@ -467,6 +468,25 @@ fn a_save_that_would_drop_comments_asks_first() {
     }
     type_text(&mut a, "none");
     a.on_key(key(KeyCode::Enter));
+    assert!(a.slot().dirty, "{}", a.status);
+    a.on_key(key(KeyCode::Char('s')));
+    assert!(a.status.starts_with("saved"), "{}", a.status);
+    let saved = std::fs::read_to_string(&p).unwrap();
+    assert!(
+        saved.contains("/* keep */") && !saved.contains("cf:"),
+        "{saved}"
+    );
+    assert_eq!(Scenario::load(&p).unwrap(), a.slot().scenario);
+    // A block the file writes empty takes no field in place: the save asks
+    // before writing the file whole.
+    let empty = text.replace("    temp_c:", "    spread: (),\n    temp_c:");
+    std::fs::write(&p, &empty).unwrap();
+    let mut a = App::new(
+        vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
+        Theme::new(false, false),
+    );
+    a.selected = loopwright::model::params::param("spread.cap_tol").unwrap();
+    a.on_key(key(KeyCode::Right));
     assert!(a.slot().dirty, "{}", a.status);
     a.on_key(key(KeyCode::Char('s')));
     assert!(

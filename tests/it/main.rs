@@ -19,6 +19,7 @@ mod plot_widget;
 mod properties;
 mod readme;
 mod report_cli;
+mod saves;
 mod scenario_files;
 mod spread;
 mod spread_ui;

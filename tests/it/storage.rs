@@ -131,9 +131,21 @@ fn comments_are_kept_when_only_numbers_change() {
     // Unchanged numbers keep their spelling.
     let same = Scenario::from_ron(&orig, None).unwrap();
     assert_eq!(render(&same, Some(&orig)).text, orig);
-    // When a field goes away the file is rewritten and says it loses them.
+    // A field that goes away is deleted with its text; the comments stay.
     s.stage.cf = None;
     let r = render(&s, Some(&orig));
+    assert!(!r.drops_comments);
+    for kept in ["/* was 9k1 */", "// lab bench", "// end"] {
+        assert!(r.text.contains(kept), "{kept}:\n{}", r.text);
+    }
+    assert!(!r.text.contains("cf:"), "{}", r.text);
+    assert_eq!(Scenario::from_ron(&r.text, None).unwrap(), s);
+    // A block the file writes empty cannot take a field in place: the
+    // file is written whole after its leading comments, and says so.
+    let empty = orig.replace("    // lab bench", "    spread: (),\n    // lab bench");
+    let mut s = Scenario::from_ron(&empty, None).unwrap();
+    s.spread.get_or_insert_with(Default::default).cap_tol = Some(0.1);
+    let r = render(&s, Some(&empty));
     assert!(r.drops_comments);
     assert!(
         r.text.starts_with("// Built-in demo"),
