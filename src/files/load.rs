@@ -177,7 +177,9 @@ fn ron_error_field(e: &ron::error::SpannedError, fields: &[FieldPos]) -> Option<
         | ron::Error::IntegerOutOfBounds
         | ron::Error::NoSuchEnumVariant { .. }
         | ron::Error::NoSuchStructField { .. }
-        | ron::Error::DuplicateStructField { .. } => {
+        | ron::Error::DuplicateStructField { .. }
+        // A value our own reader refused (an SI or RKM string).
+        | ron::Error::Message(_) => {
             field_at(fields, e.span.start.line, e.span.start.col)
         }
         _ => None,

@@ -8,6 +8,7 @@ use crate::files::filetext;
 use crate::files::load::{field_positions, FieldPos};
 use crate::model::params::PARAMS;
 use crate::model::scenario::Scenario;
+use crate::model::values::{fmt_like, parse_value};
 use atomic_write_file::AtomicWriteFile;
 use std::io::{self, Write};
 use std::os::unix::fs::MetadataExt;
@@ -231,6 +232,29 @@ fn same_value(a: &str, b: &str) -> bool {
         })
 }
 
+/// A new value's text in the written form of the old one: a number the
+/// file gave as a string (`"19k1"`, `"4.7n"`) stays a string in the same
+/// notation; a tuple element by element.
+fn written_like(old: &str, new: &str) -> String {
+    let inner = |t: &str| -> Option<Vec<String>> {
+        let t = t.strip_prefix('(')?.strip_suffix(')')?;
+        Some(t.split(',').map(|x| x.trim().to_string()).collect())
+    };
+    if let (Some(a), Some(b)) = (inner(old), inner(new)) {
+        if a.len() == b.len() {
+            let parts: Vec<String> = a.iter().zip(&b).map(|(x, y)| written_like(x, y)).collect();
+            return format!("({})", parts.join(", "));
+        }
+    }
+    match (
+        old.strip_prefix('"').and_then(|o| o.strip_suffix('"')),
+        new.parse::<f64>(),
+    ) {
+        (Some(text), Ok(v)) if parse_value(text).is_ok() => format!("\"{}\"", fmt_like(text, v)),
+        _ => new.to_string(),
+    }
+}
+
 /// The file's field paths whose values differ between two scenarios (a
 /// tuple such as `band` is one field).
 fn changed_fields(a: &Scenario, b: &Scenario) -> Vec<&'static str> {
@@ -432,7 +456,7 @@ fn patch(body: &str, s: &Scenario) -> Option<String> {
                 if !same_value(&body[a0..a1], &new[b0..b1]) {
                     edits.push(Edit {
                         at: (a0, a1),
-                        text: one_line(&new[b0..b1]),
+                        text: written_like(&body[a0..a1], &one_line(&new[b0..b1])),
                     });
                 }
             }

@@ -3,7 +3,8 @@
 //! column.
 
 use crate::model::eseries::Series;
-use serde::{Deserialize, Serialize};
+use crate::model::values::parse_value;
+use serde::{Deserialize, Deserializer, Serialize};
 use std::fmt;
 
 /// The newest file-format version this build reads and writes.
@@ -48,66 +49,81 @@ pub struct Stage {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub rg: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub rf: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub cf: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub riso: Option<f64>,
     pub series: Series,
+    #[serde(deserialize_with = "number")]
     pub tolerance: f64,
 }
 
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Amp {
+    #[serde(deserialize_with = "number")]
     pub a0: f64,
+    #[serde(deserialize_with = "number")]
     pub gbw: f64,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub fp2: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub rin: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub cin: Option<f64>,
+    #[serde(deserialize_with = "number")]
     pub ro: f64,
+    #[serde(deserialize_with = "number")]
     pub vnoise: f64,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub vnoise_corner: Option<f64>,
+    #[serde(deserialize_with = "number")]
     pub inoise: f64,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub inoise_corner: Option<f64>,
     /// Input offset voltage magnitude (V), sign unknown, in series with
     /// the + input where the voltage noise sits.
@@ -116,6 +132,7 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub vos: Option<f64>,
     /// Offset drift magnitude (V/°C) away from 25 °C.
     #[serde(
@@ -123,6 +140,7 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub vos_drift: Option<f64>,
     /// Input bias current (A, signed): positive flows into each pin.
     #[serde(
@@ -130,6 +148,7 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub ib: Option<f64>,
     /// Input offset current magnitude |ib+ − ib−| (A), sign unknown.
     #[serde(
@@ -137,6 +156,7 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub ios: Option<f64>,
     /// Slew rate (V/s); absent or 0 = no limit.
     #[serde(
@@ -144,6 +164,7 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub slew: Option<f64>,
     /// How close the internal output gets to the negative / positive rail (V).
     #[serde(
@@ -151,12 +172,14 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub swing_neg: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub swing_pos: Option<f64>,
     /// Where the input common-mode range ends inside the negative /
     /// positive rail (V; negative = beyond the rail).
@@ -165,12 +188,14 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub cm_neg: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub cm_pos: Option<f64>,
     /// Output current limit magnitude (A); absent or 0 = no limit.
     #[serde(
@@ -178,12 +203,14 @@ pub struct Amp {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub iout: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Source {
+    #[serde(deserialize_with = "number")]
     pub r: f64,
     /// DC level of the source EMF (V).
     #[serde(
@@ -191,6 +218,7 @@ pub struct Source {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub dc: Option<f64>,
     /// Peak amplitude of the signal at the source EMF (V): the level the
     /// signal limits are checked at.
@@ -199,6 +227,7 @@ pub struct Source {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub peak: Option<f64>,
 }
 
@@ -206,7 +235,9 @@ pub struct Source {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Supply {
+    #[serde(deserialize_with = "number")]
     pub neg: f64,
+    #[serde(deserialize_with = "number")]
     pub pos: f64,
 }
 
@@ -224,6 +255,7 @@ impl Default for Supply {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Step {
+    #[serde(deserialize_with = "number")]
     pub size: f64,
 }
 
@@ -259,6 +291,7 @@ pub struct Spread {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub cap_tol: Option<f64>,
     /// The gain-bandwidth within ±gbw_tol (fraction).
     #[serde(
@@ -266,6 +299,7 @@ pub struct Spread {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub gbw_tol: Option<f64>,
     /// The open-loop gain between a0_min and amp.a0.
     #[serde(
@@ -273,6 +307,7 @@ pub struct Spread {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub a0_min: Option<f64>,
     /// The open-loop output resistance within ±ro_tol (fraction).
     #[serde(
@@ -280,6 +315,7 @@ pub struct Spread {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub ro_tol: Option<f64>,
     /// Monte Carlo trials (2000 without it).
     #[serde(
@@ -309,36 +345,42 @@ pub struct Spec {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub gain_target: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub gain_error_max: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub f_3db_min: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub peaking_max_db: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub pm_min_deg: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub zout_max_ohm: Option<f64>,
     /// Where zout_max_ohm applies (0 or absent: DC).
     #[serde(
@@ -346,30 +388,35 @@ pub struct Spec {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub zout_at_hz: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub noise_rms_max: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub offset_max_v: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub settle_max_s: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub headroom_min_v: Option<f64>,
     /// The fraction of trials that must meet every limit (1 without it).
     #[serde(
@@ -377,6 +424,7 @@ pub struct Spec {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub yield_min: Option<f64>,
 }
 
@@ -388,12 +436,14 @@ pub struct Load {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub r: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_number")]
     pub c: Option<f64>,
 }
 
@@ -420,7 +470,9 @@ pub struct Scenario {
         serialize_with = "bare"
     )]
     pub step: Option<Step>,
+    #[serde(deserialize_with = "number")]
     pub temp_c: f64,
+    #[serde(deserialize_with = "number_pair")]
     pub band: (f64, f64),
     /// How the parts vary from board to board.
     #[serde(
@@ -513,3 +565,36 @@ impl Scenario {
 
 /// The step without a `step` field, volts.
 pub const DEFAULT_STEP_V: f64 = 0.01;
+
+/// A number as a file may write it: bare (`19100.0`), or as a designer
+/// writes it, in SI or IEC 60062 RKM notation (`"19k1"`, `"4.7n"`, `"10M"`).
+#[derive(Deserialize)]
+#[serde(untagged)]
+enum Written {
+    Number(f64),
+    Text(String),
+}
+
+impl Written {
+    fn value<E: serde::de::Error>(self) -> Result<f64, E> {
+        match self {
+            Written::Number(v) => Ok(v),
+            Written::Text(t) => parse_value(&t).map_err(|e| E::custom(e.to_string())),
+        }
+    }
+}
+
+fn number<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+    Written::deserialize(d)?.value()
+}
+
+fn optional_number<'de, D: Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
+    Option::<Written>::deserialize(d)?
+        .map(Written::value)
+        .transpose()
+}
+
+fn number_pair<'de, D: Deserializer<'de>>(d: D) -> Result<(f64, f64), D::Error> {
+    let (a, b) = <(Written, Written)>::deserialize(d)?;
+    Ok((a.value()?, b.value()?))
+}

@@ -210,8 +210,21 @@ pub fn parse_quantity(text: &str) -> Result<(f64, String), ValueError> {
         number.push('e');
         number.push_str(&p.exponent);
     }
-    let v: f64 = number.parse().map_err(|_| err(text, "not a number"))?;
-    let v = p.sign * v * p.mult.unwrap_or(1.0);
+    // A power-of-ten multiplier joins the exponent, so `4.7n` reads as the
+    // double nearest 4.7e-9 (not 4.7 × 1e-9, one rounding more).
+    let mult = p.mult.unwrap_or(1.0);
+    let decade = mult.log10().round();
+    let v: f64 = if 10f64.powi(decade as i32) == mult {
+        let (digits, exp) = number.split_once('e').unwrap_or((&number, "0"));
+        let exp: i64 = exp.parse().map_err(|_| err(text, "not a number"))?;
+        format!("{digits}e{}", exp + decade as i64)
+            .parse()
+            .map_err(|_| err(text, "not a number"))?
+    } else {
+        let v: f64 = number.parse().map_err(|_| err(text, "not a number"))?;
+        v * mult
+    };
+    let v = p.sign * v;
     if !v.is_finite() {
         return Err(err(text, "out of range"));
     }
@@ -322,6 +335,42 @@ fn exponent_text(v: f64, sig: usize) -> String {
         }
         _ => s,
     }
+}
+
+/// `v` written in the notation of `written`, a value as a designer typed it
+/// in a file: IEC 60062 RKM code when it was (`"19k1"` → `20k`, `4R7`), SI
+/// prefixes otherwise (`"4.7n"` → `5.6n`), keeping its unit and its spelling
+/// of micro. The fewest digits that read back to exactly `v`.
+pub fn fmt_like(written: &str, v: f64) -> String {
+    let (_, unit) = parse_quantity(written).unwrap_or((0.0, String::new()));
+    let core = written.trim().trim_end_matches(unit.as_str()).trim_end();
+    let chars: Vec<char> = core.chars().collect();
+    let rkm = chars
+        .windows(2)
+        .any(|w| w[0].is_ascii_alphabetic() && w[1].is_ascii_digit())
+        || core.ends_with(['R', 'r']);
+    let micro = if written.contains('u') { "u" } else { "µ" };
+    for sig in 1..=17 {
+        let (m, prefix) = split_eng(v, sig);
+        if beyond_prefixes(v) {
+            break;
+        }
+        let prefix = if prefix == "µ" { micro } else { prefix };
+        let digits = trim_number(m, sig);
+        let text = if rkm {
+            let letter = if prefix.is_empty() { "R" } else { prefix };
+            match digits.split_once('.') {
+                Some((i, f)) => format!("{i}{letter}{f}"),
+                None => format!("{digits}{letter}"),
+            }
+        } else {
+            format!("{digits}{prefix}{unit}")
+        };
+        if parse_value(&text).ok() == Some(v) {
+            return text;
+        }
+    }
+    format!("{v:?}")
 }
 
 /// Engineering notation with a unit, e.g. `4.7 kΩ`, `100 nF`, `1.59 MHz`.
@@ -524,4 +573,24 @@ pub fn nice_linear(min: f64, max: f64, target_ticks: usize) -> ((f64, f64), Vec<
         t += step;
     }
     ((lo, hi), ticks)
+}
+
+#[cfg(test)]
+mod written_form {
+    use super::fmt_like;
+
+    /// IEC 60062 RKM code puts the multiplier letter at the decimal point
+    /// (R for units); SI prefixes follow the number.
+    #[test]
+    fn notation_follows_the_written_value() {
+        assert_eq!(fmt_like("19k1", 20_000.0), "20k");
+        assert_eq!(fmt_like("4k7", 5_600.0), "5k6");
+        assert_eq!(fmt_like("2R2", 4.7), "4R7");
+        assert_eq!(fmt_like("470R", 560.0), "560R");
+        assert_eq!(fmt_like("6n8", 8.2e-9), "8n2");
+        assert_eq!(fmt_like("4.7n", 5.6e-9), "5.6n");
+        assert_eq!(fmt_like("10MHz", 12.0e6), "12MHz");
+        assert_eq!(fmt_like("2.2u", 3.3e-6), "3.3u");
+        assert_eq!(fmt_like("2.2µ", 3.3e-6), "3.3µ");
+    }
 }

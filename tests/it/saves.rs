@@ -174,3 +174,62 @@ fn a_save_without_an_edit_changes_nothing() {
         assert_eq!(saved.text, text, "{file}");
     }
 }
+
+/// A stage whose values are written as a designer writes them.
+const WRITTEN: &str = r#"// values as written on a schematic
+(
+    title: "written values",
+    stage: (topology: Inverting, rg: "1k", rf: "19k1", cf: "4.7n", series: E24, tolerance: 0.01),
+    amp: (a0: 100000.0, gbw: "10M", ro: "50R", vnoise: "10n", inoise: 1.0e-12),
+    source: (r: 50.0),
+    load: (r: "2k2"),
+    temp_c: 25.0,
+    band: ("20", "20k"),
+)
+"#;
+
+#[test]
+fn values_read_in_rkm_and_si_notation() {
+    let s = Scenario::from_ron(WRITTEN, None).unwrap();
+    // IEC 60062 RKM code: the letter stands at the decimal point (19k1 = 19.1 kΩ).
+    assert_eq!(s.stage.rf, Some(19_100.0));
+    assert_eq!(s.stage.rg, Some(1_000.0));
+    assert_eq!(s.load.r, Some(2_200.0));
+    assert_eq!(s.amp.ro, 50.0);
+    // SI prefixes: n = 1e-9, M = 1e6, k = 1e3 (SI 2019 prefixes).
+    assert_eq!(s.stage.cf, Some(4.7e-9));
+    assert_eq!(s.amp.gbw, 10.0e6);
+    assert_eq!(s.amp.vnoise, 10.0e-9);
+    assert_eq!(s.band, (20.0, 20_000.0));
+}
+
+#[test]
+fn a_value_that_is_not_one_names_its_field_line_and_column() {
+    let bad = WRITTEN.replace("\"19k1\"", "\"19q1\"");
+    let e = Scenario::from_ron(&bad, Some("w.ron")).unwrap_err();
+    assert_eq!(e.field.as_deref(), Some("stage.rf"), "{e}");
+    assert_eq!(e.line, Some(4), "{e}");
+    assert!(e.to_string().contains("19q1"), "{e}");
+}
+
+#[test]
+fn a_save_keeps_each_value_in_its_written_form() {
+    let mut s = Scenario::from_ron(WRITTEN, None).unwrap();
+    s.stage.rf = Some(20_000.0);
+    s.stage.cf = Some(5.6e-9);
+    s.amp.gbw = 20.0e6;
+    s.band.1 = 50_000.0;
+    let saved = render(&s, Some(WRITTEN));
+    assert!(!saved.drops_comments);
+    // RKM stays RKM, SI stays SI, each still a string (20k = 20 000 Ω).
+    for kept in [
+        "rf: \"20k\"",
+        "cf: \"5.6n\"",
+        "gbw: \"20M\"",
+        "band: (\"20\", \"50k\")",
+        "rg: \"1k\"",
+    ] {
+        assert!(saved.text.contains(kept), "{kept}:\n{}", saved.text);
+    }
+    assert_eq!(Scenario::from_ron(&saved.text, None).unwrap(), s);
+}
