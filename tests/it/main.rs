@@ -22,6 +22,7 @@ mod report_cli;
 mod scenario_files;
 mod spread;
 mod spread_ui;
+mod stability;
 mod standards;
 mod step_response;
 mod storage;
