@@ -64,6 +64,12 @@ pub struct Analysis {
     pub limits: crate::engine::limits::Limits,
     /// The response to a step of the source EMF (time domain).
     pub step: crate::engine::step::StepResponse,
+    /// The closed-loop poles, rad/s (empty where the model has no
+    /// time-domain form).
+    pub poles: Vec<C64>,
+    /// The stability verdict from those poles: false when one lies in the
+    /// right half-plane; None when they could not be computed.
+    pub stable: Option<bool>,
 }
 
 /// First fall of |T| through 1 on a grid of (f, T, unwrapped arg T in
@@ -78,11 +84,7 @@ fn crossover(
     }
     let i = grid.iter().position(|g| g.1.norm() < 1.0)?;
     let (fa, fb) = bracket(|k| grid[k].0, i);
-    let ref_phase = if i == 0 {
-        unwrap_near(t_dc, 0.0)
-    } else {
-        grid[i - 1].2
-    };
+    let ref_phase = grid[i.saturating_sub(1)].2;
     let fc = refine_between(fa, fb, |f| loop_at(f).norm_sqr().ln());
     Some((fc, 180.0 + unwrap_near(loop_at(fc), ref_phase)))
 }
@@ -111,8 +113,63 @@ fn ideal_gain(s: &Scenario) -> f64 {
         .unwrap_or(f64::NAN)
 }
 
+/// Lowest frequency the phase anchor walks down to: below every pole a
+/// valid stage can have (1 F behind 10 TΩ is 1.6e-14 Hz).
+const ANCHOR_FLOOR_HZ: f64 = 1e-17;
+
+/// Whether T(f) has reached its DC value (to 1e-4 relative).
+fn settled(t: C64, t_dc: C64) -> bool {
+    (t / t_dc - 1.0).norm() < 1e-4
+}
+
+/// arg T unwrapped from `phase` at `fa` to `fb`, halving the step (in ln f)
+/// wherever the phase would move by more than 45° at once.
+fn unwrap_across(loop_at: &impl Fn(f64) -> C64, fa: f64, phase: f64, fb: f64, depth: u32) -> f64 {
+    let next = unwrap_near(loop_at(fb), phase);
+    if (next - phase).abs() <= 45.0 || depth == 0 {
+        return next;
+    }
+    let mid = (fa * fb).sqrt();
+    let at_mid = unwrap_across(loop_at, fa, phase, mid, depth - 1);
+    unwrap_across(loop_at, mid, at_mid, fb, depth - 1)
+}
+
+/// The loop phase at `f0` on its right branch, continued from DC. T(0) is
+/// real, so the phase there is 0° (or 180°); each loop pole and zero below
+/// `f0` adds its ∓90° on the way up. Rather than count them from the
+/// model, T is evaluated on a grid going down from `f0` (10 points a
+/// decade) until it has stayed within 1e-4 of T(0) for a whole decade (a
+/// pole or zero further down would move it), and the phase is unwrapped
+/// back up that grid from the DC branch. Without a finite, non-zero T(0)
+/// the principal value at `f0` is taken.
+pub fn phase_anchor(loop_at: impl Fn(f64) -> C64, t_dc: C64, f0: f64) -> f64 {
+    if !(t_dc.norm().is_finite() && t_dc.norm() > 0.0) {
+        return unwrap_near(loop_at(f0), 0.0);
+    }
+    let step = 10f64.powf(0.1);
+    let mut grid = vec![f0];
+    let mut f = f0;
+    let mut quiet = 0;
+    while f > ANCHOR_FLOOR_HZ && quiet < 10 {
+        f /= step;
+        grid.push(f);
+        quiet = if settled(loop_at(f), t_dc) {
+            quiet + 1
+        } else {
+            0
+        };
+    }
+    let mut below = grid[grid.len() - 1];
+    let mut phase = unwrap_near(loop_at(below), unwrap_near(t_dc, 0.0));
+    for &f in grid.iter().rev().skip(1) {
+        phase = unwrap_across(&loop_at, below, phase, f, 8);
+        below = f;
+    }
+    phase
+}
+
 /// The sweep, widened to cover the band, with the band edges as points and
-/// the loop phase unwrapped from DC.
+/// the loop phase unwrapped from DC (its first point from [`phase_anchor`]).
 fn run_sweep(circuit: &Circuit, band: (f64, f64), dc: &Point, per_decade: f64) -> Sweep {
     let (band_lo, band_hi) = band;
     let mut freqs = log_grid(
@@ -134,7 +191,11 @@ fn run_sweep(circuit: &Circuit, band: (f64, f64), dc: &Point, per_decade: f64) -
     }
     let points: Vec<Point> = freqs.iter().map(|&f| circuit.eval_or_blank(f)).collect();
     let mut loop_phase_deg = Vec::with_capacity(points.len());
-    let mut prev = unwrap_near(dc.loop_gain, 0.0);
+    let loop_at = |f: f64| circuit.gain_and_loop(f).1;
+    let mut prev = match points.first() {
+        Some(p) => phase_anchor(loop_at, dc.loop_gain, p.f_hz),
+        None => unwrap_near(dc.loop_gain, 0.0),
+    };
     for p in &points {
         prev = unwrap_near(p.loop_gain, prev);
         loop_phase_deg.push(prev);
@@ -194,15 +255,11 @@ fn loop_grid(sweep: &Sweep) -> Vec<(f64, C64, f64)> {
 }
 
 /// Gain margin and where the unwrapped loop phase first reaches −180°.
-fn gain_margin(circuit: &Circuit, sweep: &Sweep, t_dc: C64) -> Option<(f64, f64)> {
+fn gain_margin(circuit: &Circuit, sweep: &Sweep) -> Option<(f64, f64)> {
     let phases = &sweep.loop_phase_deg;
     let i = phases.iter().position(|&p| p <= -180.0)?;
     let (fa, fb) = bracket(|k| sweep.points[k].f_hz, i);
-    let ref_phase = if i == 0 {
-        unwrap_near(t_dc, 0.0)
-    } else {
-        phases[i - 1]
-    };
+    let ref_phase = phases[i.saturating_sub(1)];
     let loop_at = |f: f64| circuit.gain_and_loop(f).1;
     let f180 = refine_between(fa, fb, |f| unwrap_near(loop_at(f), ref_phase) + 180.0);
     let t = loop_at(f180).norm();
@@ -217,7 +274,7 @@ fn margin_without_load_c(s: &Scenario, lo: f64, hi: f64) -> Option<f64> {
     let c2 = Circuit::new(&bare);
     let t0 = c2.gain_and_loop(0.0).1;
     let mut grid = Vec::new();
-    let mut prev = unwrap_near(t0, 0.0);
+    let mut prev = phase_anchor(|f| c2.gain_and_loop(f).1, t0, lo);
     for f in log_grid(lo, hi, 4.0) {
         let t = c2.gain_and_loop(f).1;
         prev = unwrap_near(t, prev);
@@ -310,12 +367,20 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         .and(phase_margin_deg)
         .filter(|_| depth.bare_margin)
         .and_then(|_| margin_without_load_c(s, lo, hi));
-    let gm = gain_margin(&circuit, &sweep, dc.loop_gain);
+    let gm = gain_margin(&circuit, &sweep);
     let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
     let limits = crate::engine::limits::limits(s, &circuit, &sweep, dc_gain);
     let f_3db_hz = f_3db(&circuit, &sweep.points, dc_gain);
+    let poles = crate::engine::step::closed_loop_poles(&circuit.net);
+    let stable = poles
+        .as_ref()
+        .map(|p| !crate::engine::step::any_unstable(p));
+    let unstable = match stable {
+        Some(st) => !st,
+        None => phase_margin_deg.is_some_and(|p| p <= 0.0),
+    };
     let step = if depth.step {
-        step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, phase_margin_deg)
+        step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, unstable)
     } else {
         Default::default()
     };
@@ -348,6 +413,8 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         dc,
         limits,
         step,
+        poles: poles.unwrap_or_default(),
+        stable,
     }
 }
 
@@ -358,21 +425,30 @@ fn step_of(
     circuit: &Circuit,
     crossover: Option<f64>,
     f_3db: Option<f64>,
-    pm: Option<f64>,
+    unstable: bool,
 ) -> crate::engine::step::StepResponse {
     let f_ref = match (crossover, f_3db) {
         (Some(a), Some(b)) => a.max(b),
         (a, b) => a.or(b).unwrap_or(s.amp.gbw),
     };
-    let unstable = pm.is_some_and(|p| p <= 0.0);
     crate::engine::step::step_response(s, &circuit.net, f_ref, unstable)
 }
 
 impl Analysis {
-    /// Whether the loop is unstable (phase margin at or below 0°): its
+    /// Whether the loop is unstable: a closed-loop pole in the right
+    /// half-plane, whatever the margin reads (by the phase margin, at or
+    /// below 0°, only where the poles could not be computed). Its
     /// closed-loop figures then mean nothing.
     pub fn unstable(&self) -> bool {
-        self.phase_margin_deg.is_some_and(|pm| pm <= 0.0)
+        match self.stable {
+            Some(stable) => !stable,
+            None => self.phase_margin_deg.is_some_and(|pm| pm <= 0.0),
+        }
+    }
+
+    /// The real part of the rightmost closed-loop pole, rad/s.
+    pub fn rightmost_pole_re(&self) -> Option<f64> {
+        self.poles.iter().map(|p| p.re).reduce(f64::max)
     }
 
     /// Unwrapped loop phase (degrees) at any frequency: continued from the
@@ -382,7 +458,10 @@ impl Analysis {
         let pts = &self.sweep.points;
         let (mut f, mut phase) = match pts.iter().rposition(|p| p.f_hz <= f_hz) {
             Some(i) => (pts[i].f_hz, self.sweep.loop_phase_deg[i]),
-            None => (0.0, unwrap_near(self.dc.loop_gain, 0.0)),
+            None => {
+                let loop_at = |f: f64| circuit.gain_and_loop(f).1;
+                return phase_anchor(loop_at, self.dc.loop_gain, f_hz);
+            }
         };
         let step = 10f64.powf(1.0 / POINTS_PER_DECADE as f64);
         while f > 0.0 && f * step < f_hz {

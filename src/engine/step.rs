@@ -46,7 +46,9 @@
 use crate::engine::netlist::{Netlist, TimeEquations};
 use crate::model::scenario::Scenario;
 use crate::num::dense::{double_step, expm1, Lu, Mat};
+use crate::num::eigen::eigenvalues_wide;
 use crate::num::refine::refine_max_to;
+use num_complex::Complex64 as C64;
 
 pub use crate::model::scenario::DEFAULT_STEP_V;
 
@@ -705,6 +707,25 @@ impl<'a> Sim<'a> {
             .fold(0.0, f64::max);
         norm <= 0.5 && t - self.last_event >= 30.0 * h
     }
+}
+
+/// The closed-loop poles (rad/s): the eigenvalues of the reduced linear
+/// model z' = M·z (the generalised eigenvalues of the pencil C·x' + G·x
+/// with the source EMF held), small ones to their own relative precision
+/// ([`eigenvalues_wide`]). None where the model has no time-domain form.
+pub fn closed_loop_poles(net: &Netlist) -> Option<Vec<C64>> {
+    let red = reduce(&net.time_equations()?)?;
+    eigenvalues_wide(&red.a)
+}
+
+/// Relative tolerance of the pole verdict: a pole counts as unstable when
+/// its real part exceeds this share of its magnitude (above the rounding
+/// of the eigenvalues, far below any margin worth reading).
+pub const POLE_TOLERANCE: f64 = 1e-6;
+
+/// Whether poles lie in the right half-plane: any with Re > tol·|p|.
+pub fn any_unstable(poles: &[C64]) -> bool {
+    poles.iter().any(|p| p.re > POLE_TOLERANCE * p.norm())
 }
 
 /// The stage's step response (None where the model has no time-domain

@@ -137,6 +137,10 @@ pub struct Figure {
     pub shown: Shown,
     /// A closed-loop figure means nothing when the loop is unstable.
     pub closed_loop: bool,
+    /// A stability margin: when the closed-loop poles say the stage is
+    /// unstable while the margin reads positive, it reads "unstable"
+    /// instead (the margin arithmetic is then misleading).
+    pub margin: bool,
     /// |Zout| at one frequency: the workbench shows it at its own chosen
     /// frequency (the `{f}` in `short`).
     pub at_probe: bool,
@@ -184,6 +188,7 @@ const fn fig(
         section,
         shown,
         closed_loop: false,
+        margin: false,
         at_probe: false,
         undefined: "none",
         needs_input: false,
@@ -194,6 +199,10 @@ const fn fig(
 impl Figure {
     const fn closed_loop(mut self) -> Figure {
         self.closed_loop = true;
+        self
+    }
+    const fn margin(mut self) -> Figure {
+        self.margin = true;
         self
     }
     const fn at_probe(mut self) -> Figure {
@@ -281,7 +290,8 @@ pub static FIGURES: [Figure; 46] = [
         Loop,
         ALL_VIEWS,
         |e| e.phase_margin_deg,
-    ),
+    )
+    .margin(),
     fig(
         "gain_margin_db",
         "gain margin",
@@ -291,6 +301,7 @@ pub static FIGURES: [Figure; 46] = [
         ALL_VIEWS,
         |e| e.gain_margin_db,
     )
+    .margin()
     .undefined("none (phase never reaches −180° in the sweep)"),
     fig(
         "phase_180_hz",
@@ -708,7 +719,8 @@ impl Figure {
     /// The figure from a given value (for one the caller solved itself,
     /// such as |Zout| at the workbench's chosen frequency).
     pub fn read_value(&self, e: &Evaluation, v: Option<f64>) -> Reading {
-        if self.closed_loop && e.analysis.unstable() {
+        let misleading = self.margin && v.is_some_and(|v| v > 0.0);
+        if (self.closed_loop || misleading) && e.analysis.unstable() {
             return Reading::Unstable;
         }
         v.filter(|v| v.is_finite())

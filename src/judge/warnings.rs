@@ -76,8 +76,31 @@ fn margin_fix(s: &Scenario) -> &'static str {
     }
 }
 
+/// A right-half-plane pole the margin does not show (it reads positive,
+/// or there is none): the stage is unstable all the same.
+fn hidden_instability(cx: &Context, w: &mut Vec<Warning>) {
+    let a = cx.a;
+    let reads = match a.phase_margin_deg {
+        Some(pm) => format!("the phase margin reads {pm:.0}°"),
+        None => "the loop gain shows no crossover".into(),
+    };
+    let growth = a.rightmost_pole_re().unwrap_or(0.0) / std::f64::consts::TAU;
+    let text = format!(
+        "the stage is unstable: a closed-loop pole lies in the right half-plane \
+         (growing at {}) although {reads}{}{}",
+        fmt_eng(growth, "Hz"),
+        load_note(cx.s),
+        margin_fix(cx.s)
+    );
+    push(w, Code::PhaseMargin, Severity::Severe, text);
+}
+
 fn phase_margin(cx: &Context, w: &mut Vec<Warning>) {
-    let (Some(fc), Some(pm)) = (cx.a.crossover_hz, cx.a.phase_margin_deg) else {
+    let pm_at = cx.a.crossover_hz.zip(cx.a.phase_margin_deg);
+    if cx.a.unstable() && pm_at.is_none_or(|(_, pm)| pm > 0.0) {
+        return hidden_instability(cx, w);
+    }
+    let Some((fc, pm)) = pm_at else {
         return;
     };
     if pm >= PM_WARN_DEG {
@@ -88,7 +111,7 @@ fn phase_margin(cx: &Context, w: &mut Vec<Warning>) {
     } else {
         Severity::Warning
     };
-    let what = if pm <= 0.0 {
+    let what = if cx.a.unstable() {
         "the stage is unstable: phase margin"
     } else {
         "phase margin"

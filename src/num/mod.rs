@@ -1,7 +1,8 @@
 //! Pure numerics, no circuits: the complex LU of the nodal equations, small
-//! real matrices and e^{M·t}, root and peak refinement on a bracket, phase
-//! arithmetic and logarithmic grids.
+//! real matrices, e^{M·t} and their eigenvalues, root and peak refinement
+//! on a bracket, phase arithmetic and logarithmic grids.
 
 pub mod dense;
+pub mod eigen;
 pub mod refine;
 pub mod solver;

@@ -119,8 +119,12 @@ impl Options {
 /// loop that never reaches unity gain cannot oscillate, so it counts as
 /// meeting any target, but only when |T| stays below 1 at every sweep
 /// point too), or |T| never falls through 1 within the sweep (no margin
-/// can be read: not met). An unstable loop has a margin ≤ 0°: not met.
+/// can be read: not met). An unstable loop (a closed-loop pole in the right
+/// half-plane, whatever its margin reads) never meets it.
 pub fn meets(a: &Analysis, target_deg: f64) -> bool {
+    if a.unstable() {
+        return false;
+    }
     match a.phase_margin_deg {
         Some(pm) => pm >= target_deg,
         None => {

@@ -23,6 +23,7 @@ mod saves;
 mod scenario_files;
 mod spread;
 mod spread_ui;
+mod stability;
 mod standards;
 mod step_response;
 mod storage;
