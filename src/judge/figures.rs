@@ -60,8 +60,8 @@ impl Section {
     /// errors and signal limits only when their inputs are given.
     pub fn shown_for(self, e: &Evaluation) -> bool {
         match self {
-            Section::DcErrors => e.limits.dc_given,
-            Section::SignalLimits => e.limits.signal_given,
+            Section::DcErrors => e.analysis.limits.dc_given,
+            Section::SignalLimits => e.analysis.limits.signal_given,
             _ => true,
         }
     }
@@ -225,7 +225,7 @@ pub static FIGURES: [Figure; 46] = [
         Ratio,
         Gain,
         REPORT,
-        |e| Some(e.nominal_gain),
+        |e| Some(e.analysis.nominal_gain),
     ),
     fig(
         "ideal_gain",
@@ -234,10 +234,10 @@ pub static FIGURES: [Figure; 46] = [
         Ratio,
         Gain,
         REPORT,
-        |e| Some(e.ideal_gain),
+        |e| Some(e.analysis.ideal_gain),
     ),
     fig("dc_gain", "DC gain", "gain", Ratio, Gain, ALL_VIEWS, |e| {
-        Some(e.dc_gain)
+        Some(e.analysis.dc_gain)
     })
     .closed_loop(),
     fig(
@@ -247,7 +247,7 @@ pub static FIGURES: [Figure; 46] = [
         Fraction,
         Gain,
         ALL_VIEWS,
-        |e| Some(e.gain_error),
+        |e| Some(e.analysis.gain_error),
     )
     .closed_loop(),
     fig(
@@ -257,11 +257,11 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         Gain,
         ALL_VIEWS,
-        |e| e.f_3db_hz,
+        |e| e.analysis.f_3db_hz,
     )
     .closed_loop(),
     fig("peaking_db", "peaking", "peak", Db, Gain, ALL_VIEWS, |e| {
-        Some(e.peaking_db)
+        Some(e.analysis.peaking_db)
     })
     .closed_loop(),
     fig(
@@ -271,7 +271,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         Loop,
         REPORT,
-        |e| e.crossover_hz,
+        |e| e.analysis.crossover_hz,
     ),
     fig(
         "phase_margin_deg",
@@ -280,7 +280,7 @@ pub static FIGURES: [Figure; 46] = [
         Degrees,
         Loop,
         ALL_VIEWS,
-        |e| e.phase_margin_deg,
+        |e| e.analysis.phase_margin_deg,
     ),
     fig(
         "gain_margin_db",
@@ -289,7 +289,7 @@ pub static FIGURES: [Figure; 46] = [
         Db,
         Loop,
         ALL_VIEWS,
-        |e| e.gain_margin_db,
+        |e| e.analysis.gain_margin_db,
     )
     .undefined("none (phase never reaches −180° in the sweep)"),
     fig(
@@ -299,7 +299,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         Loop,
         TEXT_ONLY,
-        |e| e.phase_180_hz,
+        |e| e.analysis.phase_180_hz,
     ),
     fig(
         "loop_gain_dc",
@@ -308,7 +308,7 @@ pub static FIGURES: [Figure; 46] = [
         Ratio,
         Loop,
         REPORT,
-        |e| Some(e.loop_gain_dc),
+        |e| Some(e.analysis.loop_gain_dc),
     ),
     fig(
         "zout_dc_ohm",
@@ -317,7 +317,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         ALL_VIEWS,
-        |e| Some(e.zout_dc_ohm),
+        |e| Some(e.analysis.zout_dc_ohm),
     )
     .closed_loop(),
     fig(
@@ -327,7 +327,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         REPORT,
-        |e| e.zin_dc_ohm,
+        |e| e.analysis.zin_dc_ohm,
     )
     .closed_loop()
     .undefined("open (no DC path, or above 1 PΩ)"),
@@ -338,7 +338,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         ALL_VIEWS,
-        |e| e.zout_1khz_ohm,
+        |e| e.analysis.zout_1khz_ohm,
     )
     .closed_loop()
     .at_probe(),
@@ -349,7 +349,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         REPORT,
-        |e| e.zout_at_ohm,
+        |e| e.analysis.zout_at_ohm,
     )
     .given(),
     fig(
@@ -359,7 +359,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V/√Hz"),
         Noise,
         REPORT,
-        |e| Some(e.noise_density_1khz),
+        |e| Some(e.analysis.noise_density_1khz),
     )
     .closed_loop(),
     fig(
@@ -369,7 +369,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         Noise,
         ALL_VIEWS,
-        |e| Some(e.noise_rms),
+        |e| Some(e.analysis.noise_rms),
     )
     .closed_loop(),
     fig(
@@ -388,7 +388,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         REPORT,
-        |e| e.limits.out_bias_v,
+        |e| e.analysis.limits.out_bias_v,
     )
     .given(),
     fig(
@@ -398,7 +398,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         REPORT,
-        |e| e.limits.out_offset_max_v,
+        |e| e.analysis.limits.out_offset_max_v,
     )
     .given(),
     fig(
@@ -408,7 +408,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         REPORT,
-        |e| e.limits.out_dc_v,
+        |e| e.analysis.limits.out_dc_v,
     )
     .given(),
     fig(
@@ -418,7 +418,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         DcErrors,
         REPORT,
-        |e| e.limits.bias_balance_ohm,
+        |e| e.analysis.limits.bias_balance_ohm,
     )
     .given(),
     fig(
@@ -428,7 +428,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_dc_v,
+        |e| e.analysis.limits.int_dc_v,
     )
     .given(),
     fig(
@@ -438,7 +438,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_peak_v,
+        |e| e.analysis.limits.int_peak_v,
     )
     .given(),
     fig(
@@ -448,7 +448,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_low_v,
+        |e| e.analysis.limits.int_low_v,
     )
     .given(),
     fig(
@@ -458,7 +458,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_high_v,
+        |e| e.analysis.limits.int_high_v,
     )
     .given(),
     fig(
@@ -468,7 +468,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.headroom_low_v,
+        |e| e.analysis.limits.headroom_low_v,
     )
     .given(),
     fig(
@@ -478,7 +478,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.headroom_high_v,
+        |e| e.analysis.limits.headroom_high_v,
     )
     .given(),
     fig(
@@ -488,7 +488,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.cm_low_v,
+        |e| e.analysis.limits.cm_low_v,
     )
     .given(),
     fig(
@@ -498,7 +498,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.cm_high_v,
+        |e| e.analysis.limits.cm_high_v,
     )
     .given(),
     fig(
@@ -508,7 +508,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.cm_headroom_v,
+        |e| e.analysis.limits.cm_headroom_v,
     )
     .given(),
     fig(
@@ -518,7 +518,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V/s"),
         SignalLimits,
         REPORT,
-        |e| e.limits.slew_needed_v_per_s,
+        |e| e.analysis.limits.slew_needed_v_per_s,
     )
     .given(),
     fig(
@@ -528,7 +528,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         SignalLimits,
         REPORT,
-        |e| e.limits.fpbw_hz,
+        |e| e.analysis.limits.fpbw_hz,
     )
     .given(),
     fig(
@@ -538,7 +538,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("A"),
         SignalLimits,
         REPORT,
-        |e| e.limits.iout_peak_a,
+        |e| e.analysis.limits.iout_peak_a,
     )
     .given(),
     fig(
@@ -549,7 +549,7 @@ pub static FIGURES: [Figure; 46] = [
         SignalLimits,
         ROW_IF_GIVEN,
         |e| {
-            let l = &e.limits;
+            let l = &e.analysis.limits;
             Some(l.headroom_low_v?.min(l.headroom_high_v?))
         },
     )
@@ -561,11 +561,11 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         ROW_IF_GIVEN,
-        |e| e.limits.out_offset_max_v,
+        |e| e.analysis.limits.out_offset_max_v,
     )
     .given(),
     fig("size_v", "step size", "step", Si("V"), Step, REPORT, |e| {
-        Some(e.step.size_v)
+        Some(e.analysis.step.size_v)
     }),
     fig(
         "final_v",
@@ -574,7 +574,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         Step,
         REPORT,
-        |e| e.step.final_v,
+        |e| e.analysis.step.final_v,
     )
     .closed_loop()
     .undefined("none (the response does not settle)"),
@@ -585,7 +585,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.rise_s,
+        |e| e.analysis.step.rise_s,
     )
     .closed_loop()
     .undefined("none (never reaches 90 %)"),
@@ -596,7 +596,7 @@ pub static FIGURES: [Figure; 46] = [
         Percent,
         Step,
         ALL_VIEWS,
-        |e| e.step.overshoot_pct,
+        |e| e.analysis.step.overshoot_pct,
     )
     .closed_loop(),
     fig(
@@ -606,7 +606,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.peak_time_s,
+        |e| e.analysis.step.peak_time_s,
     )
     .closed_loop()
     .undefined("none (no overshoot)"),
@@ -617,7 +617,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.settle_s[0],
+        |e| e.analysis.step.settle_s[0],
     )
     .closed_loop()
     .undefined("none (does not settle)"),
@@ -628,7 +628,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         ALL_VIEWS,
-        |e| e.step.settle_s[1],
+        |e| e.analysis.step.settle_s[1],
     )
     .closed_loop()
     .undefined("none (does not settle)"),
@@ -639,7 +639,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.settle_s[2],
+        |e| e.analysis.step.settle_s[2],
     )
     .closed_loop()
     .undefined("none (does not settle)"),
@@ -650,7 +650,7 @@ pub static FIGURES: [Figure; 46] = [
         Flag,
         Step,
         REPORT,
-        |e| e.step.slew_limited.map(|b| f64::from(u8::from(b))),
+        |e| e.analysis.step.slew_limited.map(|b| f64::from(u8::from(b))),
     )
     .closed_loop(),
     fig(
@@ -660,7 +660,7 @@ pub static FIGURES: [Figure; 46] = [
         Flag,
         Step,
         REPORT,
-        |e| e.step.clipped.map(|b| f64::from(u8::from(b))),
+        |e| e.analysis.step.clipped.map(|b| f64::from(u8::from(b))),
     )
     .closed_loop(),
 ];

@@ -250,7 +250,10 @@ pub fn render(view: &View, stages: &[Stage], look: Look) -> anyhow::Result<Strin
             );
         }
     }
-    let traces: Vec<Traces> = stages.iter().map(|s| Traces::new(s.eval)).collect();
+    let traces: Vec<Traces> = stages
+        .iter()
+        .map(|s| Traces::new(&s.eval.analysis))
+        .collect();
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (look.width, look.height)).into_drawing_area();

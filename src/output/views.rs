@@ -32,8 +32,9 @@ fn no_curves(_: &Traces) -> Vec<Curve> {
 
 fn f3db_mark(s: &Stage) -> Vec<Mark> {
     s.eval
+        .analysis
         .f_3db_hz
-        .filter(|_| !s.eval.unstable())
+        .filter(|_| !s.eval.analysis.unstable())
         .map(|f| Mark {
             f_hz: f,
             text: format!("f−3dB {}", fmt_eng(f, "Hz")),
@@ -44,10 +45,11 @@ fn f3db_mark(s: &Stage) -> Vec<Mark> {
 
 fn crossover_mark(s: &Stage) -> Vec<Mark> {
     let e = s.eval;
-    e.crossover_hz
+    e.analysis
+        .crossover_hz
         .map(|f| Mark {
             f_hz: f,
-            text: match e.phase_margin_deg {
+            text: match e.analysis.phase_margin_deg {
                 Some(pm) => format!("margin {pm:.0}° @ {}", fmt_eng(f, "Hz")),
                 None => format!("crossover {}", fmt_eng(f, "Hz")),
             },
@@ -164,7 +166,7 @@ fn envelope_curves(t: &Traces) -> Vec<Curve> {
 /// The band edges and where the need first passes a ceiling.
 fn envelope_marks(s: &Stage) -> Vec<Mark> {
     let mut m = band_marks(s);
-    if let Some((f, what)) = s.eval.limits.envelope_limit {
+    if let Some((f, what)) = s.eval.analysis.limits.envelope_limit {
         m.push(Mark {
             f_hz: f,
             text: format!("passes the {what} ceiling at {}", fmt_eng(f, "Hz")),

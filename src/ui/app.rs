@@ -125,7 +125,7 @@ impl Slot {
     ) -> Slot {
         let analysis = evaluate(&scenario);
         let mut slot = Slot {
-            traces: Traces::new(&analysis),
+            traces: Traces::new(&analysis.analysis),
             analysis,
             probe: None,
             readout: None,
@@ -146,7 +146,7 @@ impl Slot {
     /// validated by the caller).
     fn refresh(&mut self, probe_hz: f64) {
         self.analysis = evaluate_with(&self.scenario, &[]);
-        self.traces = Traces::new(&self.analysis);
+        self.traces = Traces::new(&self.analysis.analysis);
         self.set_probe(probe_hz);
     }
 
@@ -156,7 +156,7 @@ impl Slot {
         self.probe = c.eval(probe_hz);
         self.readout = Some(crate::output::report::point_report(
             &c,
-            &self.analysis,
+            &self.analysis.analysis,
             probe_hz,
         ));
     }

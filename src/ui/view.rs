@@ -508,11 +508,11 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .slots
         .iter()
         .enumerate()
-        .map(|(i, s)| bode_marks(&s.analysis, loop_view, tag(app, i)))
+        .map(|(i, s)| bode_marks(&s.analysis.analysis, loop_view, tag(app, i)))
         .collect();
     let at = |m: &[VMark]| m.iter().map(|v| v.x).collect::<Vec<f64>>();
     let (mut marks, mut margin) = if per.len() > 1 && at(&per[0].0) == at(&per[1].0) {
-        bode_marks(&app.slots[0].analysis, loop_view, "")
+        bode_marks(&app.slots[0].analysis.analysis, loop_view, "")
     } else {
         per.into_iter()
             .fold((Vec::new(), Vec::new()), |(mut m, mut g), (a, b)| {
@@ -646,14 +646,14 @@ fn noise_summary(app: &App) -> String {
                 format!(
                     "{}band rms {}",
                     tag(app, i),
-                    compact(s.analysis.noise_rms, "V")
+                    compact(s.analysis.analysis.noise_rms, "V")
                 )
             })
             .collect();
         return format!(" {} ", each.join(" · "));
     }
     let a = &app.slot().analysis;
-    let mut shares: Vec<_> = a.noise_sources.iter().collect();
+    let mut shares: Vec<_> = a.analysis.noise_sources.iter().collect();
     shares.sort_by(|a, b| b.share.total_cmp(&a.share));
     let top: Vec<String> = shares
         .iter()
@@ -663,7 +663,7 @@ fn noise_summary(app: &App) -> String {
         .collect();
     format!(
         " band rms {}: {} ",
-        compact(a.noise_rms, "V"),
+        compact(a.analysis.noise_rms, "V"),
         top.join(", ")
     )
 }
@@ -731,7 +731,7 @@ fn band_marks(s: &crate::model::Scenario) -> Vec<VMark> {
 /// ceilings, with a mark where the need first passes one.
 fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let slot = app.slot();
-    let (s, l) = (&slot.scenario, &slot.analysis.limits);
+    let (s, l) = (&slot.scenario, &slot.analysis.analysis.limits);
     let title = format!(" {} V{} ", app.view.title(), legend(app));
     let bottom = match (l.int_peak_v, l.envelope_limit) {
         (None, _) => " give source peak for the envelope ".to_string(),
@@ -804,10 +804,10 @@ fn step_summary(app: &App) -> String {
 
 /// One stage's overshoot and settling (or why not).
 fn stage_step_summary(slot: &Slot) -> String {
-    let r = &slot.analysis.step;
+    let r = &slot.analysis.analysis.step;
     let pct = |v: f64| format!("{}%", crate::model::values::fmt_plain(v, 3));
     match (r.final_v, r.settle_s[1]) {
-        _ if slot.analysis.unstable() => "unstable: no step response".to_string(),
+        _ if slot.analysis.analysis.unstable() => "unstable: no step response".to_string(),
         (Some(_), Some(ts)) => {
             let mut t = format!(
                 "overshoot {}, 0.1 % in {}",
@@ -831,7 +831,7 @@ fn stage_step_summary(slot: &Slot) -> String {
 fn step_window(app: &App) -> f64 {
     app.slots
         .iter()
-        .filter_map(|s| s.analysis.step.view_end())
+        .filter_map(|s| s.analysis.analysis.step.view_end())
         .fold(0.0, f64::max)
 }
 
@@ -859,16 +859,20 @@ fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
 
 /// Every stage's step marks, tagged A and B when there are two.
 fn all_step_marks(app: &App) -> Vec<VMark> {
-    tagged_marks(app, |s| step_marks(&s.analysis.step))
+    tagged_marks(app, |s| step_marks(&s.analysis.analysis.step))
 }
 
 /// The step response on a linear time axis: each stage's waveform, A's
 /// final value and ±0.1 % band, and the marks of [`step_marks`].
 fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let r = &app.slot().analysis.step;
+    let r = &app.slot().analysis.analysis.step;
     let end = step_window(app);
     let n = (area.width as usize * 4).clamp(50, 600);
-    let responses: Vec<_> = app.slots.iter().map(|s| &s.analysis.step).collect();
+    let responses: Vec<_> = app
+        .slots
+        .iter()
+        .map(|s| &s.analysis.analysis.step)
+        .collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, n);
     let sizes: Vec<String> = responses.iter().map(|r| compact(r.size_v, "V")).collect();
     let unit = if divided { "output / final value" } else { "V" };

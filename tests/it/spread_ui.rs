@@ -102,7 +102,7 @@ fn spec_failures_are_warnings() {
     let e = evaluate(&s);
     let w: Vec<_> = e.warnings.iter().filter(|w| w.code == "spec").collect();
     assert_eq!(w.len(), 2, "{w:?}");
-    let pm = e.phase_margin_deg.unwrap();
+    let pm = e.analysis.phase_margin_deg.unwrap();
     assert!(
         w[0].text.contains("pm_min_deg") && w[0].text.contains("< 89"),
         "{}",

@@ -112,9 +112,9 @@ fn figures_header_is_stable_and_whole() {
         app.on_key(key(KeyCode::Right));
     }
     assert!(
-        app.slot().analysis.dc_gain < 10.0,
+        app.slot().analysis.analysis.dc_gain < 10.0,
         "{}",
-        app.slot().analysis.dc_gain
+        app.slot().analysis.analysis.dc_gain
     );
     assert_eq!(header(&app), before);
     let two = App::new(

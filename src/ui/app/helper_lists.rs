@@ -73,7 +73,7 @@ impl App {
             self.error("a follower has no rg or rf: resistor pairs are for NonInverting and Inverting stages");
             return;
         }
-        let now = fmt_plain(self.slot().analysis.nominal_gain.abs(), 6);
+        let now = fmt_plain(self.slot().analysis.analysis.nominal_gain.abs(), 6);
         self.mode = Mode::Prompt(Prompt::Gain, Field::offering(&now));
         self.info("target gain (the magnitude, e.g. 11); Enter lists resistor pairs, Esc cancels");
     }
