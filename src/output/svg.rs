@@ -263,7 +263,7 @@ pub fn render(view: &View, stages: &[Stage], look: Look) -> anyhow::Result<Strin
         let foot_h = (lines.len() as u32 + 1) * (font + 4);
         let (upper, lower) = root.split_vertically(look.height.saturating_sub(foot_h));
         match view.own {
-            Some(chart) => chart(&upper, stages, look, font)?,
+            Some(chart) => chart(&upper, view.title, stages, look, font)?,
             None => draw_chart(&upper, view, stages, &traces, look, font)?,
         }
         for (i, l) in lines.iter().enumerate() {

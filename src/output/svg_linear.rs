@@ -71,7 +71,13 @@ fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
 
 /// The step response of each stage against time, the ±0.1 % band around
 /// A's final value and each stage's 0.1 % settling time.
-pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyhow::Result<()> {
+pub fn step_chart(
+    area: &Area,
+    heading: &str,
+    stages: &[Stage],
+    look: Look,
+    font: u32,
+) -> anyhow::Result<()> {
     let end = stages
         .iter()
         .filter_map(|s| s.eval.analysis.step.view_end())
@@ -96,10 +102,7 @@ pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyho
         .collect();
     let mut chart = ChartBuilder::on(area)
         .caption(
-            titled(
-                &format!("Step response, {} step", sizes.join(" / ")),
-                stages,
-            ),
+            titled(&format!("{heading}, {} step", sizes.join(" / ")), stages),
             ("sans-serif", font + 4).into_font(),
         )
         .margin(12)
@@ -200,7 +203,13 @@ fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
 
 /// The spread of each stage: three histograms side by side, the spec's
 /// limits marked, the yield in each stage's legend.
-pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyhow::Result<()> {
+pub fn spread_chart(
+    area: &Area,
+    heading: &str,
+    stages: &[Stage],
+    look: Look,
+    font: u32,
+) -> anyhow::Result<()> {
     let results: Vec<SpreadResult> = stages
         .iter()
         .map(|s| spread::spread(s.scenario, &spread::Run::default()))
@@ -213,7 +222,7 @@ pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> any
         })
         .collect();
     let title = format!(
-        "Tolerance spread, {} trials ({})",
+        "{heading}, {} trials ({})",
         results[0].trials,
         yields.join(" vs ")
     );

@@ -29,5 +29,6 @@ mod strip_and_ascii;
 mod sweep_cli;
 mod tmux_e2e;
 mod ui_render;
+mod view_marks;
 mod warnings_rules;
 mod workbench_keys;

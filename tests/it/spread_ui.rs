@@ -7,7 +7,7 @@ use crossterm::event::KeyCode;
 use loopwright::judge::evaluate;
 use loopwright::model::scenario::Scenario;
 use loopwright::study::spread;
-use loopwright::ui::app::{App, View};
+use loopwright::ui::app::{App, ViewId};
 use loopwright::ui::theme::Theme;
 
 fn example(name: &str) -> Scenario {
@@ -17,7 +17,7 @@ fn example(name: &str) -> Scenario {
 /// The app on the spread view with the background job finished.
 fn on_spread_view(s: Scenario) -> App {
     let mut a = App::new(vec![(s, None)], Theme::new(false, false));
-    while a.view != View::Spread {
+    while a.view != ViewId::Spread {
         a.on_key(key(KeyCode::Char('v')));
     }
     a.tick();
@@ -82,7 +82,7 @@ fn leaving_the_view_stops_the_job() {
     let mut s = example("line_driver_cable");
     s.spread.as_mut().unwrap().trials = Some(100_000);
     let mut a = App::new(vec![(s, None)], Theme::new(false, false));
-    while a.view != View::Spread {
+    while a.view != ViewId::Spread {
         a.on_key(key(KeyCode::Char('v')));
     }
     a.tick();
