@@ -8,6 +8,7 @@ mod cursor;
 mod design_helpers;
 mod elements;
 mod engine_checks;
+mod enum_lists;
 mod file_kinds;
 mod files_and_ab;
 mod limits;
