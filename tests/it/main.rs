@@ -4,6 +4,7 @@
 
 mod support;
 
+mod app_loop;
 mod cursor;
 mod design_helpers;
 mod elements;
