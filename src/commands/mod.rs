@@ -29,13 +29,6 @@ loop_phase_deg,zout_mag,zout_phase_deg,zin_mag,zin_phase_deg,noise_density (SI u
 empty cell where undefined). Without --from, --to or --ppd the rows are the analysis \
 sweep's points; the values equal `report --at` at the same frequency.";
 
-const PLOT_HELP: &str = "Views: response (closed-loop gain and phase, f−3dB marked), loop (loop \
-gain and phase, crossover and phase margin marked), noise (output noise density, band edges \
-marked), impedance (|Zout| and |Zin|), envelope (the peak needed at the internal output under \
-its swing, slew and current ceilings; needs source.peak), step (the step response against time, \
-±0.1 % band and settling time marked), spread (histograms of gain error, f−3dB and phase margin \
-over the tolerances, spec limits marked).";
-
 const SPREAD_HELP: &str = "What varies: rg, rf and riso within ±stage.tolerance, and as the \
 scenario's `spread` block gives: cf (cap_tol), gbw (gbw_tol), a0 (a0_min to a0), ro (ro_tol). \
 Every corner of those extremes is analysed, then the Monte Carlo trials; the same seed gives \
@@ -66,7 +59,7 @@ pub enum Command {
     /// Print the analysis of a scenario (the built-in demo without FILE).
     Report(report::Args),
     /// Draw one view of a stage (and of a second stage B) as an SVG figure.
-    #[command(after_help = PLOT_HELP)]
+    #[command(after_help = crate::output::views::plot_help())]
     Plot(plot::Args),
     /// Print shell completions for loopwright.
     Completions(completions::Args),

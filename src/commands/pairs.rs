@@ -16,8 +16,8 @@ pub struct Args {
     /// The series both resistors come from.
     #[arg(long, default_value = "E24", value_parser = super::parse::parse_series)]
     pub series: Series,
-    /// NonInverting or Inverting.
-    #[arg(long, default_value = "NonInverting", value_parser = super::parse::parse_pair_topology)]
+    #[arg(long, default_value = "NonInverting", value_parser = super::parse::parse_pair_topology,
+          help = Topology::with_resistors(" or "))]
     pub topology: Topology,
     /// Smallest rg (`1k`, `4k7`).
     #[arg(long = "rg-min", value_name = "OHMS", default_value = "1k", value_parser = super::parse::parse_resistance, allow_negative_numbers = true)]

@@ -71,10 +71,14 @@ pub fn parse_series(text: &str) -> Result<Series> {
 
 /// NonInverting or Inverting (a follower has no rg and rf).
 pub fn parse_pair_topology(text: &str) -> Result<Topology> {
-    [Topology::NonInverting, Topology::Inverting]
+    Topology::ALL
         .into_iter()
+        .filter(|t| t.has_resistors())
         .find(|t| t.name().eq_ignore_ascii_case(text.trim()))
         .with_context(|| {
-            format!("`{text}`: use NonInverting or Inverting (a follower has no rg or rf)")
+            format!(
+                "`{text}`: use {} (a follower has no rg or rf)",
+                Topology::with_resistors(" or ")
+            )
         })
 }

@@ -8,7 +8,7 @@ use std::process::ExitCode;
 // The options of `series`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// E3, E6, E12, E24, E48, E96 or E192.
+    #[arg(help = crate::model::names::sentence(&crate::model::Series::NAMES, " or "))]
     pub name: String,
 }
 

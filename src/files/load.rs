@@ -114,19 +114,16 @@ fn check_topology(
         return Ok(());
     };
     let token = value_token(&text[t.value_offset..]);
-    let names = [
-        Topology::NonInverting,
-        Topology::Inverting,
-        Topology::Follower,
-    ];
-    if names.iter().any(|n| n.name() == token) {
+    if Topology::NAMES.contains(&token) {
         return Ok(());
     }
-    let list: Vec<&str> = names.iter().map(|n| n.name()).collect();
     Err(error_at(
         t,
         "stage.topology",
-        format!("`{token}` is not a topology: use {}", list.join(", ")),
+        format!(
+            "`{token}` is not a topology: use {}",
+            Topology::NAMES.join(", ")
+        ),
         file,
     ))
 }

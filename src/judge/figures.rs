@@ -60,8 +60,8 @@ impl Section {
     /// errors and signal limits only when their inputs are given.
     pub fn shown_for(self, e: &Evaluation) -> bool {
         match self {
-            Section::DcErrors => e.limits.dc_given,
-            Section::SignalLimits => e.limits.signal_given,
+            Section::DcErrors => e.analysis.limits.dc_given,
+            Section::SignalLimits => e.analysis.limits.signal_given,
             _ => true,
         }
     }
@@ -234,7 +234,7 @@ pub static FIGURES: [Figure; 46] = [
         Ratio,
         Gain,
         REPORT,
-        |e| Some(e.nominal_gain),
+        |e| Some(e.analysis.nominal_gain),
     ),
     fig(
         "ideal_gain",
@@ -243,10 +243,10 @@ pub static FIGURES: [Figure; 46] = [
         Ratio,
         Gain,
         REPORT,
-        |e| Some(e.ideal_gain),
+        |e| Some(e.analysis.ideal_gain),
     ),
     fig("dc_gain", "DC gain", "gain", Ratio, Gain, ALL_VIEWS, |e| {
-        Some(e.dc_gain)
+        Some(e.analysis.dc_gain)
     })
     .closed_loop(),
     fig(
@@ -256,7 +256,7 @@ pub static FIGURES: [Figure; 46] = [
         Fraction,
         Gain,
         ALL_VIEWS,
-        |e| Some(e.gain_error),
+        |e| Some(e.analysis.gain_error),
     )
     .closed_loop(),
     fig(
@@ -266,11 +266,11 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         Gain,
         ALL_VIEWS,
-        |e| e.f_3db_hz,
+        |e| e.analysis.f_3db_hz,
     )
     .closed_loop(),
     fig("peaking_db", "peaking", "peak", Db, Gain, ALL_VIEWS, |e| {
-        Some(e.peaking_db)
+        Some(e.analysis.peaking_db)
     })
     .closed_loop(),
     fig(
@@ -280,7 +280,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         Loop,
         REPORT,
-        |e| e.crossover_hz,
+        |e| e.analysis.crossover_hz,
     ),
     fig(
         "phase_margin_deg",
@@ -289,7 +289,7 @@ pub static FIGURES: [Figure; 46] = [
         Degrees,
         Loop,
         ALL_VIEWS,
-        |e| e.phase_margin_deg,
+        |e| e.analysis.phase_margin_deg,
     )
     .margin(),
     fig(
@@ -299,7 +299,7 @@ pub static FIGURES: [Figure; 46] = [
         Db,
         Loop,
         ALL_VIEWS,
-        |e| e.gain_margin_db,
+        |e| e.analysis.gain_margin_db,
     )
     .margin()
     .undefined("none (phase never reaches −180° in the sweep)"),
@@ -310,7 +310,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         Loop,
         TEXT_ONLY,
-        |e| e.phase_180_hz,
+        |e| e.analysis.phase_180_hz,
     ),
     fig(
         "loop_gain_dc",
@@ -319,7 +319,7 @@ pub static FIGURES: [Figure; 46] = [
         Ratio,
         Loop,
         REPORT,
-        |e| Some(e.loop_gain_dc),
+        |e| Some(e.analysis.loop_gain_dc),
     ),
     fig(
         "zout_dc_ohm",
@@ -328,7 +328,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         ALL_VIEWS,
-        |e| Some(e.zout_dc_ohm),
+        |e| Some(e.analysis.zout_dc_ohm),
     )
     .closed_loop(),
     fig(
@@ -338,7 +338,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         REPORT,
-        |e| e.zin_dc_ohm,
+        |e| e.analysis.zin_dc_ohm,
     )
     .closed_loop()
     .undefined("open (no DC path, or above 1 PΩ)"),
@@ -349,7 +349,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         ALL_VIEWS,
-        |e| e.zout_1khz_ohm,
+        |e| e.analysis.zout_1khz_ohm,
     )
     .closed_loop()
     .at_probe(),
@@ -360,7 +360,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         Impedance,
         REPORT,
-        |e| e.zout_at_ohm,
+        |e| e.analysis.zout_at_ohm,
     )
     .given(),
     fig(
@@ -370,7 +370,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V/√Hz"),
         Noise,
         REPORT,
-        |e| Some(e.noise_density_1khz),
+        |e| Some(e.analysis.noise_density_1khz),
     )
     .closed_loop(),
     fig(
@@ -380,7 +380,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         Noise,
         ALL_VIEWS,
-        |e| Some(e.noise_rms),
+        |e| Some(e.analysis.noise_rms),
     )
     .closed_loop(),
     fig(
@@ -399,7 +399,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         REPORT,
-        |e| e.limits.out_bias_v,
+        |e| e.analysis.limits.out_bias_v,
     )
     .given(),
     fig(
@@ -409,7 +409,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         REPORT,
-        |e| e.limits.out_offset_max_v,
+        |e| e.analysis.limits.out_offset_max_v,
     )
     .given(),
     fig(
@@ -419,7 +419,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         REPORT,
-        |e| e.limits.out_dc_v,
+        |e| e.analysis.limits.out_dc_v,
     )
     .given(),
     fig(
@@ -429,7 +429,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Ω"),
         DcErrors,
         REPORT,
-        |e| e.limits.bias_balance_ohm,
+        |e| e.analysis.limits.bias_balance_ohm,
     )
     .given(),
     fig(
@@ -439,7 +439,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_dc_v,
+        |e| e.analysis.limits.int_dc_v,
     )
     .given(),
     fig(
@@ -449,7 +449,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_peak_v,
+        |e| e.analysis.limits.int_peak_v,
     )
     .given(),
     fig(
@@ -459,7 +459,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_low_v,
+        |e| e.analysis.limits.int_low_v,
     )
     .given(),
     fig(
@@ -469,7 +469,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.int_high_v,
+        |e| e.analysis.limits.int_high_v,
     )
     .given(),
     fig(
@@ -479,7 +479,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.headroom_low_v,
+        |e| e.analysis.limits.headroom_low_v,
     )
     .given(),
     fig(
@@ -489,7 +489,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.headroom_high_v,
+        |e| e.analysis.limits.headroom_high_v,
     )
     .given(),
     fig(
@@ -499,7 +499,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.cm_low_v,
+        |e| e.analysis.limits.cm_low_v,
     )
     .given(),
     fig(
@@ -509,7 +509,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.cm_high_v,
+        |e| e.analysis.limits.cm_high_v,
     )
     .given(),
     fig(
@@ -519,7 +519,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         SignalLimits,
         REPORT,
-        |e| e.limits.cm_headroom_v,
+        |e| e.analysis.limits.cm_headroom_v,
     )
     .given(),
     fig(
@@ -529,7 +529,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V/s"),
         SignalLimits,
         REPORT,
-        |e| e.limits.slew_needed_v_per_s,
+        |e| e.analysis.limits.slew_needed_v_per_s,
     )
     .given(),
     fig(
@@ -539,7 +539,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("Hz"),
         SignalLimits,
         REPORT,
-        |e| e.limits.fpbw_hz,
+        |e| e.analysis.limits.fpbw_hz,
     )
     .given(),
     fig(
@@ -549,7 +549,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("A"),
         SignalLimits,
         REPORT,
-        |e| e.limits.iout_peak_a,
+        |e| e.analysis.limits.iout_peak_a,
     )
     .given(),
     fig(
@@ -560,7 +560,7 @@ pub static FIGURES: [Figure; 46] = [
         SignalLimits,
         ROW_IF_GIVEN,
         |e| {
-            let l = &e.limits;
+            let l = &e.analysis.limits;
             Some(l.headroom_low_v?.min(l.headroom_high_v?))
         },
     )
@@ -572,11 +572,11 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         DcErrors,
         ROW_IF_GIVEN,
-        |e| e.limits.out_offset_max_v,
+        |e| e.analysis.limits.out_offset_max_v,
     )
     .given(),
     fig("size_v", "step size", "step", Si("V"), Step, REPORT, |e| {
-        Some(e.step.size_v)
+        Some(e.analysis.step.size_v)
     }),
     fig(
         "final_v",
@@ -585,7 +585,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("V"),
         Step,
         REPORT,
-        |e| e.step.final_v,
+        |e| e.analysis.step.final_v,
     )
     .closed_loop()
     .undefined("none (the response does not settle)"),
@@ -596,7 +596,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.rise_s,
+        |e| e.analysis.step.rise_s,
     )
     .closed_loop()
     .undefined("none (never reaches 90 %)"),
@@ -607,7 +607,7 @@ pub static FIGURES: [Figure; 46] = [
         Percent,
         Step,
         ALL_VIEWS,
-        |e| e.step.overshoot_pct,
+        |e| e.analysis.step.overshoot_pct,
     )
     .closed_loop(),
     fig(
@@ -617,7 +617,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.peak_time_s,
+        |e| e.analysis.step.peak_time_s,
     )
     .closed_loop()
     .undefined("none (no overshoot)"),
@@ -628,7 +628,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.settle_s[0],
+        |e| e.analysis.step.settle_s[0],
     )
     .closed_loop()
     .undefined("none (does not settle)"),
@@ -639,7 +639,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         ALL_VIEWS,
-        |e| e.step.settle_s[1],
+        |e| e.analysis.step.settle_s[1],
     )
     .closed_loop()
     .undefined("none (does not settle)"),
@@ -650,7 +650,7 @@ pub static FIGURES: [Figure; 46] = [
         Si("s"),
         Step,
         REPORT,
-        |e| e.step.settle_s[2],
+        |e| e.analysis.step.settle_s[2],
     )
     .closed_loop()
     .undefined("none (does not settle)"),
@@ -661,7 +661,7 @@ pub static FIGURES: [Figure; 46] = [
         Flag,
         Step,
         REPORT,
-        |e| e.step.slew_limited.map(|b| f64::from(u8::from(b))),
+        |e| e.analysis.step.slew_limited.map(|b| f64::from(u8::from(b))),
     )
     .closed_loop(),
     fig(
@@ -671,7 +671,7 @@ pub static FIGURES: [Figure; 46] = [
         Flag,
         Step,
         REPORT,
-        |e| e.step.clipped.map(|b| f64::from(u8::from(b))),
+        |e| e.analysis.step.clipped.map(|b| f64::from(u8::from(b))),
     )
     .closed_loop(),
 ];

@@ -22,13 +22,6 @@ pub struct Evaluation {
     pub warnings: Vec<Warning>,
 }
 
-impl std::ops::Deref for Evaluation {
-    type Target = Analysis;
-    fn deref(&self) -> &Analysis {
-        &self.analysis
-    }
-}
-
 /// Validate, analyse and apply every design rule.
 pub fn evaluate(s: &Scenario) -> Evaluation {
     let problems = s.validate().err().unwrap_or_default();

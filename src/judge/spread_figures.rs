@@ -44,7 +44,7 @@ pub fn target(s: &Scenario, nominal: &Evaluation) -> f64 {
     s.spec
         .as_ref()
         .and_then(|x| x.gain_target)
-        .unwrap_or(nominal.ideal_gain)
+        .unwrap_or(nominal.analysis.ideal_gain)
 }
 
 /// A spread figure of an evaluated stage (None: undefined or unstable).

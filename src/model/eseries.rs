@@ -2,6 +2,7 @@
 //! tabulates them (not the rounded geometric formula), with stepping and
 //! snapping across decades.
 
+use crate::model::names::names_of;
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
@@ -64,6 +65,8 @@ impl Series {
         Series::E96,
         Series::E192,
     ];
+    /// Their names, as in a stage file and on the command line.
+    pub const NAMES: [&'static str; 7] = names_of!(Series, 7);
 
     /// The table's integer entries for one decade (2 digits up to E24, 3 above).
     pub fn table(self) -> &'static [u16] {
@@ -117,7 +120,7 @@ impl Series {
             .find(|s| s.name().eq_ignore_ascii_case(name.trim()))
     }
 
-    pub fn name(self) -> &'static str {
+    pub const fn name(self) -> &'static str {
         match self {
             Series::E3 => "E3",
             Series::E6 => "E6",

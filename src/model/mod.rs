@@ -3,6 +3,7 @@
 //! ranges and validation. Nothing here solves or reads files.
 
 pub mod eseries;
+pub mod names;
 pub mod params;
 pub mod scenario;
 pub mod values;

@@ -136,19 +136,10 @@ impl PartialEq for Param {
 
 impl Eq for Param {}
 
-const TOPOLOGIES: [Topology; 3] = [
-    Topology::NonInverting,
-    Topology::Inverting,
-    Topology::Follower,
-];
-const TOPOLOGY_NAMES: [&str; 3] = ["NonInverting", "Inverting", "Follower"];
-const SERIES_NAMES: [&str; 7] = ["E3", "E6", "E12", "E24", "E48", "E96", "E192"];
 const TOLERANCES: [f64; 9] = [0.0005, 0.001, 0.0025, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2];
 const SPREADS: [f64; 8] = [0.01, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5, 0.9];
 const ERROR_LIMITS: [f64; 8] = [1e-4, 1e-3, 2e-3, 5e-3, 0.01, 0.02, 0.05, 0.1];
 const YIELDS: [f64; 7] = [0.5, 0.9, 0.95, 0.99, 0.997, 0.999, 1.0];
-const DISTS: [Dist; 2] = [Dist::Uniform, Dist::Normal];
-const DIST_NAMES: [&str; 2] = ["Uniform", "Normal"];
 
 /// Accepted ranges (README "Accepted ranges").
 pub const OHMS: (f64, f64) = (1.0e-3, 1.0e13);
@@ -306,14 +297,14 @@ pub static PARAMS: [Param; 57] = [
         Required,
         (0.0, 0.0),
         Access::Choice {
-            names: &TOPOLOGY_NAMES,
+            names: &Topology::NAMES,
             get: |s| {
-                TOPOLOGIES
+                Topology::ALL
                     .iter()
                     .position(|t| *t == s.stage.topology)
                     .unwrap_or(0)
             },
-            set: |s, i| set_topology(s, TOPOLOGIES[i % TOPOLOGIES.len()]),
+            set: |s, i| set_topology(s, Topology::ALL[i % Topology::ALL.len()]),
         },
     ),
     entry(
@@ -369,7 +360,7 @@ pub static PARAMS: [Param; 57] = [
         Required,
         (0.0, 0.0),
         Access::Choice {
-            names: &SERIES_NAMES,
+            names: &Series::NAMES,
             get: |s| {
                 Series::ALL
                     .iter()
@@ -743,10 +734,13 @@ pub static PARAMS: [Param; 57] = [
         Required,
         (0.0, 0.0),
         Access::Choice {
-            names: &DIST_NAMES,
-            get: |s| s.spread.as_ref().map_or(0, |b| b.dist as usize),
+            names: &Dist::NAMES,
+            get: |s| {
+                let dist = s.spread.as_ref().map_or(Dist::default(), |b| b.dist);
+                Dist::ALL.iter().position(|d| *d == dist).unwrap_or(0)
+            },
             set: |s, i| {
-                s.spread.get_or_insert_with(Default::default).dist = DISTS[i];
+                s.spread.get_or_insert_with(Default::default).dist = Dist::ALL[i % Dist::ALL.len()];
                 tidy(s);
             },
         },

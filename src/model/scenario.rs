@@ -3,6 +3,7 @@
 //! column.
 
 use crate::model::eseries::Series;
+use crate::model::names::names_of;
 use crate::model::values::parse_value;
 use serde::{Deserialize, Deserializer, Serialize};
 use std::fmt;
@@ -22,7 +23,16 @@ pub enum Topology {
 }
 
 impl Topology {
-    pub fn name(self) -> &'static str {
+    /// Every topology, in the order the lists and the workbench give them.
+    pub const ALL: [Topology; 3] = [
+        Topology::NonInverting,
+        Topology::Inverting,
+        Topology::Follower,
+    ];
+    /// Their names, as in a stage file.
+    pub const NAMES: [&'static str; 3] = names_of!(Topology, 3);
+
+    pub const fn name(self) -> &'static str {
         match self {
             Topology::NonInverting => "NonInverting",
             Topology::Inverting => "Inverting",
@@ -30,13 +40,21 @@ impl Topology {
         }
     }
 
-    /// Next topology in the order NonInverting → Inverting → Follower.
-    pub fn cycle(self) -> Topology {
-        match self {
-            Topology::NonInverting => Topology::Inverting,
-            Topology::Inverting => Topology::Follower,
-            Topology::Follower => Topology::NonInverting,
-        }
+    /// Whether the stage has an rg and an rf (every topology but the
+    /// follower).
+    pub fn has_resistors(self) -> bool {
+        self != Topology::Follower
+    }
+
+    /// The topologies with an rg and an rf, as a list for messages: `sep`
+    /// between the names (" or ", " and ").
+    pub fn with_resistors(sep: &str) -> String {
+        let names: Vec<&str> = Topology::ALL
+            .into_iter()
+            .filter(|t| t.has_resistors())
+            .map(Topology::name)
+            .collect();
+        names.join(sep)
     }
 }
 
@@ -270,7 +288,12 @@ pub enum Dist {
 }
 
 impl Dist {
-    pub fn name(self) -> &'static str {
+    /// Every distribution, in the workbench's order.
+    pub const ALL: [Dist; 2] = [Dist::Uniform, Dist::Normal];
+    /// Their names, as in a stage file.
+    pub const NAMES: [&'static str; 2] = names_of!(Dist, 2);
+
+    pub const fn name(self) -> &'static str {
         match self {
             Dist::Uniform => "Uniform",
             Dist::Normal => "Normal",

@@ -31,26 +31,66 @@ pub struct Curve {
     pub tone: u8,
 }
 
+/// Every view, in `--view` order; the registry (`views`) gives each its
+/// entry.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ViewId {
+    Response,
+    Loop,
+    Noise,
+    Impedance,
+    Envelope,
+    Step,
+    Spread,
+}
+
+/// What a mark marks; the figures and the workbench each write its text.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub enum MarkKind {
+    /// The closed-loop f−3dB (of a stable stage only).
+    F3db,
+    /// The loop's crossover, with the phase margin where there is one.
+    Crossover,
+    /// An edge of the stage's band.
+    Band,
+    /// Where a need first passes a limit (the envelope's ceilings).
+    Limit,
+}
+
 /// A vertical mark at a frequency, with its text.
 pub struct Mark {
+    pub kind: MarkKind,
     pub f_hz: f64,
     pub text: String,
 }
 
 /// A view that draws its own chart (linear axes: time, a histogram) in
 /// the area above the footer.
-pub type OwnChart =
-    fn(&DrawingArea<SVGBackend, plotters::coord::Shift>, &[Stage], Look, u32) -> anyhow::Result<()>;
+/// It is given the view's title for its heading.
+pub type OwnChart = fn(
+    &DrawingArea<SVGBackend, plotters::coord::Shift>,
+    &str,
+    &[Stage],
+    Look,
+    u32,
+) -> anyhow::Result<()>;
 
 /// One view: what it shows, and what it needs of a stage.
 pub struct View {
+    pub id: ViewId,
     pub name: &'static str,
     pub title: &'static str,
+    /// One line for help: what the view draws and what it marks.
+    pub about: &'static str,
+    /// Whether the workbench shows it (the `v` key's cycle).
+    pub workbench: bool,
     /// Why this stage cannot be drawn in the view (an input it lacks).
     pub needs: fn(&Stage) -> Option<String>,
     pub left: Axis,
     pub right: Option<Axis>,
     pub curves: fn(&Traces) -> Vec<Curve>,
+    /// The marks a stage gets in this view: decided here once, for the
+    /// figures, the note and the workbench.
     pub marks: fn(&Stage) -> Vec<Mark>,
     /// Some: a chart of its own instead of the frequency chart.
     pub own: Option<OwnChart>,

@@ -124,6 +124,7 @@ impl Report {
                 .collect(),
             band_hz: s.band,
             noise_sources: e
+                .analysis
                 .noise_sources
                 .iter()
                 .map(|n| NoiseReport {
@@ -133,7 +134,10 @@ impl Report {
                     share: fin(n.share),
                 })
                 .collect(),
-            points: at.iter().map(|&f| point_report(&circuit, e, f)).collect(),
+            points: at
+                .iter()
+                .map(|&f| point_report(&circuit, &e.analysis, f))
+                .collect(),
             warnings: e.warnings.clone(),
         }
     }
@@ -145,10 +149,10 @@ impl Report {
 
     /// Add `n` samples of the step waveform (`t_s`, `v`) to the step object.
     pub fn with_waveform(mut self, e: &Evaluation, n: usize) -> Report {
-        let (t, v) = if e.unstable() {
+        let (t, v) = if e.analysis.unstable() {
             (Vec::new(), Vec::new())
         } else {
-            e.step.waveform(n)
+            e.analysis.step.waveform(n)
         };
         let nums =
             |x: Vec<f64>| serde_json::Value::from(x.into_iter().map(fin).collect::<Vec<_>>());
@@ -211,7 +215,7 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
 
 /// Each noise source's rms and share, largest first.
 fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
-    let mut shares: Vec<_> = e.noise_sources.iter().collect();
+    let mut shares: Vec<_> = e.analysis.noise_sources.iter().collect();
     shares.sort_by(|x, y| y.share.total_cmp(&x.share));
     for n in shares {
         writeln!(

@@ -250,7 +250,10 @@ pub fn render(view: &View, stages: &[Stage], look: Look) -> anyhow::Result<Strin
             );
         }
     }
-    let traces: Vec<Traces> = stages.iter().map(|s| Traces::new(s.eval)).collect();
+    let traces: Vec<Traces> = stages
+        .iter()
+        .map(|s| Traces::new(&s.eval.analysis))
+        .collect();
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (look.width, look.height)).into_drawing_area();
@@ -260,7 +263,7 @@ pub fn render(view: &View, stages: &[Stage], look: Look) -> anyhow::Result<Strin
         let foot_h = (lines.len() as u32 + 1) * (font + 4);
         let (upper, lower) = root.split_vertically(look.height.saturating_sub(foot_h));
         match view.own {
-            Some(chart) => chart(&upper, stages, look, font)?,
+            Some(chart) => chart(&upper, view.title, stages, look, font)?,
             None => draw_chart(&upper, view, stages, &traces, look, font)?,
         }
         for (i, l) in lines.iter().enumerate() {

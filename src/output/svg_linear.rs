@@ -16,7 +16,7 @@ type Area<'a, 'b> = DrawingArea<SVGBackend<'b>, Shift>;
 
 /// The step view needs a step response (none for an unstable loop).
 pub fn needs_step(s: &Stage) -> Option<String> {
-    s.eval.step.view_end().is_none().then(|| {
+    s.eval.analysis.step.view_end().is_none().then(|| {
         format!(
             "{} has no step response to draw (its loop is unstable)",
             printable(&s.scenario.title)
@@ -64,22 +64,28 @@ type Waves = Vec<Vec<(f64, f64)>>;
 /// The waveforms and, when each is divided by its final value, the axis
 /// description that says so.
 fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
-    let responses: Vec<_> = stages.iter().map(|s| &s.eval.step).collect();
+    let responses: Vec<_> = stages.iter().map(|s| &s.eval.analysis.step).collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, 400);
     (waves, divided.then_some("output / its final value"))
 }
 
 /// The step response of each stage against time, the ±0.1 % band around
 /// A's final value and each stage's 0.1 % settling time.
-pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyhow::Result<()> {
+pub fn step_chart(
+    area: &Area,
+    heading: &str,
+    stages: &[Stage],
+    look: Look,
+    font: u32,
+) -> anyhow::Result<()> {
     let end = stages
         .iter()
-        .filter_map(|s| s.eval.step.view_end())
+        .filter_map(|s| s.eval.analysis.step.view_end())
         .fold(0.0, f64::max);
     let (waves, normalised) = step_waves(stages, end);
     let final_a = match normalised {
         Some(_) => Some(1.0),
-        None => stages[0].eval.step.final_v,
+        None => stages[0].eval.analysis.step.final_v,
     };
     let band: Vec<f64> = final_a.map_or(Vec::new(), |f| vec![f * 0.999, f * 1.001]);
     let (lo, hi) = waves
@@ -92,14 +98,11 @@ pub fn step_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyho
     let (yr, y_axis) = axis((lo, hi), 8);
     let sizes: Vec<String> = stages
         .iter()
-        .map(|s| fmt_eng(s.eval.step.size_v, "V"))
+        .map(|s| fmt_eng(s.eval.analysis.step.size_v, "V"))
         .collect();
     let mut chart = ChartBuilder::on(area)
         .caption(
-            titled(
-                &format!("Step response, {} step", sizes.join(" / ")),
-                stages,
-            ),
+            titled(&format!("{heading}, {} step", sizes.join(" / ")), stages),
             ("sans-serif", font + 4).into_font(),
         )
         .margin(12)
@@ -150,7 +153,7 @@ fn draw_wave<'a, 'b: 'a>(
     (yr, look, font): ((f64, f64), Look, u32),
 ) -> anyhow::Result<()> {
     let st = style(slot, false, look.mono);
-    if let Some(ts) = s.eval.step.settle_s[1] {
+    if let Some(ts) = s.eval.analysis.step.settle_s[1] {
         let text = format!("ts 0.1 % {}", fmt_eng(ts, "s"));
         vmark(chart, ts, yr, slot, text, (st.color, font))?;
     }
@@ -200,7 +203,13 @@ fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
 
 /// The spread of each stage: three histograms side by side, the spec's
 /// limits marked, the yield in each stage's legend.
-pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> anyhow::Result<()> {
+pub fn spread_chart(
+    area: &Area,
+    heading: &str,
+    stages: &[Stage],
+    look: Look,
+    font: u32,
+) -> anyhow::Result<()> {
     let results: Vec<SpreadResult> = stages
         .iter()
         .map(|s| spread::spread(s.scenario, &spread::Run::default()))
@@ -213,7 +222,7 @@ pub fn spread_chart(area: &Area, stages: &[Stage], look: Look, font: u32) -> any
         })
         .collect();
     let title = format!(
-        "Tolerance spread, {} trials ({})",
+        "{heading}, {} trials ({})",
         results[0].trials,
         yields.join(" vs ")
     );

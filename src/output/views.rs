@@ -1,11 +1,14 @@
-//! The view registry: every view of a stage, its name, title, traces and
-//! marks, in `--view` order. The SVG figures, `plot --help`, the Markdown
-//! note and the workbench read it.
+//! The view registry: every view of a stage, its name, title, one-line
+//! description, traces and marks, in `--view` order, and whether the
+//! workbench shows it. The SVG figures, `plot --help`, the Markdown note
+//! and the workbench (its `v` cycle, titles, help and marks) read it.
 //!
-//! To add a view: one entry in [`VIEWS`] (its axes, traces and marks).
+//! To add a view: one variant of [`ViewId`] and one entry in [`VIEWS`]
+//! (its axes, traces and marks).
 
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::{Axis, Curve, Mark, OwnChart, Stage, View, DB, DEG};
+pub use crate::output::figure::{MarkKind, ViewId};
 use crate::output::svg_linear;
 use crate::output::traces::Traces;
 
@@ -32,9 +35,11 @@ fn no_curves(_: &Traces) -> Vec<Curve> {
 
 fn f3db_mark(s: &Stage) -> Vec<Mark> {
     s.eval
+        .analysis
         .f_3db_hz
-        .filter(|_| !s.eval.unstable())
+        .filter(|_| !s.eval.analysis.unstable())
         .map(|f| Mark {
+            kind: MarkKind::F3db,
             f_hz: f,
             text: format!("f−3dB {}", fmt_eng(f, "Hz")),
         })
@@ -44,10 +49,12 @@ fn f3db_mark(s: &Stage) -> Vec<Mark> {
 
 fn crossover_mark(s: &Stage) -> Vec<Mark> {
     let e = s.eval;
-    e.crossover_hz
+    e.analysis
+        .crossover_hz
         .map(|f| Mark {
+            kind: MarkKind::Crossover,
             f_hz: f,
-            text: match e.phase_margin_deg {
+            text: match e.analysis.phase_margin_deg {
                 Some(pm) => format!("margin {pm:.0}° @ {}", fmt_eng(f, "Hz")),
                 None => format!("crossover {}", fmt_eng(f, "Hz")),
             },
@@ -60,10 +67,12 @@ fn band_marks(s: &Stage) -> Vec<Mark> {
     let (lo, hi) = s.scenario.band;
     vec![
         Mark {
+            kind: MarkKind::Band,
             f_hz: lo,
             text: format!("band {}", fmt_eng(lo, "Hz")),
         },
         Mark {
+            kind: MarkKind::Band,
             f_hz: hi,
             text: format!("band {}", fmt_eng(hi, "Hz")),
         },
@@ -72,14 +81,16 @@ fn band_marks(s: &Stage) -> Vec<Mark> {
 
 /// A view drawn on linear axes by `chart`.
 const fn linear(
-    name: &'static str,
-    title: &'static str,
+    (id, name, title, about): (ViewId, &'static str, &'static str, &'static str),
     needs: fn(&Stage) -> Option<String>,
     chart: OwnChart,
 ) -> View {
     View {
+        id,
         name,
         title,
+        about,
+        workbench: true,
         needs,
         left: DB,
         right: None,
@@ -164,8 +175,9 @@ fn envelope_curves(t: &Traces) -> Vec<Curve> {
 /// The band edges and where the need first passes a ceiling.
 fn envelope_marks(s: &Stage) -> Vec<Mark> {
     let mut m = band_marks(s);
-    if let Some((f, what)) = s.eval.limits.envelope_limit {
+    if let Some((f, what)) = s.eval.analysis.limits.envelope_limit {
         m.push(Mark {
+            kind: MarkKind::Limit,
             f_hz: f,
             text: format!("passes the {what} ceiling at {}", fmt_eng(f, "Hz")),
         });
@@ -176,8 +188,11 @@ fn envelope_marks(s: &Stage) -> Vec<Mark> {
 /// Every view, in `--view` order.
 pub static VIEWS: [View; 7] = [
     View {
+        id: ViewId::Response,
         name: "response",
         title: "Closed-loop response",
+        about: "closed-loop gain and phase, f−3dB marked",
+        workbench: true,
         needs: nothing_needed,
         left: DB,
         right: Some(DEG),
@@ -191,8 +206,11 @@ pub static VIEWS: [View; 7] = [
         own: None,
     },
     View {
+        id: ViewId::Loop,
         name: "loop",
         title: "Loop gain",
+        about: "loop gain and phase, crossover and phase margin marked",
+        workbench: true,
         needs: nothing_needed,
         left: DB,
         right: Some(DEG),
@@ -206,8 +224,11 @@ pub static VIEWS: [View; 7] = [
         own: None,
     },
     View {
+        id: ViewId::Noise,
         name: "noise",
         title: "Output noise density",
+        about: "output noise density, band edges marked",
+        workbench: true,
         needs: nothing_needed,
         left: Axis {
             desc: "noise density (V/√Hz)",
@@ -219,8 +240,11 @@ pub static VIEWS: [View; 7] = [
         own: None,
     },
     View {
+        id: ViewId::Impedance,
         name: "impedance",
         title: "Output and input impedance",
+        about: "|Zout| and |Zin|",
+        workbench: false,
         needs: nothing_needed,
         left: Axis {
             desc: "|Z| (Ω)",
@@ -232,8 +256,11 @@ pub static VIEWS: [View; 7] = [
         own: None,
     },
     View {
+        id: ViewId::Envelope,
         name: "envelope",
         title: "Output envelope",
+        about: "the peak needed at the internal output under its swing, slew and current ceilings; needs source.peak",
+        workbench: true,
         needs: needs_peak,
         left: Axis {
             desc: "peak at the internal output (V)",
@@ -245,18 +272,87 @@ pub static VIEWS: [View; 7] = [
         own: None,
     },
     linear(
-        "step",
-        "Step response",
+        (
+            ViewId::Step,
+            "step",
+            "Step response",
+            "the step response against time, ±0.1 % band and settling time marked",
+        ),
         svg_linear::needs_step,
         svg_linear::step_chart,
     ),
     linear(
-        "spread",
-        "Tolerance spread",
+        (
+            ViewId::Spread,
+            "spread",
+            "Spread over the tolerances",
+            "histograms of gain error, f−3dB and phase margin over the tolerances, \
+             spec limits marked",
+        ),
         nothing_needed,
         svg_linear::spread_chart,
     ),
 ];
+
+impl ViewId {
+    /// Every view, in `--view` order.
+    pub const ALL: [ViewId; 7] = [
+        ViewId::Response,
+        ViewId::Loop,
+        ViewId::Noise,
+        ViewId::Impedance,
+        ViewId::Envelope,
+        ViewId::Step,
+        ViewId::Spread,
+    ];
+
+    /// The view's entry in the registry.
+    pub fn view(self) -> &'static View {
+        &VIEWS[self as usize]
+    }
+
+    pub fn name(self) -> &'static str {
+        self.view().name
+    }
+
+    pub fn title(self) -> &'static str {
+        self.view().title
+    }
+
+    /// The views the workbench shows, in order.
+    pub fn shown() -> impl Iterator<Item = ViewId> {
+        ViewId::ALL.into_iter().filter(|v| v.view().workbench)
+    }
+
+    /// The next view the workbench shows after this one, round.
+    pub fn next_shown(self) -> ViewId {
+        let after = ViewId::ALL[self as usize + 1..].iter().copied();
+        after
+            .chain(ViewId::ALL)
+            .find(|v| v.view().workbench)
+            .unwrap_or(self)
+    }
+
+    /// The marks a stage gets in this view (the one decision).
+    pub fn marks(self, s: &Stage) -> Vec<Mark> {
+        (self.view().marks)(s)
+    }
+}
+
+/// `plot --help`'s list: each view with what it draws and marks.
+pub fn plot_help() -> String {
+    let each: Vec<String> = VIEWS
+        .iter()
+        .map(|v| format!("{} ({})", v.name, v.about))
+        .collect();
+    format!("Views: {}.", each.join(", "))
+}
+
+/// The workbench's `v` help: the views it cycles through.
+pub fn cycle_help() -> String {
+    let names: Vec<&str> = ViewId::shown().map(ViewId::name).collect();
+    format!("next view: {}", names.join(", "))
+}
 
 /// The view with this name.
 pub fn view(name: &str) -> Option<&'static View> {
@@ -266,4 +362,17 @@ pub fn view(name: &str) -> Option<&'static View> {
 /// The view names, for help and errors.
 pub fn view_names() -> Vec<&'static str> {
     VIEWS.iter().map(|v| v.name).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_id_names_its_own_entry() {
+        for (i, id) in ViewId::ALL.into_iter().enumerate() {
+            assert_eq!(VIEWS[i].id, id);
+            assert_eq!(id as usize, i);
+        }
+    }
 }

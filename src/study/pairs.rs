@@ -118,10 +118,11 @@ fn problem(field: QueryField, message: String) -> QueryProblem {
 pub fn check(q: &Query) -> Result<(), QueryProblem> {
     let (lo, hi) = q.rg_range;
     let fail = |field, message: &str| Err(problem(field, message.to_string()));
-    if q.topology == Topology::Follower {
+    if !q.topology.has_resistors() {
+        let choices = Topology::with_resistors(" or ");
         return fail(
             QueryField::Topology,
-            "a follower has no rg or rf: use NonInverting or Inverting",
+            &format!("a follower has no rg or rf: use {choices}"),
         );
     }
     if !(q.target.is_finite() && q.target > 0.0) {

@@ -22,50 +22,9 @@ mod helper_lists;
 use helper_lists::{list_key, ListKey};
 pub use helper_lists::{Choices, Pick};
 
-/// Which plot the upper right panel shows.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum View {
-    Response,
-    Loop,
-    Noise,
-    Envelope,
-    Step,
-    Spread,
-}
-
-impl View {
-    pub fn next(self) -> View {
-        match self {
-            View::Response => View::Loop,
-            View::Loop => View::Noise,
-            View::Noise => View::Envelope,
-            View::Envelope => View::Step,
-            View::Step => View::Spread,
-            View::Spread => View::Response,
-        }
-    }
-    /// The view's name in the SVG figures' view table.
-    pub fn figure_name(self) -> &'static str {
-        match self {
-            View::Response => "response",
-            View::Loop => "loop",
-            View::Noise => "noise",
-            View::Envelope => "envelope",
-            View::Step => "step",
-            View::Spread => "spread",
-        }
-    }
-    pub fn title(self) -> &'static str {
-        match self {
-            View::Response => "Closed-loop response",
-            View::Loop => "Loop gain",
-            View::Noise => "Output noise density",
-            View::Envelope => "Output envelope",
-            View::Step => "Step response",
-            View::Spread => "Spread over the tolerances",
-        }
-    }
-}
+/// Which plot the upper right panel shows: a view of the registry that
+/// the workbench shows (`v` steps through them).
+pub use crate::output::views::ViewId;
 
 /// Where the workbench writes a figure of `view`: `STEM-VIEW.svg` beside
 /// the stage's file (`loopwright-VIEW.svg` here for a stage without one),
@@ -125,7 +84,7 @@ impl Slot {
     ) -> Slot {
         let analysis = evaluate(&scenario);
         let mut slot = Slot {
-            traces: Traces::new(&analysis),
+            traces: Traces::new(&analysis.analysis),
             analysis,
             probe: None,
             readout: None,
@@ -146,7 +105,7 @@ impl Slot {
     /// validated by the caller).
     fn refresh(&mut self, probe_hz: f64) {
         self.analysis = evaluate_with(&self.scenario, &[]);
-        self.traces = Traces::new(&self.analysis);
+        self.traces = Traces::new(&self.analysis.analysis);
         self.set_probe(probe_hz);
     }
 
@@ -156,7 +115,7 @@ impl Slot {
         self.probe = c.eval(probe_hz);
         self.readout = Some(crate::output::report::point_report(
             &c,
-            &self.analysis,
+            &self.analysis.analysis,
             probe_hz,
         ));
     }
@@ -288,7 +247,7 @@ pub struct App {
     pub slots: Vec<Slot>,
     pub active: usize,
     pub selected: ParamRef,
-    pub view: View,
+    pub view: ViewId,
     pub probe_hz: f64,
     pub mode: Mode,
     pub status: String,
@@ -357,7 +316,7 @@ impl App {
             slots,
             active: 0,
             selected: param("stage.rf").unwrap_or(&PARAMS[0]),
-            view: View::Response,
+            view: ViewId::Response,
             probe_hz,
             mode: Mode::Normal,
             status: String::new(),
@@ -376,7 +335,7 @@ impl App {
     /// Between events: keep the spread view's job on the edited stage and
     /// pick up its progress. True when the screen should be redrawn.
     pub fn tick(&mut self) -> bool {
-        if self.view != View::Spread {
+        if self.view != ViewId::Spread {
             // Off the view, a running spread only costs the editing time.
             self.spread.stop();
             return false;
@@ -648,7 +607,7 @@ impl App {
             Action::CycleSeries => self.cycle_series(),
             Action::SnapToSeries => self.snap(),
             Action::NextView => {
-                self.view = self.view.next();
+                self.view = self.view.next_shown();
                 self.info(format!("view: {}", self.view.title()));
             }
             Action::WriteFigure => self.write_figure(),
@@ -707,9 +666,7 @@ impl App {
     /// Write the plot view of every stage (A first) as SVG next to the
     /// active stage's file, under a name not yet taken, and say where.
     fn write_figure(&mut self) {
-        let Some(view) = crate::output::views::view(self.view.figure_name()) else {
-            return;
-        };
+        let view = self.view.view();
         let stages: Vec<_> = self
             .slots
             .iter()

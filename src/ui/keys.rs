@@ -73,6 +73,16 @@ pub struct Binding {
     pub hint: Option<&'static str>,
 }
 
+impl Binding {
+    /// The help as shown: the `v` key's lists the views from the registry.
+    pub fn help_text(&self) -> std::borrow::Cow<'static, str> {
+        match self.action {
+            Action::NextView => crate::output::views::cycle_help().into(),
+            _ => self.help.into(),
+        }
+    }
+}
+
 /// Every binding of the normal mode, in help order.
 pub const KEYS: &[Binding] = &[
     Binding {
@@ -128,7 +138,8 @@ pub const KEYS: &[Binding] = &[
         keys: &[k('v')],
         shown: "v",
         action: Action::NextView,
-        help: "next view: response, loop, noise, envelope, step, spread",
+        // The list of views comes from the registry: see `help_text`.
+        help: "next view",
         hint: None,
     },
     Binding {

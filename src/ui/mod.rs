@@ -60,6 +60,36 @@ where
     Ok(())
 }
 
+/// Draw one frame, plainly: for a backend that is not a terminal (the
+/// tests' TestBackend).
+pub fn draw_plain<B: Backend>(terminal: &mut Terminal<B>, app: &App) -> Result<()>
+where
+    B::Error: Send + Sync + 'static,
+{
+    terminal.draw(|f| view::draw(f, app))?;
+    Ok(())
+}
+
+/// Where the workbench's events come from: the terminal, or a script.
+pub trait Events {
+    /// Whether an event is ready, waiting at most `timeout` for one.
+    fn poll(&mut self, timeout: Duration) -> Result<bool>;
+    /// The next event (after `poll` said there is one).
+    fn read(&mut self) -> Result<Event>;
+}
+
+/// The terminal's events.
+pub struct TerminalEvents;
+
+impl Events for TerminalEvents {
+    fn poll(&mut self, timeout: Duration) -> Result<bool> {
+        Ok(event::poll(timeout)?)
+    }
+    fn read(&mut self) -> Result<Event> {
+        Ok(event::read()?)
+    }
+}
+
 /// Apply one terminal event; true when the screen must be redrawn.
 fn handle(app: &mut App, ev: Event) -> bool {
     match ev {
@@ -207,10 +237,15 @@ fn restore() {
     let _ = ratatui::crossterm::execute!(std::io::stdout(), ratatui::crossterm::cursor::Show);
 }
 
+/// How the loop draws a frame on its backend.
+type DrawFrame<B> = fn(&mut Terminal<B>, &App) -> Result<()>;
+
 /// Draw on events, wait for them at most 200 ms at a time so that a
 /// termination signal is noticed. Returns the signal that ended it, if any.
-fn event_loop(
-    terminal: &mut ratatui::DefaultTerminal,
+fn event_loop<B: Backend>(
+    terminal: &mut Terminal<B>,
+    draw: DrawFrame<B>,
+    events: &mut impl Events,
     app: &mut App,
     shared: &Shared,
 ) -> Result<Option<i32>> {
@@ -225,17 +260,17 @@ fn event_loop(
         }
         let step = (|| -> Result<()> {
             if redraw {
-                draw_frame(terminal, app)?;
+                draw(terminal, app)?;
                 redraw = false;
             }
             // A frame follows an event, or the spread job's progress.
             // Events already queued (a held key over a slow link) are all
             // applied before the next frame, so the screen keeps up.
             let wait = if app.spread.running() { 100 } else { 200 };
-            if event::poll(Duration::from_millis(wait))? {
-                redraw = handle(app, event::read()?);
-                while app.running && event::poll(Duration::ZERO)? {
-                    redraw |= handle(app, event::read()?);
+            if events.poll(Duration::from_millis(wait))? {
+                redraw = handle(app, events.read()?);
+                while app.running && events.poll(Duration::ZERO)? {
+                    redraw |= handle(app, events.read()?);
                 }
                 // What the watchdog would rescue, as of this key.
                 if let Ok(mut p) = shared.pending.lock() {
@@ -251,6 +286,26 @@ fn event_loop(
         }
     }
     Ok(None)
+}
+
+/// The workbench's loop on any backend, with events from `events` and no
+/// signal handling: until the app quits (the tests drive it through a
+/// TestBackend with a scripted event source).
+pub fn run_loop<B: Backend>(
+    terminal: &mut Terminal<B>,
+    events: &mut impl Events,
+    app: &mut App,
+) -> Result<()>
+where
+    B::Error: Send + Sync + 'static,
+{
+    let shared = Shared {
+        signal: Arc::new(AtomicUsize::new(0)),
+        pending: Mutex::new(Vec::new()),
+        claimed: AtomicBool::new(false),
+    };
+    event_loop(terminal, draw_plain, events, app, &shared)?;
+    Ok(())
 }
 
 /// Open the workbench on the loaded stages (one or two).
@@ -284,7 +339,13 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<ExitCode> {
         }
     }));
     let result = std::panic::catch_unwind(AssertUnwindSafe(|| {
-        event_loop(&mut terminal, &mut app, &shared)
+        event_loop(
+            &mut terminal,
+            draw_frame,
+            &mut TerminalEvents,
+            &mut app,
+            &shared,
+        )
     }));
     if !shared.claim() {
         // The watchdog is already writing the rescue files and exits.

@@ -28,7 +28,8 @@ const EIGHTHS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '�
 pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
     let job = &app.spread;
     let title = format!(
-        " Spread over the tolerances, {}, {} trials ",
+        " {}, {}, {} trials ",
+        app.view.title(),
         App::slot_label(app.active),
         job.total
     );

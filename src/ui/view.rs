@@ -1,6 +1,6 @@
 //! Drawing: reads the App, never changes it.
 
-use super::app::{App, Choices, Mode, Slot, View};
+use super::app::{App, Choices, Mode, Slot, ViewId};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
@@ -9,6 +9,7 @@ use crate::judge::figures::{key_figures, row_figures, Figure, Reading, Section, 
 use crate::judge::Severity;
 use crate::model::params::Group;
 use crate::model::values::{fmt_eng, fmt_fixed};
+use crate::output::views::MarkKind;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
 use ratatui::text::{Line, Span};
@@ -76,11 +77,13 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     title_bar(app, title, buf);
     param_pane(app, params, buf);
     match app.view {
-        View::Response | View::Loop => bode(app, upper, buf),
-        View::Noise => noise_plot(app, upper, buf),
-        View::Envelope => envelope_plot(app, upper, buf),
-        View::Step => step_plot(app, upper, buf),
-        View::Spread => super::spread_view::spread_plot(app, upper, buf),
+        ViewId::Response | ViewId::Loop => bode(app, upper, buf),
+        ViewId::Noise => noise_plot(app, upper, buf),
+        ViewId::Envelope => envelope_plot(app, upper, buf),
+        ViewId::Step => step_plot(app, upper, buf),
+        ViewId::Spread => super::spread_view::spread_plot(app, upper, buf),
+        // Not in the workbench's cycle: the lower panel shows it.
+        ViewId::Impedance => impedance_plot(app, upper, buf),
     }
     impedance_plot(app, lower, buf);
     super::readout::draw(app, cursor, buf);
@@ -434,37 +437,73 @@ fn tag(app: &App, slot: usize) -> &'static str {
     }
 }
 
-/// One stage's marks on the Bode view: f−3dB on the response, the
-/// crossover and gain margin on the loop view; and its phase-margin note
+/// A slot as the view registry takes it.
+fn stage_of(s: &Slot) -> crate::output::figure::Stage<'_> {
+    crate::output::figure::Stage {
+        scenario: &s.scenario,
+        eval: &s.analysis,
+    }
+}
+
+/// The marks the registry gives a stage in the current view (the one
+/// decision the figures share), each as the workbench writes it.
+fn registry_marks(app: &App, s: &Slot) -> Vec<VMark> {
+    app.view
+        .marks(&stage_of(s))
+        .iter()
+        .map(|m| VMark {
+            x: m.f_hz.log10(),
+            label: match m.kind {
+                MarkKind::F3db => "-3dB",
+                MarkKind::Crossover => "fc",
+                MarkKind::Band => "band",
+                MarkKind::Limit => "!",
+            }
+            .into(),
+        })
+        .collect()
+}
+
+/// One stage's marks on the Bode view: the registry's (f−3dB on the
+/// response of a stable stage, the crossover on the loop view), the gain
+/// margin on the loop view; and its phase-margin note at the crossover
 /// (on the loop view only), each label tagged with the stage.
-fn bode_marks(a: &crate::engine::Analysis, loop_view: bool, tag: &str) -> (Vec<VMark>, Vec<VMark>) {
+fn bode_marks(app: &App, s: &Slot, tag: &str) -> (Vec<VMark>, Vec<VMark>) {
+    let a = &s.analysis.analysis;
+    let loop_view = app.view == ViewId::Loop;
     let mark = |f: f64, label: String| VMark {
         x: f.log10(),
         label: format!("{tag}{label}"),
     };
-    let mut marks = Vec::new();
-    if let Some(f) = a.f_3db_hz.filter(|_| !loop_view) {
-        marks.push(mark(f, "-3dB".into()));
-    }
-    if let Some(f) = a.crossover_hz.filter(|_| loop_view) {
-        marks.push(mark(f, "fc".into()));
-    }
+    let mut marks: Vec<VMark> = registry_marks(app, s)
+        .into_iter()
+        .map(|m| VMark {
+            label: format!("{tag}{}", m.label),
+            ..m
+        })
+        .collect();
     if let (Some(f), Some(gm), true) = (a.phase_180_hz, a.gain_margin_db, loop_view) {
         let text = format!("gain margin {} dB @ {}", fmt_fixed(gm, 0), fmt_eng(f, "Hz"));
         marks.push(mark(f, text));
     }
     // The margin is a property of the loop: written on its view only, on
-    // the phase plot (or the magnitude when the phase is not shown).
+    // the phase plot (or the magnitude when the phase is not shown), at
+    // the crossover the registry marks.
     let mut margin = Vec::new();
-    if let (Some(f), Some(pm), true) = (a.crossover_hz, a.phase_margin_deg, loop_view) {
-        let text = format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(f, "Hz"));
-        margin.push(mark(f, text));
+    let crossover = app
+        .view
+        .marks(&stage_of(s))
+        .into_iter()
+        .find(|m| m.kind == MarkKind::Crossover);
+    if let (Some(c), Some(pm)) = (crossover, a.phase_margin_deg) {
+        let text = format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(c.f_hz, "Hz"));
+        margin.push(mark(c.f_hz, text));
     }
     (marks, margin)
 }
 
 fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let loop_view = app.view == View::Loop;
+    let loop_view = app.view == ViewId::Loop;
     let title = format!(" {}{} ", app.view.title(), legend(app));
     let mut b = block(app, title);
     if !loop_view {
@@ -508,11 +547,11 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .slots
         .iter()
         .enumerate()
-        .map(|(i, s)| bode_marks(&s.analysis, loop_view, tag(app, i)))
+        .map(|(i, s)| bode_marks(app, s, tag(app, i)))
         .collect();
     let at = |m: &[VMark]| m.iter().map(|v| v.x).collect::<Vec<f64>>();
     let (mut marks, mut margin) = if per.len() > 1 && at(&per[0].0) == at(&per[1].0) {
-        bode_marks(&app.slots[0].analysis, loop_view, "")
+        bode_marks(app, &app.slots[0], "")
     } else {
         per.into_iter()
             .fold((Vec::new(), Vec::new()), |(mut m, mut g), (a, b)| {
@@ -646,14 +685,14 @@ fn noise_summary(app: &App) -> String {
                 format!(
                     "{}band rms {}",
                     tag(app, i),
-                    compact(s.analysis.noise_rms, "V")
+                    compact(s.analysis.analysis.noise_rms, "V")
                 )
             })
             .collect();
         return format!(" {} ", each.join(" · "));
     }
     let a = &app.slot().analysis;
-    let mut shares: Vec<_> = a.noise_sources.iter().collect();
+    let mut shares: Vec<_> = a.analysis.noise_sources.iter().collect();
     shares.sort_by(|a, b| b.share.total_cmp(&a.share));
     let top: Vec<String> = shares
         .iter()
@@ -663,7 +702,7 @@ fn noise_summary(app: &App) -> String {
         .collect();
     format!(
         " band rms {}: {} ",
-        compact(a.noise_rms, "V"),
+        compact(a.analysis.noise_rms, "V"),
         top.join(", ")
     )
 }
@@ -695,9 +734,9 @@ fn all_band_marks(app: &App) -> Vec<VMark> {
         .windows(2)
         .all(|w| w[0].scenario.band == w[1].scenario.band);
     if same {
-        return band_marks(&app.slot().scenario);
+        return registry_marks(app, app.slot());
     }
-    tagged_marks(app, |s| band_marks(&s.scenario))
+    tagged_marks(app, |s| registry_marks(app, s))
 }
 
 /// Every stage's marks from `of`, each label tagged with its stage.
@@ -715,23 +754,12 @@ fn tagged_marks(app: &App, of: impl Fn(&Slot) -> Vec<VMark>) -> Vec<VMark> {
         .collect()
 }
 
-/// The band's two edges as plot marks.
-fn band_marks(s: &crate::model::Scenario) -> Vec<VMark> {
-    [s.band.0, s.band.1]
-        .into_iter()
-        .map(|f| VMark {
-            x: f.log10(),
-            label: "band".into(),
-        })
-        .collect()
-}
-
 /// The output envelope at the internal output across the band: the
 /// signal's need (A solid, B dotted) under the swing, slew and current
 /// ceilings, with a mark where the need first passes one.
 fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let slot = app.slot();
-    let (s, l) = (&slot.scenario, &slot.analysis.limits);
+    let (s, l) = (&slot.scenario, &slot.analysis.analysis.limits);
     let title = format!(" {} V{} ", app.view.title(), legend(app));
     let bottom = match (l.int_peak_v, l.envelope_limit) {
         (None, _) => " give source peak for the envelope ".to_string(),
@@ -784,13 +812,8 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         (-1.0, 1.0)
     };
     let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
-    let mut marks = band_marks(s);
-    if let Some((f, _)) = l.envelope_limit {
-        marks.push(VMark {
-            x: f.log10(),
-            label: "!".into(),
-        });
-    }
+    // The band edges and where the need first passes a ceiling.
+    let marks = registry_marks(app, slot);
     plot(app, tr, x, y, marks).render(inner, buf);
 }
 
@@ -804,10 +827,10 @@ fn step_summary(app: &App) -> String {
 
 /// One stage's overshoot and settling (or why not).
 fn stage_step_summary(slot: &Slot) -> String {
-    let r = &slot.analysis.step;
+    let r = &slot.analysis.analysis.step;
     let pct = |v: f64| format!("{}%", crate::model::values::fmt_plain(v, 3));
     match (r.final_v, r.settle_s[1]) {
-        _ if slot.analysis.unstable() => "unstable: no step response".to_string(),
+        _ if slot.analysis.analysis.unstable() => "unstable: no step response".to_string(),
         (Some(_), Some(ts)) => {
             let mut t = format!(
                 "overshoot {}, 0.1 % in {}",
@@ -831,7 +854,7 @@ fn stage_step_summary(slot: &Slot) -> String {
 fn step_window(app: &App) -> f64 {
     app.slots
         .iter()
-        .filter_map(|s| s.analysis.step.view_end())
+        .filter_map(|s| s.analysis.analysis.step.view_end())
         .fold(0.0, f64::max)
 }
 
@@ -859,21 +882,26 @@ fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
 
 /// Every stage's step marks, tagged A and B when there are two.
 fn all_step_marks(app: &App) -> Vec<VMark> {
-    tagged_marks(app, |s| step_marks(&s.analysis.step))
+    tagged_marks(app, |s| step_marks(&s.analysis.analysis.step))
 }
 
 /// The step response on a linear time axis: each stage's waveform, A's
 /// final value and ±0.1 % band, and the marks of [`step_marks`].
 fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let r = &app.slot().analysis.step;
+    let r = &app.slot().analysis.analysis.step;
     let end = step_window(app);
     let n = (area.width as usize * 4).clamp(50, 600);
-    let responses: Vec<_> = app.slots.iter().map(|s| &s.analysis.step).collect();
+    let responses: Vec<_> = app
+        .slots
+        .iter()
+        .map(|s| &s.analysis.analysis.step)
+        .collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, n);
     let sizes: Vec<String> = responses.iter().map(|r| compact(r.size_v, "V")).collect();
     let unit = if divided { "output / final value" } else { "V" };
     let title = format!(
-        " Step response, {} step, {unit}{} ",
+        " {}, {} step, {unit}{} ",
+        app.view.title(),
         sizes.join(" / "),
         legend(app)
     );
@@ -1287,9 +1315,14 @@ fn help_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     // The legend only where it fits below every key.
     let n_keys = keys::help_rows().count();
     let legend = (area.height as usize).saturating_sub(n_keys + 2);
-    let rows: Vec<(&str, &str)> = keys::help_rows()
-        .map(|b| (b.shown, b.help))
-        .chain(keys::LEGEND.iter().copied().take(legend))
+    let rows: Vec<(&str, std::borrow::Cow<str>)> = keys::help_rows()
+        .map(|b| (b.shown, b.help_text()))
+        .chain(
+            keys::LEGEND
+                .iter()
+                .map(|&(k, h)| (k, h.into()))
+                .take(legend),
+        )
         .collect();
     let r = centered(area, 78, rows.len() as u16 + 2);
     Clear.render(r, buf);

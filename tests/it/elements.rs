@@ -97,11 +97,11 @@ fn minus_input_capacitance_costs_phase_margin() {
     };
     let (fc, pm) = closed_form_margin(|f| open_loop(&s, f) * beta(f));
     // Measured errors 5e-12 and 6e-14°; tolerances 5e-11 and 1e-11°.
-    assert_rel("crossover", a.crossover_hz.unwrap(), fc, 5e-11);
+    assert_rel("crossover", a.analysis.crossover_hz.unwrap(), fc, 5e-11);
     assert!(
-        (a.phase_margin_deg.unwrap() - pm).abs() < 1e-11,
+        (a.analysis.phase_margin_deg.unwrap() - pm).abs() < 1e-11,
         "{} vs {pm}",
-        a.phase_margin_deg.unwrap()
+        a.analysis.phase_margin_deg.unwrap()
     );
     assert!(pm < 70.0, "the pole costs margin: {pm}");
 }
@@ -116,7 +116,7 @@ fn isolation_resistor_adds_to_the_output_impedance() {
     let a = evaluate(&s);
     assert_rel(
         "Zout at DC",
-        a.zout_dc_ohm,
+        a.analysis.zout_dc_ohm,
         50.0 + 75.0 / (1.0 + 1e5),
         1e-12,
     );
@@ -147,7 +147,7 @@ fn isolation_resistor_restores_phase_margin() {
         let a = evaluate(&s);
         let z = |f: f64| riso + 1.0 / (J * 2.0 * PI * f * 10e-9);
         let (_, want) = closed_form_margin(|f| open_loop(&s, f) * z(f) / (75.0 + z(f)));
-        let got = a.phase_margin_deg.unwrap();
+        let got = a.analysis.phase_margin_deg.unwrap();
         // Measured error ≤ 2e-13°; tolerance 1e-11°.
         assert!((got - want).abs() < 1e-11, "riso {riso}: {got} vs {want}");
         got
@@ -171,7 +171,12 @@ fn follower_with_a_real_feedback_resistor() {
     s.amp.rin = Some(100e3);
     let a = evaluate(&s);
     // Measured error ≈ 1e-15; tolerance 1e-12.
-    assert_rel("DC gain", a.dc_gain, 1e3 / (1.0 + 0.1 + 1e3), 1e-12);
+    assert_rel(
+        "DC gain",
+        a.analysis.dc_gain,
+        1e3 / (1.0 + 0.1 + 1e3),
+        1e-12,
+    );
     let mut n = fast(follower());
     n.stage.rf = Some(10e3);
     let c = Circuit::new(&n);
@@ -184,21 +189,25 @@ fn follower_with_a_real_feedback_resistor() {
 fn same_figures(a: &Scenario, b: &Scenario, what: &str) {
     let (x, y) = (evaluate(a), evaluate(b));
     for (name, p, q) in [
-        ("dc gain", x.dc_gain, y.dc_gain),
+        ("dc gain", x.analysis.dc_gain, y.analysis.dc_gain),
         (
             "f−3dB",
-            x.f_3db_hz.unwrap_or(0.0),
-            y.f_3db_hz.unwrap_or(0.0),
+            x.analysis.f_3db_hz.unwrap_or(0.0),
+            y.analysis.f_3db_hz.unwrap_or(0.0),
         ),
-        ("peaking", x.peaking_db, y.peaking_db),
+        ("peaking", x.analysis.peaking_db, y.analysis.peaking_db),
         (
             "phase margin",
-            x.phase_margin_deg.unwrap_or(0.0),
-            y.phase_margin_deg.unwrap_or(0.0),
+            x.analysis.phase_margin_deg.unwrap_or(0.0),
+            y.analysis.phase_margin_deg.unwrap_or(0.0),
         ),
-        ("zout", x.zout_dc_ohm, y.zout_dc_ohm),
-        ("noise rms", x.noise_rms, y.noise_rms),
-        ("noise at 1 kHz", x.noise_density_1khz, y.noise_density_1khz),
+        ("zout", x.analysis.zout_dc_ohm, y.analysis.zout_dc_ohm),
+        ("noise rms", x.analysis.noise_rms, y.analysis.noise_rms),
+        (
+            "noise at 1 kHz",
+            x.analysis.noise_density_1khz,
+            y.analysis.noise_density_1khz,
+        ),
     ] {
         assert_eq!(p, q, "{what}: {name}");
     }
@@ -225,7 +234,10 @@ fn zero_means_absent() {
     // And a present value does change them (the comparison can fail).
     let mut cf = none.clone();
     cf.stage.cf = Some(100e-12);
-    assert_ne!(evaluate(&cf).f_3db_hz, evaluate(&none).f_3db_hz);
+    assert_ne!(
+        evaluate(&cf).analysis.f_3db_hz,
+        evaluate(&none).analysis.f_3db_hz
+    );
 }
 
 #[test]

@@ -29,8 +29,18 @@ fn johnson_noise_of_1k_at_25c() {
     s.amp.a0 = 1.0e9;
     s.amp.gbw = 1.0e12;
     let a = evaluate(&s);
-    assert_rel("1 kΩ noise at the output", a.noise_density_1khz, want, 1e-6);
-    assert_rel("≈ 4.06 nV/√Hz", a.noise_density_1khz, 4.06e-9, 2e-3);
+    assert_rel(
+        "1 kΩ noise at the output",
+        a.analysis.noise_density_1khz,
+        want,
+        1e-6,
+    );
+    assert_rel(
+        "≈ 4.06 nV/√Hz",
+        a.analysis.noise_density_1khz,
+        4.06e-9,
+        2e-3,
+    );
 }
 
 #[test]
@@ -44,11 +54,16 @@ fn non_inverting_finite_gain() {
         let beta = rg / (rg + rf);
         let ideal = 1.0 + rf / rg;
         let want = ideal / (1.0 + 1.0 / (a0 * beta));
-        assert_rel("ideal gain", a.ideal_gain, ideal, 1e-12);
-        assert_rel("dc gain", a.dc_gain, want, 1e-9);
-        assert_rel("gain error", a.gain_error, want / ideal - 1.0, 1e-6);
+        assert_rel("ideal gain", a.analysis.ideal_gain, ideal, 1e-12);
+        assert_rel("dc gain", a.analysis.dc_gain, want, 1e-9);
+        assert_rel(
+            "gain error",
+            a.analysis.gain_error,
+            want / ideal - 1.0,
+            1e-6,
+        );
         // Loop gain at DC is A·β for this ideal network.
-        assert_rel("dc loop gain", a.loop_gain_dc, a0 * beta, 1e-9);
+        assert_rel("dc loop gain", a.analysis.loop_gain_dc, a0 * beta, 1e-9);
     }
 }
 
@@ -61,9 +76,12 @@ fn inverting_finite_gain() {
         let a = evaluate(&s);
         let beta = rg / (rg + rf);
         let want = -(rf / rg) / (1.0 + 1.0 / (a0 * beta));
-        assert!(a.dc_gain < 0.0, "an inverting stage has negative gain");
-        assert_rel("ideal gain", a.ideal_gain, -rf / rg, 1e-12);
-        assert_rel("dc gain", a.dc_gain, want, 1e-9);
+        assert!(
+            a.analysis.dc_gain < 0.0,
+            "an inverting stage has negative gain"
+        );
+        assert_rel("ideal gain", a.analysis.ideal_gain, -rf / rg, 1e-12);
+        assert_rel("dc gain", a.analysis.dc_gain, want, 1e-9);
     }
 }
 
@@ -74,7 +92,7 @@ fn source_resistance_adds_to_rg_in_an_inverting_stage() {
     let mut s = plain(Topology::Inverting, 1e3, 10e3);
     s.source.r = 1e3;
     let a = evaluate(&s);
-    assert_rel("ideal gain", a.ideal_gain, -5.0, 1e-12);
+    assert_rel("ideal gain", a.analysis.ideal_gain, -5.0, 1e-12);
 }
 
 #[test]
@@ -85,9 +103,9 @@ fn isolation_resistor_and_load_divide_the_ideal_gain() {
     s.stage.riso = Some(100.0);
     s.load.r = Some(900.0);
     let a = evaluate(&s);
-    assert_rel("ideal gain", a.ideal_gain, 10.0 * 0.9, 1e-12);
+    assert_rel("ideal gain", a.analysis.ideal_gain, 10.0 * 0.9, 1e-12);
     // The nominal gain is the resistor ratio alone: 1 + 9k/1k.
-    assert_eq!(a.nominal_gain, 10.0);
+    assert_eq!(a.analysis.nominal_gain, 10.0);
 }
 
 #[test]
@@ -107,7 +125,7 @@ fn output_impedance_kcl_with_finite_rin() {
         let a = evaluate(&s);
         let rp = rg * rin / (rg + rin);
         let y = 1.0 / (rf + rp) + 1.0 / ro + a0 * rp / (ro * (rp + rf));
-        assert_rel("Zout at DC", a.zout_dc_ohm, 1.0 / y, 1e-9);
+        assert_rel("Zout at DC", a.analysis.zout_dc_ohm, 1.0 / y, 1e-9);
     }
 }
 
@@ -145,8 +163,13 @@ fn feedback_drives_output_impedance_far_below_ro() {
     let mut s = follower();
     s.amp.ro = 75.0;
     let a = evaluate(&s);
-    assert!(a.zout_dc_ohm < 1e-3, "{}", a.zout_dc_ohm);
-    assert_rel("ro/(1 + a0)", a.zout_dc_ohm, 75.0 / (1.0 + 1e5), 1e-9);
+    assert!(a.analysis.zout_dc_ohm < 1e-3, "{}", a.analysis.zout_dc_ohm);
+    assert_rel(
+        "ro/(1 + a0)",
+        a.analysis.zout_dc_ohm,
+        75.0 / (1.0 + 1e5),
+        1e-9,
+    );
 }
 
 #[test]
@@ -157,14 +180,19 @@ fn single_pole_bandwidth_is_gbw_over_noise_gain() {
         s.amp.gbw = gbw;
         let a = evaluate(&s);
         let ng = 1.0 + rf / rg;
-        assert_rel("f−3dB", a.f_3db_hz.unwrap(), gbw / ng, 0.01);
+        assert_rel("f−3dB", a.analysis.f_3db_hz.unwrap(), gbw / ng, 0.01);
         // And exactly, for one pole: fp1·(1 + a0·β).
         let exact = gbw / s.amp.a0 * (1.0 + s.amp.a0 / ng);
-        assert_rel("f−3dB exact", a.f_3db_hz.unwrap(), exact, 1e-6);
-        assert!(a.peaking_db < 1e-6);
+        assert_rel("f−3dB exact", a.analysis.f_3db_hz.unwrap(), exact, 1e-6);
+        assert!(a.analysis.peaking_db < 1e-6);
         // The loop crosses over at about the same frequency, 90° margin.
-        assert_rel("crossover", a.crossover_hz.unwrap(), gbw / ng, 0.01);
-        assert!((a.phase_margin_deg.unwrap() - 90.0).abs() < 0.1);
+        assert_rel(
+            "crossover",
+            a.analysis.crossover_hz.unwrap(),
+            gbw / ng,
+            0.01,
+        );
+        assert!((a.analysis.phase_margin_deg.unwrap() - 90.0).abs() < 0.1);
     }
 }
 
@@ -182,9 +210,9 @@ fn two_pole_phase_margin() {
         let fp1 = s.amp.gbw / s.amp.a0;
         let fc = unity_crossing(1.0, 1e9, |f| 0.1 * open_loop(&s, f).norm());
         // Measured error ≤ 1e-10; tolerance 1e-9.
-        assert_rel("crossover", a.crossover_hz.unwrap(), fc, 1e-9);
+        assert_rel("crossover", a.analysis.crossover_hz.unwrap(), fc, 1e-9);
         let exact = 180.0 - ((fc / fp1).atan() + (fc / fp2).atan()).to_degrees();
-        let pm = a.phase_margin_deg.unwrap();
+        let pm = a.analysis.phase_margin_deg.unwrap();
         // Measured error ≤ 1.8e-9°; tolerance 1e-8°.
         assert!((pm - exact).abs() < 1e-8, "fp2 {fp2}: {pm} vs {exact}");
         let approx = 90.0 - (fc / fp2).atan().to_degrees();
@@ -208,9 +236,9 @@ fn second_order_peaking_matches_the_damping_formula() {
     // The low-frequency gain is a0/(1 + a0), the peak is relative to it.
     let want = 20.0 * (1.0 / (2.0 * zeta * (1.0 - zeta * zeta).sqrt())).log10();
     assert!(
-        (a.peaking_db - want).abs() < 0.01,
+        (a.analysis.peaking_db - want).abs() < 0.01,
         "{} vs {want}",
-        a.peaking_db
+        a.analysis.peaking_db
     );
 }
 
@@ -222,7 +250,7 @@ fn input_impedance_closed_forms() {
     let a = evaluate(&s);
     assert_rel(
         "inverting Zin",
-        a.zin_dc_ohm.unwrap(),
+        a.analysis.zin_dc_ohm.unwrap(),
         1e3 + 10e3 / 1001.0,
         1e-9,
     );
@@ -235,10 +263,15 @@ fn input_impedance_closed_forms() {
     let a = evaluate(&s);
     let par = 1e3 * 9e3 / 10e3;
     let want = 1e6 + par * (1.0 + 1e4 * 1e6 / 9e3);
-    assert_rel("non-inverting Zin", a.zin_dc_ohm.unwrap(), want, 1e-6);
+    assert_rel(
+        "non-inverting Zin",
+        a.analysis.zin_dc_ohm.unwrap(),
+        want,
+        1e-6,
+    );
     // Without rin the + input draws no DC current: Zin is open.
     let s = plain(Topology::NonInverting, 1e3, 9e3);
-    assert!(evaluate(&s).zin_dc_ohm.is_none());
+    assert!(evaluate(&s).analysis.zin_dc_ohm.is_none());
 }
 
 #[test]
@@ -255,7 +288,7 @@ fn one_pole_noise_bandwidth() {
     let a = evaluate(&s);
     let f3 = s.amp.gbw / s.amp.a0 * (1.0 + s.amp.a0);
     // Measured error ≈ 1e-11 (refinement); tolerance 1e-9.
-    assert_rel("f−3dB", a.f_3db_hz.unwrap(), f3, 1e-9);
+    assert_rel("f−3dB", a.analysis.f_3db_hz.unwrap(), f3, 1e-9);
     let (lo, hi) = s.band;
     // The en gain is a0/(1 + a0) at DC: its square scales the power.
     let g2 = (s.amp.a0 / (1.0 + s.amp.a0)).powi(2);
@@ -263,14 +296,19 @@ fn one_pole_noise_bandwidth() {
     let want = 10e-9 * (g2 * band).sqrt();
     // Measured error 1.2e-4 (power-law segments on a one-pole roll-off at
     // 30 points per decade); tolerance 4e-4.
-    assert_rel("rms", a.noise_rms, want, 4e-4);
+    assert_rel("rms", a.analysis.noise_rms, want, 4e-4);
     assert_rel(
         "π/2 rule",
-        a.noise_rms,
+        a.analysis.noise_rms,
         10e-9 * (PI / 2.0 * f3).sqrt(),
         4e-4,
     );
-    let en = a.noise_sources.iter().find(|n| n.key == "vnoise").unwrap();
+    let en = a
+        .analysis
+        .noise_sources
+        .iter()
+        .find(|n| n.key == "vnoise")
+        .unwrap();
     assert_rel("voltage noise share", en.share, 1.0, 1e-12);
 }
 
@@ -297,7 +335,7 @@ fn flicker_noise_integral() {
         // tolerances 3e-6 and 1.5e-4, far below the white share (≥ 0.2 %).
         assert_rel(
             &format!("rms with 1/f over {lo}…{hi} Hz"),
-            a.noise_rms,
+            a.analysis.noise_rms,
             want,
             tol,
         );
@@ -316,14 +354,19 @@ fn noise_gain_scales_voltage_noise_and_resistor_noise_adds() {
     let a = evaluate(&s);
     let kt4 = 4.0 * 1.380649e-23 * 298.15;
     let want = ((3e-9f64 * 10.0).powi(2) + kt4 * 1e3 * 81.0 + kt4 * 9e3).sqrt();
-    assert_rel("density", a.noise_density_1khz, want, 1e-6);
+    assert_rel("density", a.analysis.noise_density_1khz, want, 1e-6);
     // Current noise into the − input appears across rf‖… : in·rf at the output.
     let mut s2 = s.clone();
     s2.amp.vnoise = 0.0;
     s2.amp.inoise = 1e-12;
     s2.temp_c = -273.149_999_999; // nearly no thermal noise
     let a2 = evaluate(&s2);
-    assert_rel("current noise", a2.noise_density_1khz, 1e-12 * 9e3, 1e-4);
+    assert_rel(
+        "current noise",
+        a2.analysis.noise_density_1khz,
+        1e-12 * 9e3,
+        1e-4,
+    );
 }
 
 #[test]
@@ -336,7 +379,7 @@ fn gain_margin_of_a_three_pole_loop() {
     s.amp.ro = 100.0;
     s.load.c = Some(1e-9);
     let a = evaluate(&s);
-    let f180 = a.phase_180_hz.expect("phase reaches −180°");
+    let f180 = a.analysis.phase_180_hz.expect("phase reaches −180°");
     let fp1 = s.amp.gbw / s.amp.a0;
     let fp3 = 1.0 / (2.0 * PI * 100.0 * 1e-9);
     let phase = |f: f64| -((f / fp1).atan() + (f / 2e6).atan() + (f / fp3).atan()).to_degrees();
@@ -347,8 +390,8 @@ fn gain_margin_of_a_three_pole_loop() {
             * (1.0 + (f180 / fp3).powi(2)))
         .sqrt();
     let want = -20.0 * mag.log10();
-    assert!((a.gain_margin_db.unwrap() - want).abs() < 1e-3);
-    assert!(rel(a.gain_margin_db.unwrap(), want) < 1e-3);
+    assert!((a.analysis.gain_margin_db.unwrap() - want).abs() < 1e-3);
+    assert!(rel(a.analysis.gain_margin_db.unwrap(), want) < 1e-3);
 }
 
 #[test]
@@ -371,8 +414,8 @@ fn load_capacitance_cost_is_the_margin_it_takes() {
     let want = 180.0 - ((fc / fp1).atan() + (fc / 10e6).atan() + (fc / fp3).atan()).to_degrees();
     let want0 = 180.0 - ((fc0 / fp1).atan() + (fc0 / 10e6).atan()).to_degrees();
     let (pm, without) = (
-        a.phase_margin_deg.unwrap(),
-        a.phase_margin_without_load_c.unwrap(),
+        a.analysis.phase_margin_deg.unwrap(),
+        a.analysis.phase_margin_without_load_c.unwrap(),
     );
     // Measured errors 4e-14° and 1.6e-10° (the coarse scan without the
     // load capacitance); tolerance 1e-9°.
@@ -527,8 +570,8 @@ fn follower_loop_gain_is_exact_at_the_top_of_the_a0_range() {
     s.amp.a0 = 1e9;
     s.amp.gbw = 1e6;
     let a = evaluate(&s);
-    assert_rel("loop gain at DC", a.loop_gain_dc, 1e9, 1e-6);
-    assert_rel("DC gain", a.dc_gain, 1e9 / (1.0 + 1e9), 1e-12);
+    assert_rel("loop gain at DC", a.analysis.loop_gain_dc, 1e9, 1e-6);
+    assert_rel("DC gain", a.analysis.dc_gain, 1e9 / (1.0 + 1e9), 1e-12);
 }
 
 /// Closed-loop output impedance at the amplifier pin, riso and load

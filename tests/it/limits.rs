@@ -61,14 +61,19 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
     let ib = 100.0e-9;
     let e = evaluate(&s);
     let want = g * (-ib * rs) + ib * rf;
-    assert_rel("bias error", e.limits.out_bias_v.unwrap(), want, 1e-6);
+    assert_rel(
+        "bias error",
+        e.analysis.limits.out_bias_v.unwrap(),
+        want,
+        1e-6,
+    );
     // With only the offset voltage: (1 + rf/rg)·vos (same expression).
     let mut v = s.clone();
     v.amp.ib = None;
     v.amp.vos = Some(1.0e-3);
     assert_rel(
         "offset",
-        evaluate(&v).limits.out_offset_max_v.unwrap(),
+        evaluate(&v).analysis.limits.out_offset_max_v.unwrap(),
         g * 1.0e-3,
         1e-6,
     );
@@ -77,7 +82,7 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
     v.temp_c = 75.0;
     assert_rel(
         "offset with drift",
-        evaluate(&v).limits.out_offset_max_v.unwrap(),
+        evaluate(&v).analysis.limits.out_offset_max_v.unwrap(),
         g * (1.0e-3 + 10.0e-6 * 50.0),
         1e-6,
     );
@@ -88,7 +93,7 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
     c.amp.ios = Some(20.0e-9);
     assert_rel(
         "offset current",
-        evaluate(&c).limits.out_offset_max_v.unwrap(),
+        evaluate(&c).analysis.limits.out_offset_max_v.unwrap(),
         10.0e-9 * (g * rs + rf),
         1e-6,
     );
@@ -96,7 +101,7 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
     let err = |a0: f64| {
         let mut t = s.clone();
         t.amp.a0 = a0;
-        ((evaluate(&t).limits.out_bias_v.unwrap() - want) / want).abs()
+        ((evaluate(&t).analysis.limits.out_bias_v.unwrap() - want) / want).abs()
     };
     assert!(
         err(1.0e3) > 10.0 * err(1.0e6),
@@ -110,8 +115,8 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
     let ed = evaluate(&d);
     assert_rel(
         "out dc",
-        ed.limits.out_dc_v.unwrap(),
-        ed.dc_gain * 0.25 + want,
+        ed.analysis.limits.out_dc_v.unwrap(),
+        ed.analysis.dc_gain * 0.25 + want,
         1e-9,
     );
 }
@@ -125,21 +130,21 @@ fn bias_currents_cancel_with_rs_equal_to_rg_parallel_rf() {
     let mut s = ideal_amp(plain(Topology::NonInverting, rg, rf));
     s.source.r = par(rg, rf);
     s.amp.ib = Some(ib);
-    let bias = evaluate(&s).limits.out_bias_v.unwrap();
+    let bias = evaluate(&s).analysis.limits.out_bias_v.unwrap();
     assert!(bias.abs() < 1e-6 * ib * rf, "{bias}");
     // From an ideal source the balance resistor is rg‖rf itself; from
     // 100 Ω, rg‖rf − 100 Ω (same cancellation).
     s.source.r = 0.0;
-    let r = evaluate(&s).limits.bias_balance_ohm.unwrap();
+    let r = evaluate(&s).analysis.limits.bias_balance_ohm.unwrap();
     assert_rel("balance from 0 Ω", r, par(rg, rf), 1e-6);
     s.source.r = 100.0;
-    let r = evaluate(&s).limits.bias_balance_ohm.unwrap();
+    let r = evaluate(&s).analysis.limits.bias_balance_ohm.unwrap();
     assert_rel("balance from 100 Ω", r, par(rg, rf) - 100.0, 1e-6);
     // Already balanced or over: no positive resistor (null).
     s.source.r = 2.0 * par(rg, rf);
-    assert_eq!(evaluate(&s).limits.bias_balance_ohm, None);
+    assert_eq!(evaluate(&s).analysis.limits.bias_balance_ohm, None);
     s.amp.ib = None;
-    assert_eq!(evaluate(&s).limits.bias_balance_ohm, None);
+    assert_eq!(evaluate(&s).analysis.limits.bias_balance_ohm, None);
 }
 
 #[test]
@@ -153,14 +158,14 @@ fn inverting_stage_balances_with_rs_plus_rg_parallel_rf() {
     let e = evaluate(&s);
     assert_rel(
         "balance",
-        e.limits.bias_balance_ohm.unwrap(),
+        e.analysis.limits.bias_balance_ohm.unwrap(),
         par(rs + rg, rf),
         1e-6,
     );
     // Without it the − pin's current flows through rf: Vout = ib·rf.
     assert_rel(
         "bias error",
-        e.limits.out_bias_v.unwrap(),
+        e.analysis.limits.out_bias_v.unwrap(),
         50.0e-9 * rf,
         1e-6,
     );
@@ -168,7 +173,7 @@ fn inverting_stage_balances_with_rs_plus_rg_parallel_rf() {
     s.source.peak = Some(0.1);
     let e = evaluate(&s);
     assert_eq!(
-        (e.limits.cm_low_v, e.limits.cm_high_v),
+        (e.analysis.limits.cm_low_v, e.analysis.limits.cm_high_v),
         (Some(0.0), Some(0.0))
     );
 }
@@ -183,7 +188,7 @@ fn full_power_bandwidth_and_slew_need() {
     s.source.peak = Some(2.0);
     s.amp.slew = Some(1.0e6);
     let e = evaluate(&s);
-    let l = &e.limits;
+    let l = &e.analysis.limits;
     assert_rel("int peak", l.int_peak_v.unwrap(), 2.0, 1e-6);
     assert_rel(
         "slew need",
@@ -200,7 +205,7 @@ fn full_power_bandwidth_and_slew_need() {
     s.amp.slew = Some(200.0e3);
     assert_eq!(has(&evaluate(&s), "slew"), Some(Severity::Severe));
     s.amp.slew = None;
-    assert_eq!(evaluate(&s).limits.fpbw_hz, None);
+    assert_eq!(evaluate(&s).analysis.limits.fpbw_hz, None);
 }
 
 #[test]
@@ -213,7 +218,7 @@ fn capacitive_load_current_is_two_pi_f_c_vp() {
     s.source.peak = Some(1.0);
     let e = evaluate(&s);
     let want = 2.0 * PI * 10.0e3 * 10.0e-9 * 1.0;
-    assert_rel("iout", e.limits.iout_peak_a.unwrap(), want, 1e-4);
+    assert_rel("iout", e.analysis.limits.iout_peak_a.unwrap(), want, 1e-4);
     // Above 80 % of the limit a warning naming the load capacitance and
     // the frequency; above the limit severe (README thresholds).
     s.amp.iout = Some(want / 0.9);
@@ -248,15 +253,15 @@ fn internal_output_swings_more_than_the_load_by_the_ro_and_riso_drops() {
     s.source.dc = Some(0.5);
     s.source.peak = Some(0.0);
     let e = evaluate(&s);
-    let v_load = e.limits.out_dc_v.unwrap();
+    let v_load = e.analysis.limits.out_dc_v.unwrap();
     let v_amp = v_load * (rl + riso) / rl;
     let i_fb = v_amp / (rg + rf);
     let want = v_load * (rl + riso + ro) / rl + ro * i_fb;
-    assert_rel("int dc", e.limits.int_dc_v.unwrap(), want, 1e-6);
+    assert_rel("int dc", e.analysis.limits.int_dc_v.unwrap(), want, 1e-6);
     // The amplifier's current (peak 0: the DC current alone).
     assert_rel(
         "i dc",
-        e.limits.iout_peak_a.unwrap(),
+        e.analysis.limits.iout_peak_a.unwrap(),
         v_load / rl + i_fb,
         1e-6,
     );
@@ -274,7 +279,7 @@ fn single_supply_inverter_clips_and_its_grounded_input_is_out_of_range() {
     // a 0.2 V peak; the output must reach about −2 V (gain × peak, from
     // the textbook inverting gain), far below the 0.1 V usable bottom.
     let e = evaluate(&example("single_supply_inverter_clips"));
-    let low = e.limits.headroom_low_v.unwrap();
+    let low = e.analysis.limits.headroom_low_v.unwrap();
     assert!(low < -(10.0 * 0.2 * 0.9 - 0.1), "{low}");
     assert_eq!(has(&e, "output-swing"), Some(Severity::Severe));
     let w = e
@@ -289,7 +294,12 @@ fn single_supply_inverter_clips_and_its_grounded_input_is_out_of_range() {
     );
     // Ground is 0.5 V outside inputs that stop 0.5 V above the negative
     // rail (cm_neg in the file).
-    assert_rel("cm headroom", e.limits.cm_headroom_v.unwrap(), -0.5, 1e-9);
+    assert_rel(
+        "cm headroom",
+        e.analysis.limits.cm_headroom_v.unwrap(),
+        -0.5,
+        1e-9,
+    );
     let w = e.warnings.iter().find(|w| w.code == "input-range").unwrap();
     assert_eq!(w.severity, Severity::Severe);
     assert!(w.text.contains("grounded"), "{}", w.text);
@@ -303,7 +313,7 @@ fn rail_to_rail_follower_at_mid_supply_flags_neither() {
     assert_eq!(has(&e, "output-swing"), None, "{:?}", codes(&e));
     assert_eq!(has(&e, "input-range"), None, "{:?}", codes(&e));
     assert_eq!(e.warnings.len(), 0, "{:?}", codes(&e));
-    let l = &e.limits;
+    let l = &e.analysis.limits;
     assert!((l.headroom_low_v.unwrap() - 1.48).abs() < 0.02);
     assert!((l.cm_low_v.unwrap() - 1.5).abs() < 0.01);
     assert!((l.cm_high_v.unwrap() - 3.5).abs() < 0.01);
@@ -329,7 +339,10 @@ fn headroom_warning_below_five_percent_of_the_span() {
     s.supply = None;
     let e = evaluate(&s);
     assert_eq!(
-        (e.limits.headroom_low_v, e.limits.cm_headroom_v),
+        (
+            e.analysis.limits.headroom_low_v,
+            e.analysis.limits.cm_headroom_v
+        ),
         (None, None)
     );
 }

@@ -4,10 +4,12 @@
 
 mod support;
 
+mod app_loop;
 mod cursor;
 mod design_helpers;
 mod elements;
 mod engine_checks;
+mod enum_lists;
 mod file_kinds;
 mod files_and_ab;
 mod limits;
@@ -31,5 +33,6 @@ mod strip_and_ascii;
 mod sweep_cli;
 mod tmux_e2e;
 mod ui_render;
+mod view_marks;
 mod warnings_rules;
 mod workbench_keys;

@@ -61,7 +61,12 @@ fn follower_on_100_megohm_voltage_noise_is_not_filtered_by_cin() {
     let want = s.amp.vnoise * ((hi - lo) + fc * (hi / lo).ln()).sqrt() * gain;
     assert!((want - 657e-9).abs() < 1e-9, "about 657 nV: {want:e}");
     let a = evaluate(&s);
-    let en = a.noise_sources.iter().find(|n| n.key == "vnoise").unwrap();
+    let en = a
+        .analysis
+        .noise_sources
+        .iter()
+        .find(|n| n.key == "vnoise")
+        .unwrap();
     // Measured error 3.9e-6. Integration alone errs up to ≈ 3e-5 where white
     // and 1/f are comparable (flicker test in engine_checks.rs), and cin
     // shunts the rs/rin term (≤ 1e-4) above rs·cin's 400 Hz; tolerance 2e-4,
@@ -126,7 +131,7 @@ fn johnson_noise_at_other_temperatures() {
         // Measured error 1e-9 (finite a0); tolerance 1e-8.
         assert_rel(
             &format!("10 kΩ at {t} °C"),
-            a.noise_density_1khz,
+            a.analysis.noise_density_1khz,
             johnson(10e3, t),
             1e-8,
         );
@@ -159,7 +164,12 @@ fn current_noise_corner() {
     let (lo, hi) = s.band;
     let want = 1e-12 * 1e6 * ((hi - lo) + 1e3 * (hi / lo).ln()).sqrt();
     // Measured error 4.9e-6 (integration); tolerance 2e-5.
-    assert_rel("rms with the current-noise corner", a.noise_rms, want, 2e-5);
+    assert_rel(
+        "rms with the current-noise corner",
+        a.analysis.noise_rms,
+        want,
+        2e-5,
+    );
 }
 
 #[test]

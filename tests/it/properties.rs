@@ -88,38 +88,38 @@ proptest! {
         prop_assert!(s.validate().is_ok());
         let a = evaluate(&s);
         for (name, v) in [
-            ("ideal_gain", a.ideal_gain),
-            ("dc_gain", a.dc_gain),
-            ("gain_error", a.gain_error),
-            ("peaking_db", a.peaking_db),
-            ("zout_dc_ohm", a.zout_dc_ohm),
-            ("noise_density_1khz", a.noise_density_1khz),
-            ("noise_rms", a.noise_rms),
-            ("loop_gain_dc", a.loop_gain_dc),
+            ("ideal_gain", a.analysis.ideal_gain),
+            ("dc_gain", a.analysis.dc_gain),
+            ("gain_error", a.analysis.gain_error),
+            ("peaking_db", a.analysis.peaking_db),
+            ("zout_dc_ohm", a.analysis.zout_dc_ohm),
+            ("noise_density_1khz", a.analysis.noise_density_1khz),
+            ("noise_rms", a.analysis.noise_rms),
+            ("loop_gain_dc", a.analysis.loop_gain_dc),
         ] {
             prop_assert!(v.is_finite(), "{} = {}", name, v);
         }
-        for v in [a.f_3db_hz, a.crossover_hz, a.phase_margin_deg, a.gain_margin_db, a.zin_dc_ohm].into_iter().flatten() {
+        for v in [a.analysis.f_3db_hz, a.analysis.crossover_hz, a.analysis.phase_margin_deg, a.analysis.gain_margin_db, a.analysis.zin_dc_ohm].into_iter().flatten() {
             prop_assert!(v.is_finite());
         }
-        prop_assert!(a.zout_dc_ohm > 0.0, "Zout = {}", a.zout_dc_ohm);
+        prop_assert!(a.analysis.zout_dc_ohm > 0.0, "Zout = {}", a.analysis.zout_dc_ohm);
         // The DC-error and signal-limit figures: finite where defined.
         for f in loopwright::judge::figures::FIGURES.iter().filter(|f| f.needs_input) {
             if let loopwright::judge::figures::Reading::Value(v) = f.read(&a) {
                 prop_assert!(v.is_finite(), "{} = {}", f.key, v);
             }
         }
-        for e in &a.limits.envelope {
+        for e in &a.analysis.limits.envelope {
             prop_assert!(e.need.is_finite() && e.need >= 0.0, "need at {} Hz", e.f_hz);
         }
-        prop_assert!(a.peaking_db >= 0.0);
-        for p in &a.sweep.points {
+        prop_assert!(a.analysis.peaking_db >= 0.0);
+        for p in &a.analysis.sweep.points {
             prop_assert!(p.gain.re.is_finite() && p.gain.im.is_finite());
             prop_assert!(p.loop_gain.re.is_finite() && p.loop_gain.im.is_finite());
             prop_assert!(p.zout.norm().is_finite() && p.zout.norm() > 0.0, "Zout at {} Hz", p.f_hz);
             prop_assert!(p.noise_density().is_finite());
         }
-        let total: f64 = a.noise_sources.iter().map(|n| n.share).sum();
+        let total: f64 = a.analysis.noise_sources.iter().map(|n| n.share).sum();
         prop_assert!(total == 0.0 || (total - 1.0).abs() < 1e-9);
     }
 

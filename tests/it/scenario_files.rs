@@ -45,7 +45,7 @@ fn omitted_optional_fields_are_absent() {
     assert_eq!(s.stage.cf, None);
     assert_eq!(s.amp.rin, None);
     assert_eq!(s.load.r, None);
-    assert!(evaluate(&s).dc_gain > 10.0);
+    assert!(evaluate(&s).analysis.dc_gain > 10.0);
 }
 
 #[test]
@@ -86,7 +86,7 @@ fn follower_without_rg_or_rf() {
     );
     let s = Scenario::from_ron(&text, None).unwrap();
     let a = evaluate(&s);
-    assert!((a.ideal_gain - 1.0).abs() < 1e-12);
+    assert!((a.analysis.ideal_gain - 1.0).abs() < 1e-12);
 }
 
 #[test]
@@ -197,7 +197,7 @@ fn every_library_scenario_loads_analyses_and_round_trips() {
         let s = Scenario::load(&path).unwrap_or_else(|e| panic!("{e}"));
         let a = evaluate(&s);
         assert!(
-            a.dc_gain.is_finite() && a.noise_rms.is_finite(),
+            a.analysis.dc_gain.is_finite() && a.analysis.noise_rms.is_finite(),
             "{}",
             path.display()
         );

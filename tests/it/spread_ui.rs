@@ -7,7 +7,7 @@ use crossterm::event::KeyCode;
 use loopwright::judge::evaluate;
 use loopwright::model::scenario::Scenario;
 use loopwright::study::spread;
-use loopwright::ui::app::{App, View};
+use loopwright::ui::app::{App, ViewId};
 use loopwright::ui::theme::Theme;
 
 fn example(name: &str) -> Scenario {
@@ -27,7 +27,7 @@ fn finish_spread(a: &mut App) {
 /// The app on the spread view with the background job finished.
 fn on_spread_view(s: Scenario) -> App {
     let mut a = App::new(vec![(s, None)], Theme::new(false, false));
-    while a.view != View::Spread {
+    while a.view != ViewId::Spread {
         a.on_key(key(KeyCode::Char('v')));
     }
     finish_spread(&mut a);
@@ -91,7 +91,7 @@ fn leaving_the_view_stops_the_job() {
     let mut s = example("line_driver_cable");
     s.spread.as_mut().unwrap().trials = Some(100_000);
     let mut a = App::new(vec![(s, None)], Theme::new(false, false));
-    while a.view != View::Spread {
+    while a.view != ViewId::Spread {
         a.on_key(key(KeyCode::Char('v')));
     }
     a.tick();
@@ -111,7 +111,7 @@ fn spec_failures_are_warnings() {
     let e = evaluate(&s);
     let w: Vec<_> = e.warnings.iter().filter(|w| w.code == "spec").collect();
     assert_eq!(w.len(), 2, "{w:?}");
-    let pm = e.phase_margin_deg.unwrap();
+    let pm = e.analysis.phase_margin_deg.unwrap();
     assert!(
         w[0].text.contains("pm_min_deg") && w[0].text.contains("< 89"),
         "{}",

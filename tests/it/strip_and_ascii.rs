@@ -112,9 +112,9 @@ fn figures_header_is_stable_and_whole() {
         app.on_key(key(KeyCode::Right));
     }
     assert!(
-        app.slot().analysis.dc_gain < 10.0,
+        app.slot().analysis.analysis.dc_gain < 10.0,
         "{}",
-        app.slot().analysis.dc_gain
+        app.slot().analysis.analysis.dc_gain
     );
     assert_eq!(header(&app), before);
     let two = App::new(
@@ -249,7 +249,7 @@ fn exact_layout_at_80x24_for_one_and_two_stages() {
 fn step_view_of_two_stages_compares_them() {
     let (a, b) = (example("line_driver_cable"), example("mic_preamp"));
     let mut app = App::new(vec![(a, None), (b, None)], Theme::new(false, false));
-    while app.view != loopwright::ui::app::View::Step {
+    while app.view != loopwright::ui::app::ViewId::Step {
         app.on_key(key(KeyCode::Char('v')));
     }
     let screen = screen_at(&app, 120, 40);

@@ -105,7 +105,7 @@ fn help_lists_the_keys() {
     a.on_key(key(KeyCode::Char('?')));
     let text = screen(&a, 100, 30);
     for k in loopwright::ui::keys::help_rows() {
-        assert!(text.contains(k.help), "help is missing {:?}", k);
+        assert!(text.contains(&*k.help_text()), "help is missing {:?}", k);
         assert!(text.contains(k.shown), "help is missing {:?}", k);
     }
     a.on_key(key(KeyCode::Char('x')));
@@ -537,7 +537,7 @@ fn help_lists_every_key_at_80x24() {
     a.on_key(key(KeyCode::Char('?')));
     let text = screen(&a, 80, 24);
     for b in loopwright::ui::keys::help_rows() {
-        assert!(text.contains(b.help), "{}\n{text}", b.help);
+        assert!(text.contains(&*b.help_text()), "{}\n{text}", b.help_text());
     }
 }
 
@@ -596,7 +596,7 @@ fn peaking_2db() -> Scenario {
         let mid = (lo * hi).sqrt();
         s.amp.fp2 = Some(mid);
         // A lower second pole peaks more.
-        if loopwright::judge::evaluate(&s).peaking_db > 2.0 {
+        if loopwright::judge::evaluate(&s).analysis.peaking_db > 2.0 {
             lo = mid;
         } else {
             hi = mid;
@@ -631,7 +631,7 @@ fn passband_and_peak_rows(a: &App) -> (u16, u16, String) {
 fn gain_view_shows_2db_of_peaking_and_z_restores_the_full_range() {
     let s = peaking_2db();
     let mut a = App::new(vec![(s, None)], Theme::new(true, false));
-    let p = a.slots[0].analysis.peaking_db;
+    let p = a.slots[0].analysis.analysis.peaking_db;
     assert!((p - 2.0).abs() < 0.05, "{p}");
     let (pass, peak, text) = passband_and_peak_rows(&a);
     assert!(

@@ -37,7 +37,7 @@ fn low_phase_margin_warns_and_is_severe_below_30() {
         let mut s = follower();
         s.amp.fp2 = Some(fp2);
         let (fc, want) = closed_form_margin(|f| open_loop(&s, f));
-        let pm = evaluate(&s).phase_margin_deg.unwrap();
+        let pm = evaluate(&s).analysis.phase_margin_deg.unwrap();
         // Measured error ≤ 6e-13°; tolerance 1e-11°.
         assert!((pm - want).abs() < 1e-11, "{pm} vs {want}");
         let w = warning(&s, "phase-margin").unwrap();
@@ -73,7 +73,7 @@ fn zero_or_negative_margin_says_unstable() {
     let j = num_complex::Complex64::new(0.0, 1.0);
     let (_, want) = closed_form_margin(|f| open_loop(&s, f) / (one + j * f / fp3));
     assert!(want < 0.0, "{want}");
-    let pm = evaluate(&s).phase_margin_deg.unwrap();
+    let pm = evaluate(&s).analysis.phase_margin_deg.unwrap();
     assert!((pm - want).abs() < 1e-11, "{pm} vs {want}");
     let w = warning(&s, "phase-margin").unwrap();
     assert_eq!(w.severity, Severity::Severe);
@@ -260,7 +260,7 @@ fn no_crossover() {
     let mut s = plain(Topology::NonInverting, 1e3, 1e3);
     s.amp.a0 = 1.0;
     let a = evaluate(&s);
-    assert!(a.crossover_hz.is_none() && a.phase_margin_deg.is_none());
+    assert!(a.analysis.crossover_hz.is_none() && a.analysis.phase_margin_deg.is_none());
     assert!(warning(&s, "no-crossover").is_some());
 }
 

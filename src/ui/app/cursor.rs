@@ -12,7 +12,7 @@ pub const STEP_DECADES: f64 = 0.1;
 impl App {
     /// The edited stage's sweep ends: where the cursor may go.
     pub fn cursor_range(&self) -> (f64, f64) {
-        let pts = &self.slot().analysis.sweep.points;
+        let pts = &self.slot().analysis.analysis.sweep.points;
         match (pts.first(), pts.last()) {
             (Some(a), Some(b)) => (a.f_hz, b.f_hz),
             _ => (
@@ -45,8 +45,8 @@ impl App {
         let a = &self.slot().analysis;
         let s = &self.slot().scenario;
         let mut m: Vec<(f64, &'static str)> = [
-            (a.f_3db_hz, "f−3dB"),
-            (a.crossover_hz, "crossover"),
+            (a.analysis.f_3db_hz, "f−3dB"),
+            (a.analysis.crossover_hz, "crossover"),
             (Some(s.band.0), "band start"),
             (Some(s.band.1), "band end"),
         ]

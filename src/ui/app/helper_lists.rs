@@ -69,11 +69,14 @@ impl App {
     /// `r`: ask for the target gain (the stage's own gain offered).
     pub(super) fn start_pairs(&mut self) {
         let s = &self.slot().scenario;
-        if s.stage.topology == Topology::Follower {
-            self.error("a follower has no rg or rf: resistor pairs are for NonInverting and Inverting stages");
+        if !s.stage.topology.has_resistors() {
+            self.error(format!(
+                "a follower has no rg or rf: resistor pairs are for {} stages",
+                Topology::with_resistors(" and ")
+            ));
             return;
         }
-        let now = fmt_plain(self.slot().analysis.nominal_gain.abs(), 6);
+        let now = fmt_plain(self.slot().analysis.analysis.nominal_gain.abs(), 6);
         self.mode = Mode::Prompt(Prompt::Gain, Field::offering(&now));
         self.info("target gain (the magnitude, e.g. 11); Enter lists resistor pairs, Esc cancels");
     }
