@@ -4,6 +4,7 @@ use super::emit;
 use crate::judge::evaluate;
 use crate::model::Scenario;
 use crate::output::report::Comparison;
+use crate::study::spread::{spread, Run};
 use anyhow::Result;
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -20,7 +21,13 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<ExitCode> {
     let (sa, sb) = (Scenario::load(&args.a)?, Scenario::load(&args.b)?);
-    let c = Comparison::new(&sa, &evaluate(&sa), &sb, &evaluate(&sb));
+    let yield_of = |s: &Scenario| {
+        s.spec
+            .as_ref()
+            .and_then(|_| spread(s, &Run::default()).yield_frac)
+    };
+    let c = Comparison::new(&sa, &evaluate(&sa), &sb, &evaluate(&sb))
+        .with_yields(yield_of(&sa), yield_of(&sb));
     let mut buf = Vec::new();
     if args.json {
         c.write_json(&mut buf)?;

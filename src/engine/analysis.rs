@@ -36,6 +36,9 @@ pub struct Analysis {
     pub ideal_gain: f64,
     pub dc_gain: f64,
     pub gain_error: f64,
+    /// The DC gain's error against the spec's aim (`spec.gain_target`, else
+    /// the network gain), when the spec gives an aim or a gain-error limit.
+    pub target_error: Option<f64>,
     pub f_3db_hz: Option<f64>,
     pub peaking_db: f64,
     pub loop_gain_dc: f64,
@@ -102,6 +105,18 @@ fn band_power(points: &[Point], lo: f64, hi: f64, n_src: usize) -> Vec<f64> {
         }
     }
     p
+}
+
+/// (G − aim)/aim, where the spec gives an aim or a gain-error limit; the
+/// aim is `spec.gain_target`, else the network gain.
+fn target_error(s: &Scenario, dc_gain: f64, ideal_gain: f64) -> Option<f64> {
+    let spec = s.spec.as_ref()?;
+    let aim = match (spec.gain_target, spec.gain_error_max) {
+        (Some(t), _) => t,
+        (None, Some(_)) => ideal_gain,
+        (None, None) => return None,
+    };
+    Some((dc_gain - aim) / aim).filter(|v| v.is_finite())
 }
 
 /// The DC gain of the same passive network around a nullor.
@@ -394,6 +409,7 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         ideal_gain,
         dc_gain,
         gain_error,
+        target_error: target_error(s, dc_gain, ideal_gain),
         f_3db_hz,
         peaking_db: peaking_db(&circuit, &sweep.points, dc_gain),
         loop_gain_dc: dc.loop_gain.re,

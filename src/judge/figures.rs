@@ -226,7 +226,7 @@ use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 46] = [
+pub static FIGURES: [Figure; 47] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -259,6 +259,16 @@ pub static FIGURES: [Figure; 46] = [
         |e| Some(e.analysis.gain_error),
     )
     .closed_loop(),
+    fig(
+        "target_error",
+        "error vs target",
+        "vs aim",
+        Fraction,
+        Gain,
+        REPORT,
+        |e| e.analysis.target_error,
+    )
+    .given(),
     fig(
         "f_3db_hz",
         "f−3dB",

@@ -325,6 +325,10 @@ pub struct ParamDiff {
 pub struct Differences {
     pub figures: Vec<FigureDelta>,
     pub parameters: Vec<ParamDiff>,
+    /// The yield over the tolerances against each stage's spec (fraction,
+    /// null for a stage without a spec); absent when neither has one.
+    #[serde(rename = "yield", skip_serializing_if = "Option::is_none")]
+    pub yields: Option<FigureDelta>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -334,9 +338,24 @@ pub struct Comparison {
     pub differences: Differences,
 }
 
+/// Figures `compare` adds to the key figures when either stage has them:
+/// the error against the spec's aim, the worst-case offset and headroom.
+const COMPARED_WHEN_GIVEN: [&str; 4] = [
+    "target_error",
+    "out_offset_max_v",
+    "headroom_low_v",
+    "headroom_high_v",
+];
+
 impl Comparison {
     pub fn new(sa: &Scenario, ea: &Evaluation, sb: &Scenario, eb: &Evaluation) -> Comparison {
+        // The key figures, then the design-check figures either stage has.
+        let checks = COMPARED_WHEN_GIVEN
+            .iter()
+            .filter_map(|k| figure(k))
+            .filter(|f| f.json(ea).is_some() || f.json(eb).is_some());
         let figures = key_figures()
+            .chain(checks)
             .map(|f| FigureDelta {
                 key: f.key,
                 a: f.json(ea),
@@ -355,8 +374,22 @@ impl Comparison {
             differences: Differences {
                 figures,
                 parameters,
+                yields: None,
             },
         }
+    }
+
+    /// With each stage's yield against its spec (None: no spec).
+    pub fn with_yields(mut self, a: Option<f64>, b: Option<f64>) -> Comparison {
+        if a.is_some() || b.is_some() {
+            self.differences.yields = Some(FigureDelta {
+                key: "yield",
+                a,
+                b,
+                delta: a.zip(b).map(|(x, y)| y - x),
+            });
+        }
+        self
     }
 
     pub fn write_json(&self, w: &mut impl Write) -> io::Result<()> {
@@ -389,6 +422,21 @@ impl Comparison {
                 show(d.delta, true)
             )?;
         }
+        if let Some(y) = &self.differences.yields {
+            let show = |v: Option<f64>, sign: &str| {
+                v.map_or("no spec".into(), |v| {
+                    format!("{} %", fmt_signed(v * 100.0, sign))
+                })
+            };
+            writeln!(
+                w,
+                "{:<18} {:>14} {:>14} {:>14}",
+                "yield",
+                show(y.a, ""),
+                show(y.b, ""),
+                y.delta.map_or("none".into(), |_| show(y.delta, "+"))
+            )?;
+        }
         writeln!(w)?;
         if self.differences.parameters.is_empty() {
             writeln!(w, "The two stages have the same parameters.")?;
@@ -400,5 +448,15 @@ impl Comparison {
             }
         }
         Ok(())
+    }
+}
+
+/// A percentage to two decimals, with `sign` before a positive value.
+fn fmt_signed(v: f64, sign: &str) -> String {
+    let text = fmt_fixed(v, 2);
+    if v > 0.0 {
+        format!("{sign}{text}")
+    } else {
+        text
     }
 }

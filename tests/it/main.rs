@@ -12,6 +12,7 @@ mod engine_checks;
 mod enum_lists;
 mod file_kinds;
 mod files_and_ab;
+mod gain_errors;
 mod limits;
 mod loader_fuzz;
 mod noise_checks;
