@@ -154,6 +154,18 @@ fn sighup_restores_the_terminal_and_rescues_edits() {
     signal_restores_and_rescues("lw_e2e_hup", "HUP", 129);
 }
 
+// SIGINT is 2 and SIGQUIT 3 (signal(7)): 130 and 131. Sent by another
+// process; in raw mode Ctrl-C is a key, not a signal.
+#[test]
+fn sigint_restores_the_terminal_and_rescues_edits() {
+    signal_restores_and_rescues("lw_e2e_int", "INT", 130);
+}
+
+#[test]
+fn sigquit_restores_the_terminal_and_rescues_edits() {
+    signal_restores_and_rescues("lw_e2e_quit", "QUIT", 131);
+}
+
 #[test]
 fn a_panic_leaves_a_rescue_file() {
     let d = folder_with_demo("lw_e2e_rescue");
