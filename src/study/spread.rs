@@ -372,24 +372,7 @@ pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
     };
     let plan = Plan::new(s, &nominal);
     let knobs = knobs(s);
-    let done = std::sync::atomic::AtomicUsize::new(0);
-    let rows: Vec<Vec<Option<f64>>> = (0..trials as u64)
-        .into_par_iter()
-        .map(|i| {
-            if run.cancelled() {
-                return vec![None; plan.keys.len()];
-            }
-            let u = draws(seed, i, b.dist, knobs.len());
-            let t = with_values(s, &knobs, |j, k| {
-                0.5 * (k.lo + k.hi) + 0.5 * (k.hi - k.lo) * u[j]
-            });
-            let row = plan.values(&t);
-            if let Some(p) = run.progress {
-                p(done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1);
-            }
-            row
-        })
-        .collect();
+    let rows = trial_rows(s, &plan, &knobs, (seed, b.dist, trials), run);
     let nominal_values: Vec<Option<f64>> = plan
         .keys
         .iter()
@@ -418,6 +401,52 @@ pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
         yield_frac,
         yield_min: spec::yield_min(s),
     }
+}
+
+/// Trials run in blocks of this many, in order: a cancelled run stops at
+/// the end of the block it is in (its trials are skipped at once) and
+/// holds no rows past it.
+const BLOCK: usize = 4096;
+
+/// Every trial's figures in trial order; after a cancel, the rows so far.
+fn trial_rows(
+    s: &Scenario,
+    plan: &Plan,
+    knobs: &[Knob],
+    (seed, dist, trials): (u64, Dist, usize),
+    run: &Run,
+) -> Vec<Vec<Option<f64>>> {
+    let done = std::sync::atomic::AtomicUsize::new(0);
+    let mut rows: Vec<Vec<Option<f64>>> = Vec::new();
+    for start in (0..trials).step_by(BLOCK) {
+        if run.cancelled() {
+            break;
+        }
+        let end = (start + BLOCK).min(trials);
+        let block: Vec<Vec<Option<f64>>> = (start as u64..end as u64)
+            .into_par_iter()
+            .map(|i| {
+                if run.cancelled() {
+                    return Vec::new();
+                }
+                let u = draws(seed, i, dist, knobs.len());
+                let t = with_values(s, knobs, |j, k| {
+                    0.5 * (k.lo + k.hi) + 0.5 * (k.hi - k.lo) * u[j]
+                });
+                let row = plan.values(&t);
+                if let Some(p) = run.progress {
+                    p(done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1);
+                }
+                row
+            })
+            .collect();
+        rows.extend(block);
+    }
+    if run.cancelled() {
+        // The result is meaningless; what it computed is freed now.
+        rows.clear();
+    }
+    rows
 }
 
 /// Each given limit on the nominal stage and the trials; the yield.

@@ -20,7 +20,7 @@ use ratatui::crossterm::event::{self, Event};
 use ratatui::crossterm::terminal::{BeginSynchronizedUpdate, EndSynchronizedUpdate};
 use ratatui::crossterm::QueueableCommand;
 use ratatui::Terminal;
-use signal_hook::consts::{SIGHUP, SIGTERM};
+use signal_hook::consts::{SIGHUP, SIGINT, SIGQUIT, SIGTERM};
 use std::io::{IsTerminal, Write};
 use std::panic::AssertUnwindSafe;
 use std::process::ExitCode;
@@ -193,7 +193,7 @@ impl Shared {
     }
 }
 
-/// After a SIGTERM or SIGHUP the event loop normally ends within 200 ms.
+/// After a stop signal the event loop normally ends within 200 ms.
 /// When it cannot (a vanished terminal can keep the terminal library
 /// reading end-of-file for ever), this thread does the shutdown itself
 /// after a second: the rescue files as of the last key, restore, exit.
@@ -211,17 +211,27 @@ fn spawn_watchdog(shared: Arc<Shared>) {
         let items = shared.pending.lock().map(|p| p.clone()).unwrap_or_default();
         let lines = write_rescue_files(&items);
         restore();
-        let name = if sig as i32 == SIGHUP {
-            "SIGHUP"
-        } else {
-            "SIGTERM"
-        };
-        say(&format!("stopped by {name}"));
+        say(&format!("stopped by {}", signal_name(sig as i32)));
         for line in lines {
             say(&line);
         }
         std::process::exit(128 + sig as i32);
     });
+}
+
+/// The signals that stop the workbench with a restored terminal and
+/// rescue files. In raw mode Ctrl-C is a key, so SIGINT and SIGQUIT come
+/// only from another process (`kill`).
+const STOP_SIGNALS: [i32; 4] = [SIGTERM, SIGHUP, SIGINT, SIGQUIT];
+
+/// The name of one of [`STOP_SIGNALS`], for the message on stderr.
+fn signal_name(sig: i32) -> &'static str {
+    match sig {
+        SIGHUP => "SIGHUP",
+        SIGINT => "SIGINT",
+        SIGQUIT => "SIGQUIT",
+        _ => "SIGTERM",
+    }
 }
 
 /// One line on stderr; after a hang-up there may be no terminal to write
@@ -310,9 +320,9 @@ where
 
 /// Open the workbench on the loaded stages (one or two).
 ///
-/// SIGTERM and SIGHUP, a panic or a terminal error restore the terminal
-/// and first write each unsaved stage to a rescue file (see
-/// [`storage::rescue_path`]), saying where on stderr. After a signal the
+/// SIGTERM, SIGHUP, SIGINT and SIGQUIT, a panic or a terminal error
+/// restore the terminal and first write each unsaved stage to a rescue
+/// file (see [`storage::rescue_path`]), saying where on stderr. After a signal the
 /// process exits with 128 + the signal number, after a panic with 101.
 pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<ExitCode> {
     if !std::io::stdin().is_terminal() || !std::io::stdout().is_terminal() {
@@ -320,7 +330,7 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<ExitCode> {
     }
     let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
     let signal = Arc::new(AtomicUsize::new(0));
-    for sig in [SIGTERM, SIGHUP] {
+    for sig in STOP_SIGNALS {
         signal_hook::flag::register_usize(sig, Arc::clone(&signal), sig as usize)?;
     }
     let shared = Arc::new(Shared {
@@ -360,10 +370,7 @@ pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<ExitCode> {
             restore();
             return Ok(ExitCode::SUCCESS);
         }
-        Ok(Ok(Some(sig))) => {
-            let name = if sig == SIGHUP { "SIGHUP" } else { "SIGTERM" };
-            (128 + sig, format!("stopped by {name}"))
-        }
+        Ok(Ok(Some(sig))) => (128 + sig, format!("stopped by {}", signal_name(sig))),
         Ok(Err(e)) => {
             let rescued = write_rescues(&app);
             restore();

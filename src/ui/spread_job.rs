@@ -1,12 +1,20 @@
 //! The spread view's background job: the Monte Carlo of the edited stage
 //! runs on its own thread after a change, so keys stay responsive; a new
-//! change cancels the running job and its result is dropped.
+//! change cancels the running job, waits for it to stop (a few
+//! milliseconds: it skips its remaining trials) and drops what it held, so
+//! at most one job runs. The workbench runs at most [`WORKBENCH_TRIALS`]
+//! trials; `loopwright spread` runs them all.
 
 use crate::model::Scenario;
 use crate::study::spread::{spread, trials_of, Run, SpreadResult};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::mpsc::{channel, Receiver};
 use std::sync::Arc;
+use std::thread::JoinHandle;
+
+/// The most trials the spread view runs (about 30 MB of trial rows); a
+/// larger `spread.trials` is capped here and the view's title says so.
+pub const WORKBENCH_TRIALS: usize = 100_000;
 
 /// One running (or finished) spread of one scenario.
 #[derive(Default)]
@@ -18,10 +26,14 @@ pub struct SpreadJob {
     /// Trials done and in all.
     done: Arc<AtomicUsize>,
     pub total: usize,
+    /// The scenario's trials when more than [`WORKBENCH_TRIALS`].
+    pub capped_from: Option<usize>,
     cancel: Arc<AtomicBool>,
     rx: Option<Receiver<SpreadResult>>,
     /// Trials done at the last poll (to redraw only on progress).
     seen: usize,
+    /// The job's thread, joined before the next one starts.
+    thread: Option<JoinHandle<()>>,
 }
 
 impl SpreadJob {
@@ -31,10 +43,12 @@ impl SpreadJob {
         if self.for_scenario.as_ref() == Some(s) {
             return;
         }
-        self.cancel.store(true, Ordering::Relaxed);
+        self.halt();
         self.result = None;
         self.for_scenario = Some(s.clone());
-        self.total = trials_of(s, None);
+        let all = trials_of(s, None);
+        self.total = all.min(WORKBENCH_TRIALS);
+        self.capped_from = (all > WORKBENCH_TRIALS).then_some(all);
         self.seen = 0;
         let (done, cancel) = (
             Arc::new(AtomicUsize::new(0)),
@@ -44,11 +58,13 @@ impl SpreadJob {
         let (tx, rx) = channel();
         self.rx = Some(rx);
         let s = s.clone();
-        std::thread::spawn(move || {
+        let trials = Some(self.total as u32);
+        self.thread = Some(std::thread::spawn(move || {
             let progress = |n: usize| done.store(n, Ordering::Relaxed);
             let r = spread(
                 &s,
                 &Run {
+                    trials,
                     progress: Some(&progress),
                     cancel: Some(&cancel),
                     ..Run::default()
@@ -57,7 +73,17 @@ impl SpreadJob {
             if !cancel.load(Ordering::Relaxed) {
                 let _ = tx.send(r);
             }
-        });
+        }));
+    }
+
+    /// Cancel the running job and wait for its thread to end: it skips
+    /// its remaining trials, so this takes milliseconds.
+    fn halt(&mut self) {
+        self.cancel.store(true, Ordering::Relaxed);
+        self.rx = None;
+        if let Some(t) = self.thread.take() {
+            let _ = t.join();
+        }
     }
 
     /// Take a finished result; true when the screen should be redrawn
@@ -76,8 +102,8 @@ impl SpreadJob {
 
     /// Cancel a running job; the next [`SpreadJob::follow`] starts anew.
     pub fn stop(&mut self) {
-        if self.rx.take().is_some() {
-            self.cancel.store(true, Ordering::Relaxed);
+        if self.rx.is_some() {
+            self.halt();
             self.for_scenario = None;
         }
     }

@@ -27,8 +27,14 @@ const EIGHTHS: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '�
 
 pub fn spread_plot(app: &App, area: Rect, buf: &mut Buffer) {
     let job = &app.spread;
+    // Over the workbench's cap: the title says so, short enough to fit.
+    let capped = if job.capped_from.is_some() {
+        ", capped"
+    } else {
+        ""
+    };
     let title = format!(
-        " {}, {}, {} trials ",
+        " {}, {}, {} trials{capped} ",
         app.view.title(),
         App::slot_label(app.active),
         job.total

@@ -154,6 +154,18 @@ fn sighup_restores_the_terminal_and_rescues_edits() {
     signal_restores_and_rescues("lw_e2e_hup", "HUP", 129);
 }
 
+// SIGINT is 2 and SIGQUIT 3 (signal(7)): 130 and 131. Sent by another
+// process; in raw mode Ctrl-C is a key, not a signal.
+#[test]
+fn sigint_restores_the_terminal_and_rescues_edits() {
+    signal_restores_and_rescues("lw_e2e_int", "INT", 130);
+}
+
+#[test]
+fn sigquit_restores_the_terminal_and_rescues_edits() {
+    signal_restores_and_rescues("lw_e2e_quit", "QUIT", 131);
+}
+
 #[test]
 fn a_panic_leaves_a_rescue_file() {
     let d = folder_with_demo("lw_e2e_rescue");
@@ -367,5 +379,56 @@ fn closing_the_terminal_ends_the_program_and_rescues_edits() {
     assert!(gone, "the program outlived its terminal by 10 s");
     let rescued = std::fs::read_to_string(d.join("s.ron.rescue")).expect("rescue file");
     assert!(rescued.contains("11000"), "{rescued}");
+    std::fs::remove_dir_all(&d).ok();
+}
+
+/// A field of /proc/PID/status (proc(5)): "VmHWM:  1234 kB", "Threads: 5".
+fn proc_status(pid: u32, field: &str) -> u64 {
+    let status = std::fs::read_to_string(format!("/proc/{pid}/status")).unwrap();
+    let line = status
+        .lines()
+        .find(|l| l.starts_with(&format!("{field}:")))
+        .unwrap_or_else(|| panic!("{field} in /proc/{pid}/status"));
+    line.split_whitespace().nth(1).unwrap().parse().unwrap()
+}
+
+#[test]
+fn spread_view_with_a_million_trials_stays_small_over_many_steps() {
+    let d = temp_dir("lw_e2e_spread_mem");
+    let ron = std::fs::read_to_string("scenarios/adc_driver_2n2.ron").unwrap();
+    let ron = ron.replace("trials: 2000", "trials: 1000000");
+    assert!(ron.contains("trials: 1000000"));
+    std::fs::write(d.join("s.ron"), ron).unwrap();
+    // Two rayon workers whatever the machine: the thread bound below is
+    // main, the signal watchdog, one job thread and the workers.
+    let Some(s) = start_in("lw_e2e_spread_mem", &d, "RAYON_NUM_THREADS=2", "s.ron") else {
+        return;
+    };
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    let pid = s.app_pid().expect("loopwright process");
+    for _ in 0..12 {
+        tmux(&["send-keys", "-t", &s.0, "v"]);
+        std::thread::sleep(std::time::Duration::from_millis(400));
+        if tmux(&["capture-pane", "-p", "-t", &s.0]).contains("trials, capped") {
+            break;
+        }
+    }
+    // The cap is on the title: 100000 of the 1000000 trials.
+    wait_for(&s.0, "100000 trials, capped").expect("spread view, capped");
+    let mut threads = 0;
+    // 120 steps, each a new stage for the running job: rf up, then down.
+    // Each key is its own event (a pause between them) so that each one
+    // cancels a job and starts another.
+    for i in 0..120 {
+        let k = if i % 2 == 0 { "l" } else { "h" };
+        tmux(&["send-keys", "-t", &s.0, k]);
+        std::thread::sleep(std::time::Duration::from_millis(40));
+        threads = threads.max(proc_status(pid, "Threads"));
+    }
+    let hwm_kb = proc_status(pid, "VmHWM");
+    // The brief's bounds: under 300 MB and at most 8 threads (the bug
+    // reached 3.1 GB and 113 threads after 120 keys).
+    assert!(hwm_kb < 300 * 1024, "peak resident {hwm_kb} kB");
+    assert!(threads <= 8, "{threads} threads");
     std::fs::remove_dir_all(&d).ok();
 }
