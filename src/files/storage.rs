@@ -47,17 +47,12 @@ impl Original {
         Some(Original { text, stamp })
     }
 
-    /// Whether the file at `path` is no longer what was loaded: its stamp
-    /// differs and so does its text (a touched but equal file is not a
-    /// change), or it is gone.
+    /// Whether the file at `path` is no longer what was loaded: its text
+    /// differs (read and compared every time: another program may keep the
+    /// size and put the modification time back; a touched but equal file
+    /// is not a change), or it is gone.
     pub fn changed_on_disk(&self, path: &Path) -> bool {
-        match stamp(path) {
-            None => true,
-            Some(s) if Some(&s) == self.stamp.as_ref() => false,
-            Some(_) => {
-                filetext::read_text(path, filetext::MAX_BYTES).ok().as_ref() != Some(&self.text)
-            }
-        }
+        filetext::read_text(path, filetext::MAX_BYTES).ok().as_ref() != Some(&self.text)
     }
 }
 

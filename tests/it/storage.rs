@@ -226,3 +226,20 @@ fn a_hard_linked_file_on_a_full_disk_is_left_whole() {
     assert_eq!(kept[1], old, "b.ron intact");
     assert!(e.to_string().contains("a.ron.bak"), "names the copy: {e}");
 }
+
+#[test]
+fn an_outside_change_with_the_same_size_and_time_is_seen() {
+    let d = temp_dir("st-same-stamp");
+    let p = d.join("s.ron");
+    std::fs::write(&p, "rf: 1000\n").unwrap();
+    let o = Original::read(&p).unwrap();
+    let when = std::fs::metadata(&p).unwrap().modified().unwrap();
+    // Another program writes text of the same length and restores the time.
+    std::fs::write(&p, "rf: 2000\n").unwrap();
+    let f = std::fs::File::options().write(true).open(&p).unwrap();
+    f.set_modified(when).unwrap();
+    assert!(o.changed_on_disk(&p), "compared by content, not by stamp");
+    std::fs::write(&p, "rf: 1000\n").unwrap();
+    assert!(!o.changed_on_disk(&p), "equal text is no change");
+    std::fs::remove_dir_all(&d).ok();
+}
