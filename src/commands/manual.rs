@@ -10,7 +10,7 @@ use std::process::ExitCode;
 // The options of `manual`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// The file to write (roff).
+    /// The file to write (roff; `-`: standard output).
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
     /// Overwrite FILE if it exists.
@@ -19,12 +19,13 @@ pub struct Args {
 }
 
 pub fn run(args: &Args) -> Result<ExitCode> {
-    if let Some(p) = &args.output {
+    let output = args.output.as_ref().filter(|p| p.as_os_str() != "-");
+    if let Some(p) = output {
         storage::refuse_existing(p, args.force)?;
     }
     let mut buf = Vec::new();
     clap_mangen::Man::new(Cli::command()).render(&mut buf)?;
-    match &args.output {
+    match output {
         Some(p) => {
             storage::write_output(p, &String::from_utf8_lossy(&buf), args.force)?;
             Ok(ExitCode::SUCCESS)

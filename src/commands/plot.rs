@@ -19,7 +19,7 @@ pub struct Args {
     #[arg(long, default_value = "response",
           value_parser = PossibleValuesParser::new(crate::output::views::VIEWS.iter().map(|v| v.name)))]
     pub view: String,
-    /// The SVG file to write.
+    /// The SVG file to write (`-`: standard output).
     #[arg(short = 'o', long = "output", value_name = "OUT.svg")]
     pub output: PathBuf,
     /// Width in pixels.
@@ -50,7 +50,10 @@ pub fn run(args: &Args) -> Result<ExitCode> {
             bail!("{}: plot writes SVG; name the file .svg", output.display());
         }
     }
-    storage::refuse_existing(output, args.force)?;
+    let to_stdout = output.as_os_str() == "-";
+    if !to_stdout {
+        storage::refuse_existing(output, args.force)?;
+    }
     let scenarios = args
         .files
         .iter()
@@ -68,6 +71,9 @@ pub fn run(args: &Args) -> Result<ExitCode> {
         mono: args.mono,
     };
     let svg = svg::render(view, &stages, look)?;
+    if to_stdout {
+        return super::emit(svg.as_bytes());
+    }
     let written = storage::write_output(output, &svg, args.force)?;
     eprintln!("wrote {}", written.display());
     Ok(ExitCode::SUCCESS)

@@ -47,17 +47,12 @@ impl Original {
         Some(Original { text, stamp })
     }
 
-    /// Whether the file at `path` is no longer what was loaded: its stamp
-    /// differs and so does its text (a touched but equal file is not a
-    /// change), or it is gone.
+    /// Whether the file at `path` is no longer what was loaded: its text
+    /// differs (read and compared every time: another program may keep the
+    /// size and put the modification time back; a touched but equal file
+    /// is not a change), or it is gone.
     pub fn changed_on_disk(&self, path: &Path) -> bool {
-        match stamp(path) {
-            None => true,
-            Some(s) if Some(&s) == self.stamp.as_ref() => false,
-            Some(_) => {
-                filetext::read_text(path, filetext::MAX_BYTES).ok().as_ref() != Some(&self.text)
-            }
-        }
+        filetext::read_text(path, filetext::MAX_BYTES).ok().as_ref() != Some(&self.text)
     }
 }
 
@@ -530,28 +525,57 @@ fn resolve_links(path: &Path) -> io::Result<PathBuf> {
     )))
 }
 
-/// Remove `.NAME.ron.tmp-PID` files that an earlier save of this program
-/// left behind when it was killed (PID no longer running).
-fn clean_stale(dir: &Path) -> usize {
-    if !Path::new("/proc/self").exists() {
-        return 0; // cannot tell which processes are alive
+/// How old a named temporary file of the atomic write must be before a
+/// later save removes it: a save holds it for well under a second, so one
+/// this old belongs to a save that was killed.
+pub const STALE_AFTER: std::time::Duration = std::time::Duration::from_secs(60);
+
+/// Whether `name` is a temporary file a save of ours may leave: the
+/// atomic-write-file crate's `.BASE.XXXXXX` (a dot, the target's name, a
+/// dot and six ASCII letters or digits) for a stage file, its `.bak`, a
+/// rescue file or an SVG figure; or `.NAME.ron.tmp-PID` of older versions
+/// (Some(pid) then).
+fn temporary_kind(name: &str) -> Option<Option<&str>> {
+    let hidden = name.strip_prefix('.')?;
+    if let Some((stem, pid)) = hidden.rsplit_once(".tmp-") {
+        let pid_ok = !pid.is_empty() && pid.bytes().all(|c| c.is_ascii_digit());
+        return (pid_ok && stem.ends_with(".ron")).then_some(Some(pid));
     }
+    let (base, suffix) = hidden.rsplit_once('.')?;
+    let random = suffix.len() == 6 && suffix.bytes().all(|c| c.is_ascii_alphanumeric());
+    let ours = [".ron", ".ron.bak", ".svg"]
+        .iter()
+        .any(|e| base.ends_with(e))
+        || base.contains(".rescue");
+    (random && ours && suffix != "rescue").then_some(None)
+}
+
+/// Remove the temporary files that an earlier save left behind when it was
+/// killed: `.NAME.ron.tmp-PID` whose PID no longer runs, and the atomic
+/// write's `.NAME.ron.XXXXXX` not modified for [`STALE_AFTER`].
+fn clean_stale(dir: &Path) -> usize {
     let Ok(rd) = std::fs::read_dir(dir) else {
         return 0;
     };
+    let procs = Path::new("/proc/self").exists();
+    let now = SystemTime::now();
     let mut n = 0;
     for e in rd.flatten() {
         let name = e.file_name().to_string_lossy().into_owned();
-        let Some((stem, pid)) = name.rsplit_once(".tmp-") else {
+        let Some(kind) = temporary_kind(&name) else {
             continue;
         };
-        let ours = name.starts_with('.') && stem.ends_with(".ron");
-        let pid_ok = !pid.is_empty() && pid.bytes().all(|c| c.is_ascii_digit());
-        if ours && pid_ok && !Path::new("/proc").join(pid).exists() {
-            let is_file = e.file_type().map(|t| t.is_file()).unwrap_or(false);
-            if is_file && std::fs::remove_file(e.path()).is_ok() {
-                n += 1;
-            }
+        let Ok(m) = e.metadata() else { continue };
+        let stale = match kind {
+            Some(pid) => procs && !Path::new("/proc").join(pid).exists(),
+            None => m
+                .modified()
+                .ok()
+                .and_then(|t| now.duration_since(t).ok())
+                .is_some_and(|age| age >= STALE_AFTER),
+        };
+        if stale && m.is_file() && std::fs::remove_file(e.path()).is_ok() {
+            n += 1;
         }
     }
     n
@@ -565,10 +589,8 @@ fn clean_stale(dir: &Path) -> usize {
 /// written in place, so every link sees the new text.
 pub fn write_atomic(path: &Path, text: &str) -> io::Result<Written> {
     let target = resolve_links(path)?;
+    refuse_not_regular(&target)?;
     let meta = std::fs::metadata(&target).ok();
-    if meta.as_ref().is_some_and(|m| m.is_dir()) {
-        return Err(io::Error::other(format!("{} is a folder", path.display())));
-    }
     let dir = match target.parent() {
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
@@ -579,13 +601,22 @@ pub fn write_atomic(path: &Path, text: &str) -> io::Result<Written> {
         backup.push(".bak");
         let backup = PathBuf::from(backup);
         let old = std::fs::read(&target)?;
-        commit(&backup, &old)?;
-        let mut f = std::fs::OpenOptions::new()
-            .write(true)
-            .truncate(true)
-            .open(&target)?;
-        f.write_all(text.as_bytes())?;
-        f.sync_all()?;
+        commit(&backup, &old).map_err(|e| {
+            io::Error::new(
+                e.kind(),
+                format!(
+                    "cannot copy it to {}: {e}; it is unchanged",
+                    backup.display()
+                ),
+            )
+        })?;
+        let f = std::fs::OpenOptions::new().write(true).open(&target)?;
+        overwrite_in_place(&f, &old, text.as_bytes()).map_err(|e| {
+            io::Error::new(
+                e.kind(),
+                format!("{e}; a copy of the old text is in {}", backup.display()),
+            )
+        })?;
         return Ok(Written {
             path: target,
             hard_links: Some((m.nlink(), backup)),
@@ -600,6 +631,58 @@ pub fn write_atomic(path: &Path, text: &str) -> io::Result<Written> {
     })
 }
 
+/// Reserve the blocks for `len` bytes of an open file without changing
+/// its text (posix_fallocate(3)); an error (no space) leaves it as it was.
+fn reserve(f: &std::fs::File, len: u64, old_len: u64) -> io::Result<()> {
+    use std::os::fd::AsRawFd;
+    let want = libc::off_t::try_from(len).map_err(io::Error::other)?;
+    // SAFETY: a valid open descriptor; posix_fallocate only allocates.
+    let rc = unsafe { libc::posix_fallocate(f.as_raw_fd(), 0, want) };
+    match rc {
+        0 => Ok(()),
+        // A file system that cannot reserve: then the length is checked by
+        // writing it whole below, before anything is lost.
+        libc::EOPNOTSUPP | libc::EINVAL => Ok(()),
+        e => {
+            // Emulated reservation may have lengthened it: take that back.
+            f.set_len(old_len)?;
+            Err(io::Error::from_raw_os_error(e))
+        }
+    }
+}
+
+/// Replace an open file's text with `new` in place (for a file with hard
+/// links, which a rename would split): the space for the longer of the two
+/// is reserved first, so a full disk fails before a byte is changed; if a
+/// write fails anyway, the old text is put back.
+fn overwrite_in_place(f: &std::fs::File, old: &[u8], new: &[u8]) -> io::Result<()> {
+    use std::os::unix::fs::FileExt;
+    let (old_len, new_len) = (old.len() as u64, new.len() as u64);
+    reserve(f, new_len.max(old_len), old_len).map_err(|e| {
+        io::Error::new(
+            e.kind(),
+            format!("cannot reserve the space: {e}; the file is unchanged"),
+        )
+    })?;
+    let written = f
+        .write_all_at(new, 0)
+        .and_then(|()| f.set_len(new_len))
+        .and_then(|()| f.sync_all());
+    if let Err(e) = written {
+        let back = f
+            .write_all_at(old, 0)
+            .and_then(|()| f.set_len(old_len))
+            .and_then(|()| f.sync_all());
+        let how = if back.is_ok() {
+            "the old text was put back"
+        } else {
+            "the file may be damaged"
+        };
+        return Err(io::Error::new(e.kind(), format!("{e}; {how}")));
+    }
+    Ok(())
+}
+
 /// Write an output file (a figure, a man page): an existing file is
 /// refused unless `force`; the text goes through [`write_atomic`], so a
 /// failed write leaves no partial file behind.
@@ -610,9 +693,30 @@ pub fn write_output(path: &Path, text: &str, force: bool) -> io::Result<PathBuf>
         .map_err(|e| io::Error::new(e.kind(), format!("cannot write {}: {e}", path.display())))
 }
 
+/// An error when `path` names something that is not a regular file (a
+/// folder, a FIFO, a device node, a socket; through symbolic links), with
+/// or without `force`: saving there would replace it with a file.
+pub fn refuse_not_regular(path: &Path) -> io::Result<()> {
+    match std::fs::metadata(path) {
+        Ok(m) if !m.is_file() => {
+            let what = if m.is_dir() {
+                "a folder"
+            } else {
+                "not a regular file"
+            };
+            Err(io::Error::new(
+                io::ErrorKind::InvalidInput,
+                format!("{} is {what}: refusing to replace it", path.display()),
+            ))
+        }
+        _ => Ok(()),
+    }
+}
+
 /// An error when `path` exists (as anything, a dangling link too) and
-/// `force` is not given.
+/// `force` is not given, and always when it is not a regular file.
 pub fn refuse_existing(path: &Path, force: bool) -> io::Result<()> {
+    refuse_not_regular(path)?;
     if !force && std::fs::symlink_metadata(path).is_ok() {
         return Err(io::Error::new(
             io::ErrorKind::AlreadyExists,
@@ -666,6 +770,20 @@ mod tests {
         let t = "// top\n(\n  a: \"//x\",\n)\n";
         assert!(!comment_after(t, header_len(t)));
         assert!(comment_after("// top\n( /* c */ )", 7));
+    }
+
+    #[test]
+    fn temporary_names() {
+        // The atomic-write-file crate's fallback: "." + name + "." + 6 random.
+        assert_eq!(temporary_kind(".s.ron.PWe6vb"), Some(None));
+        assert_eq!(temporary_kind(".s.ron.bak.a1B2c3"), Some(None));
+        assert_eq!(temporary_kind(".out.svg.Zz09aa"), Some(None));
+        assert_eq!(temporary_kind(".s.ron.tmp-42"), Some(Some("42")));
+        assert_eq!(temporary_kind(".s.ron.rescue"), None);
+        assert_eq!(temporary_kind("s.ron.PWe6vb"), None);
+        assert_eq!(temporary_kind(".s.ron.PWe6v"), None);
+        assert_eq!(temporary_kind(".notes.txt.PWe6vb"), None);
+        assert_eq!(temporary_kind(".s.ron.tmp-"), None);
     }
 
     #[test]

@@ -143,14 +143,22 @@ impl Series {
     }
 
     /// Series values around one decade: the decade below, this one and the
-    /// next, in increasing order.
+    /// next, in increasing order, each the table's integer times a power of
+    /// ten so it is the correctly rounded decimal (39 pF is 3.9e-11, not
+    /// 3.8999999999999995e-11, and saves as such).
     fn around(self, value: f64) -> Vec<f64> {
         let d = Self::decade(value);
-        let base = self.base_values();
-        let mut out = Vec::with_capacity(base.len() * 3 + 1);
+        let shift = self.digits() as i32 - 1;
+        let mut out = Vec::with_capacity(self.table().len() * 3 + 1);
         for dd in [d - 1, d, d + 1] {
-            let scale = 10f64.powi(dd);
-            out.extend(base.iter().map(|b| b * scale));
+            let e = dd - shift;
+            out.extend(self.table().iter().map(|&t| {
+                if e >= 0 {
+                    t as f64 * 10f64.powi(e)
+                } else {
+                    t as f64 / 10f64.powi(-e)
+                }
+            }));
         }
         out.push(10f64.powi(d + 2));
         out

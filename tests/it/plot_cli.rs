@@ -298,3 +298,63 @@ fn step_view_of_two_stages() {
     assert_eq!(curves(&doc), 2);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A FIFO in a fresh folder (mkfifo(3)); never anything under /dev.
+fn fifo(d: &Path) -> PathBuf {
+    use std::os::unix::ffi::OsStrExt;
+    let p = d.join("pipe.svg");
+    let c = std::ffi::CString::new(p.as_os_str().as_bytes()).unwrap();
+    // SAFETY: a valid NUL-terminated path; mkfifo touches nothing else.
+    assert_eq!(unsafe { libc::mkfifo(c.as_ptr(), 0o644) }, 0, "mkfifo");
+    p
+}
+
+#[test]
+fn outputs_that_are_not_regular_files_are_refused_even_with_force() {
+    use std::os::unix::fs::FileTypeExt;
+    let d = temp_dir("plot-fifo");
+    let p = fifo(&d);
+    let ps = p.to_str().unwrap();
+    let runs: [&[&str]; 2] = [
+        &[
+            "plot",
+            &scenario("bridge_gain_101.ron"),
+            "-o",
+            ps,
+            "--force",
+        ],
+        &["manual", "-o", ps, "--force"],
+    ];
+    for args in runs {
+        let o = bin().args(args).output().unwrap();
+        assert!(!o.status.success(), "{args:?} refused");
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains("not a regular file"), "{args:?}: {err}");
+        let t = std::fs::symlink_metadata(&p).unwrap().file_type();
+        assert!(t.is_fifo(), "{args:?}: the FIFO is still a FIFO");
+    }
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn a_dash_for_output_writes_standard_output() {
+    let d = temp_dir("plot-dash");
+    let runs: [(&[&str], &str); 2] = [
+        (
+            &["plot", &scenario("bridge_gain_101.ron"), "-o", "-"],
+            "<svg",
+        ),
+        // A man page starts its title with the roff request .TH (man(7)).
+        (&["manual", "-o", "-"], ".TH"),
+    ];
+    for (args, mark) in runs {
+        let o = bin().args(args).current_dir(&d).output().unwrap();
+        assert!(o.status.success(), "{args:?}");
+        assert!(
+            String::from_utf8_lossy(&o.stdout).contains(mark),
+            "{args:?}"
+        );
+        assert!(!d.join("-").exists(), "{args:?}: no file named -");
+    }
+    std::fs::remove_dir_all(&d).ok();
+}

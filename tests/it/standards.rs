@@ -293,3 +293,25 @@ fn bad_value_text_is_an_error_naming_the_text() {
     assert!(parse_non_negative("0").is_ok());
     assert!(parse_non_negative("-1p").is_err());
 }
+
+#[test]
+fn stepped_values_are_the_clean_series_decimals() {
+    // Stepping a capacitor along E12 from 33 pF: the next value is 39 pF
+    // (IEC 60063 E12), which must be the double nearest 3.9e-11 so a save
+    // writes `3.9e-11`, not `3.8999999999999995e-11`.
+    let up = Series::E12.next_above(33e-12);
+    assert_eq!(up, 3.9e-11);
+    assert_eq!(format!("{up:?}"), "3.9e-11");
+    // Every value reached by stepping, in every series, over picofarads to
+    // megohms, is the same decimal written with the series' digits.
+    for s in [Series::E12, Series::E24, Series::E96] {
+        let mut v = 1e-12;
+        while v < 1e7 {
+            let next = s.next_above(v);
+            let clean: f64 = format!("{next:.*e}", s.digits() - 1).parse().unwrap();
+            assert_eq!(next, clean, "{s} above {v:e}");
+            assert_eq!(s.next_below(next * 1.005), next, "{s} below");
+            v = next;
+        }
+    }
+}

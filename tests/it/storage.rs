@@ -77,9 +77,24 @@ fn stale_temporary_files_are_removed_on_the_next_save() {
     std::fs::write(&live, "").unwrap();
     let other = d.join(".notes.txt.tmp-99999999");
     std::fs::write(&other, "").unwrap();
+    // The atomic-write-file crate's named temporary (its fallback where the
+    // file system has no unnamed ones, and the link made just before the
+    // rename): "." + the file's name + "." + six random letters or digits.
+    let killed = d.join(".s.ron.PWe6vb");
+    std::fs::write(&killed, "").unwrap();
+    let hour_ago = std::time::SystemTime::now() - std::time::Duration::from_secs(3600);
+    let f = std::fs::File::options().write(true).open(&killed).unwrap();
+    f.set_modified(hour_ago).unwrap();
+    let fresh = d.join(".s.ron.Ab12Cd");
+    std::fs::write(&fresh, "").unwrap();
     let w = write_atomic(&p, "new\n").unwrap();
-    assert_eq!(w.cleaned, 1);
+    assert_eq!(w.cleaned, 2);
     assert!(!stale.exists());
+    assert!(!killed.exists(), "an hour-old temporary is a killed save's");
+    assert!(
+        fresh.exists(),
+        "a fresh one may be another save's, in progress"
+    );
     assert!(live.exists(), "a running process's file stays");
     assert!(other.exists(), "not ours");
     std::fs::remove_dir_all(&d).ok();
@@ -151,4 +166,80 @@ fn comments_are_kept_when_only_numbers_change() {
         r.text.starts_with("// Built-in demo"),
         "leading comments kept"
     );
+}
+
+/// A 64 KiB tmpfs mounted on a fresh folder (root only); None, with a
+/// message, where mounting is refused.
+fn small_tmpfs(name: &str) -> Option<std::path::PathBuf> {
+    let d = temp_dir(name);
+    let ok = std::process::Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=64k", "tmpfs"])
+        .arg(&d)
+        .status()
+        .is_ok_and(|s| s.success());
+    if !ok {
+        eprintln!(
+            "skipped: cannot mount a tmpfs on {} (not root?)",
+            d.display()
+        );
+        std::fs::remove_dir_all(&d).ok();
+    }
+    ok.then_some(d)
+}
+
+fn unmount(d: &std::path::Path) {
+    std::process::Command::new("umount").arg(d).status().ok();
+    std::fs::remove_dir_all(d).ok();
+}
+
+/// Fill a file system until the next write fails, then free `keep` bytes.
+fn fill_leaving(d: &std::path::Path, keep: u64) {
+    use std::io::Write;
+    let filler = d.join("filler");
+    let mut f = std::fs::File::create(&filler).unwrap();
+    let page = [b'x'; 4096];
+    while f.write_all(&page).is_ok() {}
+    let len = std::fs::metadata(&filler).unwrap().len();
+    f.set_len(len.saturating_sub(keep) / 4096 * 4096).unwrap();
+}
+
+#[test]
+fn a_hard_linked_file_on_a_full_disk_is_left_whole() {
+    let Some(d) = small_tmpfs("st-full") else {
+        return;
+    };
+    let (a, b) = (d.join("a.ron"), d.join("b.ron"));
+    // The reported case: 8,191 bytes, a second link, 8 KiB free after it.
+    let old = format!("// {}\n", "o".repeat(8191 - 4));
+    std::fs::write(&a, &old).unwrap();
+    std::fs::hard_link(&a, &b).unwrap();
+    fill_leaving(&d, 8192);
+    let new = format!("// {}\n", "n".repeat(9000));
+    let r = write_atomic(&a, &new);
+    let kept = [
+        std::fs::read_to_string(&a).unwrap(),
+        std::fs::read_to_string(&b).unwrap(),
+    ];
+    unmount(&d);
+    let e = r.expect_err("no space for the longer text");
+    assert_eq!(kept[0], old, "a.ron intact");
+    assert_eq!(kept[1], old, "b.ron intact");
+    assert!(e.to_string().contains("a.ron.bak"), "names the copy: {e}");
+}
+
+#[test]
+fn an_outside_change_with_the_same_size_and_time_is_seen() {
+    let d = temp_dir("st-same-stamp");
+    let p = d.join("s.ron");
+    std::fs::write(&p, "rf: 1000\n").unwrap();
+    let o = Original::read(&p).unwrap();
+    let when = std::fs::metadata(&p).unwrap().modified().unwrap();
+    // Another program writes text of the same length and restores the time.
+    std::fs::write(&p, "rf: 2000\n").unwrap();
+    let f = std::fs::File::options().write(true).open(&p).unwrap();
+    f.set_modified(when).unwrap();
+    assert!(o.changed_on_disk(&p), "compared by content, not by stamp");
+    std::fs::write(&p, "rf: 1000\n").unwrap();
+    assert!(!o.changed_on_disk(&p), "equal text is no change");
+    std::fs::remove_dir_all(&d).ok();
 }
