@@ -63,7 +63,7 @@ pub fn run(args: &Args) -> Result<ExitCode> {
     let stages: Vec<_> = scenarios
         .iter()
         .zip(&evals)
-        .map(|(scenario, eval)| svg::Stage { scenario, eval })
+        .map(|(scenario, eval)| svg::Evaluated { scenario, eval })
         .collect();
     let look = svg::Look {
         width: args.width,

@@ -74,7 +74,7 @@ fn write_figures(
     let stem = file
         .and_then(|f| f.file_stem())
         .map_or("demo".into(), |f| f.to_string_lossy().into_owned());
-    let stage = [svg::Stage {
+    let stage = [svg::Evaluated {
         scenario: s,
         eval: e,
     }];

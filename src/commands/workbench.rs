@@ -4,7 +4,7 @@
 
 use crate::files::load::demo;
 use crate::model::Scenario;
-use crate::ui::app::Stage;
+use crate::ui::app::Opened;
 use crate::ui::Looks;
 use anyhow::{Context, Result};
 use std::path::PathBuf;
@@ -28,13 +28,13 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<ExitCode> {
     let stages = if args.files.is_empty() {
-        vec![Stage::from((demo(), None))]
+        vec![Opened::from((demo(), None))]
     } else {
         args.files
             .iter()
             .map(|p| {
                 let (scenario, text) = Scenario::read(p)?;
-                Ok(Stage {
+                Ok(Opened {
                     scenario,
                     path: Some(p.clone()),
                     text,

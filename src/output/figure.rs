@@ -7,7 +7,7 @@ use crate::output::traces::Traces;
 use plotters::prelude::*;
 
 /// One stage to draw.
-pub struct Stage<'a> {
+pub struct Evaluated<'a> {
     pub scenario: &'a Scenario,
     pub eval: &'a Evaluation,
 }
@@ -70,7 +70,7 @@ pub struct Mark {
 pub type OwnChart = fn(
     &DrawingArea<SVGBackend, plotters::coord::Shift>,
     &str,
-    &[Stage],
+    &[Evaluated],
     Look,
     u32,
 ) -> anyhow::Result<()>;
@@ -85,13 +85,13 @@ pub struct View {
     /// Whether the workbench shows it (the `v` key's cycle).
     pub workbench: bool,
     /// Why this stage cannot be drawn in the view (an input it lacks).
-    pub needs: fn(&Stage) -> Option<String>,
+    pub needs: fn(&Evaluated) -> Option<String>,
     pub left: Axis,
     pub right: Option<Axis>,
     pub curves: fn(&Traces) -> Vec<Curve>,
     /// The marks a stage gets in this view: decided here once, for the
     /// figures, the note and the workbench.
-    pub marks: fn(&Stage) -> Vec<Mark>,
+    pub marks: fn(&Evaluated) -> Vec<Mark>,
     /// Some: a chart of its own instead of the frequency chart.
     pub own: Option<OwnChart>,
 }

@@ -8,7 +8,7 @@
 
 use crate::judge::figures::key_figures;
 use crate::model::values::{fmt_eng, printable};
-pub use crate::output::figure::{Axis, Curve, Look, Mark, OwnChart, Stage, View, DEG};
+pub use crate::output::figure::{Axis, Curve, Evaluated, Look, Mark, OwnChart, View, DEG};
 use crate::output::traces::Traces;
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint};
 use plotters::prelude::*;
@@ -155,7 +155,7 @@ fn minor_decades(lo: f64, hi: f64) -> Vec<f64> {
 }
 
 /// The footer lines: each stage's key figures.
-fn footer(stages: &[Stage]) -> Vec<String> {
+fn footer(stages: &[Evaluated]) -> Vec<String> {
     let tags = ["A", "B"];
     stages
         .iter()
@@ -174,12 +174,12 @@ fn footer(stages: &[Stage]) -> Vec<String> {
 }
 
 /// The caption: the view, then the title of A (and of B).
-fn caption(view: &View, stages: &[Stage]) -> String {
+fn caption(view: &View, stages: &[Evaluated]) -> String {
     titled(view.title, stages)
 }
 
 /// A heading, then the title of A (and of B).
-pub(crate) fn titled(heading: &str, stages: &[Stage]) -> String {
+pub(crate) fn titled(heading: &str, stages: &[Evaluated]) -> String {
     let titles: Vec<String> = stages
         .iter()
         .map(|s| printable(&s.scenario.title))
@@ -237,7 +237,7 @@ pub(crate) fn err(e: impl std::fmt::Display) -> anyhow::Error {
 }
 
 /// Draw `view` of the stages (A first) as an SVG document.
-pub fn render(view: &View, stages: &[Stage], look: Look) -> anyhow::Result<String> {
+pub fn render(view: &View, stages: &[Evaluated], look: Look) -> anyhow::Result<String> {
     if let Some(why) = stages.iter().find_map(|s| (view.needs)(s)) {
         anyhow::bail!(why);
     }
@@ -285,7 +285,7 @@ pub fn render(view: &View, stages: &[Stage], look: Look) -> anyhow::Result<Strin
 fn draw_chart(
     area: &DrawingArea<SVGBackend, plotters::coord::Shift>,
     view: &View,
-    stages: &[Stage],
+    stages: &[Evaluated],
     traces: &[Traces],
     look: Look,
     font: u32,
@@ -332,7 +332,7 @@ fn draw_chart(
 /// What the parts of one chart share.
 struct Plot<'p> {
     view: &'p View,
-    stages: &'p [Stage<'p>],
+    stages: &'p [Evaluated<'p>],
     curves: &'p [Vec<Curve>],
     ly: (f64, f64),
     look: Look,
@@ -476,7 +476,7 @@ pub(crate) fn legend_at<'a, 'b: 'a>(
 /// Each stage's marks: a thin vertical line with its text near the top.
 fn draw_marks<'a, 'b: 'a>(
     chart: &mut Chart<'a, 'b>,
-    stages: &[Stage],
+    stages: &[Evaluated],
     view: &View,
     (y0, y1): (f64, f64),
     look: Look,

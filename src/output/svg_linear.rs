@@ -5,7 +5,7 @@
 
 use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
 use crate::output::svg::{
-    err, legend_at, legend_sample, rings, style, titled, Chart, Keyed, Look, Stage,
+    err, legend_at, legend_sample, rings, style, titled, Chart, Evaluated, Keyed, Look,
 };
 use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use plotters::coord::Shift;
@@ -15,7 +15,7 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 type Area<'a, 'b> = DrawingArea<SVGBackend<'b>, Shift>;
 
 /// The step view needs a step response (none for an unstable loop).
-pub fn needs_step(s: &Stage) -> Option<String> {
+pub fn needs_step(s: &Evaluated) -> Option<String> {
     s.eval.analysis.step.view_end().is_none().then(|| {
         format!(
             "{} has no step response to draw (its loop is unstable)",
@@ -63,7 +63,7 @@ type Waves = Vec<Vec<(f64, f64)>>;
 
 /// The waveforms and, when each is divided by its final value, the axis
 /// description that says so.
-fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
+fn step_waves(stages: &[Evaluated], end: f64) -> (Waves, Option<&'static str>) {
     let responses: Vec<_> = stages.iter().map(|s| &s.eval.analysis.step).collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, 400);
     (waves, divided.then_some("output / its final value"))
@@ -74,7 +74,7 @@ fn step_waves(stages: &[Stage], end: f64) -> (Waves, Option<&'static str>) {
 pub fn step_chart(
     area: &Area,
     heading: &str,
-    stages: &[Stage],
+    stages: &[Evaluated],
     look: Look,
     font: u32,
 ) -> anyhow::Result<()> {
@@ -148,7 +148,7 @@ pub fn step_chart(
 fn draw_wave<'a, 'b: 'a>(
     chart: &mut Chart<'a, 'b>,
     (slot, n): (usize, usize),
-    s: &Stage,
+    s: &Evaluated,
     w: &[(f64, f64)],
     (yr, look, font): ((f64, f64), Look, u32),
 ) -> anyhow::Result<()> {
@@ -206,7 +206,7 @@ fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
 pub fn spread_chart(
     area: &Area,
     heading: &str,
-    stages: &[Stage],
+    stages: &[Evaluated],
     look: Look,
     font: u32,
 ) -> anyhow::Result<()> {

@@ -7,12 +7,12 @@
 //! (its axes, traces and marks).
 
 use crate::model::values::{fmt_eng, printable};
-use crate::output::figure::{Axis, Curve, Mark, OwnChart, Stage, View, DB, DEG};
+use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG};
 pub use crate::output::figure::{MarkKind, ViewId};
 use crate::output::svg_linear;
 use crate::output::traces::Traces;
 
-fn nothing_needed(_: &Stage) -> Option<String> {
+fn nothing_needed(_: &Evaluated) -> Option<String> {
     None
 }
 
@@ -25,7 +25,7 @@ fn curve(name: &'static str, right: bool, points: &[(f64, f64)]) -> Curve {
     }
 }
 
-fn no_marks(_: &Stage) -> Vec<Mark> {
+fn no_marks(_: &Evaluated) -> Vec<Mark> {
     Vec::new()
 }
 
@@ -33,7 +33,7 @@ fn no_curves(_: &Traces) -> Vec<Curve> {
     Vec::new()
 }
 
-fn f3db_mark(s: &Stage) -> Vec<Mark> {
+fn f3db_mark(s: &Evaluated) -> Vec<Mark> {
     s.eval
         .analysis
         .f_3db_hz
@@ -47,7 +47,7 @@ fn f3db_mark(s: &Stage) -> Vec<Mark> {
         .collect()
 }
 
-fn crossover_mark(s: &Stage) -> Vec<Mark> {
+fn crossover_mark(s: &Evaluated) -> Vec<Mark> {
     let e = s.eval;
     e.analysis
         .crossover_hz
@@ -63,7 +63,7 @@ fn crossover_mark(s: &Stage) -> Vec<Mark> {
         .collect()
 }
 
-fn band_marks(s: &Stage) -> Vec<Mark> {
+fn band_marks(s: &Evaluated) -> Vec<Mark> {
     let (lo, hi) = s.scenario.band;
     vec![
         Mark {
@@ -82,7 +82,7 @@ fn band_marks(s: &Stage) -> Vec<Mark> {
 /// A view drawn on linear axes by `chart`.
 const fn linear(
     (id, name, title, about): (ViewId, &'static str, &'static str, &'static str),
-    needs: fn(&Stage) -> Option<String>,
+    needs: fn(&Evaluated) -> Option<String>,
     chart: OwnChart,
 ) -> View {
     View {
@@ -125,7 +125,7 @@ fn impedance_curves(t: &Traces) -> Vec<Curve> {
 }
 
 /// The envelope needs the signal's peak.
-fn needs_peak(s: &Stage) -> Option<String> {
+fn needs_peak(s: &Evaluated) -> Option<String> {
     s.scenario.source.peak.is_none().then(|| {
         format!(
             "the envelope view needs source.peak (the signal's peak at the source); \
@@ -173,7 +173,7 @@ fn envelope_curves(t: &Traces) -> Vec<Curve> {
 }
 
 /// The band edges and where the need first passes a ceiling.
-fn envelope_marks(s: &Stage) -> Vec<Mark> {
+fn envelope_marks(s: &Evaluated) -> Vec<Mark> {
     let mut m = band_marks(s);
     if let Some((f, what)) = s.eval.analysis.limits.envelope_limit {
         m.push(Mark {
@@ -334,7 +334,7 @@ impl ViewId {
     }
 
     /// The marks a stage gets in this view (the one decision).
-    pub fn marks(self, s: &Stage) -> Vec<Mark> {
+    pub fn marks(self, s: &Evaluated) -> Vec<Mark> {
         (self.view().marks)(s)
     }
 }

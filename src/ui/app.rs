@@ -227,15 +227,15 @@ impl SaveAsk {
 /// A stage to open the workbench on: the scenario, its file and that
 /// file's text (for the comments the scenario does not hold).
 #[derive(Debug, Clone)]
-pub struct Stage {
+pub struct Opened {
     pub scenario: Scenario,
     pub path: Option<PathBuf>,
     pub text: String,
 }
 
-impl From<(Scenario, Option<PathBuf>)> for Stage {
-    fn from((scenario, path): (Scenario, Option<PathBuf>)) -> Stage {
-        Stage {
+impl From<(Scenario, Option<PathBuf>)> for Opened {
+    fn from((scenario, path): (Scenario, Option<PathBuf>)) -> Opened {
+        Opened {
             scenario,
             path,
             text: String::new(),
@@ -292,13 +292,13 @@ pub fn scenario_files() -> Vec<PathBuf> {
 }
 
 impl App {
-    pub fn new(stages: Vec<impl Into<Stage>>, theme: Theme) -> App {
+    pub fn new(stages: Vec<impl Into<Opened>>, theme: Theme) -> App {
         let probe_hz = 1e3;
         let slots: Vec<Slot> = stages
             .into_iter()
             .take(2)
             .map(|st| {
-                let st: Stage = st.into();
+                let st: Opened = st.into();
                 // Each file as loaded, for saving back into it: the text
                 // read at start-up, or (without it) the file itself.
                 let original = match (&st.path, st.text.is_empty()) {
@@ -670,7 +670,7 @@ impl App {
         let stages: Vec<_> = self
             .slots
             .iter()
-            .map(|s| crate::output::svg::Stage {
+            .map(|s| crate::output::svg::Evaluated {
                 scenario: &s.scenario,
                 eval: &s.analysis,
             })

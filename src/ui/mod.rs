@@ -14,7 +14,7 @@ pub mod widgets;
 
 use crate::files::storage;
 use anyhow::{bail, Result};
-use app::{App, Stage};
+use app::{App, Opened};
 use ratatui::backend::Backend;
 use ratatui::crossterm::event::{self, Event};
 use ratatui::crossterm::terminal::{BeginSynchronizedUpdate, EndSynchronizedUpdate};
@@ -324,7 +324,7 @@ where
 /// restore the terminal and first write each unsaved stage to a rescue
 /// file (see [`storage::rescue_path`]), saying where on stderr. After a signal the
 /// process exits with 128 + the signal number, after a panic with 101.
-pub fn run(stages: Vec<Stage>, looks: Looks) -> Result<ExitCode> {
+pub fn run(stages: Vec<Opened>, looks: Looks) -> Result<ExitCode> {
     if !std::io::stdin().is_terminal() || !std::io::stdout().is_terminal() {
         bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
     }

@@ -438,8 +438,8 @@ fn tag(app: &App, slot: usize) -> &'static str {
 }
 
 /// A slot as the view registry takes it.
-fn stage_of(s: &Slot) -> crate::output::figure::Stage<'_> {
-    crate::output::figure::Stage {
+fn stage_of(s: &Slot) -> crate::output::figure::Evaluated<'_> {
+    crate::output::figure::Evaluated {
         scenario: &s.scenario,
         eval: &s.analysis,
     }

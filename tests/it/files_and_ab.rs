@@ -154,7 +154,7 @@ fn saving_keeps_the_comment_at_the_top() {
     std::fs::write(&path, &src).unwrap();
     // As the binary does: the file is read once, its text kept for the comments.
     let (scenario, text) = Scenario::read(&path).unwrap();
-    let stage = loopwright::ui::app::Stage {
+    let stage = loopwright::ui::app::Opened {
         scenario,
         path: Some(path.clone()),
         text,

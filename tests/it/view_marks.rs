@@ -8,7 +8,7 @@ use crate::support::stages::follower;
 use crossterm::event::KeyCode;
 use loopwright::judge::evaluate;
 use loopwright::model::Scenario;
-use loopwright::output::svg::{self, Look, Stage};
+use loopwright::output::svg::{self, Evaluated, Look};
 use loopwright::output::views::{MarkKind, ViewId};
 use loopwright::ui::app::App;
 use loopwright::ui::theme::Theme;
@@ -85,7 +85,7 @@ fn workbench_marks(s: &Scenario, view: ViewId) -> BTreeSet<MarkKind> {
 /// cannot draw the stage.
 fn svg_marks(s: &Scenario, view: ViewId) -> Option<BTreeSet<MarkKind>> {
     let e = evaluate(s);
-    let stage = [Stage {
+    let stage = [Evaluated {
         scenario: s,
         eval: &e,
     }];
