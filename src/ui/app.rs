@@ -52,7 +52,7 @@ pub fn figure_path(stage: Option<&Path>, view: &str) -> PathBuf {
 pub struct Slot {
     pub scenario: Scenario,
     /// The figures and warnings of `scenario`.
-    pub analysis: Evaluation,
+    pub eval: Evaluation,
     pub traces: Traces,
     /// The solved point at the chosen probe frequency.
     pub probe: Option<Point>,
@@ -82,10 +82,10 @@ impl Slot {
         original: Option<Original>,
         probe_hz: f64,
     ) -> Slot {
-        let analysis = evaluate(&scenario);
+        let eval = evaluate(&scenario);
         let mut slot = Slot {
-            traces: Traces::new(&analysis.analysis),
-            analysis,
+            traces: Traces::new(&eval.analysis),
+            eval,
             probe: None,
             readout: None,
             saved: Some(scenario.clone()),
@@ -104,8 +104,8 @@ impl Slot {
     /// Re-run the engine after a change to the scenario (already
     /// validated by the caller).
     fn refresh(&mut self, probe_hz: f64) {
-        self.analysis = evaluate_with(&self.scenario, &[]);
-        self.traces = Traces::new(&self.analysis.analysis);
+        self.eval = evaluate_with(&self.scenario, &[]);
+        self.traces = Traces::new(&self.eval.analysis);
         self.set_probe(probe_hz);
     }
 
@@ -115,7 +115,7 @@ impl Slot {
         self.probe = c.eval(probe_hz);
         self.readout = Some(crate::output::report::point_report(
             &c,
-            &self.analysis.analysis,
+            &self.eval.analysis,
             probe_hz,
         ));
     }
@@ -356,7 +356,7 @@ impl App {
             .slots
             .iter()
             .enumerate()
-            .flat_map(|(i, s)| s.analysis.warnings.iter().map(move |x| (i, x)))
+            .flat_map(|(i, s)| s.eval.warnings.iter().map(move |x| (i, x)))
             .collect();
         w.sort_by_key(|x| std::cmp::Reverse(x.1.severity));
         w
@@ -672,7 +672,7 @@ impl App {
             .iter()
             .map(|s| crate::output::svg::Evaluated {
                 scenario: &s.scenario,
-                eval: &s.analysis,
+                eval: &s.eval,
             })
             .collect();
         let svg = match crate::output::svg::render(view, &stages, Default::default()) {

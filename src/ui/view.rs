@@ -441,7 +441,7 @@ fn tag(app: &App, slot: usize) -> &'static str {
 fn stage_of(s: &Slot) -> crate::output::figure::Evaluated<'_> {
     crate::output::figure::Evaluated {
         scenario: &s.scenario,
-        eval: &s.analysis,
+        eval: &s.eval,
     }
 }
 
@@ -469,7 +469,7 @@ fn registry_marks(app: &App, s: &Slot) -> Vec<VMark> {
 /// margin on the loop view; and its phase-margin note at the crossover
 /// (on the loop view only), each label tagged with the stage.
 fn bode_marks(app: &App, s: &Slot, tag: &str) -> (Vec<VMark>, Vec<VMark>) {
-    let a = &s.analysis.analysis;
+    let a = &s.eval.analysis;
     let loop_view = app.view == ViewId::Loop;
     let mark = |f: f64, label: String| VMark {
         x: f.log10(),
@@ -648,7 +648,7 @@ fn gains_line(app: &App) -> String {
         .iter()
         .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
         .map(|f| {
-            let cell = f.cell(f.read(&slot.analysis), false);
+            let cell = f.cell(f.read(&slot.eval), false);
             format!("{} {}", f.short, trim_zeros(&cell))
         })
         .collect();
@@ -685,13 +685,13 @@ fn noise_summary(app: &App) -> String {
                 format!(
                     "{}band rms {}",
                     tag(app, i),
-                    compact(s.analysis.analysis.noise_rms, "V")
+                    compact(s.eval.analysis.noise_rms, "V")
                 )
             })
             .collect();
         return format!(" {} ", each.join(" · "));
     }
-    let a = &app.slot().analysis;
+    let a = &app.slot().eval;
     let mut shares: Vec<_> = a.analysis.noise_sources.iter().collect();
     shares.sort_by(|a, b| b.share.total_cmp(&a.share));
     let top: Vec<String> = shares
@@ -759,7 +759,7 @@ fn tagged_marks(app: &App, of: impl Fn(&Slot) -> Vec<VMark>) -> Vec<VMark> {
 /// ceilings, with a mark where the need first passes one.
 fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let slot = app.slot();
-    let (s, l) = (&slot.scenario, &slot.analysis.analysis.limits);
+    let (s, l) = (&slot.scenario, &slot.eval.analysis.limits);
     let title = format!(" {} V{} ", app.view.title(), legend(app));
     let bottom = match (l.int_peak_v, l.envelope_limit) {
         (None, _) => " give source peak for the envelope ".to_string(),
@@ -827,10 +827,10 @@ fn step_summary(app: &App) -> String {
 
 /// One stage's overshoot and settling (or why not).
 fn stage_step_summary(slot: &Slot) -> String {
-    let r = &slot.analysis.analysis.step;
+    let r = &slot.eval.analysis.step;
     let pct = |v: f64| format!("{}%", crate::model::values::fmt_plain(v, 3));
     match (r.final_v, r.settle_s[1]) {
-        _ if slot.analysis.analysis.unstable() => "unstable: no step response".to_string(),
+        _ if slot.eval.analysis.unstable() => "unstable: no step response".to_string(),
         (Some(_), Some(ts)) => {
             let mut t = format!(
                 "overshoot {}, 0.1 % in {}",
@@ -854,7 +854,7 @@ fn stage_step_summary(slot: &Slot) -> String {
 fn step_window(app: &App) -> f64 {
     app.slots
         .iter()
-        .filter_map(|s| s.analysis.analysis.step.view_end())
+        .filter_map(|s| s.eval.analysis.step.view_end())
         .fold(0.0, f64::max)
 }
 
@@ -882,20 +882,16 @@ fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
 
 /// Every stage's step marks, tagged A and B when there are two.
 fn all_step_marks(app: &App) -> Vec<VMark> {
-    tagged_marks(app, |s| step_marks(&s.analysis.analysis.step))
+    tagged_marks(app, |s| step_marks(&s.eval.analysis.step))
 }
 
 /// The step response on a linear time axis: each stage's waveform, A's
 /// final value and ±0.1 % band, and the marks of [`step_marks`].
 fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let r = &app.slot().analysis.analysis.step;
+    let r = &app.slot().eval.analysis.step;
     let end = step_window(app);
     let n = (area.width as usize * 4).clamp(50, 600);
-    let responses: Vec<_> = app
-        .slots
-        .iter()
-        .map(|s| &s.analysis.analysis.step)
-        .collect();
+    let responses: Vec<_> = app.slots.iter().map(|s| &s.eval.analysis.step).collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, n);
     let sizes: Vec<String> = responses.iter().map(|r| compact(r.size_v, "V")).collect();
     let unit = if divided { "output / final value" } else { "V" };
@@ -1048,9 +1044,9 @@ fn pin_traces(app: &App) -> Vec<Trace<'_>> {
 /// A key figure of one stage; the |Zout| figure at the chosen frequency.
 fn reading(f: &Figure, s: &Slot) -> Reading {
     if f.at_probe {
-        f.read_value(&s.analysis, s.probe.map(|p| p.zout.norm()))
+        f.read_value(&s.eval, s.probe.map(|p| p.zout.norm()))
     } else {
-        f.read(&s.analysis)
+        f.read(&s.eval)
     }
 }
 
@@ -1075,7 +1071,7 @@ fn figure_columns(app: &App) -> (Vec<&'static Figure>, usize) {
     cols.extend(row_figures().filter(|f| {
         app.slots
             .iter()
-            .any(|s| matches!(f.read(&s.analysis), Reading::Value(_)))
+            .any(|s| matches!(f.read(&s.eval), Reading::Value(_)))
     }));
     (cols, fixed)
 }

@@ -91,15 +91,7 @@ fn keys_move_jump_and_stay_within_the_sweep() {
     // The cursor stops at the sweep's ends; a typed frequency outside it
     // is refused and the cursor stays.
     press(&mut app, KeyCode::Char('.'), 200);
-    let top = app
-        .slot()
-        .analysis
-        .analysis
-        .sweep
-        .points
-        .last()
-        .unwrap()
-        .f_hz;
+    let top = app.slot().eval.analysis.sweep.points.last().unwrap().f_hz;
     assert_eq!(app.probe_hz, top);
     app.on_key(key(KeyCode::Char('f')));
     type_text(&mut app, "0");

@@ -27,7 +27,7 @@ fn both_stages_warnings_are_in_the_strip_tagged() {
     assert!(screen.contains("B phase-margin"), "{screen}");
     // Worst first across both stages.
     let strip = app.strip_warnings();
-    assert_eq!(strip.len(), app.slots[0].analysis.warnings.len() + wb.len());
+    assert_eq!(strip.len(), app.slots[0].eval.warnings.len() + wb.len());
     assert!(strip.windows(2).all(|w| w[0].1.severity >= w[1].1.severity));
 }
 
@@ -112,9 +112,9 @@ fn figures_header_is_stable_and_whole() {
         app.on_key(key(KeyCode::Right));
     }
     assert!(
-        app.slot().analysis.analysis.dc_gain < 10.0,
+        app.slot().eval.analysis.dc_gain < 10.0,
         "{}",
-        app.slot().analysis.analysis.dc_gain
+        app.slot().eval.analysis.dc_gain
     );
     assert_eq!(header(&app), before);
     let two = App::new(

@@ -631,7 +631,7 @@ fn passband_and_peak_rows(a: &App) -> (u16, u16, String) {
 fn gain_view_shows_2db_of_peaking_and_z_restores_the_full_range() {
     let s = peaking_2db();
     let mut a = App::new(vec![(s, None)], Theme::new(true, false));
-    let p = a.slots[0].analysis.analysis.peaking_db;
+    let p = a.slots[0].eval.analysis.peaking_db;
     assert!((p - 2.0).abs() < 0.05, "{p}");
     let (pass, peak, text) = passband_and_peak_rows(&a);
     assert!(

@@ -12,7 +12,7 @@ pub const STEP_DECADES: f64 = 0.1;
 impl App {
     /// The edited stage's sweep ends: where the cursor may go.
     pub fn cursor_range(&self) -> (f64, f64) {
-        let pts = &self.slot().analysis.analysis.sweep.points;
+        let pts = &self.slot().eval.analysis.sweep.points;
         match (pts.first(), pts.last()) {
             (Some(a), Some(b)) => (a.f_hz, b.f_hz),
             _ => (
@@ -42,7 +42,7 @@ impl App {
     /// The places `;` jumps to, in frequency order: f−3dB, the crossover
     /// and the band edges of the edited stage.
     pub fn cursor_marks(&self) -> Vec<(f64, &'static str)> {
-        let a = &self.slot().analysis;
+        let a = &self.slot().eval;
         let s = &self.slot().scenario;
         let mut m: Vec<(f64, &'static str)> = [
             (a.analysis.f_3db_hz, "f−3dB"),

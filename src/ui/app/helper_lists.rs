@@ -76,7 +76,7 @@ impl App {
             ));
             return;
         }
-        let now = fmt_plain(self.slot().analysis.analysis.nominal_gain.abs(), 6);
+        let now = fmt_plain(self.slot().eval.analysis.nominal_gain.abs(), 6);
         self.mode = Mode::Prompt(Prompt::Gain, Field::offering(&now));
         self.info("target gain (the magnitude, e.g. 11); Enter lists resistor pairs, Esc cancels");
     }
