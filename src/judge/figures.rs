@@ -730,7 +730,9 @@ impl Figure {
     /// such as |Zout| at the workbench's chosen frequency).
     pub fn read_value(&self, e: &Evaluation, v: Option<f64>) -> Reading {
         let misleading = self.margin && v.is_some_and(|v| v > 0.0);
-        if (self.closed_loop || misleading) && e.analysis.unstable() {
+        // A figure whose inputs are not given is undefined, stable or not.
+        let given = !(self.needs_input && v.is_none());
+        if (self.closed_loop || misleading) && given && e.analysis.unstable() {
             return Reading::Unstable;
         }
         v.filter(|v| v.is_finite())

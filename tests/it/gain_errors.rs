@@ -89,3 +89,29 @@ fn compare_shows_target_error_and_the_yield_of_each_spec() {
     assert!(keys.contains(&"target_error"), "{keys:?}");
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn an_unstable_stage_without_an_aim_has_no_target_line() {
+    // A follower whose slow poles leave it unstable (see stability.rs), with
+    // a spec that gives a margin limit but no aim and no gain-error limit.
+    let d = temp_dir("unstable-aim");
+    let p = d.join("slow.ron");
+    std::fs::write(
+        &p,
+        r#"(
+    title: "slow follower into 1 F",
+    stage: (topology: Follower, series: E24, tolerance: 0.01),
+    amp: (a0: 1.0e6, gbw: 100.0, fp2: 1.0e-3, ro: 1000.0, vnoise: 1.0e-8, inoise: 1.0e-12),
+    source: (r: 0.0),
+    load: (c: 1.0),
+    temp_c: 25.0,
+    band: (0.01, 10.0),
+    spec: (pm_min_deg: 45.0),
+)"#,
+    )
+    .unwrap();
+    let text = stdout_of(&["report", p.to_str().unwrap()]);
+    assert!(text.contains("DC gain            unstable"), "{text}");
+    assert!(!text.contains("error vs target"), "{text}");
+    std::fs::remove_dir_all(&d).ok();
+}
