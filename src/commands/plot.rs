@@ -6,6 +6,7 @@ use crate::model::Scenario;
 use crate::output::{svg, views};
 use anyhow::{bail, Result};
 use clap::builder::PossibleValuesParser;
+use std::io::Write;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -69,6 +70,7 @@ pub fn run(args: &Args) -> Result<ExitCode> {
     };
     let svg = svg::render(view, &stages, look)?;
     let written = storage::write_output(output, &svg, args.force)?;
-    eprintln!("wrote {}", written.display());
+    // Only a note: a stderr that cannot take it does not undo the write.
+    let _ = writeln!(std::io::stderr(), "wrote {}", written.display());
     Ok(ExitCode::SUCCESS)
 }
