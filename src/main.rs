@@ -2,7 +2,7 @@
 
 use clap::Parser;
 use loopwright::commands::{self, Cli};
-use std::io;
+use std::io::{self, Write};
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
@@ -17,7 +17,9 @@ fn main() -> ExitCode {
             if broken_pipe {
                 return ExitCode::SUCCESS;
             }
-            eprintln!("loopwright: {e:#}");
+            // A stderr that cannot take the message (full, closed) must not
+            // panic: the exit code still tells the failure.
+            let _ = writeln!(io::stderr(), "loopwright: {e:#}");
             ExitCode::FAILURE
         }
     }

@@ -29,10 +29,10 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<ExitCode> {
     let c = check(&args.files, args.trials, args.json, args.verbose);
-    io::stderr().write_all(&c.stderr)?;
-    let mut out = io::stdout().lock();
-    out.write_all(&c.stdout)?;
-    out.flush()?;
+    // The file problems are told on stderr; when it cannot take them the
+    // exit code (2) still says so.
+    let _ = io::stderr().write_all(&c.stderr);
+    super::write_stdout(&c.stdout)?;
     Ok(ExitCode::from(c.code))
 }
 

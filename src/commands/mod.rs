@@ -118,8 +118,38 @@ fn load(path: Option<&Path>) -> Result<Scenario> {
 
 /// Write a command's whole output to stdout at once.
 fn emit(buf: &[u8]) -> Result<ExitCode> {
+    write_stdout(buf)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Write to stdout, and fail when it was closed when loopwright started.
+fn write_stdout(buf: &[u8]) -> Result<()> {
+    if stdout_was_closed() {
+        anyhow::bail!("stdout is closed: the output could not be written");
+    }
     let mut out = io::stdout().lock();
     out.write_all(buf)?;
     out.flush()?;
-    Ok(ExitCode::SUCCESS)
+    Ok(())
+}
+
+/// Whether stdout was closed at start. The runtime puts `/dev/null`,
+/// opened read-write, in place of a closed standard descriptor, so a write
+/// would be lost with exit code 0; a shell's `>/dev/null` opens it
+/// write-only. Linux only (it reads `/proc/self`); elsewhere false.
+fn stdout_was_closed() -> bool {
+    if !cfg!(target_os = "linux") {
+        return false;
+    }
+    let is_null = std::fs::read_link("/proc/self/fd/1").is_ok_and(|p| p == Path::new("/dev/null"));
+    let read_write = || {
+        let info = std::fs::read_to_string("/proc/self/fdinfo/1").unwrap_or_default();
+        let flags = info
+            .lines()
+            .find_map(|l| l.strip_prefix("flags:"))
+            .and_then(|f| u32::from_str_radix(f.trim(), 8).ok());
+        // O_ACCMODE is 3; O_RDWR is 2.
+        flags.is_some_and(|f| f & 3 == 2)
+    };
+    is_null && read_write()
 }

@@ -6,6 +6,7 @@ use crate::model::Scenario;
 use crate::output::{svg, views};
 use anyhow::{bail, Result};
 use clap::builder::PossibleValuesParser;
+use std::io::Write;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -75,6 +76,7 @@ pub fn run(args: &Args) -> Result<ExitCode> {
         return super::emit(svg.as_bytes());
     }
     let written = storage::write_output(output, &svg, args.force)?;
-    eprintln!("wrote {}", written.display());
+    // Only a note: a stderr that cannot take it does not undo the write.
+    let _ = writeln!(std::io::stderr(), "wrote {}", written.display());
     Ok(ExitCode::SUCCESS)
 }

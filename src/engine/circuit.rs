@@ -17,7 +17,9 @@ pub const SWEEP_STOP_HZ: f64 = 1.0e9;
 pub const POINTS_PER_DECADE: usize = 30;
 
 /// Input impedances above this are reported as open (the solve cannot
-/// resolve them against the source's own current).
+/// resolve them against the source's own current). An input with no path
+/// into the stage (no resistor or rin at DC, no capacitor either at any
+/// frequency) is open whatever the solve gives.
 pub const ZIN_OPEN_OHM: f64 = 1.0e15;
 
 /// Everything solved at one frequency.
@@ -213,7 +215,9 @@ impl Circuit {
         let (x, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
         let i_in = net.source_current(&x[..n]);
         let v_term = Netlist::node_v(&x[..n], net.term);
-        let zin = if i_in == ZERO {
+        let paths = net.input_paths;
+        let open = !paths.any || (f_hz == 0.0 && !paths.dc);
+        let zin = if open || i_in == ZERO {
             None
         } else {
             let z = v_term / i_in;

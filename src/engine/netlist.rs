@@ -125,6 +125,9 @@ pub struct Netlist {
     model: AmpModel,
     pub out: Option<usize>,
     pub term: Option<usize>,
+    /// How the input terminal reaches into the stage (the source's own
+    /// resistance left out): decides an open input structurally.
+    pub input_paths: InputPaths,
     /// The isolation resistor between the amplifier pin and the load
     /// terminal, ohms (0 when absent: the two are one node).
     pub riso: f64,
@@ -362,6 +365,40 @@ fn amp_noise(amp: &Amp, en_row: usize, node: impl Fn(Pin) -> Option<usize>) -> [
     ]
 }
 
+/// Whether current from the source can enter the stage: through
+/// resistors and wires alone (at DC), or through capacitors too.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct InputPaths {
+    pub dc: bool,
+    pub any: bool,
+}
+
+/// The input terminal's paths to ground, the source resistor left out (it
+/// is the source's, not the stage's); the amplifier's output source joins
+/// its internal node to ground. The + input's noise generator leads only
+/// to the sensing input, which draws no current, so it is no path.
+fn input_paths(parts: &[Part]) -> InputPaths {
+    let reaches = |with_caps: bool| {
+        let mut b = Builder {
+            parent: std::array::from_fn(|i| i),
+        };
+        b.wire(Pin::Int, Pin::Gnd);
+        for part in parts {
+            match *part {
+                Part::Wire(p, q) => b.wire(p, q),
+                Part::Resistor(p, q, _, tag) if tag != Some(SOURCE_R) => b.wire(p, q),
+                Part::Capacitor(p, q, _) if with_caps => b.wire(p, q),
+                _ => {}
+            }
+        }
+        b.find(Pin::Term as usize) == b.find(Pin::Gnd as usize)
+    };
+    InputPaths {
+        dc: reaches(false),
+        any: reaches(true),
+    }
+}
+
 struct Builder {
     parent: [usize; PINS],
 }
@@ -463,6 +500,7 @@ impl Netlist {
             model,
             out: node(Out),
             term: node(Term),
+            input_paths: input_paths(&parts),
             riso: s.stage.riso.unwrap_or(0.0),
             load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
             load_c: s.load.c.unwrap_or(0.0),

@@ -152,11 +152,20 @@ pub fn dc_offset(cx: &Context, w: &mut Vec<Warning>) {
         ),
         _ => String::new(),
     };
-    let text = format!(
-        "worst-case output offset {} is {:.1} % of the {} output peak{fix}",
-        fmt_eng(offset, "V"),
-        100.0 * offset / signal,
-        fmt_eng(signal, "V")
-    );
+    // A zero peak has no share to give (offset/0 is infinite): the offset
+    // is then the whole output.
+    let text = if signal > 0.0 {
+        format!(
+            "worst-case output offset {} is {:.1} % of the {} output peak{fix}",
+            fmt_eng(offset, "V"),
+            100.0 * offset / signal,
+            fmt_eng(signal, "V")
+        )
+    } else {
+        format!(
+            "worst-case output offset {} with no output signal (source.peak is 0){fix}",
+            fmt_eng(offset, "V")
+        )
+    };
     push(w, Code::DcOffset, Severity::Warning, text);
 }

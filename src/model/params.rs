@@ -1227,11 +1227,12 @@ impl Param {
             None if !self.applies(s) || self.may_be_absent(s) => return None,
             None if matches!(self.access, Access::Choice { .. }) => return None,
             None => {
+                let name = s.stage.topology.name();
                 return problem(format!(
-                    "the field is missing: a {} stage needs {}",
-                    s.stage.topology.name(),
+                    "the field is missing: {} {name} stage needs {}",
+                    article(name),
                     self.label
-                ))
+                ));
             }
             Some(v) => v,
         };
@@ -1308,6 +1309,15 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
         }
     }
     p
+}
+
+/// "an" before a word that starts with a vowel letter, else "a" (common
+/// English usage; the topology names are read as spelled).
+fn article(word: &str) -> &'static str {
+    match word.chars().next().map(|c| c.to_ascii_lowercase()) {
+        Some('a' | 'e' | 'i' | 'o' | 'u') => "an",
+        _ => "a",
+    }
 }
 
 /// The spread's open-loop gain range in order, and a gain target that is

@@ -3,6 +3,7 @@
 //! CSV or as one JSON object of column arrays.
 
 use crate::engine::analysis::{Analysis, Circuit};
+use crate::model::params::HERTZ;
 use crate::model::scenario::Scenario;
 use crate::model::values::fmt_eng;
 use crate::num::refine::log_grid;
@@ -74,6 +75,12 @@ impl Range {
         let hi = self.to.or(pts.last().map(|p| p.f_hz)).unwrap_or(1e9);
         if lo <= 0.0 {
             anyhow::bail!("--from must be above 0 Hz: the sweep is log-spaced");
+        }
+        if lo < HERTZ.0 {
+            anyhow::bail!(
+                "--from {lo:e} Hz is below {}, the lowest frequency the sweep accepts",
+                fmt_eng(HERTZ.0, "Hz")
+            );
         }
         if hi <= lo {
             anyhow::bail!(

@@ -3,7 +3,9 @@
 //! output, then by the load they put on it.
 
 use crate::model::eseries::Series;
+use crate::model::params::{GAIN_TARGET, OHMS};
 use crate::model::scenario::Topology;
+use crate::model::values::{fmt_eng, fmt_plain};
 use serde::Serialize;
 use std::cmp::Ordering;
 use std::fmt;
@@ -134,8 +136,23 @@ pub fn check(q: &Query) -> Result<(), QueryProblem> {
             "must be above 1 for a non-inverting stage (its gain is 1 + rf/rg)",
         );
     }
+    if q.target > GAIN_TARGET.1 {
+        return Err(problem(
+            QueryField::Target,
+            format!(
+                "is above {}, the largest gain loopwright accepts",
+                fmt_plain(GAIN_TARGET.1, 6)
+            ),
+        ));
+    }
     if !(lo.is_finite() && lo > 0.0) {
         return fail(QueryField::RgMin, "must be above 0 Ω");
+    }
+    if let Some(m) = outside_ohms(lo) {
+        return Err(problem(QueryField::RgMin, m));
+    }
+    if let Some(m) = outside_ohms(hi) {
+        return Err(problem(QueryField::RgMax, m));
     }
     if !(hi.is_finite() && hi >= lo) {
         return fail(QueryField::RgMax, "is below the bottom of the rg range");
@@ -146,10 +163,47 @@ pub fn check(q: &Query) -> Result<(), QueryProblem> {
             format!("leaves no {} value for rg", q.series),
         ));
     }
+    reachable(q)?;
     if q.count == 0 {
         return fail(QueryField::Count, "must be at least 1");
     }
     Ok(())
+}
+
+/// Why an rg end lies outside the accepted resistance range, if it does.
+fn outside_ohms(r: f64) -> Option<String> {
+    let range = || format!("{} to {}", fmt_eng(OHMS.0, "Ω"), fmt_eng(OHMS.1, "Ω"));
+    (!(OHMS.0..=OHMS.1).contains(&r))
+        .then(|| format!("is outside the accepted resistance range {}", range()))
+}
+
+/// Refuse a gain that no rf within [`RF_RANGE`] reaches from any rg of the
+/// range (every row would be rf's end of the range, far off the gain).
+fn reachable(q: &Query) -> Result<(), QueryProblem> {
+    let (lo, hi) = q.rg_range;
+    let ratio = ideal_ratio(q);
+    let (rf_lo, rf_hi) = RF_RANGE;
+    if lo * ratio > rf_hi || hi * ratio < rf_lo {
+        return Err(problem(
+            QueryField::Target,
+            format!(
+                "needs an rf outside {} to {} for every rg from {} to {}",
+                fmt_eng(rf_lo, "Ω"),
+                fmt_eng(rf_hi, "Ω"),
+                fmt_eng(lo, "Ω"),
+                fmt_eng(hi, "Ω")
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// rf/rg for the target: the gain (Inverting) or the gain − 1.
+fn ideal_ratio(q: &Query) -> f64 {
+    match q.topology {
+        Topology::Inverting => q.target,
+        _ => q.target - 1.0,
+    }
 }
 
 /// The ranking: |error| ascending, where a run of errors each within
@@ -193,10 +247,7 @@ fn nearest(rf: &[f64], ideal: f64, n: usize) -> &[f64] {
 pub fn find(q: &Query) -> Result<Vec<Pair>, QueryProblem> {
     check(q)?;
     let rf_values = q.series.values_between(RF_RANGE.0, RF_RANGE.1);
-    let ratio = match q.topology {
-        Topology::Inverting => q.target,
-        _ => q.target - 1.0,
-    };
+    let ratio = ideal_ratio(q);
     let mut pairs: Vec<Pair> = q
         .series
         .values_between(q.rg_range.0, q.rg_range.1)

@@ -361,8 +361,36 @@ pub fn trials_of(s: &Scenario, asked: Option<u32>) -> usize {
         .unwrap_or(DEFAULT_TRIALS) as usize
 }
 
-/// The spread of a valid scenario.
+/// The spread of a valid scenario, on a thread pool of its own (one
+/// thread per core; see [`spread_on`]).
 pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
+    spread_on(rayon::ThreadPoolBuilder::new().build(), s, run)
+}
+
+/// The spread on `pool`. When there is none (a
+/// process limit leaves no threads to start), the spread runs on the
+/// calling thread alone: the same result (each trial's draws depend only
+/// on the seed and its index), only slower.
+pub fn spread_on(
+    pool: Result<rayon::ThreadPool, rayon::ThreadPoolBuildError>,
+    s: &Scenario,
+    run: &Run,
+) -> SpreadResult {
+    let pool = pool.or_else(|_| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(1)
+            .use_current_thread()
+            .build()
+    });
+    match pool {
+        Ok(pool) => pool.install(|| spread_here(s, run)),
+        // Not even the calling thread could be taken: the loops below then
+        // run on rayon's global pool as before.
+        Err(_) => spread_here(s, run),
+    }
+}
+
+fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
     let b = s.spread.clone().unwrap_or_default();
     let trials = trials_of(s, run.trials);
     let seed = run.seed.or(b.seed).unwrap_or(DEFAULT_SEED);

@@ -683,3 +683,50 @@ fn pin_impedance_where_the_loop_gain_is_near_one() {
         );
     }
 }
+
+#[test]
+fn open_input_is_decided_by_the_network() {
+    use loopwright::engine::netlist::{AmpModel, InputPaths, Netlist};
+    let paths = |s: &loopwright::model::Scenario| Netlist::build(s, AmpModel::Real).input_paths;
+    // Common practice (nodal analysis): a node reached by no resistor has
+    // no DC current; a capacitor gives it a path at any f > 0.
+    let mut f = follower();
+    f.amp.rin = None;
+    f.amp.cin = None;
+    assert_eq!(
+        paths(&f),
+        InputPaths {
+            dc: false,
+            any: false
+        }
+    );
+    f.amp.cin = Some(1.0e-12);
+    assert_eq!(
+        paths(&f),
+        InputPaths {
+            dc: false,
+            any: true
+        }
+    );
+    let mut ni = plain(Topology::NonInverting, 1.0e3, 1.0e3);
+    ni.amp.rin = None;
+    assert!(!paths(&ni).dc);
+    // rin from + to −, and − tied back to the output: a DC path.
+    ni.amp.rin = Some(1.0e6);
+    assert!(paths(&ni).dc);
+    // Inverting: the source sees rg into the virtual ground.
+    let mut inv = plain(Topology::Inverting, 1.0e3, 1.0e4);
+    inv.amp.rin = None;
+    assert!(paths(&inv).dc);
+    // The solve then reports the open input as None at DC, and the + pin's
+    // cin alone above DC: |Zin| = 1/(2πf·C) (textbook capacitor reactance).
+    let c = Circuit::new(&f);
+    assert!(c.eval(0.0).unwrap().zin.is_none());
+    let z = c.eval(1.0e3).unwrap().zin.unwrap();
+    assert_rel(
+        "|Zin| at 1 kHz",
+        z.norm(),
+        1.0 / (2.0 * PI * 1.0e3 * 1.0e-12),
+        1e-9,
+    );
+}

@@ -369,6 +369,27 @@ fn dc_offset_warning_names_the_balance_resistor() {
 }
 
 #[test]
+fn dc_offset_warning_with_a_zero_peak_gives_no_share() {
+    // A zero peak: offset/0 has no finite share. 1 mV of vos at gain 11
+    // (textbook noise gain 1 + rf/rg) is 11 mV at the output, all of it.
+    let mut s = ideal_amp(plain(Topology::NonInverting, 1.0e3, 10.0e3));
+    s.source.peak = Some(0.0);
+    s.amp.vos = Some(1.0e-3);
+    let e = evaluate(&s);
+    let w = e.warnings.iter().find(|w| w.code == "dc-offset").unwrap();
+    assert!(
+        !w.text.contains("inf") && !w.text.contains('%'),
+        "{}",
+        w.text
+    );
+    assert!(
+        w.text.contains("11 mV") && w.text.contains("source.peak is 0"),
+        "{}",
+        w.text
+    );
+}
+
+#[test]
 fn absent_inputs_give_null_figures_and_no_sections() {
     // A file without the new fields: every new figure null, no new report
     // sections (README).

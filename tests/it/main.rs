@@ -5,6 +5,7 @@
 mod support;
 
 mod app_loop;
+mod cli_edges;
 mod cursor;
 mod design_helpers;
 mod elements;

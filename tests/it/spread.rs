@@ -339,3 +339,26 @@ fn spread_json_keys() {
     let te = figures.iter().find(|f| f["key"] == "target_error").unwrap();
     assert_eq!(te["corner_max_at"][0]["field"], "stage.rg");
 }
+
+#[test]
+fn spread_without_threads_falls_back_to_one() {
+    // A process limit can refuse every new thread (a spawn fails with
+    // EAGAIN, POSIX pthread_create). The spread must then still run, on
+    // the calling thread, and give the same result: each trial depends
+    // only on the seed and its index (README "Spread and spec").
+    let s = {
+        let mut s = in_range(plain(Topology::NonInverting, 1.0e3, 10.0e3));
+        s.stage.tolerance = 0.01;
+        s
+    };
+    let opts = Run {
+        trials: Some(200),
+        ..Run::default()
+    };
+    let no_threads = rayon::ThreadPoolBuilder::new()
+        .num_threads(2)
+        .spawn_handler(|_| Err(std::io::Error::from(std::io::ErrorKind::WouldBlock)))
+        .build();
+    let alone = spread::spread_on(no_threads, &s, &opts);
+    assert_eq!(alone, spread::spread(&s, &opts));
+}
