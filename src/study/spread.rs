@@ -62,13 +62,6 @@ pub struct FigureSpread {
 }
 
 impl FigureSpread {
-    /// Whether a Monte Carlo extreme lies beyond the corners: the
-    /// figure's extreme is inside the tolerance box, not at a corner.
-    pub fn extreme_inside(&self) -> bool {
-        let (below, above) = self.beyond_corners();
-        below || above
-    }
-
     /// Whether a trial went below the lowest corner, and above the
     /// highest, by more than rounding (a millionth of the corner span, and
     /// never by less than 1e-12: a figure that does not move is noise).
@@ -174,7 +167,7 @@ fn with_values(s: &Scenario, knobs: &[Knob], at: impl Fn(usize, &Knob) -> f64) -
 
 /// A 64-bit mix (SplitMix64's finaliser) so neighbouring trial indices
 /// give unrelated streams.
-fn mix(mut z: u64) -> u64 {
+pub fn mix(mut z: u64) -> u64 {
     z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
     z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);

@@ -18,6 +18,7 @@ mod limits;
 mod loader_fuzz;
 mod noise_checks;
 mod note_and_shell;
+mod pinned;
 mod plot_cli;
 mod plot_widget;
 mod properties;

@@ -75,7 +75,7 @@ fn corner_extremes_of_the_gain() {
     assert_eq!(at(&f.corner_min_at, "stage.rf"), 10.0e3 * (1.0 - t));
     // Every Monte Carlo trial lies inside the corner box.
     assert!(f.min.unwrap() >= f.corner_min.unwrap() && f.max.unwrap() <= f.corner_max.unwrap());
-    assert!(!f.extreme_inside());
+    assert_eq!(f.beyond_corners(), (false, false));
 }
 
 /// A uniform draw on [−1, 1] has mean 0 and variance 1/3; a normal of
