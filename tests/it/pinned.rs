@@ -384,3 +384,32 @@ fn an_ideal_output_solves_by_the_feedback_formula() {
     s.load.r = Some(1e3);
     assert_rel("loaded", analyze(&s).dc_gain, a0 / (1.0 + a0 / 10.0), 1e-9);
 }
+
+/// Bias currents flowing into both inputs move the DC level at the
+/// output by ib·(rf − (1 + rf/rg)·rs) on a non-inverting stage
+/// (superposition with an ideal amplifier, standard op-amp texts: the −
+/// pin's current returns through rf, the + pin's through the source
+/// resistance, amplified by the noise gain). With rs = rf ∥ rg it
+/// cancels (the bias-balance rule, common practice).
+#[test]
+fn bias_currents_move_the_dc_level() {
+    let (rg, rf, rs, ib) = (1e3, 9e3, 3e3, 200e-9);
+    let mut s = fast(plain(Topology::NonInverting, rg, rf));
+    rails(&mut s, -15.0, 15.0);
+    s.amp.ib = Some(ib);
+    s.source.r = rs;
+    s.source.dc = Some(0.5);
+    s.source.peak = Some(0.1);
+    let l = analyze(&s).limits;
+    let g = 1.0 + rf / rg;
+    let want = 0.5 * g + ib * (rf - g * rs);
+    assert_rel("int dc", l.int_dc_v.unwrap(), want, 1e-6);
+    assert_rel("out dc", l.out_dc_v.unwrap(), want, 1e-6);
+    // The + pin sits below the source by ib·rs (Ohm's law).
+    let cm_mid = 0.5 * (l.cm_low_v.unwrap() + l.cm_high_v.unwrap());
+    assert_rel("pin dc", cm_mid, 0.5 - ib * rs, 1e-6);
+    // Balanced: rs = rf·rg/(rf + rg) = 900 Ω leaves only the source.
+    s.source.r = rf * rg / (rf + rg);
+    let l = analyze(&s).limits;
+    assert_rel("balanced", l.int_dc_v.unwrap(), 0.5 * g, 1e-6);
+}
