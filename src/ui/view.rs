@@ -1283,6 +1283,9 @@ fn param_hint(app: &App) -> Line<'static> {
     if p.choice(s).is_none() {
         spans.push(Span::styled(format!(" · {}", p.range_text()), t.dim));
     }
+    if let Some(note) = p.note {
+        spans.push(Span::styled(format!(" · {note}"), t.dim));
+    }
     spans.push(Span::styled(format!(" · {}", keys::hint_line()), t.dim));
     Line::from(spans)
 }

@@ -1,0 +1,186 @@
+//! Large-signal truth: a stage past a rail at its operating point, the
+//! output-current limit in the step, the swing limit given at the pin into
+//! a load, bias currents over temperature, slow tails to 1 ppm, and labels
+//! that name what fails. Sources are named beside each check value.
+
+use crate::support::closed_forms::assert_rel;
+use crate::support::stages::{follower, in_range, plain};
+
+use loopwright::engine::analyze;
+use loopwright::judge::{evaluate, Severity};
+use loopwright::model::scenario::{Step, Supply};
+use loopwright::model::Scenario;
+use loopwright::model::Topology;
+use loopwright::output::report::Report;
+
+/// Gain 5 on ±3 V with 0.5 V swing limits and 1 V of source DC: the
+/// internal output would sit at 5 V (gain × DC, ideal-amplifier algebra),
+/// past the usable +2.5 V.
+fn clipped_at_dc() -> Scenario {
+    let mut s = in_range(plain(Topology::NonInverting, 1e3, 4e3));
+    s.supply = Some(Supply {
+        neg: -3.0,
+        pos: 3.0,
+    });
+    s.amp.swing_neg = Some(0.5);
+    s.amp.swing_pos = Some(0.5);
+    s.source.dc = Some(1.0);
+    s
+}
+
+#[test]
+fn a_stage_past_a_rail_at_dc_has_no_step_figures_and_says_why() {
+    let s = clipped_at_dc();
+    let e = evaluate(&s);
+    let r = &e.analysis.step;
+    assert_eq!(r.final_v, None);
+    assert_eq!(r.rise_s, None);
+    assert_eq!(r.overshoot_pct, None);
+    assert_eq!(r.settle_s, [None, None, None]);
+    assert_eq!(r.reason, Some("held at the + rail before the step"));
+    // JSON: step.reason; the text report says it too.
+    let rep = Report::new(&s, &e, &[]);
+    assert_eq!(
+        rep.step.get("reason").and_then(|v| v.as_str()),
+        Some("held at the + rail before the step")
+    );
+    assert!(rep.step["rise_s"].is_null());
+    let mut text = Vec::new();
+    loopwright::output::report::write_text(&rep, &s, &e, &mut text).unwrap();
+    let text = String::from_utf8(text).unwrap();
+    assert!(text.contains("held at the + rail before the step"), "{text}");
+    // No source.peak, yet the swing rule fires on the operating point.
+    assert_eq!(s.source.peak, None);
+    let w = e
+        .warnings
+        .iter()
+        .find(|w| w.code == "output-swing")
+        .expect("output-swing on the DC point alone");
+    assert_eq!(w.severity, Severity::Severe);
+    assert!(w.text.contains("+ rail"), "{}", w.text);
+}
+
+/// A single-supply inverting stage (0–5 V, gain −2) with +1 V of source
+/// DC: its output would sit at −2 V (−rf/rg × DC), below the 0 V rail.
+#[test]
+fn a_single_supply_inverter_clipped_at_dc_has_no_step_figures() {
+    let mut s = in_range(plain(Topology::Inverting, 1e3, 2e3));
+    s.supply = Some(Supply { neg: 0.0, pos: 5.0 });
+    s.source.dc = Some(1.0);
+    let e = evaluate(&s);
+    assert_eq!(e.analysis.step.overshoot_pct, None);
+    assert_eq!(
+        e.analysis.step.reason,
+        Some("held at the − rail before the step")
+    );
+    assert!(e.warnings.iter().any(|w| w.code == "output-swing"));
+    // Its grounded + input lies at the − rail, outside a range that ends
+    // 1 V inside it.
+    let mut s = s;
+    s.amp.cm_neg = Some(1.0);
+    let e = evaluate(&s);
+    assert!(
+        e.warnings.iter().any(|w| w.code == "input-range"),
+        "{:?}",
+        e.warnings
+    );
+}
+
+/// Inside its rails the same stage keeps its figures and gets no reason.
+#[test]
+fn a_stage_inside_its_rails_keeps_its_step_figures() {
+    let mut s = clipped_at_dc();
+    s.source.dc = Some(0.1);
+    let e = evaluate(&s);
+    assert_eq!(e.analysis.step.reason, None);
+    assert!(e.analysis.step.rise_s.is_some());
+    assert!(!e.warnings.iter().any(|w| w.code == "output-swing"));
+}
+
+/// A follower through 20 Ω into 10 nF, a 2 V step, slew 5 V/µs, iout
+/// 5 mA: the capacitor charges at I/C (C·dV/dt = I, the capacitor law)
+/// = 0.5 V/µs, ten times slower than the slew rate allows.
+fn current_stage() -> Scenario {
+    let mut s = in_range(follower());
+    s.stage.riso = Some(20.0);
+    s.load.c = Some(10e-9);
+    s.amp.slew = Some(5e6);
+    s.amp.iout = Some(5e-3);
+    s.step = Some(Step { size: 2.0 });
+    s
+}
+
+#[test]
+fn the_output_current_limit_ramps_the_load_at_i_over_c() {
+    let s = current_stage();
+    let r = analyze(&s).step;
+    assert_eq!(r.current_limited, Some(true));
+    // The ramp's slope between 20 % and 60 % of the step.
+    let (t1, t2) = (crossing(&r, 0.4), crossing(&r, 1.2));
+    let slope = 0.8 / (t2 - t1);
+    // C·dV/dt = I (capacitor law): 5 mA / 10 nF. The load has no
+    // resistor, and the follower's input draws nothing, so all of iout
+    // charges the capacitor (ro and riso only shift the internal level).
+    assert_rel("ramp", slope, 5e-3 / 10e-9, 1e-3);
+    assert_rel("final", r.final_v.unwrap(), 2.0, 1e-4);
+    // 10–90 % on that ramp: 1.6 V at 0.5 V/µs.
+    assert_rel("rise", r.rise_s.unwrap(), 1.6 / 5e5, 0.02);
+    // Without the limit the slew rate sets a ten times faster rise.
+    let mut free = s.clone();
+    free.amp.iout = None;
+    let f = analyze(&free).step;
+    assert_eq!(f.current_limited, None);
+    assert!(f.rise_s.unwrap() < 0.3 * r.rise_s.unwrap());
+}
+
+/// The first time the waveform reaches `v` (bisection on `at`).
+fn crossing(r: &loopwright::engine::step::StepResponse, v: f64) -> f64 {
+    let end = r.window_s().unwrap();
+    let (mut lo, mut hi) = (0.0, end);
+    let n = 4000;
+    for i in 1..=n {
+        let t = end * i as f64 / n as f64;
+        if r.at(t).unwrap() >= v {
+            hi = t;
+            lo = end * (i - 1) as f64 / n as f64;
+            break;
+        }
+    }
+    for _ in 0..80 {
+        let mid = 0.5 * (lo + hi);
+        if r.at(mid).unwrap() >= v {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// The same limit sinking: a step down ramps at −I/C.
+#[test]
+fn the_current_limit_holds_a_falling_step_too() {
+    let mut s = current_stage();
+    s.step = Some(Step { size: -2.0 });
+    let r = analyze(&s).step;
+    assert_eq!(r.current_limited, Some(true));
+    let (t1, t2) = (crossing_down(&r, -0.4), crossing_down(&r, -1.2));
+    assert_rel("ramp", 0.8 / (t2 - t1), 5e-3 / 10e-9, 1e-3);
+}
+
+fn crossing_down(r: &loopwright::engine::step::StepResponse, v: f64) -> f64 {
+    let flipped = loopwright::engine::step::StepResponse {
+        samples: r
+            .samples
+            .iter()
+            .map(|p| loopwright::engine::step::Sample {
+                y: -p.y,
+                d_before: -p.d_before,
+                d_after: -p.d_after,
+                ..*p
+            })
+            .collect(),
+        ..r.clone()
+    };
+    crossing(&flipped, -v)
+}
