@@ -184,3 +184,102 @@ fn crossing_down(r: &loopwright::engine::step::StepResponse, v: f64) -> f64 {
     };
     crossing(&flipped, -v)
 }
+
+/// A rail-to-rail follower on 0–5 V, ro 300 Ω, 50 mV swing limits,
+/// 2.5 ± 2.3 V into 1 kΩ to ground, near-ideal gain.
+fn rail_to_rail() -> Scenario {
+    let mut s = follower();
+    s.amp.a0 = 1e9;
+    s.amp.gbw = 1e9;
+    s.amp.ro = 300.0;
+    s.amp.swing_neg = Some(0.05);
+    s.amp.swing_pos = Some(0.05);
+    s.supply = Some(Supply { neg: 0.0, pos: 5.0 });
+    s.load.r = Some(1e3);
+    s.source.dc = Some(2.5);
+    s.source.peak = Some(2.3);
+    s
+}
+
+#[test]
+fn a_swing_given_at_the_pin_into_a_load_adds_the_ro_drop_at_that_load() {
+    let mut s = rail_to_rail();
+    // The load at its peak, 4.8 V, draws 4.8 mA; behind ro the internal
+    // output sits at 4.8·(1 + 300/1000) = 6.24 V (divider rule).
+    let internal_peak = 4.8 * (1.0 + 300.0 / 1e3);
+    let high = evaluate(&s).analysis.limits.headroom_high_v.unwrap();
+    // Without swing_load the limit bounds the internal output: 4.95 V.
+    assert_rel("headroom", high, 4.95 - internal_peak, 1e-6);
+    // Given at the pin into 1 kΩ to mid-supply (2.5 V): the internal
+    // output then reaches 4.95 + 300·(4.95 − 2.5)/1000 (Ohm's law).
+    s.amp.swing_load = Some(1e3);
+    let high = evaluate(&s).analysis.limits.headroom_high_v.unwrap();
+    assert_rel(
+        "headroom at the pin",
+        high,
+        4.95 + 300.0 * 2.45 / 1e3 - internal_peak,
+        1e-6,
+    );
+    let low = evaluate(&s).analysis.limits.headroom_low_v.unwrap();
+    // The low side: 0.05 − 300·(2.5 − 0.05)/1000, against the trough at
+    // 0.2 V, whose 0.2 mA makes the internal output 0.2·1.3 V.
+    assert_rel(
+        "low headroom",
+        low,
+        0.2 * 1.3 - (0.05 - 300.0 * 2.45 / 1e3),
+        1e-6,
+    );
+    // The parameter says how to enter a datasheet figure.
+    let p = loopwright::model::params::PARAMS
+        .iter()
+        .find(|p| p.path == "amp.swing_load")
+        .unwrap();
+    assert!(p.note.unwrap().contains("datasheet"));
+}
+
+#[test]
+fn bias_currents_double_with_temperature_when_asked() {
+    let mut s = in_range(plain(Topology::NonInverting, 10e3, 10e3));
+    s.amp.ib = Some(1e-12);
+    s.amp.ios = Some(1e-13);
+    let at = |s: &Scenario, t: f64| {
+        let mut s = s.clone();
+        s.temp_c = t;
+        let l = evaluate(&s).analysis.limits;
+        (l.out_bias_v.unwrap(), l.out_offset_max_v.unwrap())
+    };
+    let base = at(&s, 25.0);
+    // Without ib_doubling: constant.
+    assert_eq!(at(&s, 125.0), base);
+    // 10 °C per doubling (common practice for FET inputs): ×2^10 at
+    // 125 °C, ×2^−4 at −15 °C, on ib and ios alike (no vos here, so the
+    // offset bound is all bias and offset current).
+    s.amp.ib_doubling = Some(10.0);
+    assert_eq!(at(&s, 25.0), base);
+    let hot = at(&s, 125.0);
+    assert_rel("ib hot", hot.0, base.0 * 1024.0, 1e-12);
+    assert_rel("ios hot", hot.1, base.1 * 1024.0, 1e-12);
+    let cold = at(&s, -15.0);
+    assert_rel("ib cold", cold.0, base.0 / 16.0, 1e-12);
+    assert_rel("ios cold", cold.1, base.1 / 16.0, 1e-12);
+}
+
+/// Both fields read from a file, are checked against their ranges and
+/// are written back when saved.
+#[test]
+fn the_new_amp_fields_load_validate_and_save() {
+    let text = crate::support::stages::CLOSED_FORM_RON.replace(
+        "ro: 10.0,",
+        "ro: 10.0, swing_load: 2000.0, ib_doubling: 10.0,",
+    );
+    let s = Scenario::from_ron(&text, Some("t.ron")).unwrap();
+    assert_eq!(s.amp.swing_load, Some(2000.0));
+    assert_eq!(s.amp.ib_doubling, Some(10.0));
+    assert!(s.validate().is_ok());
+    let bad = text.replace("ib_doubling: 10.0", "ib_doubling: 1000.0");
+    let err = Scenario::from_ron(&bad, Some("t.ron")).unwrap_err();
+    assert_eq!(err.field.as_deref(), Some("amp.ib_doubling"), "{err:?}");
+    let saved = s.to_ron();
+    assert!(saved.contains("swing_load: 2000.0"), "{saved}");
+    assert_eq!(Scenario::from_ron(&saved, None).unwrap(), s);
+}
