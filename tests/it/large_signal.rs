@@ -283,3 +283,79 @@ fn the_new_amp_fields_load_validate_and_save() {
     assert!(saved.contains("swing_load: 2000.0"), "{saved}");
     assert_eq!(Scenario::from_ron(&saved, None).unwrap(), s);
 }
+
+/// Gain 2 on ±5 V with 0.5 V swing limits, 1 V DC and a 1.02 V peak:
+/// the internal output spans 2 ± 2.04 V (gain × signal), so the + rail
+/// has 4.5 − 4.04 = 0.46 V of headroom and the − rail 4.46 V.
+fn near_the_plus_rail() -> Scenario {
+    let mut s = in_range(plain(Topology::NonInverting, 1e3, 1e3));
+    s.amp.a0 = 1e9;
+    s.amp.gbw = 1e8;
+    s.supply = Some(Supply {
+        neg: -5.0,
+        pos: 5.0,
+    });
+    s.amp.swing_neg = Some(0.5);
+    s.amp.swing_pos = Some(0.5);
+    s.source.dc = Some(1.0);
+    s.source.peak = Some(1.02);
+    s.spec = Some(loopwright::model::scenario::Spec {
+        headroom_min_v: Some(0.5),
+        ..Default::default()
+    });
+    s
+}
+
+#[test]
+fn the_headroom_spec_warning_names_the_rail_that_fails() {
+    let s = near_the_plus_rail();
+    let l = evaluate(&s).analysis.limits;
+    // Within the loop gain's share at the band edge (a0 1e9, gbw 100 MHz:
+    // |1/(1 + 1/(A·β))| departs from 1 by about f/(gbw·β) ≈ 2e-3 in phase,
+    // well under 1e-4 in magnitude).
+    assert_rel("+ headroom", l.headroom_high_v.unwrap(), 4.5 - 4.04, 1e-4);
+    assert_rel("− headroom", l.headroom_low_v.unwrap(), 2.0 - 2.04 + 4.5, 1e-4);
+    let w = evaluate(&s)
+        .warnings
+        .into_iter()
+        .find(|w| w.code == "spec")
+        .expect("a spec warning");
+    assert!(w.text.contains("headroom + rail"), "{}", w.text);
+    assert!(!w.text.contains("headroom − rail"), "{}", w.text);
+}
+
+/// The spread's charts show every limit that trials fail, failing ones
+/// first: the failing + rail (not the passing − rail) and the settling.
+#[test]
+fn the_spread_shows_every_failing_limit_first() {
+    let mut s = near_the_plus_rail();
+    let settle = analyze(&s).step.settle_s[1].unwrap();
+    if let Some(spec) = s.spec.as_mut() {
+        spec.settle_max_s = Some(0.5 * settle);
+    }
+    let r = loopwright::study::spread::spread(
+        &s,
+        &loopwright::study::spread::Run {
+            trials: Some(40),
+            ..Default::default()
+        },
+    );
+    let keys = loopwright::study::spread::shown_figures(&r, 4);
+    assert_eq!(&keys[..2], &["headroom_high_v", "settle_01pct_s"], "{keys:?}");
+    assert!(!keys.contains(&"headroom_low_v"), "{keys:?}");
+    // The SVG draws those panels, named, failing first.
+    s.spread = Some(loopwright::model::scenario::Spread {
+        trials: Some(40),
+        ..Default::default()
+    });
+    let e = evaluate(&s);
+    let stage = [loopwright::output::svg::Evaluated {
+        scenario: &s,
+        eval: &e,
+    }];
+    let view = loopwright::output::views::ViewId::Spread.view();
+    let svg = loopwright::output::svg::render(view, &stage, Default::default()).unwrap();
+    let at = |label: &str| svg.find(label).unwrap_or_else(|| panic!("{label} in\n{svg}"));
+    assert!(at("headroom + rail") < at("settling to 0.1 %"));
+    assert!(!svg.contains("headroom − rail"));
+}
