@@ -30,9 +30,18 @@
 //!    followed to its end. Each step is also propagated to its midpoint;
 //!    where the cubic Hermite interpolant (from y and y' at the ends, both
 //!    exact) misses the midpoint by more than 1e-7 of the final value, the
-//!    step is halved (down to 1/16384 of h0). Crossings, peaks and the
-//!    waveform are read from those interpolants, so the figures carry an
-//!    interpolation error below about 1e-7 of the final value.
+//!    step is halved (down to 1/16384 of h0). In the linear tail the
+//!    threshold is also 1e-4 of the remaining deviation from the final
+//!    value (down to 1e-10 of it), so a settling band is crossed within
+//!    about 1e-4 of its own width. Crossings, peaks and the waveform are
+//!    read from those interpolants, so the figures carry an interpolation
+//!    error below about 1e-7 of the final value, and settling is read
+//!    down to [`SETTLE_FLOOR`] (1 ppm) and no finer.
+//!    In the linear mode the state is propagated as its deviation from
+//!    the equilibrium of the full DC solution at the new EMF, so the
+//!    rounding of e^{M·h} − I (amplified by the doublings on a stiff
+//!    stage) scales with that deviation and does not shift the level the
+//!    waveform tends to.
 //! 6. The window ends once the mode is final (linear or at a rail), the
 //!    propagator over one step has ∞-norm ≤ 1/2 and 30 such steps have
 //!    passed since the last switch: every mode has then decayed by more
@@ -55,6 +64,11 @@ pub use crate::model::scenario::DEFAULT_STEP_V;
 /// Why a stage held at a rail before the step has no step figures.
 pub const HELD_HIGH: &str = "held at the + rail before the step";
 pub const HELD_LOW: &str = "held at the − rail before the step";
+
+/// The finest settling band [`StepResponse::settle_to`] reads: 1 ppm of
+/// the final value (the waveform is held to [`TOL`] of it, a tenth of the
+/// band, and the drift of the exact propagation is far below).
+pub const SETTLE_FLOOR: f64 = 1e-6;
 
 /// The settling bands the figures report: 1 %, 0.1 %, 0.01 %.
 pub const BANDS: [f64; 3] = [1e-2, 1e-3, 1e-4];
@@ -90,6 +104,8 @@ pub struct StepResponse {
     pub reason: Option<&'static str>,
     /// The waveform (empty when it was not computed).
     pub samples: Vec<Sample>,
+    /// The window ended in a final mode (so settling can be read).
+    pub ended: bool,
 }
 
 impl StepResponse {
@@ -98,6 +114,22 @@ impl StepResponse {
             size_v,
             ..StepResponse::default()
         }
+    }
+
+    /// The settling time to a band `band` of the final value (the last
+    /// time |y/final − 1| exceeds it); None where the response does not
+    /// settle or below [`SETTLE_FLOOR`], the finest band the method
+    /// resolves.
+    pub fn settle_to(&self, band: f64) -> Option<f64> {
+        if !(band >= SETTLE_FLOOR) || !self.ended || self.samples.len() < 2 {
+            return None;
+        }
+        let fin = self.final_v.filter(|v| *v != 0.0 && v.is_finite())?;
+        Wave {
+            s: &self.samples,
+            fin,
+        }
+        .last_outside(band)
     }
 
     /// The end of the simulated window.
@@ -483,6 +515,11 @@ const MAX_EVENTS: usize = 2000;
 const MAX_SAMPLES: usize = 20_000;
 /// Interpolation tolerance relative to the final value.
 const TOL: f64 = 1e-7;
+/// In the linear tail, the interpolation tolerance relative to the
+/// remaining deviation from the final value…
+const TAIL_TOL: f64 = 1e-4;
+/// …but never below this share of the final value.
+const TAIL_FLOOR: f64 = 1e-10;
 /// The smallest overshoot reported (relative): ten times [`TOL`].
 const OVERSHOOT_FLOOR: f64 = 1e-6;
 
@@ -506,6 +543,10 @@ struct Sim<'a> {
     /// current limit applies.
     current: Option<(Vec<f64>, f64)>,
     current_limited: bool,
+    /// The linear mode's equilibrium [z∞; 1], from the DC solution of the
+    /// full equations (A·z∞ + f·E = 0 solved through the reduced A would
+    /// lose the digits its stiffness costs).
+    rest: Option<Vec<f64>>,
     events: usize,
     last_event: f64,
 }
@@ -589,6 +630,7 @@ impl<'a> Sim<'a> {
             clipped: false,
             current,
             current_limited: false,
+            rest: None,
             events: 0,
             last_event: 0.0,
         }
@@ -797,9 +839,26 @@ impl<'a> Sim<'a> {
     /// at the end.
     fn advance(&mut self, mode: Mode, t: f64, z: &mut Vec<f64>, level: usize) -> Mode {
         let h = self.step_len(level);
+        // In the linear mode the state moves as its deviation from the
+        // equilibrium, so the propagator's rounding scales with that
+        // deviation and dies with it (no drift of the level it tends to).
+        let rest = self.rest.clone().filter(|_| mode == Mode::Linear);
         let prop = |d: &Mat, z: &[f64]| -> Vec<f64> {
-            let dz = d.mul_vec(z);
-            z.iter().zip(&dz).map(|(a, b)| a + b).collect()
+            match &rest {
+                Some(zr) => {
+                    let w: Vec<f64> = z.iter().zip(zr).map(|(a, b)| a - b).collect();
+                    let dw = d.mul_vec(&w);
+                    zr.iter()
+                        .zip(&w)
+                        .zip(&dw)
+                        .map(|((r, w), d)| r + w + d)
+                        .collect()
+                }
+                None => {
+                    let dz = d.mul_vec(z);
+                    z.iter().zip(&dz).map(|(a, b)| a + b).collect()
+                }
+            }
         };
         let z1 = prop(self.ladder(mode, level), z);
         let zm = (level > 0).then(|| prop(self.ladder(mode, level - 1), z));
@@ -811,7 +870,17 @@ impl<'a> Sim<'a> {
             let ym = self.y(zm);
             let guess = 0.5 * (y0 + y1) + h * (d0 - d1) / 8.0;
             let budget = self.samples.len() < MAX_SAMPLES;
-            if budget && ((guess - ym).abs() > self.tol || event) {
+            // In the tail the tolerance follows the deviation from the
+            // final level down to TAIL_FLOOR, so a band down to
+            // SETTLE_FLOOR is crossed where the model crosses it.
+            let tol = match &rest {
+                Some(zr) => {
+                    let dev = (ym - self.y(zr)).abs();
+                    self.tol.min((TAIL_TOL * dev).max(TAIL_FLOOR * self.tol / TOL))
+                }
+                None => self.tol,
+            };
+            if budget && ((guess - ym).abs() > tol || event) {
                 let m1 = self.advance(mode, t, z, level - 1);
                 return self.advance(m1, t + 0.5 * h, z, level - 1);
             }
@@ -980,6 +1049,9 @@ fn simulate(
     let scale = linear_final.abs().max(size.abs() * 1e-6).max(1e-15);
     let h0 = 1.0 / (32.0 * f_ref);
     let mut sim = Sim::new(red, lim, e1, y0, h0, scale);
+    let mut rest = states_of(red, &operating_point(eq, e1, None)?);
+    rest.push(1.0);
+    sim.rest = Some(rest);
     let mut mode = sim.mode_at(&z);
     sim.enter(mode, &mut z);
     let (y, d) = (sim.y(&z), sim.dy(mode, &z));
@@ -1030,6 +1102,7 @@ fn simulate(
         clipped: Some(sim.clipped),
         current_limited: sim.current.is_some().then_some(sim.current_limited),
         samples: std::mem::take(&mut sim.samples),
+        ended,
         ..StepResponse::default()
     };
     figures(&mut r, ended);

@@ -359,3 +359,33 @@ fn the_spread_shows_every_failing_limit_first() {
     assert!(at("headroom + rail") < at("settling to 0.1 %"));
     assert!(!svg.contains("headroom − rail"));
 }
+
+/// A gain-11 stage with 1 µF across 1 MΩ on a GHz amplifier: a 1 s
+/// pole–zero tail behind poles a billion times faster. With an ideal
+/// amplifier H = 1 + rf/(rg·(1 + s·rf·cf)), so y/final − 1 =
+/// −(rf/rg)/G·e^{−t/τ}, τ = rf·cf (first-order algebra), and settling to
+/// ε takes τ·ln((rf/rg)/G/ε). The waveform must follow it down to 1 ppm.
+#[test]
+fn a_slow_tail_settles_to_one_ppm_as_the_closed_form_says() {
+    let mut s = plain(Topology::NonInverting, 100e3, 1e6);
+    s.amp.a0 = 1e7;
+    s.amp.gbw = 1e9;
+    s.stage.cf = Some(1e-6);
+    let r = analyze(&s).step;
+    let (tau, g): (f64, f64) = (1.0, 11.0);
+    for eps in [1e-2, 1e-3, 1e-4, 1e-5, 1e-6] {
+        let want = tau * (10.0 / g / eps).ln();
+        let got = r.settle_to(eps).expect("resolved down to 1 ppm");
+        // Within 1e-3·τ: the crossing of a band ε is then placed to 0.1 %
+        // of the band (the slope there is ε/τ).
+        assert!(
+            (got - want).abs() < 1e-3 * tau,
+            "ε {eps}: settled at {got} s, closed form {want} s"
+        );
+    }
+    // The figures agree with the same reading.
+    assert_eq!(r.settle_s[2], r.settle_to(1e-4));
+    // Below the bound the method states, no figure.
+    assert!(loopwright::engine::step::SETTLE_FLOOR <= 1e-6);
+    assert_eq!(r.settle_to(loopwright::engine::step::SETTLE_FLOOR / 2.0), None);
+}
