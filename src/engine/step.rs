@@ -121,7 +121,7 @@ impl StepResponse {
     /// settle or below [`SETTLE_FLOOR`], the finest band the method
     /// resolves.
     pub fn settle_to(&self, band: f64) -> Option<f64> {
-        if !(band >= SETTLE_FLOOR) || !self.ended || self.samples.len() < 2 {
+        if band.is_nan() || band < SETTLE_FLOOR || !self.ended || self.samples.len() < 2 {
             return None;
         }
         let fin = self.final_v.filter(|v| *v != 0.0 && v.is_finite())?;
@@ -423,9 +423,7 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
     // The load terminal (never the known node) among the kept unknowns.
     let out = keep.iter().position(|&i| Some(i) == eq.out)?;
     let x1 = d_idx.iter().position(|&i| keep[i] == eq.x1)?;
-    let x2 = eq
-        .x2
-        .and_then(|k| d_idx.iter().position(|&i| keep[i] == k));
+    let x2 = eq.x2.and_then(|k| d_idx.iter().position(|&i| keep[i] == k));
     let current = eq
         .amp_current
         .iter()
@@ -876,7 +874,8 @@ impl<'a> Sim<'a> {
             let tol = match &rest {
                 Some(zr) => {
                     let dev = (ym - self.y(zr)).abs();
-                    self.tol.min((TAIL_TOL * dev).max(TAIL_FLOOR * self.tol / TOL))
+                    self.tol
+                        .min((TAIL_TOL * dev).max(TAIL_FLOOR * self.tol / TOL))
                 }
                 None => self.tol,
             };
@@ -1023,15 +1022,13 @@ fn simulate(
         // Past a rail at the operating point: the amplifier is not in
         // its linear range before the step, and figures read off a
         // waveform that starts there would mislead.
-        let high = lim.rails.is_some_and(|(lo, hi)| x0[eq.x1] >= 0.5 * (lo + hi));
+        let high = lim
+            .rails
+            .is_some_and(|(lo, hi)| x0[eq.x1] >= 0.5 * (lo + hi));
         return Some(StepResponse {
             size_v: size,
             clipped: Some(true),
-            reason: Some(if high {
-                HELD_HIGH
-            } else {
-                HELD_LOW
-            }),
+            reason: Some(if high { HELD_HIGH } else { HELD_LOW }),
             ..StepResponse::default()
         });
     }

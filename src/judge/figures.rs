@@ -691,7 +691,12 @@ pub static FIGURES: [Figure; 48] = [
         Flag,
         Step,
         REPORT,
-        |e| e.analysis.step.current_limited.map(|b| f64::from(u8::from(b))),
+        |e| {
+            e.analysis
+                .step
+                .current_limited
+                .map(|b| f64::from(u8::from(b)))
+        },
     )
     .given(),
 ];

@@ -535,7 +535,13 @@ pub fn failing_figures(r: &SpreadResult, l: &LimitCheck) -> Vec<&'static str> {
             .any(|v| v.is_some() && !l.limit.figure_passes(v, l.value));
         edge_fails || f.undefined > 0
     };
-    let keys: Vec<&'static str> = l.limit.figures.iter().copied().filter(|k| fails(k)).collect();
+    let keys: Vec<&'static str> = l
+        .limit
+        .figures
+        .iter()
+        .copied()
+        .filter(|k| fails(k))
+        .collect();
     if keys.is_empty() {
         l.limit.figures.iter().copied().take(1).collect()
     } else {

@@ -48,7 +48,10 @@ fn a_stage_past_a_rail_at_dc_has_no_step_figures_and_says_why() {
     let mut text = Vec::new();
     loopwright::output::report::write_text(&rep, &s, &e, &mut text).unwrap();
     let text = String::from_utf8(text).unwrap();
-    assert!(text.contains("held at the + rail before the step"), "{text}");
+    assert!(
+        text.contains("held at the + rail before the step"),
+        "{text}"
+    );
     // No source.peak, yet the swing rule fires on the operating point.
     assert_eq!(s.source.peak, None);
     let w = e
@@ -76,7 +79,6 @@ fn a_single_supply_inverter_clipped_at_dc_has_no_step_figures() {
     assert!(e.warnings.iter().any(|w| w.code == "output-swing"));
     // Its grounded + input lies at the − rail, outside a range that ends
     // 1 V inside it.
-    let mut s = s;
     s.amp.cm_neg = Some(1.0);
     let e = evaluate(&s);
     assert!(
@@ -314,7 +316,12 @@ fn the_headroom_spec_warning_names_the_rail_that_fails() {
     // |1/(1 + 1/(A·β))| departs from 1 by about f/(gbw·β) ≈ 2e-3 in phase,
     // well under 1e-4 in magnitude).
     assert_rel("+ headroom", l.headroom_high_v.unwrap(), 4.5 - 4.04, 1e-4);
-    assert_rel("− headroom", l.headroom_low_v.unwrap(), 2.0 - 2.04 + 4.5, 1e-4);
+    assert_rel(
+        "− headroom",
+        l.headroom_low_v.unwrap(),
+        2.0 - 2.04 + 4.5,
+        1e-4,
+    );
     let w = evaluate(&s)
         .warnings
         .into_iter()
@@ -341,7 +348,11 @@ fn the_spread_shows_every_failing_limit_first() {
         },
     );
     let keys = loopwright::study::spread::shown_figures(&r, 4);
-    assert_eq!(&keys[..2], &["headroom_high_v", "settle_01pct_s"], "{keys:?}");
+    assert_eq!(
+        &keys[..2],
+        &["headroom_high_v", "settle_01pct_s"],
+        "{keys:?}"
+    );
     assert!(!keys.contains(&"headroom_low_v"), "{keys:?}");
     // The SVG draws those panels, named, failing first.
     s.spread = Some(loopwright::model::scenario::Spread {
@@ -355,7 +366,10 @@ fn the_spread_shows_every_failing_limit_first() {
     }];
     let view = loopwright::output::views::ViewId::Spread.view();
     let svg = loopwright::output::svg::render(view, &stage, Default::default()).unwrap();
-    let at = |label: &str| svg.find(label).unwrap_or_else(|| panic!("{label} in\n{svg}"));
+    let at = |label: &str| {
+        svg.find(label)
+            .unwrap_or_else(|| panic!("{label} in\n{svg}"))
+    };
     assert!(at("headroom + rail") < at("settling to 0.1 %"));
     assert!(!svg.contains("headroom − rail"));
 }
@@ -386,6 +400,9 @@ fn a_slow_tail_settles_to_one_ppm_as_the_closed_form_says() {
     // The figures agree with the same reading.
     assert_eq!(r.settle_s[2], r.settle_to(1e-4));
     // Below the bound the method states, no figure.
-    assert!(loopwright::engine::step::SETTLE_FLOOR <= 1e-6);
-    assert_eq!(r.settle_to(loopwright::engine::step::SETTLE_FLOOR / 2.0), None);
+    const { assert!(loopwright::engine::step::SETTLE_FLOOR <= 1e-6) };
+    assert_eq!(
+        r.settle_to(loopwright::engine::step::SETTLE_FLOOR / 2.0),
+        None
+    );
 }
