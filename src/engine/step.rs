@@ -1018,20 +1018,19 @@ fn simulate(
     let e1 = e0 + size;
     let out = eq.out?;
     let (x0, held) = dc_state(eq, e0, &lim)?;
-    if held {
-        // Past a rail at the operating point: the amplifier is not in
-        // its linear range before the step, and figures read off a
-        // waveform that starts there would mislead.
-        let high = lim
+    // Past a rail at the operating point: the amplifier is not in its
+    // linear range before the step, and figures read off a waveform that
+    // starts there would mislead (the waveform is kept for the plot).
+    let reason = held.then(|| {
+        if lim
             .rails
-            .is_some_and(|(lo, hi)| x0[eq.x1] >= 0.5 * (lo + hi));
-        return Some(StepResponse {
-            size_v: size,
-            clipped: Some(true),
-            reason: Some(if high { HELD_HIGH } else { HELD_LOW }),
-            ..StepResponse::default()
-        });
-    }
+            .is_some_and(|(lo, hi)| x0[eq.x1] >= 0.5 * (lo + hi))
+        {
+            HELD_HIGH
+        } else {
+            HELD_LOW
+        }
+    });
     let y0 = x0[out];
     // z(0⁻) from the full unknowns: the dynamic coordinates are node
     // voltages, differences of them, or the op-amp's states.
@@ -1100,8 +1099,14 @@ fn simulate(
         current_limited: sim.current.is_some().then_some(sim.current_limited),
         samples: std::mem::take(&mut sim.samples),
         ended,
+        reason,
         ..StepResponse::default()
     };
+    if reason.is_some() {
+        r.final_v = None;
+        r.ended = false;
+        return Some(r);
+    }
     figures(&mut r, ended);
     Some(r)
 }

@@ -406,3 +406,27 @@ fn a_slow_tail_settles_to_one_ppm_as_the_closed_form_says() {
         None
     );
 }
+
+/// The workbench's step view says why a stage held at a rail has no
+/// figures.
+#[test]
+fn the_workbench_step_view_names_the_rail_held_before_the_step() {
+    use crate::support::keys::{key, screen_at};
+    use crossterm::event::KeyCode;
+    use loopwright::output::views::ViewId;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let mut a = App::new(vec![(clipped_at_dc(), None)], Theme::new(false, false));
+    for _ in 0..ViewId::ALL.len() {
+        if a.view == ViewId::Step {
+            break;
+        }
+        a.on_key(key(KeyCode::Char('v')));
+    }
+    assert_eq!(a.view, ViewId::Step);
+    let screen = screen_at(&a, 160, 48);
+    assert!(
+        screen.contains("no figures: held at the + rail before the step"),
+        "{screen}"
+    );
+}
