@@ -125,6 +125,9 @@ pub struct Param {
     pub whole: bool,
     /// How to enter it, for the hint line (most parameters need none).
     pub note: Option<&'static str>,
+    /// Shown (pane, report, note) only when this holds or the value is
+    /// given: a qualifier of other fields (None: always shown).
+    pub qualifies: Option<fn(&Scenario) -> bool>,
 }
 
 /// A reference to a table entry; compared by identity of the path.
@@ -271,10 +274,15 @@ const fn entry(
         access,
         whole: false,
         note: None,
+        qualifies: None,
     }
 }
 
 impl Param {
+    const fn qualifies(mut self, when: fn(&Scenario) -> bool) -> Param {
+        self.qualifies = Some(when);
+        self
+    }
     const fn note(mut self, note: &'static str) -> Param {
         self.note = Some(note);
         self
@@ -544,7 +552,7 @@ pub static PARAMS: [Param; 59] = [
     .starting(|_| 1e-9),
     entry(
         "amp.ib_doubling",
-        "ib doubling",
+        "ib ×2 per",
         "°C",
         Amplifier,
         Linear(1.0),
@@ -553,6 +561,7 @@ pub static PARAMS: [Param; 59] = [
         number!(opt amp.ib_doubling),
     )
     .starting(|_| 10.0)
+    .qualifies(|s| s.amp.ib.is_some() || s.amp.ios.is_some())
     .note("°C per doubling of ib and ios from 25 °C: about 10 for FET inputs; none: constant"),
     entry(
         "amp.slew",
@@ -587,7 +596,7 @@ pub static PARAMS: [Param; 59] = [
     ),
     entry(
         "amp.swing_load",
-        "swing load",
+        "swing at",
         "Ω",
         Amplifier,
         OneTwoFive,
@@ -596,6 +605,7 @@ pub static PARAMS: [Param; 59] = [
         number!(opt amp.swing_load),
     )
     .starting(|_| 10e3)
+    .qualifies(|s| s.amp.swing_neg.is_some() || s.amp.swing_pos.is_some())
     .note("datasheet swing at the pin: enter its load here (to mid-supply); the ro drop is added"),
     entry(
         "amp.cm_neg",
@@ -1015,6 +1025,9 @@ impl Param {
     /// Whether the row applies to this topology (a follower has no rg).
     pub fn applies(&self, s: &Scenario) -> bool {
         !(self.presence == GainStage && follower(s))
+            && self
+                .qualifies
+                .is_none_or(|when| when(s) || self.raw(s).is_some())
     }
 
     /// Whether absent (or zero) is a valid state for this stage.

@@ -430,3 +430,25 @@ fn the_workbench_step_view_names_the_rail_held_before_the_step() {
         "{screen}"
     );
 }
+
+/// The two qualifiers show in the pane only beside what they qualify (or
+/// when given), so a stage without swing or bias figures lists as before.
+#[test]
+fn the_qualifiers_show_beside_what_they_qualify() {
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let shown = |s: &Scenario| -> Vec<&str> {
+        let a = App::new(vec![(s.clone(), None)], Theme::new(false, false));
+        a.visible().iter().map(|p| p.path).collect()
+    };
+    let mut s = in_range(plain(Topology::NonInverting, 1e3, 1e3));
+    let none = shown(&s);
+    assert!(!none.contains(&"amp.swing_load") && !none.contains(&"amp.ib_doubling"));
+    s.amp.swing_pos = Some(0.1);
+    s.amp.ios = Some(1e-9);
+    let both = shown(&s);
+    assert!(both.contains(&"amp.swing_load") && both.contains(&"amp.ib_doubling"));
+    let mut given = in_range(plain(Topology::NonInverting, 1e3, 1e3));
+    given.amp.swing_load = Some(1e3);
+    assert!(shown(&given).contains(&"amp.swing_load"));
+}
