@@ -109,6 +109,20 @@ pub struct Limits {
     pub envelope: Vec<EnvelopePoint>,
     /// The first frequency where the need crosses a ceiling, and which.
     pub envelope_limit: Option<(f64, &'static str)>,
+    /// Without `source.peak`: the headroom of the DC operating point
+    /// alone (the rules read it; no figure shows it).
+    pub dc_only: Option<DcOnly>,
+}
+
+/// The operating point's own headroom (no signal): to the usable rails
+/// (low, high) and to the common-mode range, with the + input's span.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct DcOnly {
+    pub headroom_low_v: Option<f64>,
+    pub headroom_high_v: Option<f64>,
+    pub cm_headroom_v: Option<f64>,
+    pub cm_low_v: Option<f64>,
+    pub cm_high_v: Option<f64>,
 }
 
 /// A right-hand side with one unit entry (none for a merged node).
@@ -249,7 +263,7 @@ fn drawn_by(circuit: &Circuit, f_hz: f64) -> Drawn {
 fn dc_errors(s: &Scenario, l: &mut Limits, dc: &Dc, dc_gain: f64) {
     let a = &s.amp;
     let out = l.dc.out;
-    l.out_bias_v = a.ib.map(|ib| -ib * (out.zp + out.zn));
+    l.out_bias_v = a.ib.map(|_| -dc.ib * (out.zp + out.zn));
     let bias = l.out_bias_v.unwrap_or(0.0);
     l.offset_from_bias_v = bias.abs() + 0.5 * dc.ios * (out.zp - out.zn).abs();
     if a.vos.is_some() || a.ib.is_some() || a.ios.is_some() {
@@ -272,8 +286,7 @@ fn output_range(s: &Scenario, l: &mut Limits, dc: &Dc, peak: f64, int_max: f64) 
     l.int_low_v = Some(int_dc - spread);
     l.int_high_v = Some(int_dc + spread);
     if let Some(sup) = s.supply {
-        let lo = sup.neg + s.amp.swing_neg.unwrap_or(0.0);
-        let hi = sup.pos - s.amp.swing_pos.unwrap_or(0.0);
+        let (lo, hi) = s.amp.usable_rails(&sup);
         l.headroom_low_v = Some(int_dc - spread - lo);
         l.headroom_high_v = Some(hi - (int_dc + spread));
         l.swing_ceiling_v = Some((hi - (int_dc + l.int_u_v)).min(int_dc - l.int_u_v - lo));
@@ -378,8 +391,8 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
     l.vos_at_temp = a.vos.unwrap_or(0.0) + a.vos_drift.unwrap_or(0.0) * (s.temp_c - 25.0).abs();
     let dc = Dc {
         source_dc: s.source.dc.unwrap_or(0.0),
-        ib: a.ib.unwrap_or(0.0),
-        ios: a.ios.unwrap_or(0.0),
+        ib: a.current_at_temp(a.ib.unwrap_or(0.0), s.temp_c),
+        ios: a.current_at_temp(a.ios.unwrap_or(0.0), s.temp_c),
         vos: l.vos_at_temp,
     };
     l.i_dc_a = dc.level(&t.amp_i);
@@ -388,5 +401,17 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
         l.bias_balance_ohm = bias_balance(s, t.out.zp + t.out.zn);
     }
     signal_limits(s, &mut l, &dc, circuit, sweep);
+    if s.source.peak.is_none() && s.supply.is_some() {
+        let mut t = l.clone();
+        output_range(s, &mut t, &dc, 0.0, 0.0);
+        input_range(s, &mut t, &dc, 0.0);
+        l.dc_only = Some(DcOnly {
+            headroom_low_v: t.headroom_low_v,
+            headroom_high_v: t.headroom_high_v,
+            cm_headroom_v: t.cm_headroom_v,
+            cm_low_v: t.cm_low_v,
+            cm_high_v: t.cm_high_v,
+        });
+    }
     l
 }

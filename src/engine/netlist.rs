@@ -164,6 +164,9 @@ pub struct TimeEquations {
     pub x1: usize,
     pub x2: Option<usize>,
     pub tau1: f64,
+    /// The amplifier's output current (through ro) as a sum of
+    /// coefficient × unknown.
+    pub amp_current: Vec<(usize, f64)>,
 }
 
 /// Whether the load is stamped (it is removed to read Zout exactly).
@@ -694,6 +697,7 @@ impl Netlist {
             x1,
             x2,
             tau1: 1.0 / self.wp1,
+            amp_current: Vec::new(),
         };
         fn admit(m: &mut [f64], n: usize, a: Option<usize>, b: Option<usize>, y: f64) {
             if let Some(i) = a {
@@ -743,7 +747,12 @@ impl Netlist {
         if self.inv_ro > 0.0 {
             // The current x/ro into the output node (Norton form).
             eq.g[r * n + last] -= self.inv_ro;
+            eq.amp_current.push((last, self.inv_ro));
+            if let Some(i) = self.amp_node {
+                eq.amp_current.push((i, -self.inv_ro));
+            }
         } else {
+            eq.amp_current.push((r, -1.0));
             // V(int) = x through the output branch.
             branch(&mut eq.g, n, r, self.amp_out, 1.0);
             eq.g[r * n + last] -= 1.0;

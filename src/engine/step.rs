@@ -30,9 +30,18 @@
 //!    followed to its end. Each step is also propagated to its midpoint;
 //!    where the cubic Hermite interpolant (from y and y' at the ends, both
 //!    exact) misses the midpoint by more than 1e-7 of the final value, the
-//!    step is halved (down to 1/16384 of h0). Crossings, peaks and the
-//!    waveform are read from those interpolants, so the figures carry an
-//!    interpolation error below about 1e-7 of the final value.
+//!    step is halved (down to 1/16384 of h0). In the linear tail the
+//!    threshold is also 1e-4 of the remaining deviation from the final
+//!    value (down to 1e-10 of it), so a settling band is crossed within
+//!    about 1e-4 of its own width. Crossings, peaks and the waveform are
+//!    read from those interpolants, so the figures carry an interpolation
+//!    error below about 1e-7 of the final value, and settling is read
+//!    down to [`SETTLE_FLOOR`] (1 ppm) and no finer.
+//!    In the linear mode the state is propagated as its deviation from
+//!    the equilibrium of the full DC solution at the new EMF, so the
+//!    rounding of e^{M·h} − I (amplified by the doublings on a stiff
+//!    stage) scales with that deviation and does not shift the level the
+//!    waveform tends to.
 //! 6. The window ends once the mode is final (linear or at a rail), the
 //!    propagator over one step has ∞-norm ≤ 1/2 and 30 such steps have
 //!    passed since the last switch: every mode has then decayed by more
@@ -51,6 +60,15 @@ use crate::num::refine::refine_max_to;
 use num_complex::Complex64 as C64;
 
 pub use crate::model::scenario::DEFAULT_STEP_V;
+
+/// Why a stage held at a rail before the step has no step figures.
+pub const HELD_HIGH: &str = "held at the + rail before the step";
+pub const HELD_LOW: &str = "held at the − rail before the step";
+
+/// The finest settling band [`StepResponse::settle_to`] reads: 1 ppm of
+/// the final value (the waveform is held to [`TOL`] of it, a tenth of the
+/// band, and the drift of the exact propagation is far below).
+pub const SETTLE_FLOOR: f64 = 1e-6;
 
 /// The settling bands the figures report: 1 %, 0.1 %, 0.01 %.
 pub const BANDS: [f64; 3] = [1e-2, 1e-3, 1e-4];
@@ -79,8 +97,15 @@ pub struct StepResponse {
     pub settle_s: [Option<f64>; 3],
     pub slew_limited: Option<bool>,
     pub clipped: Option<bool>,
+    /// The output current reached ±`amp.iout` (None without a limit).
+    pub current_limited: Option<bool>,
+    /// Why the figures are null when the model has them but they would
+    /// mislead (the output held at a rail before the step).
+    pub reason: Option<&'static str>,
     /// The waveform (empty when it was not computed).
     pub samples: Vec<Sample>,
+    /// The window ended in a final mode (so settling can be read).
+    pub ended: bool,
 }
 
 impl StepResponse {
@@ -89,6 +114,22 @@ impl StepResponse {
             size_v,
             ..StepResponse::default()
         }
+    }
+
+    /// The settling time to a band `band` of the final value (the last
+    /// time |y/final − 1| exceeds it); None where the response does not
+    /// settle or below [`SETTLE_FLOOR`], the finest band the method
+    /// resolves.
+    pub fn settle_to(&self, band: f64) -> Option<f64> {
+        if band.is_nan() || band < SETTLE_FLOOR || !self.ended || self.samples.len() < 2 {
+            return None;
+        }
+        let fin = self.final_v.filter(|v| *v != 0.0 && v.is_finite())?;
+        Wave {
+            s: &self.samples,
+            fin,
+        }
+        .last_outside(band)
     }
 
     /// The end of the simulated window.
@@ -165,17 +206,14 @@ fn hermite(a: &Sample, b: &Sample, t: f64) -> f64 {
 struct Limits {
     slew: Option<f64>,
     rails: Option<(f64, f64)>,
+    iout: Option<f64>,
 }
 
 fn limits_of(s: &Scenario) -> Limits {
     Limits {
         slew: s.amp.slew.filter(|v| *v > 0.0),
-        rails: s.supply.map(|p| {
-            (
-                p.neg + s.amp.swing_neg.unwrap_or(0.0),
-                p.pos - s.amp.swing_pos.unwrap_or(0.0),
-            )
-        }),
+        rails: s.supply.map(|p| s.amp.usable_rails(&p)),
+        iout: s.amp.iout.filter(|v| *v > 0.0),
     }
 }
 
@@ -189,6 +227,11 @@ struct Reduced {
     /// z jumps by `jump·ΔE` when the known node steps by ΔE.
     jump: Vec<f64>,
     x1: usize,
+    /// The op-amp's second state, when it has a second pole.
+    x2: Option<usize>,
+    /// The amplifier's output current `i = ci·z + ce·E` (None where it is
+    /// not a function of the states).
+    current: Option<(Vec<f64>, f64)>,
     /// Each state as (full unknown, minus this one): a node voltage, a
     /// difference of two, or an op-amp state.
     coords: Vec<(usize, Option<usize>)>,
@@ -380,6 +423,18 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
     // The load terminal (never the known node) among the kept unknowns.
     let out = keep.iter().position(|&i| Some(i) == eq.out)?;
     let x1 = d_idx.iter().position(|&i| keep[i] == eq.x1)?;
+    let x2 = eq.x2.and_then(|k| d_idx.iter().position(|&i| keep[i] == k));
+    let current = eq
+        .amp_current
+        .iter()
+        .try_fold((vec![0.0; r], 0.0), |(mut ci, ce), &(u, k)| {
+            let row = keep.iter().position(|&i| i == u)?;
+            for (c, v) in ci.iter_mut().zip(xz.row(row)) {
+                *c += k * v;
+            }
+            Some((ci, ce + k * xe[row]))
+        })
+        .filter(|(ci, ce)| ci.iter().all(|v| v.is_finite()) && ce.is_finite());
     (a.is_finite() && f.iter().all(|v| v.is_finite())).then(|| Reduced {
         r,
         c: xz.row(out).to_vec(),
@@ -388,6 +443,8 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
         f,
         jump,
         x1,
+        x2,
+        current,
         coords: d_idx
             .iter()
             .map(|&i| (keep[i], reference[i].map(|r| keep[r])))
@@ -417,15 +474,31 @@ enum Mode {
     SlewDown,
     High,
     Low,
+    /// The output current held at +iout / −iout.
+    SourceLimit,
+    SinkLimit,
 }
 
-const MODES: [Mode; 5] = [
+const MODES: [Mode; 7] = [
     Mode::Linear,
     Mode::SlewUp,
     Mode::SlewDown,
     Mode::High,
     Mode::Low,
+    Mode::SourceLimit,
+    Mode::SinkLimit,
 ];
+
+impl Mode {
+    /// +1 or −1 for a current-limited mode.
+    fn current_sign(self) -> Option<f64> {
+        match self {
+            Mode::SourceLimit => Some(1.0),
+            Mode::SinkLimit => Some(-1.0),
+            _ => None,
+        }
+    }
+}
 
 /// Steps per block after the first (the first has twice as many).
 const BLOCK: usize = 16;
@@ -440,6 +513,11 @@ const MAX_EVENTS: usize = 2000;
 const MAX_SAMPLES: usize = 20_000;
 /// Interpolation tolerance relative to the final value.
 const TOL: f64 = 1e-7;
+/// In the linear tail, the interpolation tolerance relative to the
+/// remaining deviation from the final value…
+const TAIL_TOL: f64 = 1e-4;
+/// …but never below this share of the final value.
+const TAIL_FLOOR: f64 = 1e-10;
 /// The smallest overshoot reported (relative): ten times [`TOL`].
 const OVERSHOOT_FLOOR: f64 = 1e-6;
 
@@ -458,6 +536,15 @@ struct Sim<'a> {
     samples: Vec<Sample>,
     slewed: bool,
     clipped: bool,
+    /// The augmented current row (i = ĉi·[z; 1]) and the sum of its
+    /// entries on the rows a current-limited mode replaces, when the
+    /// current limit applies.
+    current: Option<(Vec<f64>, f64)>,
+    current_limited: bool,
+    /// The linear mode's equilibrium [z∞; 1], from the DC solution of the
+    /// full equations (A·z∞ + f·E = 0 solved through the reduced A would
+    /// lose the digits its stiffness costs).
+    rest: Option<Vec<f64>>,
     events: usize,
     last_event: f64,
 }
@@ -476,12 +563,44 @@ impl<'a> Sim<'a> {
             }
             lin[(i, r)] = red.f[i] * e1;
         }
+        // The rows a current-limited mode replaces: the state behind ro
+        // (and x1 with it when there are two).
+        let held: Vec<usize> = [Some(red.x1), red.x2].into_iter().flatten().collect();
+        let current = red
+            .current
+            .as_ref()
+            .filter(|_| lim.iout.is_some())
+            .map(|(ci, ce)| {
+                let mut row = ci.clone();
+                row.push(ce * e1);
+                let sum: f64 = held.iter().map(|&k| ci[k]).sum();
+                (row, sum)
+            })
+            .filter(|(_, sum)| *sum != 0.0 && sum.is_finite());
         let mats = MODES
             .iter()
             .map(|&mode| {
                 let mut m = lin.clone();
+                if mode.current_sign().is_some() {
+                    // Hold the current: ĉi·z' = 0 sets the held rows'
+                    // common rate from the other rows (exactly linear).
+                    if let Some((row, sum)) = &current {
+                        let mut rate = vec![0.0; r + 1];
+                        for j in (0..r).filter(|j| !held.contains(j)) {
+                            for (c, v) in rate.iter_mut().zip(lin.row(j)) {
+                                *c -= row[j] * v / sum;
+                            }
+                        }
+                        for &k in &held {
+                            for (c, v) in rate.iter().enumerate() {
+                                m[(k, c)] = *v;
+                            }
+                        }
+                    }
+                    return m;
+                }
                 let rate = match mode {
-                    Mode::Linear => return m,
+                    Mode::Linear | Mode::SourceLimit | Mode::SinkLimit => return m,
                     Mode::SlewUp => lim.slew.unwrap_or(0.0),
                     Mode::SlewDown => -lim.slew.unwrap_or(0.0),
                     Mode::High | Mode::Low => 0.0,
@@ -507,6 +626,9 @@ impl<'a> Sim<'a> {
             samples: Vec::new(),
             slewed: false,
             clipped: false,
+            current,
+            current_limited: false,
+            rest: None,
             events: 0,
             last_event: 0.0,
         }
@@ -555,9 +677,16 @@ impl<'a> Sim<'a> {
         self.out.iter().zip(&dz).map(|(a, b)| a * b).sum()
     }
 
+    /// The amplifier's output current (A), when its limit applies.
+    fn current_at(&self, z: &[f64]) -> Option<f64> {
+        self.current
+            .as_ref()
+            .map(|(row, _)| row.iter().zip(z).map(|(a, b)| a * b).sum())
+    }
+
     /// The switching functions of a mode: (value, the mode it leads to);
     /// a mode is left where one becomes positive.
-    fn switches(&self, mode: Mode, z: &[f64]) -> [(f64, Mode); 2] {
+    fn switches(&self, mode: Mode, z: &[f64]) -> [(f64, Mode); 3] {
         let r = self.rate_lin(z);
         let x1 = z[self.red.x1];
         let off = (f64::NEG_INFINITY, mode);
@@ -567,6 +696,18 @@ impl<'a> Sim<'a> {
         };
         let rail = |value: f64, to: Mode| match self.lim.rails {
             Some(_) => (value, to),
+            None => off,
+        };
+        let iout = self.lim.iout.unwrap_or(f64::INFINITY);
+        let current = |sign: f64| match self.current_at(z) {
+            Some(i) => {
+                let to = if sign > 0.0 {
+                    Mode::SourceLimit
+                } else {
+                    Mode::SinkLimit
+                };
+                (sign * i - iout, to)
+            }
             None => off,
         };
         let (lo, hi) = self.lim.rails.unwrap_or((f64::NEG_INFINITY, f64::INFINITY));
@@ -583,25 +724,64 @@ impl<'a> Sim<'a> {
                 } else {
                     rail(lo - x1, Mode::Low)
                 };
-                [c, s]
+                let i = self.current_at(z).unwrap_or(0.0);
+                [c, s, current(if i >= 0.0 { 1.0 } else { -1.0 })]
             }
             Mode::SlewUp => [
                 rail(x1 - hi, Mode::High),
                 (self.lim.slew.unwrap_or(0.0) - r, Mode::Linear),
+                current(1.0),
             ],
             Mode::SlewDown => [
                 rail(lo - x1, Mode::Low),
                 (self.lim.slew.unwrap_or(0.0) + r, Mode::Linear),
+                current(-1.0),
             ],
-            Mode::High => [(-r, Mode::Linear), off],
-            Mode::Low => [(r, Mode::Linear), off],
+            Mode::High => [(-r, Mode::Linear), current(1.0), off],
+            Mode::Low => [(r, Mode::Linear), current(-1.0), off],
+            Mode::SourceLimit | Mode::SinkLimit => {
+                let sign = mode.current_sign().unwrap_or(1.0);
+                // Back to the mode the amplifier would otherwise be in,
+                // where that no longer pushes the current outward.
+                let other = match self.lim.slew {
+                    Some(sr) if r > sr => Mode::SlewUp,
+                    Some(sr) if r < -sr => Mode::SlewDown,
+                    _ => Mode::Linear,
+                };
+                let back = match &self.current {
+                    Some((row, _)) => {
+                        let dz = self.mats[mode_index(other)].mul_vec(z);
+                        let di: f64 = row.iter().zip(&dz).map(|(a, b)| a * b).sum();
+                        (-sign * di, other)
+                    }
+                    None => (1.0, Mode::Linear),
+                };
+                let held_rate = self.mats[mode_index(mode)].mul_vec(z)[self.red.x1];
+                let fast = match self.lim.slew {
+                    Some(sr) if sign * held_rate > sr => (
+                        sign * held_rate - sr,
+                        if sign > 0.0 {
+                            Mode::SlewUp
+                        } else {
+                            Mode::SlewDown
+                        },
+                    ),
+                    _ => off,
+                };
+                let edge = if sign > 0.0 {
+                    rail(x1 - hi, Mode::High)
+                } else {
+                    rail(lo - x1, Mode::Low)
+                };
+                [edge, back, fast]
+            }
         }
     }
 
     /// The mode a state starts in.
     fn mode_at(&self, z: &[f64]) -> Mode {
         let mut mode = Mode::Linear;
-        for _ in 0..3 {
+        for _ in 0..4 {
             match self.switches(mode, z).iter().find(|(g, _)| *g > 0.0) {
                 Some(&(_, to)) if to != Mode::Linear || mode != Mode::Linear => mode = to,
                 _ => break,
@@ -628,6 +808,24 @@ impl<'a> Sim<'a> {
                     z[self.red.x1] = if mode == Mode::High { hi } else { lo };
                 }
             }
+            Mode::SourceLimit | Mode::SinkLimit => {
+                self.current_limited = true;
+                // Start exactly at the limit (the event is taken at the
+                // end of the finest step, a hair past it).
+                let sign = mode.current_sign().unwrap_or(1.0);
+                if let Some(k2) = self.red.x2 {
+                    z[self.red.x1] = z[k2];
+                }
+                if let (Some(i), Some((_, sum)), Some(iout)) =
+                    (self.current_at(z), &self.current, self.lim.iout)
+                {
+                    let shift = (sign * iout - i) / sum;
+                    z[self.red.x1] += shift;
+                    if let Some(k2) = self.red.x2 {
+                        z[k2] += shift;
+                    }
+                }
+            }
             Mode::Linear => {}
         }
     }
@@ -639,9 +837,26 @@ impl<'a> Sim<'a> {
     /// at the end.
     fn advance(&mut self, mode: Mode, t: f64, z: &mut Vec<f64>, level: usize) -> Mode {
         let h = self.step_len(level);
+        // In the linear mode the state moves as its deviation from the
+        // equilibrium, so the propagator's rounding scales with that
+        // deviation and dies with it (no drift of the level it tends to).
+        let rest = self.rest.clone().filter(|_| mode == Mode::Linear);
         let prop = |d: &Mat, z: &[f64]| -> Vec<f64> {
-            let dz = d.mul_vec(z);
-            z.iter().zip(&dz).map(|(a, b)| a + b).collect()
+            match &rest {
+                Some(zr) => {
+                    let w: Vec<f64> = z.iter().zip(zr).map(|(a, b)| a - b).collect();
+                    let dw = d.mul_vec(&w);
+                    zr.iter()
+                        .zip(&w)
+                        .zip(&dw)
+                        .map(|((r, w), d)| r + w + d)
+                        .collect()
+                }
+                None => {
+                    let dz = d.mul_vec(z);
+                    z.iter().zip(&dz).map(|(a, b)| a + b).collect()
+                }
+            }
         };
         let z1 = prop(self.ladder(mode, level), z);
         let zm = (level > 0).then(|| prop(self.ladder(mode, level - 1), z));
@@ -653,7 +868,18 @@ impl<'a> Sim<'a> {
             let ym = self.y(zm);
             let guess = 0.5 * (y0 + y1) + h * (d0 - d1) / 8.0;
             let budget = self.samples.len() < MAX_SAMPLES;
-            if budget && ((guess - ym).abs() > self.tol || event) {
+            // In the tail the tolerance follows the deviation from the
+            // final level down to TAIL_FLOOR, so a band down to
+            // SETTLE_FLOOR is crossed where the model crosses it.
+            let tol = match &rest {
+                Some(zr) => {
+                    let dev = (ym - self.y(zr)).abs();
+                    self.tol
+                        .min((TAIL_TOL * dev).max(TAIL_FLOOR * self.tol / TOL))
+                }
+                None => self.tol,
+            };
+            if budget && ((guess - ym).abs() > tol || event) {
                 let m1 = self.advance(mode, t, z, level - 1);
                 return self.advance(m1, t + 0.5 * h, z, level - 1);
             }
@@ -689,7 +915,10 @@ impl<'a> Sim<'a> {
 
     /// Whether the deviation in a final mode has died out over one step.
     fn settled(&mut self, mode: Mode, level: usize, t: f64) -> bool {
-        if matches!(mode, Mode::SlewUp | Mode::SlewDown) {
+        if matches!(
+            mode,
+            Mode::SlewUp | Mode::SlewDown | Mode::SourceLimit | Mode::SinkLimit
+        ) {
             return false;
         }
         let (r, x1) = (self.red.r, self.red.x1);
@@ -788,7 +1017,20 @@ fn simulate(
     let e0 = s.source.dc.unwrap_or(0.0);
     let e1 = e0 + size;
     let out = eq.out?;
-    let (x0, _) = dc_state(eq, e0, &lim)?;
+    let (x0, held) = dc_state(eq, e0, &lim)?;
+    // Past a rail at the operating point: the amplifier is not in its
+    // linear range before the step, and figures read off a waveform that
+    // starts there would mislead (the waveform is kept for the plot).
+    let reason = held.then(|| {
+        if lim
+            .rails
+            .is_some_and(|(lo, hi)| x0[eq.x1] >= 0.5 * (lo + hi))
+        {
+            HELD_HIGH
+        } else {
+            HELD_LOW
+        }
+    });
     let y0 = x0[out];
     // z(0⁻) from the full unknowns: the dynamic coordinates are node
     // voltages, differences of them, or the op-amp's states.
@@ -803,6 +1045,9 @@ fn simulate(
     let scale = linear_final.abs().max(size.abs() * 1e-6).max(1e-15);
     let h0 = 1.0 / (32.0 * f_ref);
     let mut sim = Sim::new(red, lim, e1, y0, h0, scale);
+    let mut rest = states_of(red, &operating_point(eq, e1, None)?);
+    rest.push(1.0);
+    sim.rest = Some(rest);
     let mut mode = sim.mode_at(&z);
     sim.enter(mode, &mut z);
     let (y, d) = (sim.y(&z), sim.dy(mode, &z));
@@ -851,9 +1096,17 @@ fn simulate(
         final_v,
         slew_limited: Some(sim.slewed),
         clipped: Some(sim.clipped),
+        current_limited: sim.current.is_some().then_some(sim.current_limited),
         samples: std::mem::take(&mut sim.samples),
+        ended,
+        reason,
         ..StepResponse::default()
     };
+    if reason.is_some() {
+        r.final_v = None;
+        r.ended = false;
+        return Some(r);
+    }
     figures(&mut r, ended);
     Some(r)
 }

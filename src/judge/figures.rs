@@ -226,7 +226,7 @@ use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 47] = [
+pub static FIGURES: [Figure; 48] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -684,6 +684,21 @@ pub static FIGURES: [Figure; 47] = [
         |e| e.analysis.step.clipped.map(|b| f64::from(u8::from(b))),
     )
     .closed_loop(),
+    fig(
+        "current_limited",
+        "current-limited",
+        "ilimit",
+        Flag,
+        Step,
+        REPORT,
+        |e| {
+            e.analysis
+                .step
+                .current_limited
+                .map(|b| f64::from(u8::from(b)))
+        },
+    )
+    .given(),
 ];
 
 /// The key figures, in order.

@@ -2,24 +2,28 @@
 //! [`crate::judge::warnings::RULES`]): swing, input range, slew, output current
 //! and offset. Each reads the figures of [`crate::engine::limits`].
 
-use crate::engine::limits::Drawn;
+use crate::engine::limits::{DcOnly, Drawn};
 use crate::judge::warning::{
     push, Code, Context, Severity, Warning, HEADROOM_WARN_SHARE, IOUT_WARN_SHARE,
     OFFSET_WARN_SHARE, SLEW_WARN_SHARE,
 };
-use crate::model::scenario::{present, Topology};
+use crate::model::scenario::{present, Supply, Topology};
 use crate::model::values::fmt_eng;
 
 /// The internal output leaves the usable range between the rails.
 pub fn output_swing(cx: &Context, w: &mut Vec<Warning>) {
     let l = &cx.a.limits;
+    if cx.a.unstable() {
+        return;
+    }
+    if let (Some(d), Some(sup)) = (l.dc_only, cx.s.supply) {
+        dc_swing(cx, &d, sup, w);
+        return;
+    }
     let (Some(low), Some(high), Some(sup)) = (l.headroom_low_v, l.headroom_high_v, cx.s.supply)
     else {
         return;
     };
-    if cx.a.unstable() {
-        return;
-    }
     let span = sup.pos - sup.neg;
     let (room, rail, toward) = if low <= high {
         (low, "negative", "below")
@@ -53,10 +57,37 @@ pub fn output_swing(cx: &Context, w: &mut Vec<Warning>) {
     push(w, Code::OutputSwing, sev, text);
 }
 
+/// Without a signal: the operating point alone already past a rail.
+fn dc_swing(cx: &Context, d: &DcOnly, sup: Supply, w: &mut Vec<Warning>) {
+    let (Some(low), Some(high)) = (d.headroom_low_v, d.headroom_high_v) else {
+        return;
+    };
+    let (room, rail, toward) = if low <= high {
+        (low, "−", "below")
+    } else {
+        (high, "+", "above")
+    };
+    if room >= 0.0 {
+        return;
+    }
+    let usable = cx.s.amp.usable_rails(&sup);
+    let text = format!(
+        "held at the {rail} rail at the DC operating point: the amplifier's internal output          would have to sit {} {toward} its usable range ({} to {}) with no signal at all;          move the DC level, lower the gain or widen the supply",
+        fmt_eng(-room, "V"),
+        fmt_eng(usable.0, "V"),
+        fmt_eng(usable.1, "V"),
+    );
+    push(w, Code::OutputSwing, Severity::Severe, text);
+}
+
 /// The + input leaves the amplifier's common-mode range.
 pub fn input_range(cx: &Context, w: &mut Vec<Warning>) {
     let l = &cx.a.limits;
-    let (Some(room), Some(lo), Some(hi)) = (l.cm_headroom_v, l.cm_low_v, l.cm_high_v) else {
+    let (room, lo, hi) = match l.dc_only {
+        Some(d) => (d.cm_headroom_v, d.cm_low_v, d.cm_high_v),
+        None => (l.cm_headroom_v, l.cm_low_v, l.cm_high_v),
+    };
+    let (Some(room), Some(lo), Some(hi)) = (room, lo, hi) else {
         return;
     };
     if room >= 0.0 || cx.a.unstable() {

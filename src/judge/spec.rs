@@ -110,6 +110,30 @@ impl Limit {
             .try_fold(f64::INFINITY, |m, v| v.map(|v| m.min(v)))
     }
 
+    /// The figure that sets the held value: of two, the smaller (or an
+    /// undefined one), so a message names the rail that fails.
+    pub fn held_key(&self, read: impl Fn(&str) -> Option<f64>) -> &'static str {
+        let mut best: Option<(&'static str, Option<f64>)> = None;
+        for &k in self.figures {
+            let v = read(k);
+            best = match best {
+                None => Some((k, v)),
+                Some((_, None)) => best,
+                Some((_, Some(b))) => match v {
+                    None => Some((k, v)),
+                    Some(x) if x < b => Some((k, v)),
+                    _ => best,
+                },
+            };
+        }
+        best.map_or(self.figures[0], |(k, _)| k)
+    }
+
+    /// Whether one figure's value meets the limit on its own.
+    pub fn figure_passes(&self, value: Option<f64>, limit: f64) -> bool {
+        self.passes(value, limit)
+    }
+
     /// Whether a value meets the limit; an undefined one does not.
     pub fn passes(&self, value: Option<f64>, limit: f64) -> bool {
         value.is_some_and(|v| match self.rule {
@@ -156,9 +180,10 @@ impl Limit {
         self.failure_with(value, limit, |v| fmt_plain(v, 4))
     }
 
-    /// The same for the screen: "phase margin 41.2° < 50° (pm_min_deg)".
-    pub fn failure_readable(&self, value: Option<f64>, limit: f64) -> String {
-        let (unit, label) = crate::judge::spread_figures::unit_and_label(self.figures[0]);
+    /// The same for the screen: "phase margin 41.2° < 50° (pm_min_deg)",
+    /// labelled by the figure `key` that fails (one of [`Limit::figures`]).
+    pub fn failure_readable(&self, key: &str, value: Option<f64>, limit: f64) -> String {
+        let (unit, label) = crate::judge::spread_figures::unit_and_label(key);
         let text = self.failure_with(value, limit, |v| unit.number(v, false));
         let named = text.replacen(self.field, label, 1);
         format!("{named} ({})", self.field)
@@ -206,11 +231,15 @@ pub fn nominal_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warni
     given(s)
         .into_iter()
         .filter_map(|(l, limit)| {
-            let v = l.held(|k| crate::judge::spread_figures::read(e, k, target));
+            let read = |k: &str| crate::judge::spread_figures::read(e, k, target);
+            let v = l.held(read);
             (!l.passes(v, limit)).then(|| Warning {
                 code: Code::Spec,
                 severity: Severity::Warning,
-                text: format!("misses its spec: {}", l.failure_readable(v, limit)),
+                text: format!(
+                    "misses its spec: {}",
+                    l.failure_readable(l.held_key(read), v, limit)
+                ),
             })
         })
         .collect()

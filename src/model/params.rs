@@ -123,6 +123,11 @@ pub struct Param {
     pub access: Access,
     /// A count or a seed: whole numbers only.
     pub whole: bool,
+    /// How to enter it, for the hint line (most parameters need none).
+    pub note: Option<&'static str>,
+    /// Shown (pane, report, note) only when this holds or the value is
+    /// given: a qualifier of other fields (None: always shown).
+    pub qualifies: Option<fn(&Scenario) -> bool>,
 }
 
 /// A reference to a table entry; compared by identity of the path.
@@ -166,6 +171,10 @@ pub const IB: (f64, f64) = (-1.0e-2, 1.0e-2);
 pub const IOS: (f64, f64) = (0.0, 1.0e-2);
 pub const SLEW: (f64, f64) = (1.0, 1.0e12);
 pub const SWING: (f64, f64) = (0.0, 50.0);
+/// The load a datasheet's swing figure was given at.
+pub const SWING_LOAD: (f64, f64) = (1.0, 1.0e9);
+/// °C per doubling of the bias currents.
+pub const IB_DOUBLING: (f64, f64) = (1.0, 100.0);
 pub const CM: (f64, f64) = (-50.0, 50.0);
 pub const IOUT: (f64, f64) = (1.0e-6, 100.0);
 pub const VOLTS: (f64, f64) = (-500.0, 500.0);
@@ -264,10 +273,20 @@ const fn entry(
         format: Format::Eng,
         access,
         whole: false,
+        note: None,
+        qualifies: None,
     }
 }
 
 impl Param {
+    const fn qualifies(mut self, when: fn(&Scenario) -> bool) -> Param {
+        self.qualifies = Some(when);
+        self
+    }
+    const fn note(mut self, note: &'static str) -> Param {
+        self.note = Some(note);
+        self
+    }
     const fn starting(mut self, start: fn(&Scenario) -> f64) -> Param {
         self.start = start;
         self
@@ -287,7 +306,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 57] = [
+pub static PARAMS: [Param; 59] = [
     entry(
         "stage.topology",
         "topology",
@@ -532,6 +551,19 @@ pub static PARAMS: [Param; 57] = [
     )
     .starting(|_| 1e-9),
     entry(
+        "amp.ib_doubling",
+        "ib ×2 per",
+        "°C",
+        Amplifier,
+        Linear(1.0),
+        Optional,
+        IB_DOUBLING,
+        number!(opt amp.ib_doubling),
+    )
+    .starting(|_| 10.0)
+    .qualifies(|s| s.amp.ib.is_some() || s.amp.ios.is_some())
+    .note("°C per doubling of ib and ios from 25 °C: about 10 for FET inputs; none: constant"),
+    entry(
         "amp.slew",
         "slew",
         "V/s",
@@ -562,6 +594,19 @@ pub static PARAMS: [Param; 57] = [
         SWING,
         number!(opt amp.swing_pos),
     ),
+    entry(
+        "amp.swing_load",
+        "swing at",
+        "Ω",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        SWING_LOAD,
+        number!(opt amp.swing_load),
+    )
+    .starting(|_| 10e3)
+    .qualifies(|s| s.amp.swing_neg.is_some() || s.amp.swing_pos.is_some())
+    .note("datasheet swing at the pin: enter its load here (to mid-supply); the ro drop is added"),
     entry(
         "amp.cm_neg",
         "cm −",
@@ -980,6 +1025,9 @@ impl Param {
     /// Whether the row applies to this topology (a follower has no rg).
     pub fn applies(&self, s: &Scenario) -> bool {
         !(self.presence == GainStage && follower(s))
+            && self
+                .qualifies
+                .is_none_or(|when| when(s) || self.raw(s).is_some())
     }
 
     /// Whether absent (or zero) is a valid state for this stage.

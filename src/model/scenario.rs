@@ -176,6 +176,14 @@ pub struct Amp {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub ios: Option<f64>,
+    /// °C per doubling of ib and ios from 25 °C (absent: constant).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub ib_doubling: Option<f64>,
     /// Slew rate (V/s); absent or 0 = no limit.
     #[serde(
         default,
@@ -199,6 +207,15 @@ pub struct Amp {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub swing_pos: Option<f64>,
+    /// The load (Ω, returned to mid-supply) the swing figures were given
+    /// at; absent: they bound the internal output behind ro directly.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub swing_load: Option<f64>,
     /// Where the input common-mode range ends inside the negative /
     /// positive rail (V; negative = beyond the rail).
     #[serde(
@@ -223,6 +240,37 @@ pub struct Amp {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub iout: Option<f64>,
+}
+
+impl Amp {
+    /// The range the internal output (behind ro) can reach on a supply:
+    /// the rails less `swing_neg`/`swing_pos`. With `swing_load`, the
+    /// swing is a datasheet figure at the pin into that load returned to
+    /// the middle of the supply, so the internal limit lies further out by
+    /// the drop across ro at that load's current.
+    pub fn usable_rails(&self, sup: &Supply) -> (f64, f64) {
+        let lo = sup.neg + self.swing_neg.unwrap_or(0.0);
+        let hi = sup.pos - self.swing_pos.unwrap_or(0.0);
+        match self.swing_load.filter(|r| *r > 0.0) {
+            Some(rl) => {
+                let mid = 0.5 * (sup.neg + sup.pos);
+                (
+                    lo - self.ro * (mid - lo) / rl,
+                    hi + self.ro * (hi - mid) / rl,
+                )
+            }
+            None => (lo, hi),
+        }
+    }
+
+    /// A bias or offset current at `temp_c`: doubling every `ib_doubling`
+    /// °C from 25 °C (halving below), constant without it.
+    pub fn current_at_temp(&self, i: f64, temp_c: f64) -> f64 {
+        match self.ib_doubling.filter(|d| *d > 0.0) {
+            Some(d) => i * 2f64.powf((temp_c - 25.0) / d),
+            None => i,
+        }
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

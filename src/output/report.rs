@@ -107,6 +107,22 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
     }
 }
 
+/// The step's figures; one that needs an input not given is left out
+/// (`current_limited` without `amp.iout`), and `reason` says why the
+/// figures are null when the stage is held at a rail before the step.
+fn step_object(e: &Evaluation) -> serde_json::Map<String, serde_json::Value> {
+    let mut m: serde_json::Map<String, serde_json::Value> = FIGURES
+        .iter()
+        .filter(|f| f.shown.json && f.section == Section::Step)
+        .filter(|f| !(f.needs_input && f.read(e) == crate::judge::figures::Reading::Undefined))
+        .map(|f| (f.key.to_string(), f.json_value(e)))
+        .collect();
+    if let Some(reason) = e.analysis.step.reason {
+        m.insert("reason".into(), reason.into());
+    }
+    m
+}
+
 impl Report {
     pub fn new(s: &Scenario, e: &Evaluation, at: &[f64]) -> Report {
         let circuit = Circuit::new(s);
@@ -117,11 +133,7 @@ impl Report {
                 .filter(|f| f.shown.json && f.section.json_object().is_none())
                 .map(|f| (f.key, f.json(e)))
                 .collect(),
-            step: FIGURES
-                .iter()
-                .filter(|f| f.shown.json && f.section == Section::Step)
-                .map(|f| (f.key.to_string(), f.json_value(e)))
-                .collect(),
+            step: step_object(e),
             band_hz: s.band,
             noise_sources: e
                 .analysis
@@ -203,6 +215,11 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
     }
     writeln!(w)?;
     writeln!(w, "{}", sec.title())?;
+    if let (Section::Step, Some(reason)) = (sec, e.analysis.step.reason) {
+        let size = fmt_eng(e.analysis.step.size_v, "V");
+        writeln!(w, "  {:<18} {size}", "step size")?;
+        return writeln!(w, "  {:<18} none: {reason}", "figures");
+    }
     for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
         let r = f.read(e);
         if f.needs_input && r == crate::judge::figures::Reading::Undefined {

@@ -157,6 +157,11 @@ fn draw_wave<'a, 'b: 'a>(
         let text = format!("ts 0.1 % {}", fmt_eng(ts, "s"));
         vmark(chart, ts, yr, slot, text, (st.color, font))?;
     }
+    // Held at a rail before the step: no figures, and the chart says why.
+    if let Some(reason) = s.eval.analysis.step.reason {
+        let text = format!("no figures: {reason}");
+        vmark(chart, 0.0, yr, slot, text, (st.color, font))?;
+    }
     let name = if n > 1 {
         format!("{} output", ["A", "B"][slot.min(1)])
     } else {

@@ -513,17 +513,54 @@ fn check_limits(
     (limits, yield_frac)
 }
 
-/// The histograms a view draws: the gain error, f−3dB and the phase
-/// margin, then the figure of each limit that trials fail (so the reason
-/// for a low yield is on the chart), at most `most` in all.
+/// The figures of a limit that fail it in some trial or at the nominal
+/// (of the two rails' headroom, only the failing rail), in limit order.
+pub fn failing_figures(r: &SpreadResult, l: &LimitCheck) -> Vec<&'static str> {
+    if l.failed == 0 && l.nominal_pass {
+        return Vec::new();
+    }
+    let fails = |key: &str| {
+        let Some(f) = r.figure(key) else {
+            return false;
+        };
+        let edge_fails = [f.min, f.max, f.nominal]
+            .into_iter()
+            .any(|v| v.is_some() && !l.limit.figure_passes(v, l.value));
+        edge_fails || f.undefined > 0
+    };
+    let keys: Vec<&'static str> = l
+        .limit
+        .figures
+        .iter()
+        .copied()
+        .filter(|k| fails(k))
+        .collect();
+    if keys.is_empty() {
+        l.limit.figures.iter().copied().take(1).collect()
+    } else {
+        keys
+    }
+}
+
+/// The histograms a view draws: first the figure of every limit that
+/// trials fail (the failing rail of two), so the reason for a low yield
+/// is on the chart, then the gain error, f−3dB and the phase margin, at
+/// most `most` in all (never fewer than the failing ones).
 pub fn shown_figures(r: &SpreadResult, most: usize) -> Vec<&'static str> {
-    let mut keys = vec!["target_error", "f_3db_hz", "phase_margin_deg"];
+    let mut keys: Vec<&'static str> = Vec::new();
     for l in r.limits.iter().filter(|l| l.failed > 0) {
-        let key = l.limit.figures[0];
-        if !keys.contains(&key) && r.figure(key).is_some() {
+        for key in failing_figures(r, l) {
+            if !keys.contains(&key) && r.figure(key).is_some() {
+                keys.push(key);
+            }
+        }
+    }
+    let failing = keys.len();
+    for key in ["target_error", "f_3db_hz", "phase_margin_deg"] {
+        if !keys.contains(&key) {
             keys.push(key);
         }
     }
-    keys.truncate(most);
+    keys.truncate(most.max(failing));
     keys
 }

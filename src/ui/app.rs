@@ -829,6 +829,8 @@ impl App {
                 (&mut a.slew, old.slew),
                 (&mut a.swing_neg, old.swing_neg),
                 (&mut a.swing_pos, old.swing_pos),
+                (&mut a.swing_load, old.swing_load),
+                (&mut a.ib_doubling, old.ib_doubling),
                 (&mut a.cm_neg, old.cm_neg),
                 (&mut a.cm_pos, old.cm_pos),
                 (&mut a.iout, old.iout),

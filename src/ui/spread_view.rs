@@ -77,12 +77,11 @@ fn yield_lines(app: &App, r: &SpreadResult) -> Vec<Line<'static>> {
                 .iter()
                 .filter(|l| l.failed > 0 || !l.nominal_pass)
                 .map(|l| {
-                    format!(
-                        "{} {} of {}",
-                        short_name(l.limit.figures[0]),
-                        l.failed,
-                        r.trials
-                    )
+                    let names: Vec<&str> = crate::study::spread::failing_figures(r, l)
+                        .into_iter()
+                        .map(short_name)
+                        .collect();
+                    format!("{} {} of {}", names.join("/"), l.failed, r.trials)
                 })
                 .collect();
             let failing = if failing.is_empty() {

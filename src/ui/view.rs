@@ -831,6 +831,7 @@ fn stage_step_summary(slot: &Slot) -> String {
     let pct = |v: f64| format!("{}%", crate::model::values::fmt_plain(v, 3));
     match (r.final_v, r.settle_s[1]) {
         _ if slot.eval.analysis.unstable() => "unstable: no step response".to_string(),
+        _ if r.reason.is_some() => format!("no figures: {}", r.reason.unwrap_or_default()),
         (Some(_), Some(ts)) => {
             let mut t = format!(
                 "overshoot {}, 0.1 % in {}",
@@ -842,6 +843,9 @@ fn stage_step_summary(slot: &Slot) -> String {
             }
             if r.clipped == Some(true) {
                 t.push_str(", at a rail");
+            }
+            if r.current_limited == Some(true) {
+                t.push_str(", current-limited");
             }
             t
         }
@@ -1282,6 +1286,9 @@ fn param_hint(app: &App) -> Line<'static> {
     ];
     if p.choice(s).is_none() {
         spans.push(Span::styled(format!(" · {}", p.range_text()), t.dim));
+    }
+    if let Some(note) = p.note {
+        spans.push(Span::styled(format!(" · {note}"), t.dim));
     }
     spans.push(Span::styled(format!(" · {}", keys::hint_line()), t.dim));
     Line::from(spans)

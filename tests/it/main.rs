@@ -14,6 +14,7 @@ mod enum_lists;
 mod file_kinds;
 mod files_and_ab;
 mod gain_errors;
+mod large_signal;
 mod limits;
 mod loader_fuzz;
 mod noise_checks;

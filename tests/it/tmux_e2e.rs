@@ -288,11 +288,13 @@ fn stepping_band_from_to_its_end_cannot_crash() {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
-    // From rf (selected at start) down to "band from", counted in the
-    // parameter table (every row applies to the demo's stage).
+    // From rf (selected at start) down to "band from", counted among the
+    // parameters that apply to the demo's stage (the pane's rows).
+    let demo = loopwright::files::load::demo();
     let row = |path: &str| {
         loopwright::model::params::PARAMS
             .iter()
+            .filter(|p| p.applies(&demo))
             .position(|p| p.path == path)
             .unwrap()
     };

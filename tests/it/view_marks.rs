@@ -155,3 +155,21 @@ fn workbench_and_svg_mark_the_same_things_for_every_stage() {
     }
     assert!(compared >= 30, "{compared}");
 }
+
+/// An unstable stage has no −3 dB mark anywhere: not on the workbench,
+/// not in the SVG of the same view, and `f_3db_hz` reads null in JSON
+/// (an oscillating stage has no closed-loop bandwidth).
+#[test]
+fn unstable_stage_has_no_minus_3db_mark_in_the_svg_or_json() {
+    let s = three_pole_follower();
+    let e = evaluate(&s);
+    assert!(e.analysis.unstable());
+    let svg = svg_marks(&s, ViewId::Response).expect("the response view draws it");
+    assert!(!svg.contains(&MarkKind::F3db), "{svg:?}");
+    assert!(!workbench_marks(&s, ViewId::Response).contains(&MarkKind::F3db));
+    let rep = loopwright::output::report::Report::new(&s, &e, &[]);
+    let mut json = Vec::new();
+    rep.write_json(&mut json).unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&json).unwrap();
+    assert!(v["f_3db_hz"].is_null(), "{}", v["f_3db_hz"]);
+}
