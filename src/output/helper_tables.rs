@@ -16,6 +16,9 @@ fn option_name(field: QueryField) -> &'static str {
         QueryField::RgMin => "--rg-min",
         QueryField::RgMax => "--rg-max",
         QueryField::Count => "--count",
+        QueryField::SourceR => "--source-r",
+        QueryField::Riso => "--riso",
+        QueryField::LoadR => "--load-r",
     }
 }
 
@@ -27,6 +30,9 @@ fn field_value(q: &Query, field: QueryField) -> String {
         QueryField::RgMin => fmt_compact(q.rg_range.0),
         QueryField::RgMax => fmt_compact(q.rg_range.1),
         QueryField::Count => q.count.to_string(),
+        QueryField::SourceR => fmt_compact(q.source_r),
+        QueryField::Riso => fmt_compact(q.riso),
+        QueryField::LoadR => q.load_r.map_or("none".into(), fmt_compact),
     }
 }
 
@@ -80,6 +86,38 @@ pub fn aligned(header: &[&str], rows: &[Vec<String>], numbers_right: bool) -> Ve
                 .map(|r| line(r.iter().map(String::as_str).collect())),
         )
         .collect()
+}
+
+/// What the gain column takes into account besides rf and rg, one line
+/// each (none when nothing does).
+pub fn surroundings(q: &Query) -> Vec<String> {
+    let mut lines = Vec::new();
+    if q.source_r > 0.0 {
+        lines.push(match q.series_r() > 0.0 {
+            true => format!(
+                "gain with the {} source resistance in series with rg",
+                fmt_eng(q.source_r, "Ω")
+            ),
+            false => format!(
+                "the {} source resistance does not change the gain (a non-inverting input draws no current)",
+                fmt_eng(q.source_r, "Ω")
+            ),
+        });
+    }
+    match (q.riso > 0.0, q.load_r) {
+        (true, Some(rl)) => lines.push(format!(
+            "gain at the load: riso {} into {} leaves × {}",
+            fmt_eng(q.riso, "Ω"),
+            fmt_eng(rl, "Ω"),
+            fmt_plain(q.divider(), 6)
+        )),
+        (false, Some(rl)) => lines.push(format!(
+            "the {} load does not change the gain (no riso: the feedback holds the output)",
+            fmt_eng(rl, "Ω")
+        )),
+        _ => {}
+    }
+    lines
 }
 
 /// The columns of a pairs row.
@@ -152,6 +190,9 @@ pub fn pairs_output(q: &Query, json: bool) -> Result<Vec<u8>> {
         fmt_eng(q.rg_range.1, "Ω"),
     );
     buf.extend_from_slice(head.as_bytes());
+    for line in surroundings(q) {
+        buf.extend_from_slice(format!("  {line}\n").as_bytes());
+    }
     let rows: Vec<Vec<String>> = found.iter().map(pair_cells).collect();
     for line in table(&PAIR_HEADER, &rows) {
         buf.extend_from_slice(format!("  {line}\n").as_bytes());
