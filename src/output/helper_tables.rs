@@ -144,22 +144,43 @@ pub fn pair_cells(p: &Pair) -> Vec<String> {
     ]
 }
 
-/// The columns of a stabilising option.
-pub const FIX_HEADER: [&str; 6] = ["part", "value", "margin", "peaking", "f−3dB", "Zout DC"];
+/// The columns of a stabilising option; `settling` only when the stage
+/// has a step.
+pub fn fix_header(o: &Options) -> Vec<&'static str> {
+    let mut h = vec!["part", "value", "margin", "peaking", "f−3dB", "Zout DC"];
+    if o.settle_now.is_some() {
+        h.push("settling 0.1 %");
+    }
+    h
+}
 
 fn or_none(v: Option<f64>, show: impl Fn(f64) -> String) -> String {
     v.map_or("none".into(), show)
 }
 
+/// An option's value: `10 nF → 100 fF` when it replaces a part the stage
+/// has, `100 fF (added)` when the stage has none.
+fn fix_value(f: &Fix) -> String {
+    let unit = f.part.unit();
+    match f.replaces {
+        Some(old) => format!("{} → {}", fmt_eng(old, unit), fmt_eng(f.value, unit)),
+        None => format!("{} (added)", fmt_eng(f.value, unit)),
+    }
+}
+
 pub fn fix_cells(f: &Fix) -> Vec<String> {
-    vec![
+    let mut cells = vec![
         f.part.name().into(),
-        fmt_eng(f.value, f.part.unit()),
+        fix_value(f),
         or_none(f.phase_margin_deg, |m| format!("{}°", fmt_fixed(m, 1))),
         format!("{} dB", fmt_fixed(f.peaking_db, 2)),
         or_none(f.f_3db_hz, |v| fmt_eng(v, "Hz")),
         fmt_eng(f.zout_dc_ohm, "Ω"),
-    ]
+    ];
+    if let Some(settle) = f.settle_01pct_s {
+        cells.push(or_none(settle, |t| fmt_eng(t, "s")));
+    }
+    cells
 }
 
 #[derive(Serialize)]
@@ -212,13 +233,22 @@ pub fn margin_now_text(o: &Options) -> String {
     let now = o
         .margin_now
         .map_or("no crossover".into(), |m| format!("{}°", fmt_fixed(m, 1)));
+    let settle = match o.settle_now {
+        Some(Some(t)) => format!(", settling to 0.1 % in {}", fmt_eng(t, "s")),
+        Some(None) => ", its step does not settle to 0.1 %".into(),
+        None => String::new(),
+    };
     if o.already_met {
         format!(
-            "no change needed: the stage already meets {}° (now {now}); added, these keep it",
+            "no change needed: the stage already meets {}° (now {now}{settle}); \
+             the options below are only the smallest values that would also meet it",
             o.target_deg
         )
     } else {
-        format!("phase margin now {now}, below the {}° target", o.target_deg)
+        format!(
+            "phase margin now {now}, below the {}° target{settle}",
+            o.target_deg
+        )
     }
 }
 
@@ -249,7 +279,7 @@ pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>
     );
     let rows: Vec<Vec<String>> = o.options.iter().map(fix_cells).collect();
     if !rows.is_empty() {
-        for line in table(&FIX_HEADER, &rows) {
+        for line in table(&fix_header(&o), &rows) {
             text.push_str(&format!("  {line}\n"));
         }
     }

@@ -620,3 +620,87 @@ fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
     let o = stabilize::options(&s, 60.0).unwrap();
     assert!(o.already_met && o.margin_now.is_none(), "{o:?}");
 }
+
+/// The kind of stage: a stable gain-11 stage whose cf is a
+/// deliberate 10 nF filter (f−3dB ≈ 1/(2π·rf·cf) = 1.59 kHz with rf
+/// 10 kΩ, textbook RC pole), with a step to settle. Its loop has one
+/// amplifier pole and a zero from cf: far above 60° of margin.
+fn filtered_preamp() -> Scenario {
+    let mut s = in_range(plain(Topology::NonInverting, 1e3, 10e3));
+    s.stage.cf = Some(10e-9);
+    s.step = Some(loopwright::model::scenario::Step { size: 0.01 });
+    s
+}
+
+#[test]
+fn stabilize_names_the_part_it_replaces_and_each_options_settling() {
+    let s = filtered_preamp();
+    let o = stabilize::options(&s, 60.0).unwrap();
+    assert!(o.already_met, "{o:?}");
+    let cf = o.options.iter().find(|f| f.part == Part::Cf).unwrap();
+    assert_eq!(cf.replaces, Some(10e-9));
+    let riso = o.options.iter().find(|f| f.part == Part::Riso).unwrap();
+    assert_eq!(riso.replaces, None);
+    // Each option's settling is that of the stage with the option (its
+    // step solved again here through the engine's own analysis of the
+    // modified stage, which tests/it/step_response.rs checks against
+    // closed forms).
+    for f in &o.options {
+        let a = analyze(&with_part(&s, f.part, f.value));
+        assert_eq!(f.settle_01pct_s, Some(a.step.settle_s[1]), "{f:?}");
+    }
+    // The text: the verdict first, then the table with the old → new
+    // value and a settling column.
+    let dir = std::env::temp_dir().join(format!("lw-stab-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("filtered.ron");
+    std::fs::write(&path, ron::ser::to_string(&s).unwrap()).unwrap();
+    let out = stdout_of(&["stabilize", path.to_str().unwrap()]);
+    let lines: Vec<&str> = out.lines().collect();
+    assert!(lines[1].contains("no change needed"), "{out}");
+    assert!(lines[2].contains("settling 0.1 %"), "{out}");
+    assert!(out.contains("10 nF →"), "{out}");
+    assert!(out.contains("(added)"), "{out}");
+    let v = json_of(&["stabilize", path.to_str().unwrap(), "--json"]);
+    let cf_row = v["options"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r["part"] == "cf")
+        .unwrap();
+    assert_eq!(cf_row["replaces"], 10e-9);
+    assert!(cf_row["settle_01pct_s"].is_number(), "{cf_row}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn m_says_first_that_the_stage_already_meets_the_target_and_wraps_its_note() {
+    let mut a = app_on(filtered_preamp());
+    a.on_key(key(KeyCode::Char('m')));
+    let Mode::Choose(list) = &a.mode else {
+        panic!("{}", a.status)
+    };
+    assert!(list.title.contains("Already meets 60°"), "{}", list.title);
+    assert!(list.header.contains("settling"), "{}", list.header);
+    assert!(
+        list.rows.iter().any(|r| r.contains("10 nF →")),
+        "{:?}",
+        list.rows
+    );
+    // The note is longer than the 76-column box: all of it is on screen,
+    // word after word over the lines under the rows.
+    assert!(list.note.chars().count() > 72, "{}", list.note);
+    let text = screen_at(&a, 80, 30);
+    let first_words: String = list.note.split(' ').take(3).collect::<Vec<_>>().join(" ");
+    let lines: Vec<&str> = text.lines().collect();
+    let at = lines.iter().position(|l| l.contains(&first_words)).unwrap();
+    // The box's inner text from the note's column, 72 characters wide
+    // (76 less two borders and the two-space indent).
+    let col = lines[at][..lines[at].find(&first_words).unwrap()].chars().count();
+    let inside: Vec<String> = lines[at..]
+        .iter()
+        .map(|l| l.chars().skip(col).take(72).collect::<String>().trim().to_string())
+        .collect();
+    let joined = inside.join(" ");
+    assert!(joined.contains(&list.note), "{text}");
+}

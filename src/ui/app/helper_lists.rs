@@ -5,7 +5,7 @@
 use super::{App, Mode, Prompt};
 use crate::model::scenario::Topology;
 use crate::model::values::{fmt_eng, fmt_plain, parse_value};
-use crate::output::helper_tables::{self, FIX_HEADER, PAIR_HEADER};
+use crate::output::helper_tables::{self, PAIR_HEADER};
 use crate::study::pairs::{self, Query};
 use crate::study::stabilize::{self, Part};
 use crate::ui::field::Field;
@@ -141,8 +141,12 @@ impl App {
             .iter()
             .map(|f| Pick::Part(f.part, f.value))
             .collect();
-        let title = format!(" Stabilising options for {target}° (↑↓ Enter, Esc) ");
-        let mut list = Choices::new(title, &FIX_HEADER, &cells, picks);
+        // A stage that already meets the target says so first.
+        let title = match o.already_met {
+            true => format!(" Already meets {target}°: no change needed; options (↑↓ Enter, Esc) "),
+            false => format!(" Stabilising options for {target}° (↑↓ Enter, Esc) "),
+        };
+        let mut list = Choices::new(title, &helper_tables::fix_header(&o), &cells, picks);
         list.note = helper_tables::margin_now_text(&o);
         self.mode = Mode::Choose(list);
         self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");
