@@ -136,6 +136,30 @@ pub struct Archetype {
     pub amp: Amp,
 }
 
+/// Which amplifier fields an archetype changed, by their labels: those
+/// set (new or different) and those cleared; "nothing changed" when none.
+pub fn archetype_changes(before: &Scenario, after: &Scenario) -> String {
+    let (mut set, mut cleared) = (Vec::new(), Vec::new());
+    for p in PARAMS.iter().filter(|p| p.path.starts_with("amp.")) {
+        match (p.get(before), p.get(after)) {
+            (a, b) if a == b => {}
+            (Some(_), None) => cleared.push(p.label),
+            _ => set.push(p.label),
+        }
+    }
+    let mut parts = Vec::new();
+    if !set.is_empty() {
+        parts.push(format!("set {}", set.join(", ")));
+    }
+    if !cleared.is_empty() {
+        parts.push(format!("cleared {}", cleared.join(", ")));
+    }
+    match parts.is_empty() {
+        true => "nothing changed".into(),
+        false => parts.join("; "),
+    }
+}
+
 pub const ARCHETYPES_RON: &str = include_str!("../../assets/amps.ron");
 
 /// The archetype library shipped in assets/.
@@ -817,28 +841,18 @@ impl App {
             return;
         };
         self.archetype = i;
-        self.change("amplifier", |s| {
-            // The archetypes give no signal limits: the stage keeps its own.
-            let old = std::mem::replace(&mut s.amp, arch.amp.clone());
-            let a = &mut s.amp;
-            for (new, was) in [
-                (&mut a.vos, old.vos),
-                (&mut a.vos_drift, old.vos_drift),
-                (&mut a.ib, old.ib),
-                (&mut a.ios, old.ios),
-                (&mut a.slew, old.slew),
-                (&mut a.swing_neg, old.swing_neg),
-                (&mut a.swing_pos, old.swing_pos),
-                (&mut a.cm_neg, old.cm_neg),
-                (&mut a.cm_pos, old.cm_pos),
-                (&mut a.iout, old.iout),
-            ] {
-                *new = new.or(was);
-            }
+        let before = self.slot().scenario.clone();
+        // Every amplifier field is the archetype's: what it gives is set,
+        // what it leaves out is cleared (no field of the old part stays).
+        if !self.apply_change("amplifier", |s| {
+            s.amp = arch.amp.clone();
             Ok(())
-        });
+        }) {
+            return;
+        }
+        let what = archetype_changes(&before, &self.slot().scenario);
         self.info(format!(
-            "{}: amplifier set to the {} archetype (typical values; every parameter stays editable)",
+            "{}: amplifier set to the {} archetype (typical values, every one editable): {what}",
             Self::slot_label(self.active),
             arch.name
         ));
