@@ -13,7 +13,12 @@ use std::process::ExitCode;
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The file to write (roff; `-`: standard output).
-    #[arg(short = 'o', long = "output", value_name = "FILE", conflicts_with = "dir")]
+    #[arg(
+        short = 'o',
+        long = "output",
+        value_name = "FILE",
+        conflicts_with = "dir"
+    )]
     pub output: Option<PathBuf>,
     /// Write loopwright.1 and a page per command (loopwright-report.1, …)
     /// into DIR (made when missing).

@@ -194,7 +194,9 @@ impl Circuit {
         let gain = Netlist::node_v(&x[..net.dim], net.out);
         let ay = net.loop_factor(s) * net.minus_vd(&w[..net.dim]);
         let loop_gain = match ay.norm() < PASSIVE_LOOP_BELOW {
-            true => self.passive_loop(s).unwrap_or(ay / (C64::new(1.0, 0.0) - ay)),
+            true => self
+                .passive_loop(s)
+                .unwrap_or(ay / (C64::new(1.0, 0.0) - ay)),
             false => ay / (C64::new(1.0, 0.0) - ay),
         };
         (x, gain, loop_gain)

@@ -751,7 +751,10 @@ fn numbered(base: &Path, n: usize) -> PathBuf {
     if n <= 1 {
         return base.to_path_buf();
     }
-    let name = base.file_name().map(|x| x.to_string_lossy().into_owned()).unwrap_or_default();
+    let name = base
+        .file_name()
+        .map(|x| x.to_string_lossy().into_owned())
+        .unwrap_or_default();
     let named = match name.strip_suffix(".ron") {
         Some(stem) => format!("{stem}-{n}.ron"),
         None => format!("{name}-{n}"),
@@ -790,7 +793,7 @@ pub fn rescue_files(base: &Path) -> Vec<PathBuf> {
             }
         }
     }
-    found.sort_by(|a, b| b.0.cmp(&a.0));
+    found.sort_by_key(|f| std::cmp::Reverse(f.0));
     found.into_iter().map(|(_, p)| p).collect()
 }
 

@@ -189,7 +189,10 @@ pub fn check(q: &Query) -> Result<(), QueryProblem> {
     if !(q.target.is_finite() && q.target > 0.0) {
         return fail(QueryField::Target, "must be above 0 (give the magnitude)");
     }
-    for (field, r) in [(QueryField::SourceR, q.source_r), (QueryField::Riso, q.riso)] {
+    for (field, r) in [
+        (QueryField::SourceR, q.source_r),
+        (QueryField::Riso, q.riso),
+    ] {
         if !(r.is_finite() && (0.0..=OHMS.1).contains(&r)) {
             return Err(problem(
                 field,

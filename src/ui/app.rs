@@ -314,7 +314,10 @@ pub fn scenario_files() -> Vec<PathBuf> {
                 .filter(|p| {
                     // Stage files, and the rescue copies of one
                     // (`s.ron.rescue`, `s.ron.rescue-2`).
-                    let name = p.file_name().map(|n| n.to_string_lossy()).unwrap_or_default();
+                    let name = p
+                        .file_name()
+                        .map(|n| n.to_string_lossy())
+                        .unwrap_or_default();
                     p.extension().and_then(|e| e.to_str()) == Some("ron")
                         || name.contains(".ron.rescue")
                 })
@@ -665,7 +668,11 @@ impl App {
             Action::SaveAs => self.start_save_as(),
             Action::Open => {
                 let mut files = self.rescued.clone();
-                files.extend(scenario_files().into_iter().filter(|f| !self.rescued.contains(f)));
+                files.extend(
+                    scenario_files()
+                        .into_iter()
+                        .filter(|f| !self.rescued.contains(f)),
+                );
                 self.mode = Mode::Open {
                     files,
                     selected: 0,

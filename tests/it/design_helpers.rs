@@ -158,16 +158,37 @@ fn pairs_count_in_the_source_resistance_and_the_load_divider() {
     }
     // The issue's case: −47k/(10k + 600) = −4.434, 5.7 % short of 4.7, so
     // 10k/47k may not lead the list at 0 % with a 600 Ω source.
-    let out = stdout_of(&["pairs", "4.7", "--topology", "Inverting", "--source-r", "600"]);
-    assert!(out.contains("600 Ω source resistance in series with rg"), "{out}");
+    let out = stdout_of(&[
+        "pairs",
+        "4.7",
+        "--topology",
+        "Inverting",
+        "--source-r",
+        "600",
+    ]);
+    assert!(
+        out.contains("600 Ω source resistance in series with rg"),
+        "{out}"
+    );
     let first = out.lines().nth(3).unwrap();
     assert!(!first.contains("10 kΩ  47 kΩ"), "{out}");
     let v = json_of(&[
-        "pairs", "4.7", "--topology", "Inverting", "--source-r", "600", "--json",
+        "pairs",
+        "4.7",
+        "--topology",
+        "Inverting",
+        "--source-r",
+        "600",
+        "--json",
     ]);
     for r in v["pairs"].as_array().unwrap() {
         let (rg, rf) = (r["rg"].as_f64().unwrap(), r["rf"].as_f64().unwrap());
-        assert_rel("gain with the source", r["gain"].as_f64().unwrap(), rf / (rg + 600.0), 1e-12);
+        assert_rel(
+            "gain with the source",
+            r["gain"].as_f64().unwrap(),
+            rf / (rg + 600.0),
+            1e-12,
+        );
     }
     // riso 100 Ω into 1 kΩ: the gain at the load, × 1000/1100.
     let out = stdout_of(&["pairs", "2", "--riso", "100", "--load-r", "1k"]);
@@ -198,7 +219,10 @@ fn r_list_uses_the_stage_source_and_load() {
     let loopwright::ui::app::Pick::Pair { rg, rf } = first else {
         panic!("{first:?}")
     };
-    assert!((rf / (rg + 600.0) / 4.7 - 1.0).abs() < 0.01, "rg {rg} rf {rf}");
+    assert!(
+        (rf / (rg + 600.0) / 4.7 - 1.0).abs() < 0.01,
+        "rg {rg} rf {rf}"
+    );
 }
 
 fn check_against_brute_force(q: &Query) {
@@ -696,10 +720,19 @@ fn m_says_first_that_the_stage_already_meets_the_target_and_wraps_its_note() {
     let at = lines.iter().position(|l| l.contains(&first_words)).unwrap();
     // The box's inner text from the note's column, 72 characters wide
     // (76 less two borders and the two-space indent).
-    let col = lines[at][..lines[at].find(&first_words).unwrap()].chars().count();
+    let col = lines[at][..lines[at].find(&first_words).unwrap()]
+        .chars()
+        .count();
     let inside: Vec<String> = lines[at..]
         .iter()
-        .map(|l| l.chars().skip(col).take(72).collect::<String>().trim().to_string())
+        .map(|l| {
+            l.chars()
+                .skip(col)
+                .take(72)
+                .collect::<String>()
+                .trim()
+                .to_string()
+        })
         .collect();
     let joined = inside.join(" ");
     assert!(joined.contains(&list.note), "{text}");

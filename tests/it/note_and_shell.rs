@@ -223,10 +223,15 @@ fn every_page_the_manual_names_is_written_by_manual_dir() {
     }
     // The main page in the folder is the one on standard output; a second
     // run refuses to overwrite without --force and writes nothing.
-    assert_eq!(std::fs::read_to_string(d.join("loopwright.1")).unwrap(), man);
+    assert_eq!(
+        std::fs::read_to_string(d.join("loopwright.1")).unwrap(),
+        man
+    );
     assert!(man.contains("manual \\-\\-dir"), "{man}");
     let again = run(&["manual", "--dir", d.to_str().unwrap()]);
     assert!(!again.status.success());
-    assert!(run(&["manual", "--dir", d.to_str().unwrap(), "--force"]).status.success());
+    assert!(run(&["manual", "--dir", d.to_str().unwrap(), "--force"])
+        .status
+        .success());
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -466,7 +466,11 @@ fn load_divider_quiet_when_the_ratio_already_makes_up_for_it() {
         gain_target: Some(-4.7),
         ..Default::default()
     });
-    assert!(warning(&s, "load-divider").is_none(), "{:?}", warnings_of(&s));
+    assert!(
+        warning(&s, "load-divider").is_none(),
+        "{:?}",
+        warnings_of(&s)
+    );
     // The same source with rg 10 kΩ: −47k/10.6k = −4.4340, −5.66 % off
     // the target; the warning names the target and advises only what the
     // tool can model (rescaling rf/rg), not a feedback point it has not.

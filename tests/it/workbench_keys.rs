@@ -119,7 +119,10 @@ fn an_archetype_sets_or_clears_every_amplifier_field_and_names_them() {
     let arch = &list[2];
     assert!(arch.amp.inoise_corner.is_none(), "{}", arch.name);
     let mut s = loopwright::files::load::demo();
-    s.supply = Some(loopwright::model::scenario::Supply { neg: -15.0, pos: 15.0 });
+    s.supply = Some(loopwright::model::scenario::Supply {
+        neg: -15.0,
+        pos: 15.0,
+    });
     s.amp.slew = Some(123.0e6);
     s.amp.swing_neg = Some(0.7);
     s.amp.swing_pos = Some(0.7);
