@@ -28,6 +28,16 @@ pub struct Args {
     /// How many pairs to list.
     #[arg(long, default_value_t = 10, value_parser = clap::value_parser!(u32).range(1..=10_000))]
     pub count: u32,
+    /// The source resistance (inverting: in series with rg); the gain and
+    /// the rf chosen for each rg take it into account.
+    #[arg(long = "source-r", value_name = "OHMS", default_value = "0", value_parser = super::parse::parse_resistance_or_zero, allow_negative_numbers = true)]
+    pub source_r: f64,
+    /// A resistor between the output (where the feedback is taken) and the load.
+    #[arg(long, value_name = "OHMS", default_value = "0", value_parser = super::parse::parse_resistance_or_zero, allow_negative_numbers = true)]
+    pub riso: f64,
+    /// The load resistance: with --riso, the gain is the gain at the load.
+    #[arg(long = "load-r", value_name = "OHMS", value_parser = super::parse::parse_resistance, allow_negative_numbers = true)]
+    pub load_r: Option<f64>,
     /// One JSON object: `target` and `pairs` (rg, rf, gain, error, noise_density, load_ohm).
     #[arg(long)]
     pub json: bool,
@@ -40,6 +50,9 @@ pub fn run(args: &Args) -> Result<ExitCode> {
         topology: args.topology,
         rg_range: (args.rg_min, args.rg_max),
         count: args.count as usize,
+        source_r: args.source_r,
+        riso: args.riso,
+        load_r: args.load_r,
     };
     emit(&helper_tables::pairs_output(&q, args.json)?)
 }

@@ -51,12 +51,21 @@ pub fn parse_margin(text: &str) -> Result<f64> {
 
 /// A resistance: `1k`, `4k7`, `100kΩ`.
 pub fn parse_resistance(text: &str) -> Result<f64> {
+    let v = parse_resistance_or_zero(text)?;
+    if v <= 0.0 {
+        bail!("`{text}`: a resistance must be above 0");
+    }
+    Ok(v)
+}
+
+/// A resistance that may be 0 (none), never negative.
+pub fn parse_resistance_or_zero(text: &str) -> Result<f64> {
     let (v, unit) = parse_quantity(text)?;
     if !matches!(unit.as_str(), "" | "Ω" | "ohm" | "ohms" | "Ohm") {
         bail!("`{text}` is not a resistance: give ohms, not {unit}");
     }
-    if v <= 0.0 {
-        bail!("`{text}`: a resistance must be above 0");
+    if v < 0.0 {
+        bail!("`{text}`: a resistance cannot be below 0");
     }
     Ok(v)
 }

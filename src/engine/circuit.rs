@@ -22,6 +22,11 @@ pub const POINTS_PER_DECADE: usize = 30;
 /// frequency) is open whatever the solve gives.
 pub const ZIN_OPEN_OHM: f64 = 1.0e15;
 
+/// Below this |A·y| the loop gain is read from the passive network instead
+/// (see `Circuit::passive_loop`): the full solve keeps about 16 digits of
+/// the largest signal, so a loop gain under 1e-6 may keep fewer than ten.
+const PASSIVE_LOOP_BELOW: f64 = 1e-6;
+
 /// Everything solved at one frequency.
 #[derive(Debug, Clone, Copy)]
 pub struct Point {
@@ -188,7 +193,32 @@ impl Circuit {
         lu.solve_pair(&net.drive_rhs(), &e, &mut x, &mut w);
         let gain = Netlist::node_v(&x[..net.dim], net.out);
         let ay = net.loop_factor(s) * net.minus_vd(&w[..net.dim]);
-        (x, gain, ay / (C64::new(1.0, 0.0) - ay))
+        let loop_gain = match ay.norm() < PASSIVE_LOOP_BELOW {
+            true => self
+                .passive_loop(s)
+                .unwrap_or(ay / (C64::new(1.0, 0.0) - ay)),
+            false => ay / (C64::new(1.0, 0.0) - ay),
+        };
+        (x, gain, loop_gain)
+    }
+
+    /// The loop gain from the passive network (the amplifier's gain set to
+    /// 0): T = loop_factor · minus_vd(M₀⁻¹ e_amp). Where T is tiny, the full
+    /// matrix's amplifier entries (A/ro against a milliohm load and a
+    /// teraohm rf) swamp the pin voltage that carries it, and the
+    /// Sherman–Morrison form can return noise, even of the wrong sign; the
+    /// passive matrix has no such entries. One more factorisation, at those
+    /// points only.
+    fn passive_loop(&self, s: C64) -> Option<C64> {
+        let net = &self.net;
+        let mut m = [[ZERO; MAXN]; MAXN];
+        net.stamp_passive_into(s, &mut m);
+        let lu = Lu::factor(m, net.dim).ok()?;
+        let mut e = [ZERO; MAXN];
+        e[net.amp_row] = C64::new(1.0, 0.0);
+        let w = lu.solve(&e);
+        let t = net.loop_factor(s) * net.minus_vd(&w[..net.dim]);
+        t.is_finite().then_some(t)
     }
 
     /// Closed-loop gain and loop gain only (for the refinements), or zeros

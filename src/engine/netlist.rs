@@ -555,6 +555,19 @@ impl Netlist {
 
     /// Stamp the matrix at s into `m` (its leading `dim`×`dim` block).
     pub fn stamp_into(&self, s: C64, m: &mut Matrix, load: LoadState) {
+        self.stamp_with(s, m, load, true);
+    }
+
+    /// The same matrix with the amplifier's gain set to 0 (the passive
+    /// network the loop closes through; the controlled source's row stays,
+    /// holding the internal output at 0): its solve for a unit drive of the
+    /// amplifier row gives the return ratio T = loop_factor · minus_vd
+    /// directly, with no (1 − A·y) to divide out.
+    pub fn stamp_passive_into(&self, s: C64, m: &mut Matrix) {
+        self.stamp_with(s, m, LoadState::Attached, false);
+    }
+
+    fn stamp_with(&self, s: C64, m: &mut Matrix, load: LoadState, active: bool) {
         for row in m.iter_mut().take(self.dim) {
             row[..self.dim].fill(ZERO);
         }
@@ -599,6 +612,9 @@ impl Netlist {
         // or in Norton form the current (A/ro)·(V(+) − V(−)) into the output.
         let r = self.amp_row;
         if self.inv_ro > 0.0 {
+            if !active {
+                return;
+            }
             let g = self.loop_factor(s);
             if let Some(i) = self.sense_p {
                 m[r][i] -= g;
@@ -622,7 +638,7 @@ impl Netlist {
             if let Some(i) = self.amp_out {
                 m[r][i] += one;
             }
-            let a = self.open_loop(s);
+            let a = if active { self.open_loop(s) } else { ZERO };
             if let Some(i) = self.sense_p {
                 m[r][i] -= a;
             }

@@ -745,6 +745,64 @@ pub fn rescue_path(path: Option<&Path>, label: &str) -> PathBuf {
     }
 }
 
+/// The `n`th rescue name for a base from [`rescue_path`]: the base itself
+/// for 1, else `NAME.ron.rescue-N` / `loopwright-A.rescue-N.ron`.
+fn numbered(base: &Path, n: usize) -> PathBuf {
+    if n <= 1 {
+        return base.to_path_buf();
+    }
+    let name = base
+        .file_name()
+        .map(|x| x.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let named = match name.strip_suffix(".ron") {
+        Some(stem) => format!("{stem}-{n}.ron"),
+        None => format!("{name}-{n}"),
+    };
+    base.with_file_name(named)
+}
+
+/// Where a new rescue copy goes without replacing an older one: the first
+/// of `base`, `base-2`, `base-3`, … that does not exist.
+pub fn free_rescue_path(base: &Path) -> PathBuf {
+    (1..)
+        .map(|n| numbered(base, n))
+        .find(|p| std::fs::symlink_metadata(p).is_err())
+        .unwrap_or_else(|| base.to_path_buf())
+}
+
+/// The rescue copies an earlier run left for `base` (see
+/// [`rescue_path`]), newest first.
+pub fn rescue_files(base: &Path) -> Vec<PathBuf> {
+    let mut found: Vec<(std::time::SystemTime, PathBuf)> = Vec::new();
+    // The numbers are dense unless a copy was removed: look a little past
+    // each gap.
+    let mut misses = 0;
+    for n in 1.. {
+        let p = numbered(base, n);
+        match std::fs::metadata(&p) {
+            Ok(m) if m.is_file() => {
+                misses = 0;
+                found.push((m.modified().unwrap_or(std::time::UNIX_EPOCH), p));
+            }
+            _ => {
+                misses += 1;
+                if misses > 16 {
+                    break;
+                }
+            }
+        }
+    }
+    found.sort_by_key(|f| std::cmp::Reverse(f.0));
+    found.into_iter().map(|(_, p)| p).collect()
+}
+
+/// Whether a file exists and nobody may write it (no write bit at all):
+/// saving over it needs a yes.
+pub fn read_only(path: &Path) -> bool {
+    std::fs::metadata(path).is_ok_and(|m| m.is_file() && m.permissions().readonly())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -176,9 +176,14 @@ pub fn dc_offset(cx: &Context, w: &mut Vec<Warning>) {
     if offset <= OFFSET_WARN_SHARE * signal || cx.a.unstable() {
         return;
     }
+    // Advice names only what the stage can hold: a resistor to balance the
+    // bias currents at the + input has no place in it, so its value is
+    // given as a figure, not as the fix.
     let fix = match l.bias_balance_ohm {
         Some(r) if l.offset_from_bias_v > offset - l.offset_from_bias_v => format!(
-            "; the bias currents dominate: {} in series with the + input balances them",
+            "; the bias currents dominate: lower rf and rg, or an amplifier with a lower ib, \
+             reduce it ({} in series with the + input would balance them, a part this stage \
+             cannot hold)",
             fmt_eng(r, "Ω")
         ),
         _ => String::new(),

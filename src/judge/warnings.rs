@@ -223,26 +223,36 @@ fn divider_parts(s: &Scenario) -> Vec<String> {
 }
 
 /// The source resistance, riso or the load move the gain off 1 + rf/rg
-/// (or −rf/rg) by more than the tolerance.
+/// (or −rf/rg) by more than the tolerance. With `spec.gain_target` the
+/// network gain is held against that aim instead, so a ratio chosen to
+/// make up for the divider is not warned about.
 fn load_divider(cx: &Context, w: &mut Vec<Warning>) {
     let (a, tol) = (cx.a, cx.s.stage.tolerance);
-    let (nominal, network) = (a.nominal_gain, a.ideal_gain);
-    if !(nominal.is_finite() && network.is_finite()) || nominal == 0.0 {
-        return;
-    }
-    let change = network / nominal - 1.0;
-    if change.abs() <= tol {
+    let target = cx.s.spec.as_ref().and_then(|x| x.gain_target);
+    let (aim, network) = (target.unwrap_or(a.nominal_gain), a.ideal_gain);
+    if !(aim.is_finite() && network.is_finite()) || aim == 0.0 {
         return;
     }
     let parts = divider_parts(cx.s);
+    let change = network / aim - 1.0;
+    if change.abs() <= tol || parts.is_empty() {
+        return;
+    }
     let why = if parts.is_empty() {
         "the passive network".to_string()
     } else {
         parts.join(" and ")
     };
+    let against = match target {
+        Some(t) => format!("put the gain at {network:.4}, off the spec's target {t:.4}"),
+        None => format!(
+            "change the gain from the nominal {:.4} to {network:.4}",
+            a.nominal_gain
+        ),
+    };
     let text = format!(
-        "{why} change the gain from the nominal {nominal:.4} to {network:.4} ({:+.2} %), \
-         more than the {:.2} % tolerance; take the feedback after riso or rescale rf/rg",
+        "{why} {against} ({:+.2} %), more than the {:.2} % tolerance; rescale rf/rg for them \
+         (the r list and pairs --source-r --riso --load-r count them in)",
         change * 100.0,
         tol * 100.0
     );

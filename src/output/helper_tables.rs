@@ -16,6 +16,9 @@ fn option_name(field: QueryField) -> &'static str {
         QueryField::RgMin => "--rg-min",
         QueryField::RgMax => "--rg-max",
         QueryField::Count => "--count",
+        QueryField::SourceR => "--source-r",
+        QueryField::Riso => "--riso",
+        QueryField::LoadR => "--load-r",
     }
 }
 
@@ -27,6 +30,9 @@ fn field_value(q: &Query, field: QueryField) -> String {
         QueryField::RgMin => fmt_compact(q.rg_range.0),
         QueryField::RgMax => fmt_compact(q.rg_range.1),
         QueryField::Count => q.count.to_string(),
+        QueryField::SourceR => fmt_compact(q.source_r),
+        QueryField::Riso => fmt_compact(q.riso),
+        QueryField::LoadR => q.load_r.map_or("none".into(), fmt_compact),
     }
 }
 
@@ -82,6 +88,38 @@ pub fn aligned(header: &[&str], rows: &[Vec<String>], numbers_right: bool) -> Ve
         .collect()
 }
 
+/// What the gain column takes into account besides rf and rg, one line
+/// each (none when nothing does).
+pub fn surroundings(q: &Query) -> Vec<String> {
+    let mut lines = Vec::new();
+    if q.source_r > 0.0 {
+        lines.push(match q.series_r() > 0.0 {
+            true => format!(
+                "gain with the {} source resistance in series with rg",
+                fmt_eng(q.source_r, "Ω")
+            ),
+            false => format!(
+                "the {} source resistance does not change the gain (a non-inverting input draws no current)",
+                fmt_eng(q.source_r, "Ω")
+            ),
+        });
+    }
+    match (q.riso > 0.0, q.load_r) {
+        (true, Some(rl)) => lines.push(format!(
+            "gain at the load: riso {} into {} leaves × {}",
+            fmt_eng(q.riso, "Ω"),
+            fmt_eng(rl, "Ω"),
+            fmt_plain(q.divider(), 6)
+        )),
+        (false, Some(rl)) => lines.push(format!(
+            "the {} load does not change the gain (no riso: the feedback holds the output)",
+            fmt_eng(rl, "Ω")
+        )),
+        _ => {}
+    }
+    lines
+}
+
 /// The columns of a pairs row.
 pub const PAIR_HEADER: [&str; 6] = ["rg", "rf", "gain", "error", "noise (25 °C)", "load"];
 
@@ -106,22 +144,43 @@ pub fn pair_cells(p: &Pair) -> Vec<String> {
     ]
 }
 
-/// The columns of a stabilising option.
-pub const FIX_HEADER: [&str; 6] = ["part", "value", "margin", "peaking", "f−3dB", "Zout DC"];
+/// The columns of a stabilising option; `settling` only when the stage
+/// has a step.
+pub fn fix_header(o: &Options) -> Vec<&'static str> {
+    let mut h = vec!["part", "value", "margin", "peaking", "f−3dB", "Zout DC"];
+    if o.settle_now.is_some() {
+        h.push("settling 0.1 %");
+    }
+    h
+}
 
 fn or_none(v: Option<f64>, show: impl Fn(f64) -> String) -> String {
     v.map_or("none".into(), show)
 }
 
+/// An option's value: `10 nF → 100 fF` when it replaces a part the stage
+/// has, `100 fF (added)` when the stage has none.
+fn fix_value(f: &Fix) -> String {
+    let unit = f.part.unit();
+    match f.replaces {
+        Some(old) => format!("{} → {}", fmt_eng(old, unit), fmt_eng(f.value, unit)),
+        None => format!("{} (added)", fmt_eng(f.value, unit)),
+    }
+}
+
 pub fn fix_cells(f: &Fix) -> Vec<String> {
-    vec![
+    let mut cells = vec![
         f.part.name().into(),
-        fmt_eng(f.value, f.part.unit()),
+        fix_value(f),
         or_none(f.phase_margin_deg, |m| format!("{}°", fmt_fixed(m, 1))),
         format!("{} dB", fmt_fixed(f.peaking_db, 2)),
         or_none(f.f_3db_hz, |v| fmt_eng(v, "Hz")),
         fmt_eng(f.zout_dc_ohm, "Ω"),
-    ]
+    ];
+    if let Some(settle) = f.settle_01pct_s {
+        cells.push(or_none(settle, |t| fmt_eng(t, "s")));
+    }
+    cells
 }
 
 #[derive(Serialize)]
@@ -152,6 +211,9 @@ pub fn pairs_output(q: &Query, json: bool) -> Result<Vec<u8>> {
         fmt_eng(q.rg_range.1, "Ω"),
     );
     buf.extend_from_slice(head.as_bytes());
+    for line in surroundings(q) {
+        buf.extend_from_slice(format!("  {line}\n").as_bytes());
+    }
     let rows: Vec<Vec<String>> = found.iter().map(pair_cells).collect();
     for line in table(&PAIR_HEADER, &rows) {
         buf.extend_from_slice(format!("  {line}\n").as_bytes());
@@ -171,13 +233,22 @@ pub fn margin_now_text(o: &Options) -> String {
     let now = o
         .margin_now
         .map_or("no crossover".into(), |m| format!("{}°", fmt_fixed(m, 1)));
+    let settle = match o.settle_now {
+        Some(Some(t)) => format!(", settling to 0.1 % in {}", fmt_eng(t, "s")),
+        Some(None) => ", its step does not settle to 0.1 %".into(),
+        None => String::new(),
+    };
     if o.already_met {
         format!(
-            "no change needed: the stage already meets {}° (now {now}); added, these keep it",
+            "no change needed: the stage already meets {}° (now {now}{settle}); \
+             the options below are only the smallest values that would also meet it",
             o.target_deg
         )
     } else {
-        format!("phase margin now {now}, below the {}° target", o.target_deg)
+        format!(
+            "phase margin now {now}, below the {}° target{settle}",
+            o.target_deg
+        )
     }
 }
 
@@ -208,7 +279,7 @@ pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>
     );
     let rows: Vec<Vec<String>> = o.options.iter().map(fix_cells).collect();
     if !rows.is_empty() {
-        for line in table(&FIX_HEADER, &rows) {
+        for line in table(&fix_header(&o), &rows) {
             text.push_str(&format!("  {line}\n"));
         }
     }

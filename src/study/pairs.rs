@@ -1,6 +1,12 @@
 //! Resistor pairs for a target gain: E-series (rg, rf) pairs ranked by
 //! how close their gain comes, then by the thermal noise they add at the
 //! output, then by the load they put on it.
+//!
+//! The gain of a pair is the stage's ideal gain (an ideal amplifier) with
+//! what lies around the network: a source resistance in series with rg
+//! (inverting stage) and riso into a resistive load (a divider after the
+//! feedback point). The search aims rf at the target through them, so the
+//! pairs compensate the source and the divider.
 
 use crate::model::eseries::Series;
 use crate::model::params::{GAIN_TARGET, OHMS};
@@ -31,6 +37,14 @@ pub struct Query {
     pub rg_range: (f64, f64),
     /// How many pairs to return.
     pub count: usize,
+    /// The source resistance, Ω (0: none). In an inverting stage it is in
+    /// series with rg; a non-inverting input draws no current from it.
+    pub source_r: f64,
+    /// riso between the amplifier output (where the feedback is taken) and
+    /// the load, Ω (0: none).
+    pub riso: f64,
+    /// The load resistance, Ω (None: no resistive load).
+    pub load_r: Option<f64>,
 }
 
 impl Query {
@@ -42,6 +56,46 @@ impl Query {
             topology: Topology::NonInverting,
             rg_range: (1.0e3, 100.0e3),
             count: 10,
+            source_r: 0.0,
+            riso: 0.0,
+            load_r: None,
+        }
+    }
+
+    /// The source resistance in series with rg: the source's own in an
+    /// inverting stage, 0 otherwise.
+    pub fn series_r(&self) -> f64 {
+        match self.topology {
+            Topology::Inverting => self.source_r,
+            _ => 0.0,
+        }
+    }
+
+    /// What riso and the load leave of the output: rl/(rl + riso), 1
+    /// without both.
+    pub fn divider(&self) -> f64 {
+        match self.load_r {
+            Some(rl) if self.riso > 0.0 => rl / (rl + self.riso),
+            _ => 1.0,
+        }
+    }
+
+    /// The ideal gain magnitude of a pair with the source and the divider:
+    /// rf/(rg + rs)·d (Inverting) or (1 + rf/rg)·d.
+    pub fn gain_of(&self, rg: f64, rf: f64) -> f64 {
+        let d = self.divider();
+        match self.topology {
+            Topology::Inverting => rf / (rg + self.series_r()) * d,
+            _ => (1.0 + rf / rg) * d,
+        }
+    }
+
+    /// The rf that gives the target exactly from this rg.
+    fn ideal_rf(&self, rg: f64) -> f64 {
+        let aim = self.target / self.divider();
+        match self.topology {
+            Topology::Inverting => aim * (rg + self.series_r()),
+            _ => (aim - 1.0) * rg,
         }
     }
 }
@@ -54,6 +108,9 @@ pub enum QueryField {
     RgMin,
     RgMax,
     Count,
+    SourceR,
+    Riso,
+    LoadR,
 }
 
 /// A query that cannot be answered, and why.
@@ -87,24 +144,26 @@ pub struct Pair {
 }
 
 impl Pair {
-    /// The figures of one pair for a target gain.
-    pub fn new(topology: Topology, target: f64, rg: f64, rf: f64) -> Pair {
-        let ratio = rf / rg;
-        let (gain, load_ohm) = match topology {
+    /// The figures of one pair for a query's target, source and load.
+    pub fn new(q: &Query, rg: f64, rf: f64) -> Pair {
+        let gain = q.gain_of(rg, rf);
+        let load_ohm = match q.topology {
             // The inverting input is a virtual ground: rg loads the source,
             // only rf the output.
-            Topology::Inverting => (ratio, rf),
-            _ => (1.0 + ratio, rf + rg),
+            Topology::Inverting => rf,
+            _ => rf + rg,
         };
         let four_kt = 4.0 * BOLTZMANN * NOISE_TEMP_K;
-        // rf's own noise reaches the output at gain 1, rg's at rf/rg
-        // (Johnson–Nyquist density 4kTR each, uncorrelated).
-        let noise_density = (four_kt * rf + four_kt * rg * ratio * ratio).sqrt();
+        // rf's own noise reaches the amplifier output at gain 1, rg's at
+        // rf/(rg + rs) (rf/rg non-inverting): Johnson–Nyquist density 4kTR
+        // each, uncorrelated.
+        let rg_gain = rf / (rg + q.series_r());
+        let noise_density = (four_kt * rf + four_kt * rg * rg_gain * rg_gain).sqrt();
         Pair {
             rg,
             rf,
             gain,
-            error: (gain - target) / target,
+            error: (gain - q.target) / q.target,
             noise_density,
             load_ohm,
         }
@@ -130,7 +189,27 @@ pub fn check(q: &Query) -> Result<(), QueryProblem> {
     if !(q.target.is_finite() && q.target > 0.0) {
         return fail(QueryField::Target, "must be above 0 (give the magnitude)");
     }
-    if q.topology == Topology::NonInverting && q.target <= 1.0 {
+    for (field, r) in [
+        (QueryField::SourceR, q.source_r),
+        (QueryField::Riso, q.riso),
+    ] {
+        if !(r.is_finite() && (0.0..=OHMS.1).contains(&r)) {
+            return Err(problem(
+                field,
+                format!("must be 0 to {}", fmt_eng(OHMS.1, "Ω")),
+            ));
+        }
+    }
+    if let Some(m) = q.load_r.and_then(outside_ohms) {
+        return Err(problem(QueryField::LoadR, m));
+    }
+    if q.topology == Topology::NonInverting && q.target / q.divider() <= 1.0 {
+        if q.divider() < 1.0 {
+            return fail(
+                QueryField::Target,
+                "must be above 1 after riso and the load (the stage's gain is (1 + rf/rg) × rl/(rl + riso))",
+            );
+        }
         return fail(
             QueryField::Target,
             "must be above 1 for a non-inverting stage (its gain is 1 + rf/rg)",
@@ -181,9 +260,8 @@ fn outside_ohms(r: f64) -> Option<String> {
 /// range (every row would be rf's end of the range, far off the gain).
 fn reachable(q: &Query) -> Result<(), QueryProblem> {
     let (lo, hi) = q.rg_range;
-    let ratio = ideal_ratio(q);
     let (rf_lo, rf_hi) = RF_RANGE;
-    if lo * ratio > rf_hi || hi * ratio < rf_lo {
+    if q.ideal_rf(lo) > rf_hi || q.ideal_rf(hi) < rf_lo {
         return Err(problem(
             QueryField::Target,
             format!(
@@ -196,14 +274,6 @@ fn reachable(q: &Query) -> Result<(), QueryProblem> {
         ));
     }
     Ok(())
-}
-
-/// rf/rg for the target: the gain (Inverting) or the gain − 1.
-fn ideal_ratio(q: &Query) -> f64 {
-    match q.topology {
-        Topology::Inverting => q.target,
-        _ => q.target - 1.0,
-    }
 }
 
 /// The ranking: |error| ascending, where a run of errors each within
@@ -247,15 +317,14 @@ fn nearest(rf: &[f64], ideal: f64, n: usize) -> &[f64] {
 pub fn find(q: &Query) -> Result<Vec<Pair>, QueryProblem> {
     check(q)?;
     let rf_values = q.series.values_between(RF_RANGE.0, RF_RANGE.1);
-    let ratio = ideal_ratio(q);
     let mut pairs: Vec<Pair> = q
         .series
         .values_between(q.rg_range.0, q.rg_range.1)
         .into_iter()
         .flat_map(|rg| {
-            nearest(&rf_values, rg * ratio, q.count)
+            nearest(&rf_values, q.ideal_rf(rg), q.count)
                 .iter()
-                .map(move |&rf| Pair::new(q.topology, q.target, rg, rf))
+                .map(move |&rf| Pair::new(q, rg, rf))
         })
         .collect();
     rank(&mut pairs);

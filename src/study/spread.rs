@@ -360,6 +360,12 @@ pub fn spread(s: &Scenario, run: &Run) -> SpreadResult {
     spread_on(rayon::ThreadPoolBuilder::new().build(), s, run)
 }
 
+/// The spread on a pool that outlives it (the workbench keeps one for
+/// all its jobs, so a new job starts no threads).
+pub fn spread_in(pool: &rayon::ThreadPool, s: &Scenario, run: &Run) -> SpreadResult {
+    pool.install(|| spread_here(s, run))
+}
+
 /// The spread on `pool`. When there is none (a
 /// process limit leaves no threads to start), the spread runs on the
 /// calling thread alone: the same result (each trial's draws depend only

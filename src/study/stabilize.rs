@@ -49,6 +49,14 @@ impl Part {
         }
     }
 
+    /// The part's value in the stage as it is (None: absent).
+    pub fn present(self, s: &Scenario) -> Option<f64> {
+        match self {
+            Part::Riso => s.stage.riso,
+            Part::Cf => s.stage.cf,
+        }
+    }
+
     /// The stage with this part set to `value` (the other part as it was).
     pub fn applied(self, s: &Scenario, value: f64) -> Scenario {
         let mut out = s.clone();
@@ -70,10 +78,18 @@ pub struct Fix {
     pub peaking_db: f64,
     pub f_3db_hz: Option<f64>,
     pub zout_dc_ohm: f64,
+    /// The value of the part the stage has now, which the option replaces
+    /// (absent: the option adds the part).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub replaces: Option<f64>,
+    /// The 0.1 % settling time of the stage's step with the option (only
+    /// when the stage has a `step`; None there: it does not settle).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub settle_01pct_s: Option<Option<f64>>,
 }
 
 impl Fix {
-    fn new(part: Part, value: f64, a: &Analysis) -> Fix {
+    fn new(s: &Scenario, part: Part, value: f64, a: &Analysis) -> Fix {
         Fix {
             part,
             value,
@@ -81,6 +97,8 @@ impl Fix {
             peaking_db: a.peaking_db,
             f_3db_hz: a.f_3db_hz,
             zout_dc_ohm: a.zout_dc_ohm,
+            replaces: part.present(s),
+            settle_01pct_s: s.step.as_ref().map(|_| a.step.settle_s[1]),
         }
     }
 }
@@ -91,6 +109,9 @@ pub struct Options {
     pub target_deg: f64,
     /// The stage's own phase margin (None: no crossover).
     pub margin_now: Option<f64>,
+    /// The stage's own 0.1 % settling time, when it has a `step` (inner
+    /// None: it does not settle).
+    pub settle_now: Option<Option<f64>>,
     /// Whether the stage as it is already meets the target.
     pub already_met: bool,
     /// riso first, then cf (where the topology has rf); only parts for
@@ -152,7 +173,7 @@ pub fn smallest(s: &Scenario, part: Part, target_deg: f64) -> Option<Fix> {
         let trial = part.applied(s, v);
         trial.validate().ok()?;
         let a = analyze(&trial);
-        meets(&a, target_deg).then(|| Fix::new(part, v, &a))
+        meets(&a, target_deg).then(|| Fix::new(s, part, v, &a))
     })
 }
 
@@ -172,6 +193,7 @@ pub fn options(s: &Scenario, target_deg: f64) -> anyhow::Result<Options> {
     let mut out = Options {
         target_deg,
         margin_now: now.phase_margin_deg,
+        settle_now: s.step.as_ref().map(|_| now.step.settle_s[1]),
         already_met: meets(&now, target_deg),
         options: Vec::new(),
         misses: Vec::new(),

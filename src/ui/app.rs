@@ -136,6 +136,30 @@ pub struct Archetype {
     pub amp: Amp,
 }
 
+/// Which amplifier fields an archetype changed, by their labels: those
+/// set (new or different) and those cleared; "nothing changed" when none.
+pub fn archetype_changes(before: &Scenario, after: &Scenario) -> String {
+    let (mut set, mut cleared) = (Vec::new(), Vec::new());
+    for p in PARAMS.iter().filter(|p| p.path.starts_with("amp.")) {
+        match (p.get(before), p.get(after)) {
+            (a, b) if a == b => {}
+            (Some(_), None) => cleared.push(p.label),
+            _ => set.push(p.label),
+        }
+    }
+    let mut parts = Vec::new();
+    if !set.is_empty() {
+        parts.push(format!("set {}", set.join(", ")));
+    }
+    if !cleared.is_empty() {
+        parts.push(format!("cleared {}", cleared.join(", ")));
+    }
+    match parts.is_empty() {
+        true => "nothing changed".into(),
+        false => parts.join("; "),
+    }
+}
+
 pub const ARCHETYPES_RON: &str = include_str!("../../assets/amps.ron");
 
 /// The archetype library shipped in assets/.
@@ -206,6 +230,8 @@ pub enum Mode {
 pub enum SaveAsk {
     /// Save-as onto a file that exists.
     Overwrite,
+    /// The file is read-only (no write permission for anyone).
+    ReadOnly,
     /// The file changed on disk since it was loaded or saved.
     Changed,
     /// Comments other than the leading ones cannot be kept.
@@ -217,7 +243,8 @@ pub enum SaveAsk {
 impl SaveAsk {
     fn next(self) -> SaveAsk {
         match self {
-            SaveAsk::Overwrite => SaveAsk::Changed,
+            SaveAsk::Overwrite => SaveAsk::ReadOnly,
+            SaveAsk::ReadOnly => SaveAsk::Changed,
             SaveAsk::Changed => SaveAsk::Comments,
             SaveAsk::Comments | SaveAsk::Write => SaveAsk::Write,
         }
@@ -264,6 +291,8 @@ pub struct App {
     pub full_range: bool,
     /// The spread view's background Monte Carlo of the edited stage.
     pub spread: super::spread_job::SpreadJob,
+    /// The rescue copies found at start, listed first by `o`.
+    pub rescued: Vec<PathBuf>,
 }
 
 /// A copy's title: the original's with the slot it came from, once.
@@ -282,7 +311,16 @@ pub fn scenario_files() -> Vec<PathBuf> {
         if let Ok(rd) = std::fs::read_dir(&dir) {
             let mut v: Vec<PathBuf> = rd
                 .filter_map(|e| e.ok().map(|e| e.path()))
-                .filter(|p| p.extension().and_then(|e| e.to_str()) == Some("ron"))
+                .filter(|p| {
+                    // Stage files, and the rescue copies of one
+                    // (`s.ron.rescue`, `s.ron.rescue-2`).
+                    let name = p
+                        .file_name()
+                        .map(|n| n.to_string_lossy())
+                        .unwrap_or_default();
+                    p.extension().and_then(|e| e.to_str()) == Some("ron")
+                        || name.contains(".ron.rescue")
+                })
                 .collect();
             v.sort();
             out.extend(v);
@@ -329,6 +367,7 @@ impl App {
             show_phase: false,
             full_range: false,
             spread: Default::default(),
+            rescued: Vec::new(),
         }
     }
 
@@ -628,8 +667,14 @@ impl App {
             Action::Save => self.save(),
             Action::SaveAs => self.start_save_as(),
             Action::Open => {
+                let mut files = self.rescued.clone();
+                files.extend(
+                    scenario_files()
+                        .into_iter()
+                        .filter(|f| !self.rescued.contains(f)),
+                );
                 self.mode = Mode::Open {
-                    files: scenario_files(),
+                    files,
                     selected: 0,
                     typed: Field::default(),
                 };
@@ -772,6 +817,27 @@ impl App {
         self.info("save as: type a path (.ron is added); Enter saves, Esc cancels");
     }
 
+    /// At start: name the rescue copies an earlier run left for the stages
+    /// opened (or, for a stage without a file, in the current folder),
+    /// newest first; `o` lists them to open. True when there were some.
+    pub fn offer_rescues(&mut self) -> bool {
+        let mut found = Vec::new();
+        for (i, slot) in self.slots.iter().enumerate() {
+            let base = storage::rescue_path(slot.path.as_deref(), Self::slot_label(i));
+            found.extend(storage::rescue_files(&base));
+        }
+        if found.is_empty() {
+            return false;
+        }
+        let names: Vec<String> = found.iter().map(|p| p.display().to_string()).collect();
+        self.rescued = found;
+        self.info(format!(
+            "an earlier run left unsaved changes in {} (newest first): o lists them to open",
+            names.join(", ")
+        ));
+        true
+    }
+
     fn start_pick(&mut self) {
         if self.archetypes.is_empty() {
             self.error("no amplifier archetypes found");
@@ -817,30 +883,18 @@ impl App {
             return;
         };
         self.archetype = i;
-        self.change("amplifier", |s| {
-            // The archetypes give no signal limits: the stage keeps its own.
-            let old = std::mem::replace(&mut s.amp, arch.amp.clone());
-            let a = &mut s.amp;
-            for (new, was) in [
-                (&mut a.vos, old.vos),
-                (&mut a.vos_drift, old.vos_drift),
-                (&mut a.ib, old.ib),
-                (&mut a.ios, old.ios),
-                (&mut a.slew, old.slew),
-                (&mut a.swing_neg, old.swing_neg),
-                (&mut a.swing_pos, old.swing_pos),
-                (&mut a.swing_load, old.swing_load),
-                (&mut a.ib_doubling, old.ib_doubling),
-                (&mut a.cm_neg, old.cm_neg),
-                (&mut a.cm_pos, old.cm_pos),
-                (&mut a.iout, old.iout),
-            ] {
-                *new = new.or(was);
-            }
+        let before = self.slot().scenario.clone();
+        // Every amplifier field is the archetype's: what it gives is set,
+        // what it leaves out is cleared (no field of the old part stays).
+        if !self.apply_change("amplifier", |s| {
+            s.amp = arch.amp.clone();
             Ok(())
-        });
+        }) {
+            return;
+        }
+        let what = archetype_changes(&before, &self.slot().scenario);
         self.info(format!(
-            "{}: amplifier set to the {} archetype (typical values; every parameter stays editable)",
+            "{}: amplifier set to the {} archetype (typical values, every one editable): {what}",
             Self::slot_label(self.active),
             arch.name
         ));
@@ -918,7 +972,17 @@ impl App {
             self.error("no path given: not saved");
             return;
         }
-        let mut p = PathBuf::from(t);
+        // A folder is no file name: `.ron` added to it would make a hidden
+        // `dir/.ron`.
+        let as_typed = PathBuf::from(t);
+        if t.ends_with('/') || as_typed.is_dir() || as_typed.file_name().is_none() {
+            self.error(format!(
+                "could not save {t}: it is a folder; type a file name in it (for example {})",
+                as_typed.join("stage.ron").display()
+            ));
+            return;
+        }
+        let mut p = as_typed;
         if p.extension().and_then(|e| e.to_str()) != Some("ron") {
             p = PathBuf::from(format!("{t}.ron"));
         }
@@ -940,6 +1004,11 @@ impl App {
         let shown = p.display();
         let ask = if from <= SaveAsk::Overwrite && !same_file && p.is_file() {
             Some((SaveAsk::Overwrite, format!("{shown} exists: overwrite it?")))
+        } else if from <= SaveAsk::ReadOnly && storage::read_only(p) {
+            Some((
+                SaveAsk::ReadOnly,
+                format!("{shown} is read-only: overwrite it anyway (it stays read-only)?"),
+            ))
         } else if from <= SaveAsk::Changed
             && same_file
             && slot.original.as_ref().is_some_and(|o| o.changed_on_disk(p))

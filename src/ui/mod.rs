@@ -152,6 +152,9 @@ fn write_rescue_files(items: &[Rescue]) -> Vec<String> {
         let written = r
             .paths
             .iter()
+            // A new copy never replaces an older one: the first free
+            // numbered name.
+            .map(|p| storage::free_rescue_path(p))
             .find(|p| match storage::write_atomic(p, &r.text) {
                 Ok(_) => true,
                 Err(e) => {
@@ -329,6 +332,7 @@ pub fn run(stages: Vec<Opened>, looks: Looks) -> Result<ExitCode> {
         bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
     }
     let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
+    app.offer_rescues();
     let signal = Arc::new(AtomicUsize::new(0));
     for sig in STOP_SIGNALS {
         signal_hook::flag::register_usize(sig, Arc::clone(&signal), sig as usize)?;

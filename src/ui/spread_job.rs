@@ -6,7 +6,7 @@
 //! trials; `loopwright spread` runs them all.
 
 use crate::model::Scenario;
-use crate::study::spread::{spread, trials_of, Run, SpreadResult};
+use crate::study::spread::{spread, spread_in, trials_of, Run, SpreadResult};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::mpsc::{channel, Receiver};
 use std::sync::Arc;
@@ -34,6 +34,11 @@ pub struct SpreadJob {
     seen: usize,
     /// The job's thread, joined before the next one starts.
     thread: Option<JoinHandle<()>>,
+    /// The trials' thread pool, made by the first job and kept for every
+    /// later one: jobs start no worker threads of their own, so thousands
+    /// of jobs leave the memory as they found it (new threads each time
+    /// left the allocator's per-thread heaps growing).
+    pool: Option<Arc<rayon::ThreadPool>>,
 }
 
 impl SpreadJob {
@@ -59,17 +64,24 @@ impl SpreadJob {
         self.rx = Some(rx);
         let s = s.clone();
         let trials = Some(self.total as u32);
+        if self.pool.is_none() {
+            self.pool = rayon::ThreadPoolBuilder::new().build().ok().map(Arc::new);
+        }
+        let pool = self.pool.clone();
         self.thread = Some(std::thread::spawn(move || {
             let progress = |n: usize| done.store(n, Ordering::Relaxed);
-            let r = spread(
-                &s,
-                &Run {
-                    trials,
-                    progress: Some(&progress),
-                    cancel: Some(&cancel),
-                    ..Run::default()
-                },
-            );
+            let run = Run {
+                trials,
+                progress: Some(&progress),
+                cancel: Some(&cancel),
+                ..Run::default()
+            };
+            // Without a pool of our own (no threads could be started), the
+            // spread finds its own way, down to this thread alone.
+            let r = match &pool {
+                Some(pool) => spread_in(pool, &s, &run),
+                None => spread(&s, &run),
+            };
             if !cancel.load(Ordering::Relaxed) {
                 let _ = tx.send(r);
             }
@@ -83,6 +95,7 @@ impl SpreadJob {
         self.rx = None;
         if let Some(t) = self.thread.take() {
             let _ = t.join();
+            give_back();
         }
     }
 
@@ -92,6 +105,7 @@ impl SpreadJob {
         if let Some(r) = self.rx.as_ref().and_then(|rx| rx.try_recv().ok()) {
             self.result = Some(r);
             self.rx = None;
+            give_back();
             return true;
         }
         let n = self.done();
@@ -116,6 +130,19 @@ impl SpreadJob {
     /// Trials finished so far.
     pub fn done(&self) -> usize {
         self.done.load(Ordering::Relaxed)
+    }
+}
+
+/// Hand the memory a finished or cancelled job freed back to the system.
+/// The allocator keeps freed memory in the heap of the thread that used
+/// it, and the job's threads each have one: without this, thousands of
+/// jobs left the workbench's resident size growing (6.7 to 16.8 MB over
+/// 20,000 keys) though what it holds stayed under 1 MB.
+fn give_back() {
+    #[cfg(all(target_os = "linux", target_env = "gnu"))]
+    // SAFETY: malloc_trim only releases free pages; it takes no pointers.
+    unsafe {
+        libc::malloc_trim(0);
     }
 }
 

@@ -1393,7 +1393,9 @@ fn open_overlay(
 /// one highlighted, scrolled into view) and a dim note under them. The
 /// archetype picker and the design helpers' lists share it.
 fn list_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: ListView) {
-    let extra = 3 + u16::from(!list.header.is_empty());
+    // The note wraps at word boundaries inside the box (2 border, 2 indent).
+    let note = wrap_words(list.note, 76.min(area.width).saturating_sub(4) as usize);
+    let extra = 2 + note.len() as u16 + u16::from(!list.header.is_empty());
     let h = (list.rows.len() as u16 + extra).min(area.height.saturating_sub(2));
     let r = centered(area, 76, h);
     Clear.render(r, buf);
@@ -1405,7 +1407,7 @@ fn list_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: 
         lines.push(Line::styled(format!("  {}", list.header), app.theme.dim));
     }
     let room = (inner.height as usize)
-        .saturating_sub(lines.len() + 1)
+        .saturating_sub(lines.len() + note.len())
         .max(1);
     let start = list.selected.saturating_sub(room - 1);
     for (i, row) in list.rows.iter().enumerate().skip(start).take(room) {
@@ -1416,8 +1418,29 @@ fn list_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: 
         };
         lines.push(Line::styled(format!("  {row}"), style));
     }
-    lines.push(Line::styled(format!("  {}", list.note), app.theme.dim));
+    for part in note {
+        lines.push(Line::styled(format!("  {part}"), app.theme.dim));
+    }
     Paragraph::new(lines).render(inner, buf);
+}
+
+/// Text broken at spaces into lines of at most `width` characters (a word
+/// longer than that gets a line of its own); at least one line.
+pub fn wrap_words(text: &str, width: usize) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    let mut line = String::new();
+    for word in text.split(' ').filter(|w| !w.is_empty()) {
+        let need = line.chars().count() + usize::from(!line.is_empty()) + word.chars().count();
+        if !line.is_empty() && need > width.max(1) {
+            out.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    out.push(line);
+    out
 }
 
 /// What [`list_overlay`] draws.

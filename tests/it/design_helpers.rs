@@ -57,15 +57,29 @@ fn pair_noise(rg: f64, rf: f64) -> f64 {
 /// load; the best `count`.
 fn brute_force(q: &Query) -> Vec<Row> {
     let mut rows: Vec<Row> = Vec::new();
+    // Textbook: riso into rl after the feedback point is a plain divider
+    // rl/(rl + riso); an inverting stage's source resistance adds to rg
+    // (series resistors into a virtual ground), a non-inverting input
+    // draws no current from it.
+    let d = match q.load_r {
+        Some(rl) if q.riso > 0.0 => rl / (rl + q.riso),
+        _ => 1.0,
+    };
     for rg in series_values(q.series, q.rg_range.0, q.rg_range.1) {
         for rf in series_values(q.series, 1.0, 10.0e6) {
-            let (gain, load) = match q.topology {
+            let (gain, load, noise) = match q.topology {
                 // Virtual ground at the inverting input: only rf loads the output.
-                Topology::Inverting => (rf / rg, rf),
-                _ => (1.0 + rf / rg, rf + rg),
+                Topology::Inverting => {
+                    let rs = q.source_r;
+                    let four_kt = 4.0 * K_B * T_25C;
+                    // rg's noise current through rg + rs into rf.
+                    let noise = (four_kt * rf + four_kt * rg * (rf / (rg + rs)).powi(2)).sqrt();
+                    (rf / (rg + rs) * d, rf, noise)
+                }
+                _ => ((1.0 + rf / rg) * d, rf + rg, pair_noise(rg, rf)),
             };
             let error = (gain - q.target) / q.target;
-            rows.push((rg, rf, gain, error, pair_noise(rg, rf), load));
+            rows.push((rg, rf, gain, error, noise, load));
         }
     }
     rows.sort_by(|a, b| a.3.abs().total_cmp(&b.3.abs()));
@@ -118,6 +132,97 @@ fn pairs_agree_with_a_brute_force_search() {
         ..Query::new(3.0)
     };
     check_against_brute_force(&one_rg);
+}
+
+#[test]
+fn pairs_count_in_the_source_resistance_and_the_load_divider() {
+    for series in [Series::E24, Series::E96] {
+        for (topology, target) in [(Topology::Inverting, 4.7), (Topology::NonInverting, 11.0)] {
+            for (source_r, riso, load_r) in [
+                (600.0, 0.0, None),
+                (50.0, 100.0, Some(1e3)),
+                (0.0, 49.9, Some(600.0)),
+                (0.0, 0.0, Some(1e3)),
+            ] {
+                let q = Query {
+                    series,
+                    topology,
+                    source_r,
+                    riso,
+                    load_r,
+                    ..Query::new(target)
+                };
+                check_against_brute_force(&q);
+            }
+        }
+    }
+    // The issue's case: −47k/(10k + 600) = −4.434, 5.7 % short of 4.7, so
+    // 10k/47k may not lead the list at 0 % with a 600 Ω source.
+    let out = stdout_of(&[
+        "pairs",
+        "4.7",
+        "--topology",
+        "Inverting",
+        "--source-r",
+        "600",
+    ]);
+    assert!(
+        out.contains("600 Ω source resistance in series with rg"),
+        "{out}"
+    );
+    let first = out.lines().nth(3).unwrap();
+    assert!(!first.contains("10 kΩ  47 kΩ"), "{out}");
+    let v = json_of(&[
+        "pairs",
+        "4.7",
+        "--topology",
+        "Inverting",
+        "--source-r",
+        "600",
+        "--json",
+    ]);
+    for r in v["pairs"].as_array().unwrap() {
+        let (rg, rf) = (r["rg"].as_f64().unwrap(), r["rf"].as_f64().unwrap());
+        assert_rel(
+            "gain with the source",
+            r["gain"].as_f64().unwrap(),
+            rf / (rg + 600.0),
+            1e-12,
+        );
+    }
+    // riso 100 Ω into 1 kΩ: the gain at the load, × 1000/1100.
+    let out = stdout_of(&["pairs", "2", "--riso", "100", "--load-r", "1k"]);
+    assert!(out.contains("× 0.909091"), "{out}");
+    let err = failure(&["pairs", "2", "--source-r", "-5"]);
+    assert!(err.contains("--source-r"), "{err}");
+}
+
+#[test]
+fn r_list_uses_the_stage_source_and_load() {
+    // An inverting stage behind a 600 Ω source with a spec target of −4.7:
+    // the list offers 4.7 and every row's gain is −rf/(rg + 600) in size.
+    let mut s = plain(Topology::Inverting, 10e3, 47e3);
+    s.source.r = 600.0;
+    s.spec = Some(loopwright::model::scenario::Spec {
+        gain_target: Some(-4.7),
+        ..Default::default()
+    });
+    let mut app = app_on(s);
+    press(&mut app, KeyCode::Char('r'), 1);
+    press(&mut app, KeyCode::Enter, 1);
+    let Mode::Choose(list) = &app.mode else {
+        panic!("no list: {:?}", app.status)
+    };
+    assert!(list.title.contains("gain 4.7 "), "{}", list.title);
+    assert!(list.note.contains("600 Ω source"), "{}", list.note);
+    let first = list.picks[0];
+    let loopwright::ui::app::Pick::Pair { rg, rf } = first else {
+        panic!("{first:?}")
+    };
+    assert!(
+        (rf / (rg + 600.0) / 4.7 - 1.0).abs() < 0.01,
+        "rg {rg} rf {rf}"
+    );
 }
 
 fn check_against_brute_force(q: &Query) {
@@ -538,4 +643,97 @@ fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
     assert!(stabilize::meets(&a, 89.0));
     let o = stabilize::options(&s, 60.0).unwrap();
     assert!(o.already_met && o.margin_now.is_none(), "{o:?}");
+}
+
+/// The issue's kind of stage: a stable gain-11 stage whose cf is a
+/// deliberate 10 nF filter (f−3dB ≈ 1/(2π·rf·cf) = 1.59 kHz with rf
+/// 10 kΩ, textbook RC pole), with a step to settle. Its loop has one
+/// amplifier pole and a zero from cf: far above 60° of margin.
+fn filtered_preamp() -> Scenario {
+    let mut s = in_range(plain(Topology::NonInverting, 1e3, 10e3));
+    s.stage.cf = Some(10e-9);
+    s.step = Some(loopwright::model::scenario::Step { size: 0.01 });
+    s
+}
+
+#[test]
+fn stabilize_names_the_part_it_replaces_and_each_options_settling() {
+    let s = filtered_preamp();
+    let o = stabilize::options(&s, 60.0).unwrap();
+    assert!(o.already_met, "{o:?}");
+    let cf = o.options.iter().find(|f| f.part == Part::Cf).unwrap();
+    assert_eq!(cf.replaces, Some(10e-9));
+    let riso = o.options.iter().find(|f| f.part == Part::Riso).unwrap();
+    assert_eq!(riso.replaces, None);
+    // Each option's settling is that of the stage with the option (its
+    // step solved again here through the engine's own analysis of the
+    // modified stage, which tests/it/step_response.rs checks against
+    // closed forms).
+    for f in &o.options {
+        let a = analyze(&with_part(&s, f.part, f.value));
+        assert_eq!(f.settle_01pct_s, Some(a.step.settle_s[1]), "{f:?}");
+    }
+    // The text: the verdict first, then the table with the old → new
+    // value and a settling column.
+    let dir = std::env::temp_dir().join(format!("lw-stab-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("filtered.ron");
+    std::fs::write(&path, ron::ser::to_string(&s).unwrap()).unwrap();
+    let out = stdout_of(&["stabilize", path.to_str().unwrap()]);
+    let lines: Vec<&str> = out.lines().collect();
+    assert!(lines[1].contains("no change needed"), "{out}");
+    assert!(lines[2].contains("settling 0.1 %"), "{out}");
+    assert!(out.contains("10 nF →"), "{out}");
+    assert!(out.contains("(added)"), "{out}");
+    let v = json_of(&["stabilize", path.to_str().unwrap(), "--json"]);
+    let cf_row = v["options"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|r| r["part"] == "cf")
+        .unwrap();
+    assert_eq!(cf_row["replaces"], 10e-9);
+    assert!(cf_row["settle_01pct_s"].is_number(), "{cf_row}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn m_says_first_that_the_stage_already_meets_the_target_and_wraps_its_note() {
+    let mut a = app_on(filtered_preamp());
+    a.on_key(key(KeyCode::Char('m')));
+    let Mode::Choose(list) = &a.mode else {
+        panic!("{}", a.status)
+    };
+    assert!(list.title.contains("Already meets 60°"), "{}", list.title);
+    assert!(list.header.contains("settling"), "{}", list.header);
+    assert!(
+        list.rows.iter().any(|r| r.contains("10 nF →")),
+        "{:?}",
+        list.rows
+    );
+    // The note is longer than the 76-column box: all of it is on screen,
+    // word after word over the lines under the rows.
+    assert!(list.note.chars().count() > 72, "{}", list.note);
+    let text = screen_at(&a, 80, 30);
+    let first_words: String = list.note.split(' ').take(3).collect::<Vec<_>>().join(" ");
+    let lines: Vec<&str> = text.lines().collect();
+    let at = lines.iter().position(|l| l.contains(&first_words)).unwrap();
+    // The box's inner text from the note's column, 72 characters wide
+    // (76 less two borders and the two-space indent).
+    let col = lines[at][..lines[at].find(&first_words).unwrap()]
+        .chars()
+        .count();
+    let inside: Vec<String> = lines[at..]
+        .iter()
+        .map(|l| {
+            l.chars()
+                .skip(col)
+                .take(72)
+                .collect::<String>()
+                .trim()
+                .to_string()
+        })
+        .collect();
+    let joined = inside.join(" ");
+    assert!(joined.contains(&list.note), "{text}");
 }

@@ -260,3 +260,33 @@ fn crossover_helper_finds_a_known_root() {
     // |1e6/(jf)| = 1 at f = 1e6.
     assert_rel("root", unity_crossing(1.0, 1e9, |f| 1e6 / f), 1e6, 1e-12);
 }
+
+#[test]
+fn dc_loop_gain_holds_its_digits_at_the_ends_of_the_accepted_ranges() {
+    // Textbook return ratio at DC of a stage with a Thevenin output (a0
+    // behind ro), no input current (no rin) and an ideal source: the
+    // output divider RL‖(rf + rg) against ro, then the feedback divider
+    // rg/(rg + rf) — the same for both topologies with the source at 0 V.
+    // At rg 1 mΩ, rf 10 TΩ and a 1 mΩ load it is ~1e-16, and must keep
+    // its sign and its digits (issue 25: it read −1.1e-17).
+    let (lo, hi) = (1e-3, 1e13); // README "Accepted ranges": 1 mΩ to 10 TΩ
+    for topology in [Topology::NonInverting, Topology::Inverting] {
+        for ro in [1e-3, 1.0, 100.0, 1e6] {
+            for rl in [lo, 1e3, hi] {
+                for (rg, rf) in [(lo, hi), (hi, lo), (lo, lo), (1e3, hi)] {
+                    let mut s = plain(topology, rg, rf);
+                    s.amp.ro = ro;
+                    s.load.r = Some(rl);
+                    let a0 = s.amp.a0;
+                    let rpar = 1.0 / (1.0 / rl + 1.0 / (rf + rg));
+                    let want = a0 * rpar / (ro + rpar) * rg / (rg + rf);
+                    let got = loopwright::engine::analyze(&s).loop_gain_dc;
+                    assert!(
+                        got > 0.0 && (got / want - 1.0).abs() < 1e-4,
+                        "{topology:?} rg {rg} rf {rf} rl {rl} ro {ro}: {got} vs {want}"
+                    );
+                }
+            }
+        }
+    }
+}

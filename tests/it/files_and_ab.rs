@@ -518,3 +518,91 @@ fn opening_a_fifo_in_the_workbench_is_refused_without_blocking() {
     assert_eq!(a.slot().scenario, loopwright::files::load::demo());
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn a_read_only_file_is_not_overwritten_without_asking() {
+    use std::os::unix::fs::PermissionsExt;
+    let d = temp_dir("ask-readonly");
+    let p = d.join("s.ron");
+    std::fs::write(&p, loopwright::files::load::DEMO_RON).unwrap();
+    // chmod 444: no write bit for anyone (POSIX mode bits).
+    std::fs::set_permissions(&p, std::fs::Permissions::from_mode(0o444)).unwrap();
+    let mut a = App::new(
+        vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
+        Theme::new(false, false),
+    );
+    a.on_key(key(KeyCode::Right));
+    a.on_key(key(KeyCode::Char('s')));
+    assert!(a.status.contains("read-only"), "{}", a.status);
+    a.on_key(key(KeyCode::Char('n')));
+    assert_eq!(
+        std::fs::read_to_string(&p).unwrap(),
+        loopwright::files::load::DEMO_RON
+    );
+    assert!(a.slot().dirty);
+    a.on_key(key(KeyCode::Char('s')));
+    a.on_key(key(KeyCode::Char('y')));
+    assert_eq!(Scenario::load(&p).unwrap(), a.slot().scenario);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn save_as_to_a_folder_is_refused_not_a_hidden_file() {
+    let d = temp_dir("saveas-dir");
+    let mut a = demo_app(None);
+    a.on_key(key(KeyCode::Right));
+    for typed in [format!("{}/", d.display()), d.display().to_string()] {
+        save_as(&mut a, Path::new(&typed));
+        assert!(a.status.contains("is a folder"), "{typed}: {}", a.status);
+        assert!(a.status.contains("could not save"), "{typed}: {}", a.status);
+        assert!(!d.join(".ron").exists(), "{typed}");
+        assert!(a.slot().dirty);
+    }
+    assert_eq!(std::fs::read_dir(&d).unwrap().count(), 0);
+    std::fs::remove_dir_all(&d).ok();
+}
+
+#[test]
+fn rescue_copies_are_numbered_and_offered_at_the_next_start() {
+    use loopwright::files::storage::{free_rescue_path, rescue_files, rescue_path};
+    let d = temp_dir("rescue-numbers");
+    let p = d.join("s.ron");
+    std::fs::write(&p, loopwright::files::load::DEMO_RON).unwrap();
+    let base = rescue_path(Some(&p), "A");
+    // Three rescues in a row: none replaces an earlier one.
+    let mut written = Vec::new();
+    for i in 0..3 {
+        let r = free_rescue_path(&base);
+        assert!(!r.exists(), "{}", r.display());
+        std::fs::write(&r, format!("// rescue {i}\n")).unwrap();
+        written.push(r);
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    assert_eq!(written[0], base);
+    for (i, r) in written.iter().enumerate() {
+        assert_eq!(
+            std::fs::read_to_string(r).unwrap(),
+            format!("// rescue {i}\n")
+        );
+    }
+    // Found newest first, and offered when the stage is opened again;
+    // `o` lists them first.
+    let found = rescue_files(&base);
+    assert_eq!(found, written.iter().rev().cloned().collect::<Vec<_>>());
+    let mut a = App::new(
+        vec![(Scenario::load(&p).unwrap(), Some(p.clone()))],
+        Theme::new(false, false),
+    );
+    assert!(a.offer_rescues());
+    for r in &written {
+        assert!(a.status.contains(&r.display().to_string()), "{}", a.status);
+    }
+    a.on_key(key(KeyCode::Char('o')));
+    match &a.mode {
+        loopwright::ui::app::Mode::Open { files, .. } => {
+            assert_eq!(&files[..3], &found[..]);
+        }
+        m => panic!("{m:?}"),
+    }
+    std::fs::remove_dir_all(&d).ok();
+}

@@ -197,3 +197,41 @@ fn note_holds_the_spec_and_its_yield() {
     // Without a spec, no such section.
     assert!(!stdout_of(&["report", &scenario("mic_preamp.ron"), "--md"]).contains("## Spec"));
 }
+
+#[test]
+fn every_page_the_manual_names_is_written_by_manual_dir() {
+    // man(7): a reference `name(1)` names a page of section 1; each page
+    // has a `.TH NAME 1` title line. Every reference of the main page must
+    // be a page `manual --dir` writes.
+    let man = stdout_of(&["manual"]);
+    let named: Vec<String> = man
+        .lines()
+        .filter_map(|l| l.strip_suffix("(1)"))
+        .map(|n| n.replace("\\-", "-"))
+        .collect();
+    assert!(named.len() >= 7, "{man}");
+    let dir = temp_dir("manual-dir");
+    let d = dir.join("pages");
+    let r = run(&["manual", "--dir", d.to_str().unwrap()]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    assert!(d.join("loopwright.1").is_file());
+    for n in &named {
+        let page = std::fs::read_to_string(d.join(format!("{n}.1")))
+            .unwrap_or_else(|e| panic!("{n}.1 not written: {e}"));
+        let th = format!(".TH {n} 1");
+        assert!(page.lines().any(|l| l.starts_with(&th)), "{n}: {page}");
+    }
+    // The main page in the folder is the one on standard output; a second
+    // run refuses to overwrite without --force and writes nothing.
+    assert_eq!(
+        std::fs::read_to_string(d.join("loopwright.1")).unwrap(),
+        man
+    );
+    assert!(man.contains("manual \\-\\-dir"), "{man}");
+    let again = run(&["manual", "--dir", d.to_str().unwrap()]);
+    assert!(!again.status.success());
+    assert!(run(&["manual", "--dir", d.to_str().unwrap(), "--force"])
+        .status
+        .success());
+    std::fs::remove_dir_all(&dir).ok();
+}

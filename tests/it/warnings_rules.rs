@@ -454,3 +454,31 @@ fn load_divider_beyond_tolerance() {
     s.stage.tolerance = 0.05;
     assert!(warning(&s, "load-divider").is_none());
 }
+
+#[test]
+fn load_divider_quiet_when_the_ratio_already_makes_up_for_it() {
+    // Inverting with a 600 Ω source: rg 9.4 kΩ + 600 Ω = 10 kΩ against
+    // rf 47 kΩ gives −47k/10k = −4.7 (series resistors add, virtual ground),
+    // the spec's target; the nominal −47k/9.4k = −5 is not what was meant.
+    let mut s = plain(Topology::Inverting, 9.4e3, 47e3);
+    s.source.r = 600.0;
+    s.spec = Some(loopwright::model::scenario::Spec {
+        gain_target: Some(-4.7),
+        ..Default::default()
+    });
+    assert!(
+        warning(&s, "load-divider").is_none(),
+        "{:?}",
+        warnings_of(&s)
+    );
+    // The same source with rg 10 kΩ: −47k/10.6k = −4.4340, −5.66 % off
+    // the target; the warning names the target and advises only what the
+    // tool can model (rescaling rf/rg), not a feedback point it has not.
+    s.stage.rg = Some(10e3);
+    let w = warning(&s, "load-divider").unwrap();
+    assert!(w.text.contains("-4.4340"), "{}", w.text);
+    assert!(w.text.contains("target -4.7000"), "{}", w.text);
+    assert!(w.text.contains("-5.66 %"), "{}", w.text);
+    assert!(!w.text.contains("feedback after riso"), "{}", w.text);
+    assert!(w.text.contains("rescale rf/rg"), "{}", w.text);
+}

@@ -111,6 +111,43 @@ fn archetypes_set_their_values_and_stay_steppable() {
 }
 
 #[test]
+fn an_archetype_sets_or_clears_every_amplifier_field_and_names_them() {
+    // The old part had a slew rate, swing, an input range and an
+    // input-noise corner; the precision CMOS archetype (third) gives its
+    // own limits and no input-noise corner. After the pick the amplifier
+    // is the archetype's, field for field, and the status line names what
+    // was set and what was cleared.
+    let list = loopwright::ui::app::archetypes();
+    let arch = &list[2];
+    assert!(arch.amp.inoise_corner.is_none(), "{}", arch.name);
+    let mut s = loopwright::files::load::demo();
+    s.supply = Some(loopwright::model::scenario::Supply {
+        neg: -15.0,
+        pos: 15.0,
+    });
+    s.amp.slew = Some(123.0e6);
+    s.amp.swing_neg = Some(0.7);
+    s.amp.swing_pos = Some(0.7);
+    s.amp.cm_neg = Some(2.5);
+    s.amp.inoise_corner = Some(321.0);
+    let mut a = App::new(vec![(s, None)], Theme::new(false, false));
+    a.on_key(key(KeyCode::Char('a')));
+    press(&mut a, KeyCode::Down, 2);
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slots[0].scenario.amp, arch.amp);
+    let status = a.status.clone();
+    assert!(status.contains(&arch.name), "{status}");
+    assert!(status.contains("cleared in corner"), "{status}");
+    for label in ["slew", "swing −", "swing +", "cm −", "gbw"] {
+        assert!(status.contains(label), "{label}: {status}");
+    }
+    // Picking the same one again changes nothing, and says so.
+    a.on_key(key(KeyCode::Char('a')));
+    a.on_key(key(KeyCode::Enter));
+    assert!(a.status.contains("nothing changed"), "{}", a.status);
+}
+
+#[test]
 fn typing_none_removes_an_optional_part() {
     let mut a = demo_app();
     select_below_rf(&mut a, CF);

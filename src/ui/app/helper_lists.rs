@@ -5,7 +5,7 @@
 use super::{App, Mode, Prompt};
 use crate::model::scenario::Topology;
 use crate::model::values::{fmt_eng, fmt_plain, parse_value};
-use crate::output::helper_tables::{self, FIX_HEADER, PAIR_HEADER};
+use crate::output::helper_tables::{self, PAIR_HEADER};
 use crate::study::pairs::{self, Query};
 use crate::study::stabilize::{self, Part};
 use crate::ui::field::Field;
@@ -76,7 +76,10 @@ impl App {
             ));
             return;
         }
-        let now = fmt_plain(self.slot().eval.analysis.nominal_gain.abs(), 6);
+        // The spec's aim when it gives one, else the gain the ratio names.
+        let aim = s.spec.as_ref().and_then(|x| x.gain_target);
+        let gain = aim.unwrap_or(self.slot().eval.analysis.nominal_gain);
+        let now = fmt_plain(gain.abs(), 6);
         self.mode = Mode::Prompt(Prompt::Gain, Field::offering(&now));
         self.info("target gain (the magnitude, e.g. 11); Enter lists resistor pairs, Esc cancels");
     }
@@ -87,10 +90,15 @@ impl App {
             Ok(v) => v,
             Err(e) => return self.error(format!("{e} (no pairs listed)")),
         };
-        let stage = &self.slot().scenario.stage;
+        let s = &self.slot().scenario;
+        // The stage's own source resistance and load divider: the gains
+        // listed are what this stage would give with each pair.
         let q = Query {
-            series: stage.series,
-            topology: stage.topology,
+            series: s.stage.series,
+            topology: s.stage.topology,
+            source_r: s.source.r,
+            riso: s.stage.riso.unwrap_or(0.0),
+            load_r: s.load.r,
             ..Query::new(target)
         };
         let found = match pairs::find(&q) {
@@ -110,7 +118,9 @@ impl App {
             fmt_eng(q.rg_range.1, "Ω")
         );
         let mut list = Choices::new(title, &PAIR_HEADER, &cells, picks);
-        list.note = "closest gain first; ties: lower resistor noise, then lower load".into();
+        let mut notes = helper_tables::surroundings(&q);
+        notes.push("closest gain first; ties: lower resistor noise, then lower load".into());
+        list.note = notes.join("; ");
         self.mode = Mode::Choose(list);
         self.info("resistor pairs: ↑↓ choose, Enter applies rg and rf, Esc cancels");
     }
@@ -131,8 +141,12 @@ impl App {
             .iter()
             .map(|f| Pick::Part(f.part, f.value))
             .collect();
-        let title = format!(" Stabilising options for {target}° (↑↓ Enter, Esc) ");
-        let mut list = Choices::new(title, &FIX_HEADER, &cells, picks);
+        // A stage that already meets the target says so first.
+        let title = match o.already_met {
+            true => format!(" Already meets {target}°: no change needed; options (↑↓ Enter, Esc) "),
+            false => format!(" Stabilising options for {target}° (↑↓ Enter, Esc) "),
+        };
+        let mut list = Choices::new(title, &helper_tables::fix_header(&o), &cells, picks);
         list.note = helper_tables::margin_now_text(&o);
         self.mode = Mode::Choose(list);
         self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");

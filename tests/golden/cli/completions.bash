@@ -337,7 +337,7 @@ _loopwright() {
             return 0
             ;;
         loopwright__subcmd__manual)
-            opts="-o -h --output --force --help"
+            opts="-o -h --output --dir --force --help"
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
@@ -351,6 +351,10 @@ _loopwright() {
                     COMPREPLY=($(compgen -f "${cur}"))
                     return 0
                     ;;
+                --dir)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
                 *)
                     COMPREPLY=()
                     ;;
@@ -359,7 +363,7 @@ _loopwright() {
             return 0
             ;;
         loopwright__subcmd__pairs)
-            opts="-h --series --topology --rg-min --rg-max --count --json --help"
+            opts="-h --series --topology --rg-min --rg-max --count --source-r --riso --load-r --json --help"
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
@@ -382,6 +386,18 @@ _loopwright() {
                     return 0
                     ;;
                 --count)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
+                --source-r)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
+                --riso)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
+                --load-r)
                     COMPREPLY=($(compgen -f "${cur}"))
                     return 0
                     ;;
