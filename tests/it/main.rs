@@ -7,6 +7,7 @@ mod support;
 mod app_loop;
 mod cli_edges;
 mod cursor;
+mod datasheet;
 mod design_helpers;
 mod elements;
 mod engine_checks;
