@@ -2,6 +2,7 @@
 //! with its options (`Args`) and its `run`. [`run`] is the one exhaustive
 //! match; adding a command is a file here and one variant of [`Command`].
 
+pub mod amp;
 pub mod check;
 pub mod compare;
 pub mod completions;
@@ -86,6 +87,9 @@ pub enum Command {
     /// The smallest riso (stage's series) and cf (E12) that reach a
     /// phase-margin target, each with the figures it gives.
     Stabilize(stabilize::Args),
+    /// The amplifier model (an `amp` block) from the figures a datasheet
+    /// prints, each value with its formula and inputs.
+    Amp(amp::Args),
 }
 
 /// Run the command (the workbench without one); the exit code is the caller's.
@@ -105,6 +109,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::Series(a) => series::run(a),
         Command::Pairs(a) => pairs::run(a),
         Command::Stabilize(a) => stabilize::run(a),
+        Command::Amp(a) => amp::run(a),
     }
 }
 

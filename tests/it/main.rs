@@ -4,6 +4,7 @@
 
 mod support;
 
+mod amp_cli;
 mod app_loop;
 mod cli_edges;
 mod cursor;
