@@ -9,6 +9,7 @@ pub mod completions;
 pub mod manual;
 pub mod pairs;
 pub mod parse;
+pub mod parts;
 pub mod plot;
 pub mod report;
 pub mod series;
@@ -90,6 +91,9 @@ pub enum Command {
     /// The amplifier model (an `amp` block) from the figures a datasheet
     /// prints, each value with its formula and inputs.
     Amp(amp::Args),
+    /// The amplifier library: the built-in archetypes, the user's parts and
+    /// the project's `parts/`; `parts show NAME` prints one with its notes.
+    Parts(parts::Args),
 }
 
 /// Run the command (the workbench without one); the exit code is the caller's.
@@ -110,6 +114,7 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::Pairs(a) => pairs::run(a),
         Command::Stabilize(a) => stabilize::run(a),
         Command::Amp(a) => amp::run(a),
+        Command::Parts(a) => parts::run(a),
     }
 }
 

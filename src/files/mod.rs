@@ -5,4 +5,5 @@
 pub mod figures;
 pub mod filetext;
 pub mod load;
+pub mod parts;
 pub mod storage;

@@ -6,6 +6,7 @@ pub mod datasheet;
 pub mod eseries;
 pub mod names;
 pub mod params;
+pub mod part;
 pub mod scenario;
 pub mod values;
 

@@ -19,6 +19,7 @@ mod gain_errors;
 mod limits;
 mod loader_fuzz;
 mod noise_checks;
+mod parts;
 mod note_and_shell;
 mod plot_cli;
 mod plot_widget;
