@@ -2,7 +2,7 @@
 
 use super::emit;
 use crate::files::load::demo;
-use crate::files::parts::{project_dir, Found, Library, USER_DIR_VAR};
+use crate::files::parts::{project_dir, user_dir, Found, Library, USER_DIR_VAR};
 use crate::model::part::{amp_values, Origin};
 use crate::model::values::{fmt_eng_sig, printable};
 use anyhow::Result;
@@ -34,7 +34,7 @@ pub enum Action {
 }
 
 pub fn run(args: &Args) -> Result<ExitCode> {
-    let lib = Library::gather(Some(&project_dir(args.stage.as_deref())));
+    let lib = Library::gather(user_dir().as_deref(), Some(&project_dir(args.stage.as_deref())));
     match &args.action {
         None | Some(Action::List) => emit(list(&lib).as_bytes()),
         Some(Action::Show { name }) => {

@@ -69,12 +69,13 @@ pub struct Library {
 }
 
 impl Library {
-    /// Read the three sources. `project` is the project's `parts/` folder.
-    pub fn gather(project: Option<&Path>) -> Library {
+    /// Read the three sources: the built-ins, the user library's folder
+    /// (`user`, normally [`user_dir`]) and the project's `parts/` folder.
+    pub fn gather(user: Option<&Path>, project: Option<&Path>) -> Library {
         let mut lib = Library {
             parts: built_ins(),
             bad: Vec::new(),
-            user_dir: user_dir(),
+            user_dir: user.map(Path::to_path_buf),
             project_dir: project.map(Path::to_path_buf),
         };
         for (origin, dir) in [

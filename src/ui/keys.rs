@@ -27,6 +27,7 @@ pub enum Action {
     ScrollWarningsDown,
     ScrollWarningsUp,
     PickArchetype,
+    SavePart,
     ResistorPairs,
     StabilizeOptions,
     CopyToOther,
@@ -206,11 +207,19 @@ pub const KEYS: &[Binding] = &[
         help: "",
         hint: None,
     },
+    // Picking and saving a part share one help row (the help fits 80×24).
     Binding {
         keys: &[k('a')],
-        shown: "a",
+        shown: "a, A",
         action: Action::PickArchetype,
-        help: "amplifier: pick a generic archetype (typical values)",
+        help: "a: amplifier from the parts (type to search) · A: save it as a part",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('A')],
+        shown: "",
+        action: Action::SavePart,
+        help: "",
         hint: None,
     },
     // The two design helpers share one help row (the help fits 80×24).

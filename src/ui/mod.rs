@@ -4,6 +4,7 @@
 pub mod app;
 pub mod field;
 pub mod keys;
+pub mod part_list_view;
 pub mod plot;
 pub mod readout;
 pub mod spread_job;
@@ -329,6 +330,7 @@ pub fn run(stages: Vec<Opened>, looks: Looks) -> Result<ExitCode> {
         bail!("the workbench needs a terminal; use `loopwright report FILE` for scripts");
     }
     let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
+    app.user_parts = crate::files::parts::user_dir();
     let signal = Arc::new(AtomicUsize::new(0));
     for sig in STOP_SIGNALS {
         signal_hook::flag::register_usize(sig, Arc::clone(&signal), sig as usize)?;

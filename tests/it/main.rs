@@ -20,6 +20,7 @@ mod limits;
 mod loader_fuzz;
 mod noise_checks;
 mod parts;
+mod parts_ui;
 mod note_and_shell;
 mod plot_cli;
 mod plot_widget;

@@ -122,6 +122,6 @@ fn a_saved_part_reads_back_and_is_never_replaced_unasked() {
 
 #[test]
 fn the_library_gathers_built_ins_without_any_folder() {
-    let lib = Library::gather(None);
+    let lib = Library::gather(None, None);
     assert!(lib.parts.iter().filter(|f| f.origin == Origin::BuiltIn).count() >= 6);
 }
