@@ -20,7 +20,7 @@ use std::path::{Path, PathBuf};
 mod cursor;
 mod helper_lists;
 mod part_list;
-pub use part_list::{PartList, SaveTarget};
+pub use part_list::{changed_text, PartList, SaveTarget};
 use helper_lists::{list_key, ListKey};
 pub use helper_lists::{Choices, Pick};
 

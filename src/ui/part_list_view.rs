@@ -26,7 +26,11 @@ fn cut(s: &str, n: usize) -> String {
 
 pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &PartList) {
     let w = WIDTH.min(area.width);
-    let h = area.height.saturating_sub(2).max(3);
+    let shown = list.shown();
+    // Tall enough for every line when the screen has room (search line,
+    // three group titles, the rows, the unreadable files, the note).
+    let want = 2 + 4 + 3 + shown.len().max(3) + list.lib.bad.len();
+    let h = (want as u16).min(area.height.saturating_sub(2)).max(3);
     let r = Rect {
         x: area.x + (area.width - w) / 2,
         y: area.y + (area.height - h) / 2,
@@ -38,7 +42,6 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
     let inner = b.inner(r);
     b.render(r, buf);
     let room = inner.width as usize;
-    let shown = list.shown();
     // Every line below the search line, and which one is highlighted.
     let mut lines: Vec<Line> = Vec::new();
     let mut at = 0;
@@ -92,7 +95,7 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
         shown.len(),
         list.lib.parts.len()
     );
-    let note = "Enter sets every amplifier field · A saves the amplifier as a part";
+    let note = "Enter sets every amplifier field · outside the list, A saves it as a part";
     // The search line, the note, and as many list lines as fit.
     let fit = (inner.height as usize).saturating_sub(2).max(1);
     let start = at.saturating_sub(fit - 1).min(lines.len().saturating_sub(fit));

@@ -56,8 +56,27 @@ pub struct SaveTarget {
     pub origin: Origin,
 }
 
-/// How many changed fields the status line names before "and N more".
-const NAMED: usize = 6;
+/// The status line's room on an 80-column screen.
+const STATUS_ROOM: usize = 78;
+
+/// "changed a0, gbw, …" naming as many fields as fit in `room`
+/// characters, then "+N more"; "nothing changed" for none.
+pub fn changed_text(changed: &[&str], room: usize) -> String {
+    if changed.is_empty() {
+        return "nothing changed".into();
+    }
+    let mut out = format!("changed {}", changed[0]);
+    for (i, f) in changed.iter().enumerate().skip(1) {
+        let left = changed.len() - i - 1;
+        let tail = if left > 0 { format!(" +{left} more") } else { String::new() };
+        if out.chars().count() + 2 + f.len() + tail.len() > room {
+            out += &format!(" +{} more", changed.len() - i);
+            return out;
+        }
+        out += &format!(", {f}");
+    }
+    out
+}
 
 impl App {
     /// The project library of the edited stage: `parts/` beside its file.
@@ -143,20 +162,8 @@ impl App {
         }
         let changed = changed_fields(&before, &self.slot().scenario);
         let slot = Self::slot_label(self.active);
-        let what = if changed.is_empty() {
-            "nothing changed".to_string()
-        } else {
-            let mut named = changed.iter().take(NAMED).copied().collect::<Vec<_>>().join(", ");
-            if changed.len() > NAMED {
-                named += &format!(" and {} more", changed.len() - NAMED);
-            }
-            format!("changed {named}")
-        };
-        self.info(format!(
-            "{slot}: amplifier set to {} ({}): {what}",
-            crate::model::values::printable(&part.name),
-            origin.title()
-        ));
+        let head = format!("{slot}: {} set; ", crate::model::values::printable(&part.name));
+        self.info(head.clone() + &changed_text(&changed, STATUS_ROOM.saturating_sub(head.chars().count())));
         self.last_part = Some(part);
     }
 
