@@ -51,7 +51,9 @@ pub fn amp_block(d: &Derivation, file: &str, part: Option<&str>, take: &str) -> 
     let part = part.map(|p| format!(" ({p})")).unwrap_or_default();
     out += &format!("// The amplifier model from the datasheet figures in {file}{part}.\n");
     out += &match d.given {
-        "gbw" => "// Given: the gain-bandwidth gbw (not the unity-gain frequency f_u).\n".to_string(),
+        "gbw" => {
+            "// Given: the gain-bandwidth gbw (not the unity-gain frequency f_u).\n".to_string()
+        }
         _ => "// Given: the unity-gain frequency f_u (not the gain-bandwidth gbw).\n".to_string(),
     };
     out += &format!("// Copied figures: {take} where both typical and maximum are printed.\n");

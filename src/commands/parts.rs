@@ -11,9 +11,11 @@ use std::process::ExitCode;
 
 // The options of `parts`.
 #[derive(Debug, clap::Args)]
-#[command(after_help = "The user library is the folder named by LOOPWRIGHT_PARTS, or parts/ in \
+#[command(
+    after_help = "The user library is the folder named by LOOPWRIGHT_PARTS, or parts/ in \
     the platform's configuration folder (on Linux ~/.config/loopwright/parts); the project's is \
-    parts/ beside the stage file given with --stage (or in the current folder).")]
+    parts/ beside the stage file given with --stage (or in the current folder)."
+)]
 pub struct Args {
     #[command(subcommand)]
     pub action: Option<Action>,
@@ -34,7 +36,10 @@ pub enum Action {
 }
 
 pub fn run(args: &Args) -> Result<ExitCode> {
-    let lib = Library::gather(user_dir().as_deref(), Some(&project_dir(args.stage.as_deref())));
+    let lib = Library::gather(
+        user_dir().as_deref(),
+        Some(&project_dir(args.stage.as_deref())),
+    );
     match &args.action {
         None | Some(Action::List) => emit(list(&lib).as_bytes()),
         Some(Action::Show { name }) => {
@@ -114,9 +119,19 @@ pub fn show(f: &Found) -> String {
     s.amp = p.amp.clone();
     let rows: Vec<(String, Option<&String>)> = amp_values(&s)
         .into_iter()
-        .map(|(field, v)| (format!("    {field}: {},", super::amp::ron_number(v)), p.notes.get(field)))
+        .map(|(field, v)| {
+            (
+                format!("    {field}: {},", super::amp::ron_number(v)),
+                p.notes.get(field),
+            )
+        })
         .collect();
-    let width = rows.iter().map(|(r, _)| r.chars().count()).max().unwrap_or(0) + 1;
+    let width = rows
+        .iter()
+        .map(|(r, _)| r.chars().count())
+        .max()
+        .unwrap_or(0)
+        + 1;
     for (row, note) in rows {
         match note {
             Some(n) => out += &format!("{row:<width$}// {}\n", printable(n)),

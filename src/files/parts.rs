@@ -144,7 +144,12 @@ pub fn built_ins() -> Vec<Found> {
                     s.amp = a.amp.clone();
                     crate::model::part::amp_values(&s)
                         .into_iter()
-                        .map(|(f, _)| (f.to_string(), "generic, typical for the class, from memory".to_string()))
+                        .map(|(f, _)| {
+                            (
+                                f.to_string(),
+                                "generic, typical for the class, from memory".to_string(),
+                            )
+                        })
                         .collect()
                 },
                 name: a.name,
@@ -202,7 +207,11 @@ pub fn parts_from_ron(text: &str, file: Option<&str>) -> Result<Vec<Part>, Scena
             message,
         };
         if part.name.trim().is_empty() {
-            return Err(err(names.get(k).copied(), "name", "a part needs a name".into()));
+            return Err(err(
+                names.get(k).copied(),
+                "name",
+                "a part needs a name".into(),
+            ));
         }
         let mut s = demo();
         s.amp = part.amp.clone();
@@ -216,7 +225,10 @@ pub fn parts_from_ron(text: &str, file: Option<&str>) -> Result<Vec<Part>, Scena
             return Err(err(
                 pos.as_ref().or(names.get(k).copied()),
                 &format!("notes.{key}"),
-                format!("a note is about an `amp` field ({}), not `{key}`", amp_fields().collect::<Vec<_>>().join(", ")),
+                format!(
+                    "a note is about an `amp` field ({}), not `{key}`",
+                    amp_fields().collect::<Vec<_>>().join(", ")
+                ),
             ));
         }
     }
@@ -284,7 +296,13 @@ pub fn file_name(name: &str) -> String {
     let stem: String = name
         .trim()
         .chars()
-        .map(|c| if c.is_alphanumeric() || c == '-' || c == '_' { c } else { '-' })
+        .map(|c| {
+            if c.is_alphanumeric() || c == '-' || c == '_' {
+                c
+            } else {
+                '-'
+            }
+        })
         .collect();
     format!("{}.ron", if stem.is_empty() { "part" } else { &stem })
 }

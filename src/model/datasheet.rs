@@ -166,7 +166,9 @@ pub fn noise_from_spots(field: &str, a: (f64, f64), b: (f64, f64)) -> Result<Noi
     if f1 == f2 {
         return Err(Problem::new(
             field,
-            format!("the two spot densities are at the same frequency ({f1} Hz): give two frequencies"),
+            format!(
+                "the two spot densities are at the same frequency ({f1} Hz): give two frequencies"
+            ),
         ));
     }
     let r = (e1 / e2).powi(2);
@@ -199,11 +201,19 @@ pub fn noise_from_spots(field: &str, a: (f64, f64), b: (f64, f64)) -> Result<Noi
 
 /// One spot density `e` at `f` and a known 1/f corner → the white level
 /// e_n = e/√(1 + f_c/f).
-pub fn noise_from_spot_and_corner(field: &str, f: f64, e: f64, corner: f64) -> Result<Noise, Problem> {
+pub fn noise_from_spot_and_corner(
+    field: &str,
+    f: f64,
+    e: f64,
+    corner: f64,
+) -> Result<Noise, Problem> {
     positive(field, f)?;
     positive(field, e)?;
     if !(corner.is_finite() && corner >= 0.0) {
-        return Err(Problem::new(field, format!("a 1/f corner is 0 Hz or more, not {corner}")));
+        return Err(Problem::new(
+            field,
+            format!("a 1/f corner is 0 Hz or more, not {corner}"),
+        ));
     }
     Ok(Noise {
         white: e / (1.0 + corner / f).sqrt(),
@@ -221,13 +231,9 @@ pub fn cin_per_pin(c_cm: f64, c_diff: f64) -> f64 {
 /// Output levels reached at a load with a given supply → how close the
 /// output gets to each rail (the swing fields): (level_low − neg,
 /// pos − level_high).
-pub fn swing_from_levels(
-    low: f64,
-    high: f64,
-    supply: (f64, f64),
-) -> Result<(f64, f64), Problem> {
+pub fn swing_from_levels(low: f64, high: f64, supply: (f64, f64)) -> Result<(f64, f64), Problem> {
     let (neg, pos) = supply;
-    if !(neg < pos) {
+    if neg.is_nan() || pos.is_nan() || neg >= pos {
         return Err(Problem::new(
             "swing.supply",
             format!("the supply's negative rail {neg} V must be below its positive rail {pos} V"),
@@ -262,7 +268,10 @@ fn positive(field: &str, x: f64) -> Result<(), Problem> {
     if x.is_finite() && x > 0.0 {
         Ok(())
     } else {
-        Err(Problem::new(field, format!("{x} must be a positive number")))
+        Err(Problem::new(
+            field,
+            format!("{x} must be a positive number"),
+        ))
     }
 }
 
@@ -464,7 +473,12 @@ fn need<T: Copy>(field: &str, v: Option<T>, what: &str) -> Result<T, Problem> {
     v.ok_or_else(|| Problem::new(field, format!("missing: {what}")))
 }
 
-fn one_of(field_a: &str, a: Option<Num>, field_b: &str, b: Option<Num>) -> Result<Option<(bool, f64)>, Problem> {
+fn one_of(
+    field_a: &str,
+    a: Option<Num>,
+    field_b: &str,
+    b: Option<Num>,
+) -> Result<Option<(bool, f64)>, Problem> {
     match (a, b) {
         (Some(_), Some(_)) => Err(Problem::new(
             field_b,
@@ -553,29 +567,63 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
             put("a0", a0, "as given".into());
             a0
         }
-        None => return Err(Problem::new("gain_db", "missing: the open-loop gain (`gain_db` or `a0`)")),
+        None => {
+            return Err(Problem::new(
+                "gain_db",
+                "missing: the open-loop gain (`gain_db` or `a0`)",
+            ))
+        }
     };
     // gbw, fp2
     let pm = f.phase_margin.map(|p| p.0);
     let crossing = one_of("gbw", f.gbw, "unity", f.unity)?;
     let Some((gbw_given, freq)) = crossing else {
-        return Err(Problem::new("gbw", "missing: the gain-bandwidth `gbw` or the unity-gain frequency `unity`"));
+        return Err(Problem::new(
+            "gbw",
+            "missing: the gain-bandwidth `gbw` or the unity-gain frequency `unity`",
+        ));
     };
     if pm.is_some() && f.fp2.is_some() {
-        return Err(Problem::new("fp2", "give `phase_margin` or `fp2`, not both"));
+        return Err(Problem::new(
+            "fp2",
+            "give `phase_margin` or `fp2`, not both",
+        ));
     }
     let given = if gbw_given { "gbw" } else { "f_u" };
     let (gbw, fp2) = match (pm, gbw_given) {
         (Some(pm), true) => {
             let p = poles_from_gbw(freq, pm)?;
-            put("gbw", p.gbw, format!("as given (gbw given; crossing f_u = gbw·sin PM = {})", hz(p.f_u)));
-            put("fp2", p.fp2, format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(p.f_u)));
+            put(
+                "gbw",
+                p.gbw,
+                format!(
+                    "as given (gbw given; crossing f_u = gbw·sin PM = {})",
+                    hz(p.f_u)
+                ),
+            );
+            put(
+                "fp2",
+                p.fp2,
+                format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(p.f_u)),
+            );
             (p.gbw, Some(p.fp2))
         }
         (Some(pm), false) => {
             let p = poles_from_crossing(freq, pm)?;
-            put("gbw", p.gbw, format!("f_u·√(1 + (f_u/fp2)²): f_u = {} given, fp2 = {}", hz(freq), hz(p.fp2)));
-            put("fp2", p.fp2, format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(freq)));
+            put(
+                "gbw",
+                p.gbw,
+                format!(
+                    "f_u·√(1 + (f_u/fp2)²): f_u = {} given, fp2 = {}",
+                    hz(freq),
+                    hz(p.fp2)
+                ),
+            );
+            put(
+                "fp2",
+                p.fp2,
+                format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(freq)),
+            );
             (p.gbw, Some(p.fp2))
         }
         (None, _) => {
@@ -592,15 +640,26 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         }
     };
     if !(a0.is_finite() && a0 > 1.0) {
-        return Err(Problem::new(if f.a0.is_some() { "a0" } else { "gain_db" }, format!("an open-loop gain of {a0} is not above 1")));
+        return Err(Problem::new(
+            if f.a0.is_some() { "a0" } else { "gain_db" },
+            format!("an open-loop gain of {a0} is not above 1"),
+        ));
     }
     // rin, cin
     let rin = f.rin.map(|r| r.0);
     if let Some(r) = rin {
         put("rin", r, "as given".into());
     }
-    let cin = match (f.cin, f.cin_cm.or(f.cin_diff).map(|_| (f.cin_cm, f.cin_diff))) {
-        (Some(_), Some(_)) => return Err(Problem::new("cin", "give `cin` or `cin_cm` and `cin_diff`, not both")),
+    let cin = match (
+        f.cin,
+        f.cin_cm.or(f.cin_diff).map(|_| (f.cin_cm, f.cin_diff)),
+    ) {
+        (Some(_), Some(_)) => {
+            return Err(Problem::new(
+                "cin",
+                "give `cin` or `cin_cm` and `cin_diff`, not both",
+            ))
+        }
         (Some(c), None) => {
             put("cin", c.0, "as given".into());
             Some(c.0)
@@ -652,13 +711,19 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         (None, None) => return Err(Problem::new("ro", "missing: `ro`, or `zout` (the closed-loop output impedance at a frequency in a test circuit)")),
     };
     // noise
-    let vn = f.vnoise.as_ref().ok_or_else(|| Problem::new("vnoise", "missing: the voltage noise `vnoise`"))?;
+    let vn = f
+        .vnoise
+        .as_ref()
+        .ok_or_else(|| Problem::new("vnoise", "missing: the voltage noise `vnoise`"))?;
     let (v, vhow) = noise("vnoise", vn, "V/√Hz")?;
     put("vnoise", v.white, vhow.clone());
     if let Some(c) = v.corner {
         put("vnoise_corner", c, vhow);
     }
-    let inn = f.inoise.as_ref().ok_or_else(|| Problem::new("inoise", "missing: the current noise `inoise`"))?;
+    let inn = f
+        .inoise
+        .as_ref()
+        .ok_or_else(|| Problem::new("inoise", "missing: the current noise `inoise`"))?;
     let (i, ihow) = noise("inoise", inn, "A/√Hz")?;
     put("inoise", i.white, ihow.clone());
     if let Some(c) = i.corner {
@@ -669,7 +734,11 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         match t {
             Some(t) => {
                 let (x, how) = typmax(field, t, f.take)?;
-                out.push(Derived { field, value: x, how });
+                out.push(Derived {
+                    field,
+                    value: x,
+                    how,
+                });
                 Ok(Some(x))
             }
             None => Ok(None),
@@ -701,15 +770,31 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
                     ))
                 }
             };
-            out.push(Derived { field: "swing_neg", value: n, how: how.clone() });
-            out.push(Derived { field: "swing_pos", value: p, how });
+            out.push(Derived {
+                field: "swing_neg",
+                value: n,
+                how: how.clone(),
+            });
+            out.push(Derived {
+                field: "swing_pos",
+                value: p,
+                how,
+            });
             (Some(n), Some(p))
         }
     };
     let (cm_neg, cm_pos) = match f.input_range {
         Some(r) => {
-            out.push(Derived { field: "cm_neg", value: r.neg.0, how: "as given (inside the negative rail)".into() });
-            out.push(Derived { field: "cm_pos", value: r.pos.0, how: "as given (inside the positive rail)".into() });
+            out.push(Derived {
+                field: "cm_neg",
+                value: r.neg.0,
+                how: "as given (inside the negative rail)".into(),
+            });
+            out.push(Derived {
+                field: "cm_pos",
+                value: r.pos.0,
+                how: "as given (inside the positive rail)".into(),
+            });
             (Some(r.neg.0), Some(r.pos.0))
         }
         None => (None, None),
@@ -719,7 +804,11 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
             match t {
                 Some(t) => {
                     let (x, how) = typmax(field, t, f.take)?;
-                    out.push(Derived { field, value: x, how });
+                    out.push(Derived {
+                        field,
+                        value: x,
+                        how,
+                    });
                     Ok(Some(x))
                 }
                 None => Ok(None),
@@ -751,9 +840,31 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
     };
     // Print in the scenario's field order.
     const ORDER: [&str; 20] = [
-        "a0", "gbw", "fp2", "rin", "cin", "ro", "vnoise", "vnoise_corner", "inoise", "inoise_corner",
-        "vos", "vos_drift", "ib", "ios", "slew", "swing_neg", "swing_pos", "cm_neg", "cm_pos", "iout",
+        "a0",
+        "gbw",
+        "fp2",
+        "rin",
+        "cin",
+        "ro",
+        "vnoise",
+        "vnoise_corner",
+        "inoise",
+        "inoise_corner",
+        "vos",
+        "vos_drift",
+        "ib",
+        "ios",
+        "slew",
+        "swing_neg",
+        "swing_pos",
+        "cm_neg",
+        "cm_pos",
+        "iout",
     ];
     out.sort_by_key(|d| ORDER.iter().position(|o| *o == d.field));
-    Ok(Derivation { amp, values: out, given })
+    Ok(Derivation {
+        amp,
+        values: out,
+        given,
+    })
 }

@@ -56,9 +56,7 @@ impl Origin {
 
 /// The `amp` fields (as the parameter table lists them), without `amp.`.
 pub fn amp_fields() -> impl Iterator<Item = &'static str> {
-    PARAMS
-        .iter()
-        .filter_map(|p| p.path.strip_prefix("amp."))
+    PARAMS.iter().filter_map(|p| p.path.strip_prefix("amp."))
 }
 
 /// Whether `field` is an `amp` field a note may be about.

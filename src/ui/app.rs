@@ -20,9 +20,9 @@ use std::path::{Path, PathBuf};
 mod cursor;
 mod helper_lists;
 mod part_list;
-pub use part_list::{changed_text, PartList, SaveTarget};
 use helper_lists::{list_key, ListKey};
 pub use helper_lists::{Choices, Pick};
+pub use part_list::{changed_text, PartList, SaveTarget};
 
 /// Which plot the upper right panel shows: a view of the registry that
 /// the workbench shows (`v` steps through them).

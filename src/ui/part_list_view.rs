@@ -48,8 +48,17 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
     for origin in Origin::ALL {
         let folder = match origin {
             Origin::BuiltIn => None,
-            Origin::User => Some(list.lib.user_dir.as_ref().map_or("none".into(), |d| d.display().to_string())),
-            Origin::Project => list.lib.project_dir.as_ref().map(|d| d.display().to_string()),
+            Origin::User => Some(
+                list.lib
+                    .user_dir
+                    .as_ref()
+                    .map_or("none".into(), |d| d.display().to_string()),
+            ),
+            Origin::Project => list
+                .lib
+                .project_dir
+                .as_ref()
+                .map(|d| d.display().to_string()),
         };
         let title = match folder {
             Some(f) => format!("{} ({})", origin.title(), printable(&f)),
@@ -82,10 +91,17 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
         for bad in list.lib.bad.iter().filter(|b| b.origin == origin) {
             any = true;
             let text = printable(&bad.error.to_string());
-            lines.push(Line::styled(cut(&format!("  ! {text}"), room), app.theme.error));
+            lines.push(Line::styled(
+                cut(&format!("  ! {text}"), room),
+                app.theme.error,
+            ));
         }
         if !any {
-            let none = if list.filter.is_empty() { "  (none)" } else { "  (no match)" };
+            let none = if list.filter.is_empty() {
+                "  (none)"
+            } else {
+                "  (no match)"
+            };
             lines.push(Line::styled(none, app.theme.dim));
         }
     }
@@ -98,7 +114,9 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
     let note = "Enter sets every amplifier field · outside the list, A saves it as a part";
     // The search line, the note, and as many list lines as fit.
     let fit = (inner.height as usize).saturating_sub(2).max(1);
-    let start = at.saturating_sub(fit - 1).min(lines.len().saturating_sub(fit));
+    let start = at
+        .saturating_sub(fit - 1)
+        .min(lines.len().saturating_sub(fit));
     let mut out = vec![Line::styled(cut(&search, room), app.theme.title)];
     out.extend(lines.into_iter().skip(start).take(fit));
     while out.len() < fit + 1 {

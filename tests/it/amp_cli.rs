@@ -53,10 +53,19 @@ fn amp_from_unity_crossing_and_margin_gives_the_closed_form_poles() {
     assert!((s.amp.cin.unwrap() / 5e-12 - 1.0).abs() < 1e-6);
     // Spots made from e_n = 10 nV, f_c = 100 Hz: 10n·√11 = 33.166n, 10n·√1.1 = 10.488n.
     assert!((s.amp.vnoise / 10e-9 - 1.0).abs() < 1e-3, "{out}");
-    assert!((s.amp.vnoise_corner.unwrap() / 100.0 - 1.0).abs() < 1e-2, "{out}");
+    assert!(
+        (s.amp.vnoise_corner.unwrap() / 100.0 - 1.0).abs() < 1e-2,
+        "{out}"
+    );
     // Each derived value carries its formula.
-    let fp2_line = out.lines().find(|l| l.trim_start().starts_with("fp2:")).unwrap();
-    assert!(fp2_line.contains("tan(90° − PM)") && fp2_line.contains("68°"), "{fp2_line}");
+    let fp2_line = out
+        .lines()
+        .find(|l| l.trim_start().starts_with("fp2:"))
+        .unwrap();
+    assert!(
+        fp2_line.contains("tan(90° − PM)") && fp2_line.contains("68°"),
+        "{fp2_line}"
+    );
 }
 
 #[test]
@@ -82,7 +91,10 @@ fn amp_ro_from_closed_loop_output_impedance_with_gbw_given() {
     // `take: Maximum` copies the maximum figure.
     assert_eq!(s.amp.vos, Some(4e-3));
     // The swing's load is said beside the swing values.
-    let line = out.lines().find(|l| l.trim_start().starts_with("swing_neg:")).unwrap();
+    let line = out
+        .lines()
+        .find(|l| l.trim_start().starts_with("swing_neg:"))
+        .unwrap();
     assert!(line.contains("2 kΩ load"), "{line}");
 }
 

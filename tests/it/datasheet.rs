@@ -54,16 +54,22 @@ fn ro_from_closed_loop_output_impedance_uses_the_complex_gain() {
     // Single pole: |A| = a0/√(1 + (f/fp1)²) → fp1 = f/√((a0/|A|)² − 1).
     let fp1 = 800.0 / ((a0 / a_mag).powi(2) - 1.0).sqrt();
     let gbw = a0 * fp1;
-    let ro = datasheet::ro_from_closed_loop(0.5, 800.0, TestCircuit::NonInverting(10.0), a0, gbw, None)
-        .unwrap();
+    let ro =
+        datasheet::ro_from_closed_loop(0.5, 800.0, TestCircuit::NonInverting(10.0), a0, gbw, None)
+            .unwrap();
     assert!((ro - 158.1).abs() < 0.05, "ro {ro}");
-    assert!((0.5 * (1.0 + a_mag / 10.0) - 158.6).abs() < 0.05, "the real-A figure");
+    assert!(
+        (0.5 * (1.0 + a_mag / 10.0) - 158.6).abs() < 0.05,
+        "the real-A figure"
+    );
     // An inverting gain −G has β = 1/(1 + G): −9 gives the same β as +10.
-    let inv = datasheet::ro_from_closed_loop(0.5, 800.0, TestCircuit::Inverting(9.0), a0, gbw, None)
-        .unwrap();
+    let inv =
+        datasheet::ro_from_closed_loop(0.5, 800.0, TestCircuit::Inverting(9.0), a0, gbw, None)
+            .unwrap();
     assert!(close(inv, ro, 1e-12));
-    let e = datasheet::ro_from_closed_loop(0.5, 800.0, TestCircuit::NonInverting(0.5), a0, gbw, None)
-        .unwrap_err();
+    let e =
+        datasheet::ro_from_closed_loop(0.5, 800.0, TestCircuit::NonInverting(0.5), a0, gbw, None)
+            .unwrap_err();
     assert_eq!(e.field, "zout.gain");
 }
 

@@ -45,7 +45,10 @@ fn a_part_file_holds_one_part_or_a_list_with_notes() {
     assert_eq!(one[0].amp.gbw, 10.0e6);
     assert_eq!(one[0].notes["gbw"], "sheet p. 4, typical, 25 °C");
     let list = parts_from_ron(LIST, None).unwrap();
-    assert_eq!(list.iter().map(|p| p.name.as_str()).collect::<Vec<_>>(), ["first", "second"]);
+    assert_eq!(
+        list.iter().map(|p| p.name.as_str()).collect::<Vec<_>>(),
+        ["first", "second"]
+    );
 }
 
 #[test]
@@ -74,7 +77,11 @@ fn parts_lists_three_groups_and_a_bad_file_does_not_stop_the_rest() {
     std::fs::create_dir_all(&user).unwrap();
     std::fs::create_dir_all(project.join("parts")).unwrap();
     std::fs::write(user.join("a.ron"), ONE).unwrap();
-    std::fs::write(user.join("0bad.ron"), "(name: \"broken\",\n  amp: (a0: 1e5, gbw: \"1Q\"))").unwrap();
+    std::fs::write(
+        user.join("0bad.ron"),
+        "(name: \"broken\",\n  amp: (a0: 1e5, gbw: \"1Q\"))",
+    )
+    .unwrap();
     std::fs::write(project.join("parts/list.ron"), LIST).unwrap();
     let stage = project.join("stage.ron");
     let (ok, out, err) = run_parts(&user, &["--stage", stage.to_str().unwrap()]);
@@ -85,7 +92,10 @@ fn parts_lists_three_groups_and_a_bad_file_does_not_stop_the_rest() {
     assert!(built < usr && usr < proj, "{out}");
     assert!(out[..usr].contains("JFET input"), "{out}");
     assert!(out[usr..proj].contains("quiet one"), "{out}");
-    assert!(out[proj..].contains("first") && out[proj..].contains("second"), "{out}");
+    assert!(
+        out[proj..].contains("first") && out[proj..].contains("second"),
+        "{out}"
+    );
     // The broken file is listed with its place, the others are still read.
     let b = user.join("0bad.ron").display().to_string();
     assert!(out[usr..proj].contains(&format!("! {b}:2:")), "{out}");
@@ -97,7 +107,10 @@ fn parts_show_prints_the_values_with_their_notes() {
     std::fs::write(d.join("a.ron"), ONE).unwrap();
     let (ok, out, err) = run_parts(&d, &["show", "Quiet One"]);
     assert!(ok, "{err}");
-    let gbw = out.lines().find(|l| l.trim_start().starts_with("gbw:")).unwrap();
+    let gbw = out
+        .lines()
+        .find(|l| l.trim_start().starts_with("gbw:"))
+        .unwrap();
     assert!(gbw.contains("sheet p. 4, typical, 25 °C"), "{out}");
     assert!(out.contains("user library"), "{out}");
     let (ok, _, err) = run_parts(&d, &["show", "nothing like it"]);
@@ -110,18 +123,36 @@ fn a_saved_part_reads_back_and_is_never_replaced_unasked() {
     let mut part: Part = parts_from_ron(ONE, None).unwrap().remove(0);
     part.amp.fp2 = Some(33.0e6);
     let path = save_part(&d, &part, false).unwrap();
-    assert_eq!(parts_from_ron(&std::fs::read_to_string(&path).unwrap(), None).unwrap(), [part.clone()]);
+    assert_eq!(
+        parts_from_ron(&std::fs::read_to_string(&path).unwrap(), None).unwrap(),
+        [part.clone()]
+    );
     let before = std::fs::read_to_string(&path).unwrap();
     let mut other = part.clone();
     other.amp.gbw = 1.0;
     assert!(save_part(&d, &other, false).is_err());
-    assert_eq!(std::fs::read_to_string(&path).unwrap(), before, "nothing lost");
+    assert_eq!(
+        std::fs::read_to_string(&path).unwrap(),
+        before,
+        "nothing lost"
+    );
     save_part(&d, &other, true).unwrap();
-    assert_eq!(parts_from_ron(&std::fs::read_to_string(&path).unwrap(), None).unwrap()[0].amp.gbw, 1.0);
+    assert_eq!(
+        parts_from_ron(&std::fs::read_to_string(&path).unwrap(), None).unwrap()[0]
+            .amp
+            .gbw,
+        1.0
+    );
 }
 
 #[test]
 fn the_library_gathers_built_ins_without_any_folder() {
     let lib = Library::gather(None, None);
-    assert!(lib.parts.iter().filter(|f| f.origin == Origin::BuiltIn).count() >= 6);
+    assert!(
+        lib.parts
+            .iter()
+            .filter(|f| f.origin == Origin::BuiltIn)
+            .count()
+            >= 6
+    );
 }

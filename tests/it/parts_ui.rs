@@ -41,7 +41,11 @@ fn setup(name: &str) -> std::path::PathBuf {
 #[test]
 fn the_amplifier_list_shows_three_groups_and_bad_files_at_80x24() {
     let d = setup("parts-ui-groups");
-    std::fs::write(d.join("user/0broken.ron"), "(name: \"x\",\n  amp: (a0: 1e5, gbw: \"1Q\"))").unwrap();
+    std::fs::write(
+        d.join("user/0broken.ron"),
+        "(name: \"x\",\n  amp: (a0: 1e5, gbw: \"1Q\"))",
+    )
+    .unwrap();
     let mut a = app_in(&d);
     a.on_key(key(KeyCode::Char('a')));
     assert!(matches!(a.mode, Mode::Parts(_)));
@@ -52,7 +56,10 @@ fn the_amplifier_list_shows_three_groups_and_bad_files_at_80x24() {
         text.find("project (").unwrap(),
     );
     assert!(b < u && u < p, "{text}");
-    assert!(text.contains("bench favourite") && text.contains("board amp"), "{text}");
+    assert!(
+        text.contains("bench favourite") && text.contains("board amp"),
+        "{text}"
+    );
     // The broken file is listed with its line and column.
     assert!(text.contains("0broken.ron:2:"), "{text}");
     assert!(a.status.contains("could not be read"), "{}", a.status);
@@ -93,9 +100,17 @@ fn applying_a_part_sets_every_field_and_names_the_changed_ones() {
         assert!(a.status.contains(f), "{f}: {}", a.status);
     }
     let named = a.status.matches(", ").count() + 1;
-    let more: usize = a.status.split(" +").nth(1).map_or(0, |t| t.trim_end_matches(" more").parse().unwrap());
+    let more: usize = a
+        .status
+        .split(" +")
+        .nth(1)
+        .map_or(0, |t| t.trim_end_matches(" more").parse().unwrap());
     assert_eq!(named + more, 11, "{}", a.status);
-    assert!(a.status.chars().count() <= 78, "fits 80 columns: {}", a.status);
+    assert!(
+        a.status.chars().count() <= 78,
+        "fits 80 columns: {}",
+        a.status
+    );
     // Applying it again changes nothing, and says so.
     a.on_key(key(KeyCode::Char('a')));
     type_text(&mut a, "board");
@@ -115,7 +130,11 @@ fn saving_the_amplifier_asks_name_and_place_and_never_replaces_unasked() {
     assert!(matches!(a.mode, Mode::Prompt(..)), "{:?}", a.mode);
     type_text(&mut a, "my stage amp");
     a.on_key(key(KeyCode::Enter));
-    assert!(a.status.contains("p = project") && a.status.contains("u = user"), "{}", a.status);
+    assert!(
+        a.status.contains("p = project") && a.status.contains("u = user"),
+        "{}",
+        a.status
+    );
     a.on_key(key(KeyCode::Char('p')));
     let file = project_dir(Some(&d.join("stage.ron"))).join("my-stage-amp.ron");
     let saved = parts_from_ron(&std::fs::read_to_string(&file).unwrap(), None).unwrap();
@@ -131,7 +150,11 @@ fn saving_the_amplifier_asks_name_and_place_and_never_replaces_unasked() {
     a.on_key(key(KeyCode::Char('p')));
     assert!(a.status.contains("exists"), "{}", a.status);
     a.on_key(key(KeyCode::Char('n')));
-    assert_eq!(std::fs::read_to_string(&file).unwrap(), before, "nothing lost");
+    assert_eq!(
+        std::fs::read_to_string(&file).unwrap(),
+        before,
+        "nothing lost"
+    );
     // y replaces it.
     a.on_key(shift_a);
     press(&mut a, KeyCode::Backspace, 40);
@@ -161,11 +184,27 @@ fn the_changed_fields_fit_the_status_line() {
     use loopwright::ui::app::changed_text;
     assert_eq!(changed_text(&[], 40), "nothing changed");
     assert_eq!(changed_text(&["a0", "gbw"], 40), "changed a0, gbw");
-    let many = ["a0", "gbw", "fp2", "rin", "cin", "ro", "vnoise", "vnoise_corner", "inoise"];
+    let many = [
+        "a0",
+        "gbw",
+        "fp2",
+        "rin",
+        "cin",
+        "ro",
+        "vnoise",
+        "vnoise_corner",
+        "inoise",
+    ];
     let t = changed_text(&many, 30);
     assert!(t.chars().count() <= 30, "{t}");
     // Every field is either named or counted.
     let named = t.matches(", ").count() + 1;
-    let more: usize = t.rsplit(" +").next().unwrap().trim_end_matches(" more").parse().unwrap();
+    let more: usize = t
+        .rsplit(" +")
+        .next()
+        .unwrap()
+        .trim_end_matches(" more")
+        .parse()
+        .unwrap();
     assert_eq!(named + more, many.len(), "{t}");
 }

@@ -38,7 +38,8 @@ impl PartList {
                 if f.origin != origin {
                     continue;
                 }
-                let hay = format!("{} {} {}", f.part.name, f.part.class, origin.title()).to_lowercase();
+                let hay =
+                    format!("{} {} {}", f.part.name, f.part.class, origin.title()).to_lowercase();
                 if words.iter().all(|w| hay.contains(w.as_str())) {
                     out.push(i);
                 }
@@ -68,7 +69,11 @@ pub fn changed_text(changed: &[&str], room: usize) -> String {
     let mut out = format!("changed {}", changed[0]);
     for (i, f) in changed.iter().enumerate().skip(1) {
         let left = changed.len() - i - 1;
-        let tail = if left > 0 { format!(" +{left} more") } else { String::new() };
+        let tail = if left > 0 {
+            format!(" +{left} more")
+        } else {
+            String::new()
+        };
         if out.chars().count() + 2 + f.len() + tail.len() > room {
             out += &format!(" +{} more", changed.len() - i);
             return out;
@@ -104,7 +109,8 @@ impl App {
             })
             .unwrap_or(0);
         self.mode = Mode::Parts(Box::new(PartList { selected, ..list }));
-        let mut msg = "amplifier: type to search, ↑↓ choose, Enter applies, Esc cancels".to_string();
+        let mut msg =
+            "amplifier: type to search, ↑↓ choose, Enter applies, Esc cancels".to_string();
         if bad > 0 {
             msg += &format!(" ({bad} part file(s) could not be read: listed with their errors)");
         }
@@ -120,7 +126,7 @@ impl App {
                 match shown.get(list.selected) {
                     Some(&i) => {
                         let f = list.lib.parts[i].clone();
-                        return self.apply_part(f.part, f.origin);
+                        return self.apply_part(f.part);
                     }
                     None => {
                         self.mode = Mode::Parts(list);
@@ -140,7 +146,10 @@ impl App {
                 list.filter.clear();
                 list.selected = 0;
             }
-            KeyCode::Char(c) if !key.modifiers.contains(KeyModifiers::CONTROL) && list.filter.chars().count() < 40 => {
+            KeyCode::Char(c)
+                if !key.modifiers.contains(KeyModifiers::CONTROL)
+                    && list.filter.chars().count() < 40 =>
+            {
                 list.filter.push(c);
                 list.selected = 0;
             }
@@ -151,7 +160,7 @@ impl App {
 
     /// Set every amplifier field from a part, as one undoable change, and
     /// say which fields changed.
-    fn apply_part(&mut self, part: Part, origin: Origin) {
+    fn apply_part(&mut self, part: Part) {
         let before = self.slot().scenario.clone();
         let amp = part.amp.clone();
         if !self.apply_change("amplifier", |s| {
@@ -162,14 +171,24 @@ impl App {
         }
         let changed = changed_fields(&before, &self.slot().scenario);
         let slot = Self::slot_label(self.active);
-        let head = format!("{slot}: {} set; ", crate::model::values::printable(&part.name));
-        self.info(head.clone() + &changed_text(&changed, STATUS_ROOM.saturating_sub(head.chars().count())));
+        let head = format!(
+            "{slot}: {} set; ",
+            crate::model::values::printable(&part.name)
+        );
+        self.info(
+            head.clone()
+                + &changed_text(&changed, STATUS_ROOM.saturating_sub(head.chars().count())),
+        );
         self.last_part = Some(part);
     }
 
     /// `A`: ask the part's name (the last applied part's offered).
     pub(super) fn start_save_part(&mut self) {
-        let offer = self.last_part.as_ref().map(|p| p.name.clone()).unwrap_or_default();
+        let offer = self
+            .last_part
+            .as_ref()
+            .map(|p| p.name.clone())
+            .unwrap_or_default();
         self.mode = Mode::Prompt(Prompt::PartName, Field::offering(&offer));
         self.info("save the amplifier as a part: type its name; Enter goes on, Esc cancels");
     }
@@ -193,14 +212,19 @@ impl App {
                 p.notes
                     .iter()
                     .filter(|(k, _)| {
-                        let get = |l: &[(&str, f64)]| l.iter().find(|(f, _)| f == k).map(|(_, v)| *v);
+                        let get =
+                            |l: &[(&str, f64)]| l.iter().find(|(f, _)| f == k).map(|(_, v)| *v);
                         get(&old) == get(&now)
                     })
                     .map(|(k, v)| (k.clone(), v.clone()))
                     .collect()
             })
             .unwrap_or_default();
-        let class = self.last_part.as_ref().map(|p| p.class.clone()).unwrap_or_default();
+        let class = self
+            .last_part
+            .as_ref()
+            .map(|p| p.class.clone())
+            .unwrap_or_default();
         let part = Part {
             name: name.to_string(),
             class,
@@ -219,17 +243,22 @@ impl App {
     }
 
     pub(super) fn on_part_where_key(&mut self, key: KeyEvent, part: Box<Part>) {
-        let (origin, dir) = match key.code {
-            KeyCode::Char('p') | KeyCode::Char('P') => (Origin::Project, self.project_parts()),
-            KeyCode::Char('u') | KeyCode::Char('U') => match self.user_parts.clone() {
-                Some(d) => (Origin::User, d),
-                None => {
-                    return self.error("no user library folder (no home folder): set LOOPWRIGHT_PARTS; not saved")
-                }
-            },
-            _ => return self.info("part not saved"),
+        let (origin, dir) =
+            match key.code {
+                KeyCode::Char('p') | KeyCode::Char('P') => (Origin::Project, self.project_parts()),
+                KeyCode::Char('u') | KeyCode::Char('U') => match self.user_parts.clone() {
+                    Some(d) => (Origin::User, d),
+                    None => return self.error(
+                        "no user library folder (no home folder): set LOOPWRIGHT_PARTS; not saved",
+                    ),
+                },
+                _ => return self.info("part not saved"),
+            };
+        let target = SaveTarget {
+            part: *part,
+            dir,
+            origin,
         };
-        let target = SaveTarget { part: *part, dir, origin };
         let path = target.dir.join(file_name(&target.part.name));
         if std::fs::symlink_metadata(&path).is_ok() {
             self.error(format!(
