@@ -212,7 +212,7 @@ pub const KEYS: &[Binding] = &[
         keys: &[k('a')],
         shown: "a, A",
         action: Action::PickArchetype,
-        help: "a: amplifier from the parts (type to search) · A: save it as a part",
+        help: "a: pick the amplifier from the parts · A: save it as a part",
         hint: None,
     },
     Binding {
