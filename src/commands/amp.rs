@@ -2,7 +2,6 @@
 
 use super::emit;
 use crate::files::figures::derive_file;
-use crate::files::load::demo;
 use crate::model::datasheet::{Derivation, Take};
 use anyhow::Result;
 use std::path::PathBuf;
@@ -18,19 +17,6 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<ExitCode> {
     let (figures, d) = derive_file(&args.from)?;
-    // The derived model must be one a stage file accepts.
-    let mut s = demo();
-    s.amp = d.amp.clone();
-    if let Err(problems) = s.validate() {
-        if let Some(p) = problems.iter().find(|p| p.field.starts_with("amp.")) {
-            anyhow::bail!(
-                "{}: the derived {} is not a usable model: {}",
-                args.from.display(),
-                p.field,
-                p.message
-            );
-        }
-    }
     let name = figures.part.as_deref().map(crate::model::values::printable);
     let take = match figures.take {
         Take::Typical => "typical",

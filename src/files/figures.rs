@@ -27,7 +27,42 @@ pub fn derive_text(text: &str, file: Option<&str>) -> Result<(Figures, Derivatio
             message: p.message,
         }
     })?;
+    // The derived model must be one a stage file accepts; a value out of
+    // range is placed at the figure it came from.
+    let mut s = crate::files::load::demo();
+    s.amp = derivation.amp.clone();
+    if let Err(problems) = s.validate() {
+        if let Some(p) = problems.iter().find(|p| p.field.starts_with("amp.")) {
+            let field = &p.field["amp.".len()..];
+            let pos = sources(field)
+                .iter()
+                .find_map(|f| fields.iter().find(|x| x.path == *f));
+            return Err(ScenarioError {
+                file: file.map(str::to_string),
+                field: Some(pos.map_or(field.to_string(), |f| f.path.clone())),
+                line: Some(pos.map_or(1, |f| f.line)),
+                col: Some(pos.map_or(1, |f| f.col)),
+                message: format!("gives {}, which is not usable: {}", p.field, p.message),
+            });
+        }
+    }
     Ok((figures, derivation))
+}
+
+/// The figures a model value is derived from (README table).
+fn sources(amp_field: &str) -> Vec<&str> {
+    match amp_field {
+        "a0" => vec!["gain_db", "a0"],
+        "gbw" => vec!["gbw", "unity", "phase_margin"],
+        "fp2" => vec!["phase_margin", "fp2"],
+        "ro" => vec!["zout", "ro"],
+        "cin" => vec!["cin", "cin_cm", "cin_diff"],
+        "vnoise" | "vnoise_corner" => vec!["vnoise"],
+        "inoise" | "inoise_corner" => vec!["inoise"],
+        "swing_neg" | "swing_pos" => vec!["swing"],
+        "cm_neg" | "cm_pos" => vec!["input_range"],
+        other => vec![other],
+    }
 }
 
 /// Read a figures file and derive the model.

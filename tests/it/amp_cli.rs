@@ -110,6 +110,9 @@ fn amp_refuses_bad_figures_at_file_line_column() {
         ("(gain_db: 100, gbw: 1e6, ro: 50,\n vnoise: (white: \"10n\"), inoise: (white: \"1p\"), colour: 3)", ":2:", "colour"),
         // A missing figure.
         ("(gain_db: 100, gbw: 1e6, vnoise: (white: \"10n\"), inoise: (white: \"1p\"))", ":1:1:", "ro"),
+        // A derived value out of the accepted range, placed at its figure
+        // (a0 = 10^(200/20) = 1e10, above the 1e9 limit).
+        ("(gbw: 1e6, ro: 50,\n gain_db: 200, vnoise: (white: \"10n\"), inoise: (white: \"1p\"))", ":2:2:", "amp.a0"),
         // Noise rising with frequency.
         ("(gain_db: 100, gbw: 1e6, ro: 50,\n\n  vnoise: (spots: [(10, \"5n\"), (1000, \"8n\")]), inoise: (white: \"1p\"))", ":3:3:", "only falls"),
     ];
