@@ -163,6 +163,8 @@ pub enum Prompt {
     Gain,
     /// The name the amplifier is saved under as a part.
     PartName,
+    /// A datasheet-figures file the amplifier is derived from.
+    Figures,
 }
 
 impl Prompt {
@@ -174,6 +176,7 @@ impl Prompt {
             Prompt::Title => "title",
             Prompt::Gain => "target gain",
             Prompt::PartName => "part name",
+            Prompt::Figures => "datasheet figures file",
         }
     }
 }
@@ -524,6 +527,7 @@ impl App {
                         }
                         Prompt::Gain => self.list_pairs(&text),
                         Prompt::PartName => self.part_named(&text),
+                        Prompt::Figures => self.figures_entered(&text),
                     }
                 }
             }
@@ -659,6 +663,7 @@ impl App {
             }
             Action::PickArchetype => self.start_pick(),
             Action::SavePart => self.start_save_part(),
+            Action::FromFigures => self.start_figures(),
             Action::ResistorPairs => self.start_pairs(),
             Action::StabilizeOptions => self.list_fixes(),
             Action::CopyToOther => self.copy_to_other(true),

@@ -28,6 +28,7 @@ pub enum Action {
     ScrollWarningsUp,
     PickArchetype,
     SavePart,
+    FromFigures,
     ResistorPairs,
     StabilizeOptions,
     CopyToOther,
@@ -210,15 +211,22 @@ pub const KEYS: &[Binding] = &[
     // Picking and saving a part share one help row (the help fits 80×24).
     Binding {
         keys: &[k('a')],
-        shown: "a, A",
+        shown: "a, A, d",
         action: Action::PickArchetype,
-        help: "a: pick the amplifier from the parts · A: save it as a part",
+        help: "a: pick a part · A: save it as one · d: datasheet file",
         hint: None,
     },
     Binding {
         keys: &[k('A')],
         shown: "",
         action: Action::SavePart,
+        help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('d')],
+        shown: "",
+        action: Action::FromFigures,
         help: "",
         hint: None,
     },

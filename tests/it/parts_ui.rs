@@ -208,3 +208,45 @@ fn the_changed_fields_fit_the_status_line() {
         .unwrap();
     assert_eq!(named + more, many.len(), "{t}");
 }
+
+#[test]
+fn d_derives_the_amplifier_from_a_figures_file_and_keeps_the_formulas_as_notes() {
+    let d = setup("parts-ui-figures");
+    let figs = d.join("figs.ron");
+    std::fs::write(
+        &figs,
+        "(part: \"from sheet\", gain_db: 100, unity: \"1M\", phase_margin: 68, ro: 50,\n vnoise: (white: \"10n\"), inoise: (white: \"1p\"))",
+    )
+    .unwrap();
+    let mut a = app_in(&d);
+    a.on_key(key(KeyCode::Char('d')));
+    type_text(&mut a, &figs.display().to_string());
+    a.on_key(key(KeyCode::Enter));
+    // Issue 28: 68° at 1 MHz gives fp2 = 2.475 MHz and gbw = 1.0785 MHz.
+    let amp = &a.slot().scenario.amp;
+    assert!((amp.fp2.unwrap() / 2.475e6 - 1.0).abs() < 1e-3, "{amp:?}");
+    assert!((amp.gbw / 1.0785e6 - 1.0).abs() < 1e-4);
+    assert!(a.status.contains("from sheet set"), "{}", a.status);
+    // Saved as a part, the formulas go along as notes.
+    a.on_key(KeyEvent::new(KeyCode::Char('A'), KeyModifiers::SHIFT));
+    a.on_key(key(KeyCode::Enter));
+    a.on_key(key(KeyCode::Char('u')));
+    let saved = parts_from_ron(
+        &std::fs::read_to_string(d.join("user/from-sheet.ron")).unwrap(),
+        None,
+    )
+    .unwrap();
+    assert!(
+        saved[0].notes["fp2"].contains("tan(90° − PM)"),
+        "{:?}",
+        saved[0].notes
+    );
+    // A bad figures file leaves the amplifier alone and says where.
+    std::fs::write(&figs, "(gain_db: 100, unity: \"1M\",\n phase_margin: 95, ro: 50, vnoise: (white: \"10n\"), inoise: (white: \"1p\"))").unwrap();
+    let before = a.slot().scenario.amp.clone();
+    a.on_key(key(KeyCode::Char('d')));
+    type_text(&mut a, &figs.display().to_string());
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.amp, before);
+    assert!(a.status.contains("figs.ron:2:2:"), "{}", a.status);
+}

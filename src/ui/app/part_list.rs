@@ -292,4 +292,44 @@ impl App {
             Err(e) => self.error(format!("part not saved: {e}")),
         }
     }
+
+    /// `d`: ask for a datasheet-figures file (README "Amplifier models
+    /// from datasheet figures").
+    pub(super) fn start_figures(&mut self) {
+        self.mode = Mode::Prompt(Prompt::Figures, Field::offering(""));
+        self.info(
+            "datasheet figures: type the file's path; Enter derives and applies, Esc cancels",
+        );
+    }
+
+    /// Derive the amplifier from a figures file and apply it like a part;
+    /// each value's formula and inputs become its note (kept by `A`).
+    pub(super) fn figures_entered(&mut self, text: &str) {
+        let path = std::path::Path::new(text.trim());
+        match crate::files::figures::derive_file(path) {
+            Err(e) => self.error(format!("{e} (amplifier unchanged)")),
+            Ok((figures, d)) => {
+                let name = figures.part.clone().unwrap_or_else(|| {
+                    path.file_stem()
+                        .map_or("from figures".into(), |s| s.to_string_lossy().into_owned())
+                });
+                let notes = d
+                    .values
+                    .iter()
+                    .map(|v| {
+                        (
+                            v.field.to_string(),
+                            format!("{}: {}", path.display(), v.how),
+                        )
+                    })
+                    .collect();
+                self.apply_part(Part {
+                    name,
+                    class: String::new(),
+                    amp: d.amp,
+                    notes,
+                });
+            }
+        }
+    }
 }
