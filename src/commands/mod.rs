@@ -2,12 +2,14 @@
 //! with its options (`Args`) and its `run`. [`run`] is the one exhaustive
 //! match; adding a command is a file here and one variant of [`Command`].
 
+pub mod amp;
 pub mod check;
 pub mod compare;
 pub mod completions;
 pub mod manual;
 pub mod pairs;
 pub mod parse;
+pub mod parts;
 pub mod plot;
 pub mod report;
 pub mod series;
@@ -86,6 +88,12 @@ pub enum Command {
     /// The smallest riso (stage's series) and cf (E12) that reach a
     /// phase-margin target, each with the figures it gives.
     Stabilize(stabilize::Args),
+    /// The amplifier model (an `amp` block) from the figures a datasheet
+    /// prints, each value with its formula and inputs.
+    Amp(amp::Args),
+    /// The amplifier library: the built-in archetypes, the user's parts and
+    /// the project's `parts/`; `parts show NAME` prints one with its notes.
+    Parts(parts::Args),
 }
 
 /// Run the command (the workbench without one); the exit code is the caller's.
@@ -105,6 +113,8 @@ pub fn run(cli: Cli) -> Result<ExitCode> {
         Command::Series(a) => series::run(a),
         Command::Pairs(a) => pairs::run(a),
         Command::Stabilize(a) => stabilize::run(a),
+        Command::Amp(a) => amp::run(a),
+        Command::Parts(a) => parts::run(a),
     }
 }
 

@@ -8,7 +8,7 @@ use crate::model::Topology;
 
 /// The loader's options: a present optional field is a bare value (files
 /// that also carry the `#![enable(implicit_some)]` header read the same).
-fn ron_options() -> ron::Options {
+pub(crate) fn ron_options() -> ron::Options {
     ron::Options::default().with_default_extension(ron::extensions::Extensions::IMPLICIT_SOME)
 }
 
@@ -129,7 +129,7 @@ fn check_topology(
 }
 
 /// Turn a RON parse error into a ScenarioError naming the field, if known.
-fn ron_error(
+pub(crate) fn ron_error(
     e: &ron::error::SpannedError,
     fields: &[FieldPos],
     file: Option<&str>,
@@ -196,7 +196,7 @@ fn validation_error(p: &FieldProblem, fields: &[FieldPos], file: Option<&str>) -
 }
 
 /// The field itself, or (when it is missing) the part that should hold it.
-fn locate<'a>(fields: &'a [FieldPos], field: &str) -> Option<&'a FieldPos> {
+pub(crate) fn locate<'a>(fields: &'a [FieldPos], field: &str) -> Option<&'a FieldPos> {
     let mut path = field;
     loop {
         if let Some(f) = fields.iter().find(|f| f.path == path) {

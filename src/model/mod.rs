@@ -2,9 +2,11 @@
 //! IEC 60062 RKM), the IEC 60063 series, and the parameter table with its
 //! ranges and validation. Nothing here solves or reads files.
 
+pub mod datasheet;
 pub mod eseries;
 pub mod names;
 pub mod params;
+pub mod part;
 pub mod scenario;
 pub mod values;
 

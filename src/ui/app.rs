@@ -19,8 +19,10 @@ use std::path::{Path, PathBuf};
 
 mod cursor;
 mod helper_lists;
+mod part_list;
 use helper_lists::{list_key, ListKey};
 pub use helper_lists::{Choices, Pick};
+pub use part_list::{changed_text, PartList, SaveTarget};
 
 /// Which plot the upper right panel shows: a view of the registry that
 /// the workbench shows (`v` steps through them).
@@ -183,6 +185,10 @@ pub enum Prompt {
     Title,
     /// The target gain the resistor pairs are listed for.
     Gain,
+    /// The name the amplifier is saved under as a part.
+    PartName,
+    /// A datasheet-figures file the amplifier is derived from.
+    Figures,
 }
 
 impl Prompt {
@@ -193,6 +199,8 @@ impl Prompt {
             Prompt::Probe => "cursor at (Hz)",
             Prompt::Title => "title",
             Prompt::Gain => "target gain",
+            Prompt::PartName => "part name",
+            Prompt::Figures => "datasheet figures file",
         }
     }
 }
@@ -214,6 +222,12 @@ pub enum Mode {
     ConfirmCopy,
     /// Choosing an amplifier archetype: the highlighted entry.
     Pick(usize),
+    /// Choosing a part from the amplifier library (`a`).
+    Parts(Box<PartList>),
+    /// Saving the amplifier as this part: project or user library?
+    PartWhere(Box<crate::model::part::Part>),
+    /// The part's file exists: replace it?
+    PartReplace(Box<SaveTarget>),
     /// Choosing from a design helper's list (resistor pairs, stabilising
     /// options).
     Choose(Choices),
@@ -284,6 +298,11 @@ pub struct App {
     pub running: bool,
     pub archetypes: Vec<Archetype>,
     pub archetype: usize,
+    /// The user's part library (None: none; the workbench sets it from
+    /// the platform's folders, so a test never reads the real home).
+    pub user_parts: Option<PathBuf>,
+    /// The part last applied or saved (its name is offered on save).
+    pub last_part: Option<crate::model::part::Part>,
     /// Where the Bode view is too short for both, it shows the phase
     /// instead of the magnitude.
     pub show_phase: bool,
@@ -364,6 +383,8 @@ impl App {
             running: true,
             archetypes: archetypes(),
             archetype: 0,
+            user_parts: None,
+            last_part: None,
             show_phase: false,
             full_range: false,
             spread: Default::default(),
@@ -544,6 +565,8 @@ impl App {
                             }
                         }
                         Prompt::Gain => self.list_pairs(&text),
+                        Prompt::PartName => self.part_named(&text),
+                        Prompt::Figures => self.figures_entered(&text),
                     }
                 }
             }
@@ -553,6 +576,9 @@ impl App {
                 typed,
             } => self.on_open_key(key, files, selected, typed),
             Mode::Pick(sel) => self.on_pick_key(key, sel),
+            Mode::Parts(list) => self.on_parts_key(key, list),
+            Mode::PartWhere(part) => self.on_part_where_key(key, part),
+            Mode::PartReplace(target) => self.on_part_replace_key(key, target),
             Mode::Choose(list) => self.on_choose_key(key, list),
         }
     }
@@ -681,6 +707,8 @@ impl App {
                 self.info("open: ↑↓ choose, or type a path; Enter opens, Esc cancels");
             }
             Action::PickArchetype => self.start_pick(),
+            Action::SavePart => self.start_save_part(),
+            Action::FromFigures => self.start_figures(),
             Action::ResistorPairs => self.start_pairs(),
             Action::StabilizeOptions => self.list_fixes(),
             Action::CopyToOther => self.copy_to_other(true),
@@ -838,13 +866,10 @@ impl App {
         true
     }
 
+    /// `a`: the amplifier list of every part, grouped by where it was
+    /// found (the archetypes are its built-in group).
     fn start_pick(&mut self) {
-        if self.archetypes.is_empty() {
-            self.error("no amplifier archetypes found");
-        } else {
-            self.mode = Mode::Pick(self.archetype);
-            self.info("amplifier archetype: ↑↓ choose, Enter applies, Esc cancels");
-        }
+        self.start_parts();
     }
 
     fn switch_slot(&mut self) {

@@ -27,6 +27,8 @@ pub enum Action {
     ScrollWarningsDown,
     ScrollWarningsUp,
     PickArchetype,
+    SavePart,
+    FromFigures,
     ResistorPairs,
     StabilizeOptions,
     CopyToOther,
@@ -206,11 +208,26 @@ pub const KEYS: &[Binding] = &[
         help: "",
         hint: None,
     },
+    // Picking and saving a part share one help row (the help fits 80×24).
     Binding {
         keys: &[k('a')],
-        shown: "a",
+        shown: "a, A, d",
         action: Action::PickArchetype,
-        help: "amplifier: pick a generic archetype (typical values)",
+        help: "a: pick a part · A: save it as one · d: datasheet file",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('A')],
+        shown: "",
+        action: Action::SavePart,
+        help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('d')],
+        shown: "",
+        action: Action::FromFigures,
+        help: "",
         hint: None,
     },
     // The two design helpers share one help row (the help fits 80×24).

@@ -4,6 +4,7 @@
 pub mod app;
 pub mod field;
 pub mod keys;
+pub mod part_list_view;
 pub mod plot;
 pub mod readout;
 pub mod spread_job;
@@ -333,6 +334,7 @@ pub fn run(stages: Vec<Opened>, looks: Looks) -> Result<ExitCode> {
     }
     let mut app = App::new(stages, Theme::new(looks.color, looks.ascii));
     app.offer_rescues();
+    app.user_parts = crate::files::parts::user_dir();
     let signal = Arc::new(AtomicUsize::new(0));
     for sig in STOP_SIGNALS {
         signal_hook::flag::register_usize(sig, Arc::clone(&signal), sig as usize)?;

@@ -99,6 +99,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         } => open_overlay(app, area, buf, files, *selected, typed),
         Mode::Pick(sel) => pick_overlay(app, area, buf, *sel),
         Mode::Choose(list) => choose_overlay(app, area, buf, list),
+        Mode::Parts(list) => super::part_list_view::draw(app, area, buf, list),
         _ => {}
     }
     if app.theme.ascii {

@@ -606,3 +606,42 @@ fn rescue_copies_are_numbered_and_offered_at_the_next_start() {
     }
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn archetype_numbers_are_plainly_generic_one_two_five_values() {
+    // Issue 28: the built-in archetypes must not sit near any one part
+    // family's headline figures; every number is 1, 2 or 5 × 10^n (the
+    // 1-2-5 steps, common practice for round model values).
+    let one_two_five = |x: f64| {
+        let m = x / 10f64.powf(x.log10().floor());
+        [1.0, 2.0, 5.0, 10.0].iter().any(|k| (m - k).abs() < 1e-9)
+    };
+    for arch in archetypes() {
+        let a = &arch.amp;
+        let values = [
+            Some(a.a0),
+            Some(a.gbw),
+            a.fp2,
+            a.rin,
+            a.cin,
+            Some(a.ro),
+            Some(a.vnoise),
+            a.vnoise_corner,
+            Some(a.inoise),
+            a.inoise_corner,
+            a.vos,
+            a.vos_drift,
+            a.ib,
+            a.ios,
+            a.slew,
+            a.swing_neg,
+            a.swing_pos,
+            a.cm_neg.map(f64::abs),
+            a.cm_pos.map(f64::abs),
+            a.iout,
+        ];
+        for v in values.into_iter().flatten().filter(|v| *v != 0.0) {
+            assert!(one_two_five(v), "{}: {v} is not a 1-2-5 value", arch.name);
+        }
+    }
+}

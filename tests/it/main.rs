@@ -4,9 +4,11 @@
 
 mod support;
 
+mod amp_cli;
 mod app_loop;
 mod cli_edges;
 mod cursor;
+mod datasheet;
 mod design_helpers;
 mod elements;
 mod engine_checks;
@@ -20,6 +22,8 @@ mod loader_fuzz;
 mod noise_checks;
 mod note_and_shell;
 mod pinned;
+mod parts;
+mod parts_ui;
 mod plot_cli;
 mod plot_widget;
 mod properties;

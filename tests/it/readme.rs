@@ -58,3 +58,33 @@ fn every_binding_has_help_and_a_distinct_action() {
         );
     }
 }
+
+/// The fenced block that follows the line starting with `after`.
+fn block_after(after: &str) -> String {
+    let start = README
+        .find(after)
+        .unwrap_or_else(|| panic!("README: {after}"));
+    let rest = &README[start..];
+    let open = rest.find("```\n").unwrap() + 4;
+    let close = open + rest[open..].find("```").unwrap();
+    rest[open..close].to_string()
+}
+
+#[test]
+fn readme_datasheet_figures_example_derives_a_model() {
+    let text = block_after("`loopwright amp FROM.ron` reads the figures");
+    let (_, d) =
+        loopwright::files::figures::derive_text(&text, None).unwrap_or_else(|e| panic!("{e}"));
+    // The example gives f_u = 1 MHz and PM = 68°: fp2 = 1 MHz/tan 22° (issue 28).
+    assert!((d.amp.fp2.unwrap() / 2.475e6 - 1.0).abs() < 1e-3);
+    assert_eq!(d.given, "f_u");
+}
+
+#[test]
+fn readme_part_file_example_reads() {
+    let text = block_after("condition), keyed by the `amp` field");
+    let parts =
+        loopwright::files::parts::parts_from_ron(&text, None).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(parts.len(), 1);
+    assert!(parts[0].notes.contains_key("gbw"));
+}

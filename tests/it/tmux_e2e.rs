@@ -434,3 +434,65 @@ fn spread_view_with_a_million_trials_stays_small_over_many_steps() {
     assert!(threads <= 8, "{threads} threads");
     std::fs::remove_dir_all(&d).ok();
 }
+
+#[test]
+fn pick_a_part_by_typing_and_save_one_at_80x24() {
+    let d = temp_dir("e2e-parts");
+    std::fs::create_dir_all(d.join("user")).unwrap();
+    std::fs::write(
+        d.join("user/fav.ron"),
+        "(name: \"bench favourite\", class: \"precision\",\n amp: (a0: 2.0e6, gbw: 3.0e6, ro: 70.0, vnoise: 7.0e-9, inoise: 3.0e-15))",
+    )
+    .unwrap();
+    std::fs::write(
+        d.join("user/broken.ron"),
+        "(name: \"x\",\n  amp: (a0: 1e5, gbw: \"1Q\"))",
+    )
+    .unwrap();
+    std::fs::write(
+        d.join("stage.ron"),
+        loopwright::files::load::demo().to_ron(),
+    )
+    .unwrap();
+    let env = format!("LOOPWRIGHT_PARTS={}", d.join("user").display());
+    let Some(s) = start_in("lw_e2e_parts", &d, &env, "stage.ron") else {
+        return;
+    };
+    tmux(&["resize-window", "-t", &s.0, "-x", "80", "-y", "24"]);
+    let size = tmux(&[
+        "display-message",
+        "-p",
+        "-t",
+        &s.0,
+        "#{pane_width}x#{pane_height}",
+    ]);
+    assert_eq!(size.trim(), "80x24");
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "a"]);
+    let list = wait_for(&s.0, "search:").expect("the amplifier list opens");
+    for group in ["built-in", "user library", "project"] {
+        assert!(list.contains(group), "{group}:\n{list}");
+    }
+    assert!(
+        list.contains("broken.ron:2:"),
+        "the bad file with its place:\n{list}"
+    );
+    tmux(&["send-keys", "-t", &s.0, "-l", "bench"]);
+    wait_for(&s.0, "1 of 7").expect("typing narrows the list");
+    tmux(&["send-keys", "-t", &s.0, "Enter"]);
+    let set = wait_for(&s.0, "bench favourite set").expect("applied");
+    assert!(set.contains("changed a0, gbw"), "{set}");
+    // A saves it into the project's parts/.
+    tmux(&["send-keys", "-t", &s.0, "A"]);
+    wait_for(&s.0, "part name").expect("asks the name");
+    tmux(&["send-keys", "-t", &s.0, "C-u"]);
+    tmux(&["send-keys", "-t", &s.0, "-l", "saved one"]);
+    tmux(&["send-keys", "-t", &s.0, "Enter"]);
+    wait_for(&s.0, "save where?").expect("asks where");
+    tmux(&["send-keys", "-t", &s.0, "p"]);
+    wait_for(&s.0, "saved in the project").expect("saved");
+    assert!(d.join("parts/saved-one.ron").is_file());
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    let done = wait_for(&s.0, "EXIT=").expect("process exits");
+    assert!(done.contains("EXIT=0"), "{done}");
+}

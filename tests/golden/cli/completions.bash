@@ -16,6 +16,9 @@ _loopwright() {
             ",$1")
                 cmd="loopwright"
                 ;;
+            loopwright,amp)
+                cmd="loopwright__subcmd__amp"
+                ;;
             loopwright,check)
                 cmd="loopwright__subcmd__check"
                 ;;
@@ -33,6 +36,9 @@ _loopwright() {
                 ;;
             loopwright,pairs)
                 cmd="loopwright__subcmd__pairs"
+                ;;
+            loopwright,parts)
+                cmd="loopwright__subcmd__parts"
                 ;;
             loopwright,plot)
                 cmd="loopwright__subcmd__plot"
@@ -52,6 +58,9 @@ _loopwright() {
             loopwright,sweep)
                 cmd="loopwright__subcmd__sweep"
                 ;;
+            loopwright__subcmd__help,amp)
+                cmd="loopwright__subcmd__help__subcmd__amp"
+                ;;
             loopwright__subcmd__help,check)
                 cmd="loopwright__subcmd__help__subcmd__check"
                 ;;
@@ -69,6 +78,9 @@ _loopwright() {
                 ;;
             loopwright__subcmd__help,pairs)
                 cmd="loopwright__subcmd__help__subcmd__pairs"
+                ;;
+            loopwright__subcmd__help,parts)
+                cmd="loopwright__subcmd__help__subcmd__parts"
                 ;;
             loopwright__subcmd__help,plot)
                 cmd="loopwright__subcmd__help__subcmd__plot"
@@ -88,6 +100,30 @@ _loopwright() {
             loopwright__subcmd__help,sweep)
                 cmd="loopwright__subcmd__help__subcmd__sweep"
                 ;;
+            loopwright__subcmd__help__subcmd__parts,list)
+                cmd="loopwright__subcmd__help__subcmd__parts__subcmd__list"
+                ;;
+            loopwright__subcmd__help__subcmd__parts,show)
+                cmd="loopwright__subcmd__help__subcmd__parts__subcmd__show"
+                ;;
+            loopwright__subcmd__parts,help)
+                cmd="loopwright__subcmd__parts__subcmd__help"
+                ;;
+            loopwright__subcmd__parts,list)
+                cmd="loopwright__subcmd__parts__subcmd__list"
+                ;;
+            loopwright__subcmd__parts,show)
+                cmd="loopwright__subcmd__parts__subcmd__show"
+                ;;
+            loopwright__subcmd__parts__subcmd__help,help)
+                cmd="loopwright__subcmd__parts__subcmd__help__subcmd__help"
+                ;;
+            loopwright__subcmd__parts__subcmd__help,list)
+                cmd="loopwright__subcmd__parts__subcmd__help__subcmd__list"
+                ;;
+            loopwright__subcmd__parts__subcmd__help,show)
+                cmd="loopwright__subcmd__parts__subcmd__help__subcmd__show"
+                ;;
             *)
                 ;;
         esac
@@ -95,8 +131,22 @@ _loopwright() {
 
     case "${cmd}" in
         loopwright)
-            opts="-h -V --ascii --no-color --help --version report plot completions manual compare sweep spread check series pairs stabilize help"
+            opts="-h -V --ascii --no-color --help --version report plot completions manual compare sweep spread check series pairs stabilize amp parts help"
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 1 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__amp)
+            opts="-h --help"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
             fi
@@ -155,8 +205,22 @@ _loopwright() {
             return 0
             ;;
         loopwright__subcmd__help)
-            opts="report plot completions manual compare sweep spread check series pairs stabilize help"
+            opts="report plot completions manual compare sweep spread check series pairs stabilize amp parts help"
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__help__subcmd__amp)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
             fi
@@ -241,6 +305,48 @@ _loopwright() {
         loopwright__subcmd__help__subcmd__pairs)
             opts=""
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__help__subcmd__parts)
+            opts="list show"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__help__subcmd__parts__subcmd__list)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 4 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__help__subcmd__parts__subcmd__show)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 4 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
             fi
@@ -398,6 +504,116 @@ _loopwright() {
                     return 0
                     ;;
                 --load-r)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts)
+            opts="-h --stage --help list show help"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                --stage)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts__subcmd__help)
+            opts="list show help"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts__subcmd__help__subcmd__help)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 4 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts__subcmd__help__subcmd__list)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 4 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts__subcmd__help__subcmd__show)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 4 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts__subcmd__list)
+            opts="-h --stage --help"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                --stage)
+                    COMPREPLY=($(compgen -f "${cur}"))
+                    return 0
+                    ;;
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__parts__subcmd__show)
+            opts="-h --stage --help"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                --stage)
                     COMPREPLY=($(compgen -f "${cur}"))
                     return 0
                     ;;

@@ -11,8 +11,15 @@ pub fn stdout_of(args: &[&str]) -> String {
     String::from_utf8(out.stdout).unwrap()
 }
 
+/// The binary, with the user part library pointed away from the real
+/// home (a folder that holds nothing; a test may set its own).
 pub fn bin() -> std::process::Command {
-    std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"))
+    let mut c = std::process::Command::new(env!("CARGO_BIN_EXE_loopwright"));
+    c.env(
+        "LOOPWRIGHT_PARTS",
+        std::env::temp_dir().join("lw-no-user-parts"),
+    );
+    c
 }
 
 /// A fresh, empty folder for one test (named after it and the process).

@@ -103,8 +103,10 @@ pub fn start_in(name: &str, dir: &Path, env: &str, args: &str) -> Option<Session
     }
     let bin = env!("CARGO_BIN_EXE_loopwright");
     let cmd = format!(
-        "cd {dir} && LANG=C.UTF-8 {env} {bin} {args}; echo EXIT=$?; stty -a | tr ' ' '\\n' | grep icanon; sleep 30",
-        dir = dir.display()
+        "cd {dir} && LANG=C.UTF-8 LOOPWRIGHT_PARTS={parts} {env} {bin} {args}; echo EXIT=$?; stty -a | tr ' ' '\\n' | grep icanon; sleep 30",
+        dir = dir.display(),
+        // Never the real user library: an empty folder of the test's own.
+        parts = std::env::temp_dir().join("lw-no-user-parts").display()
     );
     let _ = Command::new("tmux")
         .args(["kill-session", "-t", name])

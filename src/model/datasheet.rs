@@ -1,0 +1,883 @@
+//! From the figures a datasheet prints to the amplifier model's values.
+//! Pure functions: no files, no terminal. Each returns the value, or a
+//! plain message saying why the figures cannot be reconciled with the
+//! model (a [`Problem`] naming the figure).
+//!
+//! The model (README "The amplifier model"): A(s) = a0 / ((1 + s/ωp1)(1 +
+//! s/ωp2)) with fp1 = gbw/a0, an optional second pole fp2, an output
+//! resistance ro behind the controlled source, and noise densities
+//! e(f)² = e_n²(1 + f_c/f).
+
+use num_complex::Complex64;
+
+/// A figure that cannot be turned into the model, and why.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Problem {
+    /// The figure's field in the datasheet-figures file (`phase_margin`).
+    pub field: String,
+    pub message: String,
+}
+
+impl Problem {
+    pub fn new(field: &str, message: impl Into<String>) -> Problem {
+        Problem {
+            field: field.into(),
+            message: message.into(),
+        }
+    }
+}
+
+/// Open-loop gain in dB → the plain ratio a0 = 10^(dB/20).
+pub fn a0_from_db(db: f64) -> f64 {
+    10f64.powf(db / 20.0)
+}
+
+/// The second pole and the gain-bandwidth that give a phase margin.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct TwoPole {
+    /// The unity-gain crossing the margin is read at (Hz).
+    pub f_u: f64,
+    /// The second pole (Hz).
+    pub fp2: f64,
+    /// The gain-bandwidth that puts the crossing at `f_u` (Hz).
+    pub gbw: f64,
+}
+
+/// Check a phase margin can come from the two-pole model: the single
+/// (dominant) pole alone gives 90°, the second pole takes some away.
+fn check_margin(pm_deg: f64) -> Result<(), Problem> {
+    if !(pm_deg.is_finite() && pm_deg > 0.0) {
+        return Err(Problem::new(
+            "phase_margin",
+            format!(
+                "{pm_deg}° is no phase margin of a stable follower: it must be above 0° \
+                 (and below 90°)"
+            ),
+        ));
+    }
+    if pm_deg >= 90.0 {
+        return Err(Problem::new(
+            "phase_margin",
+            format!(
+                "{pm_deg}° is more than the two-pole model can give: the single pole alone \
+                 leaves 90°, and a second pole only takes margin away; leave the phase \
+                 margin out (no second pole)"
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Phase margin at the unity-gain crossing `f_u` → fp2 and gbw.
+/// PM = 90° − atan(f_u/fp2), so fp2 = f_u/tan(90° − PM); and
+/// gbw = f_u·√(1 + (f_u/fp2)²) so that |A(j f_u)| = 1.
+pub fn poles_from_crossing(f_u: f64, pm_deg: f64) -> Result<TwoPole, Problem> {
+    check_margin(pm_deg)?;
+    positive("unity", f_u)?;
+    let fp2 = f_u / (90.0 - pm_deg).to_radians().tan();
+    let gbw = f_u * (1.0 + (f_u / fp2).powi(2)).sqrt();
+    Ok(TwoPole { f_u, fp2, gbw })
+}
+
+/// Phase margin with the gain-bandwidth given instead of the crossing:
+/// from gbw = f_u·√(1 + tan²(90° − PM)) = f_u / sin PM, the crossing is
+/// f_u = gbw·sin PM, then fp2 = f_u/tan(90° − PM).
+pub fn poles_from_gbw(gbw: f64, pm_deg: f64) -> Result<TwoPole, Problem> {
+    check_margin(pm_deg)?;
+    positive("gbw", gbw)?;
+    let f_u = gbw * pm_deg.to_radians().sin();
+    let fp2 = f_u / (90.0 - pm_deg).to_radians().tan();
+    Ok(TwoPole { f_u, fp2, gbw })
+}
+
+/// The model's open-loop gain A(jf), complex.
+pub fn open_loop(a0: f64, gbw: f64, fp2: Option<f64>, f: f64) -> Complex64 {
+    let fp1 = gbw / a0;
+    let mut den = Complex64::new(1.0, f / fp1);
+    if let Some(p2) = fp2 {
+        den *= Complex64::new(1.0, f / p2);
+    }
+    Complex64::new(a0, 0.0) / den
+}
+
+/// The datasheet's test circuit for the closed-loop output impedance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum TestCircuit {
+    /// A non-inverting gain G (≥ 1): β = 1/G.
+    NonInverting(f64),
+    /// An inverting gain −G (G > 0): β = 1/(1 + G).
+    Inverting(f64),
+}
+
+impl TestCircuit {
+    /// The feedback factor β = rg/(rg + rf) of the circuit.
+    pub fn beta(self) -> Result<f64, Problem> {
+        match self {
+            TestCircuit::NonInverting(g) if g.is_finite() && g >= 1.0 => Ok(1.0 / g),
+            TestCircuit::NonInverting(g) => Err(Problem::new(
+                "zout.gain",
+                format!("a non-inverting gain is 1 or more, not {g}"),
+            )),
+            TestCircuit::Inverting(g) if g.is_finite() && g > 0.0 => Ok(1.0 / (1.0 + g)),
+            TestCircuit::Inverting(g) => Err(Problem::new(
+                "zout.gain",
+                format!("an inverting gain is given as its size G > 0 (the gain is −G), not {g}"),
+            )),
+        }
+    }
+}
+
+/// The closed-loop output impedance |Z_cl| at `f` in a test circuit →
+/// ro, from |Z_cl| = ro/|1 + A(jf)·β| with the model's complex A(jf).
+pub fn ro_from_closed_loop(
+    z_cl: f64,
+    f: f64,
+    circuit: TestCircuit,
+    a0: f64,
+    gbw: f64,
+    fp2: Option<f64>,
+) -> Result<f64, Problem> {
+    positive("zout.ohms", z_cl)?;
+    positive("zout.at", f)?;
+    let beta = circuit.beta()?;
+    let a = open_loop(a0, gbw, fp2, f);
+    Ok(z_cl * (Complex64::new(1.0, 0.0) + a * beta).norm())
+}
+
+/// A noise density's white level and 1/f corner.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Noise {
+    /// The white density e_n (per √Hz).
+    pub white: f64,
+    /// The 1/f corner f_c (Hz); `None` when the density is white.
+    pub corner: Option<f64>,
+}
+
+/// Two spot densities `(f1, e1)` and `(f2, e2)` → e_n and f_c from
+/// e(f)² = e_n²(1 + f_c/f). With r = e1²/e2² (f1 < f2):
+/// f_c = (r − 1)/(1/f1 − r/f2), e_n² = e2²/(1 + f_c/f2).
+/// `field` names the figure in messages (`vnoise`, `inoise`).
+pub fn noise_from_spots(field: &str, a: (f64, f64), b: (f64, f64)) -> Result<Noise, Problem> {
+    for (f, e) in [a, b] {
+        positive(field, f)?;
+        positive(field, e)?;
+    }
+    let ((f1, e1), (f2, e2)) = if a.0 <= b.0 { (a, b) } else { (b, a) };
+    if f1 == f2 {
+        return Err(Problem::new(
+            field,
+            format!(
+                "the two spot densities are at the same frequency ({f1} Hz): give two frequencies"
+            ),
+        ));
+    }
+    let r = (e1 / e2).powi(2);
+    if r < 1.0 {
+        return Err(Problem::new(
+            field,
+            format!(
+                "the density is lower at {f1} Hz than at {f2} Hz: the model's density only \
+                 falls with frequency (white plus 1/f)"
+            ),
+        ));
+    }
+    if r >= f2 / f1 {
+        return Err(Problem::new(
+            field,
+            format!(
+                "the density falls faster than 1/f between {f1} Hz and {f2} Hz (power ratio \
+                 {r:.4} ≥ frequency ratio {:.4}): no white level and corner give it",
+                f2 / f1
+            ),
+        ));
+    }
+    let corner = (r - 1.0) / (1.0 / f1 - r / f2);
+    let white = e2 / (1.0 + corner / f2).sqrt();
+    Ok(Noise {
+        white,
+        corner: (corner > 0.0).then_some(corner),
+    })
+}
+
+/// One spot density `e` at `f` and a known 1/f corner → the white level
+/// e_n = e/√(1 + f_c/f).
+pub fn noise_from_spot_and_corner(
+    field: &str,
+    f: f64,
+    e: f64,
+    corner: f64,
+) -> Result<Noise, Problem> {
+    positive(field, f)?;
+    positive(field, e)?;
+    if !(corner.is_finite() && corner >= 0.0) {
+        return Err(Problem::new(
+            field,
+            format!("a 1/f corner is 0 Hz or more, not {corner}"),
+        ));
+    }
+    Ok(Noise {
+        white: e / (1.0 + corner / f).sqrt(),
+        corner: (corner > 0.0).then_some(corner),
+    })
+}
+
+/// Common-mode and differential input capacitance → the model's cin per
+/// pin (each pin to ground): C_cm + C_diff. Common practice; exact when
+/// the other input is at AC ground.
+pub fn cin_per_pin(c_cm: f64, c_diff: f64) -> f64 {
+    c_cm + c_diff
+}
+
+/// Output levels reached at a load with a given supply → how close the
+/// output gets to each rail (the swing fields): (level_low − neg,
+/// pos − level_high).
+pub fn swing_from_levels(low: f64, high: f64, supply: (f64, f64)) -> Result<(f64, f64), Problem> {
+    let (neg, pos) = supply;
+    if neg.is_nan() || pos.is_nan() || neg >= pos {
+        return Err(Problem::new(
+            "swing.supply",
+            format!("the supply's negative rail {neg} V must be below its positive rail {pos} V"),
+        ));
+    }
+    if !(neg <= low && low < high && high <= pos) {
+        return Err(Problem::new(
+            "swing",
+            format!(
+                "the output levels {low} V … {high} V must lie inside the supply {neg} V … {pos} V, \
+                 low below high"
+            ),
+        ));
+    }
+    Ok((low - neg, pos - high))
+}
+
+/// The gain-bandwidth (single pole) at which |A(jf)| has a given size:
+/// |A| = a0/√(1 + (f/fp1)²) → fp1 = f/√((a0/|A|)² − 1), gbw = a0·fp1.
+pub fn gbw_from_gain_at(a0: f64, f: f64, a_mag: f64) -> Result<f64, Problem> {
+    positive("gain_at.at", f)?;
+    if !(a_mag > 0.0 && a_mag < a0) {
+        return Err(Problem::new(
+            "gain_at",
+            format!("the gain at a frequency must be below the DC gain {a0}, not {a_mag}"),
+        ));
+    }
+    Ok(a0 * f / ((a0 / a_mag).powi(2) - 1.0).sqrt())
+}
+
+fn positive(field: &str, x: f64) -> Result<(), Problem> {
+    if x.is_finite() && x > 0.0 {
+        Ok(())
+    } else {
+        Err(Problem::new(
+            field,
+            format!("{x} must be a positive number"),
+        ))
+    }
+}
+
+// ---------------------------------------------------------------------
+// The datasheet-figures file (README "Amplifier models from datasheet
+// figures") and the whole derivation of an `amp` block from it.
+
+use crate::model::scenario::Amp;
+use crate::model::values::{fmt_eng_sig, parse_value};
+use serde::{Deserialize, Deserializer};
+
+/// A number as a file writes it: bare (`110`, `2.5e6`) or in SI or RKM
+/// notation (`"2.5M"`, `"4n7"`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Num(pub f64);
+
+impl<'de> Deserialize<'de> for Num {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Num, D::Error> {
+        #[derive(Deserialize)]
+        #[serde(untagged)]
+        enum Written {
+            Number(f64),
+            Text(String),
+        }
+        match Written::deserialize(d)? {
+            Written::Number(v) => Ok(Num(v)),
+            Written::Text(t) => parse_value(&t)
+                .map(Num)
+                .map_err(|e| serde::de::Error::custom(e.to_string())),
+        }
+    }
+}
+
+/// Which of a typical and a maximum figure to copy.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize)]
+pub enum Take {
+    #[default]
+    Typical,
+    Maximum,
+}
+
+/// A figure printed as typical and/or maximum.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TypMax {
+    #[serde(default)]
+    pub typ: Option<Num>,
+    #[serde(default)]
+    pub max: Option<Num>,
+}
+
+/// The circuit of the closed-loop output impedance figure.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize)]
+pub enum Circuit {
+    NonInverting,
+    Inverting,
+}
+
+/// The closed-loop output impedance at a frequency in the datasheet's
+/// test circuit (`gain`: G for a non-inverting gain G, G for an
+/// inverting gain −G).
+#[derive(Debug, Clone, Copy, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Zout {
+    pub ohms: Num,
+    pub at: Num,
+    pub gain: Num,
+    pub circuit: Circuit,
+}
+
+/// A noise density as the datasheet gives it: two spot values
+/// `spots: [(f1, e1), (f2, e2)]`, or one `density` `at` a frequency with a
+/// `corner`, or the `white` level with an optional `corner`.
+#[derive(Debug, Clone, PartialEq, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct NoiseFigures {
+    #[serde(default)]
+    pub spots: Option<Vec<(Num, Num)>>,
+    #[serde(default)]
+    pub density: Option<Num>,
+    #[serde(default)]
+    pub at: Option<Num>,
+    #[serde(default)]
+    pub white: Option<Num>,
+    #[serde(default)]
+    pub corner: Option<Num>,
+}
+
+/// How close the output gets to the rails at a load: given as the
+/// distances (`neg`, `pos`), or as the output levels (`low`, `high`) with
+/// the `supply` they were measured on.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SwingFigures {
+    #[serde(default)]
+    pub neg: Option<Num>,
+    #[serde(default)]
+    pub pos: Option<Num>,
+    #[serde(default)]
+    pub low: Option<Num>,
+    #[serde(default)]
+    pub high: Option<Num>,
+    #[serde(default)]
+    pub supply: Option<(Num, Num)>,
+    /// The load the swing is given at (Ω).
+    #[serde(default)]
+    pub load: Option<Num>,
+}
+
+/// Where the input common-mode range ends inside each rail (V).
+#[derive(Debug, Clone, Copy, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RangeFigures {
+    pub neg: Num,
+    pub pos: Num,
+}
+
+/// The figures of one amplifier as a datasheet prints them.
+#[derive(Debug, Clone, PartialEq, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Figures {
+    /// A name for the comment (invented names only in shipped files).
+    #[serde(default)]
+    pub part: Option<String>,
+    #[serde(default)]
+    pub take: Take,
+    #[serde(default)]
+    pub gain_db: Option<Num>,
+    #[serde(default)]
+    pub a0: Option<Num>,
+    #[serde(default)]
+    pub gbw: Option<Num>,
+    /// The unity-gain crossing f_u (Hz).
+    #[serde(default)]
+    pub unity: Option<Num>,
+    /// Degrees, at the unity-gain crossing.
+    #[serde(default)]
+    pub phase_margin: Option<Num>,
+    #[serde(default)]
+    pub fp2: Option<Num>,
+    #[serde(default)]
+    pub ro: Option<Num>,
+    #[serde(default)]
+    pub zout: Option<Zout>,
+    #[serde(default)]
+    pub rin: Option<Num>,
+    #[serde(default)]
+    pub cin: Option<Num>,
+    #[serde(default)]
+    pub cin_cm: Option<Num>,
+    #[serde(default)]
+    pub cin_diff: Option<Num>,
+    #[serde(default)]
+    pub vnoise: Option<NoiseFigures>,
+    #[serde(default)]
+    pub inoise: Option<NoiseFigures>,
+    #[serde(default)]
+    pub swing: Option<SwingFigures>,
+    #[serde(default)]
+    pub input_range: Option<RangeFigures>,
+    #[serde(default)]
+    pub slew: Option<TypMax>,
+    #[serde(default)]
+    pub vos: Option<TypMax>,
+    #[serde(default)]
+    pub vos_drift: Option<TypMax>,
+    #[serde(default)]
+    pub ib: Option<TypMax>,
+    #[serde(default)]
+    pub ios: Option<TypMax>,
+    #[serde(default)]
+    pub iout: Option<TypMax>,
+}
+
+/// One value of the derived `amp` block and how it was found.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Derived {
+    /// The `amp` field (`fp2`).
+    pub field: &'static str,
+    pub value: f64,
+    /// The formula and its inputs, for the comment beside the value.
+    pub how: String,
+}
+
+/// The whole derivation: the model and each value's note.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Derivation {
+    pub amp: Amp,
+    pub values: Vec<Derived>,
+    /// Which of gbw and f_u the figures gave.
+    pub given: &'static str,
+}
+
+fn hz(x: f64) -> String {
+    fmt_eng_sig(x, "Hz", 5)
+}
+
+fn need<T: Copy>(field: &str, v: Option<T>, what: &str) -> Result<T, Problem> {
+    v.ok_or_else(|| Problem::new(field, format!("missing: {what}")))
+}
+
+fn one_of(
+    field_a: &str,
+    a: Option<Num>,
+    field_b: &str,
+    b: Option<Num>,
+) -> Result<Option<(bool, f64)>, Problem> {
+    match (a, b) {
+        (Some(_), Some(_)) => Err(Problem::new(
+            field_b,
+            format!("give `{field_a}` or `{field_b}`, not both"),
+        )),
+        (Some(x), None) => Ok(Some((true, x.0))),
+        (None, Some(x)) => Ok(Some((false, x.0))),
+        (None, None) => Ok(None),
+    }
+}
+
+/// A noise figure → white level and corner, with the note.
+fn noise(field: &'static str, n: &NoiseFigures, unit: &str) -> Result<(Noise, String), Problem> {
+    let d = |x: f64| fmt_eng_sig(x, unit, 4);
+    match (&n.spots, n.density, n.white) {
+        (Some(spots), None, None) if n.corner.is_none() && n.at.is_none() => {
+            let [(fa, ea), (fb, eb)] = spots.as_slice() else {
+                return Err(Problem::new(field, format!("`spots` takes two (frequency, density) pairs, not {}", spots.len())));
+            };
+            let r = noise_from_spots(field, (fa.0, ea.0), (fb.0, eb.0))?;
+            Ok((
+                r,
+                format!(
+                    "from e(f)² = e_n²(1 + f_c/f) through {} at {} and {} at {}",
+                    d(ea.0),
+                    hz(fa.0),
+                    d(eb.0),
+                    hz(fb.0)
+                ),
+            ))
+        }
+        (None, Some(e), None) => {
+            let f = need(field, n.at, "`at`, the frequency of the density")?;
+            let fc = need(field, n.corner, "`corner`, the 1/f corner")?;
+            let r = noise_from_spot_and_corner(field, f.0, e.0, fc.0)?;
+            Ok((r, format!("e_n = e/√(1 + f_c/f): e = {} at {}, f_c = {}", d(e.0), hz(f.0), hz(fc.0))))
+        }
+        (None, None, Some(w)) if n.at.is_none() => {
+            positive(field, w.0)?;
+            if let Some(fc) = n.corner {
+                if !(fc.0.is_finite() && fc.0 >= 0.0) {
+                    return Err(Problem::new(field, format!("a 1/f corner is 0 Hz or more, not {}", fc.0)));
+                }
+            }
+            let r = Noise {
+                white: w.0,
+                corner: n.corner.map(|c| c.0).filter(|c| *c > 0.0),
+            };
+            Ok((r, "the white density and corner as given".into()))
+        }
+        _ => Err(Problem::new(
+            field,
+            "give `spots: [(f1, e1), (f2, e2)]`, or `density` with `at` and `corner`, or `white` (and `corner`)",
+        )),
+    }
+}
+
+/// A typical or maximum figure as `take` says, falling back to the
+/// other when only that one is given.
+fn typmax(field: &'static str, t: TypMax, take: Take) -> Result<(f64, String), Problem> {
+    let (first, second, a, b) = match take {
+        Take::Typical => (t.typ, t.max, "typical", "maximum"),
+        Take::Maximum => (t.max, t.typ, "maximum", "typical"),
+    };
+    match (first, second) {
+        (Some(x), _) => Ok((x.0, format!("{a}, as given"))),
+        (None, Some(x)) => Ok((x.0, format!("{b} as given (no {a} figure)"))),
+        (None, None) => Err(Problem::new(field, "give `typ` or `max`")),
+    }
+}
+
+/// Derive the `amp` block from datasheet figures.
+pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
+    let mut out = Vec::new();
+    let mut put = |field: &'static str, value: f64, how: String| {
+        out.push(Derived { field, value, how });
+    };
+    // a0
+    let a0 = match one_of("gain_db", f.gain_db, "a0", f.a0)? {
+        Some((true, db)) => {
+            let a0 = a0_from_db(db);
+            put("a0", a0, format!("10^(dB/20): open-loop gain {db} dB"));
+            a0
+        }
+        Some((false, a0)) => {
+            put("a0", a0, "as given".into());
+            a0
+        }
+        None => {
+            return Err(Problem::new(
+                "gain_db",
+                "missing: the open-loop gain (`gain_db` or `a0`)",
+            ))
+        }
+    };
+    // gbw, fp2
+    let pm = f.phase_margin.map(|p| p.0);
+    let crossing = one_of("gbw", f.gbw, "unity", f.unity)?;
+    let Some((gbw_given, freq)) = crossing else {
+        return Err(Problem::new(
+            "gbw",
+            "missing: the gain-bandwidth `gbw` or the unity-gain frequency `unity`",
+        ));
+    };
+    if pm.is_some() && f.fp2.is_some() {
+        return Err(Problem::new(
+            "fp2",
+            "give `phase_margin` or `fp2`, not both",
+        ));
+    }
+    let given = if gbw_given { "gbw" } else { "f_u" };
+    let (gbw, fp2) = match (pm, gbw_given) {
+        (Some(pm), true) => {
+            let p = poles_from_gbw(freq, pm)?;
+            put(
+                "gbw",
+                p.gbw,
+                format!(
+                    "as given (gbw given; crossing f_u = gbw·sin PM = {})",
+                    hz(p.f_u)
+                ),
+            );
+            put(
+                "fp2",
+                p.fp2,
+                format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(p.f_u)),
+            );
+            (p.gbw, Some(p.fp2))
+        }
+        (Some(pm), false) => {
+            let p = poles_from_crossing(freq, pm)?;
+            put(
+                "gbw",
+                p.gbw,
+                format!(
+                    "f_u·√(1 + (f_u/fp2)²): f_u = {} given, fp2 = {}",
+                    hz(freq),
+                    hz(p.fp2)
+                ),
+            );
+            put(
+                "fp2",
+                p.fp2,
+                format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(freq)),
+            );
+            (p.gbw, Some(p.fp2))
+        }
+        (None, _) => {
+            let how = if gbw_given {
+                "as given (gbw given)".to_string()
+            } else {
+                format!("= f_u = {} given (one pole: gbw = f_u)", hz(freq))
+            };
+            put("gbw", freq, how);
+            if let Some(p2) = f.fp2 {
+                put("fp2", p2.0, "as given".into());
+            }
+            (freq, f.fp2.map(|p| p.0))
+        }
+    };
+    if !(a0.is_finite() && a0 > 1.0) {
+        return Err(Problem::new(
+            if f.a0.is_some() { "a0" } else { "gain_db" },
+            format!("an open-loop gain of {a0} is not above 1"),
+        ));
+    }
+    // rin, cin
+    let rin = f.rin.map(|r| r.0);
+    if let Some(r) = rin {
+        put("rin", r, "as given".into());
+    }
+    let cin = match (
+        f.cin,
+        f.cin_cm.or(f.cin_diff).map(|_| (f.cin_cm, f.cin_diff)),
+    ) {
+        (Some(_), Some(_)) => {
+            return Err(Problem::new(
+                "cin",
+                "give `cin` or `cin_cm` and `cin_diff`, not both",
+            ))
+        }
+        (Some(c), None) => {
+            put("cin", c.0, "as given".into());
+            Some(c.0)
+        }
+        (None, Some((cm, diff))) => {
+            let (cm, diff) = (cm.map_or(0.0, |c| c.0), diff.map_or(0.0, |c| c.0));
+            let c = cin_per_pin(cm, diff);
+            put(
+                "cin",
+                c,
+                format!(
+                    "per pin C_cm + C_diff (common practice; exact with the other input at AC ground): {} + {}",
+                    fmt_eng_sig(cm, "F", 4),
+                    fmt_eng_sig(diff, "F", 4)
+                ),
+            );
+            Some(c)
+        }
+        (None, None) => None,
+    };
+    // ro
+    let ro = match (f.ro, f.zout) {
+        (Some(_), Some(_)) => return Err(Problem::new("zout", "give `ro` or `zout`, not both")),
+        (Some(r), None) => {
+            put("ro", r.0, "as given".into());
+            r.0
+        }
+        (None, Some(z)) => {
+            let circuit = match z.circuit {
+                Circuit::NonInverting => TestCircuit::NonInverting(z.gain.0),
+                Circuit::Inverting => TestCircuit::Inverting(z.gain.0),
+            };
+            let beta = circuit.beta()?;
+            let ro = ro_from_closed_loop(z.ohms.0, z.at.0, circuit, a0, gbw, fp2)?;
+            put(
+                "ro",
+                ro,
+                format!(
+                    "|Z_cl|·|1 + A(jf)·β| with the model's complex A: |Z_cl| = {} at {}, β = {} ({:?} gain {})",
+                    fmt_eng_sig(z.ohms.0, "Ω", 4),
+                    hz(z.at.0),
+                    crate::model::values::fmt_plain(beta, 4),
+                    z.circuit,
+                    z.gain.0
+                ),
+            );
+            ro
+        }
+        (None, None) => return Err(Problem::new("ro", "missing: `ro`, or `zout` (the closed-loop output impedance at a frequency in a test circuit)")),
+    };
+    // noise
+    let vn = f
+        .vnoise
+        .as_ref()
+        .ok_or_else(|| Problem::new("vnoise", "missing: the voltage noise `vnoise`"))?;
+    let (v, vhow) = noise("vnoise", vn, "V/√Hz")?;
+    put("vnoise", v.white, vhow.clone());
+    if let Some(c) = v.corner {
+        put("vnoise_corner", c, vhow);
+    }
+    let inn = f
+        .inoise
+        .as_ref()
+        .ok_or_else(|| Problem::new("inoise", "missing: the current noise `inoise`"))?;
+    let (i, ihow) = noise("inoise", inn, "A/√Hz")?;
+    put("inoise", i.white, ihow.clone());
+    if let Some(c) = i.corner {
+        put("inoise_corner", c, ihow);
+    }
+    // copied figures
+    let mut copy = |field: &'static str, t: Option<TypMax>| -> Result<Option<f64>, Problem> {
+        match t {
+            Some(t) => {
+                let (x, how) = typmax(field, t, f.take)?;
+                out.push(Derived {
+                    field,
+                    value: x,
+                    how,
+                });
+                Ok(Some(x))
+            }
+            None => Ok(None),
+        }
+    };
+    let vos = copy("vos", f.vos)?;
+    let vos_drift = copy("vos_drift", f.vos_drift)?;
+    let ib = copy("ib", f.ib)?;
+    let ios = copy("ios", f.ios)?;
+    let slew = copy("slew", f.slew)?;
+    // swing
+    let mut swing_load = None;
+    let (swing_neg, swing_pos) = match f.swing {
+        None => (None, None),
+        Some(s) => {
+            let load = s
+                .load
+                .map(|l| format!(" at a {} load (swing_load)", fmt_eng_sig(l.0, "Ω", 4)))
+                .unwrap_or_else(|| " (no load given)".into());
+            if let Some(l) = s.load {
+                swing_load = Some(l.0);
+                out.push(Derived {
+                    field: "swing_load",
+                    value: l.0,
+                    how: "as given: the load the swing was specified into, returned to mid-supply"
+                        .into(),
+                });
+            }
+            let (n, p, how) = match (s.neg, s.pos, s.low, s.high, s.supply) {
+                (Some(n), Some(p), None, None, None) => (n.0, p.0, format!("as given{load}")),
+                (None, None, Some(lo), Some(hi), Some((sn, sp))) => {
+                    let (n, p) = swing_from_levels(lo.0, hi.0, (sn.0, sp.0))?;
+                    (n, p, format!("rail − level: output {} V … {} V on {} V … {} V{load}", lo.0, hi.0, sn.0, sp.0))
+                }
+                _ => {
+                    return Err(Problem::new(
+                        "swing",
+                        "give `neg` and `pos` (the distance to each rail), or `low`, `high` and `supply`",
+                    ))
+                }
+            };
+            out.push(Derived {
+                field: "swing_neg",
+                value: n,
+                how: how.clone(),
+            });
+            out.push(Derived {
+                field: "swing_pos",
+                value: p,
+                how,
+            });
+            (Some(n), Some(p))
+        }
+    };
+    let (cm_neg, cm_pos) = match f.input_range {
+        Some(r) => {
+            out.push(Derived {
+                field: "cm_neg",
+                value: r.neg.0,
+                how: "as given (inside the negative rail)".into(),
+            });
+            out.push(Derived {
+                field: "cm_pos",
+                value: r.pos.0,
+                how: "as given (inside the positive rail)".into(),
+            });
+            (Some(r.neg.0), Some(r.pos.0))
+        }
+        None => (None, None),
+    };
+    let iout = {
+        let mut copy = |field: &'static str, t: Option<TypMax>| -> Result<Option<f64>, Problem> {
+            match t {
+                Some(t) => {
+                    let (x, how) = typmax(field, t, f.take)?;
+                    out.push(Derived {
+                        field,
+                        value: x,
+                        how,
+                    });
+                    Ok(Some(x))
+                }
+                None => Ok(None),
+            }
+        };
+        copy("iout", f.iout)?
+    };
+    let amp = Amp {
+        a0,
+        gbw,
+        fp2,
+        rin,
+        cin,
+        ro,
+        vnoise: v.white,
+        vnoise_corner: v.corner,
+        inoise: i.white,
+        inoise_corner: i.corner,
+        vos,
+        vos_drift,
+        ib,
+        ios,
+        slew,
+        swing_neg,
+        swing_pos,
+        swing_load,
+        cm_neg,
+        cm_pos,
+        iout,
+        ib_doubling: None,
+    };
+    // Print in the scenario's field order.
+    const ORDER: [&str; 21] = [
+        "a0",
+        "gbw",
+        "fp2",
+        "rin",
+        "cin",
+        "ro",
+        "vnoise",
+        "vnoise_corner",
+        "inoise",
+        "inoise_corner",
+        "vos",
+        "vos_drift",
+        "ib",
+        "ios",
+        "slew",
+        "swing_neg",
+        "swing_pos",
+        "swing_load",
+        "cm_neg",
+        "cm_pos",
+        "iout",
+    ];
+    out.sort_by_key(|d| ORDER.iter().position(|o| *o == d.field));
+    Ok(Derivation {
+        amp,
+        values: out,
+        given,
+    })
+}
