@@ -6,7 +6,7 @@ use crate::engine::netlist::NoiseKind;
 use crate::judge::limit_rules;
 pub use crate::judge::warning::*;
 use crate::model::params::PARAMS;
-use crate::model::scenario::{present, Scenario, Topology};
+use crate::model::scenario::{present, Scenario};
 use crate::model::values::fmt_eng;
 
 /// Every rule, in the order their warnings are listed within a severity.
@@ -208,7 +208,7 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
 /// The parts that pull the passive network's gain off the resistor ratio.
 fn divider_parts(s: &Scenario) -> Vec<String> {
     let mut parts = Vec::new();
-    let source = present(Some(s.source.r)).filter(|_| s.stage.topology == Topology::Inverting);
+    let source = present(Some(s.source.r)).filter(|_| s.stage.topology.kind().source_in_network);
     if let Some(r) = source {
         parts.push(format!("source r {} in series with rg", fmt_eng(r, "Ω")));
     }
@@ -335,13 +335,7 @@ fn noise_advice(n: &crate::engine::analysis::NoiseShare) -> String {
 /// What the amplifier output drives at DC: the feedback network and the load.
 fn heavy_output_load(cx: &Context, w: &mut Vec<Warning>) {
     let (s, st) = (cx.s, &cx.s.stage);
-    let rf = st.rf.unwrap_or(0.0);
-    let feedback = match st.topology {
-        Topology::NonInverting => rf + st.rg.unwrap_or(0.0),
-        Topology::Inverting => rf,
-        // A follower's rf carries only the input current.
-        Topology::Follower => f64::INFINITY,
-    };
+    let feedback = (st.topology.kind().feedback_load)(st);
     let load = s
         .load
         .r

@@ -6,6 +6,7 @@ pub mod eseries;
 pub mod names;
 pub mod params;
 pub mod scenario;
+pub mod stages;
 pub mod values;
 
 pub use eseries::Series;

@@ -69,9 +69,11 @@ pub enum Presence {
     ZeroIsAbsent,
     /// Zero is allowed and means something (an ideal source).
     ZeroAllowed,
-    /// Needed by gain stages; a follower has no such part.
+    /// A part of the stage's kind: shown when the kind has it, needed
+    /// when the kind says so (`stages::PartDecl::required`).
     GainStage,
-    /// Needed by gain stages; in a follower absent or zero is a wire.
+    /// A part of the stage's kind; where the kind does not need it,
+    /// absent or zero is a wire.
     FeedbackResistor,
 }
 
@@ -959,40 +961,48 @@ pub fn file_field(path: &str) -> &str {
     path.strip_prefix("band.").map(|_| "band").unwrap_or(path)
 }
 
-/// Change topology, filling in what the new one needs.
+/// Change topology, keeping the values of the parts both kinds have
+/// and filling in the parts the new one needs.
 pub fn set_topology(s: &mut Scenario, t: Topology) {
     s.stage.topology = t;
-    if t != Topology::Follower {
-        if s.stage.rg.is_none() {
-            s.stage.rg = Some(1e3);
-        }
-        if s.stage.rf.filter(|v| *v > 0.0).is_none() {
-            s.stage.rf = Some(10e3);
+    for part in t.kind().parts {
+        let (Some(start), Some(p)) = (part.start, param(part.param)) else {
+            continue;
+        };
+        if p.get(s).filter(|v| *v > 0.0).is_none() {
+            p.set(s, Some(start));
         }
     }
 }
 
-fn follower(s: &Scenario) -> bool {
-    s.stage.topology == Topology::Follower
-}
-
 impl Param {
-    /// Whether the row applies to this topology (a follower has no rg).
+    /// Whether the row applies to this stage: a part the stage's kind
+    /// does not have does not (a follower has no rg).
     pub fn applies(&self, s: &Scenario) -> bool {
-        !(self.presence == GainStage && follower(s))
+        !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
+    }
+
+    /// A part the stage's kind does not need (or does not have).
+    fn optional_part(&self, s: &Scenario) -> bool {
+        s.stage
+            .topology
+            .kind()
+            .part(self.path)
+            .is_none_or(|p| !p.required)
     }
 
     /// Whether absent (or zero) is a valid state for this stage.
     fn may_be_absent(&self, s: &Scenario) -> bool {
         match self.presence {
             Optional | ZeroIsAbsent => true,
-            GainStage | FeedbackResistor => follower(s),
+            GainStage | FeedbackResistor => self.optional_part(s),
             Required | ZeroAllowed => false,
         }
     }
 
     fn zero_is_absent(&self, s: &Scenario) -> bool {
-        self.presence == ZeroIsAbsent || (self.presence == FeedbackResistor && follower(s))
+        self.presence == ZeroIsAbsent
+            || (self.presence == FeedbackResistor && self.optional_part(s))
     }
 
     /// Whether the value is a real resistor that should sit on the series.
@@ -1040,7 +1050,7 @@ impl Param {
             };
         }
         let Some(v) = self.get(s) else {
-            let wire = self.presence == FeedbackResistor && follower(s);
+            let wire = self.presence == FeedbackResistor && self.optional_part(s);
             return if wire { "wire" } else { "none" }.into();
         };
         match self.format {
@@ -1248,7 +1258,7 @@ impl Param {
             let zero = match self.presence {
                 ZeroIsAbsent => " (or 0 for none)",
                 ZeroAllowed => " (or 0)",
-                FeedbackResistor if follower(s) => " (or 0 for a wire)",
+                FeedbackResistor if self.optional_part(s) => " (or 0 for a wire)",
                 _ => "",
             };
             let range = self.range_text();
@@ -1344,7 +1354,7 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
     // The target is signed like the stage's gain: −rf/rg inverting, else
     // positive; the other sign would read as an error near −200 %.
     if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
-        let inverting = s.stage.topology == Topology::Inverting;
+        let inverting = s.stage.topology.kind().negative;
         if t != 0.0 && (t < 0.0) != inverting {
             let sign = if inverting { "negative" } else { "positive" };
             p.push(FieldProblem {

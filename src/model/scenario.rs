@@ -39,23 +39,6 @@ impl Topology {
             Topology::Follower => "Follower",
         }
     }
-
-    /// Whether the stage has an rg and an rf (every topology but the
-    /// follower).
-    pub fn has_resistors(self) -> bool {
-        self != Topology::Follower
-    }
-
-    /// The topologies with an rg and an rf, as a list for messages: `sep`
-    /// between the names (" or ", " and ").
-    pub fn with_resistors(sep: &str) -> String {
-        let names: Vec<&str> = Topology::ALL
-            .into_iter()
-            .filter(|t| t.has_resistors())
-            .map(Topology::name)
-            .collect();
-        names.join(sep)
-    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -570,19 +553,6 @@ fn bare<T: Serialize, S: serde::Serializer>(v: &Option<T>, s: S) -> Result<S::Ok
     match v {
         Some(x) => x.serialize(s),
         None => s.serialize_none(),
-    }
-}
-
-impl Scenario {
-    /// The gain the resistor ratio sets: 1 + rf/rg, −rf/rg, or 1.
-    pub fn nominal_gain(&self) -> f64 {
-        let s = self;
-        let (rg, rf) = (s.stage.rg.unwrap_or(0.0), s.stage.rf.unwrap_or(0.0));
-        match s.stage.topology {
-            Topology::NonInverting => 1.0 + rf / rg,
-            Topology::Inverting => -rf / rg,
-            Topology::Follower => 1.0,
-        }
     }
 }
 

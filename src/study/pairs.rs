@@ -90,11 +90,12 @@ impl Pair {
     /// The figures of one pair for a target gain.
     pub fn new(topology: Topology, target: f64, rg: f64, rf: f64) -> Pair {
         let ratio = rf / rg;
-        let (gain, load_ohm) = match topology {
-            // The inverting input is a virtual ground: rg loads the source,
-            // only rf the output.
-            Topology::Inverting => (ratio, rf),
-            _ => (1.0 + ratio, rf + rg),
+        // The kind says what the ratio gives and what the pair loads the
+        // output with (an inverting input is a virtual ground: rg loads
+        // the source, only rf the output).
+        let (gain, load_ohm) = match topology.kind().pairs {
+            Some(k) => ((k.gain)(ratio), (k.load)(rg, rf)),
+            None => (f64::NAN, f64::INFINITY),
         };
         let four_kt = 4.0 * BOLTZMANN * NOISE_TEMP_K;
         // rf's own noise reaches the output at gain 1, rg's at rf/rg
@@ -130,11 +131,10 @@ pub fn check(q: &Query) -> Result<(), QueryProblem> {
     if !(q.target.is_finite() && q.target > 0.0) {
         return fail(QueryField::Target, "must be above 0 (give the magnitude)");
     }
-    if q.topology == Topology::NonInverting && q.target <= 1.0 {
-        return fail(
-            QueryField::Target,
-            "must be above 1 for a non-inverting stage (its gain is 1 + rf/rg)",
-        );
+    if let Some((lo, why)) = q.topology.kind().pairs.and_then(|k| k.above) {
+        if q.target <= lo {
+            return fail(QueryField::Target, why);
+        }
     }
     if q.target > GAIN_TARGET.1 {
         return Err(problem(
@@ -200,10 +200,10 @@ fn reachable(q: &Query) -> Result<(), QueryProblem> {
 
 /// rf/rg for the target: the gain (Inverting) or the gain − 1.
 fn ideal_ratio(q: &Query) -> f64 {
-    match q.topology {
-        Topology::Inverting => q.target,
-        _ => q.target - 1.0,
-    }
+    q.topology
+        .kind()
+        .pairs
+        .map_or(f64::NAN, |k| (k.ratio)(q.target))
 }
 
 /// The ranking: |error| ascending, where a run of errors each within

@@ -133,12 +133,13 @@ pub fn meets(a: &Analysis, target_deg: f64) -> bool {
     }
 }
 
-/// The parts a topology can be stabilised with.
-pub fn parts(topology: Topology) -> &'static [Part] {
-    match topology {
-        Topology::Follower => &[Part::Riso],
-        _ => &[Part::Riso, Part::Cf],
-    }
+/// The parts a topology can be stabilised with: those its kind offers.
+pub fn parts(topology: Topology) -> Vec<Part> {
+    let offered = topology.kind().stabilize;
+    [Part::Riso, Part::Cf]
+        .into_iter()
+        .filter(|p| offered.contains(&p.name()))
+        .collect()
 }
 
 /// The smallest value of `part` that meets the target: the series values
@@ -176,7 +177,7 @@ pub fn options(s: &Scenario, target_deg: f64) -> anyhow::Result<Options> {
         options: Vec::new(),
         misses: Vec::new(),
     };
-    for &part in parts(s.stage.topology) {
+    for part in parts(s.stage.topology) {
         match smallest(s, part, target_deg) {
             Some(fix) => out.options.push(fix),
             None => {
