@@ -2,7 +2,7 @@
 //! at any complex frequency. Topologies differ only in how the builder wires
 //! the same elements; the solver never knows which one it has.
 
-use crate::model::scenario::{present, Amp, Scenario};
+use crate::model::scenario::{present, Amp, Feedback, Scenario};
 use crate::model::stages::{kind, Element as Kinds, Node, PartDecl, KINDS};
 use crate::num::solver::{Matrix, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
@@ -132,6 +132,9 @@ pub struct Netlist {
     /// The isolation resistor between the amplifier pin and the load
     /// terminal, ohms (0 when absent: the two are one node).
     pub riso: f64,
+    /// The feedback is taken at the load terminal (after riso): the pin
+    /// impedance with riso taken out is then no closed loop's.
+    pub feedback_at_load: bool,
     /// Load at the out node (removed for Zout).
     pub load_g: f64,
     pub load_c: f64,
@@ -230,13 +233,15 @@ enum Part {
     Wire(Pin, Pin),
 }
 
-/// The netlist pin a kind's named node is.
-fn pin(n: Node) -> Pin {
+/// The netlist pin a kind's named node is: the feedback point is the
+/// amplifier pin or the load terminal, as the stage takes it.
+fn pin(n: Node, feedback: Feedback) -> Pin {
     match n {
         Node::Ground | Node::Reference => Pin::Gnd,
         Node::Input => Pin::Term,
         Node::Plus => Pin::InP,
         Node::Minus => Pin::InN,
+        Node::Feedback if feedback == Feedback::Load => Pin::Out,
         Node::AmpOut | Node::Feedback => Pin::Amp,
         Node::Load => Pin::Out,
     }
@@ -255,7 +260,7 @@ fn kind_parts(s: &Scenario) -> impl Iterator<Item = Part> + '_ {
         .iter()
         .filter(move |d| shown(d))
         .filter_map(move |d| {
-            let (a, b) = (pin(d.a), pin(d.b));
+            let (a, b) = (pin(d.a, st.feedback), pin(d.b, st.feedback));
             match d.element {
                 Kinds::Wire => Some(Part::Wire(a, b)),
                 Kinds::Resistor => {
@@ -528,6 +533,8 @@ impl Netlist {
             term: node(Term),
             input_paths: input_paths(&parts),
             riso: s.stage.riso.unwrap_or(0.0),
+            feedback_at_load: s.stage.feedback == Feedback::Load
+                && s.stage.riso.unwrap_or(0.0) > 0.0,
             load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
             load_c: s.load.c.unwrap_or(0.0),
             noise,

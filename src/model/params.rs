@@ -7,7 +7,9 @@
 //! to [`PARAMS`]. Nothing else needs to know.
 
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
-use crate::model::scenario::{Dist, FieldProblem, Scenario, Step, Supply, Topology};
+use crate::model::scenario::{
+    present, Dist, Feedback, FieldProblem, Scenario, Step, Supply, Topology,
+};
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -289,7 +291,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 57] = [
+pub static PARAMS: [Param; 58] = [
     entry(
         "stage.topology",
         "topology",
@@ -353,6 +355,25 @@ pub static PARAMS: [Param; 57] = [
         number!(opt stage.riso),
     )
     .starting(|_| 10.0),
+    entry(
+        "stage.feedback",
+        "feedback",
+        "",
+        Stage,
+        Choice,
+        Optional,
+        (0.0, 0.0),
+        Access::Choice {
+            names: &Feedback::NAMES,
+            get: |s| {
+                Feedback::ALL
+                    .iter()
+                    .position(|f| *f == s.stage.feedback)
+                    .unwrap_or(0)
+            },
+            set: |s, i| s.stage.feedback = Feedback::ALL[i % Feedback::ALL.len()],
+        },
+    ),
     entry(
         "stage.series",
         "series",
@@ -979,6 +1000,11 @@ impl Param {
     /// Whether the row applies to this stage: a part the stage's kind
     /// does not have does not (a follower has no rg).
     pub fn applies(&self, s: &Scenario) -> bool {
+        // Where the feedback is taken matters only across an riso (without
+        // one the pin and the load terminal are one node).
+        if self.path == "stage.feedback" {
+            return present(s.stage.riso).is_some();
+        }
         !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
     }
 
@@ -1008,6 +1034,15 @@ impl Param {
     /// Whether the value is a real resistor that should sit on the series.
     pub fn is_resistor(&self) -> bool {
         self.stepping == Resistor
+    }
+
+    /// Whether the file gives the field: an optional choice at its first
+    /// (default) entry is left out of the reports, as of a saved file.
+    pub fn given(&self, s: &Scenario) -> bool {
+        match self.access {
+            Access::Choice { get, .. } => self.presence != Optional || get(s) != 0,
+            Access::Number { .. } => true,
+        }
     }
 
     /// The raw value as stored (zero kept), None when absent or a choice.

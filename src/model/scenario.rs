@@ -41,6 +41,34 @@ impl Topology {
     }
 }
 
+/// Where the feedback is taken: the amplifier's output pin, or the load
+/// terminal after riso (rf from the load, cf from the pin).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Feedback {
+    #[default]
+    Pin,
+    Load,
+}
+
+impl Feedback {
+    /// Both, in the workbench's order.
+    pub const ALL: [Feedback; 2] = [Feedback::Pin, Feedback::Load];
+    /// Their names, as in a stage file.
+    pub const NAMES: [&'static str; 2] = names_of!(Feedback, 2);
+
+    pub const fn name(self) -> &'static str {
+        match self {
+            Feedback::Pin => "Pin",
+            Feedback::Load => "Load",
+        }
+    }
+
+    /// The default (left out of a saved file).
+    pub fn is_pin(&self) -> bool {
+        *self == Feedback::Pin
+    }
+}
+
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Stage {
@@ -73,6 +101,9 @@ pub struct Stage {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub riso: Option<f64>,
+    /// Where rf takes the feedback (`Pin` when absent).
+    #[serde(default, skip_serializing_if = "Feedback::is_pin")]
+    pub feedback: Feedback,
     pub series: Series,
     #[serde(deserialize_with = "number")]
     pub tolerance: f64,
