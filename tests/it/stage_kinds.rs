@@ -2,7 +2,7 @@
 //! netlist, and the spread's corners beyond 2^10.
 
 use crate::support::closed_forms::assert_rel;
-use crate::support::stages::{in_range, plain};
+use crate::support::stages::{follower, in_range, plain};
 
 use loopwright::engine::analysis::analyze;
 use loopwright::engine::circuit::Circuit;
@@ -199,4 +199,21 @@ fn feedback_from_a_file() {
     let line = bad.lines().position(|l| l.contains("After")).unwrap() + 1;
     assert!(err.contains("stage.feedback"), "{err}");
     assert!(err.contains(&format!("f.ron:{line}:")), "{err}");
+}
+
+/// A follower with the feedback at the load has its − input at the load
+/// terminal: the load sits at the input (gain 1 within 1/loop gain); at
+/// the pin riso and the load divide it, 1000/1050 (textbook divider).
+#[test]
+fn a_follower_with_the_feedback_at_the_load() {
+    for (fb, want) in [(Feedback::Load, 1.0), (Feedback::Pin, 1000.0 / 1050.0)] {
+        let mut s = in_range(follower());
+        s.amp.a0 = 1.0e6;
+        s.stage.riso = Some(50.0);
+        s.stage.feedback = fb;
+        s.load.r = Some(1.0e3);
+        let a = analyze(&s);
+        let tol = 2.0 / a.dc.loop_gain.norm();
+        assert_rel(&format!("follower dc gain, {fb:?}"), a.dc_gain, want, tol);
+    }
 }
