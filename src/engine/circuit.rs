@@ -124,12 +124,18 @@ impl Circuit {
 
     /// Zout_pin: the driving-point impedance at the amplifier's output pin
     /// (one more pair of triangular solves with the same factors), with
-    /// the riso + load branch taken out.
+    /// the riso + load branch taken out; NaN with the feedback at the load.
     fn zout_pin(&self, lu: &Lu, s: C64) -> C64 {
         let net = &self.net;
         let Some(a) = net.amp_node else {
             return ZERO;
         };
+        // With the feedback taken after riso, taking riso out opens the
+        // loop: there is no closed-loop pin impedance to give (NaN, read
+        // as null).
+        if net.feedback_at_load {
+            return C64::new(f64::NAN, f64::NAN);
+        }
         let mut e = [ZERO; MAXN];
         e[a] = C64::new(1.0, 0.0);
         let z_par = lu.solve(&e)[a];

@@ -12,7 +12,8 @@
 
 use crate::engine::circuit::{Circuit, Signals, Sweep};
 use crate::engine::netlist::Netlist;
-use crate::model::scenario::{present, Scenario, Topology};
+use crate::model::scenario::{present, Scenario};
+use crate::model::stages::Node;
 use crate::num::refine::refine_max;
 use crate::num::solver::{Lu, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
@@ -295,7 +296,8 @@ fn output_range(s: &Scenario, l: &mut Limits, dc: &Dc, peak: f64, int_max: f64) 
 
 /// The + pin's range and its headroom to the common-mode limits.
 fn input_range(s: &Scenario, l: &mut Limits, dc: &Dc, pin_peak: f64) {
-    let (lo, hi) = if s.stage.topology == Topology::Inverting {
+    // A + pin tied to the reference sits at its level (ground).
+    let (lo, hi) = if s.stage.topology.kind().reference == Some(Node::Plus) {
         (0.0, 0.0)
     } else {
         l.pin_u_v = dc.uncertainty(&l.dc.pin);

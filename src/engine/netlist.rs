@@ -2,7 +2,8 @@
 //! at any complex frequency. Topologies differ only in how the builder wires
 //! the same elements; the solver never knows which one it has.
 
-use crate::model::scenario::{present, Amp, Scenario, Topology};
+use crate::model::scenario::{present, Amp, Feedback, Scenario};
+use crate::model::stages::{kind, Element as Kinds, Node, PartDecl, KINDS};
 use crate::num::solver::{Matrix, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
 
@@ -131,6 +132,9 @@ pub struct Netlist {
     /// The isolation resistor between the amplifier pin and the load
     /// terminal, ohms (0 when absent: the two are one node).
     pub riso: f64,
+    /// The feedback is taken at the load terminal (after riso): the pin
+    /// impedance with riso taken out is then no closed loop's.
+    pub feedback_at_load: bool,
     /// Load at the out node (removed for Zout).
     pub load_g: f64,
     pub load_c: f64,
@@ -192,21 +196,31 @@ pub const MAX_NOISE: usize = 8;
 /// Boltzmann constant, J/K (SI 2019, exact).
 pub const BOLTZMANN: f64 = 1.380649e-23;
 
-/// The noisy resistors a stage can have: (key, label, kind). Every noise
-/// tag a wiring uses comes from here, so the count below is a bound.
-const NOISY: [(&str, &str, NoiseKind); 4] = [
-    ("source_r", "source r", NoiseKind::SourceResistance),
-    ("rg", "rg", NoiseKind::StageResistor),
-    ("rf", "rf", NoiseKind::StageResistor),
-    ("riso", "riso", NoiseKind::StageResistor),
-];
-const SOURCE_R: usize = 0;
-const RG: usize = 1;
-const RF: usize = 2;
-const RISO: usize = 3;
+/// The noisy resistors a stage can have: the source's own, and every
+/// resistor a kind declares (labelled by its name).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Noisy {
+    Source,
+    Part(&'static str),
+}
 /// The amplifier's noise sources: en and in at each input.
 const AMP_NOISE: usize = 3;
-const _: () = assert!(NOISY.len() + AMP_NOISE <= MAX_NOISE);
+const _: () = {
+    // Every kind's resistors, the source's and the amplifier's fit.
+    let mut i = 0;
+    while i < KINDS.len() {
+        let parts = KINDS[i].parts;
+        let (mut j, mut n) = (0, 1 + AMP_NOISE);
+        while j < parts.len() {
+            if matches!(parts[j].element, Kinds::Resistor) {
+                n += 1;
+            }
+            j += 1;
+        }
+        assert!(n <= MAX_NOISE);
+        i += 1;
+    }
+};
 /// At most every pin but ground and the source EMF is a node (the EMF is
 /// merged with ground behind a Norton source, or with the input terminal
 /// when the source is ideal), plus at most three branches (ideal EMF,
@@ -216,34 +230,54 @@ const _: () = assert!(PINS - 2 + 3 <= MAXN);
 /// One two-terminal part between logical pins.
 #[derive(Debug, Clone, Copy)]
 enum Part {
-    /// Ohms (zero = a wire) and, when it is noisy, its entry in [`NOISY`].
-    Resistor(Pin, Pin, f64, Option<usize>),
+    /// Ohms (zero = a wire) and, when it is noisy, which noise it carries.
+    Resistor(Pin, Pin, f64, Option<Noisy>),
     Capacitor(Pin, Pin, f64),
     Wire(Pin, Pin),
 }
 
-/// The parts of the input side of each topology: the only place a
-/// topology's wiring is written. A new topology is a new arm here.
-fn topology_parts(s: &Scenario) -> Vec<Part> {
-    use Pin::*;
-    let rg = s.stage.rg.unwrap_or(1.0);
-    match s.stage.topology {
-        Topology::NonInverting => vec![
-            Part::Wire(Term, InP),
-            Part::Resistor(InN, Gnd, rg, Some(RG)),
-        ],
-        Topology::Inverting => vec![
-            Part::Wire(InP, Gnd),
-            Part::Resistor(Term, InN, rg, Some(RG)),
-        ],
-        Topology::Follower => vec![Part::Wire(Term, InP)],
+/// The netlist pin a kind's named node is: the feedback point is the
+/// amplifier pin or the load terminal, as the stage takes it.
+fn pin(n: Node, feedback: Feedback) -> Pin {
+    match n {
+        Node::Ground | Node::Reference => Pin::Gnd,
+        Node::Input => Pin::Term,
+        Node::Plus => Pin::InP,
+        Node::Minus => Pin::InN,
+        Node::Feedback if feedback == Feedback::Load => Pin::Out,
+        Node::AmpOut | Node::Feedback => Pin::Amp,
+        Node::Load => Pin::Out,
     }
 }
 
-/// Every part of the stage: source, topology, feedback, output, amplifier.
+/// The parts the stage's kind declares, on netlist pins.
+fn kind_parts(s: &Scenario) -> impl Iterator<Item = Part> + '_ {
+    let st = &s.stage;
+    let decl = kind(st.topology);
+    let shown = move |d: &PartDecl| {
+        d.with
+            .and_then(|w| decl.parts.iter().find(|p| p.name == w))
+            .is_none_or(|w| w.value(st) > 0.0)
+    };
+    decl.parts
+        .iter()
+        .filter(move |d| shown(d))
+        .filter_map(move |d| {
+            let (a, b) = (pin(d.a, st.feedback), pin(d.b, st.feedback));
+            match d.element {
+                Kinds::Wire => Some(Part::Wire(a, b)),
+                Kinds::Resistor => {
+                    Some(Part::Resistor(a, b, d.value(st), Some(Noisy::Part(d.name))))
+                }
+                Kinds::Capacitor => present(Some(d.value(st))).map(|c| Part::Capacitor(a, b, c)),
+            }
+        })
+}
+
+/// Every part of the stage: source, the kind's parts, amplifier.
 fn parts(s: &Scenario, model: AmpModel) -> Vec<Part> {
     use Pin::*;
-    let (st, amp) = (&s.stage, &s.amp);
+    let amp = &s.amp;
     let mut p = Vec::new();
     // With resistance, the EMF is shorted into ground and the source
     // becomes a Norton current into Term; the resistor (and its noise)
@@ -251,14 +285,8 @@ fn parts(s: &Scenario, model: AmpModel) -> Vec<Part> {
     if s.source.r > 0.0 {
         p.push(Part::Wire(Src, Gnd));
     }
-    p.push(Part::Resistor(Src, Term, s.source.r, Some(SOURCE_R)));
-    p.extend(topology_parts(s));
-    let rf = st.rf.unwrap_or(0.0);
-    p.push(Part::Resistor(Amp, InN, rf, Some(RF)));
-    if let (true, Some(cf)) = (rf > 0.0, present(st.cf)) {
-        p.push(Part::Capacitor(Amp, InN, cf));
-    }
-    p.push(Part::Resistor(Amp, Out, st.riso.unwrap_or(0.0), Some(RISO)));
+    p.push(Part::Resistor(Src, Term, s.source.r, Some(Noisy::Source)));
+    p.extend(kind_parts(s));
     match model {
         AmpModel::Real => {
             if let Some(rin) = amp.rin {
@@ -324,7 +352,10 @@ fn stamp_parts(
             Part::Resistor(p, q, r, tag) if r != 0.0 && node(p) != node(q) => {
                 let (a, c) = (node(p), node(q));
                 elements.push(Element::Conductance(a, c, 1.0 / r));
-                if let Some((key, label, kind)) = tag.map(|i| NOISY[i]) {
+                if let Some((key, label, kind)) = tag.map(|t| match t {
+                    Noisy::Source => ("source_r", "source r", NoiseKind::SourceResistance),
+                    Noisy::Part(name) => (name, name, NoiseKind::StageResistor),
+                }) {
                     noise.push(NoiseSource {
                         key,
                         label,
@@ -389,7 +420,7 @@ fn input_paths(parts: &[Part]) -> InputPaths {
         for part in parts {
             match *part {
                 Part::Wire(p, q) => b.wire(p, q),
-                Part::Resistor(p, q, _, tag) if tag != Some(SOURCE_R) => b.wire(p, q),
+                Part::Resistor(p, q, _, tag) if tag != Some(Noisy::Source) => b.wire(p, q),
                 Part::Capacitor(p, q, _) if with_caps => b.wire(p, q),
                 _ => {}
             }
@@ -505,6 +536,8 @@ impl Netlist {
             term: node(Term),
             input_paths: input_paths(&parts),
             riso: s.stage.riso.unwrap_or(0.0),
+            feedback_at_load: s.stage.feedback == Feedback::Load
+                && s.stage.riso.unwrap_or(0.0) > 0.0,
             load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
             load_c: s.load.c.unwrap_or(0.0),
             noise,

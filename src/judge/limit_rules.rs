@@ -7,7 +7,8 @@ use crate::judge::warning::{
     push, Code, Context, Severity, Warning, HEADROOM_WARN_SHARE, IOUT_WARN_SHARE,
     OFFSET_WARN_SHARE, SLEW_WARN_SHARE,
 };
-use crate::model::scenario::{present, Supply, Topology};
+use crate::model::scenario::{present, Supply};
+use crate::model::stages::Node;
 use crate::model::values::fmt_eng;
 
 /// The internal output leaves the usable range between the rails.
@@ -93,7 +94,7 @@ pub fn input_range(cx: &Context, w: &mut Vec<Warning>) {
     if room >= 0.0 || cx.a.unstable() {
         return;
     }
-    let grounded = if cx.s.stage.topology == Topology::Inverting {
+    let grounded = if cx.s.stage.topology.kind().reference == Some(Node::Plus) {
         "the + input is grounded, and ground "
     } else {
         "the + input "

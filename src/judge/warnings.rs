@@ -6,7 +6,7 @@ use crate::engine::netlist::NoiseKind;
 use crate::judge::limit_rules;
 pub use crate::judge::warning::*;
 use crate::model::params::PARAMS;
-use crate::model::scenario::{present, Scenario, Topology};
+use crate::model::scenario::{present, Feedback, Scenario};
 use crate::model::values::fmt_eng;
 
 /// Every rule, in the order their warnings are listed within a severity.
@@ -208,11 +208,13 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
 /// The parts that pull the passive network's gain off the resistor ratio.
 fn divider_parts(s: &Scenario) -> Vec<String> {
     let mut parts = Vec::new();
-    let source = present(Some(s.source.r)).filter(|_| s.stage.topology == Topology::Inverting);
+    let source = present(Some(s.source.r)).filter(|_| s.stage.topology.kind().source_in_network);
     if let Some(r) = source {
         parts.push(format!("source r {} in series with rg", fmt_eng(r, "Ω")));
     }
-    if let (Some(riso), Some(rl)) = (present(s.stage.riso), s.load.r) {
+    // With the feedback taken at the load, riso is inside the loop.
+    let riso = present(s.stage.riso).filter(|_| s.stage.feedback == Feedback::Pin);
+    if let (Some(riso), Some(rl)) = (riso, s.load.r) {
         parts.push(format!(
             "riso {} into the {} load",
             fmt_eng(riso, "Ω"),
@@ -250,8 +252,14 @@ fn load_divider(cx: &Context, w: &mut Vec<Warning>) {
             a.nominal_gain
         ),
     };
+    // Taking the feedback after riso helps only where riso divides.
+    let fix = if parts.iter().any(|p| p.starts_with("riso")) {
+        "take the feedback after riso (feedback: Load) or rescale rf/rg"
+    } else {
+        "rescale rf/rg"
+    };
     let text = format!(
-        "{why} {against} ({:+.2} %), more than the {:.2} % tolerance; rescale rf/rg for them \
+        "{why} {against} ({:+.2} %), more than the {:.2} % tolerance; {fix} \
          (the r list and pairs --source-r --riso --load-r count them in)",
         change * 100.0,
         tol * 100.0
@@ -342,31 +350,45 @@ fn noise_advice(n: &crate::engine::analysis::NoiseShare) -> String {
     }
 }
 
-/// What the amplifier output drives at DC: the feedback network and the load.
+/// What the amplifier output drives at DC: the feedback network and the
+/// load, as the output actually drives them (with the feedback taken at
+/// the load, riso feeds both).
 fn heavy_output_load(cx: &Context, w: &mut Vec<Warning>) {
     let (s, st) = (cx.s, &cx.s.stage);
-    let rf = st.rf.unwrap_or(0.0);
-    let feedback = match st.topology {
-        Topology::NonInverting => rf + st.rg.unwrap_or(0.0),
-        Topology::Inverting => rf,
-        // A follower's rf carries only the input current.
-        Topology::Follower => f64::INFINITY,
-    };
+    let feedback = (st.topology.kind().feedback_load)(st);
+    let riso = st.riso.unwrap_or(0.0);
+    let at_load = st.feedback == Feedback::Load;
     let load = s
         .load
         .r
-        .map_or(f64::INFINITY, |r| r + st.riso.unwrap_or(0.0));
-    let seen = parallel(&[feedback, load]);
+        .map_or(f64::INFINITY, |r| if at_load { r } else { r + riso });
+    let seen = if at_load {
+        riso + parallel(&[feedback, load])
+    } else {
+        parallel(&[feedback, load])
+    };
     if seen >= HEAVY_LOAD_OHM {
         return;
     }
+    let network = if at_load {
+        format!(
+            "riso {} into feedback {} ∥ load {}",
+            fmt_eng(riso, "Ω"),
+            fmt_eng(feedback, "Ω"),
+            fmt_eng(load, "Ω")
+        )
+    } else {
+        format!(
+            "feedback {} ∥ load {}",
+            fmt_eng(feedback, "Ω"),
+            fmt_eng(load, "Ω")
+        )
+    };
     let text = format!(
-        "the amplifier output drives {} at DC (feedback {} ∥ load {}), {} per volt of \
+        "the amplifier output drives {} at DC ({network}), {} per volt of \
          output; below about {} the output current and heating grow: raise the resistor \
          values",
         fmt_eng(seen, "Ω"),
-        fmt_eng(feedback, "Ω"),
-        fmt_eng(load, "Ω"),
         fmt_eng(1.0 / seen, "A"),
         fmt_eng(HEAVY_LOAD_OHM, "Ω")
     );

@@ -8,6 +8,7 @@ pub mod names;
 pub mod params;
 pub mod part;
 pub mod scenario;
+pub mod stages;
 pub mod values;
 
 pub use eseries::Series;

@@ -7,7 +7,9 @@
 //! to [`PARAMS`]. Nothing else needs to know.
 
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
-use crate::model::scenario::{Dist, FieldProblem, Scenario, Step, Supply, Topology};
+use crate::model::scenario::{
+    present, Dist, Feedback, FieldProblem, Scenario, Step, Supply, Topology,
+};
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -69,9 +71,11 @@ pub enum Presence {
     ZeroIsAbsent,
     /// Zero is allowed and means something (an ideal source).
     ZeroAllowed,
-    /// Needed by gain stages; a follower has no such part.
+    /// A part of the stage's kind: shown when the kind has it, needed
+    /// when the kind says so (`stages::PartDecl::required`).
     GainStage,
-    /// Needed by gain stages; in a follower absent or zero is a wire.
+    /// A part of the stage's kind; where the kind does not need it,
+    /// absent or zero is a wire.
     FeedbackResistor,
 }
 
@@ -306,7 +310,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 59] = [
+pub static PARAMS: [Param; 60] = [
     entry(
         "stage.topology",
         "topology",
@@ -370,6 +374,25 @@ pub static PARAMS: [Param; 59] = [
         number!(opt stage.riso),
     )
     .starting(|_| 10.0),
+    entry(
+        "stage.feedback",
+        "feedback",
+        "",
+        Stage,
+        Choice,
+        Optional,
+        (0.0, 0.0),
+        Access::Choice {
+            names: &Feedback::NAMES,
+            get: |s| {
+                Feedback::ALL
+                    .iter()
+                    .position(|f| *f == s.stage.feedback)
+                    .unwrap_or(0)
+            },
+            set: |s, i| s.stage.feedback = Feedback::ALL[i % Feedback::ALL.len()],
+        },
+    ),
     entry(
         "stage.series",
         "series",
@@ -1004,48 +1027,70 @@ pub fn file_field(path: &str) -> &str {
     path.strip_prefix("band.").map(|_| "band").unwrap_or(path)
 }
 
-/// Change topology, filling in what the new one needs.
+/// Change topology, keeping the values of the parts both kinds have
+/// and filling in the parts the new one needs.
 pub fn set_topology(s: &mut Scenario, t: Topology) {
     s.stage.topology = t;
-    if t != Topology::Follower {
-        if s.stage.rg.is_none() {
-            s.stage.rg = Some(1e3);
-        }
-        if s.stage.rf.filter(|v| *v > 0.0).is_none() {
-            s.stage.rf = Some(10e3);
+    for part in t.kind().parts {
+        let (Some(start), Some(p)) = (part.start, param(part.param)) else {
+            continue;
+        };
+        if p.get(s).filter(|v| *v > 0.0).is_none() {
+            p.set(s, Some(start));
         }
     }
 }
 
-fn follower(s: &Scenario) -> bool {
-    s.stage.topology == Topology::Follower
-}
-
 impl Param {
-    /// Whether the row applies to this topology (a follower has no rg).
+    /// Whether the row applies to this stage: a part the stage's kind
+    /// does not have does not (a follower has no rg).
     pub fn applies(&self, s: &Scenario) -> bool {
-        !(self.presence == GainStage && follower(s))
+        // Where the feedback is taken matters only across an riso (without
+        // one the pin and the load terminal are one node).
+        if self.path == "stage.feedback" {
+            return present(s.stage.riso).is_some();
+        }
+        !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
             && self
                 .qualifies
                 .is_none_or(|when| when(s) || self.raw(s).is_some())
+    }
+
+    /// A part the stage's kind does not need (or does not have).
+    fn optional_part(&self, s: &Scenario) -> bool {
+        s.stage
+            .topology
+            .kind()
+            .part(self.path)
+            .is_none_or(|p| !p.required)
     }
 
     /// Whether absent (or zero) is a valid state for this stage.
     fn may_be_absent(&self, s: &Scenario) -> bool {
         match self.presence {
             Optional | ZeroIsAbsent => true,
-            GainStage | FeedbackResistor => follower(s),
+            GainStage | FeedbackResistor => self.optional_part(s),
             Required | ZeroAllowed => false,
         }
     }
 
     fn zero_is_absent(&self, s: &Scenario) -> bool {
-        self.presence == ZeroIsAbsent || (self.presence == FeedbackResistor && follower(s))
+        self.presence == ZeroIsAbsent
+            || (self.presence == FeedbackResistor && self.optional_part(s))
     }
 
     /// Whether the value is a real resistor that should sit on the series.
     pub fn is_resistor(&self) -> bool {
         self.stepping == Resistor
+    }
+
+    /// Whether the file gives the field: an optional choice at its first
+    /// (default) entry is left out of the reports, as of a saved file.
+    pub fn given(&self, s: &Scenario) -> bool {
+        match self.access {
+            Access::Choice { get, .. } => self.presence != Optional || get(s) != 0,
+            Access::Number { .. } => true,
+        }
     }
 
     /// The raw value as stored (zero kept), None when absent or a choice.
@@ -1088,7 +1133,7 @@ impl Param {
             };
         }
         let Some(v) = self.get(s) else {
-            let wire = self.presence == FeedbackResistor && follower(s);
+            let wire = self.presence == FeedbackResistor && self.optional_part(s);
             return if wire { "wire" } else { "none" }.into();
         };
         match self.format {
@@ -1296,7 +1341,7 @@ impl Param {
             let zero = match self.presence {
                 ZeroIsAbsent => " (or 0 for none)",
                 ZeroAllowed => " (or 0)",
-                FeedbackResistor if follower(s) => " (or 0 for a wire)",
+                FeedbackResistor if self.optional_part(s) => " (or 0 for a wire)",
                 _ => "",
             };
             let range = self.range_text();
@@ -1392,7 +1437,7 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
     // The target is signed like the stage's gain: −rf/rg inverting, else
     // positive; the other sign would read as an error near −200 %.
     if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
-        let inverting = s.stage.topology == Topology::Inverting;
+        let inverting = s.stage.topology.kind().negative;
         if t != 0.0 && (t < 0.0) != inverting {
             let sign = if inverting { "negative" } else { "positive" };
             p.push(FieldProblem {

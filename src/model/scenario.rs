@@ -39,22 +39,33 @@ impl Topology {
             Topology::Follower => "Follower",
         }
     }
+}
 
-    /// Whether the stage has an rg and an rf (every topology but the
-    /// follower).
-    pub fn has_resistors(self) -> bool {
-        self != Topology::Follower
+/// Where the feedback is taken: the amplifier's output pin, or the load
+/// terminal after riso (rf from the load, cf from the pin).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Feedback {
+    #[default]
+    Pin,
+    Load,
+}
+
+impl Feedback {
+    /// Both, in the workbench's order.
+    pub const ALL: [Feedback; 2] = [Feedback::Pin, Feedback::Load];
+    /// Their names, as in a stage file.
+    pub const NAMES: [&'static str; 2] = names_of!(Feedback, 2);
+
+    pub const fn name(self) -> &'static str {
+        match self {
+            Feedback::Pin => "Pin",
+            Feedback::Load => "Load",
+        }
     }
 
-    /// The topologies with an rg and an rf, as a list for messages: `sep`
-    /// between the names (" or ", " and ").
-    pub fn with_resistors(sep: &str) -> String {
-        let names: Vec<&str> = Topology::ALL
-            .into_iter()
-            .filter(|t| t.has_resistors())
-            .map(Topology::name)
-            .collect();
-        names.join(sep)
+    /// The default (left out of a saved file).
+    pub fn is_pin(&self) -> bool {
+        *self == Feedback::Pin
     }
 }
 
@@ -90,6 +101,9 @@ pub struct Stage {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub riso: Option<f64>,
+    /// Where rf takes the feedback (`Pin` when absent).
+    #[serde(default, skip_serializing_if = "Feedback::is_pin")]
+    pub feedback: Feedback,
     pub series: Series,
     #[serde(deserialize_with = "number")]
     pub tolerance: f64,
@@ -618,19 +632,6 @@ fn bare<T: Serialize, S: serde::Serializer>(v: &Option<T>, s: S) -> Result<S::Ok
     match v {
         Some(x) => x.serialize(s),
         None => s.serialize_none(),
-    }
-}
-
-impl Scenario {
-    /// The gain the resistor ratio sets: 1 + rf/rg, −rf/rg, or 1.
-    pub fn nominal_gain(&self) -> f64 {
-        let s = self;
-        let (rg, rf) = (s.stage.rg.unwrap_or(0.0), s.stage.rf.unwrap_or(0.0));
-        match s.stage.topology {
-            Topology::NonInverting => 1.0 + rf / rg,
-            Topology::Inverting => -rf / rg,
-            Topology::Follower => 1.0,
-        }
     }
 }
 

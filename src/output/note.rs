@@ -39,7 +39,7 @@ fn write_parts(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
         .find(|p| p.path == "stage.tolerance")
         .map(|p| p.display(s))
         .unwrap_or_default();
-    for p in PARAMS.iter().filter(|p| p.applies(s)) {
+    for p in PARAMS.iter().filter(|p| p.applies(s) && p.given(s)) {
         let value = p.display(s);
         if value == "none" {
             continue;

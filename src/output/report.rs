@@ -193,7 +193,7 @@ fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
     for g in groups {
         let items: Vec<String> = PARAMS
             .iter()
-            .filter(|p| p.group == g && p.applies(s))
+            .filter(|p| p.group == g && p.applies(s) && p.given(s))
             .map(|p| (p, p.display(s)))
             .filter(|(_, v)| v != "none")
             .map(|(p, v)| format!("{} {v}", p.label))

@@ -44,13 +44,22 @@ pub fn spread_json(r: &SpreadResult) -> Value {
             })
         })
         .collect();
-    json!({
+    let mut v = json!({
         "trials": r.trials,
         "seed": r.seed,
         "dist": r.dist.name(),
         "figures": figures,
         "yield": or_null(r.yield_frac),
-    })
+    });
+    // Only when the corners leave parts out (more than 2^10 corners).
+    if r.corner_knobs.len() < r.knobs.len() {
+        v["corner_parts"] = json!(r
+            .corner_knobs
+            .iter()
+            .map(|&i| r.knobs[i].field)
+            .collect::<Vec<_>>());
+    }
+    v
 }
 
 /// A value of a spread figure as text ("—" when undefined).
@@ -72,9 +81,15 @@ pub fn write_spread(r: &SpreadResult, title: &str, out: &mut impl Write) -> Resu
         r.seed,
         r.dist.name().to_lowercase()
     )?;
-    match r.knobs.len() {
-        0 => writeln!(out, "No part varies: every trial is the nominal stage.")?,
-        k => writeln!(out, "Varied parts ({} corners):", 1usize << k)?,
+    match (r.knobs.len(), r.corner_knobs.len()) {
+        (0, _) => writeln!(out, "No part varies: every trial is the nominal stage.")?,
+        (k, c) if c == k => writeln!(out, "Varied parts ({} corners):", 1usize << k)?,
+        (k, c) => writeln!(
+            out,
+            "Varied parts ({} corners of the {c} of {k} parts with the largest first-order \
+             effect on the gain; the others stay nominal at the corners):",
+            1usize << c
+        )?,
     }
     for k in &r.knobs {
         writeln!(

@@ -14,7 +14,8 @@ pub use crate::judge::spread_figures::unit_and_label;
 use crate::judge::spread_figures::{read, target, When, SPREAD_FIGURES};
 use crate::judge::Evaluation;
 use crate::model::params::param;
-use crate::model::scenario::{present, Dist, Scenario};
+use crate::model::scenario::{Dist, Scenario};
+use crate::model::stages::Tolerance;
 use rand::{Rng, SeedableRng};
 use rand_distr::StandardNormal;
 use rand_pcg::Pcg64;
@@ -29,6 +30,11 @@ pub const BINS: usize = 20;
 /// The Monte Carlo percentiles: ±3σ of a normal distribution.
 pub const P_LOW: f64 = 0.00135;
 pub const P_HIGH: f64 = 0.99865;
+
+/// The most parts whose every combination of extremes is solved: 2^10
+/// corners. Beyond it the corners take the parts with the largest
+/// first-order effect on the gain ([`corner_knobs`]), the rest nominal.
+pub const MAX_CORNER_KNOBS: usize = 10;
 
 /// One varied part: a parameter-table field between two values.
 #[derive(Debug, Clone, PartialEq)]
@@ -99,6 +105,9 @@ pub struct SpreadResult {
     pub seed: u64,
     pub dist: Dist,
     pub knobs: Vec<Knob>,
+    /// The knobs the corners combine (indices into `knobs`): all of them
+    /// up to [`MAX_CORNER_KNOBS`].
+    pub corner_knobs: Vec<usize>,
     pub figures: Vec<FigureSpread>,
     pub limits: Vec<LimitCheck>,
     /// Fraction of trials meeting every limit; None without a spec.
@@ -119,8 +128,9 @@ impl SpreadResult {
     }
 }
 
-/// The parts that vary, with their extremes: resistors within the stage
-/// tolerance, cf, gbw, a0 and ro as the spread block gives.
+/// The parts that vary, with their extremes: the kind's resistors within
+/// the stage tolerance, then its capacitors with the capacitor tolerance,
+/// gbw, a0 and ro as the spread block gives.
 pub fn knobs(s: &Scenario) -> Vec<Knob> {
     let b = s.spread.clone().unwrap_or_default();
     let t = s.stage.tolerance;
@@ -139,19 +149,43 @@ pub fn knobs(s: &Scenario) -> Vec<Knob> {
         lo,
         hi: s.amp.a0,
     });
-    let cf = present(s.stage.cf).and(b.cap_tol);
-    [
-        spread("stage.rg", Some(t)),
-        spread("stage.rf", Some(t)),
-        spread("stage.riso", Some(t)),
-        spread("stage.cf", cf),
-        spread("amp.gbw", b.gbw_tol),
-        a0,
-        spread("amp.ro", b.ro_tol),
-    ]
-    .into_iter()
-    .flatten()
-    .collect()
+    let parts = s.stage.topology.kind().parts;
+    let of = |tolerance: Tolerance, tol: Option<f64>| {
+        parts
+            .iter()
+            .filter(move |p| p.tolerance == tolerance)
+            .map(move |p| spread(p.param, tol))
+    };
+    of(Tolerance::Resistor, Some(t))
+        .chain(of(Tolerance::Capacitor, b.cap_tol))
+        .chain([spread("amp.gbw", b.gbw_tol), a0, spread("amp.ro", b.ro_tol)])
+        .flatten()
+        .collect()
+}
+
+/// The knobs the corners combine: every one while there are at most
+/// `max`, else the `max` with the largest first-order effect on the DC
+/// gain (|gain at the top − gain at the bottom| with the others nominal),
+/// in their own order.
+pub fn corner_knobs(s: &Scenario, knobs: &[Knob], max: usize) -> Vec<usize> {
+    if knobs.len() <= max {
+        return (0..knobs.len()).collect();
+    }
+    let gain_at = |i: usize, v: f64| {
+        let mut t = s.clone();
+        if let Some(p) = param(knobs[i].field) {
+            p.set(&mut t, Some(v));
+        }
+        analyze_to(&t, TRIAL).dc_gain
+    };
+    let effect: Vec<f64> = (0..knobs.len())
+        .map(|i| (gain_at(i, knobs[i].hi) - gain_at(i, knobs[i].lo)).abs())
+        .collect();
+    let mut order: Vec<usize> = (0..knobs.len()).collect();
+    order.sort_by(|a, b| effect[*b].total_cmp(&effect[*a]).then(a.cmp(b)));
+    order.truncate(max);
+    order.sort_unstable();
+    order
 }
 
 /// The stage with each knob at `at(i, knob)`.
@@ -414,8 +448,10 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
             statistics(k, nominal_values[j], &column)
         })
         .collect();
+    let corner_knobs = corner_knobs(s, &knobs, MAX_CORNER_KNOBS);
     if !run.cancelled() {
-        corners(s, &plan, &knobs, &mut figures);
+        let chosen: Vec<Knob> = corner_knobs.iter().map(|&i| knobs[i].clone()).collect();
+        corners(s, &plan, &chosen, &mut figures);
     }
     let (limits, yield_frac) = check_limits(s, &plan, &nominal_values, &rows);
     SpreadResult {
@@ -423,6 +459,7 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
         seed,
         dist: b.dist,
         knobs,
+        corner_knobs,
         figures,
         limits,
         yield_frac,

@@ -5,7 +5,7 @@
 
 use crate::engine::analysis::{analyze, Analysis};
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
-use crate::model::scenario::{Scenario, Topology};
+use crate::model::scenario::{present, Feedback, Scenario, Topology};
 use crate::model::values::fmt_eng;
 use serde::Serialize;
 
@@ -23,6 +23,10 @@ pub const DEFAULT_MARGIN_DEG: f64 = 60.0;
 pub enum Part {
     Riso,
     Cf,
+    /// cf with the feedback taken at the load (after the stage's riso):
+    /// the in-loop option.
+    #[serde(rename = "cf_feedback_at_load")]
+    CfAtLoad,
 }
 
 impl Part {
@@ -31,13 +35,14 @@ impl Part {
         match self {
             Part::Riso => "riso",
             Part::Cf => "cf",
+            Part::CfAtLoad => "cf, feedback at load",
         }
     }
 
     pub fn unit(self) -> &'static str {
         match self {
             Part::Riso => "Ω",
-            Part::Cf => "F",
+            Part::Cf | Part::CfAtLoad => "F",
         }
     }
 
@@ -45,7 +50,7 @@ impl Part {
     fn search(self, s: &Scenario) -> (Series, (f64, f64)) {
         match self {
             Part::Riso => (s.stage.series, RISO_RANGE),
-            Part::Cf => (CAPACITOR_SERIES, CF_RANGE),
+            Part::Cf | Part::CfAtLoad => (CAPACITOR_SERIES, CF_RANGE),
         }
     }
 
@@ -53,7 +58,7 @@ impl Part {
     pub fn present(self, s: &Scenario) -> Option<f64> {
         match self {
             Part::Riso => s.stage.riso,
-            Part::Cf => s.stage.cf,
+            Part::Cf | Part::CfAtLoad => s.stage.cf,
         }
     }
 
@@ -63,6 +68,10 @@ impl Part {
         match self {
             Part::Riso => out.stage.riso = Some(value),
             Part::Cf => out.stage.cf = Some(value),
+            Part::CfAtLoad => {
+                out.stage.cf = Some(value);
+                out.stage.feedback = Feedback::Load;
+            }
         }
         out
     }
@@ -114,7 +123,8 @@ pub struct Options {
     pub settle_now: Option<Option<f64>>,
     /// Whether the stage as it is already meets the target.
     pub already_met: bool,
-    /// riso first, then cf (where the topology has rf); only parts for
+    /// riso first, then cf (where the topology has rf), then cf with the
+    /// feedback at the load (where there is an riso); only parts for
     /// which some value in range reaches the target.
     pub options: Vec<Fix>,
     /// Parts searched without success, each with its range in words.
@@ -154,12 +164,27 @@ pub fn meets(a: &Analysis, target_deg: f64) -> bool {
     }
 }
 
-/// The parts a topology can be stabilised with.
-pub fn parts(topology: Topology) -> &'static [Part] {
-    match topology {
-        Topology::Follower => &[Part::Riso],
-        _ => &[Part::Riso, Part::Cf],
+/// The parts a topology can be stabilised with: those its kind offers.
+pub fn parts(topology: Topology) -> Vec<Part> {
+    let offered = topology.kind().stabilize;
+    [Part::Riso, Part::Cf]
+        .into_iter()
+        .filter(|p| offered.contains(&p.name()))
+        .collect()
+}
+
+/// The parts `stabilize` tries on this stage: its kind's, and, where the
+/// kind has a cf and the stage an riso with the feedback at the pin, cf
+/// with the feedback moved after riso (the in-loop option).
+pub fn parts_for(s: &Scenario) -> Vec<Part> {
+    let mut out = parts(s.stage.topology);
+    let in_loop = out.contains(&Part::Cf)
+        && s.stage.feedback == Feedback::Pin
+        && present(s.stage.riso).is_some();
+    if in_loop {
+        out.push(Part::CfAtLoad);
     }
+    out
 }
 
 /// The smallest value of `part` that meets the target: the series values
@@ -198,7 +223,7 @@ pub fn options(s: &Scenario, target_deg: f64) -> anyhow::Result<Options> {
         options: Vec::new(),
         misses: Vec::new(),
     };
-    for &part in parts(s.stage.topology) {
+    for part in parts_for(s) {
         match smallest(s, part, target_deg) {
             Some(fix) => out.options.push(fix),
             None => {

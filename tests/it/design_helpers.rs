@@ -9,6 +9,7 @@ use crate::support::keys::{key, press, screen_at, type_text};
 use crate::support::stages::{in_range, plain};
 use crossterm::event::KeyCode;
 use loopwright::engine::analyze;
+use loopwright::model::scenario::Feedback;
 use loopwright::model::Scenario;
 use loopwright::model::Series;
 use loopwright::model::Topology;
@@ -421,7 +422,7 @@ fn scenario(name: &str) -> Scenario {
 fn smaller_values(s: &Scenario, part: Part, value: f64) -> Vec<f64> {
     let (series, lo) = match part {
         Part::Riso => (s.stage.series, 0.1),
-        Part::Cf => (Series::E12, 0.1e-12),
+        Part::Cf | Part::CfAtLoad => (Series::E12, 0.1e-12),
     };
     series_values(series, lo, value * (1.0 - 1e-6))
 }
@@ -431,6 +432,11 @@ fn with_part(s: &Scenario, part: Part, v: f64) -> Scenario {
     match part {
         Part::Riso => t.stage.riso = Some(v),
         Part::Cf => t.stage.cf = Some(v),
+        // The in-loop option: rf from the load terminal, after riso.
+        Part::CfAtLoad => {
+            t.stage.cf = Some(v);
+            t.stage.feedback = Feedback::Load;
+        }
     }
     t
 }
@@ -461,10 +467,12 @@ fn check_smallest(name: &str, target: f64, parts: &[Part]) {
 #[test]
 fn stabilize_picks_the_smallest_riso_and_cf_that_reach_the_target() {
     // The ringing buffer (a follower: riso only) and two stages with a
-    // load capacitor and rf (riso and cf).
+    // load capacitor, rf and riso (riso, cf, and cf with the feedback
+    // taken after riso).
+    let three = [Part::Riso, Part::Cf, Part::CfAtLoad];
     check_smallest("buffer_rings_10n", 60.0, &[Part::Riso]);
-    check_smallest("adc_driver_2n2", 75.0, &[Part::Riso, Part::Cf]);
-    check_smallest("line_driver_cable", 80.0, &[Part::Riso, Part::Cf]);
+    check_smallest("adc_driver_2n2", 75.0, &three);
+    check_smallest("line_driver_cable", 80.0, &three);
     // The ringing buffer misses 60° by far as it is (an E24 riso is below
     // it, so the scan starts at 0.1 Ω, not at an existing value).
     let s = scenario("buffer_rings_10n");

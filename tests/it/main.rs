@@ -34,6 +34,7 @@ mod scenario_files;
 mod spread;
 mod spread_ui;
 mod stability;
+mod stage_kinds;
 mod standards;
 mod step_response;
 mod storage;

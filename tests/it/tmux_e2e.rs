@@ -288,8 +288,9 @@ fn stepping_band_from_to_its_end_cannot_crash() {
         return;
     };
     wait_for(&s.0, "Parameters").expect("workbench starts");
-    // From rf (selected at start) down to "band from", counted among the
-    // parameters that apply to the demo's stage (the pane's rows).
+    // From rf (selected at start) down to "band from", counted in the
+    // parameter table among the rows the demo shows (no riso, so no
+    // feedback row).
     let demo = loopwright::files::load::demo();
     let row = |path: &str| {
         loopwright::model::params::PARAMS

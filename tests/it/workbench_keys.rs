@@ -22,8 +22,8 @@ fn demo_app() -> App {
 /// and load (source r, load r, load c), environment (temp, band).
 const CF: usize = 1;
 const GBW: usize = 6;
-/// Rows from rf down to temperature, counted among the parameters that
-/// apply to the demo (the pane's rows).
+/// Rows from rf down to temperature, counted in the parameter table among
+/// the rows the demo shows (its stage has no riso, so no feedback row).
 fn temp_rows() -> usize {
     let demo = loopwright::files::load::demo();
     let at = |path| {

@@ -1,7 +1,7 @@
 //! The test stages: scenarios built in code for the closed-form checks,
 //! and one as RON text for the commands.
 
-use loopwright::model::scenario::{Amp, Load, Scenario, Source, Stage};
+use loopwright::model::scenario::{Amp, Feedback, Load, Scenario, Source, Stage};
 use loopwright::model::Series;
 use loopwright::model::Topology;
 
@@ -21,6 +21,7 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             rf: Some(rf),
             cf: None,
             riso: None,
+            feedback: Feedback::Pin,
             series: Series::E24,
             tolerance: 0.01,
         },

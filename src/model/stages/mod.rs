@@ -1,0 +1,227 @@
+//! Stage kinds as data. Each kind is one file here declaring its parts
+//! (name, two named nodes, resistor or capacitor, the parameter it reads,
+//! the tolerance it spreads with), its input, where the reference returns,
+//! its output terminal, the unit of its gain and its ideal gain from its
+//! parts; [`KINDS`] is the registry. The netlist builder, the analyses,
+//! the rules, the spread and the views read these declarations and never
+//! ask which kind they have.
+
+use crate::model::scenario::{Scenario, Stage, Topology};
+
+mod common;
+mod follower;
+mod inverting;
+mod non_inverting;
+
+/// The named nodes a kind wires its parts between. The builder maps them
+/// onto the netlist: `Reference` is ground (through the reference input
+/// where there is one), `Feedback` is the amplifier pin or the load
+/// terminal, as the stage takes its feedback.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Node {
+    Ground,
+    /// Where the ground side of the stage returns.
+    Reference,
+    /// The stage's input terminal, after the source resistance.
+    Input,
+    /// The amplifier's + and − pins.
+    Plus,
+    Minus,
+    /// The amplifier's output pin (before riso).
+    AmpOut,
+    /// Where the feedback is taken.
+    Feedback,
+    /// The load terminal (after riso).
+    Load,
+}
+
+/// What a part is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Element {
+    /// Ohms; zero (or absent, read as its default) joins the two nodes.
+    Resistor,
+    /// Farads; zero or absent is no part.
+    Capacitor,
+    /// Always a wire.
+    Wire,
+}
+
+/// Which tolerance a part spreads with.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Tolerance {
+    /// The stage's resistor tolerance (`stage.tolerance`).
+    Resistor,
+    /// The spread block's capacitor tolerance (`spread.cap_tol`).
+    Capacitor,
+    /// It does not spread (a wire).
+    None,
+}
+
+/// One part of a kind.
+#[derive(Debug, Clone, Copy)]
+pub struct PartDecl {
+    /// Its name: the noise source key and label of a resistor.
+    pub name: &'static str,
+    pub a: Node,
+    pub b: Node,
+    pub element: Element,
+    /// The parameter it reads (a `PARAMS` path; "" for a wire).
+    pub param: &'static str,
+    pub read: fn(&Stage) -> Option<f64>,
+    /// The value used when the parameter is absent.
+    pub absent: f64,
+    /// Whether the kind needs it (validation refuses it absent).
+    pub required: bool,
+    /// The value the part starts with when a kind switch brings it in.
+    pub start: Option<f64>,
+    /// The part is left out unless this other part has a value above 0
+    /// (cf across an rf that is a wire would short nothing).
+    pub with: Option<&'static str>,
+    pub tolerance: Tolerance,
+}
+
+impl PartDecl {
+    /// The part's value in this stage (its default when absent).
+    pub fn value(&self, st: &Stage) -> f64 {
+        (self.read)(st).unwrap_or(self.absent)
+    }
+}
+
+/// A wire between two nodes.
+pub const fn wire(a: Node, b: Node) -> PartDecl {
+    PartDecl {
+        name: "wire",
+        a,
+        b,
+        element: Element::Wire,
+        param: "",
+        read: |_| None,
+        absent: 0.0,
+        required: false,
+        start: None,
+        with: None,
+        tolerance: Tolerance::None,
+    }
+}
+
+/// The stage's inputs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Input {
+    /// A voltage EMF behind the source resistance, returning to ground,
+    /// into [`Node::Input`]. (A current input and a pair of inputs are
+    /// the next kinds' variants.)
+    Voltage,
+}
+
+/// The unit of a kind's gain.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum GainUnit {
+    /// V/V.
+    VoltsPerVolt,
+    /// V/A (a current input).
+    VoltsPerAmp,
+}
+
+impl GainUnit {
+    pub fn text(self) -> &'static str {
+        match self {
+            GainUnit::VoltsPerVolt => "V/V",
+            GainUnit::VoltsPerAmp => "V/A",
+        }
+    }
+}
+
+/// The E-series pairs a kind with a gain ratio can search (`pairs`).
+#[derive(Debug, Clone, Copy)]
+pub struct Pairs {
+    /// The gain magnitude of a ratio rf/rg.
+    pub gain: fn(f64) -> f64,
+    /// The ratio rf/rg for a gain magnitude.
+    pub ratio: fn(f64) -> f64,
+    /// The gain magnitude must be above this, and why.
+    pub above: Option<(f64, &'static str)>,
+    /// The resistance the pair puts on the output at DC, from (rg, rf).
+    pub load: fn(f64, f64) -> f64,
+}
+
+/// One stage kind.
+#[derive(Debug, Clone, Copy)]
+pub struct Kind {
+    pub topology: Topology,
+    /// Its parts, in the order their noise is listed.
+    pub parts: &'static [PartDecl],
+    pub input: Input,
+    /// The amplifier pin tied to the reference, if any (its level is the
+    /// reference's, not the signal's).
+    pub reference: Option<Node>,
+    /// The output terminal.
+    pub output: Node,
+    pub gain_unit: GainUnit,
+    /// The ideal gain from the parts alone (the resistor ratio).
+    pub gain: fn(&Stage) -> f64,
+    /// Whether the gain is negative (a gain target must be too).
+    pub negative: bool,
+    /// Whether the source resistance adds to a part of the gain network
+    /// (the input is not straight into a high-impedance pin).
+    pub source_in_network: bool,
+    /// The DC resistance the feedback network puts on the point where
+    /// the feedback is taken (the − input's level follows from the kind).
+    pub feedback_load: fn(&Stage) -> f64,
+    /// The parts `stabilize` offers, by name.
+    pub stabilize: &'static [&'static str],
+    pub pairs: Option<Pairs>,
+}
+
+/// Every kind, in the order of [`Topology::ALL`].
+pub static KINDS: [&Kind; 3] = [&non_inverting::KIND, &inverting::KIND, &follower::KIND];
+
+/// The kind of a topology.
+pub fn kind(t: Topology) -> &'static Kind {
+    KINDS
+        .iter()
+        .find(|k| k.topology == t)
+        .copied()
+        .unwrap_or(KINDS[0])
+}
+
+impl Kind {
+    /// The part reading `param`, if the kind has one.
+    pub fn part(&self, param: &str) -> Option<&'static PartDecl> {
+        self.parts.iter().find(|p| p.param == param)
+    }
+
+    /// Whether the kind has a part of this name.
+    pub fn has(&self, name: &str) -> bool {
+        self.parts.iter().any(|p| p.name == name)
+    }
+}
+
+impl Topology {
+    /// The kind this topology names.
+    pub fn kind(self) -> &'static Kind {
+        kind(self)
+    }
+
+    /// Whether the stage has an rg and an rf ratio to pick pairs for.
+    pub fn has_resistors(self) -> bool {
+        kind(self).pairs.is_some()
+    }
+
+    /// The topologies with an rg and an rf, as a list for messages: `sep`
+    /// between the names (" or ", " and ").
+    pub fn with_resistors(sep: &str) -> String {
+        let names: Vec<&str> = Topology::ALL
+            .into_iter()
+            .filter(|t| t.has_resistors())
+            .map(Topology::name)
+            .collect();
+        names.join(sep)
+    }
+}
+
+impl Scenario {
+    /// The gain the kind's parts set (its resistor ratio).
+    pub fn nominal_gain(&self) -> f64 {
+        (kind(self.stage.topology).gain)(&self.stage)
+    }
+}
