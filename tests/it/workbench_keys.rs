@@ -130,16 +130,34 @@ fn an_archetype_sets_or_clears_every_amplifier_field_and_names_them() {
     s.amp.swing_pos = Some(0.7);
     s.amp.cm_neg = Some(2.5);
     s.amp.inoise_corner = Some(321.0);
+    let before = s.clone();
     let mut a = App::new(vec![(s, None)], Theme::new(false, false));
     a.on_key(key(KeyCode::Char('a')));
     press(&mut a, KeyCode::Down, 2);
     a.on_key(key(KeyCode::Enter));
     assert_eq!(a.slots[0].scenario.amp, arch.amp);
+    // The fields that differ, counted here from the parameter table: the
+    // status names them, as many as fit, then "+N more".
+    let differ: Vec<&str> = loopwright::model::params::PARAMS
+        .iter()
+        .filter(|p| p.path.starts_with("amp."))
+        .filter(|p| p.get(&before) != p.get(&a.slots[0].scenario))
+        .map(|p| p.path.trim_start_matches("amp."))
+        .collect();
+    for label in ["slew", "swing_neg", "swing_pos", "cm_neg", "inoise_corner"] {
+        assert!(differ.contains(&label), "{label}: {differ:?}");
+    }
     let status = a.status.clone();
     assert!(status.contains(&arch.name), "{status}");
-    assert!(status.contains("cleared in corner"), "{status}");
-    for label in ["slew", "swing −", "swing +", "cm −", "gbw"] {
-        assert!(status.contains(label), "{label}: {status}");
+    let (_, list) = status.split_once("changed ").expect("names the changes");
+    let (names, more) = match list.split_once(" +") {
+        Some((n, m)) => (n, m.trim_end_matches(" more").parse::<usize>().unwrap()),
+        None => (list, 0),
+    };
+    let shown: Vec<&str> = names.split(", ").collect();
+    assert_eq!(shown.len() + more, differ.len(), "{status}");
+    for name in shown {
+        assert!(differ.contains(&name), "{name}: {status}");
     }
     // Picking the same one again changes nothing, and says so.
     a.on_key(key(KeyCode::Char('a')));
