@@ -4,6 +4,7 @@
 
 pub mod figure;
 pub mod helper_tables;
+pub(crate) mod ink;
 pub mod note;
 pub mod report;
 pub mod spread_text;

@@ -9,6 +9,7 @@
 use crate::judge::figures::key_figures;
 use crate::model::values::{fmt_eng, printable};
 pub use crate::output::figure::{Axis, Curve, Evaluated, Look, Mark, OwnChart, View, DEG};
+use crate::output::ink;
 use crate::output::traces::Traces;
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint};
 use plotters::prelude::*;
@@ -17,26 +18,53 @@ use std::ops::Range;
 /// Accepted figure sizes in pixels (each side).
 pub const SIZE: (u32, u32) = (200, 8000);
 
-/// How one stage's curves are drawn: A solid and thick, B thinner with a
-/// ring every few points, so they differ without colour too.
+/// The look of every figure, decided here in one place for a printed
+/// design review:
+/// - A's main curves: a deep blue, 2.2 px; B's: a burnt orange, 1.6 px
+///   with open rings every tenth point, so A and B differ in grey print too.
+/// - The right-hand axis (phase) in a lighter tone of the same stage,
+///   1.4 px and dashed, so gain and phase never read as one curve.
+/// - Secondary lines (ceilings, |Zin|): green, violet, grey at 1.2 px.
+/// - Marks: thin rules in the stage's colour with the text set beside
+///   the rule, never on it; the legend sits above the plot, right-aligned.
+/// - Every curve is drawn at sub-pixel precision ([`crate::output::ink`]).
 pub(crate) struct Style {
     pub(crate) color: RGBColor,
-    pub(crate) width: u32,
+    pub(crate) width: f64,
+    pub(crate) dash: Option<(f64, f64)>,
     pub(crate) rings: bool,
+}
+
+impl Style {
+    /// Its pen for [`ink`].
+    pub(crate) fn pen(&self) -> ink::Pen {
+        ink::Pen {
+            color: self.color,
+            width: self.width,
+            dash: self.dash,
+            rings: self.rings,
+            opacity: 1.0,
+        }
+    }
 }
 
 pub(crate) fn style(slot: usize, right: bool, mono: bool) -> Style {
     let color = match (mono, slot, right) {
         (true, 0, _) => RGBColor(0, 0, 0),
         (true, _, _) => RGBColor(90, 90, 90),
-        (false, 0, false) => RGBColor(25, 85, 165),
-        (false, 0, true) => RGBColor(95, 150, 215),
-        (false, _, false) => RGBColor(190, 75, 20),
-        (false, _, true) => RGBColor(230, 145, 80),
+        (false, 0, false) => RGBColor(22, 70, 150),
+        (false, 0, true) => RGBColor(90, 140, 205),
+        (false, _, false) => RGBColor(190, 80, 20),
+        (false, _, true) => RGBColor(225, 145, 85),
     };
     Style {
         color,
-        width: if right { 1 } else { 2 } + u32::from(slot == 0 && !right),
+        width: match (right, slot) {
+            (true, _) => 1.4,
+            (false, 0) => 2.2,
+            (false, _) => 1.6,
+        },
+        dash: right.then_some((6.0, 3.0)),
         rings: slot > 0,
     }
 }
@@ -59,7 +87,8 @@ fn tone_style(slot: usize, tone: u8, mono: bool) -> Style {
     };
     Style {
         color: palette[usize::from(tone.clamp(1, 3)) - 1],
-        width: 1,
+        width: 1.2,
+        dash: None,
         rings: slot > 0,
     }
 }
@@ -128,6 +157,9 @@ fn y_keys(axis: Axis, (lo, hi): (f64, f64)) -> Vec<f64> {
         step *= 2.0;
     }
     steps(lo, hi, step)
+        .into_iter()
+        .filter(|y| *y <= hi + 1e-9)
+        .collect()
 }
 
 /// The x range: whole decades around every stage's sweep.
@@ -255,6 +287,7 @@ pub fn render(view: &View, stages: &[Evaluated], look: Look) -> anyhow::Result<S
         .map(|s| Traces::new(&s.eval.analysis))
         .collect();
     let mut svg = String::new();
+    ink::begin();
     {
         let root = SVGBackend::with_string(&mut svg, (look.width, look.height)).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
@@ -278,7 +311,7 @@ pub fn render(view: &View, stages: &[Evaluated], look: Look) -> anyhow::Result<S
         }
         root.present().map_err(err)?;
     }
-    Ok(svg)
+    Ok(ink::finish(svg))
 }
 
 /// The plot area: axes, grid, curves, marks and legend.
@@ -380,23 +413,16 @@ fn draw_two_sided<'a, 'b: 'a>(
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
+    let frame = ink::Frame::of(chart.plotting_area(), (x0, x1), p.ly).with_y(ry);
     for (slot, cs) in curves.iter().enumerate() {
         for c in cs.iter().filter(|c| c.right && !c.points.is_empty()) {
             let st = style(slot, true, look.mono);
-            let series = chart
-                .draw_secondary_series(LineSeries::new(
-                    c.points.clone(),
-                    st.color.stroke_width(st.width),
-                ))
-                .map_err(err)?;
-            series
+            let token = ink::polyline(&frame, &c.points, &st.pen());
+            chart
+                .draw_secondary_series(std::iter::once(ink::placeholder(token, (x0, ry.0))))
+                .map_err(err)?
                 .label(legend_name(curves.len(), slot, c))
                 .legend(legend_sample(&st));
-            if st.rings {
-                chart
-                    .draw_secondary_series(rings(&c.points, &st))
-                    .map_err(err)?;
-            }
         }
     }
     legend(&mut chart, font)
@@ -410,18 +436,29 @@ fn legend_name(n: usize, slot: usize, c: &Curve) -> String {
     }
 }
 
-pub(crate) fn legend_sample(st: &Style) -> impl Fn((i32, i32)) -> PathElement<(i32, i32)> {
-    let s = st.color.stroke_width(st.width);
-    move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], s)
+/// A legend's sample of a style: a 24 px stroke in its pen (dashed when
+/// the curve is).
+pub(crate) fn legend_sample(st: &Style) -> impl Fn((i32, i32)) -> Text<'static, (i32, i32), String> {
+    let pen = st.pen();
+    move |(x, y)| ink::placeholder(ink::sample(24.0, &pen), (x, y))
 }
 
-/// Rings along a B curve, every tenth point.
-pub(crate) fn rings(points: &[(f64, f64)], st: &Style) -> Vec<Circle<(f64, f64), u32>> {
-    points
-        .iter()
-        .step_by(10)
-        .map(|p| Circle::new(*p, 3, st.color.stroke_width(1)))
-        .collect()
+/// Draw one curve at sub-pixel precision with its legend entry.
+pub(crate) fn trace<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    frame: &ink::Frame,
+    points: &[(f64, f64)],
+    st: &Style,
+    name: String,
+) -> anyhow::Result<()> {
+    let token = ink::polyline(frame, points, &st.pen());
+    let at = (frame.x.0, frame.y.0);
+    chart
+        .draw_series(std::iter::once(ink::placeholder(token, at)))
+        .map_err(err)?
+        .label(name)
+        .legend(legend_sample(st));
+    Ok(())
 }
 
 /// The curves of one side, each one path, with their legend entries.
@@ -431,23 +468,19 @@ fn draw_curves<'a, 'b: 'a>(
     right: bool,
     look: Look,
 ) -> anyhow::Result<()> {
+    let r = (chart.x_range(), chart.y_range());
+    let frame = ink::Frame::of(
+        chart.plotting_area(),
+        (r.0.start, r.0.end),
+        (r.1.start, r.1.end),
+    );
     for (slot, cs) in curves.iter().enumerate() {
         for c in cs
             .iter()
             .filter(|c| c.right == right && !c.points.is_empty())
         {
             let st = curve_style(slot, c, look.mono);
-            chart
-                .draw_series(LineSeries::new(
-                    c.points.clone(),
-                    st.color.stroke_width(st.width),
-                ))
-                .map_err(err)?
-                .label(legend_name(curves.len(), slot, c))
-                .legend(legend_sample(&st));
-            if st.rings {
-                chart.draw_series(rings(&c.points, &st)).map_err(err)?;
-            }
+            trace(chart, &frame, &c.points, &st, legend_name(curves.len(), slot, c))?;
         }
     }
     Ok(())

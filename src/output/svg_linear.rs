@@ -5,8 +5,9 @@
 
 use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
 use crate::output::svg::{
-    err, legend_at, legend_sample, rings, style, titled, Chart, Evaluated, Keyed, Look,
+    err, legend_at, style, trace, titled, Chart, Evaluated, Keyed, Look,
 };
+use crate::output::ink;
 use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -28,6 +29,12 @@ pub fn needs_step(s: &Evaluated) -> Option<String> {
 fn axis(range: (f64, f64), n: usize) -> ((f64, f64), Keyed) {
     let ((lo, hi), ticks) = nice_linear(range.0, range.1, n);
     ((lo, hi), Keyed::new((lo, hi), ticks, Vec::new()))
+}
+
+/// Where a chart's data land on the page.
+fn frame_of(chart: &Chart) -> ink::Frame {
+    let (x, y) = (chart.x_range(), chart.y_range());
+    ink::Frame::of(chart.plotting_area(), (x.start, x.end), (y.start, y.end))
 }
 
 /// A vertical line over the chart with its text near the top.
@@ -94,7 +101,7 @@ pub fn step_chart(
         .map(|p| p.1)
         .chain(band.iter().copied())
         .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
-    let ((x0, x1), x_axis) = axis((0.0, end), 8);
+    let ((x0, _), x_axis) = axis((0.0, end), 8);
     let (yr, y_axis) = axis((lo, hi), 8);
     let sizes: Vec<String> = stages
         .iter()
@@ -123,14 +130,27 @@ pub fn step_chart(
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
-    let grey = RGBColor(120, 120, 120);
-    for (i, y) in band.iter().enumerate() {
-        let line = PathElement::new(vec![(x0, *y), (x1, *y)], grey.stroke_width(1));
-        let s = chart.draw_series(std::iter::once(line)).map_err(err)?;
-        if i == 0 {
-            s.label("±0.1 % of the final value")
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], grey));
-        }
+    // The band: shaded with dashed edges, at least 6 px tall so that it
+    // reads at a glance (0.2 % of the axis is under a pixel).
+    if let [lo_b, hi_b] = band[..] {
+        let teal = if look.mono {
+            RGBColor(110, 110, 110)
+        } else {
+            RGBColor(20, 140, 130)
+        };
+        let frame = frame_of(&chart);
+        let token = ink::band(&frame, (lo_b, hi_b), 6.0, teal);
+        let band_st = crate::output::svg::Style {
+            color: teal,
+            width: 6.0,
+            dash: None,
+            rings: false,
+        };
+        chart
+            .draw_series(std::iter::once(ink::placeholder(token, (x0, lo_b))))
+            .map_err(err)?
+            .label("±0.1 % of the final value (shaded)")
+            .legend(crate::output::svg::legend_sample(&band_st));
     }
     for (slot, (s, w)) in stages.iter().zip(&waves).enumerate() {
         draw_wave(&mut chart, (slot, stages.len()), s, w, (yr, look, font))?;
@@ -162,15 +182,8 @@ fn draw_wave<'a, 'b: 'a>(
     } else {
         "output".to_string()
     };
-    chart
-        .draw_series(LineSeries::new(w.to_vec(), st.color.stroke_width(st.width)))
-        .map_err(err)?
-        .label(name)
-        .legend(legend_sample(&st));
-    if st.rings {
-        chart.draw_series(rings(w, &st)).map_err(err)?;
-    }
-    Ok(())
+    let frame = frame_of(chart);
+    trace(chart, &frame, w, &st, name)
 }
 
 /// A histogram's name over its panel.
@@ -321,17 +334,8 @@ fn draw_outlines<'a, 'b: 'a>(
         } else {
             "trials"
         };
-        chart
-            .draw_series(LineSeries::new(
-                pts.clone(),
-                st.color.stroke_width(st.width),
-            ))
-            .map_err(err)?
-            .label(label)
-            .legend(legend_sample(&st));
-        if st.rings {
-            chart.draw_series(rings(pts, &st)).map_err(err)?;
-        }
+        let frame = frame_of(chart);
+        trace(chart, &frame, pts, &st, label.to_string())?;
     }
     Ok(())
 }
