@@ -137,8 +137,17 @@ pub(crate) fn polyline(frame: &Frame, points: &[(f64, f64)], pen: &Pen) -> Strin
     )
     .ok();
     if pen.rings {
-        for p in points.iter().step_by(10) {
+        // A ring every 24 px along the curve, inside the plot area.
+        let mut last: Option<(f64, f64)> = None;
+        for p in points.iter().filter(|p| p.0.is_finite() && p.1.is_finite()) {
             let (x, y) = frame.at(*p);
+            if last.is_some_and(|(a, b)| (x - a).hypot(y - b) < 24.0)
+                || y < frame.py.0
+                || y > frame.py.1
+            {
+                continue;
+            }
+            last = Some((x, y));
             write!(
                 s,
                 "<circle cx=\"{x:.2}\" cy=\"{y:.2}\" r=\"3\" fill=\"white\" stroke=\"{}\" stroke-width=\"1\"/>",

@@ -7,6 +7,7 @@ pub mod helper_tables;
 pub(crate) mod ink;
 pub mod note;
 pub mod report;
+pub mod settling;
 pub mod spread_text;
 pub mod svg;
 pub mod svg_linear;

@@ -81,6 +81,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         ViewId::Noise => noise_plot(app, upper, buf),
         ViewId::Envelope => envelope_plot(app, upper, buf),
         ViewId::Step => step_plot(app, upper, buf),
+        ViewId::Settling => settling_plot(app, upper, buf),
         ViewId::Spread => super::spread_view::spread_plot(app, upper, buf),
         // Not in the workbench's cycle: the lower panel shows it.
         ViewId::Impedance => impedance_plot(app, upper, buf),
@@ -960,6 +961,94 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     );
     p.x_ticks = Some(x_ticks);
     // Time, not frequency: no cursor.
+    p.cursor = None;
+    p.render(inner, buf);
+}
+
+/// The step's settling: |output / final − 1| on a log axis against time,
+/// rules at 1 %, 0.1 % and 0.01 %, marks where each stage last leaves
+/// each band (the same curve and times as the SVG view).
+fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    use crate::output::settling;
+    let responses: Vec<_> = app.slots.iter().map(|s| &s.eval.analysis.step).collect();
+    let end = settling::end_of(&responses);
+    let n = (area.width as usize * 4).clamp(50, 600);
+    let curves: Vec<Vec<(f64, f64)>> = responses
+        .iter()
+        .map(|r| settling::curve(r, end, n))
+        .collect();
+    let title = format!(
+        " {}, |output/final − 1|{} ",
+        app.view.title(),
+        legend(app)
+    );
+    let b = block(app, title).title_bottom(Line::styled(step_summary(app), app.theme.dim));
+    let inner = b.inner(area);
+    b.render(area, buf);
+    if end <= 0.0 || curves.iter().all(Vec::is_empty) {
+        return;
+    }
+    let rules: Vec<Vec<(f64, f64)>> = crate::engine::step::BANDS
+        .iter()
+        .map(|b| vec![(0.0, b.log10()), (end, b.log10())])
+        .collect();
+    let mut tr: Vec<Trace> = Vec::new();
+    for l in &rules {
+        tr.push(Trace {
+            points: l,
+            style: app.theme.dim,
+            stroke: Stroke::Solid,
+            label: None,
+            label_at: 0.9,
+            joining: Joining::Continuous,
+        });
+    }
+    for (i, c) in curves.iter().enumerate() {
+        let (style, stroke) = slot_style(app, i);
+        tr.push(Trace {
+            points: c,
+            style,
+            stroke,
+            label: None,
+            label_at: 0.85,
+            joining: Joining::Continuous,
+        });
+    }
+    let top = curves
+        .iter()
+        .flatten()
+        .map(|p| p.1)
+        .fold(0.0f64, f64::max)
+        .ceil();
+    let floor = settling::FLOOR_LOG;
+    // Every decade when there is room, else every other one.
+    let every = if inner.height as f64 >= 2.0 * (top - floor) { 1 } else { 2 };
+    let y_ticks = (0..=(top - floor) as i32)
+        .filter(|i| (top as i32 - floor as i32 - i) % every == 0)
+        .map(|i| {
+            let y = floor + f64::from(i);
+            (y, settling::level_label(y).replace(' ', ""))
+        })
+        .collect();
+    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
+    let x_ticks = xt
+        .into_iter()
+        .filter(|t| *t <= end)
+        .map(|t| (t, compact(t, "s")))
+        .collect();
+    let marks = tagged_marks(app, |s| {
+        settling::rules(&s.eval.analysis.step)
+            .into_iter()
+            .filter_map(|(y, t)| {
+                t.map(|x| VMark {
+                    x,
+                    label: settling::band_name(10f64.powf(y)).replace(' ', ""),
+                })
+            })
+            .collect()
+    });
+    let mut p = plot(app, tr, (0.0, end), ((floor, top), y_ticks), marks);
+    p.x_ticks = Some(x_ticks);
     p.cursor = None;
     p.render(inner, buf);
 }
