@@ -385,11 +385,18 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     assert!(s.contains("need"), "{s}");
     assert!(s.contains("slew"), "{s}");
     assert!(s.contains("passes the swing ceiling"), "{s}");
-    // The next press shows the step view, then the spread view, and one
-    // more comes back to the response.
+    // The next press shows the step view, then the settling view, then
+    // the spread view, and one more comes back to the response.
     a.on_key(key(KeyCode::Char('v')));
     let s = screen(&a, 80, 24);
     assert!(s.contains("Step response"), "{s}");
+    a.on_key(key(KeyCode::Char('v')));
+    let s = screen(&a, 80, 24);
+    assert!(s.contains("Step settling"), "{s}");
+    // The bands' levels on its axis (the view's own rules).
+    for level in ["1%", "0.1%", "0.01%"] {
+        assert!(s.contains(level), "{level}\n{s}");
+    }
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Spread over the tolerances"));
     a.on_key(key(KeyCode::Char('v')));
