@@ -9,7 +9,7 @@ use crate::engine::step::{StepResponse, BANDS};
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, legend_at, style, titled, trace, Keyed, Look};
+use crate::output::svg::{err, head, style, titled, trace, Entry, Keyed, Look};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -102,9 +102,20 @@ pub fn settling_chart(
     let decades: Vec<f64> = (0..=(top - FLOOR_LOG) as i32)
         .map(|i| FLOOR_LOG + f64::from(i))
         .collect();
-    let mut chart = ChartBuilder::on(area)
-        .caption(titled(heading, stages), ("sans-serif", font + 4).into_font())
+    let entries: Vec<Entry> = (0..stages.len())
+        .map(|slot| {
+            let name = if stages.len() > 1 {
+                format!("{} |output / final − 1|", ["A", "B"][slot.min(1)])
+            } else {
+                "|output / final − 1|".to_string()
+            };
+            (name, style(slot, false, look.mono))
+        })
+        .collect();
+    let area = head(area, &titled(heading, stages), &entries, font)?;
+    let mut chart = ChartBuilder::on(&area)
         .margin(12)
+        .margin_right(crate::output::svg::RIGHT_MARGIN)
         .x_label_area_size(font * 3)
         .y_label_area_size(font * 5)
         .build_cartesian_2d(
@@ -134,12 +145,7 @@ pub fn settling_chart(
     };
     for (slot, (s, c)) in stages.iter().zip(&curves).enumerate() {
         let st = style(slot, false, look.mono);
-        let name = if stages.len() > 1 {
-            format!("{} |output / final − 1|", ["A", "B"][slot.min(1)])
-        } else {
-            "|output / final − 1|".to_string()
-        };
-        trace(&mut chart, &frame, c, &st, name)?;
+        trace(&mut chart, &frame, c, &st)?;
         let r = &s.eval.analysis.step;
         for (y, t) in rules(r) {
             let Some(t) = t else { continue };
@@ -178,6 +184,6 @@ pub fn settling_chart(
             chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
     }
-    legend_at(&mut chart, font, SeriesLabelPosition::UpperRight)
+    Ok(())
 }
 

@@ -33,6 +33,7 @@ mod standards;
 mod step_response;
 mod storage;
 mod strip_and_ascii;
+mod svg_text;
 mod sweep_cli;
 mod tmux_e2e;
 mod ui_render;
