@@ -4,7 +4,7 @@ use super::app::{App, Choices, Mode, Slot, ViewId};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
-pub use super::widgets::{block, compact};
+pub use super::widgets::{block, compact, fitted};
 use crate::judge::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
 use crate::judge::Severity;
 use crate::model::params::Group;
@@ -508,7 +508,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {}{} ", app.view.title(), legend(app));
     let mut b = block(app, title);
     if !loop_view {
-        b = b.title_bottom(Line::styled(gains_line(app), app.theme.dim));
+        b = b.title_bottom(Line::styled(fitted(&gains_line(app), area.width), app.theme.dim));
     }
     let inner = b.inner(area);
     b.render(area, buf);
@@ -710,7 +710,8 @@ fn noise_summary(app: &App) -> String {
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
-    let b = block(app, title).title_bottom(Line::styled(noise_summary(app), app.theme.dim));
+    let b = block(app, title)
+        .title_bottom(Line::styled(fitted(&noise_summary(app), area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     // Every stage's band, a decade either side.
@@ -771,7 +772,7 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         ),
         (Some(p), None) => format!(" peak {}: under every ceiling ", compact(p, "V")),
     };
-    let b = block(app, title).title_bottom(Line::styled(bottom, app.theme.dim));
+    let b = block(app, title).title_bottom(Line::styled(fitted(&bottom, area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     let x = (
@@ -902,7 +903,8 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         sizes.join(" / "),
         legend(app)
     );
-    let b = block(app, title).title_bottom(Line::styled(step_summary(app), app.theme.dim));
+    let b = block(app, title)
+        .title_bottom(Line::styled(fitted(&step_summary(app), area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     if end <= 0.0 {
@@ -982,7 +984,8 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         app.view.title(),
         legend(app)
     );
-    let b = block(app, title).title_bottom(Line::styled(step_summary(app), app.theme.dim));
+    let b = block(app, title)
+        .title_bottom(Line::styled(fitted(&step_summary(app), area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     if end <= 0.0 || curves.iter().all(Vec::is_empty) {

@@ -25,6 +25,7 @@ mod properties;
 mod readme;
 mod report_cli;
 mod saves;
+mod screen_fit;
 mod scenario_files;
 mod spread;
 mod spread_ui;
