@@ -226,7 +226,6 @@ pub(crate) fn finish(svg: String) -> String {
     out
 }
 
-
 /// A piece with `{X}`, `{Y}` and `{X+len}` set from its placeholder's
 /// position (the `x` and `y` of its `<text …>` tag).
 fn placed(piece: &str, tag: &str) -> String {
@@ -243,7 +242,9 @@ fn placed(piece: &str, tag: &str) -> String {
             .unwrap_or(0.0)
     };
     let (x, y) = (attr("x"), attr("y"));
-    let mut out = piece.replace("{X}", &format!("{x}")).replace("{Y}", &format!("{y}"));
+    let mut out = piece
+        .replace("{X}", &format!("{x}"))
+        .replace("{Y}", &format!("{y}"));
     while let Some(i) = out.find("{X+") {
         let j = i + out[i..].find('}').unwrap_or(0);
         let len: f64 = out[i + 3..j].parse().unwrap_or(0.0);

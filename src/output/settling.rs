@@ -180,10 +180,10 @@ pub fn settling_chart(
                 .color(&st.color)
                 .pos(Pos::new(HPos::Left, VPos::Top));
             let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
-            let label = EmptyElement::at((tmax, top)) + Text::new(text, (4, 4 + 16 * slot as i32), style);
+            let label =
+                EmptyElement::at((tmax, top)) + Text::new(text, (4, 4 + 16 * slot as i32), style);
             chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
     }
     Ok(())
 }
-

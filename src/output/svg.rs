@@ -291,7 +291,13 @@ pub(crate) fn wrap(text: &str, sep: &str, width: f64, font: u32) -> Vec<String> 
             }
         })
         .collect();
-    let joint = |p: &str| if sep == " · " && !p.contains(' ') { " " } else { sep };
+    let joint = |p: &str| {
+        if sep == " · " && !p.contains(' ') {
+            " "
+        } else {
+            sep
+        }
+    };
     for p in pieces {
         let next = if cur.is_empty() {
             p.clone()
@@ -655,7 +661,11 @@ impl Placer {
             row += 1;
         };
         self.taken.push((l, t, l + tw, t + th));
-        ((l - px).round() as i32, (t - top).round() as i32, HPos::Left)
+        (
+            (l - px).round() as i32,
+            (t - top).round() as i32,
+            HPos::Left,
+        )
     }
 }
 

@@ -4,10 +4,10 @@
 //! [`crate::output::views::VIEWS`] and share its styles, legend and footer.
 
 use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
-use crate::output::svg::{
-    err, head, style, trace, titled, Chart, Entry, Evaluated, Keyed, Look, Placer,
-};
 use crate::output::ink;
+use crate::output::svg::{
+    err, head, style, titled, trace, Chart, Entry, Evaluated, Keyed, Look, Placer,
+};
 use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -105,7 +105,10 @@ pub fn step_chart(
         .collect();
     let mut entries: Vec<Entry> = Vec::new();
     if !band.is_empty() {
-        entries.push(("±0.1 % of the final value (shaded)".into(), band_style(look)));
+        entries.push((
+            "±0.1 % of the final value (shaded)".into(),
+            band_style(look),
+        ));
     }
     for slot in 0..stages.len() {
         let name = if stages.len() > 1 {
@@ -244,7 +247,12 @@ pub fn spread_chart(
     );
     let entries: Vec<Entry> = if results.len() > 1 {
         (0..results.len())
-            .map(|slot| (["A", "B"][slot.min(1)].to_string(), style(slot, false, look.mono)))
+            .map(|slot| {
+                (
+                    ["A", "B"][slot.min(1)].to_string(),
+                    style(slot, false, look.mono),
+                )
+            })
             .collect()
     } else {
         Vec::new()

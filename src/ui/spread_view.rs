@@ -195,8 +195,11 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
         Paragraph::new(Line::styled(text, app.theme.dim)).render(at, buf);
         let v = cell(lo);
         let pad = (axis.width as usize).saturating_sub(v.chars().count()) / 2;
-        Paragraph::new(Line::styled(format!("{}{v}", " ".repeat(pad)), app.theme.dim))
-            .render(axis, buf);
+        Paragraph::new(Line::styled(
+            format!("{}{v}", " ".repeat(pad)),
+            app.theme.dim,
+        ))
+        .render(axis, buf);
     } else {
         draw_bars(app, &f.histogram, bars, buf);
         let ends = cell(lo).chars().count() + cell(hi).chars().count();

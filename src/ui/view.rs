@@ -508,7 +508,10 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {}{} ", app.view.title(), legend(app));
     let mut b = block(app, title);
     if !loop_view {
-        b = b.title_bottom(Line::styled(fitted(&gains_line(app), area.width), app.theme.dim));
+        b = b.title_bottom(Line::styled(
+            fitted(&gains_line(app), area.width),
+            app.theme.dim,
+        ));
     }
     let inner = b.inner(area);
     b.render(area, buf);
@@ -710,8 +713,10 @@ fn noise_summary(app: &App) -> String {
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
-    let b = block(app, title)
-        .title_bottom(Line::styled(fitted(&noise_summary(app), area.width), app.theme.dim));
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&noise_summary(app), area.width),
+        app.theme.dim,
+    ));
     let inner = b.inner(area);
     b.render(area, buf);
     // Every stage's band, a decade either side.
@@ -765,14 +770,17 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {} V{} ", app.view.title(), legend(app));
     let bottom = match (l.int_peak_v, l.envelope_limit) {
         (None, _) => " give source peak for the envelope ".to_string(),
+        // Where the need passes a ceiling first: it matters more than the
+        // peak, which a narrow caption drops.
         (Some(p), Some((f, what))) => format!(
-            " peak {}: passes the {what} ceiling at {} ",
-            compact(p, "V"),
-            compact(f, "Hz")
+            " passes the {what} ceiling at {} · peak {} ",
+            compact(f, "Hz"),
+            compact(p, "V")
         ),
         (Some(p), None) => format!(" peak {}: under every ceiling ", compact(p, "V")),
     };
-    let b = block(app, title).title_bottom(Line::styled(fitted(&bottom, area.width), app.theme.dim));
+    let b =
+        block(app, title).title_bottom(Line::styled(fitted(&bottom, area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     let x = (
@@ -903,8 +911,10 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         sizes.join(" / "),
         legend(app)
     );
-    let b = block(app, title)
-        .title_bottom(Line::styled(fitted(&step_summary(app), area.width), app.theme.dim));
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&step_summary(app), area.width),
+        app.theme.dim,
+    ));
     let inner = b.inner(area);
     b.render(area, buf);
     if end <= 0.0 {
@@ -979,13 +989,11 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .iter()
         .map(|r| settling::curve(r, end, n))
         .collect();
-    let title = format!(
-        " {}, |output/final − 1|{} ",
-        app.view.title(),
-        legend(app)
-    );
-    let b = block(app, title)
-        .title_bottom(Line::styled(fitted(&step_summary(app), area.width), app.theme.dim));
+    let title = format!(" {}, |output/final − 1|{} ", app.view.title(), legend(app));
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&step_summary(app), area.width),
+        app.theme.dim,
+    ));
     let inner = b.inner(area);
     b.render(area, buf);
     if end <= 0.0 || curves.iter().all(Vec::is_empty) {
@@ -1025,7 +1033,11 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .ceil();
     let floor = settling::FLOOR_LOG;
     // Every decade when there is room, else every other one.
-    let every = if inner.height as f64 >= 2.0 * (top - floor) { 1 } else { 2 };
+    let every = if inner.height as f64 >= 2.0 * (top - floor) {
+        1
+    } else {
+        2
+    };
     let y_ticks = (0..=(top - floor) as i32)
         .filter(|i| (top as i32 - floor as i32 - i) % every == 0)
         .map(|i| {

@@ -50,7 +50,7 @@ pub fn fitted(text: &str, width: u16) -> String {
     }
     let out = out
         .trim_end()
-        .trim_end_matches(|c| c == '·' || c == ',' || c == ':')
+        .trim_end_matches(['·', ',', ':'])
         .trim_end()
         .to_string();
     if out.is_empty() {

@@ -94,3 +94,23 @@ fn the_checker_finds_a_cut_caption() {
     assert_eq!(cut_captions(s, &corners).len(), 1);
     assert!(cut_captions("╭ a ─╮\n╰ gain ─╯", &corners).is_empty());
 }
+
+/// With `--ascii` and two stages the plots are not walls of `#`: where
+/// traces meet, the first one drawn shows its own mark.
+#[test]
+fn ascii_plots_are_not_walls_of_hashes() {
+    let two = vec![
+        (example("single_supply_inverter_clips"), None),
+        (example("line_driver_cable"), None),
+    ];
+    let a = App::new(two, Theme::new(false, true));
+    for (w, h) in [(80, 24), (120, 40)] {
+        let s = screen_at(&a, w, h);
+        let pane = if w >= 110 { 38 } else { 33 };
+        let hashes: usize = s
+            .lines()
+            .map(|l| l.chars().skip(pane).filter(|c| *c == '#').count())
+            .sum();
+        assert_eq!(hashes, 0, "{s}");
+    }
+}

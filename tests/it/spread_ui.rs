@@ -180,7 +180,10 @@ fn a_figure_that_does_not_move_shows_no_spread() {
                 assert!(screen.contains("±0°"), "{screen}");
             }
             // The limits are still read out under the panel.
-            assert!(screen.contains("≥60°") || screen.contains(">60"), "{screen}");
+            assert!(
+                screen.contains("≥60°") || screen.contains(">60"),
+                "{screen}"
+            );
             assert!(screen.contains("no spread"), "{screen}");
             // The margin's panel is the last: right of "no spread", no bar.
             let bar = if ascii { '#' } else { '█' };

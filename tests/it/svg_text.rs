@@ -66,7 +66,10 @@ fn text_box(n: &roxmltree::Node) -> Option<(String, TextBox)> {
         Some(d) if d.ends_with("em") || d.ends_with("ex") => (y - h / 2.0, y + h / 2.0),
         _ => (y - 0.8 * h, y + 0.2 * h),
     };
-    let bx = if n.attribute("transform").is_some_and(|t| t.contains("rotate")) {
+    let bx = if n
+        .attribute("transform")
+        .is_some_and(|t| t.contains("rotate"))
+    {
         // A quarter turn about (x, y): width and height swap.
         let (hw, hh) = ((r - l) / 2.0, (b - t) / 2.0);
         let (cx, cy) = ((l + r) / 2.0 - x, (t + b) / 2.0 - y);
