@@ -8,7 +8,7 @@ pub use super::widgets::{block, compact, fitted};
 use crate::judge::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
 use crate::judge::Severity;
 use crate::model::params::Group;
-use crate::model::values::{fmt_eng, fmt_fixed};
+use crate::model::values::{fmt_eng, fmt_fixed, spelled};
 use crate::output::views::MarkKind;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
@@ -30,7 +30,7 @@ const X_WINDOW: (f64, f64) = (0.0, 9.0);
 pub fn draw(frame: &mut Frame, app: &App) {
     let area = frame.area();
     let buf = frame.buffer_mut();
-    render(app, area, buf);
+    crate::model::values::with_ascii_units(app.theme.ascii, || render(app, area, buf));
 }
 
 pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -497,7 +497,12 @@ fn bode_marks(app: &App, s: &Slot, tag: &str) -> (Vec<VMark>, Vec<VMark>) {
         .into_iter()
         .find(|m| m.kind == MarkKind::Crossover);
     if let (Some(c), Some(pm)) = (crossover, a.phase_margin_deg) {
-        let text = format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(c.f_hz, "Hz"));
+        let text = format!(
+            "margin {}{} @ {}",
+            fmt_fixed(pm, 0),
+            spelled("°"),
+            fmt_eng(c.f_hz, "Hz")
+        );
         margin.push(mark(c.f_hz, text));
     }
     (marks, margin)
@@ -712,7 +717,7 @@ fn noise_summary(app: &App) -> String {
 }
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
+    let title = format!(" {} {}{} ", app.view.title(), spelled("V/√Hz"), legend(app));
     let b = block(app, title).title_bottom(Line::styled(
         fitted(&noise_summary(app), area.width),
         app.theme.dim,
@@ -1074,7 +1079,7 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     } else {
         String::new()
     };
-    let title = format!(" Impedance |Zout| pin |Zin| Ω{ab} ");
+    let title = format!(" Impedance |Zout| pin |Zin| {}{ab} ", spelled("Ω"));
     let b =
         block(app, title).title_bottom(Line::styled(impedance_caption(area.width), app.theme.dim));
     let inner = b.inner(area);

@@ -241,9 +241,12 @@ fn ascii_mode_uses_plain_characters() {
     let text = screen(&a, 100, 30);
     assert!(text.contains('+') && text.contains('|'));
     assert!(!text.contains('╭') && !text.contains('⠉'), "{text}");
-    // Everything on screen is plain ASCII, units in the RKM style (10k R).
+    // Everything on screen is plain ASCII, units spelled out readably
+    // (issue 26: "79.5MR", "79o" and "rHz" read badly).
     assert!(text.is_ascii(), "{text}");
-    assert!(text.contains("10kR"), "{text}");
+    assert!(text.contains("10kOhm"), "{text}");
+    assert!(!text.contains("kR ") && !text.contains("rHz"), "{text}");
+    assert!(text.contains("deg") && text.contains("rtHz"), "{text}");
 }
 
 /// A writer that keeps what the backend sends, so a test can count bytes.
