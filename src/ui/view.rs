@@ -994,7 +994,10 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .iter()
         .map(|r| settling::curve(r, end, n))
         .collect();
-    let title = format!(" {}, |output/final − 1|{} ", app.view.title(), legend(app));
+    let mut title = format!(" {}, |output/final − 1|{} ", app.view.title(), legend(app));
+    if title.chars().count() + 2 > usize::from(area.width) {
+        title = format!(" {}{} ", app.view.title(), legend(app));
+    }
     let b = block(app, title).title_bottom(Line::styled(
         fitted(&step_summary(app), area.width),
         app.theme.dim,
