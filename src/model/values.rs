@@ -373,6 +373,39 @@ pub fn fmt_like(written: &str, v: f64) -> String {
     format!("{v:?}")
 }
 
+// Values spelled in plain ASCII on this thread (the workbench's
+// `--ascii` frames): set by `with_ascii_units`.
+std::thread_local! {
+    static ASCII_UNITS: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+}
+
+/// Run `f` with values spelled in plain ASCII (`on`) or not, on this
+/// thread: Ω as `Ohm`, µ as `u`, ° as `deg`, √Hz as `rtHz`. Layout then
+/// measures the ASCII text itself.
+pub fn with_ascii_units<R>(on: bool, f: impl FnOnce() -> R) -> R {
+    let old = ASCII_UNITS.with(|a| a.replace(on));
+    let r = f();
+    ASCII_UNITS.with(|a| a.set(old));
+    r
+}
+
+/// Whether values are spelled in plain ASCII on this thread.
+pub fn ascii_units() -> bool {
+    ASCII_UNITS.with(std::cell::Cell::get)
+}
+
+/// A unit text in the current spelling: itself, or its ASCII spelling
+/// (`Ohm`, `u`, `deg`, `rtHz`) under [`with_ascii_units`].
+pub fn spelled(text: &str) -> String {
+    if !ascii_units() {
+        return text.to_string();
+    }
+    text.replace('Ω', "Ohm")
+        .replace(['µ', 'μ'], "u")
+        .replace('°', "deg")
+        .replace('√', "rt")
+}
+
 /// Engineering notation with a unit, e.g. `4.7 kΩ`, `100 nF`, `1.59 MHz`.
 /// Three significant digits, trailing zeros dropped.
 pub fn fmt_eng(v: f64, unit: &str) -> String {
@@ -401,7 +434,7 @@ pub fn fmt_eng_sig(v: f64, unit: &str, sig: usize) -> String {
     if unit.is_empty() && p.is_empty() {
         num
     } else {
-        format!("{num} {p}{unit}")
+        spelled(&format!("{num} {p}{unit}"))
     }
 }
 

@@ -41,6 +41,7 @@ pub enum ViewId {
     Impedance,
     Envelope,
     Step,
+    Settling,
     Spread,
 }
 

@@ -4,8 +4,10 @@
 
 pub mod figure;
 pub mod helper_tables;
+pub(crate) mod ink;
 pub mod note;
 pub mod report;
+pub mod settling;
 pub mod spread_text;
 pub mod svg;
 pub mod svg_linear;

@@ -9,6 +9,7 @@
 use crate::judge::figures::key_figures;
 use crate::model::values::{fmt_eng, printable};
 pub use crate::output::figure::{Axis, Curve, Evaluated, Look, Mark, OwnChart, View, DEG};
+use crate::output::ink;
 use crate::output::traces::Traces;
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint};
 use plotters::prelude::*;
@@ -17,26 +18,53 @@ use std::ops::Range;
 /// Accepted figure sizes in pixels (each side).
 pub const SIZE: (u32, u32) = (200, 8000);
 
-/// How one stage's curves are drawn: A solid and thick, B thinner with a
-/// ring every few points, so they differ without colour too.
+/// The look of every figure, decided here in one place for a printed
+/// design review:
+/// - A's main curves: a deep blue, 2.2 px; B's: a burnt orange, 1.6 px
+///   with open rings every tenth point, so A and B differ in grey print too.
+/// - The right-hand axis (phase) in a lighter tone of the same stage,
+///   1.4 px and dashed, so gain and phase never read as one curve.
+/// - Secondary lines (ceilings, |Zin|): green, violet, grey at 1.2 px.
+/// - Marks: thin rules in the stage's colour with the text set beside
+///   the rule, never on it; the legend sits above the plot, right-aligned.
+/// - Every curve is drawn at sub-pixel precision ([`crate::output::ink`]).
 pub(crate) struct Style {
     pub(crate) color: RGBColor,
-    pub(crate) width: u32,
+    pub(crate) width: f64,
+    pub(crate) dash: Option<(f64, f64)>,
     pub(crate) rings: bool,
+}
+
+impl Style {
+    /// Its pen for [`ink`].
+    pub(crate) fn pen(&self) -> ink::Pen {
+        ink::Pen {
+            color: self.color,
+            width: self.width,
+            dash: self.dash,
+            rings: self.rings,
+            opacity: 1.0,
+        }
+    }
 }
 
 pub(crate) fn style(slot: usize, right: bool, mono: bool) -> Style {
     let color = match (mono, slot, right) {
         (true, 0, _) => RGBColor(0, 0, 0),
         (true, _, _) => RGBColor(90, 90, 90),
-        (false, 0, false) => RGBColor(25, 85, 165),
-        (false, 0, true) => RGBColor(95, 150, 215),
-        (false, _, false) => RGBColor(190, 75, 20),
-        (false, _, true) => RGBColor(230, 145, 80),
+        (false, 0, false) => RGBColor(22, 70, 150),
+        (false, 0, true) => RGBColor(90, 140, 205),
+        (false, _, false) => RGBColor(190, 80, 20),
+        (false, _, true) => RGBColor(225, 145, 85),
     };
     Style {
         color,
-        width: if right { 1 } else { 2 } + u32::from(slot == 0 && !right),
+        width: match (right, slot) {
+            (true, _) => 1.4,
+            (false, 0) => 2.2,
+            (false, _) => 1.6,
+        },
+        dash: right.then_some((6.0, 3.0)),
         rings: slot > 0,
     }
 }
@@ -59,7 +87,8 @@ fn tone_style(slot: usize, tone: u8, mono: bool) -> Style {
     };
     Style {
         color: palette[usize::from(tone.clamp(1, 3)) - 1],
-        width: 1,
+        width: 1.2,
+        dash: None,
         rings: slot > 0,
     }
 }
@@ -128,6 +157,9 @@ fn y_keys(axis: Axis, (lo, hi): (f64, f64)) -> Vec<f64> {
         step *= 2.0;
     }
     steps(lo, hi, step)
+        .into_iter()
+        .filter(|y| *y <= hi + 1e-9)
+        .collect()
 }
 
 /// The x range: whole decades around every stage's sweep.
@@ -230,6 +262,126 @@ impl Ranged for Keyed {
     }
 }
 
+/// The right margin of a chart: room for half the last x label.
+pub(crate) const RIGHT_MARGIN: u32 = 28;
+
+/// The page size of a plotters font size (plotters writes `size / 1.24`).
+pub(crate) fn em(font: u32) -> f64 {
+    f64::from(font) / 1.24
+}
+
+/// A text's width on the page: 0.6 em a character, a generous mean
+/// advance for a sans-serif face, so what is laid out by it fits.
+pub fn text_width(text: &str, font: u32) -> f64 {
+    text.chars().count() as f64 * 0.6 * em(font)
+}
+
+/// Lines of `text` no wider than `width`, broken after `sep` (or at
+/// spaces when a piece is still too wide); a word is never cut.
+pub(crate) fn wrap(text: &str, sep: &str, width: f64, font: u32) -> Vec<String> {
+    let mut lines: Vec<String> = Vec::new();
+    let mut cur = String::new();
+    let pieces: Vec<String> = text
+        .split(sep)
+        .flat_map(|p| {
+            if text_width(p, font) <= width {
+                vec![p.to_string()]
+            } else {
+                p.split(' ').map(str::to_string).collect()
+            }
+        })
+        .collect();
+    let joint = |p: &str| {
+        if sep == " · " && !p.contains(' ') {
+            " "
+        } else {
+            sep
+        }
+    };
+    for p in pieces {
+        let next = if cur.is_empty() {
+            p.clone()
+        } else {
+            format!("{cur}{}{p}", joint(&p))
+        };
+        if cur.is_empty() || text_width(&next, font) <= width {
+            cur = next;
+        } else {
+            lines.push(std::mem::take(&mut cur));
+            cur = p;
+        }
+    }
+    if !cur.is_empty() {
+        lines.push(cur);
+    }
+    lines
+}
+
+/// One legend entry: its name and how its curve is drawn.
+pub(crate) type Entry = (String, Style);
+
+/// The top of every figure: the heading, centred and wrapped, then the
+/// legend in rows (outside the plot, so it hides no curve). Returns the
+/// area left for the chart.
+pub(crate) fn head<'b>(
+    area: &DrawingArea<SVGBackend<'b>, plotters::coord::Shift>,
+    heading: &str,
+    entries: &[Entry],
+    font: u32,
+) -> anyhow::Result<DrawingArea<SVGBackend<'b>, plotters::coord::Shift>> {
+    head_sized(area, heading, entries, (font, font + 4))
+}
+
+/// [`head`] with the heading in its own font size.
+pub(crate) fn head_sized<'b>(
+    area: &DrawingArea<SVGBackend<'b>, plotters::coord::Shift>,
+    heading: &str,
+    entries: &[Entry],
+    (font, big): (u32, u32),
+) -> anyhow::Result<DrawingArea<SVGBackend<'b>, plotters::coord::Shift>> {
+    use plotters::style::text_anchor::{HPos, Pos, VPos};
+    let (w, _) = area.dim_in_pixel();
+    let lines = wrap(heading, " ", f64::from(w) - 24.0, big);
+    let mut y = 8i32;
+    for l in &lines {
+        let style = ("sans-serif", big)
+            .into_font()
+            .color(&BLACK)
+            .pos(Pos::new(HPos::Center, VPos::Top));
+        area.draw(&Text::new(l.clone(), (w as i32 / 2, y), style))
+            .map_err(err)?;
+        y += (em(big) * 1.3).ceil() as i32;
+    }
+    // Legend entries left to right, wrapped: a 24 px sample, a gap, the name.
+    let (mut x, row_h) = (12.0, (em(font) * 1.5).ceil() as i32);
+    let right = f64::from(w) - 12.0;
+    if !entries.is_empty() {
+        y += 2;
+    }
+    for (i, (name, st)) in entries.iter().enumerate() {
+        let wide = 30.0 + text_width(name, font) + 16.0;
+        if i > 0 && x + wide > right {
+            x = 12.0;
+            y += row_h;
+        }
+        let mid = f64::from(y) + em(font) / 2.0;
+        let token = ink::sample(24.0, &st.pen());
+        let piece_at = (x as i32, mid as i32);
+        area.draw(&ink::placeholder(token, piece_at)).map_err(err)?;
+        let style = ("sans-serif", font)
+            .into_font()
+            .color(&RGBColor(40, 40, 40))
+            .pos(Pos::new(HPos::Left, VPos::Top));
+        area.draw(&Text::new(name.clone(), ((x + 30.0) as i32, y), style))
+            .map_err(err)?;
+        x += wide;
+    }
+    if !entries.is_empty() {
+        y += row_h;
+    }
+    Ok(area.split_vertically(y as u32 + 2).1)
+}
+
 pub(crate) type Chart<'a, 'b> = ChartContext<'a, SVGBackend<'b>, Cartesian2d<Keyed, Keyed>>;
 
 pub(crate) fn err(e: impl std::fmt::Display) -> anyhow::Error {
@@ -255,11 +407,15 @@ pub fn render(view: &View, stages: &[Evaluated], look: Look) -> anyhow::Result<S
         .map(|s| Traces::new(&s.eval.analysis))
         .collect();
     let mut svg = String::new();
+    ink::begin();
     {
         let root = SVGBackend::with_string(&mut svg, (look.width, look.height)).into_drawing_area();
         root.fill(&WHITE).map_err(err)?;
-        let lines = footer(stages);
         let font = (look.height / 50).clamp(10, 16);
+        let lines: Vec<String> = footer(stages)
+            .iter()
+            .flat_map(|l| wrap(l, " · ", f64::from(look.width) - 20.0, font))
+            .collect();
         let foot_h = (lines.len() as u32 + 1) * (font + 4);
         let (upper, lower) = root.split_vertically(look.height.saturating_sub(foot_h));
         match view.own {
@@ -278,7 +434,7 @@ pub fn render(view: &View, stages: &[Evaluated], look: Look) -> anyhow::Result<S
         }
         root.present().map_err(err)?;
     }
-    Ok(svg)
+    Ok(ink::finish(svg))
 }
 
 /// The plot area: axes, grid, curves, marks and legend.
@@ -300,11 +456,27 @@ fn draw_chart(
     };
     let (x0, x1) = x_range(&curves);
     let ly = y_range(&side(false), view.left);
-    let x_keys = steps(x0, x1, 1.0);
-    let mut builder = ChartBuilder::on(area);
+    let n = curves.len();
+    let entries: Vec<Entry> = curves
+        .iter()
+        .enumerate()
+        .flat_map(|(slot, cs)| {
+            cs.iter()
+                .filter(|c| !c.points.is_empty())
+                .map(move |c| (legend_name(n, slot, c), curve_style(slot, c, look.mono)))
+        })
+        .collect();
+    let area = head(area, &caption(view, stages), &entries, font)?;
+    // Every decade labelled where the labels fit, else every other one.
+    let plot_w = f64::from(area.dim_in_pixel().0) - f64::from(font * 9);
+    let mut x_keys = steps(x0, x1, 1.0);
+    if text_width("100mHz", font) * 1.6 * x_keys.len() as f64 > plot_w {
+        x_keys = x_keys.into_iter().step_by(2).collect();
+    }
+    let mut builder = ChartBuilder::on(&area);
     builder
-        .caption(caption(view, stages), ("sans-serif", font + 4).into_font())
         .margin(12)
+        .margin_right(RIGHT_MARGIN)
         .x_label_area_size(font * 3)
         .y_label_area_size(font * 5)
         .right_y_label_area_size(if view.right.is_some() { font * 4 } else { 0 });
@@ -323,8 +495,7 @@ fn draw_chart(
         Some(axis) => draw_two_sided(chart, &plot, axis, (x0, x1)),
         None => {
             let mut chart = chart;
-            draw_primary(&mut chart, &plot)?;
-            legend(&mut chart, font)
+            draw_primary(&mut chart, &plot)
         }
     }
 }
@@ -380,26 +551,17 @@ fn draw_two_sided<'a, 'b: 'a>(
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
+    let frame = ink::Frame::of(chart.plotting_area(), (x0, x1), p.ly).with_y(ry);
     for (slot, cs) in curves.iter().enumerate() {
         for c in cs.iter().filter(|c| c.right && !c.points.is_empty()) {
             let st = style(slot, true, look.mono);
-            let series = chart
-                .draw_secondary_series(LineSeries::new(
-                    c.points.clone(),
-                    st.color.stroke_width(st.width),
-                ))
+            let token = ink::polyline(&frame, &c.points, &st.pen());
+            chart
+                .draw_secondary_series(std::iter::once(ink::placeholder(token, (x0, ry.0))))
                 .map_err(err)?;
-            series
-                .label(legend_name(curves.len(), slot, c))
-                .legend(legend_sample(&st));
-            if st.rings {
-                chart
-                    .draw_secondary_series(rings(&c.points, &st))
-                    .map_err(err)?;
-            }
         }
     }
-    legend(&mut chart, font)
+    Ok(())
 }
 
 fn legend_name(n: usize, slot: usize, c: &Curve) -> String {
@@ -410,18 +572,20 @@ fn legend_name(n: usize, slot: usize, c: &Curve) -> String {
     }
 }
 
-pub(crate) fn legend_sample(st: &Style) -> impl Fn((i32, i32)) -> PathElement<(i32, i32)> {
-    let s = st.color.stroke_width(st.width);
-    move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], s)
-}
-
-/// Rings along a B curve, every tenth point.
-pub(crate) fn rings(points: &[(f64, f64)], st: &Style) -> Vec<Circle<(f64, f64), u32>> {
-    points
-        .iter()
-        .step_by(10)
-        .map(|p| Circle::new(*p, 3, st.color.stroke_width(1)))
-        .collect()
+/// Draw one curve at sub-pixel precision (its legend entry is drawn by
+/// [`head`]).
+pub(crate) fn trace<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    frame: &ink::Frame,
+    points: &[(f64, f64)],
+    st: &Style,
+) -> anyhow::Result<()> {
+    let token = ink::polyline(frame, points, &st.pen());
+    let at = (frame.x.0, frame.y.0);
+    chart
+        .draw_series(std::iter::once(ink::placeholder(token, at)))
+        .map_err(err)?;
+    Ok(())
 }
 
 /// The curves of one side, each one path, with their legend entries.
@@ -431,49 +595,81 @@ fn draw_curves<'a, 'b: 'a>(
     right: bool,
     look: Look,
 ) -> anyhow::Result<()> {
+    let r = (chart.x_range(), chart.y_range());
+    let frame = ink::Frame::of(
+        chart.plotting_area(),
+        (r.0.start, r.0.end),
+        (r.1.start, r.1.end),
+    );
     for (slot, cs) in curves.iter().enumerate() {
         for c in cs
             .iter()
             .filter(|c| c.right == right && !c.points.is_empty())
         {
             let st = curve_style(slot, c, look.mono);
-            chart
-                .draw_series(LineSeries::new(
-                    c.points.clone(),
-                    st.color.stroke_width(st.width),
-                ))
-                .map_err(err)?
-                .label(legend_name(curves.len(), slot, c))
-                .legend(legend_sample(&st));
-            if st.rings {
-                chart.draw_series(rings(&c.points, &st)).map_err(err)?;
-            }
+            trace(chart, &frame, &c.points, &st)?;
         }
     }
     Ok(())
 }
 
-pub(crate) fn legend<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, font: u32) -> anyhow::Result<()> {
-    legend_at(chart, font, SeriesLabelPosition::LowerLeft)
+/// Where marks' texts go: beside their rule (never on it), inside the
+/// plot area, each in the first row from the top where it meets no text
+/// already placed.
+#[derive(Default)]
+pub(crate) struct Placer {
+    taken: Vec<(f64, f64, f64, f64)>,
 }
 
-/// The legend box at a chosen corner.
-pub(crate) fn legend_at<'a, 'b: 'a>(
-    chart: &mut Chart<'a, 'b>,
-    font: u32,
-    at: SeriesLabelPosition,
-) -> anyhow::Result<()> {
-    chart
-        .configure_series_labels()
-        .label_font(("sans-serif", font).into_font())
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .position(at)
-        .draw()
-        .map_err(err)
+impl Placer {
+    /// The label of a rule at data x `x`: the text's anchor offset from the
+    /// top of the rule (dx, dy in px) and its side.
+    pub(crate) fn place(
+        &mut self,
+        frame: &ink::Frame,
+        x: f64,
+        text: &str,
+        font: u32,
+    ) -> (i32, i32, plotters::style::text_anchor::HPos) {
+        use plotters::style::text_anchor::HPos;
+        let (px, top) = frame.at((x, frame.y.1));
+        let (tw, th) = (text_width(text, font), em(font) * 1.15);
+        let gap = 5.0;
+        let fits_right = px + gap + tw <= frame.px.1 - 2.0;
+        let fits_left = px - gap - tw >= frame.px.0 + 2.0;
+        // Right of the rule unless only the left fits (or the rule sits in
+        // the right part and both do).
+        let right = fits_right && !(fits_left && px > frame.px.0 + 0.6 * (frame.px.1 - frame.px.0));
+        let l = if right {
+            px + gap
+        } else if fits_left {
+            px - gap - tw
+        } else {
+            // Neither fits beside the rule: keep it inside the plot.
+            (frame.px.1 - 2.0 - tw).max(frame.px.0 + 2.0)
+        };
+        let mut row = 0;
+        let t = loop {
+            let t = top + 4.0 + f64::from(row) * th * 1.25;
+            let free = self
+                .taken
+                .iter()
+                .all(|b| l + tw <= b.0 || b.2 <= l || t + th <= b.1 || b.3 <= t);
+            if free || t + 2.0 * th > frame.py.1 {
+                break t;
+            }
+            row += 1;
+        };
+        self.taken.push((l, t, l + tw, t + th));
+        (
+            (l - px).round() as i32,
+            (t - top).round() as i32,
+            HPos::Left,
+        )
+    }
 }
 
-/// Each stage's marks: a thin vertical line with its text near the top.
+/// Each stage's marks: a thin rule with its text beside it near the top.
 fn draw_marks<'a, 'b: 'a>(
     chart: &mut Chart<'a, 'b>,
     stages: &[Evaluated],
@@ -482,27 +678,32 @@ fn draw_marks<'a, 'b: 'a>(
     look: Look,
     font: u32,
 ) -> anyhow::Result<()> {
+    use plotters::style::text_anchor::{Pos, VPos};
+    let frame = {
+        let r = chart.x_range();
+        ink::Frame::of(chart.plotting_area(), (r.start, r.end), (y0, y1))
+    };
+    let mut placer = Placer::default();
     for (slot, s) in stages.iter().enumerate() {
         let color = if look.mono {
             RGBColor(60, 60, 60)
         } else {
             style(slot, false, false).color
         };
-        for (i, m) in (view.marks)(s).iter().enumerate() {
+        for m in (view.marks)(s).iter() {
             let x = m.f_hz.log10();
             if !x.is_finite() {
                 continue;
             }
             let line = PathElement::new(vec![(x, y0), (x, y1)], color.mix(0.6).stroke_width(1));
             chart.draw_series(std::iter::once(line)).map_err(err)?;
-            let row = (slot * 2 + i) as f64 + 1.0;
-            let y = y1 - (y1 - y0) * 0.05 * row;
-            let text = Text::new(
-                m.text.clone(),
-                (x, y),
-                ("sans-serif", font).into_font().color(&color),
-            );
-            chart.draw_series(std::iter::once(text)).map_err(err)?;
+            let (dx, dy, h) = placer.place(&frame, x, &m.text, font);
+            let style = ("sans-serif", font)
+                .into_font()
+                .color(&color)
+                .pos(Pos::new(h, VPos::Top));
+            let label = EmptyElement::at((x, y1)) + Text::new(m.text.clone(), (dx, dy), style);
+            chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
     }
     Ok(())

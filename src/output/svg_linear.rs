@@ -4,13 +4,14 @@
 //! [`crate::output::views::VIEWS`] and share its styles, legend and footer.
 
 use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
+use crate::output::ink;
 use crate::output::svg::{
-    err, legend_at, legend_sample, rings, style, titled, Chart, Evaluated, Keyed, Look,
+    err, head, style, titled, trace, Chart, Entry, Evaluated, Keyed, Look, Placer,
 };
 use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use plotters::coord::Shift;
 use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, Pos, VPos};
+use plotters::style::text_anchor::{Pos, VPos};
 
 type Area<'a, 'b> = DrawingArea<SVGBackend<'b>, Shift>;
 
@@ -30,28 +31,30 @@ fn axis(range: (f64, f64), n: usize) -> ((f64, f64), Keyed) {
     ((lo, hi), Keyed::new((lo, hi), ticks, Vec::new()))
 }
 
-/// A vertical line over the chart with its text near the top.
+/// Where a chart's data land on the page.
+fn frame_of(chart: &Chart) -> ink::Frame {
+    let (x, y) = (chart.x_range(), chart.y_range());
+    ink::Frame::of(chart.plotting_area(), (x.start, x.end), (y.start, y.end))
+}
+
+/// A vertical line over the chart with its text beside it near the top.
 fn vmark<'a, 'b: 'a>(
     chart: &mut Chart<'a, 'b>,
+    placer: &mut Placer,
     x: f64,
     (y0, y1): (f64, f64),
-    row: usize,
     text: String,
     (color, font): (RGBColor, u32),
 ) -> anyhow::Result<()> {
     let line = PathElement::new(vec![(x, y0), (x, y1)], color.mix(0.6).stroke_width(1));
     chart.draw_series(std::iter::once(line)).map_err(err)?;
-    let y = y1 - (y1 - y0) * 0.06 * (row as f64 + 1.0);
-    // Right of the line, or left of it in the chart's right part.
-    let r = chart.x_range();
-    let (xa, xb) = (r.start, r.end);
-    let right_part = xb > xa && (x - xa) / (xb - xa) > 0.6;
-    let h = if right_part { HPos::Right } else { HPos::Left };
+    let frame = frame_of(chart);
+    let (dx, dy, h) = placer.place(&frame, x, &text, font);
     let style = ("sans-serif", font)
         .into_font()
         .color(&color)
         .pos(Pos::new(h, VPos::Top));
-    let label = Text::new(text, (x, y), style);
+    let label = EmptyElement::at((x, frame.y.1)) + Text::new(text, (dx, dy), style);
     chart.draw_series(std::iter::once(label)).map_err(err)?;
     Ok(())
 }
@@ -94,18 +97,36 @@ pub fn step_chart(
         .map(|p| p.1)
         .chain(band.iter().copied())
         .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
-    let ((x0, x1), x_axis) = axis((0.0, end), 8);
+    let ((x0, _), x_axis) = axis((0.0, end), 8);
     let (yr, y_axis) = axis((lo, hi), 8);
     let sizes: Vec<String> = stages
         .iter()
         .map(|s| fmt_eng(s.eval.analysis.step.size_v, "V"))
         .collect();
-    let mut chart = ChartBuilder::on(area)
-        .caption(
-            titled(&format!("{heading}, {} step", sizes.join(" / ")), stages),
-            ("sans-serif", font + 4).into_font(),
-        )
+    let mut entries: Vec<Entry> = Vec::new();
+    if !band.is_empty() {
+        entries.push((
+            "±0.1 % of the final value (shaded)".into(),
+            band_style(look),
+        ));
+    }
+    for slot in 0..stages.len() {
+        let name = if stages.len() > 1 {
+            format!("{} output", ["A", "B"][slot.min(1)])
+        } else {
+            "output".to_string()
+        };
+        entries.push((name, style(slot, false, look.mono)));
+    }
+    let area = head(
+        area,
+        &titled(&format!("{heading}, {} step", sizes.join(" / ")), stages),
+        &entries,
+        font,
+    )?;
+    let mut chart = ChartBuilder::on(&area)
         .margin(12)
+        .margin_right(crate::output::svg::RIGHT_MARGIN)
         .x_label_area_size(font * 3)
         .y_label_area_size(font * 5)
         .build_cartesian_2d(x_axis, y_axis)
@@ -123,31 +144,41 @@ pub fn step_chart(
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
-    let grey = RGBColor(120, 120, 120);
-    for (i, y) in band.iter().enumerate() {
-        let line = PathElement::new(vec![(x0, *y), (x1, *y)], grey.stroke_width(1));
-        let s = chart.draw_series(std::iter::once(line)).map_err(err)?;
-        if i == 0 {
-            s.label("±0.1 % of the final value")
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], grey));
-        }
+    // The band: shaded with dashed edges, at least 6 px tall so that it
+    // reads at a glance (0.2 % of the axis is under a pixel).
+    if let [lo_b, hi_b] = band[..] {
+        let frame = frame_of(&chart);
+        let token = ink::band(&frame, (lo_b, hi_b), 6.0, band_style(look).color);
+        chart
+            .draw_series(std::iter::once(ink::placeholder(token, (x0, lo_b))))
+            .map_err(err)?;
     }
+    let mut placer = Placer::default();
     for (slot, (s, w)) in stages.iter().zip(&waves).enumerate() {
-        draw_wave(&mut chart, (slot, stages.len()), s, w, (yr, look, font))?;
+        draw_wave(&mut chart, &mut placer, slot, s, w, (yr, look, font))?;
     }
-    // Out of the waveform's way: below a rising step, above a falling one.
-    let at = if final_a.unwrap_or(1.0) >= 0.0 {
-        SeriesLabelPosition::LowerRight
-    } else {
-        SeriesLabelPosition::UpperRight
-    };
-    legend_at(&mut chart, font, at)
+    Ok(())
+}
+
+/// The settling band's look: a teal (grey in mono) shade.
+fn band_style(look: Look) -> crate::output::svg::Style {
+    crate::output::svg::Style {
+        color: if look.mono {
+            RGBColor(110, 110, 110)
+        } else {
+            RGBColor(20, 140, 130)
+        },
+        width: 6.0,
+        dash: None,
+        rings: false,
+    }
 }
 
 /// One stage's waveform and its settling-time mark.
 fn draw_wave<'a, 'b: 'a>(
     chart: &mut Chart<'a, 'b>,
-    (slot, n): (usize, usize),
+    placer: &mut Placer,
+    slot: usize,
     s: &Evaluated,
     w: &[(f64, f64)],
     (yr, look, font): ((f64, f64), Look, u32),
@@ -155,27 +186,15 @@ fn draw_wave<'a, 'b: 'a>(
     let st = style(slot, false, look.mono);
     if let Some(ts) = s.eval.analysis.step.settle_s[1] {
         let text = format!("ts 0.1 % {}", fmt_eng(ts, "s"));
-        vmark(chart, ts, yr, slot, text, (st.color, font))?;
+        vmark(chart, placer, ts, yr, text, (st.color, font))?;
     }
     // Held at a rail before the step: no figures, and the chart says why.
     if let Some(reason) = s.eval.analysis.step.reason {
         let text = format!("no figures: {reason}");
-        vmark(chart, 0.0, yr, slot, text, (st.color, font))?;
+        vmark(chart, placer, 0.0, yr, text, (st.color, font))?;
     }
-    let name = if n > 1 {
-        format!("{} output", ["A", "B"][slot.min(1)])
-    } else {
-        "output".to_string()
-    };
-    chart
-        .draw_series(LineSeries::new(w.to_vec(), st.color.stroke_width(st.width)))
-        .map_err(err)?
-        .label(name)
-        .legend(legend_sample(&st));
-    if st.rings {
-        chart.draw_series(rings(w, &st)).map_err(err)?;
-    }
-    Ok(())
+    let frame = frame_of(chart);
+    trace(chart, &frame, w, &st)
 }
 
 /// A histogram's name over its panel.
@@ -231,13 +250,19 @@ pub fn spread_chart(
         results[0].trials,
         yields.join(" vs ")
     );
-    let (head, body) = area.split_vertically(font * 2 + 16);
-    head.draw(&Text::new(
-        titled(&title, stages),
-        (12, 8),
-        ("sans-serif", font + 4).into_font(),
-    ))
-    .map_err(err)?;
+    let entries: Vec<Entry> = if results.len() > 1 {
+        (0..results.len())
+            .map(|slot| {
+                (
+                    ["A", "B"][slot.min(1)].to_string(),
+                    style(slot, false, look.mono),
+                )
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let body = head(area, &titled(&title, stages), &entries, font)?;
     // A's histograms (and B's of the same figures).
     let keys = spread::shown_figures(&results[0], 4);
     for (panel, key) in body.split_evenly((1, keys.len())).iter().zip(&keys) {
@@ -271,16 +296,20 @@ fn histogram_panel(
         (a.min(x), b.max(x))
     });
     let top = outlines.iter().flatten().map(|p| p.1).fold(1.0, f64::max);
-    let (_, x_axis) = axis((lo, hi), 4);
+    // As many labelled steps as fit the panel's width.
+    let room = f64::from(area.dim_in_pixel().0) - f64::from(font * 4 + 20);
+    let fit = (room / (crate::output::svg::text_width("-00.00kHz", font) * 1.3)).floor() as usize;
+    let (_, x_axis) = axis((lo, hi), fit.clamp(1, 4));
     let (yr, y_axis) = axis((0.0, top * 1.15), 5);
     let unit_text = match unit {
         crate::judge::figures::Unit::Si(u) => u,
         crate::judge::figures::Unit::Degrees => "°",
         _ => "%",
     };
-    let mut chart = ChartBuilder::on(area)
-        .caption(name, ("sans-serif", font + 2).into_font())
+    let area = crate::output::svg::head_sized(area, name, &[], (font, font + 2))?;
+    let mut chart = ChartBuilder::on(&area)
         .margin(10)
+        .margin_right(crate::output::svg::RIGHT_MARGIN)
         .x_label_area_size(font * 3)
         .y_label_area_size(font * 4)
         .build_cartesian_2d(x_axis, y_axis)
@@ -298,19 +327,16 @@ fn histogram_panel(
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
-    for (i, (slot, x, text)) in limits.into_iter().enumerate() {
+    let mut placer = Placer::default();
+    for (slot, x, text) in limits {
         let color = match (look.mono, slot) {
             (true, _) => RGBColor(0, 0, 0),
             (false, 0) => RGBColor(200, 30, 30),
             (false, _) => RGBColor(150, 30, 110),
         };
-        vmark(&mut chart, x, yr, i, text, (color, font))?;
+        vmark(&mut chart, &mut placer, x, yr, text, (color, font))?;
     }
-    draw_outlines(&mut chart, &outlines, look)?;
-    if results.len() > 1 {
-        legend_at(&mut chart, font, SeriesLabelPosition::UpperRight)?;
-    }
-    Ok(())
+    draw_outlines(&mut chart, &outlines, look)
 }
 
 /// Each stage's histogram outline in its style (A solid, B with rings).
@@ -321,22 +347,8 @@ fn draw_outlines<'a, 'b: 'a>(
 ) -> anyhow::Result<()> {
     for (slot, pts) in outlines.iter().enumerate().filter(|(_, p)| !p.is_empty()) {
         let st = style(slot, false, look.mono);
-        let label = if outlines.len() > 1 {
-            ["A", "B"][slot.min(1)]
-        } else {
-            "trials"
-        };
-        chart
-            .draw_series(LineSeries::new(
-                pts.clone(),
-                st.color.stroke_width(st.width),
-            ))
-            .map_err(err)?
-            .label(label)
-            .legend(legend_sample(&st));
-        if st.rings {
-            chart.draw_series(rings(pts, &st)).map_err(err)?;
-        }
+        let frame = frame_of(chart);
+        trace(chart, &frame, pts, &st)?;
     }
     Ok(())
 }

@@ -9,6 +9,7 @@
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG};
 pub use crate::output::figure::{MarkKind, ViewId};
+use crate::output::settling;
 use crate::output::svg_linear;
 use crate::output::traces::Traces;
 
@@ -186,7 +187,7 @@ fn envelope_marks(s: &Evaluated) -> Vec<Mark> {
 }
 
 /// Every view, in `--view` order.
-pub static VIEWS: [View; 7] = [
+pub static VIEWS: [View; 8] = [
     View {
         id: ViewId::Response,
         name: "response",
@@ -283,6 +284,17 @@ pub static VIEWS: [View; 7] = [
     ),
     linear(
         (
+            ViewId::Settling,
+            "settling",
+            "Step settling",
+            "|output / final − 1| of the step on a log axis against time, \
+             1 %, 0.1 % and 0.01 % rules and the times each is last left",
+        ),
+        settling::needs_settling,
+        settling::settling_chart,
+    ),
+    linear(
+        (
             ViewId::Spread,
             "spread",
             "Spread over the tolerances",
@@ -296,13 +308,14 @@ pub static VIEWS: [View; 7] = [
 
 impl ViewId {
     /// Every view, in `--view` order.
-    pub const ALL: [ViewId; 7] = [
+    pub const ALL: [ViewId; 8] = [
         ViewId::Response,
         ViewId::Loop,
         ViewId::Noise,
         ViewId::Impedance,
         ViewId::Envelope,
         ViewId::Step,
+        ViewId::Settling,
         ViewId::Spread,
     ];
 
@@ -351,7 +364,7 @@ pub fn plot_help() -> String {
 /// The workbench's `v` help: the views it cycles through.
 pub fn cycle_help() -> String {
     let names: Vec<&str> = ViewId::shown().map(ViewId::name).collect();
-    format!("next view: {}", names.join(", "))
+    format!("next view: {}", names.join(" "))
 }
 
 /// The view with this name.

@@ -303,21 +303,19 @@ impl LogPlot<'_> {
 
     /// A cell with trace dots: every trace's dots merged (A's are never
     /// wiped by B's), in the style of the first trace drawn there. In
-    /// ASCII a cell where a solid and a dotted trace meet is `#`.
+    /// ASCII the first trace's own mark.
     fn draw_trace_cell(&self, traces: &[Dots], i: usize, cell: &mut ratatui::buffer::Cell) {
         let hits: Vec<usize> = (0..traces.len())
             .filter(|&t| traces[t].bits[i] != 0)
             .collect();
         let style = self.traces[hits[0]].style;
         let sym = match self.ascii_marks() {
-            Some((solid, dotted)) => {
-                let has = |s: Stroke| hits.iter().any(|&t| self.traces[t].stroke == s);
-                match (has(Stroke::Solid), has(Stroke::Dotted)) {
-                    (true, true) => '#',
-                    (true, false) => solid,
-                    _ => dotted,
-                }
-            }
+            // The first trace drawn there shows its own mark (a cell
+            // of two traces is not a third symbol: that made walls of it).
+            Some((solid, dotted)) => match self.traces[hits[0]].stroke {
+                Stroke::Solid => solid,
+                _ => dotted,
+            },
             None => braille(hits.iter().fold(0, |b, &t| b | traces[t].bits[i])),
         };
         cell.set_symbol(&sym.to_string()).set_style(style);

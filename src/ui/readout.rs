@@ -14,7 +14,11 @@ use super::widgets::compact as eng;
 /// The readout's parts for one stage, most important first.
 pub fn parts(r: &PointReport) -> Vec<String> {
     let db = |m: f64| fmt_fixed(20.0 * m.log10(), 1);
-    let deg = |p: Option<f64>, d| p.map_or(String::new(), |p| format!("∠{}°", fmt_fixed(p, d)));
+    let deg = |p: Option<f64>, d| {
+        p.map_or(String::new(), |p| {
+            format!("∠{}{}", fmt_fixed(p, d), crate::model::values::spelled("°"))
+        })
+    };
     let mut out = Vec::new();
     if let Some(g) = r.gain_mag {
         out.push(format!("gain {}dB{}", db(g), deg(r.gain_phase_deg, 1)));

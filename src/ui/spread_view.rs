@@ -175,13 +175,39 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
         Paragraph::new(Line::styled("undefined in every trial", app.theme.dim)).render(bars, buf);
         return;
     };
-    draw_bars(app, &f.histogram, bars, buf);
-    let ends = cell(lo).chars().count() + cell(hi).chars().count();
-    let axis_text = match (axis.width as usize).checked_sub(ends) {
-        Some(gap) if gap > 0 => format!("{}{}{}", cell(lo), " ".repeat(gap), cell(hi)),
-        _ => format!("from {}", cell(lo)),
-    };
-    Paragraph::new(Line::styled(axis_text, app.theme.dim)).render(axis, buf);
+    if cell(lo) == cell(hi) {
+        // Every trial gives the same value to the shown digits: one mark
+        // and "no spread", not a full-height bar.
+        let mid = bars.x + bars.width / 2;
+        let mark = if app.theme.ascii { "|" } else { "┃" };
+        buf[(mid, bars.y + bars.height - 1)]
+            .set_symbol(mark)
+            .set_style(app.theme.trace_a);
+        let text = "no spread";
+        let w = text.len() as u16;
+        let at = Rect {
+            x: bars.x + bars.width.saturating_sub(w) / 2,
+            y: bars.y + bars.height.saturating_sub(1) / 2,
+            width: w.min(bars.width),
+            height: 1,
+        };
+        Paragraph::new(Line::styled(text, app.theme.dim)).render(at, buf);
+        let v = cell(lo);
+        let pad = (axis.width as usize).saturating_sub(v.chars().count()) / 2;
+        Paragraph::new(Line::styled(
+            format!("{}{v}", " ".repeat(pad)),
+            app.theme.dim,
+        ))
+        .render(axis, buf);
+    } else {
+        draw_bars(app, &f.histogram, bars, buf);
+        let ends = cell(lo).chars().count() + cell(hi).chars().count();
+        let axis_text = match (axis.width as usize).checked_sub(ends) {
+            Some(gap) if gap > 0 => format!("{}{}{}", cell(lo), " ".repeat(gap), cell(hi)),
+            _ => format!("from {}", cell(lo)),
+        };
+        Paragraph::new(Line::styled(axis_text, app.theme.dim)).render(axis, buf);
+    }
     let mut notes = Vec::new();
     let span = hi - lo;
     for (values, op, failed) in marks(r, f.key) {

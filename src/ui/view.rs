@@ -4,11 +4,11 @@ use super::app::{App, Choices, Mode, Slot, ViewId};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
-pub use super::widgets::{block, compact};
+pub use super::widgets::{block, compact, fitted};
 use crate::judge::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
 use crate::judge::Severity;
 use crate::model::params::Group;
-use crate::model::values::{fmt_eng, fmt_fixed};
+use crate::model::values::{fmt_eng, fmt_fixed, spelled};
 use crate::output::views::MarkKind;
 use ratatui::layout::{Constraint, Layout, Rect};
 use ratatui::style::Modifier;
@@ -30,7 +30,7 @@ const X_WINDOW: (f64, f64) = (0.0, 9.0);
 pub fn draw(frame: &mut Frame, app: &App) {
     let area = frame.area();
     let buf = frame.buffer_mut();
-    render(app, area, buf);
+    crate::model::values::with_ascii_units(app.theme.ascii, || render(app, area, buf));
 }
 
 pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -81,6 +81,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         ViewId::Noise => noise_plot(app, upper, buf),
         ViewId::Envelope => envelope_plot(app, upper, buf),
         ViewId::Step => step_plot(app, upper, buf),
+        ViewId::Settling => settling_plot(app, upper, buf),
         ViewId::Spread => super::spread_view::spread_plot(app, upper, buf),
         // Not in the workbench's cycle: the lower panel shows it.
         ViewId::Impedance => impedance_plot(app, upper, buf),
@@ -497,7 +498,12 @@ fn bode_marks(app: &App, s: &Slot, tag: &str) -> (Vec<VMark>, Vec<VMark>) {
         .into_iter()
         .find(|m| m.kind == MarkKind::Crossover);
     if let (Some(c), Some(pm)) = (crossover, a.phase_margin_deg) {
-        let text = format!("margin {}° @ {}", fmt_fixed(pm, 0), fmt_eng(c.f_hz, "Hz"));
+        let text = format!(
+            "margin {}{} @ {}",
+            fmt_fixed(pm, 0),
+            spelled("°"),
+            fmt_eng(c.f_hz, "Hz")
+        );
         margin.push(mark(c.f_hz, text));
     }
     (marks, margin)
@@ -508,7 +514,10 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {}{} ", app.view.title(), legend(app));
     let mut b = block(app, title);
     if !loop_view {
-        b = b.title_bottom(Line::styled(gains_line(app), app.theme.dim));
+        b = b.title_bottom(Line::styled(
+            fitted(&gains_line(app), area.width),
+            app.theme.dim,
+        ));
     }
     let inner = b.inner(area);
     b.render(area, buf);
@@ -709,8 +718,11 @@ fn noise_summary(app: &App) -> String {
 }
 
 fn noise_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
-    let title = format!(" {} V/√Hz{} ", app.view.title(), legend(app));
-    let b = block(app, title).title_bottom(Line::styled(noise_summary(app), app.theme.dim));
+    let title = format!(" {} {}{} ", app.view.title(), spelled("V/√Hz"), legend(app));
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&noise_summary(app), area.width),
+        app.theme.dim,
+    ));
     let inner = b.inner(area);
     b.render(area, buf);
     // Every stage's band, a decade either side.
@@ -764,14 +776,17 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let title = format!(" {} V{} ", app.view.title(), legend(app));
     let bottom = match (l.int_peak_v, l.envelope_limit) {
         (None, _) => " give source peak for the envelope ".to_string(),
+        // Where the need passes a ceiling first: it matters more than the
+        // peak, which a narrow caption drops.
         (Some(p), Some((f, what))) => format!(
-            " peak {}: passes the {what} ceiling at {} ",
-            compact(p, "V"),
-            compact(f, "Hz")
+            " passes the {what} ceiling at {} · peak {} ",
+            compact(f, "Hz"),
+            compact(p, "V")
         ),
         (Some(p), None) => format!(" peak {}: under every ceiling ", compact(p, "V")),
     };
-    let b = block(app, title).title_bottom(Line::styled(bottom, app.theme.dim));
+    let b =
+        block(app, title).title_bottom(Line::styled(fitted(&bottom, area.width), app.theme.dim));
     let inner = b.inner(area);
     b.render(area, buf);
     let x = (
@@ -906,7 +921,10 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         sizes.join(" / "),
         legend(app)
     );
-    let b = block(app, title).title_bottom(Line::styled(step_summary(app), app.theme.dim));
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&step_summary(app), area.width),
+        app.theme.dim,
+    ));
     let inner = b.inner(area);
     b.render(area, buf);
     if end <= 0.0 {
@@ -969,13 +987,107 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     p.render(inner, buf);
 }
 
+/// The step's settling: |output / final − 1| on a log axis against time,
+/// rules at 1 %, 0.1 % and 0.01 %, marks where each stage last leaves
+/// each band (the same curve and times as the SVG view).
+fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    use crate::output::settling;
+    let responses: Vec<_> = app.slots.iter().map(|s| &s.eval.analysis.step).collect();
+    let end = settling::end_of(&responses);
+    let n = (area.width as usize * 4).clamp(50, 600);
+    let curves: Vec<Vec<(f64, f64)>> = responses
+        .iter()
+        .map(|r| settling::curve(r, end, n))
+        .collect();
+    let mut title = format!(" {}, |output/final − 1|{} ", app.view.title(), legend(app));
+    if title.chars().count() + 2 > usize::from(area.width) {
+        title = format!(" {}{} ", app.view.title(), legend(app));
+    }
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&step_summary(app), area.width),
+        app.theme.dim,
+    ));
+    let inner = b.inner(area);
+    b.render(area, buf);
+    if end <= 0.0 || curves.iter().all(Vec::is_empty) {
+        return;
+    }
+    let rules: Vec<Vec<(f64, f64)>> = crate::engine::step::BANDS
+        .iter()
+        .map(|b| vec![(0.0, b.log10()), (end, b.log10())])
+        .collect();
+    let mut tr: Vec<Trace> = Vec::new();
+    for l in &rules {
+        tr.push(Trace {
+            points: l,
+            style: app.theme.dim,
+            stroke: Stroke::Solid,
+            label: None,
+            label_at: 0.9,
+            joining: Joining::Continuous,
+        });
+    }
+    for (i, c) in curves.iter().enumerate() {
+        let (style, stroke) = slot_style(app, i);
+        tr.push(Trace {
+            points: c,
+            style,
+            stroke,
+            label: None,
+            label_at: 0.85,
+            joining: Joining::Continuous,
+        });
+    }
+    let top = curves
+        .iter()
+        .flatten()
+        .map(|p| p.1)
+        .fold(0.0f64, f64::max)
+        .ceil();
+    let floor = settling::FLOOR_LOG;
+    // Every decade when there is room, else every other one.
+    let every = if inner.height as f64 >= 2.0 * (top - floor) {
+        1
+    } else {
+        2
+    };
+    let y_ticks = (0..=(top - floor) as i32)
+        .filter(|i| (top as i32 - floor as i32 - i) % every == 0)
+        .map(|i| {
+            let y = floor + f64::from(i);
+            (y, settling::level_label(y).replace(' ', ""))
+        })
+        .collect();
+    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
+    let x_ticks = xt
+        .into_iter()
+        .filter(|t| *t <= end)
+        .map(|t| (t, compact(t, "s")))
+        .collect();
+    let marks = tagged_marks(app, |s| {
+        settling::rules(&s.eval.analysis.step)
+            .into_iter()
+            .filter_map(|(y, t)| {
+                t.map(|x| VMark {
+                    x,
+                    label: settling::band_name(10f64.powf(y)).replace(' ', ""),
+                })
+            })
+            .collect()
+    });
+    let mut p = plot(app, tr, (0.0, end), ((floor, top), y_ticks), marks);
+    p.x_ticks = Some(x_ticks);
+    p.cursor = None;
+    p.render(inner, buf);
+}
+
 fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let ab = if app.slots.len() > 1 {
         legend(app)
     } else {
         String::new()
     };
-    let title = format!(" Impedance |Zout| pin |Zin| Ω{ab} ");
+    let title = format!(" Impedance |Zout| pin |Zin| {}{ab} ", spelled("Ω"));
     let b =
         block(app, title).title_bottom(Line::styled(impedance_caption(area.width), app.theme.dim));
     let inner = b.inner(area);

@@ -20,3 +20,42 @@ pub fn block<'a>(app: &App, title: impl Into<Line<'a>>) -> Block<'a> {
 pub fn compact(v: f64, unit: &str) -> String {
     fmt_eng(v, unit).replace(' ', "")
 }
+
+/// A caption for a border `width` cells wide: its items (split after
+/// " · ", ", " and ": ") in order, dropping whole items from the end until
+/// it fits with a space each side, so that no number is ever cut. The
+/// items come most important first, so what is dropped is the least.
+pub fn fitted(text: &str, width: u16) -> String {
+    let room = usize::from(width).saturating_sub(4);
+    let text = text.trim();
+    // Items, each with the separator that ends it.
+    let mut items: Vec<&str> = Vec::new();
+    let mut rest = text;
+    while !rest.is_empty() {
+        let cut = [" · ", ", ", ": "]
+            .iter()
+            .filter_map(|sep| rest.find(sep).map(|i| i + sep.len()))
+            .min()
+            .unwrap_or(rest.len());
+        items.push(&rest[..cut]);
+        rest = &rest[cut..];
+    }
+    let mut out = String::new();
+    for item in items {
+        let next = format!("{out}{item}");
+        if next.trim_end().chars().count() > room {
+            break;
+        }
+        out = next;
+    }
+    let out = out
+        .trim_end()
+        .trim_end_matches(['·', ',', ':'])
+        .trim_end()
+        .to_string();
+    if out.is_empty() {
+        String::new()
+    } else {
+        format!(" {out} ")
+    }
+}

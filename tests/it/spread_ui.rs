@@ -155,3 +155,42 @@ fn histogram_columns_keep_bar_heights_at_every_width() {
         assert!(r.windows(2).all(|p| p[0] <= p[1]), "width {w}: {r:?}");
     }
 }
+
+/// A figure the trials do not move (to the shown digits: the ADC
+/// driver's phase margin, "71°±0°") is drawn as one mark with "no
+/// spread", not as full-height bars, and its axis names the value once.
+#[test]
+fn a_figure_that_does_not_move_shows_no_spread() {
+    let mut s = example("adc_driver_2n2");
+    // Resistors within 0.001 % (the least accepted) and nothing else
+    // varied: the margin moves by far less than a degree.
+    s.stage.tolerance = 1e-5;
+    let sp = s.spread.as_mut().unwrap();
+    sp.trials = Some(100);
+    (sp.cap_tol, sp.gbw_tol, sp.ro_tol) = (None, None, None);
+    for ascii in [false, true] {
+        let mut a = App::new(vec![(s.clone(), None)], Theme::new(false, ascii));
+        while a.view != ViewId::Spread {
+            a.on_key(key(KeyCode::Char('v')));
+        }
+        finish_spread(&mut a);
+        for (w, h) in [(80, 24), (120, 40)] {
+            let screen = screen_at(&a, w, h);
+            if !ascii {
+                assert!(screen.contains("±0°"), "{screen}");
+            }
+            // The limits are still read out under the panel.
+            assert!(
+                screen.contains("≥60°") || screen.contains(">60"),
+                "{screen}"
+            );
+            assert!(screen.contains("no spread"), "{screen}");
+            // The margin's panel is the last: right of "no spread", no bar.
+            let bar = if ascii { '#' } else { '█' };
+            for line in screen.lines() {
+                let right: String = line.chars().skip(w as usize * 2 / 3).collect();
+                assert!(!right.contains(bar), "{line}\n{screen}");
+            }
+        }
+    }
+}

@@ -258,12 +258,12 @@ fn no_color_flag_and_a_plain_locale() {
     assert!(!mono.contains("38;5;"), "--no-color screen has colours");
     drop(s);
     // A locale that is not UTF-8 chooses ASCII by itself (README): no Ω,
-    // resistors in the RKM style (10kR).
+    // resistors spelled with Ohm (issue 26: readable ASCII units).
     let Some(s) = start_with("lw_e2e_c_locale", "LC_ALL=C LANG=C", "") else {
         return;
     };
     let text = wait_for(&s.0, "Parameters").expect("workbench starts");
-    assert!(text.contains("10kR"), "{text}");
+    assert!(text.contains("10kOhm"), "{text}");
     assert!(!text.contains('Ω') && !text.contains('╭'), "{text}");
 }
 

@@ -241,9 +241,12 @@ fn ascii_mode_uses_plain_characters() {
     let text = screen(&a, 100, 30);
     assert!(text.contains('+') && text.contains('|'));
     assert!(!text.contains('╭') && !text.contains('⠉'), "{text}");
-    // Everything on screen is plain ASCII, units in the RKM style (10k R).
+    // Everything on screen is plain ASCII, units spelled out readably
+    // (issue 26: "79.5MR", "79o" and "rHz" read badly).
     assert!(text.is_ascii(), "{text}");
-    assert!(text.contains("10kR"), "{text}");
+    assert!(text.contains("10kOhm"), "{text}");
+    assert!(!text.contains("kR ") && !text.contains("rHz"), "{text}");
+    assert!(text.contains("deg") && text.contains("rtHz"), "{text}");
 }
 
 /// A writer that keeps what the backend sends, so a test can count bytes.
@@ -385,11 +388,18 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     assert!(s.contains("need"), "{s}");
     assert!(s.contains("slew"), "{s}");
     assert!(s.contains("passes the swing ceiling"), "{s}");
-    // The next press shows the step view, then the spread view, and one
-    // more comes back to the response.
+    // The next press shows the step view, then the settling view, then
+    // the spread view, and one more comes back to the response.
     a.on_key(key(KeyCode::Char('v')));
     let s = screen(&a, 80, 24);
     assert!(s.contains("Step response"), "{s}");
+    a.on_key(key(KeyCode::Char('v')));
+    let s = screen(&a, 80, 24);
+    assert!(s.contains("Step settling"), "{s}");
+    // The bands' levels on its axis (the view's own rules).
+    for level in ["1%", "0.1%", "0.01%"] {
+        assert!(s.contains(level), "{level}\n{s}");
+    }
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Spread over the tolerances"));
     a.on_key(key(KeyCode::Char('v')));

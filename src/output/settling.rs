@@ -1,0 +1,189 @@
+//! The settling view: how far the step response still is from its final
+//! value, |y(t)/final − 1|, on a logarithmic axis against time, from 100 %
+//! down to 1 ppm, with rules at the 1 %, 0.1 % and 0.01 % bands and the
+//! times where the curve last leaves each (the step's settling times). A
+//! slow tail or a ringing that a linear step plot hides shows here. The
+//! SVG chart and the workbench both read [`curve`] and [`rules`].
+
+use crate::engine::step::{StepResponse, BANDS};
+use crate::model::values::{fmt_eng, printable};
+use crate::output::figure::Evaluated;
+use crate::output::ink;
+use crate::output::svg::{err, head, style, titled, trace, Entry, Keyed, Look};
+use plotters::coord::Shift;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+/// The floor of the axis: 1 ppm (log10).
+pub const FLOOR_LOG: f64 = -6.0;
+
+/// The view needs a step response that settles somewhere (a final value).
+pub fn needs_settling(s: &Evaluated) -> Option<String> {
+    let r = &s.eval.analysis.step;
+    (r.view_end().is_none() || r.final_v.is_none_or(|f| f == 0.0)).then(|| {
+        format!(
+            "{} has no settling to draw (no step response with a final value)",
+            printable(&s.scenario.title)
+        )
+    })
+}
+
+/// How far a plot of settling runs: half as much again as the slowest
+/// 0.01 % settling time, or the whole window.
+pub fn end_of(responses: &[&StepResponse]) -> f64 {
+    responses
+        .iter()
+        .filter_map(|r| {
+            r.settle_s[2]
+                .filter(|t| *t > 0.0)
+                .map(|t| 1.5 * t)
+                .or(r.window_s())
+        })
+        .fold(0.0, f64::max)
+}
+
+/// (t, log10 |y/final − 1|) at `n` even times from 0 to `end`, held at
+/// the floor below 1 ppm. Empty without a final value.
+pub fn curve(r: &StepResponse, end: f64, n: usize) -> Vec<(f64, f64)> {
+    let Some(f) = r.final_v.filter(|f| *f != 0.0) else {
+        return Vec::new();
+    };
+    r.sampled(end, n)
+        .into_iter()
+        .map(|(t, y)| (t, (y / f - 1.0).abs().log10().max(FLOOR_LOG)))
+        .collect()
+}
+
+/// A band's name: "1 %", "0.1 %", "0.01 %".
+pub fn band_name(b: f64) -> String {
+    format!("{} %", crate::model::values::fmt_plain(100.0 * b, 3))
+}
+
+/// A level's label on the axis (log10 of the fraction): percent down to
+/// 0.01 %, then ppm.
+pub fn level_label(y: f64) -> String {
+    let v = 10f64.powf(y);
+    if v >= 0.99e-4 {
+        band_name(v)
+    } else {
+        format!("{} ppm", crate::model::values::fmt_plain(v * 1e6, 3))
+    }
+}
+
+/// The rules: each band (log10 level) with the time the stage's response
+/// last leaves it, when it does settle there.
+pub fn rules(r: &StepResponse) -> Vec<(f64, Option<f64>)> {
+    BANDS
+        .iter()
+        .zip(r.settle_s)
+        .map(|(b, t)| (b.log10(), t))
+        .collect()
+}
+
+/// The SVG chart: every stage's curve, the band rules, each stage's
+/// settling times, and the spec's settling time when one is set.
+pub fn settling_chart(
+    area: &DrawingArea<SVGBackend, Shift>,
+    heading: &str,
+    stages: &[Evaluated],
+    look: Look,
+    font: u32,
+) -> anyhow::Result<()> {
+    let responses: Vec<&StepResponse> = stages.iter().map(|s| &s.eval.analysis.step).collect();
+    let end = end_of(&responses);
+    let curves: Vec<Vec<(f64, f64)>> = responses.iter().map(|r| curve(r, end, 1200)).collect();
+    let top = curves
+        .iter()
+        .flatten()
+        .map(|p| p.1)
+        .fold(0.0f64, f64::max)
+        .ceil();
+    let ((x0, x1), x_ticks) = crate::model::values::nice_linear(0.0, end, 8);
+    let decades: Vec<f64> = (0..=(top - FLOOR_LOG) as i32)
+        .map(|i| FLOOR_LOG + f64::from(i))
+        .collect();
+    let entries: Vec<Entry> = (0..stages.len())
+        .map(|slot| {
+            let name = if stages.len() > 1 {
+                format!("{} |output / final − 1|", ["A", "B"][slot.min(1)])
+            } else {
+                "|output / final − 1|".to_string()
+            };
+            (name, style(slot, false, look.mono))
+        })
+        .collect();
+    let area = head(area, &titled(heading, stages), &entries, font)?;
+    let mut chart = ChartBuilder::on(&area)
+        .margin(12)
+        .margin_right(crate::output::svg::RIGHT_MARGIN)
+        .x_label_area_size(font * 3)
+        .y_label_area_size(font * 5)
+        .build_cartesian_2d(
+            Keyed::new((x0, x1), x_ticks, Vec::new()),
+            Keyed::new((FLOOR_LOG, top), decades, Vec::new()),
+        )
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc("time after the step (s)")
+        .y_desc("|output / final − 1|")
+        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
+        .y_label_formatter(&|y| level_label(*y))
+        .label_style(("sans-serif", font).into_font())
+        .axis_desc_style(("sans-serif", font).into_font())
+        .draw()
+        .map_err(err)?;
+    let rule = RGBColor(110, 110, 110);
+    for b in BANDS {
+        let y = b.log10();
+        let line = PathElement::new(vec![(x0, y), (x1, y)], rule.stroke_width(1));
+        chart.draw_series(std::iter::once(line)).map_err(err)?;
+    }
+    let frame = {
+        let (x, y) = (chart.x_range(), chart.y_range());
+        ink::Frame::of(chart.plotting_area(), (x.start, x.end), (y.start, y.end))
+    };
+    for (slot, (s, c)) in stages.iter().zip(&curves).enumerate() {
+        let st = style(slot, false, look.mono);
+        trace(&mut chart, &frame, c, &st)?;
+        let r = &s.eval.analysis.step;
+        for (y, t) in rules(r) {
+            let Some(t) = t else { continue };
+            let text = format!("{} at {}", band_name(10f64.powf(y)), fmt_eng(t, "s"));
+            // A dot where the curve last leaves the band, its time set in
+            // the free side of a falling curve: above and right of the dot,
+            // or below and left of it in the chart's right part.
+            let dot = Circle::new((t, y), 3, st.color.filled());
+            chart.draw_series(std::iter::once(dot)).map_err(err)?;
+            let right_part = (t - x0) / (x1 - x0) > 0.6;
+            let (h, v, dx, dy) = if right_part {
+                (HPos::Right, VPos::Top, -6, 4)
+            } else {
+                (HPos::Left, VPos::Bottom, 6, -4)
+            };
+            let style = ("sans-serif", font)
+                .into_font()
+                .color(&st.color)
+                .pos(Pos::new(h, v));
+            let label = EmptyElement::at((t, y)) + Text::new(text, (dx, dy), style);
+            chart.draw_series(std::iter::once(label)).map_err(err)?;
+        }
+        let spec_t = s.scenario.spec.as_ref().and_then(|sp| sp.settle_max_s);
+        if let Some(tmax) = spec_t.filter(|t| *t <= x1) {
+            let line = PathElement::new(
+                vec![(tmax, FLOOR_LOG), (tmax, top)],
+                st.color.mix(0.7).stroke_width(1),
+            );
+            chart.draw_series(std::iter::once(line)).map_err(err)?;
+            let style = ("sans-serif", font)
+                .into_font()
+                .color(&st.color)
+                .pos(Pos::new(HPos::Left, VPos::Top));
+            let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
+            let label =
+                EmptyElement::at((tmax, top)) + Text::new(text, (4, 4 + 16 * slot as i32), style);
+            chart.draw_series(std::iter::once(label)).map_err(err)?;
+        }
+    }
+    Ok(())
+}
