@@ -396,9 +396,19 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
     a.on_key(key(KeyCode::Char('v')));
     let s = screen(&a, 80, 24);
     assert!(s.contains("Step settling"), "{s}");
-    // The bands' levels on its axis (the view's own rules).
+    // This stage is held at the − rail before the step: no curve, and
+    // the caption says there are no figures.
+    assert!(s.contains("no figures"), "{s}");
+    // A stage that settles shows the bands' levels on its axis (the
+    // view's own rules).
+    let mut d = app(vec![loopwright::files::load::demo()]);
+    for _ in 0..5 {
+        d.on_key(key(KeyCode::Char('v')));
+    }
+    let ds = screen(&d, 80, 24);
+    assert!(ds.contains("Step settling"), "{ds}");
     for level in ["1%", "0.1%", "0.01%"] {
-        assert!(s.contains(level), "{level}\n{s}");
+        assert!(ds.contains(level), "{level}\n{ds}");
     }
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Spread over the tolerances"));
