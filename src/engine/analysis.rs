@@ -87,9 +87,16 @@ fn crossover(
     }
     let i = grid.iter().position(|g| g.1.norm() < 1.0)?;
     let (fa, fb) = bracket(|k| grid[k].0, i);
-    let ref_phase = grid[i.saturating_sub(1)].2;
     let fc = refine_between(fa, fb, |f| loop_at(f).norm_sqr().ln());
-    Some((fc, 180.0 + unwrap_near(loop_at(fc), ref_phase)))
+    // Below the first sweep point the phase there is no guide (the loop
+    // may turn by a half-circle or more between fc and it): place it from
+    // DC as the sweep's own first point is placed.
+    let phase = if i == 0 {
+        phase_anchor(&loop_at, t_dc, fc)
+    } else {
+        unwrap_near(loop_at(fc), grid[i - 1].2)
+    };
+    Some((fc, 180.0 + phase))
 }
 
 /// Integrated noise power per source over the band, V².

@@ -185,3 +185,28 @@ fn margin_sign_agrees_with_the_poles() {
     // Most random stages have one crossover: the comparison is not empty.
     assert!(compared.get() > 5_000, "compared {}", compared.get());
 }
+
+/// A case the random comparison found: the loop crosses 1 below the first
+/// sweep point, and three slow real loop poles (below 3 mHz, all in the
+/// left half-plane) turn its phase far before that point. The stage is
+/// stable, so its margin must read positive, not a turn off (−254°).
+#[test]
+fn a_crossover_below_the_sweep_keeps_the_margin_on_its_branch() {
+    let mut s = follower();
+    s.stage.topology = Topology::NonInverting;
+    s.stage.rg = Some(46.40962678305127);
+    s.stage.rf = Some(271723.4810817983);
+    s.amp.a0 = 20157.603049054404;
+    s.amp.gbw = 11.234969900565478;
+    s.amp.fp2 = Some(0.0021098317078262737);
+    s.amp.ro = 23841.470256044875;
+    s.load.r = Some(88693.33446232603);
+    s.load.c = Some(0.3440032666350695);
+    s.source.r = 0.001;
+    s.band = (1e3, 1e4);
+    for a in [analyze_to(&s, TRIAL), analyze(&s)] {
+        assert_eq!(a.stable, Some(true), "poles {:?}", a.poles);
+        let pm = a.phase_margin_deg.unwrap();
+        assert!(pm > 0.0 && pm < 180.0, "margin {pm}");
+    }
+}
