@@ -550,6 +550,26 @@ fn typmax(field: &'static str, t: TypMax, take: Take) -> Result<(f64, String), P
     }
 }
 
+/// A figure copied as typical or maximum (as the file asks), recorded
+/// with how it was read.
+fn copied(
+    out: &mut Vec<Derived>,
+    field: &'static str,
+    t: Option<TypMax>,
+    take: Take,
+) -> Result<Option<f64>, Problem> {
+    let Some(t) = t else {
+        return Ok(None);
+    };
+    let (x, how) = typmax(field, t, take)?;
+    out.push(Derived {
+        field,
+        value: x,
+        how,
+    });
+    Ok(Some(x))
+}
+
 /// Derive the `amp` block from datasheet figures.
 pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
     let mut out = Vec::new();
@@ -730,25 +750,11 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         put("inoise_corner", c, ihow);
     }
     // copied figures
-    let mut copy = |field: &'static str, t: Option<TypMax>| -> Result<Option<f64>, Problem> {
-        match t {
-            Some(t) => {
-                let (x, how) = typmax(field, t, f.take)?;
-                out.push(Derived {
-                    field,
-                    value: x,
-                    how,
-                });
-                Ok(Some(x))
-            }
-            None => Ok(None),
-        }
-    };
-    let vos = copy("vos", f.vos)?;
-    let vos_drift = copy("vos_drift", f.vos_drift)?;
-    let ib = copy("ib", f.ib)?;
-    let ios = copy("ios", f.ios)?;
-    let slew = copy("slew", f.slew)?;
+    let vos = copied(&mut out, "vos", f.vos, f.take)?;
+    let vos_drift = copied(&mut out, "vos_drift", f.vos_drift, f.take)?;
+    let ib = copied(&mut out, "ib", f.ib, f.take)?;
+    let ios = copied(&mut out, "ios", f.ios, f.take)?;
+    let slew = copied(&mut out, "slew", f.slew, f.take)?;
     // swing
     let mut swing_load = None;
     let (swing_neg, swing_pos) = match f.swing {
@@ -809,23 +815,7 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         }
         None => (None, None),
     };
-    let iout = {
-        let mut copy = |field: &'static str, t: Option<TypMax>| -> Result<Option<f64>, Problem> {
-            match t {
-                Some(t) => {
-                    let (x, how) = typmax(field, t, f.take)?;
-                    out.push(Derived {
-                        field,
-                        value: x,
-                        how,
-                    });
-                    Ok(Some(x))
-                }
-                None => Ok(None),
-            }
-        };
-        copy("iout", f.iout)?
-    };
+    let iout = copied(&mut out, "iout", f.iout, f.take)?;
     let amp = Amp {
         a0,
         gbw,
