@@ -138,30 +138,6 @@ pub struct Archetype {
     pub amp: Amp,
 }
 
-/// Which amplifier fields an archetype changed, by their labels: those
-/// set (new or different) and those cleared; "nothing changed" when none.
-pub fn archetype_changes(before: &Scenario, after: &Scenario) -> String {
-    let (mut set, mut cleared) = (Vec::new(), Vec::new());
-    for p in PARAMS.iter().filter(|p| p.path.starts_with("amp.")) {
-        match (p.get(before), p.get(after)) {
-            (a, b) if a == b => {}
-            (Some(_), None) => cleared.push(p.label),
-            _ => set.push(p.label),
-        }
-    }
-    let mut parts = Vec::new();
-    if !set.is_empty() {
-        parts.push(format!("set {}", set.join(", ")));
-    }
-    if !cleared.is_empty() {
-        parts.push(format!("cleared {}", cleared.join(", ")));
-    }
-    match parts.is_empty() {
-        true => "nothing changed".into(),
-        false => parts.join("; "),
-    }
-}
-
 pub const ARCHETYPES_RON: &str = include_str!("../../assets/amps.ron");
 
 /// The archetype library shipped in assets/.
@@ -220,8 +196,6 @@ pub enum Mode {
     },
     /// The other slot has unsaved changes: copy over them?
     ConfirmCopy,
-    /// Choosing an amplifier archetype: the highlighted entry.
-    Pick(usize),
     /// Choosing a part from the amplifier library (`a`).
     Parts(Box<PartList>),
     /// Saving the amplifier as this part: project or user library?
@@ -297,7 +271,6 @@ pub struct App {
     pub theme: Theme,
     pub running: bool,
     pub archetypes: Vec<Archetype>,
-    pub archetype: usize,
     /// The user's part library (None: none; the workbench sets it from
     /// the platform's folders, so a test never reads the real home).
     pub user_parts: Option<PathBuf>,
@@ -382,7 +355,6 @@ impl App {
             theme,
             running: true,
             archetypes: archetypes(),
-            archetype: 0,
             user_parts: None,
             last_part: None,
             show_phase: false,
@@ -575,19 +547,10 @@ impl App {
                 selected,
                 typed,
             } => self.on_open_key(key, files, selected, typed),
-            Mode::Pick(sel) => self.on_pick_key(key, sel),
             Mode::Parts(list) => self.on_parts_key(key, list),
             Mode::PartWhere(part) => self.on_part_where_key(key, part),
             Mode::PartReplace(target) => self.on_part_replace_key(key, target),
             Mode::Choose(list) => self.on_choose_key(key, list),
-        }
-    }
-
-    fn on_pick_key(&mut self, key: KeyEvent, sel: usize) {
-        match list_key(&key, sel, self.archetypes.len()) {
-            ListKey::Move(i) => self.mode = Mode::Pick(i),
-            ListKey::Apply => self.apply_archetype(sel),
-            ListKey::Leave => self.info("amplifier unchanged"),
         }
     }
 
@@ -900,29 +863,6 @@ impl App {
             )),
             Err(e) => self.error(format!("{e} (unchanged)")),
         }
-    }
-
-    fn apply_archetype(&mut self, i: usize) {
-        let Some(arch) = self.archetypes.get(i).cloned() else {
-            self.error("no amplifier archetypes found");
-            return;
-        };
-        self.archetype = i;
-        let before = self.slot().scenario.clone();
-        // Every amplifier field is the archetype's: what it gives is set,
-        // what it leaves out is cleared (no field of the old part stays).
-        if !self.apply_change("amplifier", |s| {
-            s.amp = arch.amp.clone();
-            Ok(())
-        }) {
-            return;
-        }
-        let what = archetype_changes(&before, &self.slot().scenario);
-        self.info(format!(
-            "{}: amplifier set to the {} archetype (typical values, every one editable): {what}",
-            Self::slot_label(self.active),
-            arch.name
-        ));
     }
 
     /// Copy the edited stage into the other slot; over unsaved changes

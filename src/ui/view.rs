@@ -98,7 +98,6 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             selected,
             typed,
         } => open_overlay(app, area, buf, files, *selected, typed),
-        Mode::Pick(sel) => pick_overlay(app, area, buf, *sel),
         Mode::Choose(list) => choose_overlay(app, area, buf, list),
         Mode::Parts(list) => super::part_list_view::draw(app, area, buf, list),
         _ => {}
@@ -1504,7 +1503,7 @@ fn open_overlay(
 
 /// A list overlay: a title, an optional dim header, rows (the selected
 /// one highlighted, scrolled into view) and a dim note under them. The
-/// archetype picker and the design helpers' lists share it.
+/// design helpers' lists use it.
 fn list_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: ListView) {
     // The note wraps at word boundaries inside the box (2 border, 2 indent).
     let note = wrap_words(list.note, 76.min(area.width).saturating_sub(4) as usize);
@@ -1563,31 +1562,6 @@ struct ListView<'a> {
     rows: &'a [String],
     selected: usize,
     note: &'a str,
-}
-
-fn pick_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, sel: usize) {
-    let rows: Vec<String> = app
-        .archetypes
-        .iter()
-        .map(|a| {
-            let m = &a.amp;
-            format!(
-                "{:<24} gbw {:>7}  en {:>6}/√Hz  in {:>6}/√Hz",
-                a.name,
-                compact(m.gbw, "Hz"),
-                compact(m.vnoise, "V"),
-                compact(m.inoise, "A")
-            )
-        })
-        .collect();
-    let list = ListView {
-        title: " Amplifier archetype (typical values, ↑↓ Enter, Esc) ",
-        header: "",
-        rows: &rows,
-        selected: sel,
-        note: "check the data sheet of the part you use",
-    };
-    list_overlay(app, area, buf, list);
 }
 
 fn choose_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, c: &Choices) {
