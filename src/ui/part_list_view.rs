@@ -42,29 +42,65 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
     let inner = b.inner(r);
     b.render(r, buf);
     let room = inner.width as usize;
-    // Every line below the search line, and which one is highlighted.
+    let (lines, at) = group_lines(app, list, &shown, room);
+    let search = format!(
+        "search: {}▏  {} of {} parts",
+        printable(&list.filter),
+        shown.len(),
+        list.lib.parts.len()
+    );
+    let note = "Enter sets every amplifier field · outside the list, A saves it as a part";
+    // The search line, the note, and as many list lines as fit.
+    let fit = (inner.height as usize).saturating_sub(2).max(1);
+    let start = at
+        .saturating_sub(fit - 1)
+        .min(lines.len().saturating_sub(fit));
+    let mut out = vec![Line::styled(cut(&search, room), app.theme.title)];
+    out.extend(lines.into_iter().skip(start).take(fit));
+    while out.len() < fit + 1 {
+        out.push(Line::raw(""));
+    }
+    out.push(Line::styled(cut(note, room), app.theme.dim));
+    Paragraph::new(out).render(inner, buf);
+}
+
+/// A group's title: its origin and, for the folders, where it is.
+fn group_title(list: &PartList, origin: Origin) -> String {
+    let folder = match origin {
+        Origin::BuiltIn => None,
+        Origin::User => Some(
+            list.lib
+                .user_dir
+                .as_ref()
+                .map_or("none".into(), |d| d.display().to_string()),
+        ),
+        Origin::Project => list
+            .lib
+            .project_dir
+            .as_ref()
+            .map(|d| d.display().to_string()),
+    };
+    match folder {
+        Some(f) => format!("{} ({})", origin.title(), printable(&f)),
+        None => origin.title().to_string(),
+    }
+}
+
+/// Every line below the search line (each group: its title, its shown
+/// parts, its unreadable files) and which one is highlighted.
+fn group_lines<'a>(
+    app: &App,
+    list: &PartList,
+    shown: &[usize],
+    room: usize,
+) -> (Vec<Line<'a>>, usize) {
     let mut lines: Vec<Line> = Vec::new();
     let mut at = 0;
     for origin in Origin::ALL {
-        let folder = match origin {
-            Origin::BuiltIn => None,
-            Origin::User => Some(
-                list.lib
-                    .user_dir
-                    .as_ref()
-                    .map_or("none".into(), |d| d.display().to_string()),
-            ),
-            Origin::Project => list
-                .lib
-                .project_dir
-                .as_ref()
-                .map(|d| d.display().to_string()),
-        };
-        let title = match folder {
-            Some(f) => format!("{} ({})", origin.title(), printable(&f)),
-            None => origin.title().to_string(),
-        };
-        lines.push(Line::styled(cut(&title, room), app.theme.group));
+        lines.push(Line::styled(
+            cut(&group_title(list, origin), room),
+            app.theme.group,
+        ));
         let mut any = false;
         for (k, &i) in shown.iter().enumerate() {
             let f = &list.lib.parts[i];
@@ -105,23 +141,5 @@ pub fn draw(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: &Par
             lines.push(Line::styled(none, app.theme.dim));
         }
     }
-    let search = format!(
-        "search: {}▏  {} of {} parts",
-        printable(&list.filter),
-        shown.len(),
-        list.lib.parts.len()
-    );
-    let note = "Enter sets every amplifier field · outside the list, A saves it as a part";
-    // The search line, the note, and as many list lines as fit.
-    let fit = (inner.height as usize).saturating_sub(2).max(1);
-    let start = at
-        .saturating_sub(fit - 1)
-        .min(lines.len().saturating_sub(fit));
-    let mut out = vec![Line::styled(cut(&search, room), app.theme.title)];
-    out.extend(lines.into_iter().skip(start).take(fit));
-    while out.len() < fit + 1 {
-        out.push(Line::raw(""));
-    }
-    out.push(Line::styled(cut(note, room), app.theme.dim));
-    Paragraph::new(out).render(inner, buf);
+    (lines, at)
 }
