@@ -77,8 +77,13 @@ pub struct Circuit {
 
 impl Circuit {
     pub fn new(s: &Scenario) -> Circuit {
+        Circuit::of(Netlist::build(s, AmpModel::Real))
+    }
+
+    /// A netlist built elsewhere (a kind given directly) ready to solve.
+    pub fn of(net: Netlist) -> Circuit {
         Circuit {
-            net: Netlist::build(s, AmpModel::Real),
+            net,
             work: RefCell::new(Lu::zeroed()),
         }
     }

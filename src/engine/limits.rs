@@ -11,7 +11,7 @@
 //! from the sweep's solutions.
 
 use crate::engine::circuit::{Circuit, Signals, Sweep};
-use crate::engine::netlist::Netlist;
+use crate::engine::netlist::{Excitation, Netlist};
 use crate::model::scenario::{present, Scenario};
 use crate::model::stages::Node;
 use crate::num::refine::refine_max;
@@ -21,13 +21,15 @@ use std::f64::consts::PI;
 
 /// The DC transfers to one place: per volt of source EMF (`src`), per
 /// ampere injected into the + and − pins (`zp`, `zn`), per volt in series
-/// with the + input (`hvos`).
+/// with the + input (`hvos`); and the level the DC-only EMFs set there
+/// (`held`, volts or amperes, 0 without them).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct Transfers {
     pub src: f64,
     pub zp: f64,
     pub zn: f64,
     pub hvos: f64,
+    pub held: f64,
 }
 
 /// The DC transfers to the load, the internal output, the + pin and the
@@ -136,21 +138,26 @@ fn unit_rhs(row: Option<usize>) -> Vector {
 }
 
 /// The DC transfers from one factorisation at s = 0: the source, a unit
-/// current into each pin and a unit voltage in the + input's generator.
+/// current into each pin, a unit voltage in the + input's generator and,
+/// where the stage has them, the DC-only EMFs at their levels.
 pub fn dc_transfers(circuit: &Circuit) -> Option<DcTransfers> {
     let net = &circuit.net;
-    let rhs = [
+    let mut rhs = vec![
         net.drive_rhs(),
         unit_rhs(net.inp),
         unit_rhs(net.inn),
         unit_rhs(Some(net.en_row)),
     ];
+    if !net.held.is_empty() {
+        rhs.push(net.rhs(Excitation::Held));
+    }
     let x = circuit.solve_at(0.0, &rhs)?;
     let read = |f: &dyn Fn(&[C64]) -> C64| Transfers {
         src: f(&x[0][..net.dim]).re,
         zp: f(&x[1][..net.dim]).re,
         zn: f(&x[2][..net.dim]).re,
         hvos: f(&x[3][..net.dim]).re,
+        held: x.get(4).map_or(0.0, |h| f(&h[..net.dim]).re),
     };
     Some(DcTransfers {
         out: read(&|v| Netlist::node_v(v, net.out)),
@@ -169,13 +176,23 @@ struct Dc {
 }
 
 impl Dc {
-    /// DC(X): the source's DC level and the (known, signed) bias currents.
+    /// DC(X): the source's DC level, the (known, signed) bias currents
+    /// and the DC-only EMFs.
     fn level(&self, t: &Transfers) -> f64 {
-        t.src * self.source_dc - self.ib * (t.zp + t.zn)
+        held_plus(t.src * self.source_dc - self.ib * (t.zp + t.zn), t.held)
     }
     /// u(X): the unknown-sign offset voltage and offset current.
     fn uncertainty(&self, t: &Transfers) -> f64 {
         self.vos * t.hvos.abs() + 0.5 * self.ios * (t.zp - t.zn).abs()
+    }
+}
+
+/// `v` with the DC-only EMFs' level added (exactly `v` without them).
+fn held_plus(v: f64, held: f64) -> f64 {
+    if held == 0.0 {
+        v
+    } else {
+        v + held
     }
 }
 
@@ -271,8 +288,8 @@ fn dc_errors(s: &Scenario, l: &mut Limits, dc: &Dc, dc_gain: f64) {
         l.out_offset_max_v =
             Some(bias.abs() + dc.vos * out.hvos.abs() + 0.5 * dc.ios * (out.zp - out.zn).abs());
     }
-    if s.source.dc.is_some() || a.ib.is_some() {
-        l.out_dc_v = Some(dc_gain * dc.source_dc + bias);
+    if s.source.dc.is_some() || a.ib.is_some() || out.held != 0.0 {
+        l.out_dc_v = Some(held_plus(dc_gain * dc.source_dc + bias, out.held));
     }
 }
 
@@ -380,7 +397,8 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
             || a.vos_drift.is_some()
             || a.ib.is_some()
             || a.ios.is_some()
-            || s.source.dc.is_some(),
+            || s.source.dc.is_some()
+            || !circuit.net.held.is_empty(),
         ..Limits::default()
     };
     if !l.dc_given && s.source.peak.is_none() {

@@ -3,7 +3,7 @@
 //! the same elements; the solver never knows which one it has.
 
 use crate::model::scenario::{present, Amp, Feedback, Scenario};
-use crate::model::stages::{kind, Element as Kinds, Node, PartDecl, KINDS};
+use crate::model::stages::{kind, Element as Kinds, Input, Kind, Node, PartDecl, KINDS};
 use crate::num::solver::{Matrix, Vector, MAXN, ZERO};
 use num_complex::Complex64 as C64;
 
@@ -28,15 +28,25 @@ enum Pin {
     Int,
     /// Load terminal.
     Out,
+    /// The second input's EMF and terminal ([`Input::Pair`]).
+    Src2,
+    Term2,
+    /// A node held at a DC-only level ([`Node::Bias`]).
+    Bias,
 }
-const PINS: usize = 9;
+const PINS: usize = 12;
+/// The pins that are only an EMF's far end: merged with ground behind a
+/// Norton source, or with the terminal when the source is ideal; never a
+/// node of their own.
+const EMF_PINS: usize = 2;
 
 /// What a noise source is, so rules can tell what the designer can change.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum NoiseKind {
     /// A resistor of the stage (rg, rf, riso): the designer picks it.
     StageResistor,
-    /// The signal source's own resistance: given by the application.
+    /// The signal source's own resistance (either input's): given by the
+    /// application.
     SourceResistance,
     /// The amplifier's voltage noise.
     AmpVoltage,
@@ -97,11 +107,20 @@ pub enum AmpModel {
 /// The stamped form of one stage.
 #[derive(Debug, Clone)]
 pub struct Netlist {
-    /// Unknowns: node voltages, then the branches (EMF, noise probe, amplifier).
+    /// Unknowns: node voltages, then the branches (input 1's ideal EMF,
+    /// noise probe, amplifier, input 2's ideal EMF, the held levels).
     pub dim: usize,
     elements: Vec<Element>,
-    /// How the source EMF drives the stage.
+    /// How input 1 (the only input of most kinds) drives the stage.
     pub drive: Drive,
+    /// How input 2 drives the stage ([`Input::Pair`]).
+    pub drive2: Option<Drive>,
+    /// The share of one unit of the kind's signal each input carries
+    /// ([`Input::signal_weights`]).
+    pub weights: (f64, f64),
+    /// The DC-only EMFs: their level in the operating point, ground in
+    /// every frequency analysis.
+    pub held: Vec<Held>,
     /// The branch of the voltage generator in series with the + input
     /// (noise and offset).
     pub en_row: usize,
@@ -126,9 +145,13 @@ pub struct Netlist {
     model: AmpModel,
     pub out: Option<usize>,
     pub term: Option<usize>,
+    /// Input 2's terminal ([`Node::Input2`]).
+    pub term2: Option<usize>,
     /// How the input terminal reaches into the stage (the source's own
     /// resistance left out): decides an open input structurally.
     pub input_paths: InputPaths,
+    /// The same for input 2 (its own source resistance left out).
+    pub input2_paths: Option<InputPaths>,
     /// The isolation resistor between the amplifier pin and the load
     /// terminal, ohms (0 when absent: the two are one node).
     pub riso: f64,
@@ -157,10 +180,15 @@ pub struct TimeEquations {
     pub n: usize,
     pub g: Vec<f64>,
     pub c: Vec<f64>,
-    /// The right-hand side per volt of source EMF.
+    /// The right-hand side per volt of the kind's signal.
     pub b: Vec<f64>,
-    /// An ideal source fixes this node's voltage; its branch is this row.
-    pub fixed: Option<(usize, usize)>,
+    /// The constant right-hand side of the DC-only EMFs at their levels.
+    pub k: Vec<f64>,
+    /// The nodes an ideal signal EMF fixes: (node, its branch row, volts
+    /// per volt of signal).
+    pub fixed: Vec<(usize, usize, f64)>,
+    /// The nodes an ideal DC-only EMF holds: (node, branch row, level).
+    pub held: Vec<(usize, usize, f64)>,
     /// The load terminal.
     pub out: Option<usize>,
     /// The op-amp's first internal state (the one the slew and swing
@@ -180,18 +208,64 @@ pub enum LoadState {
     Removed,
 }
 
-/// The signal source: a Norton current into the input terminal when the
-/// source has resistance (one unknown fewer), else an EMF branch.
-#[derive(Debug, Clone, Copy)]
+/// How one input (or DC-only EMF) drives the stage: a voltage source is a
+/// Norton current into its terminal when it has resistance (one unknown
+/// fewer), else an EMF branch; a current input is a current.
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Drive {
     /// 1 V behind `g` siemens, stamped as a conductance and a current `g`.
     Norton { node: Option<usize>, g: f64 },
     /// An ideal EMF: V(node) = 1 V, with its branch current at `row`.
     Branch { node: Option<usize>, row: usize },
+    /// 1 A from ground into `node`.
+    Current { node: Option<usize> },
 }
 
-/// Most noise sources a stage has (source r, rg, rf, riso, en, in+, in−).
-pub const MAX_NOISE: usize = 8;
+impl Drive {
+    /// Add `w` units of this drive to a right-hand side.
+    fn add_to(self, b: &mut [C64], w: f64) {
+        match self {
+            Drive::Norton { node: Some(i), g } => b[i] += C64::new(g * w, 0.0),
+            Drive::Branch { row, .. } => b[row] += C64::new(w, 0.0),
+            Drive::Current { node: Some(i) } => b[i] += C64::new(w, 0.0),
+            Drive::Norton { node: None, .. } | Drive::Current { node: None } => {}
+        }
+    }
+
+    /// The branch row and node of an ideal EMF.
+    fn branch(self) -> Option<(usize, Option<usize>)> {
+        match self {
+            Drive::Branch { node, row } => Some((row, node)),
+            _ => None,
+        }
+    }
+}
+
+/// A DC-only EMF: `level` volts in the operating point, 0 V (its node at
+/// AC ground through its resistance) in every frequency analysis.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Held {
+    pub drive: Drive,
+    pub level: f64,
+}
+
+/// A right-hand side the stage can be solved for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Excitation {
+    /// One unit (V or A) of the kind's signal: each input at its weight.
+    Signal,
+    /// One unit at input 1 (0) or input 2 (1), the other input at 0.
+    Input(usize),
+    /// Both inputs at one unit (the common mode of a pair).
+    CommonMode,
+    /// The DC-only EMFs at their levels (no signal): the constant part of
+    /// the operating point.
+    Held,
+}
+
+/// Most noise sources a stage has (both inputs' source resistances, the
+/// kind's resistors, en, in+, in−).
+pub const MAX_NOISE: usize = 12;
 
 /// Boltzmann constant, J/K (SI 2019, exact).
 pub const BOLTZMANN: f64 = 1.380649e-23;
@@ -201,6 +275,7 @@ pub const BOLTZMANN: f64 = 1.380649e-23;
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Noisy {
     Source,
+    Source2,
     Part(&'static str),
 }
 /// The amplifier's noise sources: en and in at each input.
@@ -210,7 +285,12 @@ const _: () = {
     let mut i = 0;
     while i < KINDS.len() {
         let parts = KINDS[i].parts;
-        let (mut j, mut n) = (0, 1 + AMP_NOISE);
+        let sources = match KINDS[i].input {
+            Input::Voltage => 1,
+            Input::Current => 0,
+            Input::Pair { .. } => 2,
+        };
+        let (mut j, mut n) = (0, sources + AMP_NOISE);
         while j < parts.len() {
             if matches!(parts[j].element, Kinds::Resistor) {
                 n += 1;
@@ -221,11 +301,12 @@ const _: () = {
         i += 1;
     }
 };
-/// At most every pin but ground and the source EMF is a node (the EMF is
-/// merged with ground behind a Norton source, or with the input terminal
-/// when the source is ideal), plus at most three branches (ideal EMF,
-/// voltage-noise probe, amplifier output): the matrix always fits.
-const _: () = assert!(PINS - 2 + 3 <= MAXN);
+/// At most every pin but ground and the EMF pins is a node (an EMF is
+/// merged with ground behind a Norton source, or with its terminal when
+/// the source is ideal), plus at most five branches (both inputs' ideal
+/// EMFs, the held level, the voltage-noise probe, the amplifier output):
+/// the matrix always fits.
+const _: () = assert!(PINS - 1 - EMF_PINS + 5 <= MAXN);
 
 /// One two-terminal part between logical pins.
 #[derive(Debug, Clone, Copy)]
@@ -237,11 +318,15 @@ enum Part {
 }
 
 /// The netlist pin a kind's named node is: the feedback point is the
-/// amplifier pin or the load terminal, as the stage takes it.
-fn pin(n: Node, feedback: Feedback) -> Pin {
+/// amplifier pin or the load terminal, as the stage takes it; the held
+/// node is ground unless the kind gives it a level.
+fn pin(n: Node, feedback: Feedback, held: bool) -> Pin {
     match n {
         Node::Ground | Node::Reference => Pin::Gnd,
+        Node::Bias if held => Pin::Bias,
+        Node::Bias => Pin::Gnd,
         Node::Input => Pin::Term,
+        Node::Input2 => Pin::Term2,
         Node::Plus => Pin::InP,
         Node::Minus => Pin::InN,
         Node::Feedback if feedback == Feedback::Load => Pin::Out,
@@ -251,9 +336,9 @@ fn pin(n: Node, feedback: Feedback) -> Pin {
 }
 
 /// The parts the stage's kind declares, on netlist pins.
-fn kind_parts(s: &Scenario) -> impl Iterator<Item = Part> + '_ {
+fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = Part> + 'a {
     let st = &s.stage;
-    let decl = kind(st.topology);
+    let held = decl.bias.is_some();
     let shown = move |d: &PartDecl| {
         d.with
             .and_then(|w| decl.parts.iter().find(|p| p.name == w))
@@ -263,7 +348,7 @@ fn kind_parts(s: &Scenario) -> impl Iterator<Item = Part> + '_ {
         .iter()
         .filter(move |d| shown(d))
         .filter_map(move |d| {
-            let (a, b) = (pin(d.a, st.feedback), pin(d.b, st.feedback));
+            let (a, b) = (pin(d.a, st.feedback, held), pin(d.b, st.feedback, held));
             match d.element {
                 Kinds::Wire => Some(Part::Wire(a, b)),
                 Kinds::Resistor => {
@@ -274,19 +359,37 @@ fn kind_parts(s: &Scenario) -> impl Iterator<Item = Part> + '_ {
         })
 }
 
-/// Every part of the stage: source, the kind's parts, amplifier.
-fn parts(s: &Scenario, model: AmpModel) -> Vec<Part> {
+/// A voltage source's EMF pin and resistance: with resistance, the EMF is
+/// shorted into ground and the source becomes a Norton current into its
+/// terminal; the resistor (and its noise) then runs from the terminal to
+/// ground. Without, the EMF pin is the terminal.
+fn emf_parts(p: &mut Vec<Part>, emf: Pin, term: Pin, r: f64, noisy: Noisy) {
+    if r > 0.0 {
+        p.push(Part::Wire(emf, Pin::Gnd));
+    }
+    p.push(Part::Resistor(emf, term, r, Some(noisy)));
+}
+
+/// Input 2's source resistance, for a kind with two inputs.
+fn second_r(s: &Scenario, decl: &Kind) -> Option<f64> {
+    match decl.input {
+        Input::Pair { r2 } => Some(r2(s)),
+        Input::Voltage | Input::Current => None,
+    }
+}
+
+/// Every part of the stage: the inputs, the kind's parts, amplifier.
+fn parts(s: &Scenario, decl: &'static Kind, model: AmpModel) -> Vec<Part> {
     use Pin::*;
     let amp = &s.amp;
     let mut p = Vec::new();
-    // With resistance, the EMF is shorted into ground and the source
-    // becomes a Norton current into Term; the resistor (and its noise)
-    // then runs from Term to ground.
-    if s.source.r > 0.0 {
-        p.push(Part::Wire(Src, Gnd));
+    if !matches!(decl.input, Input::Current) {
+        emf_parts(&mut p, Src, Term, s.source.r, Noisy::Source);
     }
-    p.push(Part::Resistor(Src, Term, s.source.r, Some(Noisy::Source)));
-    p.extend(kind_parts(s));
+    if let Some(r2) = second_r(s, decl) {
+        emf_parts(&mut p, Src2, Term2, r2, Noisy::Source2);
+    }
+    p.extend(kind_parts(s, decl));
     match model {
         AmpModel::Real => {
             if let Some(rin) = amp.rin {
@@ -309,13 +412,27 @@ fn parts(s: &Scenario, model: AmpModel) -> Vec<Part> {
     p
 }
 
+/// The two pins of a part.
+fn ends(part: &Part) -> (Pin, Pin) {
+    match *part {
+        Part::Resistor(p, q, ..) | Part::Capacitor(p, q, _) | Part::Wire(p, q) => (p, q),
+    }
+}
+
 /// Merge the pins joined by wires and zero-ohm resistors, then number the
-/// merged nodes (ground is None): each pin's row index.
+/// merged nodes (ground is None): each pin's row index. A pin no part
+/// touches (an input the kind does not have) gets no row; the sensed +
+/// input, reached only through the noise probe's branch, always does.
 fn number_nodes(parts: &[Part]) -> ([Option<usize>; PINS], usize) {
     let mut b = Builder {
         parent: std::array::from_fn(|i| i),
     };
+    let mut used = [false; PINS];
+    used[Pin::InPi as usize] = true;
     for part in parts {
+        let (p, q) = ends(part);
+        used[p as usize] = true;
+        used[q as usize] = true;
         match *part {
             Part::Wire(p, q) => b.wire(p, q),
             Part::Resistor(p, q, 0.0, _) => b.wire(p, q),
@@ -327,7 +444,7 @@ fn number_nodes(parts: &[Part]) -> ([Option<usize>; PINS], usize) {
     let gnd_root = b.find(Pin::Gnd as usize);
     for p in 0..PINS {
         let r = b.find(p);
-        if r == gnd_root {
+        if r == gnd_root || !used[p] {
             continue;
         }
         if index[r].is_none() {
@@ -354,6 +471,11 @@ fn stamp_parts(
                 elements.push(Element::Conductance(a, c, 1.0 / r));
                 if let Some((key, label, kind)) = tag.map(|t| match t {
                     Noisy::Source => ("source_r", "source r", NoiseKind::SourceResistance),
+                    Noisy::Source2 => (
+                        "source_r2",
+                        "source r, input 2",
+                        NoiseKind::SourceResistance,
+                    ),
                     Noisy::Part(name) => (name, name, NoiseKind::StageResistor),
                 }) {
                     noise.push(NoiseSource {
@@ -407,29 +529,49 @@ pub struct InputPaths {
     pub any: bool,
 }
 
-/// The input terminal's paths to ground, the source resistor left out (it
-/// is the source's, not the stage's); the amplifier's output source joins
-/// its internal node to ground. The + input's noise generator leads only
-/// to the sensing input, which draws no current, so it is no path.
-fn input_paths(parts: &[Part]) -> InputPaths {
+/// An input terminal's paths to ground, its own source resistor left out
+/// (it is the source's, not the stage's); the amplifier's output source
+/// joins its internal node to ground, and so does every EMF (the other
+/// input's, a held level). The + input's noise generator leads only to
+/// the sensing input, which draws no current, so it is no path.
+fn input_paths(parts: &[Part], term: Pin, own: Noisy) -> InputPaths {
     let reaches = |with_caps: bool| {
         let mut b = Builder {
             parent: std::array::from_fn(|i| i),
         };
-        b.wire(Pin::Int, Pin::Gnd);
+        for p in [Pin::Int, Pin::Bias, Pin::Src, Pin::Src2] {
+            b.wire(p, Pin::Gnd);
+        }
         for part in parts {
             match *part {
                 Part::Wire(p, q) => b.wire(p, q),
-                Part::Resistor(p, q, _, tag) if tag != Some(Noisy::Source) => b.wire(p, q),
+                Part::Resistor(p, q, _, tag) if tag != Some(own) => b.wire(p, q),
                 Part::Capacitor(p, q, _) if with_caps => b.wire(p, q),
                 _ => {}
             }
         }
-        b.find(Pin::Term as usize) == b.find(Pin::Gnd as usize)
+        b.find(term as usize) == b.find(Pin::Gnd as usize)
     };
     InputPaths {
         dc: reaches(false),
         any: reaches(true),
+    }
+}
+
+/// A voltage source's drive: a Norton current into its terminal behind
+/// resistance, else an EMF branch (taking the next free row).
+fn voltage_drive(emf: Option<usize>, term: Option<usize>, r: f64, next: &mut usize) -> Drive {
+    if r > 0.0 {
+        Drive::Norton {
+            node: term,
+            g: 1.0 / r,
+        }
+    } else {
+        *next += 1;
+        Drive::Branch {
+            node: emf,
+            row: *next - 1,
+        }
     }
 }
 
@@ -462,7 +604,13 @@ impl Builder {
 impl Netlist {
     /// The stage with the scenario's op-amp model, or around a nullor.
     pub fn build(s: &Scenario, model: AmpModel) -> Netlist {
-        Netlist::build_with(s, model, parts(s, model))
+        Netlist::build_kind(s, kind(s.stage.topology), model)
+    }
+
+    /// The stage wired as `decl` declares (whatever kind the scenario
+    /// names): the same builder for every kind.
+    pub fn build_kind(s: &Scenario, decl: &'static Kind, model: AmpModel) -> Netlist {
+        Netlist::build_with(s, decl, model, parts(s, decl, model))
     }
 
     /// The stage with a resistor `r` added in series with the + input
@@ -470,7 +618,8 @@ impl Netlist {
     /// balance resistor.
     pub fn build_balanced(s: &Scenario, r: f64) -> Netlist {
         use Pin::*;
-        let parts = parts(s, AmpModel::Real)
+        let decl = kind(s.stage.topology);
+        let parts = parts(s, decl, AmpModel::Real)
             .into_iter()
             .map(|p| match p {
                 Part::Wire(Term, InP) => Part::Resistor(Term, InP, r, None),
@@ -478,47 +627,51 @@ impl Netlist {
                 other => other,
             })
             .collect();
-        Netlist::build_with(s, AmpModel::Real, parts)
+        Netlist::build_with(s, decl, AmpModel::Real, parts)
     }
 
-    fn build_with(s: &Scenario, model: AmpModel, parts: Vec<Part>) -> Netlist {
+    fn build_with(s: &Scenario, decl: &'static Kind, model: AmpModel, parts: Vec<Part>) -> Netlist {
         use Pin::*;
         let (index, count) = number_nodes(&parts);
         let node = |p: Pin| index[p as usize];
         let kt = BOLTZMANN * (s.temp_c + 273.15);
         let (elements, mut noise) = stamp_parts(&parts, node, kt);
-        let (drive, branches) = if s.source.r > 0.0 {
-            let g = 1.0 / s.source.r;
-            (
-                Drive::Norton {
-                    node: node(Term),
-                    g,
-                },
-                count,
-            )
-        } else {
-            (
-                Drive::Branch {
-                    node: node(Src),
-                    row: count,
-                },
-                count + 1,
-            )
+        // Rows: the nodes, input 1's ideal EMF, the noise probe, the
+        // amplifier's branch, then input 2's ideal EMF and the held level.
+        let mut next = count;
+        let drive = match decl.input {
+            Input::Current => Drive::Current { node: node(Term) },
+            _ => voltage_drive(node(Src), node(Term), s.source.r, &mut next),
         };
-        let en_row = branches;
+        let en_row = next;
         let norton_amp = model == AmpModel::Real && s.amp.ro > 0.0;
-        let (amp_row, dim) = if norton_amp {
-            (node(Amp).unwrap_or(0), branches + 1)
+        let amp_row = if norton_amp {
+            next += 1;
+            node(Amp).unwrap_or(0)
         } else {
-            (branches + 1, branches + 2)
+            next += 2;
+            en_row + 1
         };
+        let drive2 =
+            second_r(s, decl).map(|r2| voltage_drive(node(Src2), node(Term2), r2, &mut next));
+        let held = decl
+            .bias
+            .map(|level| Held {
+                drive: voltage_drive(node(Bias), node(Bias), 0.0, &mut next),
+                level: level(&s.stage),
+            })
+            .into_iter()
+            .collect();
         noise.extend(amp_noise(&s.amp, en_row, node));
         let amp = &s.amp;
         Netlist {
-            dim,
+            dim: next,
             inv_ro: if norton_amp { 1.0 / amp.ro } else { 0.0 },
             elements,
             drive,
+            drive2,
+            weights: decl.input.signal_weights(),
+            held,
             en_row,
             amp_row,
             en_nodes: (node(InP), node(InPi)),
@@ -534,7 +687,9 @@ impl Netlist {
             model,
             out: node(Out),
             term: node(Term),
-            input_paths: input_paths(&parts),
+            term2: node(Term2),
+            input_paths: input_paths(&parts, Term, Noisy::Source),
+            input2_paths: drive2.map(|_| input_paths(&parts, Term2, Noisy::Source2)),
             riso: s.stage.riso.unwrap_or(0.0),
             feedback_at_load: s.stage.feedback == Feedback::Load
                 && s.stage.riso.unwrap_or(0.0) > 0.0,
@@ -542,6 +697,15 @@ impl Netlist {
             load_c: s.load.c.unwrap_or(0.0),
             noise,
         }
+    }
+
+    /// Every ideal EMF's branch and node: the inputs', then the held ones.
+    fn branches(&self) -> impl Iterator<Item = (usize, Option<usize>)> + '_ {
+        [Some(self.drive), self.drive2]
+            .into_iter()
+            .flatten()
+            .chain(self.held.iter().map(|h| h.drive))
+            .filter_map(Drive::branch)
     }
 
     /// Open-loop gain A(s) of the model.
@@ -626,10 +790,12 @@ impl Netlist {
             admit(self.out, None, self.load_admittance(s));
         }
         let one = C64::new(1.0, 0.0);
-        // Ideal source EMF: V(src) = E; its current leaves src into the source.
-        if let Drive::Branch { node: Some(i), row } = self.drive {
-            m[row][i] += one;
-            m[i][row] += one;
+        // Ideal EMFs: V(src) = E; the current leaves src into the source.
+        for (row, node) in self.branches() {
+            if let Some(i) = node {
+                m[row][i] += one;
+                m[i][row] += one;
+            }
         }
         // Voltage-noise probe: V(inp) − V(inp_i) = e (0 V here).
         let (p, n) = self.en_nodes;
@@ -702,22 +868,54 @@ impl Netlist {
         v(self.sense_n) - v(self.sense_p)
     }
 
-    /// Right-hand side for a 1 V source EMF.
+    /// Right-hand side for one unit of the kind's signal.
     pub fn drive_rhs(&self) -> Vector {
+        self.rhs(Excitation::Signal)
+    }
+
+    /// The right-hand side of an excitation (see [`Excitation`]).
+    pub fn rhs(&self, e: Excitation) -> Vector {
         let mut b = [ZERO; MAXN];
-        match self.drive {
-            Drive::Norton { node: Some(i), g } => b[i] = C64::new(g, 0.0),
-            Drive::Branch { row, .. } => b[row] = C64::new(1.0, 0.0),
-            Drive::Norton { node: None, .. } => {}
+        let (w1, w2) = match e {
+            Excitation::Signal => self.weights,
+            Excitation::Input(0) => (1.0, 0.0),
+            Excitation::Input(_) => (0.0, 1.0),
+            Excitation::CommonMode => (1.0, 1.0),
+            Excitation::Held => (0.0, 0.0),
+        };
+        if w1 != 0.0 {
+            self.drive.add_to(&mut b, w1);
+        }
+        if let (Some(d), true) = (self.drive2, w2 != 0.0) {
+            d.add_to(&mut b, w2);
+        }
+        if e == Excitation::Held {
+            for h in &self.held {
+                h.drive.add_to(&mut b, h.level);
+            }
         }
         b
     }
 
-    /// Current the 1 V source delivers into the stage, from the gain solve.
+    /// Current the source delivers into the stage from the signal solve
+    /// (input 1 at its weight).
     pub fn source_current(&self, x: &[C64]) -> C64 {
-        match self.drive {
-            Drive::Norton { node, g } => (C64::new(1.0, 0.0) - Self::node_v(x, node)) * g,
-            Drive::Branch { row, .. } => -x[row],
+        self.input_current(0, self.weights.0, x)
+    }
+
+    /// The current input `k` (0 or 1) delivers into its terminal in a
+    /// solution where its EMF (or current) is `e`.
+    pub fn input_current(&self, k: usize, e: f64, x: &[C64]) -> C64 {
+        let drive = if k == 0 {
+            Some(self.drive)
+        } else {
+            self.drive2
+        };
+        match drive {
+            Some(Drive::Norton { node, g }) => (C64::new(e, 0.0) - Self::node_v(x, node)) * g,
+            Some(Drive::Branch { row, .. }) => -x[row],
+            Some(Drive::Current { .. }) => C64::new(e, 0.0),
+            None => ZERO,
         }
     }
 
@@ -741,7 +939,9 @@ impl Netlist {
             g: vec![0.0; n * n],
             c: vec![0.0; n * n],
             b: vec![0.0; n],
-            fixed: None,
+            k: vec![0.0; n],
+            fixed: Vec::new(),
+            held: Vec::new(),
             out: self.out,
             x1,
             x2,
@@ -768,16 +968,22 @@ impl Netlist {
         }
         admit(&mut eq.g, n, self.out, None, self.load_g);
         admit(&mut eq.c, n, self.out, None, self.load_c);
-        match self.drive {
-            Drive::Norton { node, g } => {
-                if let Some(i) = node {
-                    eq.b[i] = g;
+        let real = |v: Vector| v[..self.dim].iter().map(|z| z.re).collect::<Vec<f64>>();
+        eq.b[..self.dim].copy_from_slice(&real(self.drive_rhs()));
+        eq.k[..self.dim].copy_from_slice(&real(self.rhs(Excitation::Held)));
+        for (row, node) in self.branches() {
+            branch(&mut eq.g, n, row, node, 1.0);
+            // The node an ideal EMF fixes leaves the state equations: a
+            // signal input's moves with the signal, a held one is constant.
+            if let Some(i) = node {
+                match self
+                    .held
+                    .iter()
+                    .find(|h| h.drive.branch() == Some((row, node)))
+                {
+                    Some(h) => eq.held.push((i, row, h.level)),
+                    None => eq.fixed.push((i, row, eq.b[row])),
                 }
-            }
-            Drive::Branch { node, row } => {
-                branch(&mut eq.g, n, row, node, 1.0);
-                eq.b[row] = 1.0;
-                eq.fixed = node.map(|i| (i, row));
             }
         }
         let (p, q) = self.en_nodes;

@@ -217,21 +217,24 @@ fn limits_of(s: &Scenario) -> Limits {
     }
 }
 
-/// The reduced linear model `z' = A·z + f·E`, `y = c·z + d·E`.
+/// The reduced linear model `z' = A·z + f·E + f0`, `y = c·z + d·E + d0`
+/// (`f0`, `d0` from the DC-only EMFs at their levels).
 struct Reduced {
     r: usize,
     a: Mat,
     f: Vec<f64>,
+    f0: Vec<f64>,
     c: Vec<f64>,
     d: f64,
+    d0: f64,
     /// z jumps by `jump·ΔE` when the known node steps by ΔE.
     jump: Vec<f64>,
     x1: usize,
     /// The op-amp's second state, when it has a second pole.
     x2: Option<usize>,
-    /// The amplifier's output current `i = ci·z + ce·E` (None where it is
-    /// not a function of the states).
-    current: Option<(Vec<f64>, f64)>,
+    /// The amplifier's output current `i = ci·z + ce·E + ce0` (None where
+    /// it is not a function of the states).
+    current: Option<(Vec<f64>, f64, f64)>,
     /// Each state as (full unknown, minus this one): a node voltage, a
     /// difference of two, or an op-amp state.
     coords: Vec<(usize, Option<usize>)>,
@@ -304,17 +307,30 @@ fn coordinates(c: &Mat) -> Coordinates {
     }
 }
 
-/// The equations without the known (source) node and its branch: G and C
-/// on the kept unknowns, the source's drive β·E and its derivative's γ·Ė.
+/// The equations without the known nodes and their branches: G and C on
+/// the kept unknowns, the sources' drive β·E and its derivative's γ·Ė, and
+/// the constant drive κ of the DC-only EMFs.
 struct Kept {
     keep: Vec<usize>,
     g: Mat,
     c: Mat,
     beta: Vec<f64>,
     gamma: Vec<f64>,
+    kappa: Vec<f64>,
 }
 
-/// 1. The known node and its branch leave; E moves to the right.
+/// `a + b`, exactly `a` when `b` is zero (no DC-only EMF leaves every
+/// figure as it was, signed zeros included).
+fn plus(a: f64, b: f64) -> f64 {
+    if b == 0.0 {
+        a
+    } else {
+        a + b
+    }
+}
+
+/// Step 1: the known nodes and their branches leave; E (and the held
+/// levels) move to the right.
 fn without_known(eq: &TimeEquations) -> Kept {
     let n = eq.n;
     let full = |a: &[f64]| Mat {
@@ -322,15 +338,25 @@ fn without_known(eq: &TimeEquations) -> Kept {
         cols: n,
         a: a.to_vec(),
     };
-    let gone: Vec<usize> = eq.fixed.map(|(k, br)| vec![k, br]).unwrap_or_default();
+    let gone: Vec<usize> = eq
+        .fixed
+        .iter()
+        .chain(&eq.held)
+        .flat_map(|&(k, br, _)| [k, br])
+        .collect();
     let keep: Vec<usize> = (0..n).filter(|i| !gone.contains(i)).collect();
     let m = keep.len();
-    let (mut beta, mut gamma) = (vec![0.0; m], vec![0.0; m]);
+    let (mut beta, mut gamma, mut kappa) = (vec![0.0; m], vec![0.0; m], vec![0.0; m]);
     for (i, &row) in keep.iter().enumerate() {
         beta[i] = eq.b[row];
-        if let Some((k, _)) = eq.fixed {
-            beta[i] -= eq.g[row * n + k];
-            gamma[i] = eq.c[row * n + k];
+        kappa[i] = eq.k[row];
+        for (j, &(k, _, w)) in eq.fixed.iter().enumerate() {
+            beta[i] -= eq.g[row * n + k] * w;
+            let dc = eq.c[row * n + k] * w;
+            gamma[i] = if j == 0 { dc } else { gamma[i] + dc };
+        }
+        for &(k, _, level) in &eq.held {
+            kappa[i] = plus(kappa[i], -eq.g[row * n + k] * level);
         }
     }
     Kept {
@@ -339,6 +365,7 @@ fn without_known(eq: &TimeEquations) -> Kept {
         keep,
         beta,
         gamma,
+        kappa,
     }
 }
 
@@ -371,6 +398,7 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
         c,
         beta,
         gamma,
+        kappa,
     } = without_known(eq);
     let m = keep.len();
     // 2. States from the capacitor graph.
@@ -383,7 +411,7 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
     // Tᵀ·M·T and Tᵀ·v.
     let tt = transpose(&to_x);
     let (gz, cz) = (tt.mul(&g).mul(&to_x), tt.mul(&c).mul(&to_x));
-    let (bz, kz) = (tt.mul_vec(&beta), tt.mul_vec(&gamma));
+    let (bz, kz, k0z) = (tt.mul_vec(&beta), tt.mul_vec(&gamma), tt.mul_vec(&kappa));
     // 3. Eliminate the algebraic unknowns.
     let d_idx = &dynamic;
     let a_idx = &algebraic;
@@ -399,27 +427,34 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
         gz.select(a_idx, d_idx),
     );
     let pick = |v: &[f64], idx: &[usize]| idx.iter().map(|&i| v[i]).collect::<Vec<f64>>();
-    let (bd, ba) = (pick(&bz, d_idx), pick(&bz, a_idx));
-    // z_a = P·z_d + p·E
-    let (p_mat, p_vec) = match &gaa {
-        Some(lu) => (lu.solve_mat(&gad).scaled(-1.0), lu.solve(&ba)),
-        None => (Mat::zeros(0, d_idx.len()), Vec::new()),
+    // z_a = P·z_d + p·E + p0
+    let (p_mat, p_vec, p0) = match &gaa {
+        Some(lu) => (
+            lu.solve_mat(&gad).scaled(-1.0),
+            lu.solve(&pick(&bz, a_idx)),
+            lu.solve(&pick(&k0z, a_idx)),
+        ),
+        None => (Mat::zeros(0, d_idx.len()), Vec::new(), Vec::new()),
     };
     let r = d_idx.len();
     let schur = gdd.sub(&gda.mul(&p_mat).scaled(-1.0));
     let a = cdd.solve_mat(&schur).scaled(-1.0);
-    let mut rhs = bd.clone();
-    let da = gda.mul_vec(&p_vec);
-    for (x, y) in rhs.iter_mut().zip(&da) {
-        *x -= y;
-    }
-    let f = cdd.solve(&rhs);
+    // The state equations' drive: cdd⁻¹·(v_d − G_da·p).
+    let drive = |v: &[f64], p: &[f64]| {
+        let mut rhs = pick(v, d_idx);
+        for (x, y) in rhs.iter_mut().zip(&gda.mul_vec(p)) {
+            *x -= y;
+        }
+        cdd.solve(&rhs)
+    };
+    let (f, f0) = (drive(&bz, &p_vec), drive(&k0z, &p0));
     let jump: Vec<f64> = cdd
         .solve(&pick(&kz, d_idx))
         .into_iter()
         .map(|v| -v)
         .collect();
     let (xz, xe) = unknowns_from_states(&to_x, (d_idx, a_idx), (&p_mat, &p_vec));
+    let (_, xe0) = unknowns_from_states(&to_x, (d_idx, a_idx), (&p_mat, &p0));
     // The load terminal (never the known node) among the kept unknowns.
     let out = keep.iter().position(|&i| Some(i) == eq.out)?;
     let x1 = d_idx.iter().position(|&i| keep[i] == eq.x1)?;
@@ -427,20 +462,23 @@ fn reduce(eq: &TimeEquations) -> Option<Reduced> {
     let current = eq
         .amp_current
         .iter()
-        .try_fold((vec![0.0; r], 0.0), |(mut ci, ce), &(u, k)| {
+        .try_fold((vec![0.0; r], 0.0, 0.0), |(mut ci, ce, ce0), &(u, k)| {
             let row = keep.iter().position(|&i| i == u)?;
             for (c, v) in ci.iter_mut().zip(xz.row(row)) {
                 *c += k * v;
             }
-            Some((ci, ce + k * xe[row]))
+            Some((ci, ce + k * xe[row], plus(ce0, k * xe0[row])))
         })
-        .filter(|(ci, ce)| ci.iter().all(|v| v.is_finite()) && ce.is_finite());
-    (a.is_finite() && f.iter().all(|v| v.is_finite())).then(|| Reduced {
+        .filter(|(ci, ce, ce0)| ci.iter().all(|v| v.is_finite()) && (ce + ce0).is_finite());
+    let finite = |v: &[f64]| v.iter().all(|v| v.is_finite());
+    (a.is_finite() && finite(&f) && finite(&f0)).then(|| Reduced {
         r,
         c: xz.row(out).to_vec(),
         d: xe[out],
+        d0: xe0[out],
         a,
         f,
+        f0,
         jump,
         x1,
         x2,
@@ -561,7 +599,7 @@ impl<'a> Sim<'a> {
             for j in 0..r {
                 lin[(i, j)] = red.a[(i, j)];
             }
-            lin[(i, r)] = red.f[i] * e1;
+            lin[(i, r)] = plus(red.f[i] * e1, red.f0[i]);
         }
         // The rows a current-limited mode replaces: the state behind ro
         // (and x1 with it when there are two).
@@ -570,9 +608,9 @@ impl<'a> Sim<'a> {
             .current
             .as_ref()
             .filter(|_| lim.iout.is_some())
-            .map(|(ci, ce)| {
+            .map(|(ci, ce, ce0)| {
                 let mut row = ci.clone();
-                row.push(ce * e1);
+                row.push(plus(ce * e1, *ce0));
                 let sum: f64 = held.iter().map(|&k| ci[k]).sum();
                 (row, sum)
             })
@@ -613,7 +651,7 @@ impl<'a> Sim<'a> {
             })
             .collect();
         let mut out = red.c.clone();
-        out.push(red.d * e1 - y0);
+        out.push(plus(red.d * e1, red.d0) - y0);
         Sim {
             red,
             lim,
@@ -982,7 +1020,11 @@ fn operating_point(eq: &TimeEquations, e: f64, hold: Option<f64>) -> Option<Vec<
         cols: n,
         a: eq.g.clone(),
     };
-    let mut b: Vec<f64> = eq.b.iter().map(|v| v * e).collect();
+    let mut b: Vec<f64> =
+        eq.b.iter()
+            .zip(&eq.k)
+            .map(|(v, k)| plus(v * e, *k))
+            .collect();
     if let Some(v) = hold {
         for j in 0..n {
             g[(eq.x1, j)] = 0.0;

@@ -5,7 +5,7 @@
 use num_complex::Complex64 as C64;
 
 /// Largest system the engine builds (nodes plus voltage-source branches).
-pub const MAXN: usize = 10;
+pub const MAXN: usize = 16;
 
 pub type Vector = [C64; MAXN];
 pub type Matrix = [[C64; MAXN]; MAXN];

@@ -16,6 +16,7 @@ mod enum_lists;
 mod file_kinds;
 mod files_and_ab;
 mod gain_errors;
+mod general_inputs;
 mod large_signal;
 mod limits;
 mod loader_fuzz;

@@ -19,6 +19,7 @@ pub static KIND: Kind = Kind {
     input: Input::Voltage,
     reference: None,
     output: Load,
+    bias: None,
     gain_unit: GainUnit::VoltsPerVolt,
     gain: |_| 1.0,
     negative: false,

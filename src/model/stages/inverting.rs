@@ -28,6 +28,7 @@ pub static KIND: Kind = Kind {
     input: Input::Voltage,
     reference: Some(Plus),
     output: Load,
+    bias: None,
     gain_unit: GainUnit::VoltsPerVolt,
     gain: |st| -st.rf.unwrap_or(0.0) / st.rg.unwrap_or(0.0),
     negative: true,

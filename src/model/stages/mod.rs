@@ -33,6 +33,13 @@ pub enum Node {
     Feedback,
     /// The load terminal (after riso).
     Load,
+    /// The second input's terminal, after its own source resistance
+    /// ([`Input::Pair`]).
+    Input2,
+    /// A node held at the kind's DC-only level ([`Kind::bias`]): that
+    /// level in the operating point, ground in every frequency analysis
+    /// (ground itself when the kind declares no level).
+    Bias,
 }
 
 /// What a part is.
@@ -105,12 +112,33 @@ pub const fn wire(a: Node, b: Node) -> PartDecl {
 }
 
 /// The stage's inputs.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy)]
 pub enum Input {
     /// A voltage EMF behind the source resistance, returning to ground,
-    /// into [`Node::Input`]. (A current input and a pair of inputs are
-    /// the next kinds' variants.)
+    /// into [`Node::Input`].
     Voltage,
+    /// A current from ground into [`Node::Input`] (no source resistance:
+    /// what shunts the source is the kind's own parts). The gain is V/A.
+    Current,
+    /// Two voltage inputs, each EMF returning to ground: input 1 behind
+    /// the source resistance into [`Node::Input`], input 2 behind `r2`
+    /// into [`Node::Input2`]. The signal is their difference, driven as
+    /// V1 = −1/2, V2 = +1/2 per volt.
+    Pair {
+        /// Input 2's source resistance (ohms; 0 is an ideal EMF).
+        r2: fn(&Scenario) -> f64,
+    },
+}
+
+impl Input {
+    /// How much of one volt (or ampere) of the kind's signal each input
+    /// carries: (input 1, input 2).
+    pub fn signal_weights(self) -> (f64, f64) {
+        match self {
+            Input::Voltage | Input::Current => (1.0, 0.0),
+            Input::Pair { .. } => (-0.5, 0.5),
+        }
+    }
 }
 
 /// The unit of a kind's gain.
@@ -156,6 +184,9 @@ pub struct Kind {
     pub reference: Option<Node>,
     /// The output terminal.
     pub output: Node,
+    /// The DC-only level of [`Node::Bias`] (volts, held through 0 Ω), if
+    /// the kind has such a node.
+    pub bias: Option<fn(&Stage) -> f64>,
     pub gain_unit: GainUnit,
     /// The ideal gain from the parts alone (the resistor ratio).
     pub gain: fn(&Stage) -> f64,

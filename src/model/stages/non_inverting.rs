@@ -28,6 +28,7 @@ pub static KIND: Kind = Kind {
     input: Input::Voltage,
     reference: None,
     output: Load,
+    bias: None,
     gain_unit: GainUnit::VoltsPerVolt,
     gain: |st| 1.0 + st.rf.unwrap_or(0.0) / st.rg.unwrap_or(0.0),
     negative: false,
