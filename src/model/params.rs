@@ -733,7 +733,7 @@ pub static PARAMS: [Param; 63] = [
     .starting(|_| 15.0),
     entry(
         "reference.v",
-        "reference v",
+        "ref v",
         "V",
         SupplySignal,
         Linear(0.05),
@@ -751,7 +751,7 @@ pub static PARAMS: [Param; 63] = [
     .qualifies(|s| s.stage.topology.kind().has_reference()),
     entry(
         "reference.r",
-        "reference r",
+        "ref r",
         "Ω",
         SupplySignal,
         OneTwoFive,
@@ -769,7 +769,7 @@ pub static PARAMS: [Param; 63] = [
     .qualifies(|s| s.stage.topology.kind().has_reference()),
     entry(
         "reference.c",
-        "reference c",
+        "ref c",
         "F",
         SupplySignal,
         Capacitor,

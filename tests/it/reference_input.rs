@@ -209,3 +209,21 @@ fn the_mid_rail_inverter_works() {
         e.warnings
     );
 }
+
+#[test]
+fn the_json_report_echoes_the_reference() {
+    let path = "scenarios/single_supply_inverter_mid_rail.ron";
+    let out = crate::support::cli::stdout_of(&["report", "--json", path]);
+    let v: serde_json::Value = serde_json::from_str(&out).expect("JSON");
+    // The file's own values (scenarios/single_supply_inverter_mid_rail.ron).
+    assert_eq!(v["reference"]["v"], 1.65);
+    assert_eq!(v["reference"]["r"], 5000.0);
+    assert_eq!(v["reference"]["c"], 10.0e-6);
+    // The DC level at the load: mid-rail (the formula above) within the
+    // offset bound.
+    let dc = v["out_dc_v"].as_f64().expect("a DC level");
+    let bound = v["out_offset_max_v"].as_f64().expect("offset inputs");
+    assert!((dc - 1.65).abs() <= bound, "{dc}");
+    let demo = crate::support::cli::stdout_of(&["report", "--json"]);
+    assert!(!demo.contains("\"reference\""), "no block, no echo");
+}
