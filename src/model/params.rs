@@ -748,7 +748,7 @@ pub static PARAMS: [Param; 63] = [
         },
     )
     .starting(|s| s.supply.map_or(0.0, |p| 0.5 * (p.neg + p.pos)))
-    .qualifies(|s| s.stage.topology.kind().has_reference()),
+    .qualifies(|s| s.reference.is_some()),
     entry(
         "reference.r",
         "ref r",
@@ -766,7 +766,7 @@ pub static PARAMS: [Param; 63] = [
         },
     )
     .starting(|_| 5e3)
-    .qualifies(|s| s.stage.topology.kind().has_reference()),
+    .qualifies(|s| s.reference.is_some()),
     entry(
         "reference.c",
         "ref c",
