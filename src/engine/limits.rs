@@ -204,9 +204,11 @@ fn bias_sum_with(s: &Scenario, r: f64) -> Option<f64> {
     Some(v(net.inp) + v(net.inn))
 }
 
-/// The series resistor at the + input that makes z_p + z_n = 0 at the
-/// load. Any transfer depends on one resistor as (α + βR)/(1 + γR)
-/// (bilinear theorem), so α = f(0) and two more solves fix the root −α/β.
+/// The total resistance from the + pin to what it returns to that makes
+/// z_p + z_n = 0 at the load: the series resistor to add at the + input,
+/// plus the reference input's own r where the + pin is tied to it. Any
+/// transfer depends on one resistor as (α + βR)/(1 + γR) (bilinear
+/// theorem), so α = f(0) and two more solves fix the root −α/β.
 fn bias_balance(s: &Scenario, alpha: f64) -> Option<f64> {
     let r1 = s.stage.rf.filter(|r| *r > 0.0).unwrap_or(1.0e3);
     let r2 = 10.0 * r1;
@@ -217,7 +219,11 @@ fn bias_balance(s: &Scenario, alpha: f64) -> Option<f64> {
         return None;
     }
     let beta = ((f1 - alpha) * (-r2 * f2) + r1 * f1 * (f2 - alpha)) / det;
-    let r = -alpha / beta;
+    let tied = s.stage.topology.kind().reference == Some(Node::Plus);
+    let r = match s.reference {
+        Some(rf) if tied => -alpha / beta + rf.r,
+        _ => -alpha / beta,
+    };
     (r.is_finite() && r > 0.0).then_some(r)
 }
 
@@ -313,8 +319,10 @@ fn output_range(s: &Scenario, l: &mut Limits, dc: &Dc, peak: f64, int_max: f64) 
 
 /// The + pin's range and its headroom to the common-mode limits.
 fn input_range(s: &Scenario, l: &mut Limits, dc: &Dc, pin_peak: f64) {
-    // A + pin tied to the reference sits at its level (ground).
-    let (lo, hi) = if s.stage.topology.kind().reference == Some(Node::Plus) {
+    // A + pin tied to a grounded reference sits at 0 V; with a reference
+    // input it moves with that level (and the bias current through r).
+    let grounded = s.reference.is_none();
+    let (lo, hi) = if grounded && s.stage.topology.kind().reference == Some(Node::Plus) {
         (0.0, 0.0)
     } else {
         l.pin_u_v = dc.uncertainty(&l.dc.pin);

@@ -33,12 +33,16 @@ enum Pin {
     Term2,
     /// A node held at a DC-only level ([`Node::Bias`]).
     Bias,
+    /// The reference input's EMF and its node (after its resistance):
+    /// where [`Node::Reference`] is when the scenario gives a reference.
+    RefSrc,
+    Ref,
 }
-const PINS: usize = 12;
+const PINS: usize = 14;
 /// The pins that are only an EMF's far end: merged with ground behind a
 /// Norton source, or with the terminal when the source is ideal; never a
 /// node of their own.
-const EMF_PINS: usize = 2;
+const EMF_PINS: usize = 3;
 
 /// What a noise source is, so rules can tell what the designer can change.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -276,6 +280,7 @@ pub const BOLTZMANN: f64 = 1.380649e-23;
 enum Noisy {
     Source,
     Source2,
+    Reference,
     Part(&'static str),
 }
 /// The amplifier's noise sources: en and in at each input.
@@ -290,7 +295,8 @@ const _: () = {
             Input::Current => 0,
             Input::Pair { .. } => 2,
         };
-        let (mut j, mut n) = (0, sources + AMP_NOISE);
+        // The reference input's resistance is one more.
+        let (mut j, mut n) = (0, sources + 1 + AMP_NOISE);
         while j < parts.len() {
             if matches!(parts[j].element, Kinds::Resistor) {
                 n += 1;
@@ -303,10 +309,10 @@ const _: () = {
 };
 /// At most every pin but ground and the EMF pins is a node (an EMF is
 /// merged with ground behind a Norton source, or with its terminal when
-/// the source is ideal), plus at most five branches (both inputs' ideal
-/// EMFs, the held level, the voltage-noise probe, the amplifier output):
-/// the matrix always fits.
-const _: () = assert!(PINS - 1 - EMF_PINS + 5 <= MAXN);
+/// the source is ideal), plus at most six branches (both inputs' ideal
+/// EMFs, the held level, an ideal reference, the voltage-noise probe, the
+/// amplifier output): the matrix always fits.
+const _: () = assert!(PINS - 1 - EMF_PINS + 6 <= MAXN);
 
 /// One two-terminal part between logical pins.
 #[derive(Debug, Clone, Copy)]
@@ -319,9 +325,11 @@ enum Part {
 
 /// The netlist pin a kind's named node is: the feedback point is the
 /// amplifier pin or the load terminal, as the stage takes it; the held
-/// node is ground unless the kind gives it a level.
-fn pin(n: Node, feedback: Feedback, held: bool) -> Pin {
+/// node is ground unless the kind gives it a level, the reference ground
+/// unless the scenario gives a reference input.
+fn pin(n: Node, feedback: Feedback, held: bool, reference: bool) -> Pin {
     match n {
+        Node::Reference if reference => Pin::Ref,
         Node::Ground | Node::Reference => Pin::Gnd,
         Node::Bias if held => Pin::Bias,
         Node::Bias => Pin::Gnd,
@@ -339,6 +347,7 @@ fn pin(n: Node, feedback: Feedback, held: bool) -> Pin {
 fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = Part> + 'a {
     let st = &s.stage;
     let held = decl.bias.is_some();
+    let reference = s.reference.is_some();
     let shown = move |d: &PartDecl| {
         d.with
             .and_then(|w| decl.parts.iter().find(|p| p.name == w))
@@ -348,7 +357,8 @@ fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = 
         .iter()
         .filter(move |d| shown(d))
         .filter_map(move |d| {
-            let (a, b) = (pin(d.a, st.feedback, held), pin(d.b, st.feedback, held));
+            let pin = |n| pin(n, st.feedback, held, reference);
+            let (a, b) = (pin(d.a), pin(d.b));
             match d.element {
                 Kinds::Wire => Some(Part::Wire(a, b)),
                 Kinds::Resistor => {
@@ -388,6 +398,13 @@ fn parts(s: &Scenario, decl: &'static Kind, model: AmpModel) -> Vec<Part> {
     }
     if let Some(r2) = second_r(s, decl) {
         emf_parts(&mut p, Src2, Term2, r2, Noisy::Source2);
+    }
+    // The reference input: its EMF behind r, the bypass capacitor after r.
+    if let Some(rf) = s.reference {
+        emf_parts(&mut p, RefSrc, Ref, rf.r, Noisy::Reference);
+        if let Some(c) = present(rf.c).filter(|_| rf.r > 0.0) {
+            p.push(Part::Capacitor(Ref, Gnd, c));
+        }
     }
     p.extend(kind_parts(s, decl));
     match model {
@@ -476,6 +493,7 @@ fn stamp_parts(
                         "source r, input 2",
                         NoiseKind::SourceResistance,
                     ),
+                    Noisy::Reference => ("reference_r", "reference r", NoiseKind::StageResistor),
                     Noisy::Part(name) => (name, name, NoiseKind::StageResistor),
                 }) {
                     noise.push(NoiseSource {
@@ -539,7 +557,7 @@ fn input_paths(parts: &[Part], term: Pin, own: Noisy) -> InputPaths {
         let mut b = Builder {
             parent: std::array::from_fn(|i| i),
         };
-        for p in [Pin::Int, Pin::Bias, Pin::Src, Pin::Src2] {
+        for p in [Pin::Int, Pin::Bias, Pin::Src, Pin::Src2, Pin::RefSrc] {
             b.wire(p, Pin::Gnd);
         }
         for part in parts {
@@ -624,6 +642,7 @@ impl Netlist {
             .map(|p| match p {
                 Part::Wire(Term, InP) => Part::Resistor(Term, InP, r, None),
                 Part::Wire(InP, Gnd) => Part::Resistor(InP, Gnd, r, None),
+                Part::Wire(InP, Ref) => Part::Resistor(InP, Ref, r, None),
                 other => other,
             })
             .collect();
@@ -661,6 +680,10 @@ impl Netlist {
                 level: level(&s.stage),
             })
             .into_iter()
+            .chain(s.reference.map(|rf| Held {
+                drive: voltage_drive(node(RefSrc), node(Ref), rf.r, &mut next),
+                level: rf.v,
+            }))
             .collect();
         noise.extend(amp_noise(&s.amp, en_row, node));
         let amp = &s.amp;

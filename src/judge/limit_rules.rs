@@ -94,10 +94,11 @@ pub fn input_range(cx: &Context, w: &mut Vec<Warning>) {
     if room >= 0.0 || cx.a.unstable() {
         return;
     }
-    let grounded = if cx.s.stage.topology.kind().reference == Some(Node::Plus) {
-        "the + input is grounded, and ground "
-    } else {
-        "the + input "
+    let tied = cx.s.stage.topology.kind().reference == Some(Node::Plus);
+    let grounded = match (tied, cx.s.reference) {
+        (true, None) => "the + input is grounded, and ground ",
+        (true, Some(_)) => "the + input sits on the reference input, and its level ",
+        (false, _) => "the + input ",
     };
     let text = format!(
         "{grounded}lies outside the input common-mode range by {} (the + input spans {} to {}); \

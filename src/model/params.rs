@@ -8,7 +8,7 @@
 
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
 use crate::model::scenario::{
-    present, Dist, Feedback, FieldProblem, Scenario, Step, Supply, Topology,
+    present, Dist, Feedback, FieldProblem, Reference, Scenario, Step, Supply, Topology,
 };
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
@@ -182,6 +182,10 @@ pub const IB_DOUBLING: (f64, f64) = (1.0, 100.0);
 pub const CM: (f64, f64) = (-50.0, 50.0);
 pub const IOUT: (f64, f64) = (1.0e-6, 100.0);
 pub const VOLTS: (f64, f64) = (-500.0, 500.0);
+/// The reference input: its level, its Thevenin resistance (0 = ideal)
+/// and its bypass capacitor.
+pub const REF_VOLTS: (f64, f64) = (-100.0, 100.0);
+pub const REF_OHMS: (f64, f64) = (0.0, 1.0e9);
 pub const PEAK: (f64, f64) = (0.0, 500.0);
 /// A part's spread (fraction of its value).
 pub const SPREAD: (f64, f64) = (0.0, 0.99);
@@ -310,7 +314,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 60] = [
+pub static PARAMS: [Param; 63] = [
     entry(
         "stage.topology",
         "topology",
@@ -727,6 +731,66 @@ pub static PARAMS: [Param; 60] = [
         },
     )
     .starting(|_| 15.0),
+    entry(
+        "reference.v",
+        "ref v",
+        "V",
+        SupplySignal,
+        Linear(0.05),
+        Optional,
+        REF_VOLTS,
+        Access::Number {
+            get: |s| s.reference.map(|x| x.v),
+            set: |s, v| match v {
+                Some(x) => s.reference.get_or_insert_with(Reference::default).v = x,
+                None => s.reference = None,
+            },
+        },
+    )
+    .starting(|s| s.supply.map_or(0.0, |p| 0.5 * (p.neg + p.pos)))
+    .qualifies(|s| s.reference.is_some()),
+    entry(
+        "reference.r",
+        "ref r",
+        "Ω",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        REF_OHMS,
+        Access::Number {
+            get: |s| s.reference.map(|x| x.r),
+            set: |s, v| match v {
+                Some(x) => s.reference.get_or_insert_with(Reference::default).r = x,
+                None => s.reference = None,
+            },
+        },
+    )
+    .starting(|_| 5e3)
+    .qualifies(|s| s.reference.is_some()),
+    entry(
+        "reference.c",
+        "ref c",
+        "F",
+        SupplySignal,
+        Capacitor,
+        ZeroIsAbsent,
+        FARADS,
+        Access::Number {
+            get: |s| s.reference.and_then(|x| x.c),
+            set: |s, v| {
+                if let Some(r) = s.reference.as_mut() {
+                    r.c = v;
+                } else if v.is_some() {
+                    s.reference = Some(Reference {
+                        c: v,
+                        ..Reference::default()
+                    });
+                }
+            },
+        },
+    )
+    .starting(|_| 10e-6)
+    .qualifies(|s| s.reference.is_some_and(|r| r.r > 0.0)),
     entry(
         "source.dc",
         "source dc",
@@ -1383,6 +1447,7 @@ impl Param {
 /// The rules between fields, after each field's own check.
 fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     let mut p = supply_checks(s);
+    p.extend(reference_checks(s));
     p.extend(spread_checks(s));
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {
@@ -1450,6 +1515,34 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
         }
     }
     p
+}
+
+/// A reference only where the kind returns something to it, and its
+/// capacitor only behind a resistance.
+fn reference_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let Some(r) = s.reference else {
+        return Vec::new();
+    };
+    let name = s.stage.topology.name();
+    if !s.stage.topology.kind().has_reference() {
+        return vec![FieldProblem {
+            field: "reference.v".into(),
+            message: format!(
+                "{} {name} stage has no reference input (nothing in it returns to ground): remove the reference block",
+                article(name)
+            ),
+        }];
+    }
+    if present(r.c).is_some() && r.r == 0.0 {
+        return vec![FieldProblem {
+            field: "reference.c".into(),
+            message: format!(
+                "{}: a bypass capacitor across an ideal reference (r 0) does nothing; give reference.r or remove c",
+                fmt_eng(r.c.unwrap_or(0.0), "F")
+            ),
+        }];
+    }
+    Vec::new()
 }
 
 /// The rails in order, and room between them for the output and the

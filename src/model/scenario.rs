@@ -331,6 +331,31 @@ impl Default for Supply {
     }
 }
 
+/// The reference input: the node the ground side of the stage returns to
+/// (the + input of an inverting stage, the foot of rg in a non-inverting
+/// one), a DC level behind a Thevenin resistance (the mid-rail divider),
+/// with an optional bypass capacitor from that node to ground. Absent:
+/// ground through 0 Ω.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Reference {
+    /// Its DC level (V): the operating point only; ground in every
+    /// frequency analysis.
+    #[serde(deserialize_with = "number")]
+    pub v: f64,
+    /// Its Thevenin resistance (Ω; 0 is an ideal level).
+    #[serde(default, deserialize_with = "number")]
+    pub r: f64,
+    /// The bypass capacitor from the reference node (after r) to ground.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub c: Option<f64>,
+}
+
 /// The step of the source EMF for the step response (V, not zero).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -548,6 +573,13 @@ pub struct Scenario {
         serialize_with = "bare"
     )]
     pub supply: Option<Supply>,
+    /// The reference input (absent: ground through 0 Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub reference: Option<Reference>,
     /// The step the time-domain analysis applies (10 mV without it).
     #[serde(
         default,

@@ -51,6 +51,8 @@ pub struct Report {
     /// The step response's figures (and, when asked, its waveform).
     pub step: serde_json::Map<String, serde_json::Value>,
     pub band_hz: (f64, f64),
+    /// The reference input, echoed where the file gives one.
+    pub reference: Option<crate::model::scenario::Reference>,
     pub noise_sources: Vec<NoiseReport>,
     pub points: Vec<PointReport>,
     pub warnings: Vec<Warning>,
@@ -66,6 +68,9 @@ impl Serialize for Report {
         }
         m.serialize_entry("step", &self.step)?;
         m.serialize_entry("band_hz", &self.band_hz)?;
+        if let Some(r) = &self.reference {
+            m.serialize_entry("reference", r)?;
+        }
         m.serialize_entry("noise_sources", &self.noise_sources)?;
         m.serialize_entry("points", &self.points)?;
         m.serialize_entry("warnings", &self.warnings)?;
@@ -135,6 +140,7 @@ impl Report {
                 .collect(),
             step: step_object(e),
             band_hz: s.band,
+            reference: s.reference,
             noise_sources: e
                 .analysis
                 .noise_sources

@@ -9,7 +9,7 @@ use crate::engine::step::{StepResponse, BANDS};
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, head, style, titled, trace, Entry, Keyed, Look};
+use crate::output::svg::{err, head, style, text_width, titled, trace, Entry, Keyed, Look};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -143,6 +143,8 @@ pub fn settling_chart(
         let (x, y) = (chart.x_range(), chart.y_range());
         ink::Frame::of(chart.plotting_area(), (x.start, x.end), (y.start, y.end))
     };
+    // Each label placed so far: its band, its dot's x (px), its side.
+    let mut placed: Vec<(f64, i32, bool)> = Vec::new();
     for (slot, (s, c)) in stages.iter().zip(&curves).enumerate() {
         let st = style(slot, false, look.mono);
         trace(&mut chart, &frame, c, &st)?;
@@ -155,7 +157,17 @@ pub fn settling_chart(
             // or below and left of it in the chart's right part.
             let dot = Circle::new((t, y), 3, st.color.filled());
             chart.draw_series(std::iter::once(dot)).map_err(err)?;
-            let right_part = (t - x0) / (x1 - x0) > 0.6;
+            let mut right_part = (t - x0) / (x1 - x0) > 0.6;
+            // B's time beside A's in the same band: on the other side, so
+            // the two texts do not cover each other.
+            let px = chart.backend_coord(&(t, y)).0;
+            let room = text_width(&text, font) + 12.0;
+            if placed.iter().any(|&(b, x, side)| {
+                b == y && side == right_part && f64::from((x - px).abs()) < room
+            }) {
+                right_part = !right_part;
+            }
+            placed.push((y, px, right_part));
             let (h, v, dx, dy) = if right_part {
                 (HPos::Right, VPos::Top, -6, 4)
             } else {

@@ -128,9 +128,10 @@ impl SpreadResult {
     }
 }
 
-/// The parts that vary, with their extremes: the kind's resistors within
-/// the stage tolerance, then its capacitors with the capacitor tolerance,
-/// gbw, a0 and ro as the spread block gives.
+/// The parts that vary, with their extremes: the kind's resistors and the
+/// reference input's r within the stage tolerance, then its capacitors and
+/// the reference's c with the capacitor tolerance, gbw, a0 and ro as the
+/// spread block gives (the reference's level does not spread).
 pub fn knobs(s: &Scenario) -> Vec<Knob> {
     let b = s.spread.clone().unwrap_or_default();
     let t = s.stage.tolerance;
@@ -156,8 +157,12 @@ pub fn knobs(s: &Scenario) -> Vec<Knob> {
             .filter(move |p| p.tolerance == tolerance)
             .map(move |p| spread(p.param, tol))
     };
+    // The reference input's r (a divider of the stage's resistors) spreads
+    // with their tolerance, its bypass capacitor with the capacitors'.
     of(Tolerance::Resistor, Some(t))
+        .chain([spread("reference.r", Some(t))])
         .chain(of(Tolerance::Capacitor, b.cap_tol))
+        .chain([spread("reference.c", b.cap_tol)])
         .chain([spread("amp.gbw", b.gbw_tol), a0, spread("amp.ro", b.ro_tol)])
         .flatten()
         .collect()

@@ -29,6 +29,7 @@ mod plot_cli;
 mod plot_widget;
 mod properties;
 mod readme;
+mod reference_input;
 mod report_cli;
 mod saves;
 mod scenario_files;

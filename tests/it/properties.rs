@@ -73,6 +73,14 @@ prop_compose! {
             let inverting = s.stage.topology == Topology::Inverting;
             x.gain_target = x.gain_target.map(|g| if inverting { -g.abs() } else { g.abs() });
         }
+        // A reference input only where the kind returns to one, and its
+        // capacitor only behind a resistance (cross-field rules).
+        if !topology.kind().has_reference() {
+            s.reference = None;
+        }
+        if let Some(r) = s.reference.as_mut().filter(|r| r.r == 0.0) {
+            r.c = None;
+        }
         let lo = at((1e-6, 1e12), band_lo, false);
         let hi = (lo * 10f64.powf(band_decades)).min(1e12);
         s.band = if hi > lo { (lo, hi) } else { (1e12 / 10f64.powf(band_decades), 1e12) };

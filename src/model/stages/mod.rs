@@ -221,6 +221,14 @@ impl Kind {
         self.parts.iter().find(|p| p.param == param)
     }
 
+    /// Whether anything in the kind returns to [`Node::Reference`] (a
+    /// reference input can be given).
+    pub fn has_reference(&self) -> bool {
+        self.parts
+            .iter()
+            .any(|p| p.a == Node::Reference || p.b == Node::Reference)
+    }
+
     /// Whether the kind has a part of this name.
     pub fn has(&self, name: &str) -> bool {
         self.parts.iter().any(|p| p.name == name)

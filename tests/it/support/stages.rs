@@ -45,6 +45,7 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
         },
         load: Load { r: None, c: None },
         supply: None,
+        reference: None,
         step: None,
         temp_c: 25.0,
         band: (10.0, 100.0e3),
