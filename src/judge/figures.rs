@@ -6,7 +6,7 @@
 //! To add a figure: compute it in the analysis, then add one entry here.
 
 use crate::judge::Evaluation;
-use crate::model::values::fmt_eng;
+use crate::model::values::{fmt_eng, spelled};
 
 /// How a figure's number reads.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -810,7 +810,7 @@ impl Unit {
             Ratio => fixed(v, 6, signed),
             Fraction => format!("{} %", fixed(v * 100.0, 4, signed)),
             Db => format!("{} dB", fixed(v, 2, signed)),
-            Degrees => format!("{}°", fixed(v, 1, signed)),
+            Degrees => format!("{}{}", fixed(v, 1, signed), spelled("°")),
             Count => fixed(v, 0, signed),
             Percent => format!("{} %", fixed(v, 3, signed)),
             Flag => if v != 0.0 { "yes" } else { "no" }.into(),
@@ -824,7 +824,7 @@ impl Unit {
             Ratio => fixed(v, 4, signed),
             Fraction => format!("{}%", fixed(v * 100.0, 3, signed)),
             Db => format!("{}dB", fixed(v, 1, signed)),
-            Degrees => format!("{}°", fixed(v, 0, signed)),
+            Degrees => format!("{}{}", fixed(v, 0, signed), spelled("°")),
             Count => fixed(v, 0, signed),
             Percent => format!("{}%", fixed(v, 2, signed)),
             Flag => if v != 0.0 { "yes" } else { "no" }.into(),

@@ -225,6 +225,13 @@ fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
     pts
 }
 
+/// The value of a figure that every trial gives alike to the digits the
+/// text views show (None where it spreads or is undefined).
+fn steady_value(f: &FigureSpread, unit: crate::judge::figures::Unit) -> Option<f64> {
+    let (lo, hi) = (f.min?, f.max?);
+    (unit.number(lo, false) == unit.number(hi, false)).then_some(lo)
+}
+
 /// The spread of each stage: three histograms side by side, the spec's
 /// limits marked, the yield in each stage's legend.
 pub fn spread_chart(
@@ -282,20 +289,36 @@ fn histogram_panel(
     let (unit, _) = unit_and_label(key);
     // Fractions are drawn in percent.
     let scale = if key == "target_error" { 100.0 } else { 1.0 };
+    // A figure every trial gives the same value (to the shown digits) is
+    // one mark with "no spread", not a full-height bar.
+    let steady: Vec<Option<f64>> = results
+        .iter()
+        .map(|r| r.figure(key).and_then(|f| steady_value(f, unit)))
+        .collect();
     let outlines: Vec<Vec<(f64, f64)>> = results
         .iter()
-        .map(|r| r.figure(key).map_or(Vec::new(), |f| outline(f, scale)))
+        .zip(&steady)
+        .map(|(r, st)| match (r.figure(key), st) {
+            (Some(f), None) => outline(f, scale),
+            _ => Vec::new(),
+        })
         .collect();
     let limits = tagged_limits(results, key, scale);
     let xs = outlines
         .iter()
         .flatten()
         .map(|p| p.0)
+        .chain(steady.iter().flatten().map(|v| v * scale))
         .chain(limits.iter().map(|l| l.1));
     let (lo, hi) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
         (a.min(x), b.max(x))
     });
-    let top = outlines.iter().flatten().map(|p| p.1).fold(1.0, f64::max);
+    // Without a histogram the axis counts every trial (the mark is all of them).
+    let floor = match outlines.iter().all(Vec::is_empty) {
+        true => results[0].trials as f64,
+        false => 1.0,
+    };
+    let top = outlines.iter().flatten().map(|p| p.1).fold(floor, f64::max);
     // As many labelled steps as fit the panel's width.
     let room = f64::from(area.dim_in_pixel().0) - f64::from(font * 4 + 20);
     let fit = (room / (crate::output::svg::text_width("-00.00kHz", font) * 1.3)).floor() as usize;
@@ -328,6 +351,17 @@ fn histogram_panel(
         .draw()
         .map_err(err)?;
     let mut placer = Placer::default();
+    for (slot, v) in steady.iter().enumerate() {
+        let Some(v) = v else { continue };
+        let tag = if results.len() > 1 {
+            ["A ", "B "][slot.min(1)]
+        } else {
+            ""
+        };
+        let text = format!("{tag}no spread: {}", unit.number(*v, false));
+        let color = style(slot, false, look.mono).color;
+        vmark(&mut chart, &mut placer, v * scale, yr, text, (color, font))?;
+    }
     for (slot, x, text) in limits {
         let color = match (look.mono, slot) {
             (true, _) => RGBColor(0, 0, 0),

@@ -1192,6 +1192,9 @@ fn figure_columns(app: &App) -> (Vec<&'static Figure>, usize) {
     (cols, fixed)
 }
 
+/// The warning count's key in the figure table.
+const WARNINGS_KEY: &str = "warnings";
+
 /// The figures row keeps at least this many columns, however narrow.
 const MIN_FIGURE_COLUMNS: usize = 5;
 
@@ -1243,11 +1246,17 @@ fn figures_table(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             .collect();
         let total: usize = 2 + widths.iter().map(|w| w + 1).sum::<usize>();
         // The optional columns go first when the row is too wide, then
-        // the key figures from the end, down to the first few.
+        // the key figures from the end, down to the first few; the
+        // warning count stays to the last (it says where to look next).
         if total <= area.width as usize || cols.len() <= fixed.min(MIN_FIGURE_COLUMNS) {
             break widths;
         }
-        cols.pop();
+        let last = cols.len() - 1;
+        let drop = match cols[last].key == WARNINGS_KEY && last > 0 {
+            true => last - 1,
+            false => last,
+        };
+        cols.remove(drop);
     };
     let header: Vec<String> = cols
         .iter()

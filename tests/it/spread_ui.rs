@@ -194,3 +194,32 @@ fn a_figure_that_does_not_move_shows_no_spread() {
         }
     }
 }
+
+/// The SVG of the same stage: the margin that does not move is one mark
+/// labelled "no spread" with its value, not a full-height bar (the views
+/// issue, item 10).
+#[test]
+fn the_spread_svg_marks_a_figure_that_does_not_move() {
+    use loopwright::output::svg::{self, Evaluated, Look};
+    let mut s = example("adc_driver_2n2");
+    s.stage.tolerance = 1e-5;
+    let sp = s.spread.as_mut().unwrap();
+    sp.trials = Some(100);
+    (sp.cap_tol, sp.gbw_tol, sp.ro_tol) = (None, None, None);
+    let eval = evaluate(&s);
+    let view = loopwright::output::views::VIEWS
+        .iter()
+        .find(|v| v.name == "spread")
+        .unwrap();
+    let look = Look {
+        width: 800,
+        height: 500,
+        mono: false,
+    };
+    let stages = [Evaluated {
+        scenario: &s,
+        eval: &eval,
+    }];
+    let text = svg::render(view, &stages, look).unwrap();
+    assert!(text.contains("no spread: "), "no mark in the spread SVG");
+}

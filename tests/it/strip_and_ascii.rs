@@ -329,3 +329,29 @@ fn labels_keep_apart() {
         }
     }
 }
+
+/// With `--ascii` and two stages at 80×24 the figures row keeps the
+/// warning count (it is dropped last) and the margins read in `deg`, not
+/// a lone `o` (readable ASCII spellings: the views issue, item 9).
+#[test]
+fn ascii_two_stages_keep_the_warning_count_and_spell_degrees() {
+    let (a, b) = (example("mic_preamp"), example("line_driver_cable"));
+    let app = App::new(vec![(a, None), (b, None)], Theme::new(false, true));
+    let screen = screen_at(&app, 80, 24);
+    let header = screen
+        .lines()
+        .find(|l| l.contains("gain") && l.contains("f-3dB"))
+        .unwrap_or_else(|| panic!("{screen}"));
+    assert!(header.trim_end().ends_with("warn"), "{header}");
+    let row_a = screen
+        .lines()
+        .find(|l| l.starts_with("A ") && l.contains('%'))
+        .unwrap_or_else(|| panic!("{screen}"));
+    assert!(row_a.contains("deg"), "{row_a}");
+    assert!(
+        !row_a
+            .split_whitespace()
+            .any(|c| c.ends_with("0o") || c.ends_with("5o")),
+        "{row_a}"
+    );
+}
