@@ -1170,8 +1170,8 @@ pub static PARAMS: [Param; 70] = [
     .starting(|_| 1.0e-6),
     entry(
         "spec.kick_error_max_lsb",
-        "kick err ≤",
-        "LSB",
+        "kick LSB ≤",
+        "",
         Spread,
         Linear(0.25),
         Optional,

@@ -304,6 +304,7 @@ fn histogram_panel(
     let unit_text = match unit {
         crate::judge::figures::Unit::Si(u) => u,
         crate::judge::figures::Unit::Degrees => "°",
+        crate::judge::figures::Unit::Lsb => "LSB",
         _ => "%",
     };
     let area = crate::output::svg::head_sized(area, name, &[], (font, font + 2))?;

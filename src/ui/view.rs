@@ -1201,7 +1201,7 @@ fn usual_width(unit: crate::judge::figures::Unit) -> usize {
     use crate::judge::figures::Unit;
     match unit {
         Unit::Ratio | Unit::Si(_) | Unit::Percent => 7,
-        Unit::Fraction => 8,
+        Unit::Fraction | Unit::Lsb => 8,
         Unit::Db => 6,
         Unit::Degrees | Unit::Count => 4,
         Unit::Flag => 3,
