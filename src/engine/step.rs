@@ -143,11 +143,13 @@ impl StepResponse {
     }
 
     /// How much of the waveform a plot shows: half as much again as the
-    /// 0.1 % settling time, or the whole window when it does not settle.
+    /// 0.1 % settling time (and past the settling to the stage's own
+    /// threshold), or the whole window when it does not settle.
     pub fn view_end(&self) -> Option<f64> {
+        let own = self.settle_to_s.map_or(0.0, |t| 1.2 * t);
         self.settle_s[1]
             .filter(|t| *t > 0.0)
-            .map(|t| 1.5 * t)
+            .map(|t| (1.5 * t).max(own))
             .or(self.window_s())
     }
 

@@ -1,7 +1,8 @@
 //! The settling view: how far the step response still is from its final
 //! value, |y(t)/final − 1|, on a logarithmic axis against time, from 100 %
 //! down to 1 ppm, with rules at the 1 %, 0.1 % and 0.01 % bands and the
-//! times where the curve last leaves each (the step's settling times). A
+//! times where the curve last leaves each (the step's settling times), and
+//! a rule at the stage's own threshold (`step.settle_bits`, `settle_to`). A
 //! slow tail or a ringing that a linear step plot hides shows here. The
 //! SVG chart and the workbench both read [`curve`] and [`rules`].
 
@@ -71,13 +72,27 @@ pub fn level_label(y: f64) -> String {
 }
 
 /// The rules: each band (log10 level) with the time the stage's response
-/// last leaves it, when it does settle there.
+/// last leaves it, when it does settle there; then the stage's own
+/// threshold (`step.settle_bits` or `step.settle_to`) when it has one.
 pub fn rules(r: &StepResponse) -> Vec<(f64, Option<f64>)> {
     BANDS
         .iter()
         .zip(r.settle_s)
         .map(|(b, t)| (b.log10(), t))
+        .chain(r.threshold.map(|b| (b.log10(), r.settle_to_s)))
         .collect()
+}
+
+/// The levels (log10) the chart rules: the bands, then each stage's own
+/// threshold.
+pub fn rule_levels(responses: &[&StepResponse]) -> Vec<f64> {
+    let mut levels: Vec<f64> = BANDS.iter().map(|b| b.log10()).collect();
+    for t in responses.iter().filter_map(|r| r.threshold) {
+        if !levels.iter().any(|l| (l - t.log10()).abs() < 1e-9) {
+            levels.push(t.log10());
+        }
+    }
+    levels
 }
 
 /// The SVG chart: every stage's curve, the band rules, each stage's
@@ -134,8 +149,7 @@ pub fn settling_chart(
         .draw()
         .map_err(err)?;
     let rule = RGBColor(110, 110, 110);
-    for b in BANDS {
-        let y = b.log10();
+    for y in rule_levels(&responses) {
         let line = PathElement::new(vec![(x0, y), (x1, y)], rule.stroke_width(1));
         chart.draw_series(std::iter::once(line)).map_err(err)?;
     }
@@ -149,7 +163,7 @@ pub fn settling_chart(
         let r = &s.eval.analysis.step;
         for (y, t) in rules(r) {
             let Some(t) = t else { continue };
-            let text = format!("{} at {}", band_name(10f64.powf(y)), fmt_eng(t, "s"));
+            let text = format!("{} at {}", level_label(y), fmt_eng(t, "s"));
             // A dot where the curve last leaves the band, its time set in
             // the free side of a falling curve: above and right of the dot,
             // or below and left of it in the chart's right part.
