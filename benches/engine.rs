@@ -79,6 +79,25 @@ fn step_response(c: &mut Criterion) {
     }
 }
 
+/// The sampling kick of the 16-bit driver example
+/// (`scenarios/sar_driver_16bit.ron`): two exact runs of the extended
+/// time-domain equations (target under 2 ms).
+fn kick_analysis(c: &mut Criterion) {
+    use loopwright::engine::analysis::Circuit;
+    use loopwright::engine::kick;
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/sar_driver_16bit.ron"
+    );
+    let s = loopwright::model::Scenario::load(std::path::Path::new(path)).unwrap();
+    let a = analyze(&s);
+    let f_ref = a.crossover_hz.unwrap_or(s.amp.gbw);
+    let circuit = Circuit::new(&s);
+    c.bench_function("kick_analysis", |b| {
+        b.iter(|| kick::kick(black_box(&s), &circuit.net, f_ref, false))
+    });
+}
+
 /// 10 000 Monte Carlo trials of the demo (its resistors vary, 4 corners),
 /// in parallel on every core; and one trial's analysis alone.
 fn spread_10k(c: &mut Criterion) {
@@ -110,6 +129,7 @@ criterion_group!(
     full_analysis,
     full_analysis_with_limits,
     step_response,
+    kick_analysis,
     one_point,
     frame
 );

@@ -754,7 +754,7 @@ pub static PARAMS: [Param; 70] = [
     .qualifies(sampled),
     entry(
         "load.sample.from",
-        "sample from",
+        "cap from",
         "V",
         SourceLoad,
         Linear(0.5),
@@ -773,7 +773,7 @@ pub static PARAMS: [Param; 70] = [
     .note("the sampling capacitor's voltage before the switch closes"),
     entry(
         "load.sample.full_scale",
-        "full scale",
+        "range",
         "V",
         SourceLoad,
         OneTwoFive,
@@ -907,7 +907,7 @@ pub static PARAMS: [Param; 70] = [
     .starting(|_| crate::model::scenario::DEFAULT_STEP_V),
     entry(
         "step.settle_bits",
-        "settle bits",
+        "ts bits",
         "",
         SupplySignal,
         Linear(1.0),
