@@ -344,6 +344,7 @@ pub struct Step {
         skip_serializing_if = "Option::is_none",
         serialize_with = "bare"
     )]
+    #[serde(deserialize_with = "optional_count")]
     pub settle_bits: Option<u32>,
     /// Settle to this fraction of the final value (`settle_to_s`).
     #[serde(
@@ -389,6 +390,7 @@ pub struct Sample {
     /// The converter's full-scale range (V) and resolution (bits).
     #[serde(deserialize_with = "number")]
     pub full_scale: f64,
+    #[serde(deserialize_with = "count")]
     pub bits: u32,
     /// The acquisition time: when the switch opens again (s).
     #[serde(deserialize_with = "number")]
@@ -765,6 +767,26 @@ fn number<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
 fn optional_number<'de, D: Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
     Option::<Written>::deserialize(d)?
         .map(Written::value)
+        .transpose()
+}
+
+/// A whole number (a count of bits) as a file may write it: `16`, `16.0`
+/// or `"16"`; a fraction is refused with its value.
+fn whole<E: serde::de::Error>(v: f64) -> Result<u32, E> {
+    if v.fract() == 0.0 && (0.0..=f64::from(u32::MAX)).contains(&v) {
+        Ok(v as u32)
+    } else {
+        Err(E::custom(format!("{v} is not a whole number")))
+    }
+}
+
+fn count<'de, D: Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    whole(Written::deserialize(d)?.value()?)
+}
+
+fn optional_count<'de, D: Deserializer<'de>>(d: D) -> Result<Option<u32>, D::Error> {
+    Option::<Written>::deserialize(d)?
+        .map(|w| w.value().and_then(whole))
         .transpose()
 }
 
