@@ -175,11 +175,11 @@ fn run(s: &Scenario, smp: &Sampler, eq: &TimeEquations, f_ref: f64, k: &mut Kick
         k.reason = Some(held_reason(&limits_of(s), x0[ext.x1]));
         return None;
     }
-    let dv = k.level_v - smp.from;
+    let dv = k.level_v - smp.from_v();
     let mut rest = states_of(&red, &x0);
     rest.push(1.0);
     let mut z = rest.clone();
-    z[at] = smp.from;
+    z[at] = smp.from_v();
     let start = Start {
         z,
         rest,
@@ -193,7 +193,7 @@ fn run(s: &Scenario, smp: &Sampler, eq: &TimeEquations, f_ref: f64, k: &mut Kick
         .map(|i| f64::from(u8::from(i == at)))
         .collect();
     cap_red.d = 0.0;
-    let (cap_wave, cap_ended) = follow(s, &cap_red, &start, smp.from);
+    let (cap_wave, cap_ended) = follow(s, &cap_red, &start, smp.from_v());
     k.load = waveform(load_wave, load_ended, 0.0);
     k.cap = waveform(cap_wave, cap_ended, dv);
     figures(k, smp, dv);

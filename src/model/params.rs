@@ -758,19 +758,20 @@ pub static PARAMS: [Param; 70] = [
         "V",
         SourceLoad,
         Linear(0.5),
-        ZeroAllowed,
+        Optional,
         VOLTS,
         Access::Number {
-            get: |s| s.load.sample.map(|x| x.from),
+            get: |s| s.load.sample.and_then(|x| x.from),
             set: |s, v| {
                 if let Some(b) = s.load.sample.as_mut() {
-                    b.from = v.unwrap_or(0.0);
+                    b.from = v;
                 }
             },
         },
     )
     .qualifies(sampled)
-    .note("the sampling capacitor's voltage before the switch closes"),
+    .starting(|_| 0.0)
+    .note("the sampling capacitor's voltage before the switch closes (none: 0 V)"),
     entry(
         "load.sample.full_scale",
         "range",

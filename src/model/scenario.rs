@@ -385,8 +385,13 @@ pub struct Sample {
     #[serde(deserialize_with = "number")]
     pub r: f64,
     /// The capacitor's voltage before the switch closes (0 V without it).
-    #[serde(default, deserialize_with = "number")]
-    pub from: f64,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub from: Option<f64>,
     /// The converter's full-scale range (V) and resolution (bits).
     #[serde(deserialize_with = "number")]
     pub full_scale: f64,
@@ -412,7 +417,7 @@ impl Default for Sample {
         Sample {
             c: 16.0e-12,
             r: 50.0,
-            from: 0.0,
+            from: None,
             full_scale: 5.0,
             bits: 16,
             acquire: 300.0e-9,
@@ -422,6 +427,11 @@ impl Default for Sample {
 }
 
 impl Sample {
+    /// The capacitor's voltage before the switch closes (V).
+    pub fn from_v(&self) -> f64 {
+        self.from.unwrap_or(0.0)
+    }
+
     /// One LSB of the converter (V).
     pub fn lsb(&self) -> f64 {
         self.full_scale / 2f64.powi(self.bits as i32)

@@ -9,7 +9,8 @@ use crate::engine::kick::Kick;
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, head, style, titled, trace, Entry, Keyed, Look};
+use crate::output::settling::{decade_chart, DecadeAxes};
+use crate::output::svg::{err, head, style, titled, trace, Entry, Look};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -106,10 +107,6 @@ pub fn kick_chart(
     let end = end_of(&kicks);
     let (floor, top) = levels(&kicks);
     let pairs: Vec<Pair> = kicks.iter().map(|k| curves(k, end, 1200, floor)).collect();
-    let ((x0, x1), x_ticks) = crate::model::values::nice_linear(0.0, end, 8);
-    let decades: Vec<f64> = (0..=(top - floor) as i32)
-        .map(|i| floor + f64::from(i))
-        .collect();
     let mut entries: Vec<Entry> = Vec::new();
     for slot in 0..kicks.len() {
         let tag = if kicks.len() > 1 {
@@ -124,26 +121,17 @@ pub fn kick_chart(
         entries.push((format!("{tag}load terminal"), style(slot, true, look.mono)));
     }
     let area = head(area, &titled(heading, stages), &entries, font)?;
-    let mut chart = ChartBuilder::on(&area)
-        .margin(12)
-        .margin_right(crate::output::svg::RIGHT_MARGIN)
-        .x_label_area_size(font * 3)
-        .y_label_area_size(font * 5)
-        .build_cartesian_2d(
-            Keyed::new((x0, x1), x_ticks, Vec::new()),
-            Keyed::new((floor, top), decades, Vec::new()),
-        )
-        .map_err(err)?;
-    chart
-        .configure_mesh()
-        .x_desc("time after the switch closes (s)")
-        .y_desc("|V − the load's DC level|")
-        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
-        .y_label_formatter(&|y| level_label(*y).replace(' ', ""))
-        .label_style(("sans-serif", font).into_font())
-        .axis_desc_style(("sans-serif", font).into_font())
-        .draw()
-        .map_err(err)?;
+    let axes = DecadeAxes {
+        end,
+        levels: (floor, top),
+        desc: (
+            "time after the switch closes (s)",
+            "|V − the load's DC level|",
+        ),
+        label: |y| level_label(y).replace(' ', ""),
+    };
+    let mut chart = decade_chart(&area, &axes, font)?;
+    let (x0, x1) = (chart.x_range().start, chart.x_range().end);
     let frame = {
         let (x, y) = (chart.x_range(), chart.y_range());
         ink::Frame::of(chart.plotting_area(), (x.start, x.end), (y.start, y.end))

@@ -10,7 +10,7 @@ use crate::engine::step::{StepResponse, BANDS};
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, head, style, titled, trace, Entry, Keyed, Look};
+use crate::output::svg::{err, head, style, titled, trace, Chart, Entry, Keyed, Look};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -95,6 +95,51 @@ pub fn rule_levels(responses: &[&StepResponse]) -> Vec<f64> {
     levels
 }
 
+/// A chart of time (linear, from 0 to `end`) against a level on a log
+/// axis (log10 units, a tick each decade), with its descriptions and the
+/// level's label.
+pub(crate) struct DecadeAxes {
+    pub end: f64,
+    pub levels: (f64, f64),
+    pub desc: (&'static str, &'static str),
+    pub label: fn(f64) -> String,
+}
+
+/// The chart and its mesh for [`DecadeAxes`] (the settling and kick views).
+pub(crate) fn decade_chart<'a, 'b>(
+    area: &'a DrawingArea<SVGBackend<'b>, Shift>,
+    axes: &DecadeAxes,
+    font: u32,
+) -> anyhow::Result<Chart<'a, 'b>> {
+    let ((x0, x1), x_ticks) = crate::model::values::nice_linear(0.0, axes.end, 8);
+    let (floor, top) = axes.levels;
+    let decades: Vec<f64> = (0..=(top - floor) as i32)
+        .map(|i| floor + f64::from(i))
+        .collect();
+    let mut chart = ChartBuilder::on(area)
+        .margin(12)
+        .margin_right(crate::output::svg::RIGHT_MARGIN)
+        .x_label_area_size(font * 3)
+        .y_label_area_size(font * 5)
+        .build_cartesian_2d(
+            Keyed::new((x0, x1), x_ticks, Vec::new()),
+            Keyed::new((floor, top), decades, Vec::new()),
+        )
+        .map_err(err)?;
+    let label = axes.label;
+    chart
+        .configure_mesh()
+        .x_desc(axes.desc.0)
+        .y_desc(axes.desc.1)
+        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
+        .y_label_formatter(&|y| label(*y))
+        .label_style(("sans-serif", font).into_font())
+        .axis_desc_style(("sans-serif", font).into_font())
+        .draw()
+        .map_err(err)?;
+    Ok(chart)
+}
+
 /// The SVG chart: every stage's curve, the band rules, each stage's
 /// settling times, and the spec's settling time when one is set.
 pub fn settling_chart(
@@ -113,10 +158,6 @@ pub fn settling_chart(
         .map(|p| p.1)
         .fold(0.0f64, f64::max)
         .ceil();
-    let ((x0, x1), x_ticks) = crate::model::values::nice_linear(0.0, end, 8);
-    let decades: Vec<f64> = (0..=(top - FLOOR_LOG) as i32)
-        .map(|i| FLOOR_LOG + f64::from(i))
-        .collect();
     let entries: Vec<Entry> = (0..stages.len())
         .map(|slot| {
             let name = if stages.len() > 1 {
@@ -128,26 +169,14 @@ pub fn settling_chart(
         })
         .collect();
     let area = head(area, &titled(heading, stages), &entries, font)?;
-    let mut chart = ChartBuilder::on(&area)
-        .margin(12)
-        .margin_right(crate::output::svg::RIGHT_MARGIN)
-        .x_label_area_size(font * 3)
-        .y_label_area_size(font * 5)
-        .build_cartesian_2d(
-            Keyed::new((x0, x1), x_ticks, Vec::new()),
-            Keyed::new((FLOOR_LOG, top), decades, Vec::new()),
-        )
-        .map_err(err)?;
-    chart
-        .configure_mesh()
-        .x_desc("time after the step (s)")
-        .y_desc("|output / final − 1|")
-        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
-        .y_label_formatter(&|y| level_label(*y))
-        .label_style(("sans-serif", font).into_font())
-        .axis_desc_style(("sans-serif", font).into_font())
-        .draw()
-        .map_err(err)?;
+    let axes = DecadeAxes {
+        end,
+        levels: (FLOOR_LOG, top),
+        desc: ("time after the step (s)", "|output / final − 1|"),
+        label: level_label,
+    };
+    let mut chart = decade_chart(&area, &axes, font)?;
+    let (x0, x1) = (chart.x_range().start, chart.x_range().end);
     let rule = RGBColor(110, 110, 110);
     for y in rule_levels(&responses) {
         let line = PathElement::new(vec![(x0, y), (x1, y)], rule.stroke_width(1));
@@ -189,13 +218,20 @@ pub fn settling_chart(
                 st.color.mix(0.7).stroke_width(1),
             );
             chart.draw_series(std::iter::once(line)).map_err(err)?;
+            // Beside the rule on the side with room: left of it in the
+            // chart's right part.
+            let (h, dx) = if (tmax - x0) / (x1 - x0) > 0.6 {
+                (HPos::Right, -4)
+            } else {
+                (HPos::Left, 4)
+            };
             let style = ("sans-serif", font)
                 .into_font()
                 .color(&st.color)
-                .pos(Pos::new(HPos::Left, VPos::Top));
+                .pos(Pos::new(h, VPos::Top));
             let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
             let label =
-                EmptyElement::at((tmax, top)) + Text::new(text, (4, 4 + 16 * slot as i32), style);
+                EmptyElement::at((tmax, top)) + Text::new(text, (dx, 4 + 16 * slot as i32), style);
             chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
     }

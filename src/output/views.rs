@@ -378,7 +378,7 @@ pub fn plot_help() -> String {
 /// The workbench's `v` help: the views it cycles through.
 pub fn cycle_help() -> String {
     let names: Vec<&str> = ViewId::shown().map(ViewId::name).collect();
-    format!("next view: {}", names.join(" "))
+    format!("view: {}", names.join(" "))
 }
 
 /// The view with this name.

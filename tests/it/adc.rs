@@ -71,7 +71,7 @@ fn charge_sharing(acquire: f64) -> Scenario {
     s.load.sample = Some(Sample {
         c: 16.0e-12,
         r: 1.0e-3,
-        from: 0.0,
+        from: None,
         full_scale: 5.0,
         bits: 16,
         acquire,
@@ -163,7 +163,7 @@ fn average_current_dc_error() {
 fn no_charge_no_kick() {
     let mut s = charge_sharing(300.0e-9);
     if let Some(x) = s.load.sample.as_mut() {
-        x.from = 2.0;
+        x.from = Some(2.0);
     }
     let k = analyze(&s).kick.unwrap();
     assert!(k.dip_v.unwrap().abs() < 1e-9, "{:?}", k.dip_v);
@@ -302,7 +302,7 @@ fn both_thresholds_are_refused() {
 fn new_fields_are_refused_out_of_range() {
     let text = std::fs::read_to_string(DRIVER).unwrap();
     for (good, bad, field) in [
-        ("r: 40.0, from", "r: 20.0e3, from", "load.sample.r"),
+        ("r: 40.0, full", "r: 20.0e3, full", "load.sample.r"),
         ("c: 30.0e-12", "c: 0.0", "load.sample.c"),
         ("bits: 16,", "bits: 40,", "load.sample.bits"),
         ("acquire: 350.0e-9", "acquire: -1.0", "load.sample.acquire"),
