@@ -65,7 +65,7 @@ fn step_response(c: &mut Criterion) {
     let linear = scenario::demo();
     let mut slewing = linear.clone();
     slewing.amp.slew = Some(1.0e6);
-    slewing.step = Some(loopwright::model::scenario::Step { size: 10.0 });
+    slewing.step = Some(loopwright::model::scenario::Step::of(10.0));
     for (name, s) in [
         ("step_response", &linear),
         ("step_response_slewing", &slewing),
@@ -77,6 +77,25 @@ fn step_response(c: &mut Criterion) {
             b.iter(|| step::step_response(black_box(s), &circuit.net, f_ref, false))
         });
     }
+}
+
+/// The sampling kick of the 16-bit driver example
+/// (`scenarios/sar_driver_16bit.ron`): two exact runs of the extended
+/// time-domain equations (target under 2 ms).
+fn kick_analysis(c: &mut Criterion) {
+    use loopwright::engine::analysis::Circuit;
+    use loopwright::engine::kick;
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/sar_driver_16bit.ron"
+    );
+    let s = loopwright::model::Scenario::load(std::path::Path::new(path)).unwrap();
+    let a = analyze(&s);
+    let f_ref = a.crossover_hz.unwrap_or(s.amp.gbw);
+    let circuit = Circuit::new(&s);
+    c.bench_function("kick_analysis", |b| {
+        b.iter(|| kick::kick(black_box(&s), &circuit.net, f_ref, false))
+    });
 }
 
 /// 10 000 Monte Carlo trials of the demo (its resistors vary, 4 corners),
@@ -110,6 +129,7 @@ criterion_group!(
     full_analysis,
     full_analysis_with_limits,
     step_response,
+    kick_analysis,
     one_point,
     frame
 );

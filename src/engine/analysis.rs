@@ -67,6 +67,9 @@ pub struct Analysis {
     pub limits: crate::engine::limits::Limits,
     /// The response to a step of the source EMF (time domain).
     pub step: crate::engine::step::StepResponse,
+    /// The sampling capacitor's kick (None without `load.sample`, or in
+    /// an analysis without the time domain).
+    pub kick: Option<crate::engine::kick::Kick>,
     /// The closed-loop poles, rad/s (empty where the model has no
     /// time-domain form).
     pub poles: Vec<C64>,
@@ -401,8 +404,12 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         Some(st) => !st,
         None => phase_margin_deg.is_some_and(|p| p <= 0.0),
     };
-    let step = if depth.step {
-        step_of(s, &circuit, cross.map(|c| c.0), f_3db_hz, unstable)
+    let f_ref = time_reference(s, cross.map(|c| c.0), f_3db_hz);
+    let (step, kick) = if depth.step {
+        (
+            crate::engine::step::step_response(s, &circuit.net, f_ref, unstable),
+            crate::engine::kick::kick(s, &circuit.net, f_ref, unstable),
+        )
     } else {
         Default::default()
     };
@@ -436,25 +443,20 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         dc,
         limits,
         step,
+        kick,
         poles: poles.unwrap_or_default(),
         stable,
     }
 }
 
-/// The step response, sampled from the loop's fastest closed-loop figure
-/// (crossover or f−3dB, else the gain-bandwidth); none when unstable.
-fn step_of(
-    s: &Scenario,
-    circuit: &Circuit,
-    crossover: Option<f64>,
-    f_3db: Option<f64>,
-    unstable: bool,
-) -> crate::engine::step::StepResponse {
-    let f_ref = match (crossover, f_3db) {
+/// The frequency the time-domain analyses (the step, the kick) take their
+/// first step from: the loop's fastest closed-loop figure (crossover or
+/// f−3dB, else the gain-bandwidth).
+fn time_reference(s: &Scenario, crossover: Option<f64>, f_3db: Option<f64>) -> f64 {
+    match (crossover, f_3db) {
         (Some(a), Some(b)) => a.max(b),
         (a, b) => a.or(b).unwrap_or(s.amp.gbw),
-    };
-    crate::engine::step::step_response(s, &circuit.net, f_ref, unstable)
+    }
 }
 
 impl Analysis {

@@ -8,6 +8,7 @@
 
 pub mod analysis;
 pub mod circuit;
+pub mod kick;
 pub mod limits;
 pub mod netlist;
 pub mod step;

@@ -95,6 +95,11 @@ pub struct StepResponse {
     pub peak_time_s: Option<f64>,
     /// Settling to [`BANDS`].
     pub settle_s: [Option<f64>; 3],
+    /// The stage's own settling threshold (`step.settle_bits` or
+    /// `step.settle_to`, a fraction of the final value) and the time the
+    /// response last lies outside it.
+    pub threshold: Option<f64>,
+    pub settle_to_s: Option<f64>,
     pub slew_limited: Option<bool>,
     pub clipped: Option<bool>,
     /// The output current reached ±`amp.iout` (None without a limit).
@@ -138,11 +143,13 @@ impl StepResponse {
     }
 
     /// How much of the waveform a plot shows: half as much again as the
-    /// 0.1 % settling time, or the whole window when it does not settle.
+    /// 0.1 % settling time (and past the settling to the stage's own
+    /// threshold), or the whole window when it does not settle.
     pub fn view_end(&self) -> Option<f64> {
+        let own = self.settle_to_s.map_or(0.0, |t| 1.2 * t);
         self.settle_s[1]
             .filter(|t| *t > 0.0)
-            .map(|t| 1.5 * t)
+            .map(|t| (1.5 * t).max(own))
             .or(self.window_s())
     }
 
@@ -203,13 +210,13 @@ fn hermite(a: &Sample, b: &Sample, t: f64) -> f64 {
 
 /// The large-signal limits that apply (only those whose fields are given).
 #[derive(Debug, Clone, Copy)]
-struct Limits {
+pub(super) struct Limits {
     slew: Option<f64>,
     rails: Option<(f64, f64)>,
     iout: Option<f64>,
 }
 
-fn limits_of(s: &Scenario) -> Limits {
+pub(super) fn limits_of(s: &Scenario) -> Limits {
     Limits {
         slew: s.amp.slew.filter(|v| *v > 0.0),
         rails: s.supply.map(|p| s.amp.usable_rails(&p)),
@@ -219,13 +226,14 @@ fn limits_of(s: &Scenario) -> Limits {
 
 /// The reduced linear model `z' = A·z + f·E + f0`, `y = c·z + d·E + d0`
 /// (`f0`, `d0` from the DC-only EMFs at their levels).
-struct Reduced {
+#[derive(Clone)]
+pub(super) struct Reduced {
     r: usize,
     a: Mat,
     f: Vec<f64>,
     f0: Vec<f64>,
-    c: Vec<f64>,
-    d: f64,
+    pub(super) c: Vec<f64>,
+    pub(super) d: f64,
     d0: f64,
     /// z jumps by `jump·ΔE` when the known node steps by ΔE.
     jump: Vec<f64>,
@@ -237,7 +245,7 @@ struct Reduced {
     current: Option<(Vec<f64>, f64, f64)>,
     /// Each state as (full unknown, minus this one): a node voltage, a
     /// difference of two, or an op-amp state.
-    coords: Vec<(usize, Option<usize>)>,
+    pub(super) coords: Vec<(usize, Option<usize>)>,
 }
 
 /// Union–find over the unknowns.
@@ -391,7 +399,7 @@ fn unknowns_from_states(
     (xz, ta.mul_vec(p.1))
 }
 
-fn reduce(eq: &TimeEquations) -> Option<Reduced> {
+pub(super) fn reduce(eq: &TimeEquations) -> Option<Reduced> {
     let Kept {
         keep,
         g,
@@ -506,7 +514,7 @@ fn transpose(m: &Mat) -> Mat {
 
 /// How the amplifier's first state moves.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum Mode {
+pub(super) enum Mode {
     Linear,
     SlewUp,
     SlewDown,
@@ -559,7 +567,7 @@ const TAIL_FLOOR: f64 = 1e-10;
 /// The smallest overshoot reported (relative): ten times [`TOL`].
 const OVERSHOOT_FLOOR: f64 = 1e-6;
 
-struct Sim<'a> {
+pub(super) struct Sim<'a> {
     red: &'a Reduced,
     lim: Limits,
 
@@ -571,7 +579,7 @@ struct Sim<'a> {
     /// The augmented output row ĉ (y = ĉ·[z; 1]).
     out: Vec<f64>,
     tol: f64,
-    samples: Vec<Sample>,
+    pub(super) samples: Vec<Sample>,
     slewed: bool,
     clipped: bool,
     /// The augmented current row (i = ĉi·[z; 1]) and the sum of its
@@ -582,7 +590,7 @@ struct Sim<'a> {
     /// The linear mode's equilibrium [z∞; 1], from the DC solution of the
     /// full equations (A·z∞ + f·E = 0 solved through the reduced A would
     /// lose the digits its stiffness costs).
-    rest: Option<Vec<f64>>,
+    pub(super) rest: Option<Vec<f64>>,
     events: usize,
     last_event: f64,
 }
@@ -592,7 +600,14 @@ fn mode_index(m: Mode) -> usize {
 }
 
 impl<'a> Sim<'a> {
-    fn new(red: &'a Reduced, lim: Limits, e1: f64, y0: f64, h0: f64, scale: f64) -> Sim<'a> {
+    pub(super) fn new(
+        red: &'a Reduced,
+        lim: Limits,
+        e1: f64,
+        y0: f64,
+        h0: f64,
+        scale: f64,
+    ) -> Sim<'a> {
         let r = red.r;
         let mut lin = Mat::zeros(r + 1, r + 1);
         for i in 0..r {
@@ -951,6 +966,43 @@ impl<'a> Sim<'a> {
         next
     }
 
+    /// Run from the state z (augmented, t = 0) until the mode is final
+    /// and settled or a guard ends the window: the last mode, and whether
+    /// the window ended settled. `bound` is the size past which a state
+    /// counts as diverging (times 1e12).
+    pub(super) fn run(&mut self, z: &mut Vec<f64>, bound: f64) -> (Mode, bool) {
+        let mut mode = self.mode_at(z);
+        self.enter(mode, z);
+        let (y, d) = (self.y(z), self.dy(mode, z));
+        self.push(0.0, y, d, d);
+        let mut t = 0.0;
+        let mut ended = false;
+        'blocks: for block in 0..MAX_BLOCKS {
+            let (level, steps) = if block == 0 {
+                (DEPTH, 2 * BLOCK)
+            } else {
+                (DEPTH + block, BLOCK)
+            };
+            let h = self.step_len(level);
+            for _ in 0..steps {
+                mode = self.advance(mode, t, z, level);
+                t += h;
+                if !z.iter().all(|v| v.is_finite()) || z.iter().any(|v| v.abs() > 1e12 * bound) {
+                    break 'blocks;
+                }
+                if self.events >= MAX_EVENTS || self.samples.len() >= MAX_SAMPLES {
+                    break 'blocks;
+                }
+            }
+            if self.settled(mode, level, t) {
+                ended = true;
+                break;
+            }
+        }
+        self.samples.retain(|p| p.y.is_finite());
+        (mode, ended)
+    }
+
     /// Whether the deviation in a final mode has died out over one step.
     fn settled(&mut self, mode: Mode, level: usize, t: f64) -> bool {
         if matches!(
@@ -1009,11 +1061,17 @@ pub fn step_response(s: &Scenario, net: &Netlist, f_ref: f64, unstable: bool) ->
     let Some(red) = reduce(&eq) else {
         return StepResponse::blank(size);
     };
-    simulate(s, &eq, &red, size, f_ref).unwrap_or_else(|| StepResponse::blank(size))
+    let mut r = simulate(s, &eq, &red, size, f_ref).unwrap_or_else(|| StepResponse::blank(size));
+    r.threshold = s.step.and_then(|x| x.threshold());
+    r.settle_to_s = r
+        .threshold
+        .filter(|_| r.reason.is_none())
+        .and_then(|band| r.settle_to(band));
+    r
 }
 
 /// The DC operating point for an EMF `e` (x1 held at `hold` when given).
-fn operating_point(eq: &TimeEquations, e: f64, hold: Option<f64>) -> Option<Vec<f64>> {
+pub(super) fn operating_point(eq: &TimeEquations, e: f64, hold: Option<f64>) -> Option<Vec<f64>> {
     let n = eq.n;
     let mut g = Mat {
         rows: n,
@@ -1036,8 +1094,17 @@ fn operating_point(eq: &TimeEquations, e: f64, hold: Option<f64>) -> Option<Vec<
     x.iter().all(|v| v.is_finite()).then_some(x)
 }
 
+/// Which rail a state held at DC sits at (x1 its amplifier state).
+pub(super) fn held_reason(lim: &Limits, x1: f64) -> &'static str {
+    if lim.rails.is_some_and(|(lo, hi)| x1 >= 0.5 * (lo + hi)) {
+        HELD_HIGH
+    } else {
+        HELD_LOW
+    }
+}
+
 /// Where x1 sits at DC, held inside the rails.
-fn dc_state(eq: &TimeEquations, e: f64, lim: &Limits) -> Option<(Vec<f64>, bool)> {
+pub(super) fn dc_state(eq: &TimeEquations, e: f64, lim: &Limits) -> Option<(Vec<f64>, bool)> {
     let x = operating_point(eq, e, None)?;
     match lim.rails {
         Some((lo, hi)) if x[eq.x1] > hi || x[eq.x1] < lo => {
@@ -1063,16 +1130,7 @@ fn simulate(
     // Past a rail at the operating point: the amplifier is not in its
     // linear range before the step, and figures read off a waveform that
     // starts there would mislead (the waveform is kept for the plot).
-    let reason = held.then(|| {
-        if lim
-            .rails
-            .is_some_and(|(lo, hi)| x0[eq.x1] >= 0.5 * (lo + hi))
-        {
-            HELD_HIGH
-        } else {
-            HELD_LOW
-        }
-    });
+    let reason = held.then(|| held_reason(&lim, x0[eq.x1]));
     let y0 = x0[out];
     // z(0⁻) from the full unknowns: the dynamic coordinates are node
     // voltages, differences of them, or the op-amp's states.
@@ -1090,37 +1148,7 @@ fn simulate(
     let mut rest = states_of(red, &operating_point(eq, e1, None)?);
     rest.push(1.0);
     sim.rest = Some(rest);
-    let mut mode = sim.mode_at(&z);
-    sim.enter(mode, &mut z);
-    let (y, d) = (sim.y(&z), sim.dy(mode, &z));
-    sim.push(0.0, y, d, d);
-    let mut t = 0.0;
-    let mut ended = false;
-    'blocks: for block in 0..MAX_BLOCKS {
-        let (level, steps) = if block == 0 {
-            (DEPTH, 2 * BLOCK)
-        } else {
-            (DEPTH + block, BLOCK)
-        };
-        let h = sim.step_len(level);
-        for _ in 0..steps {
-            mode = sim.advance(mode, t, &mut z, level);
-            t += h;
-            if !z.iter().all(|v| v.is_finite())
-                || z.iter().any(|v| v.abs() > 1e12 * (1.0 + e1.abs() + scale))
-            {
-                break 'blocks;
-            }
-            if sim.events >= MAX_EVENTS || sim.samples.len() >= MAX_SAMPLES {
-                break 'blocks;
-            }
-        }
-        if sim.settled(mode, level, t) {
-            ended = true;
-            break;
-        }
-    }
-    sim.samples.retain(|p| p.y.is_finite());
+    let (mode, ended) = sim.run(&mut z, 1.0 + e1.abs() + scale);
     let final_v = if ended {
         match mode {
             Mode::Linear => Some(linear_final),
@@ -1154,7 +1182,7 @@ fn simulate(
 }
 
 /// The reduced coordinates of a full solution vector.
-fn states_of(red: &Reduced, x: &[f64]) -> Vec<f64> {
+pub(super) fn states_of(red: &Reduced, x: &[f64]) -> Vec<f64> {
     red.coords
         .iter()
         .map(|&(i, minus)| x[i] - minus.map_or(0.0, |j| x[j]))

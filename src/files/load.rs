@@ -25,6 +25,7 @@ impl Scenario {
         let scenario: Scenario = ron_options()
             .from_str(text)
             .map_err(|e| ron_error(&e, &fields, file))?;
+        check_one_threshold(&fields, file)?;
         if let Err(problems) = scenario.validate() {
             return Err(validation_error(&problems[0], &fields, file));
         }
@@ -128,6 +129,25 @@ fn check_topology(
     ))
 }
 
+/// Refuse a step that gives both `settle_bits` and `settle_to`, naming
+/// where each stands.
+fn check_one_threshold(fields: &[FieldPos], file: Option<&str>) -> Result<(), ScenarioError> {
+    let at = |path: &str| fields.iter().find(|f| f.path == path);
+    let (Some(bits), Some(to)) = (at("step.settle_bits"), at("step.settle_to")) else {
+        return Ok(());
+    };
+    Err(error_at(
+        to,
+        "step.settle_to",
+        format!(
+            "step.settle_bits (line {}, column {}) and step.settle_to (line {}, column {}) \
+             both set the settling threshold; give one",
+            bits.line, bits.col, to.line, to.col
+        ),
+        file,
+    ))
+}
+
 /// Turn a RON parse error into a ScenarioError naming the field, if known.
 pub(crate) fn ron_error(
     e: &ron::error::SpannedError,
@@ -215,6 +235,7 @@ fn outer_path(outer: &str) -> String {
         "Amp" => "amp".into(),
         "Source" => "source".into(),
         "Load" => "load".into(),
+        "Sample" => "load.sample".into(),
         "Supply" => "supply".into(),
         "Step" => "step".into(),
         "Spread" => "spread".into(),

@@ -25,6 +25,8 @@ pub enum Unit {
     Percent,
     /// Yes or no (JSON true/false; read as 1 or 0).
     Flag,
+    /// Least significant bits of the stage's converter.
+    Lsb,
 }
 
 /// The text report's section for a figure.
@@ -38,10 +40,12 @@ pub enum Section {
     SignalLimits,
     /// The step response: in JSON an object `step` of its own.
     Step,
+    /// The sampling capacitor's kick (with `load.sample`).
+    Kick,
 }
 
 impl Section {
-    pub const ALL: [Section; 7] = [
+    pub const ALL: [Section; 8] = [
         Section::Gain,
         Section::Loop,
         Section::Impedance,
@@ -49,6 +53,7 @@ impl Section {
         Section::DcErrors,
         Section::SignalLimits,
         Section::Step,
+        Section::Kick,
     ];
 
     /// The JSON object the section's figures sit in (None: top level).
@@ -62,6 +67,7 @@ impl Section {
         match self {
             Section::DcErrors => e.analysis.limits.dc_given,
             Section::SignalLimits => e.analysis.limits.signal_given,
+            Section::Kick => e.analysis.kick.is_some(),
             _ => true,
         }
     }
@@ -74,6 +80,7 @@ impl Section {
             Section::DcErrors => "DC errors",
             Section::SignalLimits => "Signal limits",
             Section::Step => "Step response",
+            Section::Kick => "Sampling kick",
         }
     }
 }
@@ -117,6 +124,14 @@ const KEY_ONLY: Shown = Shown {
     row_when_given: false,
 };
 
+/// In the reports, and a column of the figures row when a stage has it.
+const REPORT_ROW: Shown = Shown {
+    json: true,
+    text: true,
+    key_figure: false,
+    row_when_given: true,
+};
+
 const ROW_IF_GIVEN: Shown = Shown {
     json: false,
     text: false,
@@ -149,6 +164,8 @@ pub struct Figure {
     /// Defined only when its inputs are given: the text report leaves the
     /// line out rather than print it undefined.
     pub needs_input: bool,
+    /// In the step's JSON object even without its input (null then).
+    pub null_in_json: bool,
     read: fn(&Evaluation) -> Option<f64>,
 }
 
@@ -192,6 +209,7 @@ const fn fig(
         at_probe: false,
         undefined: "none",
         needs_input: false,
+        null_in_json: false,
         read,
     }
 }
@@ -216,17 +234,22 @@ impl Figure {
         self.closed_loop = true;
         self
     }
+    /// Kept (null) in the step's JSON object when its input is not given.
+    const fn null_in_json(mut self) -> Figure {
+        self.null_in_json = true;
+        self
+    }
     const fn undefined(mut self, text: &'static str) -> Figure {
         self.undefined = text;
         self
     }
 }
 
-use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
+use Section::{DcErrors, Gain, Impedance, Kick, Loop, Noise, SignalLimits, Step};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 48] = [
+pub static FIGURES: [Figure; 54] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -665,6 +688,18 @@ pub static FIGURES: [Figure; 48] = [
     .closed_loop()
     .undefined("none (does not settle)"),
     fig(
+        "settle_to_s",
+        "settling to target",
+        "ts aim",
+        Si("s"),
+        Step,
+        REPORT_ROW,
+        |e| e.analysis.step.settle_to_s,
+    )
+    .given()
+    .null_in_json()
+    .undefined("none (does not settle to its threshold)"),
+    fig(
         "slew_limited",
         "slew-limited",
         "slewing",
@@ -697,6 +732,56 @@ pub static FIGURES: [Figure; 48] = [
                 .current_limited
                 .map(|b| f64::from(u8::from(b)))
         },
+    )
+    .given(),
+    fig(
+        "kick_dip_v",
+        "load dip",
+        "dip",
+        Si("V"),
+        Kick,
+        REPORT,
+        |e| e.analysis.kick.as_ref().and_then(|k| k.dip_v),
+    )
+    .given(),
+    fig(
+        "kick_error_v",
+        "error at acquire",
+        "kick err",
+        Si("V"),
+        Kick,
+        REPORT,
+        |e| e.analysis.kick.as_ref().and_then(|k| k.error_v),
+    )
+    .given(),
+    fig(
+        "kick_error_lsb",
+        "error in LSB",
+        "kick",
+        Lsb,
+        Kick,
+        REPORT_ROW,
+        |e| e.analysis.kick.as_ref().and_then(|k| k.error_lsb),
+    )
+    .given(),
+    fig(
+        "kick_settle_s",
+        "within ½ LSB after",
+        "t ½LSB",
+        Si("s"),
+        Kick,
+        REPORT,
+        |e| e.analysis.kick.as_ref().and_then(|k| k.settle_s),
+    )
+    .given(),
+    fig(
+        "kick_dc_error_v",
+        "DC error at rate",
+        "kick dc",
+        Si("V"),
+        Kick,
+        REPORT,
+        |e| e.analysis.kick.as_ref().and_then(|k| k.dc_error_v),
     )
     .given(),
 ];
@@ -814,6 +899,7 @@ impl Unit {
             Count => fixed(v, 0, signed),
             Percent => format!("{} %", fixed(v, 3, signed)),
             Flag => if v != 0.0 { "yes" } else { "no" }.into(),
+            Lsb => format!("{} LSB", fixed(v, 3, signed)),
             Si(u) => format!("{sign}{}", fmt_eng(v, u)),
         }
     }
@@ -828,6 +914,7 @@ impl Unit {
             Count => fixed(v, 0, signed),
             Percent => format!("{}%", fixed(v, 2, signed)),
             Flag => if v != 0.0 { "yes" } else { "no" }.into(),
+            Lsb => format!("{}LSB", fixed(v, 2, signed)),
             Si(u) => {
                 let text = fmt_eng(v.abs(), u).replace(' ', "");
                 match (v < 0.0, signed) {

@@ -27,6 +27,19 @@ pub struct Limit {
     pub figures: &'static [&'static str],
     pub rule: Rule,
     get: fn(&Spec) -> Option<f64>,
+    /// Whether this entry holds the field for a stage (a field with two
+    /// entries: each holds different figures).
+    applies: fn(&Scenario) -> bool,
+}
+
+fn always(_: &Scenario) -> bool {
+    true
+}
+
+/// The step has its own settling threshold (`step.settle_bits` or
+/// `step.settle_to`): `settle_max_s` then holds `settle_to_s`.
+fn thresholded(s: &Scenario) -> bool {
+    s.step.and_then(|x| x.threshold()).is_some()
 }
 
 impl PartialEq for Limit {
@@ -37,68 +50,95 @@ impl PartialEq for Limit {
 
 use Rule::*;
 
-/// Every limit, in file order.
-pub static LIMITS: [Limit; 9] = [
+/// Every limit, in file order; `settle_max_s` has two entries: the
+/// 0.1 % settling time, or `settle_to_s` when the step has a threshold.
+pub static LIMITS: [Limit; 11] = [
     Limit {
         field: "gain_error_max",
         figures: &["target_error"],
         rule: MagnitudeAtMost,
         get: |s| s.gain_error_max,
+        applies: always,
     },
     Limit {
         field: "f_3db_min",
         figures: &["f_3db_hz"],
         rule: AtLeast,
         get: |s| s.f_3db_min,
+        applies: always,
     },
     Limit {
         field: "peaking_max_db",
         figures: &["peaking_db"],
         rule: AtMost,
         get: |s| s.peaking_max_db,
+        applies: always,
     },
     Limit {
         field: "pm_min_deg",
         figures: &["phase_margin_deg"],
         rule: AtLeast,
         get: |s| s.pm_min_deg,
+        applies: always,
     },
     Limit {
         field: "zout_max_ohm",
         figures: &["zout_at_ohm"],
         rule: AtMost,
         get: |s| s.zout_max_ohm,
+        applies: always,
     },
     Limit {
         field: "noise_rms_max",
         figures: &["noise_rms"],
         rule: AtMost,
         get: |s| s.noise_rms_max,
+        applies: always,
     },
     Limit {
         field: "offset_max_v",
         figures: &["out_offset_max_v"],
         rule: AtMost,
         get: |s| s.offset_max_v,
+        applies: always,
     },
     Limit {
         field: "headroom_min_v",
         figures: &["headroom_low_v", "headroom_high_v"],
         rule: AtLeast,
         get: |s| s.headroom_min_v,
+        applies: always,
     },
     Limit {
         field: "settle_max_s",
         figures: &["settle_01pct_s"],
         rule: AtMost,
         get: |s| s.settle_max_s,
+        applies: |s| !thresholded(s),
+    },
+    Limit {
+        field: "settle_max_s",
+        figures: &["settle_to_s"],
+        rule: AtMost,
+        get: |s| s.settle_max_s,
+        applies: thresholded,
+    },
+    Limit {
+        field: "kick_error_max_lsb",
+        figures: &["kick_error_lsb"],
+        rule: AtMost,
+        get: |s| s.kick_error_max_lsb,
+        applies: always,
     },
 ];
 
 impl Limit {
     /// The limit's value in this scenario's spec, when given.
     pub fn value(&self, s: &Scenario) -> Option<f64> {
-        s.spec.as_ref().and_then(self.get)
+        s.spec
+            .as_ref()
+            .filter(|_| (self.applies)(s))
+            .and_then(self.get)
     }
 
     /// The value the limit holds from the figures a stage gives (`read`

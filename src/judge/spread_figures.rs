@@ -22,7 +22,7 @@ pub enum When {
 
 /// The figures that spread, in report order. `target_error` is computed
 /// here; the rest are read from the figure table.
-pub const SPREAD_FIGURES: [(&str, When); 13] = [
+pub const SPREAD_FIGURES: [(&str, When); 15] = [
     ("dc_gain", When::Always),
     (TARGET_ERROR, When::Always),
     ("f_3db_hz", When::Always),
@@ -36,7 +36,13 @@ pub const SPREAD_FIGURES: [(&str, When); 13] = [
     ("headroom_low_v", When::Given),
     ("headroom_high_v", When::Given),
     ("settle_01pct_s", When::Held),
+    ("settle_to_s", When::Held),
+    ("kick_error_lsb", When::Held),
 ];
+
+/// The spread figures that need the time domain (a step and a kick per
+/// trial) when a limit holds them.
+pub const TIME_DOMAIN: [&str; 3] = ["settle_01pct_s", "settle_to_s", "kick_error_lsb"];
 
 /// The gain `target_error` is measured against: the spec's target, or
 /// the nominal stage's network gain.

@@ -43,11 +43,12 @@ pub enum Code {
     Slew,
     OutputCurrent,
     DcOffset,
+    SampleKick,
     Spec,
 }
 
 impl Code {
-    pub const ALL: [Code; 17] = [
+    pub const ALL: [Code; 18] = [
         Code::InputInvalid,
         Code::PhaseMargin,
         Code::NoCrossover,
@@ -64,6 +65,7 @@ impl Code {
         Code::Slew,
         Code::OutputCurrent,
         Code::DcOffset,
+        Code::SampleKick,
         Code::Spec,
     ];
 
@@ -86,6 +88,7 @@ impl Code {
             Code::Slew => "slew",
             Code::OutputCurrent => "output-current",
             Code::DcOffset => "dc-offset",
+            Code::SampleKick => "sample-kick",
             Code::Spec => "spec",
         }
     }
@@ -144,6 +147,10 @@ pub const IOUT_WARN_SHARE: f64 = 0.8;
 /// Worst-case output offset above this share of the output signal's
 /// peak is a warning (common practice).
 pub const OFFSET_WARN_SHARE: f64 = 0.01;
+
+/// The sampling capacitor's error at the end of the acquisition above
+/// this many LSB is a warning (half an LSB: common practice).
+pub const KICK_WARN_LSB: f64 = 0.5;
 
 /// What a rule sees: the scenario, its figures and its field problems.
 pub struct Context<'a> {

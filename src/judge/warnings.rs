@@ -27,6 +27,7 @@ pub const RULES: &[Rule] = &[
     limit_rules::slew,
     limit_rules::output_current,
     limit_rules::dc_offset,
+    sample_kick,
 ];
 
 /// All warnings for a scenario and its analysis, worst first.
@@ -37,6 +38,29 @@ pub fn check(cx: &Context) -> Vec<Warning> {
     }
     w.sort_by_key(|x| std::cmp::Reverse(x.severity));
     w
+}
+
+/// The sampling capacitor still more than half an LSB from the load's
+/// level when the acquisition ends.
+fn sample_kick(cx: &Context, w: &mut Vec<Warning>) {
+    let Some(k) = cx.a.kick.as_ref() else {
+        return;
+    };
+    let Some(lsb) = k.error_lsb.filter(|v| *v > KICK_WARN_LSB) else {
+        return;
+    };
+    let when = match k.settle_s {
+        Some(t) => format!("it is within half an LSB after {}", fmt_eng(t, "s")),
+        None => "it does not come within half an LSB in the window".into(),
+    };
+    let text = format!(
+        "the sampling capacitor is {lsb:.2} LSB ({}) off the load's level when the {} \
+         acquisition ends; {when}: a larger load c, a smaller riso or a faster amplifier \
+         recovers sooner",
+        fmt_eng(k.error_v.unwrap_or(f64::NAN), "V"),
+        fmt_eng(k.acquire_s, "s"),
+    );
+    push(w, Code::SampleKick, Severity::Warning, text);
 }
 
 fn parallel(rs: &[f64]) -> f64 {

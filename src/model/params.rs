@@ -8,7 +8,7 @@
 
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
 use crate::model::scenario::{
-    present, Dist, Feedback, FieldProblem, Reference, Scenario, Step, Supply, Topology,
+    present, Dist, Feedback, FieldProblem, Reference, Sample, Scenario, Step, Supply, Topology,
 };
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
@@ -202,6 +202,42 @@ pub const SECONDS: (f64, f64) = (0.0, 1.0e3);
 pub const RMS_LIMIT: (f64, f64) = (0.0, 1.0e3);
 /// The widest band, in decades.
 pub const MAX_BAND_DECADES: f64 = 15.0;
+/// Settling thresholds: half an LSB of 1 to 18 bits, or a fraction down
+/// to the step's finest band (1 ppm, `engine::step::SETTLE_FLOOR`).
+pub const SETTLE_BITS: (f64, f64) = (1.0, 18.0);
+pub const SETTLE_TO: (f64, f64) = (1.0e-6, 0.5);
+/// The converter's sampling switch, capacitor, range, resolution,
+/// acquisition time and conversion rate.
+pub const SWITCH_OHMS: (f64, f64) = (1.0e-3, 1.0e4);
+pub const FULL_SCALE: (f64, f64) = (1.0e-3, 1.0e3);
+pub const BITS: (f64, f64) = (1.0, 32.0);
+pub const ACQUIRE: (f64, f64) = (1.0e-12, 1.0);
+pub const RATE: (f64, f64) = (1.0e-3, 1.0e10);
+pub const LSB_LIMIT: (f64, f64) = (0.0, 1.0e6);
+
+/// Access to a number of the sampling block (`load.sample.c`): setting a
+/// value makes the block; clearing a field the block needs removes it.
+macro_rules! sample {
+    ($f:ident) => {
+        Access::Number {
+            get: |s| s.load.sample.map(|x| x.$f),
+            set: |s, v| match v {
+                Some(x) => s.load.sample.get_or_insert_with(Sample::default).$f = x,
+                None => s.load.sample = None,
+            },
+        }
+    };
+}
+
+/// Whether the stage has a sampling capacitor (its rows are shown then).
+fn sampled(s: &Scenario) -> bool {
+    s.load.sample.is_some()
+}
+
+/// Whether the step has a settling threshold (its rows are shown then).
+fn thresholded(s: &Scenario) -> bool {
+    s.step.is_some_and(|x| x.threshold().is_some())
+}
 
 /// Access to an `Option<f64>` field (`opt a.b`) or an `f64` one (`req a.b`).
 macro_rules! number {
@@ -314,7 +350,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 63] = [
+pub static PARAMS: [Param; 73] = [
     entry(
         "stage.topology",
         "topology",
@@ -698,6 +734,111 @@ pub static PARAMS: [Param; 63] = [
     )
     .starting(|_| 100e-12),
     entry(
+        "load.sample.c",
+        "sample c",
+        "F",
+        SourceLoad,
+        Capacitor,
+        Optional,
+        STAGE_FARADS,
+        sample!(c),
+    )
+    .qualifies(sampled)
+    .note("the converter's sampling capacitor, switched onto the load at t = 0"),
+    entry(
+        "load.sample.r",
+        "switch r",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        SWITCH_OHMS,
+        sample!(r),
+    )
+    .qualifies(sampled),
+    entry(
+        "load.sample.from",
+        "cap from",
+        "V",
+        SourceLoad,
+        Linear(0.5),
+        Optional,
+        VOLTS,
+        Access::Number {
+            get: |s| s.load.sample.and_then(|x| x.from),
+            set: |s, v| {
+                if let Some(b) = s.load.sample.as_mut() {
+                    b.from = v;
+                }
+            },
+        },
+    )
+    .qualifies(sampled)
+    .starting(|_| 0.0)
+    .note("the sampling capacitor's voltage before the switch closes (none: 0 V)"),
+    entry(
+        "load.sample.full_scale",
+        "range",
+        "V",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        FULL_SCALE,
+        sample!(full_scale),
+    )
+    .qualifies(sampled),
+    entry(
+        "load.sample.bits",
+        "bits",
+        "",
+        SourceLoad,
+        Linear(1.0),
+        Optional,
+        BITS,
+        Access::Number {
+            get: |s| s.load.sample.map(|x| f64::from(x.bits)),
+            set: |s, v| match v {
+                Some(x) => {
+                    s.load.sample.get_or_insert_with(Sample::default).bits = x.round() as u32
+                }
+                None => s.load.sample = None,
+            },
+        },
+    )
+    .qualifies(sampled)
+    .whole(),
+    entry(
+        "load.sample.acquire",
+        "acquire",
+        "s",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        ACQUIRE,
+        sample!(acquire),
+    )
+    .qualifies(sampled),
+    entry(
+        "load.sample.rate",
+        "rate",
+        "Hz",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        RATE,
+        Access::Number {
+            get: |s| s.load.sample.and_then(|x| x.rate),
+            set: |s, v| {
+                if let Some(b) = s.load.sample.as_mut() {
+                    b.rate = v;
+                }
+            },
+        },
+    )
+    .qualifies(sampled)
+    .starting(|_| 1.0e6)
+    .note("conversions per second: their average current's DC error at the load"),
+    entry(
         "supply.neg",
         "rail −",
         "V",
@@ -822,10 +963,46 @@ pub static PARAMS: [Param; 63] = [
         VOLTS,
         Access::Number {
             get: |s| s.step.map(|x| x.size),
-            set: |s, v| s.step = v.map(|size| Step { size }),
+            set: |s, v| match (v, s.step.as_mut()) {
+                (Some(size), Some(step)) => step.size = size,
+                (v, _) => s.step = v.map(Step::of),
+            },
         },
     )
     .starting(|_| crate::model::scenario::DEFAULT_STEP_V),
+    entry(
+        "step.settle_bits",
+        "ts bits",
+        "",
+        SupplySignal,
+        Linear(1.0),
+        Optional,
+        SETTLE_BITS,
+        Access::Number {
+            get: |s| s.step.and_then(|x| x.settle_bits).map(f64::from),
+            set: |s, v| set_threshold(s, v.map(|n| (Some(n.round() as u32), None))),
+        },
+    )
+    .qualifies(thresholded)
+    .whole()
+    .starting(|_| 16.0)
+    .note("settle to half an LSB of this many bits: 2^−(N+1) of the final value"),
+    entry(
+        "step.settle_to",
+        "settle to",
+        "",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        SETTLE_TO,
+        Access::Number {
+            get: |s| s.step.and_then(|x| x.settle_to),
+            set: |s, v| set_threshold(s, v.map(|f| (None, Some(f)))),
+        },
+    )
+    .qualifies(thresholded)
+    .starting(|_| 1.0e-4)
+    .note("settle to this fraction of the final value"),
     entry(
         "temp_c",
         "temp",
@@ -1056,6 +1233,18 @@ pub static PARAMS: [Param; 63] = [
         block!(spec.settle_max_s),
     )
     .starting(|_| 1.0e-6),
+    entry(
+        "spec.kick_error_max_lsb",
+        "kick LSB ≤",
+        "",
+        Spread,
+        Linear(0.25),
+        Optional,
+        LSB_LIMIT,
+        block!(spec.kick_error_max_lsb),
+    )
+    .qualifies(sampled)
+    .starting(|_| 0.5),
     entry(
         "spec.headroom_min_v",
         "headroom ≥",
@@ -1444,10 +1633,43 @@ impl Param {
     }
 }
 
+/// Set one settling threshold (bits or a fraction) and clear the other;
+/// None clears both. A threshold makes the step block when there is none.
+fn set_threshold(s: &mut Scenario, v: Option<(Option<u32>, Option<f64>)>) {
+    let (bits, to) = v.unwrap_or((None, None));
+    if bits.is_none() && to.is_none() && s.step.is_none() {
+        return;
+    }
+    let step = s
+        .step
+        .get_or_insert_with(|| Step::of(crate::model::scenario::DEFAULT_STEP_V));
+    step.settle_bits = bits;
+    step.settle_to = to;
+}
+
+/// One settling threshold at most: `settle_bits` and `settle_to` say the
+/// same thing two ways.
+fn threshold_checks(s: &Scenario) -> Vec<FieldProblem> {
+    match s.step {
+        Some(Step {
+            settle_bits: Some(n),
+            settle_to: Some(f),
+            ..
+        }) => vec![FieldProblem {
+            field: "step.settle_to".into(),
+            message: format!(
+                "{f}: step.settle_bits ({n}) already sets the threshold; give step.settle_bits or step.settle_to, not both"
+            ),
+        }],
+        _ => Vec::new(),
+    }
+}
+
 /// The rules between fields, after each field's own check.
 fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     let mut p = supply_checks(s);
     p.extend(reference_checks(s));
+    p.extend(threshold_checks(s));
     p.extend(spread_checks(s));
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {

@@ -362,6 +362,105 @@ pub struct Reference {
 pub struct Step {
     #[serde(deserialize_with = "number")]
     pub size: f64,
+    /// Settle to half an LSB of this many bits: 2^−(N+1) of the final
+    /// value (`settle_to_s`). Not with `settle_to`.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_count")]
+    pub settle_bits: Option<u32>,
+    /// Settle to this fraction of the final value (`settle_to_s`).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub settle_to: Option<f64>,
+}
+
+impl Step {
+    /// A step of `size` volts with no settling threshold.
+    pub fn of(size: f64) -> Step {
+        Step {
+            size,
+            settle_bits: None,
+            settle_to: None,
+        }
+    }
+
+    /// The settling threshold as a fraction of the final value:
+    /// `settle_to`, or 2^−(bits+1) from `settle_bits`.
+    pub fn threshold(&self) -> Option<f64> {
+        self.settle_to
+            .or_else(|| self.settle_bits.map(|n| 0.5f64.powi(n as i32 + 1)))
+    }
+}
+
+/// The sampling capacitor of a converter on the load terminal: at t = 0 a
+/// switch of resistance `r` connects `c`, charged to `from` volts, to the
+/// load terminal (the kick analysis only).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Sample {
+    #[serde(deserialize_with = "number")]
+    pub c: f64,
+    #[serde(deserialize_with = "number")]
+    pub r: f64,
+    /// The capacitor's voltage before the switch closes (0 V without it).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub from: Option<f64>,
+    /// The converter's full-scale range (V) and resolution (bits).
+    #[serde(deserialize_with = "number")]
+    pub full_scale: f64,
+    #[serde(deserialize_with = "count")]
+    pub bits: u32,
+    /// The acquisition time: when the switch opens again (s).
+    #[serde(deserialize_with = "number")]
+    pub acquire: f64,
+    /// Conversions per second (for the average current's DC error).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub rate: Option<f64>,
+}
+
+impl Default for Sample {
+    /// What a sampling field typed into an absent block starts from
+    /// (a 16-bit converter of our own invention).
+    fn default() -> Sample {
+        Sample {
+            c: 16.0e-12,
+            r: 50.0,
+            from: None,
+            full_scale: 5.0,
+            bits: 16,
+            acquire: 300.0e-9,
+            rate: None,
+        }
+    }
+}
+
+impl Sample {
+    /// The capacitor's voltage before the switch closes (V).
+    pub fn from_v(&self) -> f64 {
+        self.from.unwrap_or(0.0)
+    }
+
+    /// One LSB of the converter (V).
+    pub fn lsb(&self) -> f64 {
+        self.full_scale / 2f64.powi(self.bits as i32)
+    }
 }
 
 /// How a varied part is drawn within its spread.
@@ -521,6 +620,14 @@ pub struct Spec {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub settle_max_s: Option<f64>,
+    /// The sampling capacitor's error at the end of the acquisition, LSB.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub kick_error_max_lsb: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",
@@ -555,6 +662,13 @@ pub struct Load {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub c: Option<f64>,
+    /// A converter's sampling capacitor (the kick analysis only).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    pub sample: Option<Sample>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -695,6 +809,26 @@ fn number<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
 fn optional_number<'de, D: Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
     Option::<Written>::deserialize(d)?
         .map(Written::value)
+        .transpose()
+}
+
+/// A whole number (a count of bits) as a file may write it: `16`, `16.0`
+/// or `"16"`; a fraction is refused with its value.
+fn whole<E: serde::de::Error>(v: f64) -> Result<u32, E> {
+    if v.fract() == 0.0 && (0.0..=f64::from(u32::MAX)).contains(&v) {
+        Ok(v as u32)
+    } else {
+        Err(E::custom(format!("{v} is not a whole number")))
+    }
+}
+
+fn count<'de, D: Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
+    whole(Written::deserialize(d)?.value()?)
+}
+
+fn optional_count<'de, D: Deserializer<'de>>(d: D) -> Result<Option<u32>, D::Error> {
+    Option::<Written>::deserialize(d)?
+        .map(|w| w.value().and_then(whole))
         .transpose()
 }
 

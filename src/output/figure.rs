@@ -42,6 +42,7 @@ pub enum ViewId {
     Envelope,
     Step,
     Settling,
+    Kick,
     Spread,
 }
 

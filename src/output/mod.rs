@@ -5,6 +5,7 @@
 pub mod figure;
 pub mod helper_tables;
 pub(crate) mod ink;
+pub mod kick;
 pub mod note;
 pub mod report;
 pub mod settling;

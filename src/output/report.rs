@@ -119,7 +119,10 @@ fn step_object(e: &Evaluation) -> serde_json::Map<String, serde_json::Value> {
     let mut m: serde_json::Map<String, serde_json::Value> = FIGURES
         .iter()
         .filter(|f| f.shown.json && f.section == Section::Step)
-        .filter(|f| !(f.needs_input && f.read(e) == crate::judge::figures::Reading::Undefined))
+        .filter(|f| {
+            f.null_in_json
+                || !(f.needs_input && f.read(e) == crate::judge::figures::Reading::Undefined)
+        })
         .map(|f| (f.key.to_string(), f.json_value(e)))
         .collect();
     if let Some(reason) = e.analysis.step.reason {
@@ -226,6 +229,9 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
         writeln!(w, "  {:<18} {size}", "step size")?;
         return writeln!(w, "  {:<18} none: {reason}", "figures");
     }
+    if let (Section::Kick, Some(why)) = (sec, kick_blank(e)) {
+        return writeln!(w, "  {:<18} none: {why}", "figures");
+    }
     for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
         let r = f.read(e);
         if f.needs_input && r == crate::judge::figures::Reading::Undefined {
@@ -234,6 +240,19 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
         writeln!(w, "  {:<18} {}", f.label, f.text(r))?;
     }
     Ok(())
+}
+
+/// Why a stage with a sampler has no kick figures, when it has none.
+fn kick_blank(e: &Evaluation) -> Option<&'static str> {
+    let k = e.analysis.kick.as_ref()?;
+    if k.error_v.is_some() {
+        return None;
+    }
+    Some(k.reason.unwrap_or(if e.analysis.unstable() {
+        "the stage is unstable"
+    } else {
+        "the sampling capacitor does not settle in the window"
+    }))
 }
 
 /// Each noise source's rms and share, largest first.
@@ -362,12 +381,17 @@ pub struct Comparison {
 }
 
 /// Figures `compare` adds to the key figures when either stage has them:
-/// the error against the spec's aim, the worst-case offset and headroom.
-const COMPARED_WHEN_GIVEN: [&str; 4] = [
+/// the error against the spec's aim, the worst-case offset and headroom,
+/// the settling to the step's threshold and the sampling kick.
+const COMPARED_WHEN_GIVEN: [&str; 8] = [
     "target_error",
     "out_offset_max_v",
     "headroom_low_v",
     "headroom_high_v",
+    "settle_to_s",
+    "kick_dip_v",
+    "kick_error_lsb",
+    "kick_settle_s",
 ];
 
 impl Comparison {

@@ -1,7 +1,8 @@
 //! The settling view: how far the step response still is from its final
 //! value, |y(t)/final − 1|, on a logarithmic axis against time, from 100 %
 //! down to 1 ppm, with rules at the 1 %, 0.1 % and 0.01 % bands and the
-//! times where the curve last leaves each (the step's settling times). A
+//! times where the curve last leaves each (the step's settling times), and
+//! a rule at the stage's own threshold (`step.settle_bits`, `settle_to`). A
 //! slow tail or a ringing that a linear step plot hides shows here. The
 //! SVG chart and the workbench both read [`curve`] and [`rules`].
 
@@ -9,7 +10,7 @@ use crate::engine::step::{StepResponse, BANDS};
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, head, style, text_width, titled, trace, Entry, Keyed, Look};
+use crate::output::svg::{err, head, style, text_width, titled, trace, Chart, Entry, Keyed, Look};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -71,13 +72,72 @@ pub fn level_label(y: f64) -> String {
 }
 
 /// The rules: each band (log10 level) with the time the stage's response
-/// last leaves it, when it does settle there.
+/// last leaves it, when it does settle there; then the stage's own
+/// threshold (`step.settle_bits` or `step.settle_to`) when it has one.
 pub fn rules(r: &StepResponse) -> Vec<(f64, Option<f64>)> {
     BANDS
         .iter()
         .zip(r.settle_s)
         .map(|(b, t)| (b.log10(), t))
+        .chain(r.threshold.map(|b| (b.log10(), r.settle_to_s)))
         .collect()
+}
+
+/// The levels (log10) the chart rules: the bands, then each stage's own
+/// threshold.
+pub fn rule_levels(responses: &[&StepResponse]) -> Vec<f64> {
+    let mut levels: Vec<f64> = BANDS.iter().map(|b| b.log10()).collect();
+    for t in responses.iter().filter_map(|r| r.threshold) {
+        if !levels.iter().any(|l| (l - t.log10()).abs() < 1e-9) {
+            levels.push(t.log10());
+        }
+    }
+    levels
+}
+
+/// A chart of time (linear, from 0 to `end`) against a level on a log
+/// axis (log10 units, a tick each decade), with its descriptions and the
+/// level's label.
+pub(crate) struct DecadeAxes {
+    pub end: f64,
+    pub levels: (f64, f64),
+    pub desc: (&'static str, &'static str),
+    pub label: fn(f64) -> String,
+}
+
+/// The chart and its mesh for [`DecadeAxes`] (the settling and kick views).
+pub(crate) fn decade_chart<'a, 'b>(
+    area: &'a DrawingArea<SVGBackend<'b>, Shift>,
+    axes: &DecadeAxes,
+    font: u32,
+) -> anyhow::Result<Chart<'a, 'b>> {
+    let ((x0, x1), x_ticks) = crate::model::values::nice_linear(0.0, axes.end, 8);
+    let (floor, top) = axes.levels;
+    let decades: Vec<f64> = (0..=(top - floor) as i32)
+        .map(|i| floor + f64::from(i))
+        .collect();
+    let mut chart = ChartBuilder::on(area)
+        .margin(12)
+        .margin_right(crate::output::svg::RIGHT_MARGIN)
+        .x_label_area_size(font * 3)
+        .y_label_area_size(font * 5)
+        .build_cartesian_2d(
+            Keyed::new((x0, x1), x_ticks, Vec::new()),
+            Keyed::new((floor, top), decades, Vec::new()),
+        )
+        .map_err(err)?;
+    let label = axes.label;
+    chart
+        .configure_mesh()
+        .x_desc(axes.desc.0)
+        .y_desc(axes.desc.1)
+        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
+        .y_label_formatter(&|y| label(*y))
+        .label_style(("sans-serif", font).into_font())
+        .axis_desc_style(("sans-serif", font).into_font())
+        .draw()
+        .map_err(err)?;
+    Ok(chart)
 }
 
 /// The SVG chart: every stage's curve, the band rules, each stage's
@@ -98,10 +158,6 @@ pub fn settling_chart(
         .map(|p| p.1)
         .fold(0.0f64, f64::max)
         .ceil();
-    let ((x0, x1), x_ticks) = crate::model::values::nice_linear(0.0, end, 8);
-    let decades: Vec<f64> = (0..=(top - FLOOR_LOG) as i32)
-        .map(|i| FLOOR_LOG + f64::from(i))
-        .collect();
     let entries: Vec<Entry> = (0..stages.len())
         .map(|slot| {
             let name = if stages.len() > 1 {
@@ -113,29 +169,16 @@ pub fn settling_chart(
         })
         .collect();
     let area = head(area, &titled(heading, stages), &entries, font)?;
-    let mut chart = ChartBuilder::on(&area)
-        .margin(12)
-        .margin_right(crate::output::svg::RIGHT_MARGIN)
-        .x_label_area_size(font * 3)
-        .y_label_area_size(font * 5)
-        .build_cartesian_2d(
-            Keyed::new((x0, x1), x_ticks, Vec::new()),
-            Keyed::new((FLOOR_LOG, top), decades, Vec::new()),
-        )
-        .map_err(err)?;
-    chart
-        .configure_mesh()
-        .x_desc("time after the step (s)")
-        .y_desc("|output / final − 1|")
-        .x_label_formatter(&|x| fmt_eng(*x, "s").replace(' ', ""))
-        .y_label_formatter(&|y| level_label(*y))
-        .label_style(("sans-serif", font).into_font())
-        .axis_desc_style(("sans-serif", font).into_font())
-        .draw()
-        .map_err(err)?;
+    let axes = DecadeAxes {
+        end,
+        levels: (FLOOR_LOG, top),
+        desc: ("time after the step (s)", "|output / final − 1|"),
+        label: level_label,
+    };
+    let mut chart = decade_chart(&area, &axes, font)?;
+    let (x0, x1) = (chart.x_range().start, chart.x_range().end);
     let rule = RGBColor(110, 110, 110);
-    for b in BANDS {
-        let y = b.log10();
+    for y in rule_levels(&responses) {
         let line = PathElement::new(vec![(x0, y), (x1, y)], rule.stroke_width(1));
         chart.draw_series(std::iter::once(line)).map_err(err)?;
     }
@@ -151,7 +194,7 @@ pub fn settling_chart(
         let r = &s.eval.analysis.step;
         for (y, t) in rules(r) {
             let Some(t) = t else { continue };
-            let text = format!("{} at {}", band_name(10f64.powf(y)), fmt_eng(t, "s"));
+            let text = format!("{} at {}", level_label(y), fmt_eng(t, "s"));
             // A dot where the curve last leaves the band, its time set in
             // the free side of a falling curve: above and right of the dot,
             // or below and left of it in the chart's right part.
@@ -187,13 +230,20 @@ pub fn settling_chart(
                 st.color.mix(0.7).stroke_width(1),
             );
             chart.draw_series(std::iter::once(line)).map_err(err)?;
+            // Beside the rule on the side with room: left of it in the
+            // chart's right part.
+            let (h, dx) = if (tmax - x0) / (x1 - x0) > 0.6 {
+                (HPos::Right, -4)
+            } else {
+                (HPos::Left, 4)
+            };
             let style = ("sans-serif", font)
                 .into_font()
                 .color(&st.color)
-                .pos(Pos::new(HPos::Left, VPos::Top));
+                .pos(Pos::new(h, VPos::Top));
             let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
             let label =
-                EmptyElement::at((tmax, top)) + Text::new(text, (4, 4 + 16 * slot as i32), style);
+                EmptyElement::at((tmax, top)) + Text::new(text, (dx, 4 + 16 * slot as i32), style);
             chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
     }

@@ -184,8 +184,15 @@ fn draw_wave<'a, 'b: 'a>(
     (yr, look, font): ((f64, f64), Look, u32),
 ) -> anyhow::Result<()> {
     let st = style(slot, false, look.mono);
-    if let Some(ts) = s.eval.analysis.step.settle_s[1] {
+    let r = &s.eval.analysis.step;
+    if let Some(ts) = r.settle_s[1] {
         let text = format!("ts 0.1 % {}", fmt_eng(ts, "s"));
+        vmark(chart, placer, ts, yr, text, (st.color, font))?;
+    }
+    // The stage's own threshold (half an LSB of N bits, or a fraction).
+    if let (Some(b), Some(ts)) = (r.threshold, r.settle_to_s) {
+        let level = crate::output::settling::level_label(b.log10());
+        let text = format!("ts {level} {}", fmt_eng(ts, "s"));
         vmark(chart, placer, ts, yr, text, (st.color, font))?;
     }
     // Held at a rail before the step: no figures, and the chart says why.
@@ -327,6 +334,7 @@ fn histogram_panel(
     let unit_text = match unit {
         crate::judge::figures::Unit::Si(u) => u,
         crate::judge::figures::Unit::Degrees => "°",
+        crate::judge::figures::Unit::Lsb => "LSB",
         _ => "%",
     };
     let area = crate::output::svg::head_sized(area, name, &[], (font, font + 2))?;

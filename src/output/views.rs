@@ -9,6 +9,7 @@
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG};
 pub use crate::output::figure::{MarkKind, ViewId};
+use crate::output::kick;
 use crate::output::settling;
 use crate::output::svg_linear;
 use crate::output::traces::Traces;
@@ -187,7 +188,7 @@ fn envelope_marks(s: &Evaluated) -> Vec<Mark> {
 }
 
 /// Every view, in `--view` order.
-pub static VIEWS: [View; 8] = [
+pub static VIEWS: [View; 9] = [
     View {
         id: ViewId::Response,
         name: "response",
@@ -295,6 +296,18 @@ pub static VIEWS: [View; 8] = [
     ),
     linear(
         (
+            ViewId::Kick,
+            "kick",
+            "Sampling kick",
+            "|V − the DC level| of the load terminal and the sampling capacitor \
+             after the converter's switch closes, on a log axis against time; \
+             half an LSB and the acquisition time marked; needs load.sample",
+        ),
+        kick::needs_kick,
+        kick::kick_chart,
+    ),
+    linear(
+        (
             ViewId::Spread,
             "spread",
             "Spread over the tolerances",
@@ -308,7 +321,7 @@ pub static VIEWS: [View; 8] = [
 
 impl ViewId {
     /// Every view, in `--view` order.
-    pub const ALL: [ViewId; 8] = [
+    pub const ALL: [ViewId; 9] = [
         ViewId::Response,
         ViewId::Loop,
         ViewId::Noise,
@@ -316,6 +329,7 @@ impl ViewId {
         ViewId::Envelope,
         ViewId::Step,
         ViewId::Settling,
+        ViewId::Kick,
         ViewId::Spread,
     ];
 
@@ -364,7 +378,7 @@ pub fn plot_help() -> String {
 /// The workbench's `v` help: the views it cycles through.
 pub fn cycle_help() -> String {
     let names: Vec<&str> = ViewId::shown().map(ViewId::name).collect();
-    format!("next view: {}", names.join(" "))
+    format!("view: {}", names.join(" "))
 }
 
 /// The view with this name.

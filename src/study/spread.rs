@@ -252,7 +252,9 @@ impl Plan {
             .collect();
         let target = target(s, nominal);
         let depth = Depth {
-            step: held("settle_01pct_s"),
+            step: crate::judge::spread_figures::TIME_DOMAIN
+                .iter()
+                .any(|k| held(k)),
             ..TRIAL
         };
         Plan {

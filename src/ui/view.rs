@@ -82,6 +82,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         ViewId::Envelope => envelope_plot(app, upper, buf),
         ViewId::Step => step_plot(app, upper, buf),
         ViewId::Settling => settling_plot(app, upper, buf),
+        ViewId::Kick => kick_plot(app, upper, buf),
         ViewId::Spread => super::spread_view::spread_plot(app, upper, buf),
         // Not in the workbench's cycle: the lower panel shows it.
         ViewId::Impedance => impedance_plot(app, upper, buf),
@@ -896,6 +897,14 @@ fn step_marks(r: &crate::engine::step::StepResponse) -> Vec<VMark> {
             label: "ts".into(),
         });
     }
+    // The stage's own threshold: its level names the mark.
+    if let (Some(b), Some(ts)) = (r.threshold, r.settle_to_s) {
+        let level = crate::output::settling::level_label(b.log10());
+        marks.push(VMark {
+            x: ts,
+            label: level.replace(' ', ""),
+        });
+    }
     marks
 }
 
@@ -967,12 +976,6 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
     let ((y0, y1), yt) = nice_linear(lo, hi, (inner.height as usize / 2).max(2));
     let y_ticks = yt.into_iter().map(|v| (v, compact(v, ""))).collect();
-    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
-    let x_ticks = xt
-        .into_iter()
-        .filter(|t| *t <= end)
-        .map(|t| (t, compact(t, "s")))
-        .collect();
     let mut p = plot(
         app,
         tr,
@@ -980,7 +983,7 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         ((y0, y1), y_ticks),
         all_step_marks(app),
     );
-    p.x_ticks = Some(x_ticks);
+    p.x_ticks = Some(time_ticks(end, inner.width));
     // Time, not frequency: no cursor.
     p.cursor = None;
     p.render(inner, buf);
@@ -1011,9 +1014,9 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     if end <= 0.0 || curves.iter().all(Vec::is_empty) {
         return;
     }
-    let rules: Vec<Vec<(f64, f64)>> = crate::engine::step::BANDS
-        .iter()
-        .map(|b| vec![(0.0, b.log10()), (end, b.log10())])
+    let rules: Vec<Vec<(f64, f64)>> = settling::rule_levels(&responses)
+        .into_iter()
+        .map(|y| vec![(0.0, y), (end, y)])
         .collect();
     let mut tr: Vec<Trace> = Vec::new();
     for l in &rules {
@@ -1044,32 +1047,15 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .fold(0.0f64, f64::max)
         .ceil();
     let floor = settling::FLOOR_LOG;
-    // Every decade when there is room, else every other one.
-    let every = if inner.height as f64 >= 2.0 * (top - floor) {
-        1
-    } else {
-        2
-    };
-    let y_ticks = (0..=(top - floor) as i32)
-        .filter(|i| (top as i32 - floor as i32 - i) % every == 0)
-        .map(|i| {
-            let y = floor + f64::from(i);
-            (y, settling::level_label(y).replace(' ', ""))
-        })
-        .collect();
-    let ((_, _), xt) = nice_linear(0.0, end, (inner.width as usize / 12).max(2));
-    let x_ticks = xt
-        .into_iter()
-        .filter(|t| *t <= end)
-        .map(|t| (t, compact(t, "s")))
-        .collect();
+    let y_ticks = decade_ticks((floor, top), inner.height, settling::level_label);
+    let x_ticks = time_ticks(end, inner.width);
     let marks = tagged_marks(app, |s| {
         settling::rules(&s.eval.analysis.step)
             .into_iter()
             .filter_map(|(y, t)| {
                 t.map(|x| VMark {
                     x,
-                    label: settling::band_name(10f64.powf(y)).replace(' ', ""),
+                    label: settling::level_label(y).replace(' ', ""),
                 })
             })
             .collect()
@@ -1078,6 +1064,143 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     p.x_ticks = Some(x_ticks);
     p.cursor = None;
     p.render(inner, buf);
+}
+
+/// Ticks every decade of a log axis (log10 units) when there is room,
+/// else every other one, labelled by `label`.
+fn decade_ticks(
+    (floor, top): (f64, f64),
+    height: u16,
+    label: fn(f64) -> String,
+) -> Vec<(f64, String)> {
+    let every = if f64::from(height) >= 2.0 * (top - floor) {
+        1
+    } else {
+        2
+    };
+    (0..=(top - floor) as i32)
+        .filter(|i| (top as i32 - floor as i32 - i) % every == 0)
+        .map(|i| {
+            let y = floor + f64::from(i);
+            (y, label(y).replace(' ', ""))
+        })
+        .collect()
+}
+
+/// Ticks of a time axis from 0 to `end` for a plot `width` cells wide.
+fn time_ticks(end: f64, width: u16) -> Vec<(f64, String)> {
+    let ((_, _), xt) = nice_linear(0.0, end, (width as usize / 12).max(2));
+    xt.into_iter()
+        .filter(|t| *t <= end)
+        .map(|t| (t, compact(t, "s")))
+        .collect()
+}
+
+/// The kick view's bottom line: each stage's error at the end of the
+/// acquisition and when it is within half an LSB (or why there is none).
+fn kick_summary(app: &App) -> String {
+    let each: Vec<String> = (0..app.slots.len())
+        .map(|i| {
+            let text = match app.slots[i].eval.analysis.kick.as_ref() {
+                None => "give load.sample for the kick".to_string(),
+                Some(k) => match (k.error_lsb, k.settle_s) {
+                    (Some(l), Some(t)) => format!(
+                        "{l:.2} LSB at {}, ½ LSB in {}",
+                        compact(k.acquire_s, "s"),
+                        compact(t, "s")
+                    ),
+                    _ => format!("no figures: {}", k.reason.unwrap_or("no settled kick")),
+                },
+            };
+            format!("{}{text}", tag(app, i))
+        })
+        .collect();
+    format!(" {} ", each.join(" · "))
+}
+
+/// The sampling kick: |V − DC level| of each stage's sampling capacitor
+/// (solid) and load terminal (dotted) on a log axis against time, a rule
+/// at A's half LSB, marks at the acquisition time and the ½ LSB time.
+fn kick_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    use crate::output::kick;
+    let kicks: Vec<_> = app
+        .slots
+        .iter()
+        .filter_map(|s| s.eval.analysis.kick.as_ref())
+        .collect();
+    let title = format!(" {}, |V − DC level|{} ", app.view.title(), legend(app));
+    let b = block(app, title).title_bottom(Line::styled(
+        fitted(&kick_summary(app), area.width),
+        app.theme.dim,
+    ));
+    let inner = b.inner(area);
+    b.render(area, buf);
+    let end = kick::end_of(&kicks);
+    if end <= 0.0 {
+        return;
+    }
+    let (floor, top) = kick::levels(&kicks);
+    let n = (area.width as usize * 4).clamp(50, 600);
+    let pairs: Vec<kick::Pair> = kicks
+        .iter()
+        .map(|k| kick::curves(k, end, n, floor))
+        .collect();
+    let half: Vec<Vec<(f64, f64)>> = app
+        .slot()
+        .eval
+        .analysis
+        .kick
+        .iter()
+        .map(|k| vec![(0.0, k.half_lsb_v.log10()), (end, k.half_lsb_v.log10())])
+        .collect();
+    let mut tr: Vec<Trace> = half
+        .iter()
+        .map(|l| Trace {
+            points: l,
+            style: app.theme.dim,
+            stroke: Stroke::Solid,
+            label: Some("½LSB".into()),
+            label_at: 0.95,
+            joining: Joining::Continuous,
+        })
+        .collect();
+    for (i, (load, cap)) in pairs.iter().enumerate() {
+        let (style, stroke) = slot_style(app, i);
+        for (points, stroke) in [(load, Stroke::Dotted), (cap, stroke)] {
+            tr.push(Trace {
+                points,
+                style,
+                stroke,
+                label: None,
+                label_at: 0.85,
+                joining: Joining::Continuous,
+            });
+        }
+    }
+    let y_ticks = decade_ticks((floor, top), inner.height, kick::level_label);
+    let marks = tagged_marks(app, kick_marks);
+    let mut p = plot(app, tr, (0.0, end), ((floor, top), y_ticks), marks);
+    p.x_ticks = Some(time_ticks(end, inner.width));
+    p.cursor = None;
+    p.render(inner, buf);
+}
+
+/// A stage's kick marks: the end of the acquisition, the ½ LSB time.
+fn kick_marks(s: &Slot) -> Vec<VMark> {
+    let Some(k) = s.eval.analysis.kick.as_ref() else {
+        return Vec::new();
+    };
+    let mut m = vec![VMark {
+        x: k.acquire_s,
+        label: "acq".into(),
+    }];
+    if let Some(t) = k.settle_s.filter(|t| *t > 0.0) {
+        m.push(VMark {
+            x: t,
+            label: "½LSB".into(),
+        });
+    }
+    m
 }
 
 fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
@@ -1203,7 +1326,7 @@ fn usual_width(unit: crate::judge::figures::Unit) -> usize {
     use crate::judge::figures::Unit;
     match unit {
         Unit::Ratio | Unit::Si(_) | Unit::Percent => 7,
-        Unit::Fraction => 8,
+        Unit::Fraction | Unit::Lsb => 8,
         Unit::Db => 6,
         Unit::Degrees | Unit::Count => 4,
         Unit::Flag => 3,

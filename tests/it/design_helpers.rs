@@ -660,7 +660,7 @@ fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
 fn filtered_preamp() -> Scenario {
     let mut s = in_range(plain(Topology::NonInverting, 1e3, 10e3));
     s.stage.cf = Some(10e-9);
-    s.step = Some(loopwright::model::scenario::Step { size: 0.01 });
+    s.step = Some(loopwright::model::scenario::Step::of(0.01));
     s
 }
 

@@ -4,6 +4,7 @@
 
 mod support;
 
+mod adc;
 mod amp_cli;
 mod app_loop;
 mod cli_edges;

@@ -93,6 +93,7 @@ fn cable_driver(feedback: Feedback) -> Scenario {
     s.load = Load {
         r: Some(1.0e3),
         c: Some(1.0e-9),
+        sample: None,
     };
     s
 }

@@ -411,6 +411,8 @@ fn envelope_view_at_80x24_shows_need_ceilings_and_the_crossing() {
         assert!(ds.contains(level), "{level}\n{ds}");
     }
     a.on_key(key(KeyCode::Char('v')));
+    assert!(screen(&a, 80, 24).contains("Sampling kick"));
+    a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Spread over the tolerances"));
     a.on_key(key(KeyCode::Char('v')));
     assert!(screen(&a, 80, 24).contains("Closed-loop response"));

@@ -632,7 +632,7 @@ _loopwright() {
             fi
             case "${prev}" in
                 --view)
-                    COMPREPLY=($(compgen -W "response loop noise impedance envelope step settling spread" -- "${cur}"))
+                    COMPREPLY=($(compgen -W "response loop noise impedance envelope step settling kick spread" -- "${cur}"))
                     return 0
                     ;;
                 --output)

@@ -43,7 +43,11 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             dc: None,
             peak: None,
         },
-        load: Load { r: None, c: None },
+        load: Load {
+            r: None,
+            c: None,
+            sample: None,
+        },
         supply: None,
         reference: None,
         step: None,
