@@ -270,8 +270,11 @@ fn changed_fields(a: &Scenario, b: &Scenario) -> Vec<&'static str> {
     }
     for p in PARAMS.iter() {
         if p.raw(a) != p.raw(b) || p.value_text(a) != p.value_text(b) {
-            push(p.path.split_once(".from").map_or(p.path, |_| "band"));
+            push(crate::model::params::file_field(p.path));
         }
+    }
+    if a.stage.part_tolerance != b.stage.part_tolerance {
+        push("stage.part_tolerance");
     }
     if a.band != b.band {
         push("band");

@@ -2,5 +2,7 @@
 //! Monte Carlo), E-series pairs for a gain, and the stabilising options.
 
 pub mod pairs;
+pub mod shares;
 pub mod spread;
 pub mod stabilize;
+pub mod tighten;
