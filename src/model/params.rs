@@ -1222,6 +1222,7 @@ impl Param {
         };
         match self.format {
             Format::Eng => fmt_eng_sig(v, self.unit, 4).replace(' ', ""),
+            Format::Percent if self.path == "stage.tolerance" => own_tolerances(s, v),
             Format::Percent => format!("±{}", pct(v)),
             Format::Share => pct(v),
             Format::RatioDb => format!(
@@ -1676,6 +1677,21 @@ pub fn field_list(s: &Scenario) -> Vec<(&'static str, String)> {
         }
     }
     out
+}
+
+/// The stage tolerance with the parts' own after it: "±1% (rf ±0.1%)".
+fn own_tolerances(s: &Scenario, v: f64) -> String {
+    if s.stage.part_tolerance.is_empty() {
+        return format!("±{}", pct(v));
+    }
+    let own: Vec<String> = s
+        .stage
+        .part_tolerance
+        .0
+        .iter()
+        .map(|(n, t)| format!("{n} ±{}", pct(*t)))
+        .collect();
+    format!("±{} ({})", pct(v), own.join(", "))
 }
 
 /// The per-part tolerances as text ("rf 0.1%, rg 0.1%"; "none").

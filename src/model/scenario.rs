@@ -161,7 +161,7 @@ impl PartTolerances {
 impl Serialize for PartTolerances {
     fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
         use serde::ser::SerializeStruct;
-        let mut st = s.serialize_struct("", self.0.len())?;
+        let mut st = s.serialize_struct("PartTolerances", self.0.len())?;
         for (name, v) in &self.0 {
             st.serialize_field(interned(name), v)?;
         }
