@@ -31,6 +31,7 @@ pub enum Action {
     FromFigures,
     ResistorPairs,
     StabilizeOptions,
+    TightenOptions,
     CopyToOther,
     SwitchSlot,
     Undo,
@@ -243,6 +244,13 @@ pub const KEYS: &[Binding] = &[
         shown: "",
         action: Action::StabilizeOptions,
         help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('T')],
+        shown: "T",
+        action: Action::TightenOptions,
+        help: "which part tolerances to tighten to reach the yield",
         hint: None,
     },
     Binding {
