@@ -432,7 +432,7 @@ pub static PARAMS: [Param; 64] = [
     .shown(Format::Percent),
     entry(
         "stage.tc_ppm",
-        "resistor tc",
+        "tempco",
         "ppm/°C",
         Stage,
         List(&TEMPCOS),
@@ -808,7 +808,7 @@ pub static PARAMS: [Param; 64] = [
     .shown(Format::Celsius),
     entry(
         "temp_range.from",
-        "temp lowest",
+        "temp low",
         "°C",
         Environment,
         Linear(5.0),
@@ -823,7 +823,7 @@ pub static PARAMS: [Param; 64] = [
     .shown(Format::Celsius),
     entry(
         "temp_range.to",
-        "temp highest",
+        "temp high",
         "°C",
         Environment,
         Linear(5.0),
