@@ -44,6 +44,9 @@ pub fn sigma(k: &Knob, dist: Dist) -> f64 {
 /// The central-difference step: a fiftieth of the knob's half-span.
 const STEP: f64 = 0.02;
 
+/// One stage's figures.
+type Row = Vec<Option<f64>>;
+
 /// The figures one stage gives, in a fixed order.
 pub type Values<'a> = &'a (dyn Fn(&Scenario) -> Vec<Option<f64>> + Sync);
 
@@ -69,7 +72,7 @@ pub fn contributions(
         t
     };
     // Each knob a step down and up: 2 solves per knob.
-    let sides: Vec<(Vec<Option<f64>>, Vec<Option<f64>>)> = (0..knobs.len())
+    let sides: Vec<(Row, Row)> = (0..knobs.len())
         .into_par_iter()
         .map(|i| {
             (

@@ -231,12 +231,12 @@ pub const KEYS: &[Binding] = &[
         help: "",
         hint: None,
     },
-    // The two design helpers share one help row (the help fits 80×24).
+    // The three design helpers share one help row (the help fits 80×24).
     Binding {
         keys: &[k('r')],
-        shown: "r, m",
+        shown: "r, m, T",
         action: Action::ResistorPairs,
-        help: "r: rg, rf for a typed gain · m: riso or cf for 60° margin",
+        help: "r: rg, rf for a gain · m: riso, cf for 60° · T: tolerances",
         hint: None,
     },
     Binding {
@@ -248,9 +248,9 @@ pub const KEYS: &[Binding] = &[
     },
     Binding {
         keys: &[k('T')],
-        shown: "T",
+        shown: "",
         action: Action::TightenOptions,
-        help: "which part tolerances to tighten to reach the yield",
+        help: "",
         hint: None,
     },
     Binding {
