@@ -806,36 +806,20 @@ pub static PARAMS: [Param; 64] = [
         number!(req temp_c),
     )
     .shown(Format::Celsius),
-    entry(
+    temp_end(
         "temp_range.from",
         "temp low",
-        "°C",
-        Environment,
-        Linear(5.0),
-        Optional,
-        TEMP_C,
-        Access::Number {
-            get: |s| s.temp_range.map(|r| r.0),
-            set: |s, v| set_temp_end(s, v, 0),
-        },
+        |s| s.temp_range.map(|r| r.0),
+        |s, v| set_temp_end(s, v, 0),
     )
-    .starting(|_| -40.0)
-    .shown(Format::Celsius),
-    entry(
+    .starting(|_| -40.0),
+    temp_end(
         "temp_range.to",
         "temp high",
-        "°C",
-        Environment,
-        Linear(5.0),
-        Optional,
-        TEMP_C,
-        Access::Number {
-            get: |s| s.temp_range.map(|r| r.1),
-            set: |s, v| set_temp_end(s, v, 1),
-        },
+        |s| s.temp_range.map(|r| r.1),
+        |s, v| set_temp_end(s, v, 1),
     )
-    .starting(|_| 85.0)
-    .shown(Format::Celsius),
+    .starting(|_| 85.0),
     entry(
         "band.from",
         "band from",
@@ -1079,6 +1063,26 @@ pub static PARAMS: [Param; 64] = [
     .starting(|_| 0.99)
     .shown(Format::Share),
 ];
+
+/// One end of the temperature range.
+const fn temp_end(
+    path: &'static str,
+    label: &'static str,
+    get: fn(&Scenario) -> Option<f64>,
+    set: fn(&mut Scenario, Option<f64>),
+) -> Param {
+    entry(
+        path,
+        label,
+        "°C",
+        Environment,
+        Linear(5.0),
+        Optional,
+        TEMP_C,
+        Access::Number { get, set },
+    )
+    .shown(Format::Celsius)
+}
 
 /// Set one end of the temperature range; a range typed into nothing
 /// starts as −40 to 85 °C (common practice: the industrial range), and
