@@ -44,8 +44,9 @@ pub fn summary(t: &Tightening) -> Vec<String> {
     let mut out = Vec::new();
     if t.choices.is_empty() {
         out.push(format!(
-            "no upgrade of up to {MAX_PARTS} parts reaches the yield ({} runs)",
-            t.runs
+            "no upgrade of up to {MAX_PARTS} parts reaches the yield ({} run{})",
+            t.runs,
+            if t.runs == 1 { "" } else { "s" }
         ));
         if t.amp.is_empty() {
             out.push("nor does the amplifier's spread alone: the design itself must change".into());
