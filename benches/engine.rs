@@ -99,7 +99,8 @@ fn kick_analysis(c: &mut Criterion) {
 }
 
 /// 10 000 Monte Carlo trials of the demo (its resistors vary, 4 corners),
-/// in parallel on every core; and one trial's analysis alone.
+/// in parallel on every core, at temp_c and over a temperature range; and
+/// one trial's analysis alone.
 fn spread_10k(c: &mut Criterion) {
     use loopwright::engine::analysis::{analyze_to, TRIAL};
     use loopwright::study::spread::{spread, Run};
@@ -110,6 +111,23 @@ fn spread_10k(c: &mut Criterion) {
         b.iter(|| {
             spread(
                 black_box(&s),
+                &Run {
+                    trials: Some(10_000),
+                    ..Run::default()
+                },
+            )
+        })
+    });
+    // The same over −40 … 85 °C with ±25 ppm/°C resistors and a gbw
+    // drift: every trial at three temperatures.
+    let mut hot = s.clone();
+    hot.temp_range = Some((-40.0, 85.0));
+    hot.stage.tc_ppm = Some(25.0);
+    hot.amp.gbw_tc = Some(-0.002);
+    g.bench_function("spread_10k_temp", |b| {
+        b.iter(|| {
+            spread(
+                black_box(&hot),
                 &Run {
                     trials: Some(10_000),
                     ..Run::default()

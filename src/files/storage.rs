@@ -270,13 +270,11 @@ fn changed_fields(a: &Scenario, b: &Scenario) -> Vec<&'static str> {
     }
     for p in PARAMS.iter() {
         if p.raw(a) != p.raw(b) || p.value_text(a) != p.value_text(b) {
-            // The band's two ends are one field of the file.
-            push(if p.path == "band.from" {
-                "band"
-            } else {
-                p.path
-            });
+            push(crate::model::params::file_field(p.path));
         }
+    }
+    if a.stage.part_tolerance != b.stage.part_tolerance {
+        push("stage.part_tolerance");
     }
     if a.band != b.band {
         push("band");

@@ -294,7 +294,7 @@ mod keys_resolve {
     /// Every key the spread and the spec name resolves to a figure.
     #[test]
     fn every_key_resolves() {
-        let keys = SPREAD_FIGURES.iter().map(|(k, _)| *k);
+        let keys = SPREAD_FIGURES.iter().map(|f| f.0);
         let held = LIMITS.iter().flat_map(|l| l.figures.iter().copied());
         for key in keys.chain(held) {
             assert!(
@@ -302,7 +302,7 @@ mod keys_resolve {
                 "`{key}` names no figure"
             );
             assert!(
-                SPREAD_FIGURES.iter().any(|(k, _)| *k == key),
+                SPREAD_FIGURES.iter().any(|f| f.0 == key),
                 "`{key}` does not spread"
             );
         }

@@ -20,25 +20,55 @@ pub enum When {
     Held,
 }
 
-/// The figures that spread, in report order. `target_error` is computed
-/// here; the rest are read from the figure table.
-pub const SPREAD_FIGURES: [(&str, When); 15] = [
-    ("dc_gain", When::Always),
-    (TARGET_ERROR, When::Always),
-    ("f_3db_hz", When::Always),
-    ("peaking_db", When::Always),
-    ("phase_margin_deg", When::Always),
-    ("gain_margin_db", When::Always),
-    ("zout_dc_ohm", When::Always),
-    ("zout_at_ohm", When::Given),
-    ("noise_rms", When::Always),
-    ("out_offset_max_v", When::Given),
-    ("headroom_low_v", When::Given),
-    ("headroom_high_v", When::Given),
-    ("settle_01pct_s", When::Held),
-    ("settle_to_s", When::Held),
-    ("kick_error_lsb", When::Held),
+/// Which way a spread figure gets worse: over a temperature range each
+/// trial shows its worst of the temperatures.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Worse {
+    Lower,
+    Higher,
+    /// Larger in magnitude (an error around 0).
+    Larger,
+    /// Further from the nominal stage's value.
+    Away,
+}
+
+/// The figures that spread, in report order, and which way each gets
+/// worse. `target_error` is computed here; the rest are read from the
+/// figure table.
+pub const SPREAD_FIGURES: [(&str, When, Worse); 15] = [
+    ("dc_gain", When::Always, Worse::Away),
+    (TARGET_ERROR, When::Always, Worse::Larger),
+    ("f_3db_hz", When::Always, Worse::Lower),
+    ("peaking_db", When::Always, Worse::Higher),
+    ("phase_margin_deg", When::Always, Worse::Lower),
+    ("gain_margin_db", When::Always, Worse::Lower),
+    ("zout_dc_ohm", When::Always, Worse::Higher),
+    ("zout_at_ohm", When::Given, Worse::Higher),
+    ("noise_rms", When::Always, Worse::Higher),
+    ("out_offset_max_v", When::Given, Worse::Higher),
+    ("headroom_low_v", When::Given, Worse::Lower),
+    ("headroom_high_v", When::Given, Worse::Lower),
+    ("settle_01pct_s", When::Held, Worse::Higher),
+    ("settle_to_s", When::Held, Worse::Higher),
+    ("kick_error_lsb", When::Held, Worse::Higher),
 ];
+
+/// The worse of two values of a figure (`nominal`: the nominal stage's
+/// value, for [`Worse::Away`]); an undefined value is the worst.
+pub fn worse_of(key: &str, a: Option<f64>, b: Option<f64>, nominal: Option<f64>) -> Option<f64> {
+    let (a, b) = (a?, b?);
+    let side = SPREAD_FIGURES
+        .iter()
+        .find(|f| f.0 == key)
+        .map_or(Worse::Higher, |f| f.2);
+    let b_worse = match side {
+        Worse::Lower => b < a,
+        Worse::Higher => b > a,
+        Worse::Larger => b.abs() > a.abs(),
+        Worse::Away => nominal.is_some_and(|n| (b - n).abs() > (a - n).abs()),
+    };
+    Some(if b_worse { b } else { a })
+}
 
 /// The spread figures that need the time domain (a step and a kick per
 /// trial) when a limit holds them.

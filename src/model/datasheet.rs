@@ -838,6 +838,7 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         cm_neg,
         cm_pos,
         iout,
+        gbw_tc: None,
         ib_doubling: None,
     };
     // Print in the scenario's field order.

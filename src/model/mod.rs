@@ -9,6 +9,7 @@ pub mod params;
 pub mod part;
 pub mod scenario;
 pub mod stages;
+pub mod temperature;
 pub mod values;
 
 pub use eseries::Series;

@@ -148,6 +148,7 @@ impl Eq for Param {}
 const TOLERANCES: [f64; 9] = [0.0005, 0.001, 0.0025, 0.005, 0.01, 0.02, 0.05, 0.1, 0.2];
 const SPREADS: [f64; 8] = [0.01, 0.02, 0.05, 0.1, 0.2, 0.3, 0.5, 0.9];
 const ERROR_LIMITS: [f64; 8] = [1e-4, 1e-3, 2e-3, 5e-3, 0.01, 0.02, 0.05, 0.1];
+const TEMPCOS: [f64; 8] = [1.0, 2.0, 5.0, 10.0, 25.0, 50.0, 100.0, 200.0];
 const YIELDS: [f64; 7] = [0.5, 0.9, 0.95, 0.99, 0.997, 0.999, 1.0];
 
 /// Accepted ranges (README "Accepted ranges").
@@ -167,6 +168,12 @@ pub const VNOISE: (f64, f64) = (1.0e-12, 1.0e-3);
 pub const INOISE: (f64, f64) = (1.0e-18, 1.0e-6);
 pub const TOLERANCE: (f64, f64) = (1.0e-5, 0.5);
 pub const TEMP_C: (f64, f64) = (-273.15, 500.0);
+/// A resistor temperature coefficient bound, ppm/°C.
+pub const TC_PPM: (f64, f64) = (0.0, 10_000.0);
+/// The relative change of gbw per °C.
+pub const GBW_TC: (f64, f64) = (-0.05, 0.05);
+/// A part's own tolerance (`stage.part_tolerance`): as `stage.tolerance`.
+pub const PART_TOLERANCE: (f64, f64) = TOLERANCE;
 /// Signal limits (README "Accepted ranges"). A range that starts at 0
 /// takes 0 as a plain value; a signed one takes either sign.
 pub const VOS: (f64, f64) = (0.0, 1.0);
@@ -350,7 +357,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 73] = [
+pub static PARAMS: [Param; 77] = [
     entry(
         "stage.topology",
         "topology",
@@ -463,6 +470,19 @@ pub static PARAMS: [Param; 73] = [
         number!(req stage.tolerance),
     )
     .shown(Format::Percent),
+    entry(
+        "stage.tc_ppm",
+        "tempco",
+        "ppm/°C",
+        Stage,
+        List(&TEMPCOS),
+        Optional,
+        TC_PPM,
+        number!(opt stage.tc_ppm),
+    )
+    .starting(|_| 25.0)
+    .qualifies(|s| s.temp_range.is_some())
+    .note("each resistor's coefficient lies within ± this; rf and rg tracking is what counts"),
     entry(
         "amp.a0",
         "a0",
@@ -701,6 +721,19 @@ pub static PARAMS: [Param; 73] = [
         number!(opt amp.iout),
     )
     .starting(|_| 20e-3),
+    entry(
+        "amp.gbw_tc",
+        "gbw tc",
+        "/°C",
+        Amplifier,
+        Linear(0.0005),
+        Optional,
+        GBW_TC,
+        number!(opt amp.gbw_tc),
+    )
+    .starting(|_| -0.002)
+    .qualifies(|s| s.temp_range.is_some())
+    .note("relative change of gbw per °C away from temp (−0.002: −0.2 %/°C)"),
     entry(
         "source.r",
         "source r",
@@ -1014,6 +1047,20 @@ pub static PARAMS: [Param; 73] = [
         number!(req temp_c),
     )
     .shown(Format::Celsius),
+    temp_end(
+        "temp_range.from",
+        "temp low",
+        |s| s.temp_range.map(|r| r.0),
+        |s, v| set_temp_end(s, v, 0),
+    )
+    .starting(|_| -40.0),
+    temp_end(
+        "temp_range.to",
+        "temp high",
+        |s| s.temp_range.map(|r| r.1),
+        |s, v| set_temp_end(s, v, 1),
+    )
+    .starting(|_| 85.0),
     entry(
         "band.from",
         "band from",
@@ -1270,6 +1317,43 @@ pub static PARAMS: [Param; 73] = [
     .shown(Format::Share),
 ];
 
+/// One end of the temperature range.
+const fn temp_end(
+    path: &'static str,
+    label: &'static str,
+    get: fn(&Scenario) -> Option<f64>,
+    set: fn(&mut Scenario, Option<f64>),
+) -> Param {
+    entry(
+        path,
+        label,
+        "°C",
+        Environment,
+        Linear(5.0),
+        Optional,
+        TEMP_C,
+        Access::Number { get, set },
+    )
+    .shown(Format::Celsius)
+}
+
+/// Set one end of the temperature range; a range typed into nothing
+/// starts as −40 to 85 °C (common practice: the industrial range), and
+/// taking either end away takes the range away.
+fn set_temp_end(s: &mut Scenario, v: Option<f64>, end: usize) {
+    match v {
+        Some(x) => {
+            let r = s.temp_range.get_or_insert((-40.0, 85.0));
+            if end == 0 {
+                r.0 = x
+            } else {
+                r.1 = x
+            }
+        }
+        None => s.temp_range = None,
+    }
+}
+
 /// The table entry with this dotted path.
 pub fn param(path: &str) -> Option<ParamRef> {
     PARAMS.iter().find(|p| p.path == path)
@@ -1277,7 +1361,11 @@ pub fn param(path: &str) -> Option<ParamRef> {
 
 /// The field name errors use: `band` for both band ends, as in the file.
 pub fn file_field(path: &str) -> &str {
-    path.strip_prefix("band.").map(|_| "band").unwrap_or(path)
+    match path.split_once('.') {
+        Some(("band", _)) => "band",
+        Some(("temp_range", _)) => "temp_range",
+        _ => path,
+    }
 }
 
 /// Change topology, keeping the values of the parts both kinds have
@@ -1391,6 +1479,7 @@ impl Param {
         };
         match self.format {
             Format::Eng => fmt_eng_sig(v, self.unit, 4).replace(' ', ""),
+            Format::Percent if self.path == "stage.tolerance" => own_tolerances(s, v),
             Format::Percent => format!("±{}", pct(v)),
             Format::Share => pct(v),
             Format::RatioDb => format!(
@@ -1671,6 +1760,9 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     p.extend(reference_checks(s));
     p.extend(threshold_checks(s));
     p.extend(spread_checks(s));
+    p.extend(part_tolerance_checks(s));
+    p.extend(temperature_checks(s));
+
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {
         if hi <= lo {
@@ -1687,6 +1779,72 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
                 ),
             });
         }
+    }
+    p
+}
+
+/// The temperature range in order, and a gbw that stays positive over it.
+fn temperature_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let problem = |field: &str, message: String| {
+        vec![FieldProblem {
+            field: field.into(),
+            message,
+        }]
+    };
+    if let Some((lo, hi)) = s.temp_range.filter(|(lo, hi)| lo >= hi) {
+        return problem(
+            "temp_range",
+            format!("{hi} (highest) must be above the lowest temperature {lo}"),
+        );
+    }
+    let swing = s.temp_range.map_or(0.0, |(lo, hi)| {
+        (lo - s.temp_c).abs().max((hi - s.temp_c).abs())
+    });
+    match s.amp.gbw_tc {
+        Some(k) if k.abs() * swing >= 0.9 => problem(
+            "amp.gbw_tc",
+            format!(
+                "{k} per °C over {} °C from temp would move gbw by {} %; at most 90 % is accepted",
+                fmt_plain(swing, 4),
+                fmt_plain(100.0 * k.abs() * swing, 3)
+            ),
+        ),
+        _ => Vec::new(),
+    }
+}
+
+/// Each per-part tolerance names a part of the stage's kind that spreads
+/// and lies in the accepted range.
+fn part_tolerance_checks(s: &Scenario) -> Vec<FieldProblem> {
+    use crate::model::stages::Tolerance;
+    let kind = s.stage.topology.kind();
+    let names: Vec<&str> = kind
+        .parts
+        .iter()
+        .filter(|p| p.tolerance != Tolerance::None)
+        .map(|p| p.name)
+        .collect();
+    let mut p = Vec::new();
+    for (name, v) in &s.stage.part_tolerance.0 {
+        let field = format!("stage.part_tolerance.{name}");
+        let (lo, hi) = PART_TOLERANCE;
+        let message = if !names.contains(&name.as_str()) {
+            format!(
+                "`{name}` is not a part of {} {} stage: use {}",
+                article(s.stage.topology.name()),
+                s.stage.topology.name(),
+                names.join(", ")
+            )
+        } else if !(lo..=hi).contains(v) {
+            format!(
+                "{v} is outside the accepted range {}% to {}%",
+                fmt_plain(lo * 100.0, 3),
+                fmt_plain(hi * 100.0, 3)
+            )
+        } else {
+            continue;
+        };
+        p.push(FieldProblem { field, message });
     }
     p
 }
@@ -1823,10 +1981,51 @@ pub fn field_list(s: &Scenario) -> Vec<(&'static str, String)> {
                 format!("{} to {}", fmt_compact(s.band.0), fmt_compact(s.band.1)),
             )),
             "band.to" => {}
+            "temp_range.from" => out.push((
+                "temp_range",
+                s.temp_range.map_or("none".into(), |(a, b)| {
+                    format!("{} to {}", fmt_compact(a), fmt_compact(b))
+                }),
+            )),
+            "temp_range.to" => {}
+            "stage.tolerance" => {
+                out.push((p.path, p.value_text(s)));
+                out.push(("stage.part_tolerance", part_tolerance_text(s)));
+            }
             _ => out.push((p.path, p.value_text(s))),
         }
     }
     out
+}
+
+/// The stage tolerance with the parts' own after it: "±1% (rf ±0.1%)".
+fn own_tolerances(s: &Scenario, v: f64) -> String {
+    if s.stage.part_tolerance.is_empty() {
+        return format!("±{}", pct(v));
+    }
+    let own: Vec<String> = s
+        .stage
+        .part_tolerance
+        .0
+        .iter()
+        .map(|(n, t)| format!("{n} ±{}", pct(*t)))
+        .collect();
+    format!("±{} ({})", pct(v), own.join(", "))
+}
+
+/// The per-part tolerances as text ("rf 0.1%, rg 0.1%"; "none").
+pub fn part_tolerance_text(s: &Scenario) -> String {
+    if s.stage.part_tolerance.is_empty() {
+        return "none".into();
+    }
+    let parts: Vec<String> = s
+        .stage
+        .part_tolerance
+        .0
+        .iter()
+        .map(|(n, v)| format!("{n} {}%", fmt_compact(v * 100.0)))
+        .collect();
+    parts.join(", ")
 }
 
 /// A sum of steps without the binary fraction's tail (1.5 + 0.1 = 1.6).

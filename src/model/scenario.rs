@@ -107,6 +107,106 @@ pub struct Stage {
     pub series: Series,
     #[serde(deserialize_with = "number")]
     pub tolerance: f64,
+    /// Tolerances of named parts (the kind's part names), overriding
+    /// `tolerance` (resistors) or `spread.cap_tol` (capacitors):
+    /// `part_tolerance: (rf: 0.001)`.
+    #[serde(
+        default,
+        skip_serializing_if = "PartTolerances::is_empty",
+        deserialize_with = "part_tolerances"
+    )]
+    pub part_tolerance: PartTolerances,
+    /// The resistors' temperature coefficient bound (±ppm/°C): each
+    /// resistor's own coefficient lies within it.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub tc_ppm: Option<f64>,
+}
+
+/// Per-part tolerances by part name, in the order written.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct PartTolerances(pub Vec<(String, f64)>);
+
+impl PartTolerances {
+    pub fn is_empty(&self) -> bool {
+        self.0.is_empty()
+    }
+
+    /// The tolerance given for a part.
+    pub fn get(&self, name: &str) -> Option<f64> {
+        self.0.iter().find(|(n, _)| n == name).map(|(_, v)| *v)
+    }
+
+    /// Give a part its tolerance (None: take the override away).
+    pub fn set(&mut self, name: &str, v: Option<f64>) {
+        match (self.0.iter().position(|(n, _)| n == name), v) {
+            (Some(i), Some(v)) => self.0[i].1 = v,
+            (Some(i), None) => {
+                self.0.remove(i);
+            }
+            (None, Some(v)) => self.0.push((name.to_string(), v)),
+            (None, None) => {}
+        }
+    }
+}
+
+/// Written as a block of named numbers, `(rf: 0.001, rg: 0.001)`, like
+/// every other block of the file. The names are interned once each (a
+/// field name must outlive the serializer), so saving many times does
+/// not grow memory.
+impl Serialize for PartTolerances {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeStruct;
+        let mut st = s.serialize_struct("PartTolerances", self.0.len())?;
+        for (name, v) in &self.0 {
+            st.serialize_field(interned(name), v)?;
+        }
+        st.end()
+    }
+}
+
+/// One `'static` copy of each name ever saved.
+fn interned(name: &str) -> &'static str {
+    use std::sync::{Mutex, OnceLock};
+    static NAMES: OnceLock<Mutex<Vec<&'static str>>> = OnceLock::new();
+    let mut names = NAMES
+        .get_or_init(Default::default)
+        .lock()
+        .unwrap_or_else(|e| e.into_inner());
+    if let Some(n) = names.iter().find(|n| **n == name) {
+        return n;
+    }
+    let n: &'static str = Box::leak(name.to_string().into_boxed_str());
+    names.push(n);
+    n
+}
+
+fn part_tolerances<'de, D: Deserializer<'de>>(d: D) -> Result<PartTolerances, D::Error> {
+    struct Named;
+    impl<'de> serde::de::Visitor<'de> for Named {
+        type Value = PartTolerances;
+        fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+            f.write_str("part names with tolerances, as (rf: 0.001)")
+        }
+        fn visit_map<M: serde::de::MapAccess<'de>>(
+            self,
+            mut m: M,
+        ) -> Result<PartTolerances, M::Error> {
+            let mut out = PartTolerances::default();
+            while let Some((name, v)) = m.next_entry::<String, Written>()? {
+                if out.get(&name).is_some() {
+                    return Err(serde::de::Error::custom(format!("`{name}` is given twice")));
+                }
+                out.0.push((name, v.value()?));
+            }
+            Ok(out)
+        }
+    }
+    d.deserialize_any(Named)
 }
 
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
@@ -254,6 +354,14 @@ pub struct Amp {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub iout: Option<f64>,
+    /// Relative change of gbw per °C away from `temp_c` (absent: none).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub gbw_tc: Option<f64>,
 }
 
 impl Amp {
@@ -703,6 +811,15 @@ pub struct Scenario {
     pub step: Option<Step>,
     #[serde(deserialize_with = "number")]
     pub temp_c: f64,
+    /// The temperatures the stage must work over (°C, low to high); the
+    /// values written are the values at `temp_c`.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number_pair")]
+    pub temp_range: Option<(f64, f64)>,
     #[serde(deserialize_with = "number_pair")]
     pub band: (f64, f64),
     /// How the parts vary from board to board.
@@ -829,6 +946,12 @@ fn count<'de, D: Deserializer<'de>>(d: D) -> Result<u32, D::Error> {
 fn optional_count<'de, D: Deserializer<'de>>(d: D) -> Result<Option<u32>, D::Error> {
     Option::<Written>::deserialize(d)?
         .map(|w| w.value().and_then(whole))
+        .transpose()
+}
+
+fn optional_number_pair<'de, D: Deserializer<'de>>(d: D) -> Result<Option<(f64, f64)>, D::Error> {
+    Option::<(Written, Written)>::deserialize(d)?
+        .map(|(a, b)| Ok((a.value()?, b.value()?)))
         .transpose()
 }
 

@@ -13,5 +13,6 @@ pub mod spread_text;
 pub mod svg;
 pub mod svg_linear;
 pub mod sweep_table;
+pub mod tighten_text;
 pub mod traces;
 pub mod views;

@@ -34,19 +34,21 @@ fn write_parts(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
     writeln!(w)?;
     writeln!(w, "| part | value | series | tolerance |")?;
     writeln!(w, "| --- | --- | --- | --- |")?;
-    let tolerance = PARAMS
-        .iter()
-        .find(|p| p.path == "stage.tolerance")
-        .map(|p| p.display(s))
-        .unwrap_or_default();
+    // Each of the kind's parts with its own tolerance where it has one.
+    let kind = s.stage.topology.kind();
+    let tolerance = |path: &str| {
+        kind.part(path)
+            .and_then(|d| crate::study::spread::part_tolerance(s, d.name, d.tolerance))
+            .map_or(String::new(), |t| format!("±{}%", fmt_plain(100.0 * t, 3)))
+    };
     for p in PARAMS.iter().filter(|p| p.applies(s) && p.given(s)) {
         let value = p.display(s);
         if value == "none" {
             continue;
         }
         let (series, tol) = match p.series_note(s) {
-            Some((name, true)) => (name, tolerance.clone()),
-            Some((name, false)) => (format!("off {name}"), tolerance.clone()),
+            Some((name, true)) => (name, tolerance(p.path)),
+            Some((name, false)) => (format!("off {name}"), tolerance(p.path)),
             None => (String::new(), String::new()),
         };
         writeln!(
@@ -110,7 +112,14 @@ fn write_spec(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
         let nominal = format!(
             "{}{}",
             num(l.nominal),
-            if l.nominal_pass { "" } else { " (fails)" }
+            if l.nominal_pass {
+                String::new()
+            } else {
+                format!(
+                    " (fails{})",
+                    crate::output::spread_text::at_temp(l.nominal_at)
+                )
+            }
         );
         writeln!(
             w,
@@ -125,16 +134,35 @@ fn write_spec(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
     }
     writeln!(w)?;
     let verdict = if r.passes() { "meets" } else { "does not meet" };
-    match r.yield_frac {
-        Some(y) => writeln!(
+    if let Some(y) = r.yield_frac {
+        writeln!(
             w,
             "Yield {} % over {} trials (the spec asks {} %): the stage {verdict} its spec.",
             fmt_plain(100.0 * y, 4),
             r.trials,
             fmt_plain(100.0 * r.yield_min, 4)
-        ),
-        None => Ok(()),
+        )?;
     }
+    write_movers(&r, w)
+}
+
+/// What moves each figure: the parts' shares of its variance.
+fn write_movers(r: &crate::study::spread::SpreadResult, w: &mut impl Write) -> io::Result<()> {
+    use crate::study::spread::unit_and_label;
+    if r.figures.iter().all(|f| f.contributions.is_empty()) {
+        return Ok(());
+    }
+    writeln!(w)?;
+    writeln!(
+        w,
+        "What moves each figure (each part's share of its variance, first order):"
+    )?;
+    writeln!(w)?;
+    for f in r.figures.iter().filter(|f| !f.contributions.is_empty()) {
+        let list = crate::output::spread_text::share_list(&f.contributions, 4);
+        writeln!(w, "- {}: {}", unit_and_label(f.key).1, cell(&list))?;
+    }
+    Ok(())
 }
 
 fn write_warnings(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {

@@ -3,11 +3,13 @@
 
 use crate::engine::analysis::{Analysis, Circuit};
 use crate::judge::figures::{delta, figure, key_figures, Section, FIGURES};
+use crate::judge::spread_figures::unit_and_label;
 use crate::judge::{Evaluation, Warning};
 use crate::model::params::{Group, PARAMS};
 use crate::model::scenario::Scenario;
 use crate::model::values::{fmt_eng, fmt_fixed, fmt_plain, printable};
 use crate::num::refine::phase_deg;
+use crate::study::over_temperature::{over_temperature, OverTemperature};
 use serde::Serialize;
 use std::io::{self, Write};
 
@@ -56,6 +58,8 @@ pub struct Report {
     pub noise_sources: Vec<NoiseReport>,
     pub points: Vec<PointReport>,
     pub warnings: Vec<Warning>,
+    /// The figures at the temperature range's ends (with `temp_range`).
+    pub over_temperature: Option<OverTemperature>,
 }
 
 impl Serialize for Report {
@@ -74,6 +78,17 @@ impl Serialize for Report {
         m.serialize_entry("noise_sources", &self.noise_sources)?;
         m.serialize_entry("points", &self.points)?;
         m.serialize_entry("warnings", &self.warnings)?;
+        if let Some(o) = &self.over_temperature {
+            let rows: serde_json::Map<String, serde_json::Value> = o
+                .rows
+                .iter()
+                .map(|r| (r.key.to_string(), serde_json::json!(r.values)))
+                .collect();
+            m.serialize_entry(
+                "over_temperature",
+                &serde_json::json!({"temperatures_c": o.temperatures, "figures": rows}),
+            )?;
+        }
         m.end()
     }
 }
@@ -160,6 +175,7 @@ impl Report {
                 .map(|&f| point_report(&circuit, &e.analysis, f))
                 .collect(),
             warnings: e.warnings.clone(),
+            over_temperature: over_temperature(s),
         }
     }
 
@@ -271,6 +287,40 @@ fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
     Ok(())
 }
 
+/// The "Over temperature" section: each figure at the range's ends and
+/// at temp_c.
+fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result<()> {
+    writeln!(w)?;
+    writeln!(
+        w,
+        "Over temperature (resistor coefficients at the signs that move each figure most)"
+    )?;
+    let head: Vec<String> = std::iter::once("figure".to_string())
+        .chain(
+            o.temperatures
+                .iter()
+                .map(|t| format!("{} °C", crate::model::values::fmt_plain(*t, 4))),
+        )
+        .collect();
+    let rows: Vec<Vec<String>> =
+        o.rows
+            .iter()
+            .map(|r| {
+                let (unit, label) = unit_and_label(r.key);
+                std::iter::once(label.to_string())
+                    .chain(r.values.iter().map(|v| {
+                        v.map_or("—".into(), |v| unit.number(v, false).replace(' ', ""))
+                    }))
+                    .collect()
+            })
+            .collect();
+    let head: Vec<&str> = head.iter().map(String::as_str).collect();
+    for line in crate::output::helper_tables::aligned(&head, &rows, true) {
+        writeln!(w, "  {line}")?;
+    }
+    Ok(())
+}
+
 /// The table of figures at the `--at` frequencies.
 fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     if points.is_empty() {
@@ -341,6 +391,9 @@ pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) 
             )?;
             write_noise_shares(e, w)?;
         }
+    }
+    if let Some(o) = &r.over_temperature {
+        write_over_temperature(o, w)?;
     }
     write_points(&r.points, w)?;
     write_warnings(&e.warnings, w)

@@ -41,6 +41,11 @@ pub fn spread_json(r: &SpreadResult) -> Value {
                 "corner_max_at": corner_json(&f.corner_max_at),
                 "undefined": f.undefined,
                 "histogram": f.histogram.to_vec(),
+                "contributions": f.contributions.iter().map(|c| json!({
+                    "part": c.part,
+                    "share": c.share,
+                    "sensitivity": c.sensitivity,
+                })).collect::<Vec<_>>(),
             })
         })
         .collect();
@@ -51,6 +56,10 @@ pub fn spread_json(r: &SpreadResult) -> Value {
         "figures": figures,
         "yield": or_null(r.yield_frac),
     });
+    // Only over a temperature range: where each trial was judged.
+    if r.temperatures.len() > 1 {
+        v["temperatures_c"] = json!(r.temperatures);
+    }
     // Only when the corners leave parts out (more than 2^10 corners).
     if r.corner_knobs.len() < r.knobs.len() {
         v["corner_parts"] = json!(r
@@ -100,8 +109,18 @@ pub fn write_spread(r: &SpreadResult, title: &str, out: &mut impl Write) -> Resu
             fmt_compact(k.hi)
         )?;
     }
+    if let [lo, t, hi] = r.temperatures[..] {
+        writeln!(
+            out,
+            "Each trial at {} °C, {} °C and {} °C: the figures are each trial's worst of the three",
+            fmt_plain(lo, 4),
+            fmt_plain(t, 4),
+            fmt_plain(hi, 4)
+        )?;
+    }
     writeln!(out)?;
     write_figure_table(r, out)?;
+    write_shares(r, out)?;
     if !r.limits.is_empty() || r.yield_frac.is_some() {
         writeln!(out)?;
         write_limits(r, out)?;
@@ -154,6 +173,51 @@ fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
         )?;
     }
     Ok(())
+}
+
+/// The parts' shares of each figure's variance, a line per figure.
+fn write_shares(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
+    if r.figures.iter().all(|f| f.contributions.is_empty()) {
+        return Ok(());
+    }
+    writeln!(out)?;
+    writeln!(
+        out,
+        "What moves each figure (each part's share of the variance, first order):"
+    )?;
+    let width = r
+        .figures
+        .iter()
+        .map(|f| unit_and_label(f.key).1.chars().count())
+        .max()
+        .unwrap_or(0);
+    for f in r.figures.iter().filter(|f| !f.contributions.is_empty()) {
+        let label = unit_and_label(f.key).1;
+        let pad = " ".repeat(width - label.chars().count());
+        writeln!(out, "  {label}{pad}  {}", share_list(&f.contributions, 4))?;
+    }
+    Ok(())
+}
+
+/// The first `most` shares of a figure as text ("rf 50 %, rg 50 %"),
+/// leaving out parts below 0.5 %.
+pub fn share_list(c: &[crate::study::spread::Contribution], most: usize) -> String {
+    let items: Vec<String> = c
+        .iter()
+        .filter(|c| c.share >= 0.005)
+        .take(most)
+        .map(|c| format!("{} {} %", c.part, fmt_plain(100.0 * c.share, 2)))
+        .collect();
+    if items.is_empty() {
+        "—".into()
+    } else {
+        items.join(", ")
+    }
+}
+
+/// " at 85 °C" over a temperature range, else nothing.
+pub fn at_temp(t: Option<f64>) -> String {
+    t.map_or(String::new(), |t| format!(" at {} °C", fmt_plain(t, 4)))
 }
 
 /// Rows of cells (the first the header): the first column left, the
@@ -214,7 +278,13 @@ pub fn failures(r: &SpreadResult) -> String {
         .limits
         .iter()
         .filter(|l| !l.nominal_pass)
-        .map(|l| l.limit.failure(l.nominal, l.value))
+        .map(|l| {
+            format!(
+                "{}{}",
+                l.limit.failure(l.nominal, l.value),
+                at_temp(l.nominal_at)
+            )
+        })
         .collect();
     if let Some(y) = r.yield_frac.filter(|y| *y < r.yield_min) {
         // The limit that fails the most trials.
@@ -225,8 +295,14 @@ pub fn failures(r: &SpreadResult) -> String {
             .max_by_key(|l| l.failed);
         let by = most.map_or(String::new(), |l| {
             format!(
-                " ({} fails {} of {} trials)",
-                l.limit.field, l.failed, r.trials
+                " ({} fails {} of {} trials{})",
+                l.limit.field,
+                l.failed,
+                r.trials,
+                l.worst_at.map_or(String::new(), |t| format!(
+                    ", the worst{}",
+                    at_temp(Some(t))
+                ))
             )
         });
         why.push(format!(
@@ -247,14 +323,20 @@ pub fn check_json(file: &Path, r: Option<&SpreadResult>) -> Value {
         .limits
         .iter()
         .map(|l| {
-            json!({
+            let mut v = json!({
                 "field": l.limit.field,
                 "limit": l.value,
                 "nominal": or_null(l.nominal),
                 "worst": or_null(l.worst),
                 "failed": l.failed,
                 "pass": l.nominal_pass,
-            })
+            });
+            // Over a temperature range: where each was found.
+            if let (Some(n), Some(w)) = (l.nominal_at, l.worst_at) {
+                v["nominal_at_c"] = json!(n);
+                v["worst_at_c"] = json!(w);
+            }
+            v
         })
         .collect();
     json!({

@@ -11,11 +11,13 @@
 use crate::engine::analysis::{analyze_to, Depth, FULL, TRIAL};
 use crate::judge::spec::{self, Limit};
 pub use crate::judge::spread_figures::unit_and_label;
-use crate::judge::spread_figures::{read, target, When, SPREAD_FIGURES};
+use crate::judge::spread_figures::{read, target, worse_of, When, SPREAD_FIGURES};
 use crate::judge::Evaluation;
 use crate::model::params::param;
 use crate::model::scenario::{Dist, Scenario};
 use crate::model::stages::Tolerance;
+use crate::model::temperature::{at_temperature, drifting_resistors, temperatures};
+pub use crate::study::shares::{Contribution, Knob};
 use rand::{Rng, SeedableRng};
 use rand_distr::StandardNormal;
 use rand_pcg::Pcg64;
@@ -35,14 +37,6 @@ pub const P_HIGH: f64 = 0.99865;
 /// corners. Beyond it the corners take the parts with the largest
 /// first-order effect on the gain ([`corner_knobs`]), the rest nominal.
 pub const MAX_CORNER_KNOBS: usize = 10;
-
-/// One varied part: a parameter-table field between two values.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Knob {
-    pub field: &'static str,
-    pub lo: f64,
-    pub hi: f64,
-}
 
 /// A figure's spread.
 #[derive(Debug, Clone, PartialEq)]
@@ -65,6 +59,9 @@ pub struct FigureSpread {
     /// Trials where the figure is undefined (or the loop unstable).
     pub undefined: usize,
     pub histogram: [usize; BINS],
+    /// Each varied part's first-order share of the variance, largest
+    /// first (empty where the figure does not move or is undefined).
+    pub contributions: Vec<Contribution>,
 }
 
 impl FigureSpread {
@@ -96,6 +93,10 @@ pub struct LimitCheck {
     pub nominal_pass: bool,
     /// Trials that fail this limit.
     pub failed: usize,
+    /// Over a temperature range: where the nominal stage is furthest from
+    /// passing, and where the worst trial is (None without a range).
+    pub nominal_at: Option<f64>,
+    pub worst_at: Option<f64>,
 }
 
 /// Everything a spread run gives.
@@ -113,6 +114,8 @@ pub struct SpreadResult {
     /// Fraction of trials meeting every limit; None without a spec.
     pub yield_frac: Option<f64>,
     pub yield_min: f64,
+    /// The temperatures each trial is judged at (one without a range).
+    pub temperatures: Vec<f64>,
 }
 
 impl SpreadResult {
@@ -130,42 +133,59 @@ impl SpreadResult {
 
 /// The parts that vary, with their extremes: the kind's resistors and the
 /// reference input's r within the stage tolerance, then its capacitors and
-/// the reference's c with the capacitor tolerance, gbw, a0 and ro as the
-/// spread block gives (the reference's level does not spread).
+/// the reference's c with the capacitor tolerance (each part of the kind
+/// within its own `stage.part_tolerance` where given), gbw, a0 and ro as
+/// the spread block gives (the reference's level does not spread).
 pub fn knobs(s: &Scenario) -> Vec<Knob> {
     let b = s.spread.clone().unwrap_or_default();
-    let t = s.stage.tolerance;
-    let spread = |field: &'static str, tol: Option<f64>| {
+    let spread = |name: &'static str, field: &'static str, tol: Option<f64>| {
         let p = param(field)?;
         let v = p.get(s).filter(|v| *v != 0.0 && p.applies(s))?;
         let tol = tol.filter(|t| *t > 0.0)?;
         Some(Knob {
+            name,
             field,
             lo: v * (1.0 - tol),
             hi: v * (1.0 + tol),
         })
     };
     let a0 = b.a0_min.filter(|lo| *lo < s.amp.a0).map(|lo| Knob {
+        name: "a0",
         field: "amp.a0",
         lo,
         hi: s.amp.a0,
     });
     let parts = s.stage.topology.kind().parts;
-    let of = |tolerance: Tolerance, tol: Option<f64>| {
+    let of = |tolerance: Tolerance| {
         parts
             .iter()
             .filter(move |p| p.tolerance == tolerance)
-            .map(move |p| spread(p.param, tol))
+            .map(move |p| spread(p.name, p.param, part_tolerance(s, p.name, tolerance)))
     };
     // The reference input's r (a divider of the stage's resistors) spreads
     // with their tolerance, its bypass capacitor with the capacitors'.
-    of(Tolerance::Resistor, Some(t))
-        .chain([spread("reference.r", Some(t))])
-        .chain(of(Tolerance::Capacitor, b.cap_tol))
-        .chain([spread("reference.c", b.cap_tol)])
-        .chain([spread("amp.gbw", b.gbw_tol), a0, spread("amp.ro", b.ro_tol)])
+    of(Tolerance::Resistor)
+        .chain([spread("reference_r", "reference.r", Some(s.stage.tolerance))])
+        .chain(of(Tolerance::Capacitor))
+        .chain([spread("reference_c", "reference.c", b.cap_tol)])
+        .chain([
+            spread("gbw", "amp.gbw", b.gbw_tol),
+            a0,
+            spread("ro", "amp.ro", b.ro_tol),
+        ])
         .flatten()
         .collect()
+}
+
+/// The tolerance a part spreads with: its own where `stage.part_tolerance`
+/// names it, else its class's (`stage.tolerance`, `spread.cap_tol`).
+pub fn part_tolerance(s: &Scenario, name: &str, class: Tolerance) -> Option<f64> {
+    let own = s.stage.part_tolerance.get(name);
+    match class {
+        Tolerance::Resistor => own.or(Some(s.stage.tolerance)),
+        Tolerance::Capacitor => own.or(s.spread.as_ref().and_then(|b| b.cap_tol)),
+        Tolerance::None => None,
+    }
 }
 
 /// The knobs the corners combine: every one while there are at most
@@ -215,7 +235,21 @@ pub fn mix(mut z: u64) -> u64 {
 
 /// Trial `index`'s draws in [−1, 1], one per knob.
 pub fn draws(seed: u64, index: u64, dist: Dist, n: usize) -> Vec<f64> {
+    trial_draws(seed, index, dist, n, 0).0
+}
+
+/// Trial `index`'s draws: one per knob in [−1, 1] as `dist` says, then
+/// `tc` more, uniform in [−1, 1], for the resistors' temperature
+/// coefficients (drawn after the knobs, so the knobs' draws are the same
+/// with a temperature range as without).
+pub fn trial_draws(seed: u64, index: u64, dist: Dist, n: usize, tc: usize) -> (Vec<f64>, Vec<f64>) {
     let mut rng = Pcg64::seed_from_u64(mix(seed ^ mix(index)));
+    let knobs = knob_draws(&mut rng, dist, n);
+    let tcs = (0..tc).map(|_| rng.random_range(-1.0..=1.0)).collect();
+    (knobs, tcs)
+}
+
+fn knob_draws(rng: &mut Pcg64, dist: Dist, n: usize) -> Vec<f64> {
     (0..n)
         .map(|_| match dist {
             Dist::Uniform => rng.random_range(-1.0..=1.0),
@@ -235,7 +269,16 @@ struct Plan {
     /// The gain target_error is measured against.
     target: f64,
     depth: Depth,
+    /// The temperatures each stage is judged at.
+    temps: Vec<f64>,
+    /// How many resistors drift, and their coefficient bound (ppm/°C);
+    /// none are drawn without a temperature range.
+    drifting: usize,
+    tc_ppm: f64,
 }
+
+/// One stage's figures at each of the plan's temperatures.
+type Rows = Vec<Vec<Option<f64>>>;
 
 impl Plan {
     fn new(s: &Scenario, nominal: &Evaluation) -> Plan {
@@ -243,12 +286,12 @@ impl Plan {
         let held = |key: &str| limits.iter().any(|(l, _)| l.figures.contains(&key));
         let keys = SPREAD_FIGURES
             .iter()
-            .filter(|(key, when)| match when {
+            .filter(|(key, when, _)| match when {
                 When::Always => true,
                 When::Given => held(key) || read(nominal, key, 1.0).is_some(),
                 When::Held => held(key),
             })
-            .map(|(key, _)| *key)
+            .map(|(key, _, _)| *key)
             .collect();
         let target = target(s, nominal);
         let depth = Depth {
@@ -257,10 +300,52 @@ impl Plan {
                 .any(|k| held(k)),
             ..TRIAL
         };
+        let temps = temperatures(s);
+        let tc_ppm = s.stage.tc_ppm.filter(|_| temps.len() > 1).unwrap_or(0.0);
+        let drifting = if tc_ppm > 0.0 {
+            drifting_resistors(s).len()
+        } else {
+            0
+        };
         Plan {
             keys,
             target,
             depth,
+            temps,
+            drifting,
+            tc_ppm,
+        }
+    }
+
+    /// One stage's spread figures at each temperature, the drifting
+    /// resistors with coefficients `tc` (ppm/°C).
+    fn rows(&self, s: &Scenario, tc: &[f64]) -> Rows {
+        if self.temps.len() == 1 {
+            return vec![self.values(s)];
+        }
+        self.temps
+            .iter()
+            .map(|t| self.values(&at_temperature(s, *t, tc)))
+            .collect()
+    }
+
+    /// Figure by figure, the worst of the temperatures' values.
+    fn worst(&self, rows: &Rows, nominal: &[Option<f64>]) -> Vec<Option<f64>> {
+        (0..self.keys.len())
+            .map(|j| {
+                rows.iter().skip(1).fold(rows[0][j], |w, r| {
+                    worse_of(self.keys[j], w, r[j], nominal[j])
+                })
+            })
+            .collect()
+    }
+
+    /// The index of `temp_c` among the temperatures.
+    fn at_nominal(&self) -> usize {
+        if self.temps.len() == 1 {
+            0
+        } else {
+            1
         }
     }
 
@@ -333,6 +418,7 @@ fn statistics(key: &'static str, nominal: Option<f64>, column: &[Option<f64>]) -
             (Some(lo), Some(hi)) => histogram(&v, lo, hi),
             _ => [0; BINS],
         },
+        contributions: Vec::new(),
     }
 }
 
@@ -345,14 +431,24 @@ fn corner(knobs: &[Knob], c: usize) -> Vec<(&'static str, f64)> {
         .collect()
 }
 
-/// Every corner's figures, then each figure's lowest and highest corner.
-fn corners(s: &Scenario, plan: &Plan, knobs: &[Knob], figures: &mut [FigureSpread]) {
+/// Every corner's figures (the worst of the temperatures, the resistors'
+/// coefficients at 0), then each figure's lowest and highest corner.
+fn corners(
+    s: &Scenario,
+    plan: &Plan,
+    knobs: &[Knob],
+    nominal: &[Option<f64>],
+    figures: &mut [FigureSpread],
+) {
     let n = 1usize << knobs.len();
     let rows: Vec<Vec<Option<f64>>> = (0..n)
         .into_par_iter()
         .map(|c| {
             let at = corner(knobs, c);
-            plan.values(&with_values(s, knobs, |i, _| at[i].1))
+            plan.worst(
+                &plan.rows(&with_values(s, knobs, |i, _| at[i].1), &[]),
+                nominal,
+            )
         })
         .collect();
     for (j, f) in figures.iter_mut().enumerate() {
@@ -446,21 +542,38 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
         .iter()
         .map(|k| read(&nominal, k, plan.target))
         .collect();
+    // The nominal stage at each temperature: temp_c's row is the full
+    // analysis itself.
+    let mut nominal_rows = plan.rows(s, &[]);
+    nominal_rows[plan.at_nominal()] = nominal_values.clone();
+    let worst: Vec<Vec<Option<f64>>> = rows
+        .iter()
+        .map(|r| plan.worst(r, &nominal_values))
+        .collect();
+    let shares = crate::study::shares::contributions(
+        s,
+        &|t: &Scenario| plan.values(t),
+        plan.keys.len(),
+        &knobs,
+        b.dist,
+    );
     let mut figures: Vec<FigureSpread> = plan
         .keys
         .iter()
         .enumerate()
         .map(|(j, k)| {
-            let column: Vec<Option<f64>> = rows.iter().map(|r| r[j]).collect();
-            statistics(k, nominal_values[j], &column)
+            let column: Vec<Option<f64>> = worst.iter().map(|r| r[j]).collect();
+            let mut f = statistics(k, nominal_values[j], &column);
+            f.contributions = shares[j].clone();
+            f
         })
         .collect();
     let corner_knobs = corner_knobs(s, &knobs, MAX_CORNER_KNOBS);
     if !run.cancelled() {
         let chosen: Vec<Knob> = corner_knobs.iter().map(|&i| knobs[i].clone()).collect();
-        corners(s, &plan, &chosen, &mut figures);
+        corners(s, &plan, &chosen, &nominal_values, &mut figures);
     }
-    let (limits, yield_frac) = check_limits(s, &plan, &nominal_values, &rows);
+    let (limits, yield_frac) = check_limits(s, &plan, &nominal_rows, &rows);
     SpreadResult {
         trials,
         seed,
@@ -471,6 +584,7 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
         limits,
         yield_frac,
         yield_min: spec::yield_min(s),
+        temperatures: plan.temps.clone(),
     }
 }
 
@@ -479,32 +593,34 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
 /// holds no rows past it.
 const BLOCK: usize = 4096;
 
-/// Every trial's figures in trial order; after a cancel, the rows so far.
+/// Every trial's figures at each temperature, in trial order; after a
+/// cancel, the rows so far.
 fn trial_rows(
     s: &Scenario,
     plan: &Plan,
     knobs: &[Knob],
     (seed, dist, trials): (u64, Dist, usize),
     run: &Run,
-) -> Vec<Vec<Option<f64>>> {
+) -> Vec<Rows> {
     let done = std::sync::atomic::AtomicUsize::new(0);
-    let mut rows: Vec<Vec<Option<f64>>> = Vec::new();
+    let mut rows: Vec<Rows> = Vec::new();
     for start in (0..trials).step_by(BLOCK) {
         if run.cancelled() {
             break;
         }
         let end = (start + BLOCK).min(trials);
-        let block: Vec<Vec<Option<f64>>> = (start as u64..end as u64)
+        let block: Vec<Rows> = (start as u64..end as u64)
             .into_par_iter()
             .map(|i| {
                 if run.cancelled() {
                     return Vec::new();
                 }
-                let u = draws(seed, i, dist, knobs.len());
+                let (u, tc) = trial_draws(seed, i, dist, knobs.len(), plan.drifting);
                 let t = with_values(s, knobs, |j, k| {
                     0.5 * (k.lo + k.hi) + 0.5 * (k.hi - k.lo) * u[j]
                 });
-                let row = plan.values(&t);
+                let tc: Vec<f64> = tc.iter().map(|x| x * plan.tc_ppm).collect();
+                let row = plan.rows(&t, &tc);
                 if let Some(p) = run.progress {
                     p(done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1);
                 }
@@ -520,38 +636,61 @@ fn trial_rows(
     rows
 }
 
-/// Each given limit on the nominal stage and the trials; the yield.
+/// A limit's held value over the temperatures: the one furthest from
+/// passing, and its temperature (None when undefined at one).
+fn held_over(l: &Limit, plan: &Plan, rows: &Rows) -> (Option<f64>, Option<f64>, bool) {
+    let col = |key: &str| plan.keys.iter().position(|k| *k == key);
+    let mut worst: Option<(f64, f64)> = None;
+    let mut undefined = false;
+    for (r, t) in rows.iter().zip(&plan.temps) {
+        let v = l.held(|k| col(k).and_then(|j| r[j]));
+        undefined |= v.is_none();
+        let w = l.worse(worst.map(|w| w.0), v);
+        if w != worst.map(|w| w.0) || worst.is_none() {
+            worst = w.map(|w| (w, *t));
+        }
+    }
+    (worst.map(|w| w.0), worst.map(|w| w.1), undefined)
+}
+
+/// Each given limit on the nominal stage and the trials; the yield. Over
+/// a temperature range a trial passes only if it passes at every
+/// temperature.
 fn check_limits(
     s: &Scenario,
     plan: &Plan,
-    nominal: &[Option<f64>],
-    rows: &[Vec<Option<f64>>],
+    nominal: &Rows,
+    rows: &[Rows],
 ) -> (Vec<LimitCheck>, Option<f64>) {
-    let col = |key: &str| plan.keys.iter().position(|k| *k == key);
-    let held = |l: &Limit, row: &[Option<f64>]| l.held(|k| col(k).and_then(|j| row[j]));
+    let ranged = plan.temps.len() > 1;
     let given = spec::given(s);
     let mut passing = vec![true; rows.len()];
     let limits = given
         .iter()
         .map(|&(l, value)| {
-            let (mut worst, mut undefined, mut failed) = (None, false, 0);
+            let (mut worst, mut worst_at, mut undefined, mut failed) = (None, None, false, 0);
             for (i, r) in rows.iter().enumerate() {
-                let v = held(l, r);
-                undefined |= v.is_none();
-                worst = l.worse(worst, v);
-                if !l.passes(v, value) {
+                let (v, at, undef) = held_over(l, plan, r);
+                undefined |= undef;
+                let w = l.worse(worst, v);
+                if w != worst {
+                    (worst, worst_at) = (w, at);
+                }
+                if undef || !l.passes(v, value) {
                     failed += 1;
                     passing[i] = false;
                 }
             }
-            let nominal = held(l, nominal);
+            let (nominal, nominal_at, nominal_undef) = held_over(l, plan, nominal);
             LimitCheck {
                 limit: l,
                 value,
-                nominal,
+                nominal: nominal.filter(|_| !nominal_undef),
                 worst: worst.filter(|_| !undefined),
-                nominal_pass: l.passes(nominal, value),
+                nominal_pass: !nominal_undef && l.passes(nominal, value),
                 failed,
+                nominal_at: nominal_at.filter(|_| ranged),
+                worst_at: worst_at.filter(|_| ranged),
             }
         })
         .collect();

@@ -674,6 +674,7 @@ impl App {
             Action::FromFigures => self.start_figures(),
             Action::ResistorPairs => self.start_pairs(),
             Action::StabilizeOptions => self.list_fixes(),
+            Action::TightenOptions => self.list_tightening(),
             Action::CopyToOther => self.copy_to_other(true),
             Action::SwitchSlot => self.switch_slot(),
             Action::Undo => self.undo(),

@@ -31,6 +31,7 @@ pub enum Action {
     FromFigures,
     ResistorPairs,
     StabilizeOptions,
+    TightenOptions,
     CopyToOther,
     SwitchSlot,
     Undo,
@@ -230,18 +231,25 @@ pub const KEYS: &[Binding] = &[
         help: "",
         hint: None,
     },
-    // The two design helpers share one help row (the help fits 80×24).
+    // The three design helpers share one help row (the help fits 80×24).
     Binding {
         keys: &[k('r')],
-        shown: "r, m",
+        shown: "r, m, T",
         action: Action::ResistorPairs,
-        help: "r: rg, rf for a typed gain · m: riso or cf for 60° margin",
+        help: "r: rg, rf for a gain · m: riso, cf for 60° · T: tolerances",
         hint: None,
     },
     Binding {
         keys: &[k('m')],
         shown: "",
         action: Action::StabilizeOptions,
+        help: "",
+        hint: None,
+    },
+    Binding {
+        keys: &[k('T')],
+        shown: "",
+        action: Action::TightenOptions,
         help: "",
         hint: None,
     },

@@ -141,7 +141,8 @@ fn marks<'r>(
         .map(|l| (l.limit.edges(l.value), l.limit.sign(), l.failed))
 }
 
-/// One histogram: its name, the bars, the range and the limit.
+/// One histogram: its name, the bars, the range, the limit and, where
+/// the panel is tall enough, the parts that move the figure most.
 fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, buf: &mut Buffer) {
     let (f, label) = shown;
     let area = Rect {
@@ -153,11 +154,13 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
     }
     let (unit, _) = unit_and_label(f.key);
     let cell = |v: f64| unit.cell(v, false);
-    let [name, bars, axis, foot] = Layout::vertical([
+    let [name, bars, axis, foot, movers] = Layout::vertical([
         Constraint::Length(1),
         Constraint::Fill(1),
         Constraint::Length(1),
         Constraint::Length(1),
+        // The movers' line only where the bars keep four rows.
+        Constraint::Length(u16::from(area.height >= 8)),
     ])
     .areas(area);
     let spread = match (f.mean, f.std) {
@@ -176,29 +179,7 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
         return;
     };
     if cell(lo) == cell(hi) {
-        // Every trial gives the same value to the shown digits: one mark
-        // and "no spread", not a full-height bar.
-        let mid = bars.x + bars.width / 2;
-        let mark = if app.theme.ascii { "|" } else { "┃" };
-        buf[(mid, bars.y + bars.height - 1)]
-            .set_symbol(mark)
-            .set_style(app.theme.trace_a);
-        let text = "no spread";
-        let w = text.len() as u16;
-        let at = Rect {
-            x: bars.x + bars.width.saturating_sub(w) / 2,
-            y: bars.y + bars.height.saturating_sub(1) / 2,
-            width: w.min(bars.width),
-            height: 1,
-        };
-        Paragraph::new(Line::styled(text, app.theme.dim)).render(at, buf);
-        let v = cell(lo);
-        let pad = (axis.width as usize).saturating_sub(v.chars().count()) / 2;
-        Paragraph::new(Line::styled(
-            format!("{}{v}", " ".repeat(pad)),
-            app.theme.dim,
-        ))
-        .render(axis, buf);
+        no_spread(app, &cell(lo), bars, axis, buf);
     } else {
         draw_bars(app, &f.histogram, bars, buf);
         let ends = cell(lo).chars().count() + cell(hi).chars().count();
@@ -208,6 +189,56 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
         };
         Paragraph::new(Line::styled(axis_text, app.theme.dim)).render(axis, buf);
     }
+    limit_notes(app, r, f, (lo, hi), (bars, foot), buf);
+    if movers.height > 0 && !f.contributions.is_empty() {
+        let items: Vec<String> = f
+            .contributions
+            .iter()
+            .filter(|c| c.share >= 0.005)
+            .take(3)
+            .map(|c| format!("{} {}%", c.part, fmt_plain(100.0 * c.share, 2)))
+            .collect();
+        Paragraph::new(Line::styled(items.join(" "), app.theme.dim)).render(movers, buf);
+    }
+}
+
+/// Every trial gives the same value to the shown digits: one mark and
+/// "no spread", not a full-height bar.
+fn no_spread(app: &App, value: &str, bars: Rect, axis: Rect, buf: &mut Buffer) {
+    let mid = bars.x + bars.width / 2;
+    let mark = if app.theme.ascii { "|" } else { "┃" };
+    buf[(mid, bars.y + bars.height - 1)]
+        .set_symbol(mark)
+        .set_style(app.theme.trace_a);
+    let text = "no spread";
+    let w = text.len() as u16;
+    let at = Rect {
+        x: bars.x + bars.width.saturating_sub(w) / 2,
+        y: bars.y + bars.height.saturating_sub(1) / 2,
+        width: w.min(bars.width),
+        height: 1,
+    };
+    Paragraph::new(Line::styled(text, app.theme.dim)).render(at, buf);
+    let pad = (axis.width as usize).saturating_sub(value.chars().count()) / 2;
+    Paragraph::new(Line::styled(
+        format!("{}{value}", " ".repeat(pad)),
+        app.theme.dim,
+    ))
+    .render(axis, buf);
+}
+
+/// The limits on the figure: dashed rules on the bars (arrows where off
+/// the chart) and the line under the axis.
+fn limit_notes(
+    app: &App,
+    r: &SpreadResult,
+    f: &FigureSpread,
+    (lo, hi): (f64, f64),
+    (bars, foot): (Rect, Rect),
+    buf: &mut Buffer,
+) {
+    let (unit, _) = unit_and_label(f.key);
+    let cell = |v: f64| unit.cell(v, false);
     let mut notes = Vec::new();
     let span = hi - lo;
     for (values, op, failed) in marks(r, f.key) {

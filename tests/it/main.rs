@@ -45,6 +45,7 @@ mod storage;
 mod strip_and_ascii;
 mod svg_text;
 mod sweep_cli;
+mod tighten;
 mod tmux_e2e;
 mod ui_render;
 mod view_marks;

@@ -81,6 +81,13 @@ prop_compose! {
         if let Some(r) = s.reference.as_mut().filter(|r| r.r == 0.0) {
             r.c = None;
         }
+        // The temperature range in order, and a gbw drift that leaves gbw
+        // positive over it (cross-field rules).
+        if let Some((a, b)) = s.temp_range {
+            s.temp_range = Some(if a < b { (a, b) } else if a < 500.0 { (a, 500.0) } else { (-273.15, a) });
+        }
+        let swing = s.temp_range.map_or(0.0, |(a, b)| (a - s.temp_c).abs().max((b - s.temp_c).abs()));
+        s.amp.gbw_tc = s.amp.gbw_tc.map(|k| if swing > 0.0 { k.clamp(-0.8 / swing, 0.8 / swing) } else { k });
         let lo = at((1e-6, 1e12), band_lo, false);
         let hi = (lo * 10f64.powf(band_decades)).min(1e12);
         s.band = if hi > lo { (lo, hi) } else { (1e12 / 10f64.powf(band_decades), 1e12) };

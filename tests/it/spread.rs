@@ -320,6 +320,8 @@ fn spread_json_keys() {
         "corner_max_at",
         "undefined",
         "histogram",
+        // Issue 29: each part's share of the figure's variance.
+        "contributions",
     ];
     for f in figures {
         let obj = f.as_object().unwrap();

@@ -6,8 +6,10 @@ use super::{App, Mode, Prompt};
 use crate::model::scenario::Topology;
 use crate::model::values::{fmt_eng, fmt_plain, parse_value};
 use crate::output::helper_tables::{self, PAIR_HEADER};
+use crate::output::tighten_text;
 use crate::study::pairs::{self, Query};
 use crate::study::stabilize::{self, Part};
+use crate::study::tighten::{tighten, MAX_PARTS};
 use crate::ui::field::Field;
 use ratatui::crossterm::event::{KeyCode, KeyEvent};
 
@@ -18,6 +20,8 @@ pub enum Pick {
     Pair { rg: f64, rf: f64 },
     /// riso or cf.
     Part(Part, f64),
+    /// Parts' own tolerances (`stage.part_tolerance`), as one change.
+    Tolerances([Option<(&'static str, f64)>; MAX_PARTS]),
 }
 
 /// A design helper's list: aligned rows (a header first), what each row
@@ -152,6 +156,48 @@ impl App {
         self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");
     }
 
+    /// `T`: the tolerance upgrades that reach the spec's yield, as
+    /// `tighten` lists them (the search runs here: a second or so).
+    pub(super) fn list_tightening(&mut self) {
+        let s = &self.slot().scenario;
+        if s.spec.is_none() {
+            return self.error("no spec: give limits and spec.yield_min to tighten towards");
+        }
+        let t = tighten(s, None);
+        let lines = tighten_text::summary(&t);
+        if t.choices.is_empty() {
+            return self.error(lines.join("; "));
+        }
+        let picks = t
+            .choices
+            .iter()
+            .map(|c| {
+                let mut p = [None; MAX_PARTS];
+                for (slot, u) in p.iter_mut().zip(&c.upgrades) {
+                    *slot = Some((u.part, u.to));
+                }
+                Pick::Tolerances(p)
+            })
+            .collect();
+        let title = format!(
+            " Tighten to a yield of {} (↑↓ Enter, Esc) ",
+            fmt_plain(100.0 * t.now.yield_min, 4) + " %"
+        );
+        let mut list = Choices::new(
+            title,
+            &["option", "tighten", "yield"],
+            &tighten_text::rows(&t),
+            picks,
+        );
+        list.note = format!(
+            "yield now {} %; each option verified by {} trials with the stage's seed",
+            fmt_plain(100.0 * t.now.yield_frac.unwrap_or(0.0), 4),
+            crate::study::tighten::RUN_TRIALS
+        );
+        self.mode = Mode::Choose(list);
+        self.info("tolerance upgrades: ↑↓ choose, Enter sets the parts' tolerances, Esc cancels");
+    }
+
     /// Apply one row of a helper's list as one change (one undo step).
     pub(super) fn apply_pick(&mut self, pick: Pick) {
         let label = Self::slot_label(self.active);
@@ -170,6 +216,20 @@ impl App {
                     Ok(())
                 });
                 format!("{} {}", part.name(), fmt_eng(v, part.unit()))
+            }
+            Pick::Tolerances(p) => {
+                let set: Vec<(&str, f64)> = p.iter().flatten().copied().collect();
+                self.change("part tolerances", |s| {
+                    for (name, t) in &set {
+                        s.stage.part_tolerance.set(name, Some(*t));
+                    }
+                    Ok(())
+                });
+                let items: Vec<String> = set
+                    .iter()
+                    .map(|(n, t)| format!("{n} ±{}%", fmt_plain(100.0 * t, 3)))
+                    .collect();
+                items.join(", ")
             }
         };
         if self.status_kind == super::StatusKind::Info {

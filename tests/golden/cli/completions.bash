@@ -58,6 +58,9 @@ _loopwright() {
             loopwright,sweep)
                 cmd="loopwright__subcmd__sweep"
                 ;;
+            loopwright,tighten)
+                cmd="loopwright__subcmd__tighten"
+                ;;
             loopwright__subcmd__help,amp)
                 cmd="loopwright__subcmd__help__subcmd__amp"
                 ;;
@@ -100,6 +103,9 @@ _loopwright() {
             loopwright__subcmd__help,sweep)
                 cmd="loopwright__subcmd__help__subcmd__sweep"
                 ;;
+            loopwright__subcmd__help,tighten)
+                cmd="loopwright__subcmd__help__subcmd__tighten"
+                ;;
             loopwright__subcmd__help__subcmd__parts,list)
                 cmd="loopwright__subcmd__help__subcmd__parts__subcmd__list"
                 ;;
@@ -131,7 +137,7 @@ _loopwright() {
 
     case "${cmd}" in
         loopwright)
-            opts="-h -V --ascii --no-color --help --version report plot completions manual compare sweep spread check series pairs stabilize amp parts help"
+            opts="-h -V --ascii --no-color --help --version report plot completions manual compare sweep spread check series pairs stabilize tighten amp parts help"
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 1 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
@@ -205,7 +211,7 @@ _loopwright() {
             return 0
             ;;
         loopwright__subcmd__help)
-            opts="report plot completions manual compare sweep spread check series pairs stabilize amp parts help"
+            opts="report plot completions manual compare sweep spread check series pairs stabilize tighten amp parts help"
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
                 return 0
@@ -429,6 +435,20 @@ _loopwright() {
             return 0
             ;;
         loopwright__subcmd__help__subcmd__sweep)
+            opts=""
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__help__subcmd__tighten)
             opts=""
             if [[ ${cur} == -* || ${COMP_CWORD} -eq 3 ]] ; then
                 COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
@@ -761,6 +781,20 @@ _loopwright() {
                     COMPREPLY=($(compgen -f "${cur}"))
                     return 0
                     ;;
+                *)
+                    COMPREPLY=()
+                    ;;
+            esac
+            COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+            return 0
+            ;;
+        loopwright__subcmd__tighten)
+            opts="-h --json --help"
+            if [[ ${cur} == -* || ${COMP_CWORD} -eq 2 ]] ; then
+                COMPREPLY=( $(compgen -W "${opts}" -- "${cur}") )
+                return 0
+            fi
+            case "${prev}" in
                 *)
                     COMPREPLY=()
                     ;;

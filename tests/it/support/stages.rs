@@ -24,6 +24,8 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             feedback: Feedback::Pin,
             series: Series::E24,
             tolerance: 0.01,
+            part_tolerance: Default::default(),
+            tc_ppm: None,
         },
         amp: Amp {
             a0: 1.0e5,
@@ -52,6 +54,7 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
         reference: None,
         step: None,
         temp_c: 25.0,
+        temp_range: None,
         band: (10.0, 100.0e3),
         spread: None,
         spec: None,
