@@ -34,6 +34,8 @@ pub enum Section {
     Loop,
     Impedance,
     Noise,
+    /// The supply ripple at the load (with the amplifier's supply rejection).
+    Supply,
     DcErrors,
     SignalLimits,
     /// The step response: in JSON an object `step` of its own.
@@ -41,11 +43,12 @@ pub enum Section {
 }
 
 impl Section {
-    pub const ALL: [Section; 7] = [
+    pub const ALL: [Section; 8] = [
         Section::Gain,
         Section::Loop,
         Section::Impedance,
         Section::Noise,
+        Section::Supply,
         Section::DcErrors,
         Section::SignalLimits,
         Section::Step,
@@ -62,6 +65,9 @@ impl Section {
         match self {
             Section::DcErrors => e.analysis.limits.dc_given,
             Section::SignalLimits => e.analysis.limits.signal_given,
+            Section::Supply => {
+                e.analysis.supply_rejection_db.is_some() || e.analysis.ripple_out_v.is_some()
+            }
             _ => true,
         }
     }
@@ -71,6 +77,7 @@ impl Section {
             Section::Loop => "Loop",
             Section::Impedance => "Impedance",
             Section::Noise => "Noise at the load",
+            Section::Supply => "Supply ripple",
             Section::DcErrors => "DC errors",
             Section::SignalLimits => "Signal limits",
             Section::Step => "Step response",
@@ -115,6 +122,13 @@ const KEY_ONLY: Shown = Shown {
     text: false,
     key_figure: true,
     row_when_given: false,
+};
+
+const REPORT_AND_ROW: Shown = Shown {
+    json: true,
+    text: true,
+    key_figure: false,
+    row_when_given: true,
 };
 
 const ROW_IF_GIVEN: Shown = Shown {
@@ -222,11 +236,11 @@ impl Figure {
     }
 }
 
-use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step};
+use Section::{DcErrors, Gain, Impedance, Loop, Noise, SignalLimits, Step, Supply};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 48] = [
+pub static FIGURES: [Figure; 50] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -402,6 +416,26 @@ pub static FIGURES: [Figure; 48] = [
         KEY_ONLY,
         |e| Some(e.warnings.len() as f64),
     ),
+    fig(
+        "supply_rejection_db",
+        "supply rejection",
+        "sup rej",
+        Db,
+        Supply,
+        REPORT_AND_ROW,
+        |e| e.analysis.supply_rejection_db,
+    )
+    .given(),
+    fig(
+        "ripple_out_v",
+        "ripple at load",
+        "ripple",
+        Si("V"),
+        Supply,
+        REPORT_AND_ROW,
+        |e| e.analysis.ripple_out_v,
+    )
+    .given(),
     fig(
         "out_bias_v",
         "bias error at load",

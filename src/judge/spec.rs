@@ -38,7 +38,7 @@ impl PartialEq for Limit {
 use Rule::*;
 
 /// Every limit, in file order.
-pub static LIMITS: [Limit; 9] = [
+pub static LIMITS: [Limit; 10] = [
     Limit {
         field: "gain_error_max",
         figures: &["target_error"],
@@ -86,6 +86,12 @@ pub static LIMITS: [Limit; 9] = [
         figures: &["headroom_low_v", "headroom_high_v"],
         rule: AtLeast,
         get: |s| s.headroom_min_v,
+    },
+    Limit {
+        field: "supply_rejection_min_db",
+        figures: &["supply_rejection_db"],
+        rule: AtLeast,
+        get: |s| s.supply_rejection_min_db,
     },
     Limit {
         field: "settle_max_s",

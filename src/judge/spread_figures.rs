@@ -22,7 +22,7 @@ pub enum When {
 
 /// The figures that spread, in report order. `target_error` is computed
 /// here; the rest are read from the figure table.
-pub const SPREAD_FIGURES: [(&str, When); 13] = [
+pub const SPREAD_FIGURES: [(&str, When); 14] = [
     ("dc_gain", When::Always),
     (TARGET_ERROR, When::Always),
     ("f_3db_hz", When::Always),
@@ -35,6 +35,7 @@ pub const SPREAD_FIGURES: [(&str, When); 13] = [
     ("out_offset_max_v", When::Given),
     ("headroom_low_v", When::Given),
     ("headroom_high_v", When::Given),
+    ("supply_rejection_db", When::Given),
     ("settle_01pct_s", When::Held),
 ];
 

@@ -839,6 +839,7 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         cm_pos,
         iout,
         ib_doubling: None,
+        ..Amp::default()
     };
     // Print in the scenario's field order.
     const ORDER: [&str; 21] = [
