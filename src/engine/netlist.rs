@@ -724,7 +724,11 @@ impl Netlist {
 
     /// Add `k`·V_cm to a row: `k/2` at each pin's column (`add(column,
     /// value)`); a pin on ground adds nothing.
-    fn stamp_cm<T: Copy + std::ops::Mul<f64, Output = T>>(&self, add: &mut impl FnMut(usize, T), k: T) {
+    fn stamp_cm<T: Copy + std::ops::Mul<f64, Output = T>>(
+        &self,
+        add: &mut impl FnMut(usize, T),
+        k: T,
+    ) {
         for i in [self.inp, self.inn].into_iter().flatten() {
             add(i, k * 0.5);
         }

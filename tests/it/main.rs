@@ -28,6 +28,7 @@ mod plot_cli;
 mod plot_widget;
 mod properties;
 mod readme;
+mod rejection;
 mod report_cli;
 mod saves;
 mod scenario_files;
