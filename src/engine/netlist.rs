@@ -878,7 +878,7 @@ impl Netlist {
             // The current x/ro into the output node (Norton form).
             eq.g[r * n + last] -= self.inv_ro;
             eq.amp_current.push((last, self.inv_ro));
-            if last == x1 {
+            if last == x1 && feed != 0.0 {
                 through(eq, r, -self.inv_ro);
                 let mut cm = Vec::new();
                 self.stamp_cm(&mut |i, v: f64| cm.push((i, v)), self.inv_ro * feed);
