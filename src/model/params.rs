@@ -696,7 +696,7 @@ pub static PARAMS: [Param; 67] = [
     .note("common-mode rejection at low frequency; none: infinite"),
     entry(
         "amp.cmrr_corner",
-        "cmrr corner",
+        "cmrr knee",
         "Hz",
         Amplifier,
         OneTwoFive,
@@ -721,7 +721,7 @@ pub static PARAMS: [Param; 67] = [
     .note("supply rejection at low frequency, one figure for both rails; none: infinite"),
     entry(
         "amp.psrr_corner",
-        "psrr corner",
+        "psrr knee",
         "Hz",
         Amplifier,
         OneTwoFive,
@@ -1102,7 +1102,7 @@ pub static PARAMS: [Param; 67] = [
     .starting(|_| 0.2),
     entry(
         "spec.supply_rejection_min_db",
-        "supply rej ≥",
+        "sup rej ≥",
         "dB",
         Spread,
         Linear(5.0),

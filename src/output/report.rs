@@ -356,12 +356,15 @@ pub struct Comparison {
 }
 
 /// Figures `compare` adds to the key figures when either stage has them:
-/// the error against the spec's aim, the worst-case offset and headroom.
-const COMPARED_WHEN_GIVEN: [&str; 4] = [
+/// the error against the spec's aim, the worst-case offset and headroom,
+/// the supply rejection and the output ripple.
+const COMPARED_WHEN_GIVEN: [&str; 6] = [
     "target_error",
     "out_offset_max_v",
     "headroom_low_v",
     "headroom_high_v",
+    "supply_rejection_db",
+    "ripple_out_v",
 ];
 
 impl Comparison {
