@@ -23,6 +23,7 @@ fn full_analysis_with_limits(c: &mut Criterion) {
     s.supply = Some(loopwright::model::scenario::Supply {
         neg: -15.0,
         pos: 15.0,
+        ..Default::default()
     });
     assert!(s.validate().is_ok());
     c.bench_function("full_analysis_with_limits", |b| {

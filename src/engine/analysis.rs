@@ -59,6 +59,11 @@ pub struct Analysis {
     pub noise_density_1khz: f64,
     pub noise_rms: f64,
     pub noise_sources: Vec<NoiseShare>,
+    /// 20·log10 |ΔV_supply/ΔV_out| at `supply.ripple_hz` (DC without it),
+    /// when the amplifier gives `psrr_db` (None: unbounded).
+    pub supply_rejection_db: Option<f64>,
+    /// The peak output ripple (V), when `supply.ripple` is given.
+    pub ripple_out_v: Option<f64>,
     pub sweep: Sweep,
     /// The point at DC.
     pub dc: Point,
@@ -331,6 +336,26 @@ fn noise_shares(net: &Netlist, points: &[Point], band: (f64, f64)) -> (Vec<Noise
     (shares, total.sqrt())
 }
 
+/// The supply ripple at the load: (rejection in dB, peak output ripple).
+/// The ripple's error sits in series with the + input, so one solve for
+/// its right-hand side at the ripple's frequency gives ΔV_out/ΔV_supply.
+fn supply_ripple(s: &Scenario, circuit: &Circuit) -> (Option<f64>, Option<f64>) {
+    let supply = s.supply.as_ref();
+    let ripple = supply.and_then(|x| x.ripple);
+    if s.amp.psrr_db.is_none() && ripple.is_none() {
+        return (None, None);
+    }
+    let f = supply.and_then(|x| x.ripple_hz).unwrap_or(0.0);
+    let net = &circuit.net;
+    let rhs = net.ripple_rhs(C64::new(0.0, 2.0 * std::f64::consts::PI * f));
+    let Some(x) = circuit.solve_at(f, &[rhs]) else {
+        return (None, None);
+    };
+    let h = Netlist::node_v(&x[0][..net.dim], net.out).norm();
+    let rejection = Some(-20.0 * h.log10()).filter(|v| v.is_finite());
+    (rejection, ripple.map(|r| r * h).filter(|v| v.is_finite()))
+}
+
 /// How thoroughly [`analyze_to`] works.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Depth {
@@ -394,6 +419,7 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         .and_then(|_| margin_without_load_c(s, lo, hi));
     let gm = gain_margin(&circuit, &sweep);
     let (noise_sources, noise_rms) = noise_shares(&circuit.net, &sweep.points, s.band);
+    let (supply_rejection_db, ripple_out_v) = supply_ripple(s, &circuit);
     let limits = crate::engine::limits::limits(s, &circuit, &sweep, dc_gain);
     let f_3db_hz = f_3db(&circuit, &sweep.points, dc_gain);
     let poles = crate::engine::step::closed_loop_poles(&circuit.net);
@@ -439,6 +465,8 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         noise_density_1khz: circuit.eval_or_blank(1.0e3).noise_density(),
         noise_rms,
         noise_sources,
+        supply_rejection_db,
+        ripple_out_v,
         sweep,
         dc,
         limits,

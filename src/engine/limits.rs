@@ -32,14 +32,15 @@ pub struct Transfers {
     pub held: f64,
 }
 
-/// The DC transfers to the load, the internal output, the + pin and the
-/// amplifier's output current.
+/// The DC transfers to the load, the internal output, the + pin, the
+/// amplifier's output current and the pins' common mode (their average).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct DcTransfers {
     pub out: Transfers,
     pub int: Transfers,
     pub pin: Transfers,
     pub amp_i: Transfers,
+    pub cm: Transfers,
 }
 
 /// What the current out of the amplifier mostly feeds at its peak.
@@ -164,6 +165,7 @@ pub fn dc_transfers(circuit: &Circuit) -> Option<DcTransfers> {
         int: read(&|v| net.int_v(ZERO, v)),
         pin: read(&|v| Netlist::node_v(v, net.inp)),
         amp_i: read(&|v| net.amp_current(ZERO, v)),
+        cm: read(&|v| (Netlist::node_v(v, net.inp) + Netlist::node_v(v, net.inn)) * 0.5),
     })
 }
 
@@ -172,7 +174,11 @@ struct Dc {
     source_dc: f64,
     ib: f64,
     ios: f64,
+    /// vos at temp_c and the common-mode error at the operating point:
+    /// both sit in series with the + input, their signs unknown.
     vos: f64,
+    /// |V_cm,dc|·10^(−cmrr_db/20) (0 without cmrr_db).
+    cm_error: f64,
 }
 
 impl Dc {
@@ -290,7 +296,7 @@ fn dc_errors(s: &Scenario, l: &mut Limits, dc: &Dc, dc_gain: f64) {
     l.out_bias_v = a.ib.map(|_| -dc.ib * (out.zp + out.zn));
     let bias = l.out_bias_v.unwrap_or(0.0);
     l.offset_from_bias_v = bias.abs() + 0.5 * dc.ios * (out.zp - out.zn).abs();
-    if a.vos.is_some() || a.ib.is_some() || a.ios.is_some() {
+    if a.vos.is_some() || a.ib.is_some() || a.ios.is_some() || dc.cm_error > 0.0 {
         l.out_offset_max_v =
             Some(bias.abs() + dc.vos * out.hvos.abs() + 0.5 * dc.ios * (out.zp - out.zn).abs());
     }
@@ -417,12 +423,17 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
     };
     l.dc = t;
     l.vos_at_temp = a.vos.unwrap_or(0.0) + a.vos_drift.unwrap_or(0.0) * (s.temp_c - 25.0).abs();
-    let dc = Dc {
+    let mut dc = Dc {
         source_dc: s.source.dc.unwrap_or(0.0),
         ib: a.current_at_temp(a.ib.unwrap_or(0.0), s.temp_c),
         ios: a.current_at_temp(a.ios.unwrap_or(0.0), s.temp_c),
         vos: l.vos_at_temp,
+        cm_error: 0.0,
     };
+    if let Some(k) = circuit.net.cm_error {
+        dc.cm_error = dc.level(&t.cm).abs() * k.k0;
+        dc.vos += dc.cm_error;
+    }
     l.i_dc_a = dc.level(&t.amp_i);
     dc_errors(s, &mut l, &dc, dc_gain);
     if a.ib.is_some_and(|ib| ib != 0.0) {

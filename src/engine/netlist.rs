@@ -166,6 +166,40 @@ pub struct Netlist {
     pub load_g: f64,
     pub load_c: f64,
     pub noise: Vec<NoiseSource>,
+    /// The amplifier's common-mode error per volt of V_cm (the average of
+    /// the two pins), in series with the + input (None: infinite rejection
+    /// or a nullor).
+    pub cm_error: Option<Rejection>,
+    /// The error per volt of supply ripple, in the same place.
+    pub supply_error: Option<Rejection>,
+}
+
+/// An error that an amplifier rejects by a figure in dB up to a corner
+/// and 20 dB/decade less above it: k0·(1 + s/ω_c) per volt.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Rejection {
+    /// 10^(−dB/20).
+    pub k0: f64,
+    /// 2π·corner (rad/s); None: flat.
+    pub w_corner: Option<f64>,
+}
+
+impl Rejection {
+    /// From a figure in dB and its corner in Hz (None without a figure).
+    pub fn of(db: Option<f64>, corner: Option<f64>) -> Option<Rejection> {
+        db.map(|db| Rejection {
+            k0: 10f64.powf(-db / 20.0),
+            w_corner: corner.map(|f| 2.0 * std::f64::consts::PI * f),
+        })
+    }
+
+    /// The error per volt at s.
+    pub fn at(&self, s: C64) -> C64 {
+        match self.w_corner {
+            Some(w) => self.k0 * (C64::new(1.0, 0.0) + s / w),
+            None => C64::new(self.k0, 0.0),
+        }
+    }
 }
 
 /// A voltage-source branch in a row-major `n`×`n` matrix: row `row`
@@ -719,6 +753,9 @@ impl Netlist {
             load_g: s.load.r.map(|r| 1.0 / r).unwrap_or(0.0),
             load_c: s.load.c.unwrap_or(0.0),
             noise,
+            cm_error: Rejection::of(amp.cmrr_db, amp.cmrr_corner)
+                .filter(|_| model == AmpModel::Real),
+            supply_error: Rejection::of(amp.psrr_db, amp.psrr_corner),
         }
     }
 
@@ -830,6 +867,10 @@ impl Netlist {
             m[self.en_row][i] -= one;
             m[i][self.en_row] -= one;
         }
+        // The common-mode error: V(inp_i) = V(inp) + κ(s)·V_cm.
+        if let Some(k) = self.cm_error {
+            self.stamp_cm(&mut |i, v| m[self.en_row][i] += v, k.at(s));
+        }
         // Amplifier: V(int) − A·(V(+) − V(−)) = 0, or the nullor V(+) = V(−),
         // or in Norton form the current (A/ro)·(V(+) − V(−)) into the output.
         let r = self.amp_row;
@@ -868,6 +909,28 @@ impl Netlist {
                 m[r][i] += a;
             }
         }
+    }
+
+    /// Add `k`·V_cm to a row: `k/2` at each pin's column (`add(column,
+    /// value)`); a pin on ground adds nothing.
+    fn stamp_cm<T: Copy + std::ops::Mul<f64, Output = T>>(
+        &self,
+        add: &mut impl FnMut(usize, T),
+        k: T,
+    ) {
+        for i in [self.inp, self.inn].into_iter().flatten() {
+            add(i, k * 0.5);
+        }
+    }
+
+    /// Right-hand side for 1 V of supply ripple at s: its error in the +
+    /// input's generator row (zero with infinite rejection).
+    pub fn ripple_rhs(&self, s: C64) -> Vector {
+        let mut b = [ZERO; MAXN];
+        if let Some(k) = self.supply_error {
+            b[self.en_row] = -k.at(s);
+        }
+        b
     }
 
     /// The internal output V(int) = A(s)·(V(+) − V(−)) of a solution.
@@ -1012,20 +1075,44 @@ impl Netlist {
         let (p, q) = self.en_nodes;
         branch(&mut eq.g, n, self.en_row, p, 1.0);
         branch(&mut eq.g, n, self.en_row, q, -1.0);
+        if let Some(k) = self.cm_error {
+            let row = self.en_row * n;
+            self.stamp_cm(&mut |i, v: f64| eq.g[row + i] += v, k.k0);
+        }
         self.stamp_amp_states(&mut eq);
         Some(eq)
     }
 
     /// The op-amp in the time-domain equations: its states x1 (and x2)
     /// and the controlled source behind ro they drive.
+    ///
+    /// With a common-mode corner the error κ0·(1 + s/ω_c)·V_cm has a
+    /// derivative term; A(s)·κ(s) is still proper, and the amplifier's
+    /// first state is kept as x̃1 = x1 − K·V_cm with K = a0·κ0·ω_p1/ω_c,
+    /// which obeys τ1·x̃1' = a0·vd − x̃1 − K·V_cm (vd with the flat part of
+    /// the error in it): no derivative of a pin is needed, and wherever x1
+    /// drives the next stage x̃1 + K·V_cm stands in for it. The transfer is
+    /// exactly the frequency-domain one; the slew and rail limits then act
+    /// on x̃1.
     fn stamp_amp_states(&self, eq: &mut TimeEquations) {
         let (n, x1, x2) = (eq.n, eq.x1, eq.x2);
         let last = x2.unwrap_or(x1);
         let r = self.amp_row;
+        let feed = self.feed_through();
+        // A coefficient c on x1 in `row` also takes c·K·V_cm.
+        let through = |eq: &mut TimeEquations, row: usize, c: f64| {
+            self.stamp_cm(&mut |i, v: f64| eq.g[row * n + i] += v, c * feed);
+        };
         if self.inv_ro > 0.0 {
             // The current x/ro into the output node (Norton form).
             eq.g[r * n + last] -= self.inv_ro;
             eq.amp_current.push((last, self.inv_ro));
+            if last == x1 && feed != 0.0 {
+                through(eq, r, -self.inv_ro);
+                let mut cm = Vec::new();
+                self.stamp_cm(&mut |i, v: f64| cm.push((i, v)), self.inv_ro * feed);
+                eq.amp_current.extend(cm);
+            }
             if let Some(i) = self.amp_node {
                 eq.amp_current.push((i, -self.inv_ro));
             }
@@ -1034,9 +1121,13 @@ impl Netlist {
             // V(int) = x through the output branch.
             branch(&mut eq.g, n, r, self.amp_out, 1.0);
             eq.g[r * n + last] -= 1.0;
+            if last == x1 {
+                through(eq, r, -1.0);
+            }
         }
         eq.c[x1 * n + x1] = eq.tau1;
         eq.g[x1 * n + x1] = 1.0;
+        through(eq, x1, 1.0);
         if let Some(i) = self.sense_p {
             eq.g[x1 * n + i] -= self.a0;
         }
@@ -1047,6 +1138,19 @@ impl Netlist {
             eq.c[k * n + k] = 1.0 / w2;
             eq.g[k * n + k] = 1.0;
             eq.g[k * n + x1] = -1.0;
+            through(eq, k, -1.0);
+        }
+    }
+
+    /// K = a0·κ0·ω_p1/ω_c: how much of V_cm the amplifier's first state
+    /// carries past x̃1 (0 without a common-mode corner).
+    fn feed_through(&self) -> f64 {
+        match self.cm_error {
+            Some(Rejection {
+                k0,
+                w_corner: Some(w),
+            }) => self.a0 * k0 * self.wp1 / w,
+            _ => 0.0,
         }
     }
 

@@ -36,6 +36,8 @@ pub enum Section {
     Loop,
     Impedance,
     Noise,
+    /// The supply ripple at the load (with the amplifier's supply rejection).
+    Supply,
     DcErrors,
     SignalLimits,
     /// The step response: in JSON an object `step` of its own.
@@ -45,11 +47,12 @@ pub enum Section {
 }
 
 impl Section {
-    pub const ALL: [Section; 8] = [
+    pub const ALL: [Section; 9] = [
         Section::Gain,
         Section::Loop,
         Section::Impedance,
         Section::Noise,
+        Section::Supply,
         Section::DcErrors,
         Section::SignalLimits,
         Section::Step,
@@ -68,6 +71,9 @@ impl Section {
             Section::DcErrors => e.analysis.limits.dc_given,
             Section::SignalLimits => e.analysis.limits.signal_given,
             Section::Kick => e.analysis.kick.is_some(),
+            Section::Supply => {
+                e.analysis.supply_rejection_db.is_some() || e.analysis.ripple_out_v.is_some()
+            }
             _ => true,
         }
     }
@@ -77,6 +83,7 @@ impl Section {
             Section::Loop => "Loop",
             Section::Impedance => "Impedance",
             Section::Noise => "Noise at the load",
+            Section::Supply => "Supply ripple",
             Section::DcErrors => "DC errors",
             Section::SignalLimits => "Signal limits",
             Section::Step => "Step response",
@@ -245,11 +252,11 @@ impl Figure {
     }
 }
 
-use Section::{DcErrors, Gain, Impedance, Kick, Loop, Noise, SignalLimits, Step};
+use Section::{DcErrors, Gain, Impedance, Kick, Loop, Noise, SignalLimits, Step, Supply};
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 54] = [
+pub static FIGURES: [Figure; 56] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -425,6 +432,26 @@ pub static FIGURES: [Figure; 54] = [
         KEY_ONLY,
         |e| Some(e.warnings.len() as f64),
     ),
+    fig(
+        "supply_rejection_db",
+        "supply rejection",
+        "sup rej",
+        Db,
+        Supply,
+        REPORT_ROW,
+        |e| e.analysis.supply_rejection_db,
+    )
+    .given(),
+    fig(
+        "ripple_out_v",
+        "ripple at load",
+        "ripple",
+        Si("V"),
+        Supply,
+        REPORT_ROW,
+        |e| e.analysis.ripple_out_v,
+    )
+    .given(),
     fig(
         "out_bias_v",
         "bias error at load",

@@ -52,7 +52,7 @@ use Rule::*;
 
 /// Every limit, in file order; `settle_max_s` has two entries: the
 /// 0.1 % settling time, or `settle_to_s` when the step has a threshold.
-pub static LIMITS: [Limit; 11] = [
+pub static LIMITS: [Limit; 12] = [
     Limit {
         field: "gain_error_max",
         figures: &["target_error"],
@@ -107,6 +107,13 @@ pub static LIMITS: [Limit; 11] = [
         figures: &["headroom_low_v", "headroom_high_v"],
         rule: AtLeast,
         get: |s| s.headroom_min_v,
+        applies: always,
+    },
+    Limit {
+        field: "supply_rejection_min_db",
+        figures: &["supply_rejection_db"],
+        rule: AtLeast,
+        get: |s| s.supply_rejection_min_db,
         applies: always,
     },
     Limit {

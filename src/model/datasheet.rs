@@ -840,6 +840,7 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         iout,
         gbw_tc: None,
         ib_doubling: None,
+        ..Amp::default()
     };
     // Print in the scenario's field order.
     const ORDER: [&str; 21] = [

@@ -207,6 +207,11 @@ pub const OHM_LIMIT: (f64, f64) = (0.0, 1.0e13);
 pub const HZ_AT: (f64, f64) = (0.0, 1.0e12);
 pub const SECONDS: (f64, f64) = (0.0, 1.0e3);
 pub const RMS_LIMIT: (f64, f64) = (0.0, 1.0e3);
+/// The amplifier's common-mode and supply rejection (dB), their corners
+/// (Hz), the supply ripple (V peak) and its frequency.
+pub const REJECTION_DB: (f64, f64) = (0.0, 200.0);
+pub const CORNER_HZ: (f64, f64) = (1.0e-3, 1.0e9);
+pub const RIPPLE: (f64, f64) = (0.0, 100.0);
 /// The widest band, in decades.
 pub const MAX_BAND_DECADES: f64 = 15.0;
 /// Settling thresholds: half an LSB of 1 to 18 bits, or a fraction down
@@ -290,6 +295,22 @@ macro_rules! block {
     };
 }
 
+/// Access to an optional field of the supply: a value needs the rails
+/// (setting one makes the supply with the usual rails); clearing it keeps
+/// them.
+macro_rules! supply_field {
+    ($f:ident) => {
+        Access::Number {
+            get: |s| s.supply.and_then(|b| b.$f),
+            set: |s, v| match (v, s.supply.as_mut()) {
+                (Some(_), _) => s.supply.get_or_insert_with(Supply::default).$f = v,
+                (None, Some(b)) => b.$f = None,
+                (None, None) => {}
+            },
+        }
+    };
+}
+
 /// Drop a spread or spec block that holds nothing.
 fn tidy(s: &mut Scenario) {
     if s.spread.as_ref().is_some_and(|b| *b == Default::default()) {
@@ -357,7 +378,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 77] = [
+pub static PARAMS: [Param; 84] = [
     entry(
         "stage.topology",
         "topology",
@@ -735,6 +756,56 @@ pub static PARAMS: [Param; 77] = [
     .qualifies(|s| s.temp_range.is_some())
     .note("relative change of gbw per °C away from temp (−0.002: −0.2 %/°C)"),
     entry(
+        "amp.cmrr_db",
+        "cmrr",
+        "dB",
+        Amplifier,
+        Linear(5.0),
+        Optional,
+        REJECTION_DB,
+        number!(opt amp.cmrr_db),
+    )
+    .starting(|_| 90.0)
+    .note("common-mode rejection at low frequency; none: infinite"),
+    entry(
+        "amp.cmrr_corner",
+        "cmrr knee",
+        "Hz",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        CORNER_HZ,
+        number!(opt amp.cmrr_corner),
+    )
+    .starting(|_| 1.0e3)
+    .qualifies(|s| s.amp.cmrr_db.is_some())
+    .note("where the common-mode rejection starts to fall at 20 dB/decade; none: flat"),
+    entry(
+        "amp.psrr_db",
+        "psrr",
+        "dB",
+        Amplifier,
+        Linear(5.0),
+        Optional,
+        REJECTION_DB,
+        number!(opt amp.psrr_db),
+    )
+    .starting(|_| 100.0)
+    .note("supply rejection at low frequency, one figure for both rails; none: infinite"),
+    entry(
+        "amp.psrr_corner",
+        "psrr knee",
+        "Hz",
+        Amplifier,
+        OneTwoFive,
+        Optional,
+        CORNER_HZ,
+        number!(opt amp.psrr_corner),
+    )
+    .starting(|_| 100.0)
+    .qualifies(|s| s.amp.psrr_db.is_some())
+    .note("where the supply rejection starts to fall at 20 dB/decade; none: flat"),
+    entry(
         "source.r",
         "source r",
         "Ω",
@@ -965,6 +1036,32 @@ pub static PARAMS: [Param; 77] = [
     )
     .starting(|_| 10e-6)
     .qualifies(|s| s.reference.is_some_and(|r| r.r > 0.0)),
+    entry(
+        "supply.ripple",
+        "ripple",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        RIPPLE,
+        supply_field!(ripple),
+    )
+    .starting(|_| 0.05)
+    .qualifies(|s| s.supply.is_some())
+    .note("peak ripple on the supply as a whole (needs amp.psrr_db to reach the output)"),
+    entry(
+        "supply.ripple_hz",
+        "ripple at",
+        "Hz",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        CORNER_HZ,
+        supply_field!(ripple_hz),
+    )
+    .starting(|_| 100.0e3)
+    .qualifies(|s| s.supply.is_some_and(|x| x.ripple.is_some()))
+    .note("the ripple's frequency; none: the rejection is read at DC"),
     entry(
         "source.dc",
         "source dc",
@@ -1303,6 +1400,17 @@ pub static PARAMS: [Param; 77] = [
         block!(spec.headroom_min_v),
     )
     .starting(|_| 0.2),
+    entry(
+        "spec.supply_rejection_min_db",
+        "sup rej ≥",
+        "dB",
+        Spread,
+        Linear(5.0),
+        Optional,
+        REJECTION_DB,
+        block!(spec.supply_rejection_min_db),
+    )
+    .starting(|_| 60.0),
     entry(
         "spec.yield_min",
         "yield ≥",
@@ -1763,6 +1871,7 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     p.extend(part_tolerance_checks(s));
     p.extend(temperature_checks(s));
 
+    p.extend(rejection_checks(s));
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {
         if hi <= lo {
@@ -1925,10 +2034,25 @@ fn reference_checks(s: &Scenario) -> Vec<FieldProblem> {
     Vec::new()
 }
 
+/// A limit on the supply rejection needs the amplifier's figure: without
+/// `amp.psrr_db` the rejection is unbounded and there is nothing to hold.
+fn rejection_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let limit = s.spec.as_ref().and_then(|b| b.supply_rejection_min_db);
+    match (limit, s.amp.psrr_db) {
+        (Some(v), None) => vec![FieldProblem {
+            field: "spec.supply_rejection_min_db".into(),
+            message: format!(
+                "{v}: the amplifier gives no amp.psrr_db, so its supply rejection is unbounded; give amp.psrr_db or drop the limit"
+            ),
+        }],
+        _ => Vec::new(),
+    }
+}
+
 /// The rails in order, and room between them for the output and the
 /// input common-mode range.
 fn supply_checks(s: &Scenario) -> Vec<FieldProblem> {
-    let Some(Supply { neg, pos }) = s.supply else {
+    let Some(Supply { neg, pos, .. }) = s.supply else {
         return Vec::new();
     };
     let problem = |field: &str, message: String| {

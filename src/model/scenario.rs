@@ -362,6 +362,43 @@ pub struct Amp {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub gbw_tc: Option<f64>,
+    /// Common-mode rejection at low frequency (dB); absent: infinite. The
+    /// error V_cm·10^(−cmrr_db/20)·(1 + s/(2π·cmrr_corner)) sits in series
+    /// with the + input, V_cm the average of the two pin voltages.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cmrr_db: Option<f64>,
+    /// Where the common-mode rejection starts to fall at 20 dB/decade (Hz);
+    /// absent: flat.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cmrr_corner: Option<f64>,
+    /// Supply rejection at low frequency (dB), one figure for both rails;
+    /// absent: infinite. The error ΔV_supply·10^(−psrr_db/20)·(1 +
+    /// s/(2π·psrr_corner)) sits in series with the + input.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub psrr_db: Option<f64>,
+    /// Where the supply rejection starts to fall (Hz); absent: flat.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub psrr_corner: Option<f64>,
 }
 
 impl Amp {
@@ -427,6 +464,22 @@ pub struct Supply {
     pub neg: f64,
     #[serde(deserialize_with = "number")]
     pub pos: f64,
+    /// Peak ripple on the supply (V), taken on the supply as a whole.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub ripple: Option<f64>,
+    /// The ripple's frequency (Hz); absent: the rejection is read at DC.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub ripple_hz: Option<f64>,
 }
 
 impl Default for Supply {
@@ -435,6 +488,8 @@ impl Default for Supply {
         Supply {
             neg: -15.0,
             pos: 15.0,
+            ripple: None,
+            ripple_hz: None,
         }
     }
 }
@@ -743,6 +798,14 @@ pub struct Spec {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub headroom_min_v: Option<f64>,
+    /// The least supply rejection at the ripple's frequency (dB).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub supply_rejection_min_db: Option<f64>,
     /// The fraction of trials that must meet every limit (1 without it).
     #[serde(
         default,

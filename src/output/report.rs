@@ -435,8 +435,9 @@ pub struct Comparison {
 
 /// Figures `compare` adds to the key figures when either stage has them:
 /// the error against the spec's aim, the worst-case offset and headroom,
-/// the settling to the step's threshold and the sampling kick.
-const COMPARED_WHEN_GIVEN: [&str; 8] = [
+/// the settling to the step's threshold, the sampling kick, the supply
+/// rejection and the output ripple.
+const COMPARED_WHEN_GIVEN: [&str; 10] = [
     "target_error",
     "out_offset_max_v",
     "headroom_low_v",
@@ -445,6 +446,8 @@ const COMPARED_WHEN_GIVEN: [&str; 8] = [
     "kick_dip_v",
     "kick_error_lsb",
     "kick_settle_s",
+    "supply_rejection_db",
+    "ripple_out_v",
 ];
 
 impl Comparison {

@@ -165,7 +165,11 @@ pub fn knobs(s: &Scenario) -> Vec<Knob> {
     // The reference input's r (a divider of the stage's resistors) spreads
     // with their tolerance, its bypass capacitor with the capacitors'.
     of(Tolerance::Resistor)
-        .chain([spread("reference_r", "reference.r", Some(s.stage.tolerance))])
+        .chain([spread(
+            "reference_r",
+            "reference.r",
+            Some(s.stage.tolerance),
+        )])
         .chain(of(Tolerance::Capacitor))
         .chain([spread("reference_c", "reference.c", b.cap_tol)])
         .chain([

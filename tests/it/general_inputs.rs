@@ -207,7 +207,11 @@ fn a_held_level_sets_the_steps_starting_point() {
     let step = |level: f64| {
         let mut s = scenario(1e3);
         s.stage.rg = Some(level);
-        s.supply = Some(Supply { neg: 0.0, pos: 1.0 });
+        s.supply = Some(Supply {
+            neg: 0.0,
+            pos: 1.0,
+            ..Supply::default()
+        });
         let net = Netlist::build_kind(&s, &HELD, AmpModel::Real);
         step_response(&s, &net, 1e5, false)
     };
@@ -236,7 +240,7 @@ fn a_held_level_leaves_a_slewing_step_as_it_was() {
         let mut s = scenario(1e3);
         s.stage.rg = Some(level);
         s.amp.slew = Some(1e5);
-        s.step = Some(loopwright::model::scenario::Step { size });
+        s.step = Some(loopwright::model::scenario::Step::of(size));
         let net = Netlist::build_kind(&s, &HELD, AmpModel::Real);
         let r = step_response(&s, &net, 1e5, false);
         assert_eq!(r.slew_limited, Some(true), "level {level}");
@@ -256,7 +260,11 @@ fn a_held_level_sets_the_operating_point() {
     use loopwright::engine::limits::limits;
     let mut s = scenario(1e3);
     s.stage.rg = Some(2.5);
-    s.supply = Some(Supply { neg: 0.0, pos: 5.0 });
+    s.supply = Some(Supply {
+        neg: 0.0,
+        pos: 5.0,
+        ..Supply::default()
+    });
     let circuit = Circuit::of(Netlist::build_kind(&s, &HELD, AmpModel::Real));
     // The + pin at 2.5 V · (1/1k)/g (the divider above); the follower's
     // output there within its loop gain a0 = 1e5 (1/(1 + 1/a0)).

@@ -21,6 +21,7 @@ fn clipped_at_dc() -> Scenario {
     s.supply = Some(Supply {
         neg: -3.0,
         pos: 3.0,
+        ..Default::default()
     });
     s.amp.swing_neg = Some(0.5);
     s.amp.swing_pos = Some(0.5);
@@ -68,7 +69,11 @@ fn a_stage_past_a_rail_at_dc_has_no_step_figures_and_says_why() {
 #[test]
 fn a_single_supply_inverter_clipped_at_dc_has_no_step_figures() {
     let mut s = in_range(plain(Topology::Inverting, 1e3, 2e3));
-    s.supply = Some(Supply { neg: 0.0, pos: 5.0 });
+    s.supply = Some(Supply {
+        neg: 0.0,
+        pos: 5.0,
+        ..Default::default()
+    });
     s.source.dc = Some(1.0);
     let e = evaluate(&s);
     assert_eq!(e.analysis.step.overshoot_pct, None);
@@ -196,7 +201,11 @@ fn rail_to_rail() -> Scenario {
     s.amp.ro = 300.0;
     s.amp.swing_neg = Some(0.05);
     s.amp.swing_pos = Some(0.05);
-    s.supply = Some(Supply { neg: 0.0, pos: 5.0 });
+    s.supply = Some(Supply {
+        neg: 0.0,
+        pos: 5.0,
+        ..Default::default()
+    });
     s.load.r = Some(1e3);
     s.source.dc = Some(2.5);
     s.source.peak = Some(2.3);
@@ -296,6 +305,7 @@ fn near_the_plus_rail() -> Scenario {
     s.supply = Some(Supply {
         neg: -5.0,
         pos: 5.0,
+        ..Default::default()
     });
     s.amp.swing_neg = Some(0.5);
     s.amp.swing_pos = Some(0.5);

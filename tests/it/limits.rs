@@ -328,11 +328,13 @@ fn headroom_warning_below_five_percent_of_the_span() {
     s.supply = Some(Supply {
         neg: -1.05,
         pos: 1.05,
+        ..Default::default()
     });
     assert_eq!(has(&evaluate(&s), "output-swing"), Some(Severity::Warning));
     s.supply = Some(Supply {
         neg: -1.2,
         pos: 1.2,
+        ..Default::default()
     });
     assert_eq!(has(&evaluate(&s), "output-swing"), None);
     // Without a supply: no headroom figures (null).

@@ -31,6 +31,7 @@ mod plot_widget;
 mod properties;
 mod readme;
 mod reference_input;
+mod rejection;
 mod report_cli;
 mod saves;
 mod scenario_files;

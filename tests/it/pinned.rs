@@ -18,7 +18,11 @@ fn step_of(s: &Scenario) -> StepResponse {
 }
 
 fn rails(s: &mut Scenario, neg: f64, pos: f64) {
-    s.supply = Some(Supply { neg, pos });
+    s.supply = Some(Supply {
+        neg,
+        pos,
+        ..Default::default()
+    });
 }
 
 /// Superposition (linear circuit theory): while the stage stays inside

@@ -64,14 +64,19 @@ prop_compose! {
             s.amp.swing_neg = s.amp.swing_neg.map(|v| v.max(0.0));
             s.amp.swing_pos = s.amp.swing_pos.map(|v| v.max(0.0));
         }
-        // The spread's lowest open-loop gain at or below a0, and a gain
-        // target of the topology's sign (cross-field rules).
+        // The spread's lowest open-loop gain at or below a0, a gain target
+        // of the topology's sign (cross-field rules).
         if let Some(b) = s.spread.as_mut() {
             b.a0_min = b.a0_min.map(|v| v.min(s.amp.a0));
         }
         if let Some(x) = s.spec.as_mut() {
             let inverting = s.stage.topology == Topology::Inverting;
             x.gain_target = x.gain_target.map(|g| if inverting { -g.abs() } else { g.abs() });
+            // A supply-rejection limit only where the amplifier gives
+            // its figure (cross-field rule).
+            if s.amp.psrr_db.is_none() {
+                x.supply_rejection_min_db = None;
+            }
         }
         // A reference input only where the kind returns to one, and its
         // capacitor only behind a resistance (cross-field rules).
@@ -117,7 +122,17 @@ proptest! {
         for v in [a.analysis.f_3db_hz, a.analysis.crossover_hz, a.analysis.phase_margin_deg, a.analysis.gain_margin_db, a.analysis.zin_dc_ohm].into_iter().flatten() {
             prop_assert!(v.is_finite());
         }
-        prop_assert!(a.analysis.zout_dc_ohm > 0.0, "Zout = {}", a.analysis.zout_dc_ohm);
+        // The amplifier's common-mode error is positive feedback where the
+        // pins follow the output together (rin shorting them against a
+        // 10 TΩ source): where the differential loop alone is under 1 it
+        // can set the sign of Zout, or latch the stage (read unstable).
+        let feeble = || {
+            let mut bare = s.clone();
+            bare.amp.cmrr_db = None;
+            loopwright::engine::analyze(&bare).loop_gain_dc.abs() < 1.0
+        };
+        let cm_rules = s.amp.cmrr_db.is_some() && (a.analysis.unstable() || feeble());
+        prop_assert!(a.analysis.zout_dc_ohm > 0.0 || cm_rules, "Zout = {}", a.analysis.zout_dc_ohm);
         // The DC-error and signal-limit figures: finite where defined.
         for f in loopwright::judge::figures::FIGURES.iter().filter(|f| f.needs_input) {
             if let loopwright::judge::figures::Reading::Value(v) = f.read(&a) {

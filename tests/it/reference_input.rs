@@ -46,7 +46,11 @@ fn gain_minus_4_7_on_3v3_sits_at_mid_rail() {
     let mut s = inverting(10e3, 47e3);
     s.reference = reference(1.65, 0.0, None);
     s.source.dc = Some(1.65);
-    s.supply = Some(Supply { neg: 0.0, pos: 3.3 });
+    s.supply = Some(Supply {
+        neg: 0.0,
+        pos: 3.3,
+        ..Supply::default()
+    });
     s.amp.cm_neg = Some(-0.1);
     let a = analyze(&s);
     assert_rel("output", a.limits.out_dc_v.unwrap(), 1.65, 1e-7);

@@ -183,6 +183,7 @@ fn swing_holds_at_the_rail() {
     s.supply = Some(Supply {
         neg: -5.0,
         pos: 5.0,
+        ..Default::default()
     });
     s.amp.swing_pos = Some(0.5);
     s.step = Some(Step::of(3.0));

@@ -124,6 +124,7 @@ fn an_archetype_sets_or_clears_every_amplifier_field_and_names_them() {
     s.supply = Some(loopwright::model::scenario::Supply {
         neg: -15.0,
         pos: 15.0,
+        ..Default::default()
     });
     s.amp.slew = Some(123.0e6);
     s.amp.swing_neg = Some(0.7);
