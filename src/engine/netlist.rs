@@ -342,7 +342,7 @@ fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = 
     let shown = move |d: &PartDecl| {
         d.with
             .and_then(|w| decl.parts.iter().find(|p| p.name == w))
-            .is_none_or(|w| w.value(st) > 0.0)
+            .is_none_or(|w| w.value(s) > 0.0)
     };
     decl.parts
         .iter()
@@ -352,9 +352,9 @@ fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = 
             match d.element {
                 Kinds::Wire => Some(Part::Wire(a, b)),
                 Kinds::Resistor => {
-                    Some(Part::Resistor(a, b, d.value(st), Some(Noisy::Part(d.name))))
+                    Some(Part::Resistor(a, b, d.value(s), Some(Noisy::Part(d.name))))
                 }
-                Kinds::Capacitor => present(Some(d.value(st))).map(|c| Part::Capacitor(a, b, c)),
+                Kinds::Capacitor => present(Some(d.value(s))).map(|c| Part::Capacitor(a, b, c)),
             }
         })
 }
@@ -384,7 +384,7 @@ fn parts(s: &Scenario, decl: &'static Kind, model: AmpModel) -> Vec<Part> {
     let amp = &s.amp;
     let mut p = Vec::new();
     if !matches!(decl.input, Input::Current) {
-        emf_parts(&mut p, Src, Term, s.source.r, Noisy::Source);
+        emf_parts(&mut p, Src, Term, s.source.r.unwrap_or(0.0), Noisy::Source);
     }
     if let Some(r2) = second_r(s, decl) {
         emf_parts(&mut p, Src2, Term2, r2, Noisy::Source2);
@@ -641,7 +641,7 @@ impl Netlist {
         let mut next = count;
         let drive = match decl.input {
             Input::Current => Drive::Current { node: node(Term) },
-            _ => voltage_drive(node(Src), node(Term), s.source.r, &mut next),
+            _ => voltage_drive(node(Src), node(Term), s.source.r.unwrap_or(0.0), &mut next),
         };
         let en_row = next;
         let norton_amp = model == AmpModel::Real && s.amp.ro > 0.0;
@@ -658,7 +658,7 @@ impl Netlist {
             .bias
             .map(|level| Held {
                 drive: voltage_drive(node(Bias), node(Bias), 0.0, &mut next),
-                level: level(&s.stage),
+                level: level(s),
             })
             .into_iter()
             .collect();

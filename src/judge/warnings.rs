@@ -208,7 +208,7 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
 /// The parts that pull the passive network's gain off the resistor ratio.
 fn divider_parts(s: &Scenario) -> Vec<String> {
     let mut parts = Vec::new();
-    let source = present(Some(s.source.r)).filter(|_| s.stage.topology.kind().source_in_network);
+    let source = present(s.source.r).filter(|_| s.stage.topology.kind().source_in_network);
     if let Some(r) = source {
         parts.push(format!("source r {} in series with rg", fmt_eng(r, "Ω")));
     }

@@ -8,7 +8,7 @@
 
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
 use crate::model::scenario::{
-    present, Dist, Feedback, FieldProblem, Scenario, Step, Supply, Topology,
+    present, Dist, Feedback, FieldProblem, Scenario, Supply, Topology,
 };
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
@@ -132,6 +132,29 @@ pub struct Param {
     /// Shown (pane, report, note) only when this holds or the value is
     /// given: a qualifier of other fields (None: always shown).
     pub qualifies: Option<fn(&Scenario) -> bool>,
+    /// The kinds of input the field belongs to (refused for the others).
+    pub inputs: Inputs,
+}
+
+/// Which stages a field belongs to, by the kind of their input.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Inputs {
+    Any,
+    /// Kinds driven by voltages (one input or a pair).
+    Voltage,
+    /// Kinds driven by a current.
+    Current,
+}
+
+impl Inputs {
+    /// Whether a stage of this scenario's kind has the field.
+    pub fn admit(self, s: &Scenario) -> bool {
+        match self {
+            Inputs::Any => true,
+            Inputs::Voltage => !s.current_input(),
+            Inputs::Current => s.current_input(),
+        }
+    }
 }
 
 /// A reference to a table entry; compared by identity of the path.
@@ -188,7 +211,18 @@ pub const SPREAD: (f64, f64) = (0.0, 0.99);
 pub const TRIALS: (f64, f64) = (1.0, 1.0e6);
 /// Seeds are whole numbers a double holds exactly.
 pub const SEED: (f64, f64) = (0.0, 9.007_199_254_740_992e15);
-pub const GAIN_TARGET: (f64, f64) = (-1.0e9, 1.0e9);
+/// A gain target in V/A (a transimpedance) reaches 1e13; in V/V the
+/// cross-check holds it to [`GAIN_TARGET_VV`].
+pub const GAIN_TARGET: (f64, f64) = (-1.0e13, 1.0e13);
+pub const GAIN_TARGET_VV: (f64, f64) = (-1.0e9, 1.0e9);
+/// A photodiode's shunt resistance.
+pub const RSH: (f64, f64) = (1.0e3, 1.0e12);
+/// A current input's DC current and step (A, either sign).
+pub const IDC: (f64, f64) = (-1.0e-2, 1.0e-2);
+/// A current input's peak (A).
+pub const IPEAK: (f64, f64) = (0.0, 1.0);
+/// The photodiode's far-terminal level (V).
+pub const BIAS: (f64, f64) = (-100.0, 100.0);
 pub const FRACTION: (f64, f64) = (0.0, 1.0);
 pub const DB_LIMIT: (f64, f64) = (0.0, 100.0);
 pub const DEG_LIMIT: (f64, f64) = (0.0, 180.0);
@@ -251,6 +285,9 @@ fn tidy(s: &mut Scenario) {
     if s.spec.as_ref().is_some_and(|b| *b == Default::default()) {
         s.spec = None;
     }
+    if s.step.as_ref().is_some_and(|b| *b == Default::default()) {
+        s.step = None;
+    }
 }
 
 /// One table row; the builder methods below set the less common parts.
@@ -279,6 +316,7 @@ const fn entry(
         whole: false,
         note: None,
         qualifies: None,
+        inputs: Inputs::Any,
     }
 }
 
@@ -303,6 +341,10 @@ impl Param {
         self.whole = true;
         self
     }
+    const fn only(mut self, inputs: Inputs) -> Param {
+        self.inputs = inputs;
+        self
+    }
 }
 
 use Group::{Amplifier, Environment, SourceLoad, Spread, Stage, SupplySignal};
@@ -310,7 +352,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 60] = [
+pub static PARAMS: [Param; 67] = [
     entry(
         "stage.topology",
         "topology",
@@ -669,8 +711,33 @@ pub static PARAMS: [Param; 60] = [
         OneTwoFive,
         ZeroAllowed,
         OHMS,
-        number!(req source.r),
-    ),
+        number!(opt source.r),
+    )
+    .only(Inputs::Voltage),
+    entry(
+        "source.cd",
+        "diode c",
+        "F",
+        SourceLoad,
+        Capacitor,
+        Optional,
+        STAGE_FARADS,
+        number!(opt source.cd),
+    )
+    .starting(|_| 10e-12)
+    .only(Inputs::Current),
+    entry(
+        "source.rsh",
+        "diode rsh",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        RSH,
+        number!(opt source.rsh),
+    )
+    .starting(|_| 1e9)
+    .only(Inputs::Current),
     entry(
         "load.r",
         "load r",
@@ -736,7 +803,20 @@ pub static PARAMS: [Param; 60] = [
         Optional,
         VOLTS,
         number!(opt source.dc),
-    ),
+    )
+    .only(Inputs::Voltage),
+    entry(
+        "source.idc",
+        "input dc",
+        "A",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        IDC,
+        number!(opt source.idc),
+    )
+    .starting(|_| 1e-9)
+    .only(Inputs::Current),
     entry(
         "source.peak",
         "peak",
@@ -747,7 +827,31 @@ pub static PARAMS: [Param; 60] = [
         PEAK,
         number!(opt source.peak),
     )
-    .starting(|_| 1.0),
+    .starting(|_| 1.0)
+    .only(Inputs::Voltage),
+    entry(
+        "source.ipeak",
+        "peak",
+        "A",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        IPEAK,
+        number!(opt source.ipeak),
+    )
+    .starting(|_| 1e-6)
+    .only(Inputs::Current),
+    entry(
+        "source.bias",
+        "diode bias",
+        "V",
+        SupplySignal,
+        Linear(0.5),
+        Optional,
+        BIAS,
+        number!(opt source.bias),
+    )
+    .only(Inputs::Current),
     entry(
         "step.size",
         "step",
@@ -756,12 +860,22 @@ pub static PARAMS: [Param; 60] = [
         OneTwoFive,
         Optional,
         VOLTS,
-        Access::Number {
-            get: |s| s.step.map(|x| x.size),
-            set: |s, v| s.step = v.map(|size| Step { size }),
-        },
+        block!(step.size),
     )
-    .starting(|_| crate::model::scenario::DEFAULT_STEP_V),
+    .starting(|_| crate::model::scenario::DEFAULT_STEP_V)
+    .only(Inputs::Voltage),
+    entry(
+        "step.size_a",
+        "step",
+        "A",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        IDC,
+        block!(step.size_a),
+    )
+    .starting(|_| crate::model::scenario::DEFAULT_STEP_A)
+    .only(Inputs::Current),
     entry(
         "temp_c",
         "temp",
@@ -860,6 +974,19 @@ pub static PARAMS: [Param; 60] = [
     )
     .starting(|_| 0.2)
     .shown(Format::Percent),
+    entry(
+        "spread.cd_tol",
+        "cd spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.cd_tol),
+    )
+    .starting(|_| 0.1)
+    .shown(Format::Percent)
+    .only(Inputs::Current),
     entry(
         "spread.trials",
         "trials",
@@ -1050,7 +1177,8 @@ impl Param {
         if self.path == "stage.feedback" {
             return present(s.stage.riso).is_some();
         }
-        !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
+        self.inputs.admit(s)
+            && !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
             && self
                 .qualifies
                 .is_none_or(|when| when(s) || self.raw(s).is_some())
@@ -1327,6 +1455,17 @@ impl Param {
                     self.label
                 ));
             }
+            Some(_) if !self.inputs.admit(s) => {
+                let name = s.stage.topology.name();
+                let (has, other) = match self.inputs {
+                    Inputs::Current => ("a voltage input", "current"),
+                    _ => ("a current input", "voltage"),
+                };
+                return problem(format!(
+                    "the {name} stage has {has}: {} belongs to {other}-input stages only; remove it",
+                    self.path
+                ));
+            }
             Some(v) => v,
         };
         if !v.is_finite() {
@@ -1433,6 +1572,20 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
             field: "spec.gain_target".into(),
             message: "0 is not a gain target: the error is relative to it".into(),
         });
+    }
+    // A gain in V/V stays within the narrower range (V/A reaches 1e13).
+    if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
+        let (lo, hi) = GAIN_TARGET_VV;
+        if !s.current_input() && (t < lo || t > hi) {
+            p.push(FieldProblem {
+                field: "spec.gain_target".into(),
+                message: format!(
+                    "{t} is outside the accepted range {} to {} for a gain in V/V",
+                    fmt_compact(lo),
+                    fmt_compact(hi)
+                ),
+            });
+        }
     }
     // The target is signed like the stage's gain: −rf/rg inverting, else
     // positive; the other sign would read as an error near −200 %.

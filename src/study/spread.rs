@@ -130,7 +130,7 @@ impl SpreadResult {
 
 /// The parts that vary, with their extremes: the kind's resistors within
 /// the stage tolerance, then its capacitors with the capacitor tolerance,
-/// gbw, a0 and ro as the spread block gives.
+/// a photodiode's capacitance with its own, gbw, a0 and ro as the spread block gives.
 pub fn knobs(s: &Scenario) -> Vec<Knob> {
     let b = s.spread.clone().unwrap_or_default();
     let t = s.stage.tolerance;
@@ -158,6 +158,7 @@ pub fn knobs(s: &Scenario) -> Vec<Knob> {
     };
     of(Tolerance::Resistor, Some(t))
         .chain(of(Tolerance::Capacitor, b.cap_tol))
+        .chain(of(Tolerance::Diode, b.cd_tol))
         .chain([spread("amp.gbw", b.gbw_tol), a0, spread("amp.ro", b.ro_tol)])
         .flatten()
         .collect()

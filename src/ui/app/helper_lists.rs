@@ -96,7 +96,7 @@ impl App {
         let q = Query {
             series: s.stage.series,
             topology: s.stage.topology,
-            source_r: s.source.r,
+            source_r: s.source.r.unwrap_or(0.0),
             riso: s.stage.riso.unwrap_or(0.0),
             load_r: s.load.r,
             ..Query::new(target)
