@@ -52,6 +52,9 @@ pub enum NoiseKind {
     AmpVoltage,
     /// The amplifier's current noise at one input.
     AmpCurrent,
+    /// The shot noise of a current input's DC current: given by the
+    /// application.
+    SourceShot,
 }
 
 /// A noise source of the stage and the way it couples in.
@@ -269,6 +272,8 @@ pub const MAX_NOISE: usize = 12;
 
 /// Boltzmann constant, J/K (SI 2019, exact).
 pub const BOLTZMANN: f64 = 1.380649e-23;
+/// Elementary charge, C (SI 2019, exact).
+pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
 
 /// The noisy resistors a stage can have: the source's own, and every
 /// resistor a kind declares (labelled by its name).
@@ -287,7 +292,8 @@ const _: () = {
         let parts = KINDS[i].parts;
         let sources = match KINDS[i].input {
             Input::Voltage => 1,
-            Input::Current => 0,
+            // A current input's shot noise.
+            Input::Current => 1,
             Input::Pair { .. } => 2,
         };
         let (mut j, mut n) = (0, sources + AMP_NOISE);
@@ -663,6 +669,18 @@ impl Netlist {
             .into_iter()
             .collect();
         noise.extend(amp_noise(&s.amp, en_row, node));
+        if decl.input.is_current() {
+            // Schottky: a DC current I carries a white current noise of
+            // 2·q·|I| A²/Hz, injected where the input current enters.
+            noise.push(NoiseSource {
+                key: "shot",
+                label: "input shot noise",
+                kind: NoiseKind::SourceShot,
+                coupling: Coupling::Current(None, node(Term)),
+                white: 2.0 * ELEMENTARY_CHARGE * s.signal_dc().unwrap_or(0.0).abs(),
+                corner: 0.0,
+            });
+        }
         let amp = &s.amp;
         Netlist {
             dim: next,

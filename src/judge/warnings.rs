@@ -292,7 +292,9 @@ fn resistor_noise(cx: &Context, w: &mut Vec<Warning>) {
     let changeable = a
         .noise_sources
         .iter()
-        .filter(|n| n.kind != NoiseKind::SourceResistance && n.share > 0.0)
+        .filter(|n| {
+            !matches!(n.kind, NoiseKind::SourceResistance | NoiseKind::SourceShot) && n.share > 0.0
+        })
         .max_by(|x, y| x.share.total_cmp(&y.share));
     let text = if source_share > SOURCE_NOISE_SHARE {
         let floor = source.iter().map(|n| n.rms * n.rms).sum::<f64>().sqrt();
@@ -346,7 +348,7 @@ fn noise_advice(n: &crate::engine::analysis::NoiseShare) -> String {
              an amplifier with lower current noise, or lower resistance at its inputs, reduces it",
             n.label
         ),
-        NoiseKind::SourceResistance => String::new(),
+        NoiseKind::SourceResistance | NoiseKind::SourceShot => String::new(),
     }
 }
 
