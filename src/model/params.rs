@@ -211,10 +211,11 @@ pub const SPREAD: (f64, f64) = (0.0, 0.99);
 pub const TRIALS: (f64, f64) = (1.0, 1.0e6);
 /// Seeds are whole numbers a double holds exactly.
 pub const SEED: (f64, f64) = (0.0, 9.007_199_254_740_992e15);
+/// A gain in V/V (pairs, a voltage stage's target).
+pub const GAIN_TARGET: (f64, f64) = (-1.0e9, 1.0e9);
 /// A gain target in V/A (a transimpedance) reaches 1e13; in V/V the
-/// cross-check holds it to [`GAIN_TARGET_VV`].
-pub const GAIN_TARGET: (f64, f64) = (-1.0e13, 1.0e13);
-pub const GAIN_TARGET_VV: (f64, f64) = (-1.0e9, 1.0e9);
+/// cross-check holds it to [`GAIN_TARGET`].
+pub const GAIN_TARGET_VA: (f64, f64) = (-1.0e13, 1.0e13);
 /// A photodiode's shunt resistance.
 pub const RSH: (f64, f64) = (1.0e3, 1.0e12);
 /// A current input's DC current and step (A, either sign).
@@ -1017,7 +1018,7 @@ pub static PARAMS: [Param; 67] = [
         Spread,
         OneTwoFive,
         Optional,
-        GAIN_TARGET,
+        GAIN_TARGET_VA,
         block!(spec.gain_target),
     )
     .starting(Scenario::nominal_gain),
@@ -1575,7 +1576,7 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
     }
     // A gain in V/V stays within the narrower range (V/A reaches 1e13).
     if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
-        let (lo, hi) = GAIN_TARGET_VV;
+        let (lo, hi) = GAIN_TARGET;
         if !s.current_input() && (t < lo || t > hi) {
             p.push(FieldProblem {
                 field: "spec.gain_target".into(),

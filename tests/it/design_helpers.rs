@@ -203,7 +203,7 @@ fn r_list_uses_the_stage_source_and_load() {
     // An inverting stage behind a 600 Ω source with a spec target of −4.7:
     // the list offers 4.7 and every row's gain is −rf/(rg + 600) in size.
     let mut s = plain(Topology::Inverting, 10e3, 47e3);
-    s.source.r = 600.0;
+    s.source.r = Some(600.0);
     s.spec = Some(loopwright::model::scenario::Spec {
         gain_target: Some(-4.7),
         ..Default::default()
@@ -660,7 +660,7 @@ fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
 fn filtered_preamp() -> Scenario {
     let mut s = in_range(plain(Topology::NonInverting, 1e3, 10e3));
     s.stage.cf = Some(10e-9);
-    s.step = Some(loopwright::model::scenario::Step { size: 0.01 });
+    s.step = Some(loopwright::model::scenario::Step { size: Some(0.01), size_a: None });
     s
 }
 

@@ -81,7 +81,7 @@ static PAIR_IDEAL: Kind = test_kind(PAIR_PARTS, Input::Pair { r2: |_| 0.0 });
 /// the input (the source's 1 kΩ) to 4 kΩ to ground; the held level is
 /// read from `stage.rg` so a test can move it.
 static HELD: Kind = Kind {
-    bias: Some(|st| st.rg.unwrap_or(0.0)),
+    bias: Some(|s| s.stage.rg.unwrap_or(0.0)),
     ..test_kind(
         &[
             wire(Input, Plus),
@@ -98,7 +98,7 @@ static HELD: Kind = Kind {
 /// network; the source's resistance is `r`.
 fn scenario(r: f64) -> Scenario {
     let mut s = plain(Topology::NonInverting, 1e3, 1e3);
-    s.source.r = r;
+    s.source.r = Some(r);
     s
 }
 
@@ -236,7 +236,7 @@ fn a_held_level_leaves_a_slewing_step_as_it_was() {
         let mut s = scenario(1e3);
         s.stage.rg = Some(level);
         s.amp.slew = Some(1e5);
-        s.step = Some(loopwright::model::scenario::Step { size });
+        s.step = Some(loopwright::model::scenario::Step { size: Some(size), size_a: None });
         let net = Netlist::build_kind(&s, &HELD, AmpModel::Real);
         let r = step_response(&s, &net, 1e5, false);
         assert_eq!(r.slew_limited, Some(true), "level {level}");

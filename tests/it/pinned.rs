@@ -29,7 +29,7 @@ fn step_figures_do_not_move_with_the_source_dc_level() {
     let mut s = follower();
     rails(&mut s, 0.0, 5.0);
     s.amp.slew = Some(10e6);
-    s.step = Some(Step { size: 0.01 });
+    s.step = Some(Step { size: Some(0.01), size_a: None });
     let (a0, gbw) = (s.amp.a0, s.amp.gbw);
     let tau = 1.0 / (2.0 * PI * gbw / a0 * (1.0 + a0));
     let mut seen = Vec::new();
@@ -56,7 +56,7 @@ fn falling_edges_slew_at_the_slew_rate() {
     let mut s = fast(follower());
     s.amp.slew = Some(1e6);
     for size in [10.0, -10.0] {
-        s.step = Some(Step { size });
+        s.step = Some(Step { size: Some(size), size_a: None });
         let r = step_of(&s);
         assert_eq!(r.slew_limited, Some(true), "size {size}");
         assert_eq!(r.clipped, Some(false), "size {size}");
@@ -67,7 +67,7 @@ fn falling_edges_slew_at_the_slew_rate() {
     let mut s = fast(plain(Topology::Inverting, 1e3, 10e3));
     s.amp.slew = Some(1e6);
     rails(&mut s, -15.0, 15.0);
-    s.step = Some(Step { size: 1.0 });
+    s.step = Some(Step { size: Some(1.0), size_a: None });
     let r = step_of(&s);
     assert!(r.final_v.unwrap() < 0.0);
     assert_rel("final", r.final_v.unwrap(), -10.0, 1e-6);
@@ -83,7 +83,7 @@ fn falling_edges_stop_at_the_negative_rail() {
     let mut s = fast(plain(Topology::Inverting, 1e3, 10e3));
     s.amp.slew = Some(1e6);
     rails(&mut s, -5.0, 5.0);
-    s.step = Some(Step { size: 1.0 });
+    s.step = Some(Step { size: Some(1.0), size_a: None });
     let r = step_of(&s);
     assert_eq!(r.clipped, Some(true));
     assert_eq!(r.slew_limited, Some(true));
@@ -98,7 +98,7 @@ fn falling_edges_stop_at_the_negative_rail() {
     s.amp.ro = 50.0;
     rails(&mut s, -5.0, 5.0);
     s.amp.swing_neg = Some(0.5);
-    s.step = Some(Step { size: -3.0 });
+    s.step = Some(Step { size: Some(-3.0), size_a: None });
     let r = step_of(&s);
     assert_eq!(r.clipped, Some(true));
     assert_rel(
@@ -215,7 +215,7 @@ fn ranges_are_symmetric_about_the_dc_level() {
     s.amp.ios = Some(100e-9);
     s.amp.cm_pos = Some(1.5);
     s.amp.cm_neg = Some(1.5);
-    s.source.r = rs;
+    s.source.r = Some(rs);
     s.source.dc = Some(6.0);
     s.source.peak = Some(0.5);
     let l = analyze(&s).limits;
@@ -261,8 +261,8 @@ fn ranges_are_symmetric_about_the_dc_level() {
 fn normalised_waves_level_off_at_one() {
     let mut a = plain(Topology::NonInverting, 1e3, 1e3);
     let mut b = a.clone();
-    a.step = Some(Step { size: 0.01 });
-    b.step = Some(Step { size: 0.05 });
+    a.step = Some(Step { size: Some(0.01), size_a: None });
+    b.step = Some(Step { size: Some(0.05), size_a: None });
     let (ra, rb) = (step_of(&a), step_of(&b));
     let a0 = a.amp.a0;
     let tau = 1.0 / (2.0 * PI * a.amp.gbw / a0 * (1.0 + a0 * 0.5));
@@ -329,7 +329,7 @@ fn an_unstable_stage_keeps_its_step_size() {
     s.amp.fp2 = Some(1e-3);
     s.amp.ro = 1e3;
     s.load.c = Some(1.0);
-    s.step = Some(Step { size: 0.25 });
+    s.step = Some(Step { size: Some(0.25), size_a: None });
     let a = analyze(&s);
     assert_eq!(a.stable, Some(false));
     assert_eq!(a.step.size_v, 0.25);
@@ -397,7 +397,7 @@ fn bias_currents_move_the_dc_level() {
     let mut s = fast(plain(Topology::NonInverting, rg, rf));
     rails(&mut s, -15.0, 15.0);
     s.amp.ib = Some(ib);
-    s.source.r = rs;
+    s.source.r = Some(rs);
     s.source.dc = Some(0.5);
     s.source.peak = Some(0.1);
     let l = analyze(&s).limits;
@@ -409,7 +409,7 @@ fn bias_currents_move_the_dc_level() {
     let cm_mid = 0.5 * (l.cm_low_v.unwrap() + l.cm_high_v.unwrap());
     assert_rel("pin dc", cm_mid, 0.5 - ib * rs, 1e-6);
     // Balanced: rs = rf·rg/(rf + rg) = 900 Ω leaves only the source.
-    s.source.r = rf * rg / (rf + rg);
+    s.source.r = Some(rf * rg / (rf + rg));
     let l = analyze(&s).limits;
     assert_rel("balanced", l.int_dc_v.unwrap(), 0.5 * g, 1e-6);
 }
