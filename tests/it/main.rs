@@ -44,6 +44,7 @@ mod strip_and_ascii;
 mod svg_text;
 mod sweep_cli;
 mod tmux_e2e;
+mod transimpedance;
 mod ui_render;
 mod view_marks;
 mod warnings_rules;
