@@ -796,16 +796,17 @@ fn ohms(v: f64, signed: bool) -> String {
         _ => "",
     };
     let prefix = crate::model::values::spelled(PREFIXES[(exp3 + 4) as usize]);
-    format!("{sign}{m:.digits$} {prefix}{}", crate::model::values::spelled("Ω"))
+    format!(
+        "{sign}{m:.digits$} {prefix}{}",
+        crate::model::values::spelled("Ω")
+    )
 }
 
 impl Figure {
     /// Whether the figure is the stage's gain read in ohms: a gain figure
     /// of a stage whose gain is in V/A.
     fn in_ohms(&self, e: &Evaluation) -> bool {
-        self.unit == Ratio
-            && self.section == Gain
-            && e.analysis.gain_unit == GainUnit::VoltsPerAmp
+        self.unit == Ratio && self.section == Gain && e.analysis.gain_unit == GainUnit::VoltsPerAmp
     }
 
     /// The figure's name for this stage: a transimpedance stage's DC gain

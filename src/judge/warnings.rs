@@ -64,7 +64,14 @@ fn load_note(s: &Scenario) -> String {
 }
 
 /// The usual fix for a lack of phase margin, in plain words.
-fn margin_fix(s: &Scenario) -> &'static str {
+fn margin_fix(s: &Scenario) -> String {
+    // A current-input stage: the maximally flat cf is the fix.
+    if let Some(crate::model::stages::Flat::Cf(c)) = s.flat_cf() {
+        return format!(
+            "; a feedback capacitor near the maximally flat {} restores it (stabilize lists it)",
+            crate::model::values::fmt_eng_sig(c, "F", 3)
+        );
+    }
     match (present(s.load.c), present(s.stage.riso)) {
         (Some(_), None) => {
             "; an isolation resistor before the load capacitance usually restores it"
@@ -74,6 +81,7 @@ fn margin_fix(s: &Scenario) -> &'static str {
         }
         (None, _) => "; a feedback capacitor or a higher noise gain usually restores it",
     }
+    .to_string()
 }
 
 /// A right-half-plane pole the margin does not show (it reads positive,

@@ -7,9 +7,7 @@
 //! to [`PARAMS`]. Nothing else needs to know.
 
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
-use crate::model::scenario::{
-    present, Dist, Feedback, FieldProblem, Scenario, Supply, Topology,
-};
+use crate::model::scenario::{present, Dist, Feedback, FieldProblem, Scenario, Supply, Topology};
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.

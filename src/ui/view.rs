@@ -1175,9 +1175,7 @@ fn figure_cells(s: &Slot, cols: &[&Figure]) -> Vec<String> {
 fn delta_cells(a: &Slot, b: &Slot, cols: &[&Figure]) -> Vec<String> {
     cols.iter()
         .map(|f| match (reading(f, a), reading(f, b)) {
-            _ if f.units_differ(a.eval.analysis.gain_unit, b.eval.analysis.gain_unit) => {
-                "—".into()
-            }
+            _ if f.units_differ(a.eval.analysis.gain_unit, b.eval.analysis.gain_unit) => "—".into(),
             (Reading::Value(x), Reading::Value(y)) => {
                 f.cell_in(&a.eval, Reading::Value(y - x), true)
             }

@@ -422,7 +422,7 @@ fn scenario(name: &str) -> Scenario {
 fn smaller_values(s: &Scenario, part: Part, value: f64) -> Vec<f64> {
     let (series, lo) = match part {
         Part::Riso => (s.stage.series, 0.1),
-        Part::Cf | Part::CfAtLoad => (Series::E12, 0.1e-12),
+        Part::Cf | Part::CfAtLoad | Part::CfFlat => (Series::E12, 0.1e-12),
     };
     series_values(series, lo, value * (1.0 - 1e-6))
 }
@@ -431,7 +431,7 @@ fn with_part(s: &Scenario, part: Part, v: f64) -> Scenario {
     let mut t = s.clone();
     match part {
         Part::Riso => t.stage.riso = Some(v),
-        Part::Cf => t.stage.cf = Some(v),
+        Part::Cf | Part::CfFlat => t.stage.cf = Some(v),
         // The in-loop option: rf from the load terminal, after riso.
         Part::CfAtLoad => {
             t.stage.cf = Some(v);
@@ -660,7 +660,10 @@ fn a_loop_below_unity_everywhere_counts_as_meeting_the_target() {
 fn filtered_preamp() -> Scenario {
     let mut s = in_range(plain(Topology::NonInverting, 1e3, 10e3));
     s.stage.cf = Some(10e-9);
-    s.step = Some(loopwright::model::scenario::Step { size: Some(0.01), size_a: None });
+    s.step = Some(loopwright::model::scenario::Step {
+        size: Some(0.01),
+        size_a: None,
+    });
     s
 }
 

@@ -236,7 +236,10 @@ fn a_held_level_leaves_a_slewing_step_as_it_was() {
         let mut s = scenario(1e3);
         s.stage.rg = Some(level);
         s.amp.slew = Some(1e5);
-        s.step = Some(loopwright::model::scenario::Step { size: Some(size), size_a: None });
+        s.step = Some(loopwright::model::scenario::Step {
+            size: Some(size),
+            size_a: None,
+        });
         let net = Netlist::build_kind(&s, &HELD, AmpModel::Real);
         let r = step_response(&s, &net, 1e5, false);
         assert_eq!(r.slew_limited, Some(true), "level {level}");

@@ -108,7 +108,10 @@ fn current_stage() -> Scenario {
     s.load.c = Some(10e-9);
     s.amp.slew = Some(5e6);
     s.amp.iout = Some(5e-3);
-    s.step = Some(Step { size: Some(2.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(2.0),
+        size_a: None,
+    });
     s
 }
 
@@ -163,7 +166,10 @@ fn crossing(r: &loopwright::engine::step::StepResponse, v: f64) -> f64 {
 #[test]
 fn the_current_limit_holds_a_falling_step_too() {
     let mut s = current_stage();
-    s.step = Some(Step { size: Some(-2.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(-2.0),
+        size_a: None,
+    });
     let r = analyze(&s).step;
     assert_eq!(r.current_limited, Some(true));
     let (t1, t2) = (crossing_down(&r, -0.4), crossing_down(&r, -1.2));

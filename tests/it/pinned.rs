@@ -29,7 +29,10 @@ fn step_figures_do_not_move_with_the_source_dc_level() {
     let mut s = follower();
     rails(&mut s, 0.0, 5.0);
     s.amp.slew = Some(10e6);
-    s.step = Some(Step { size: Some(0.01), size_a: None });
+    s.step = Some(Step {
+        size: Some(0.01),
+        size_a: None,
+    });
     let (a0, gbw) = (s.amp.a0, s.amp.gbw);
     let tau = 1.0 / (2.0 * PI * gbw / a0 * (1.0 + a0));
     let mut seen = Vec::new();
@@ -56,7 +59,10 @@ fn falling_edges_slew_at_the_slew_rate() {
     let mut s = fast(follower());
     s.amp.slew = Some(1e6);
     for size in [10.0, -10.0] {
-        s.step = Some(Step { size: Some(size), size_a: None });
+        s.step = Some(Step {
+            size: Some(size),
+            size_a: None,
+        });
         let r = step_of(&s);
         assert_eq!(r.slew_limited, Some(true), "size {size}");
         assert_eq!(r.clipped, Some(false), "size {size}");
@@ -67,7 +73,10 @@ fn falling_edges_slew_at_the_slew_rate() {
     let mut s = fast(plain(Topology::Inverting, 1e3, 10e3));
     s.amp.slew = Some(1e6);
     rails(&mut s, -15.0, 15.0);
-    s.step = Some(Step { size: Some(1.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(1.0),
+        size_a: None,
+    });
     let r = step_of(&s);
     assert!(r.final_v.unwrap() < 0.0);
     assert_rel("final", r.final_v.unwrap(), -10.0, 1e-6);
@@ -83,7 +92,10 @@ fn falling_edges_stop_at_the_negative_rail() {
     let mut s = fast(plain(Topology::Inverting, 1e3, 10e3));
     s.amp.slew = Some(1e6);
     rails(&mut s, -5.0, 5.0);
-    s.step = Some(Step { size: Some(1.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(1.0),
+        size_a: None,
+    });
     let r = step_of(&s);
     assert_eq!(r.clipped, Some(true));
     assert_eq!(r.slew_limited, Some(true));
@@ -98,7 +110,10 @@ fn falling_edges_stop_at_the_negative_rail() {
     s.amp.ro = 50.0;
     rails(&mut s, -5.0, 5.0);
     s.amp.swing_neg = Some(0.5);
-    s.step = Some(Step { size: Some(-3.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(-3.0),
+        size_a: None,
+    });
     let r = step_of(&s);
     assert_eq!(r.clipped, Some(true));
     assert_rel(
@@ -261,8 +276,14 @@ fn ranges_are_symmetric_about_the_dc_level() {
 fn normalised_waves_level_off_at_one() {
     let mut a = plain(Topology::NonInverting, 1e3, 1e3);
     let mut b = a.clone();
-    a.step = Some(Step { size: Some(0.01), size_a: None });
-    b.step = Some(Step { size: Some(0.05), size_a: None });
+    a.step = Some(Step {
+        size: Some(0.01),
+        size_a: None,
+    });
+    b.step = Some(Step {
+        size: Some(0.05),
+        size_a: None,
+    });
     let (ra, rb) = (step_of(&a), step_of(&b));
     let a0 = a.amp.a0;
     let tau = 1.0 / (2.0 * PI * a.amp.gbw / a0 * (1.0 + a0 * 0.5));
@@ -329,7 +350,10 @@ fn an_unstable_stage_keeps_its_step_size() {
     s.amp.fp2 = Some(1e-3);
     s.amp.ro = 1e3;
     s.load.c = Some(1.0);
-    s.step = Some(Step { size: Some(0.25), size_a: None });
+    s.step = Some(Step {
+        size: Some(0.25),
+        size_a: None,
+    });
     let a = analyze(&s);
     assert_eq!(a.stable, Some(false));
     assert_eq!(a.step.size_v, 0.25);

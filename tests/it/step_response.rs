@@ -152,7 +152,10 @@ fn second_order_overshoot_and_peak_time() {
 fn slew_limited_edge() {
     let mut s = follower();
     s.amp.slew = Some(1e6);
-    s.step = Some(Step { size: Some(10.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(10.0),
+        size_a: None,
+    });
     let r = step_of(&s);
     assert_eq!(r.slew_limited, Some(true));
     assert_rel("rise", r.rise_s.unwrap(), 0.8 * 10.0 / 1e6, 1e-4);
@@ -169,7 +172,10 @@ fn slew_limited_edge() {
         1e-4,
     );
     // A small step on the same stage stays linear.
-    s.step = Some(Step { size: Some(0.01), size_a: None });
+    s.step = Some(Step {
+        size: Some(0.01),
+        size_a: None,
+    });
     assert_eq!(step_of(&s).slew_limited, Some(false));
 }
 
@@ -185,7 +191,10 @@ fn swing_holds_at_the_rail() {
         pos: 5.0,
     });
     s.amp.swing_pos = Some(0.5);
-    s.step = Some(Step { size: Some(3.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(3.0),
+        size_a: None,
+    });
     let r = step_of(&s);
     assert_eq!(r.clipped, Some(true));
     // x1 = 4.5 V behind ro = 50 Ω into rf + rg = 2 kΩ (divider rule).
@@ -196,7 +205,10 @@ fn swing_holds_at_the_rail() {
         1e-9,
     );
     // Inside the rails nothing clips.
-    s.step = Some(Step { size: Some(1.0), size_a: None });
+    s.step = Some(Step {
+        size: Some(1.0),
+        size_a: None,
+    });
     assert_eq!(step_of(&s).clipped, Some(false));
 }
 
@@ -284,7 +296,10 @@ fn default_step_is_ten_millivolts() {
     let r = step_of(&s);
     assert_eq!(r.size_v, 0.01);
     let mut big = s.clone();
-    big.step = Some(Step { size: Some(-0.02), size_a: None });
+    big.step = Some(Step {
+        size: Some(-0.02),
+        size_a: None,
+    });
     let rb = step_of(&big);
     assert_rel(
         "linear scaling",

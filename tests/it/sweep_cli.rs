@@ -196,7 +196,10 @@ fn bad_input_is_refused_with_a_message() {
 fn step_waveform_as_csv_and_json() {
     let dir = temp_dir("sweep-step");
     let mut s = in_range(follower());
-    s.step = Some(loopwright::model::scenario::Step { size: Some(1.0), size_a: None });
+    s.step = Some(loopwright::model::scenario::Step {
+        size: Some(1.0),
+        size_a: None,
+    });
     let file = dir.join("follower.ron");
     std::fs::write(&file, s.to_ron()).unwrap();
     let f = file.to_str().unwrap();

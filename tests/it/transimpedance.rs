@@ -121,7 +121,11 @@ fn the_common_rule_cf_peaks() {
 
     let a = analyze(&stage(Some(cf)));
     assert!((a.phase_margin_deg.unwrap() - pm).abs() < 0.05);
-    assert!((a.peaking_db - peaking_db(q)).abs() < 0.01, "{}", a.peaking_db);
+    assert!(
+        (a.peaking_db - peaking_db(q)).abs() < 0.01,
+        "{}",
+        a.peaking_db
+    );
 }
 
 /// Without cf the loop is all but unstable: about 2.3° of margin
@@ -171,15 +175,29 @@ fn input_referred_noise() {
     let s = stage(Some(cf));
     let a = analyze(&s);
     let want_1k = input_density_sq(1.0e3, cf, &s).sqrt();
-    assert_rel("in at 1 kHz", a.noise_current_density_1khz.unwrap(), want_1k, 1e-4);
+    assert_rel(
+        "in at 1 kHz",
+        a.noise_current_density_1khz.unwrap(),
+        want_1k,
+        1e-4,
+    );
     let (f1, f2) = s.band;
     let white = input_density_sq(0.0, cf, &s);
     let en2 = s.amp.vnoise.powi(2);
     let c = 2.0 * PI * (cf + CD);
     let power = white * (f2 - f1) + en2 * c * c * (f2.powi(3) - f1.powi(3)) / 3.0;
-    assert_rel("input rms", a.noise_current_rms.unwrap(), power.sqrt(), 2e-3);
+    assert_rel(
+        "input rms",
+        a.noise_current_rms.unwrap(),
+        power.sqrt(),
+        2e-3,
+    );
     // The voltage kinds have neither.
-    let v = analyze(&crate::support::stages::plain(Topology::Inverting, 1e3, 1e4));
+    let v = analyze(&crate::support::stages::plain(
+        Topology::Inverting,
+        1e3,
+        1e4,
+    ));
     assert!(v.noise_current_density_1khz.is_none() && v.noise_current_rms.is_none());
 }
 
@@ -194,7 +212,11 @@ fn shot_noise_is_listed() {
     // Over a band well inside f0 the output rms is ≈ rf·√(2qI·B); the
     // band runs past f0 here, so compare only the order and the sign.
     let flat = RF * (2.0 * Q * 2.0e-9 * (f2 - f1)).sqrt();
-    assert!(shot.rms > 0.5 * flat && shot.rms < 1.5 * flat, "{}", shot.rms);
+    assert!(
+        shot.rms > 0.5 * flat && shot.rms < 1.5 * flat,
+        "{}",
+        shot.rms
+    );
     assert!(a.noise_sources.iter().any(|n| n.key == "rsh"));
 }
 
@@ -209,8 +231,14 @@ fn fields_are_refused_on_the_other_kind() {
     assert!(e.to_string().contains("current input"), "{e}");
 
     let volt = tia
-        .replace("Transimpedance, rf: 1.0e6", "Inverting, rg: 1.0e3, rf: 1.0e4")
-        .replace("source: (r: 50.0, cd: 1.0e-11)", "source: (r: 50.0, cd: 1.0e-11)");
+        .replace(
+            "Transimpedance, rf: 1.0e6",
+            "Inverting, rg: 1.0e3, rf: 1.0e4",
+        )
+        .replace(
+            "source: (r: 50.0, cd: 1.0e-11)",
+            "source: (r: 50.0, cd: 1.0e-11)",
+        );
     let e = Scenario::from_ron(&volt, None).unwrap_err();
     assert_eq!(e.field.as_deref(), Some("source.cd"), "{e}");
     assert!(e.to_string().contains("voltage input"), "{e}");
@@ -265,7 +293,10 @@ fn the_report_speaks_in_ohms() {
     write_text(&r, &s, &e, &mut out).unwrap();
     let text = String::from_utf8(out).unwrap();
     // −rf·T/(1+T) with T ≈ 1e9: −1.000 MΩ; 20·log10(1e6) = 120 dBΩ.
-    assert!(text.contains("transimpedance     −1.000 MΩ (120.0 dBΩ)"), "{text}");
+    assert!(
+        text.contains("transimpedance     −1.000 MΩ (120.0 dBΩ)"),
+        "{text}"
+    );
     assert!(text.contains("step size          1 µA"), "{text}");
     let json = serde_json::to_value(&r).unwrap();
     assert_eq!(json["gain_unit"], "V/A");
@@ -279,7 +310,9 @@ fn the_report_speaks_in_ohms() {
 
     // A B − A across different units means nothing: "—".
     let mut out = Vec::new();
-    Comparison::new(&v, &ev, &s, &e).write_text(&mut out).unwrap();
+    Comparison::new(&v, &ev, &s, &e)
+        .write_text(&mut out)
+        .unwrap();
     let text = String::from_utf8(out).unwrap();
     let row = text.lines().find(|l| l.starts_with("DC gain")).unwrap();
     assert!(row.trim_end().ends_with('—'), "{row}");
@@ -297,4 +330,61 @@ fn cd_spreads_with_its_own_tolerance() {
     let cd = k.iter().find(|k| k.field == "source.cd").unwrap();
     assert_rel("cd low", cd.lo, CD * 0.8, 1e-12);
     assert_rel("cd high", cd.hi, CD * 1.2, 1e-12);
+}
+
+/// The −3 dB frequency of a second-order low-pass from ω0 and Q
+/// (textbook formula): ω3 = ω0·√(1 − 1/(2Q²) + √((1 − 1/(2Q²))² + 1)).
+fn f_3db(cf: f64) -> f64 {
+    let (q, f0) = q_f0(cf);
+    let a = 1.0 - 1.0 / (2.0 * q * q);
+    f0 * (a + (a * a + 1.0).sqrt()).sqrt()
+}
+
+/// stabilize offers the maximally flat cf: on E12 the flat 0.564 pF gives
+/// 0.56 pF (no peaking to 0.01 dB) and the next value up, 0.68 pF, whose
+/// f−3dB is about 19 % lower (closed forms recomputed).
+#[test]
+fn stabilize_offers_the_flat_cf() {
+    use loopwright::study::stabilize::{options, Flat, Part};
+    let s = stage(None);
+    let o = options(&s, 60.0).unwrap();
+    let Some(Flat::Cf(c)) = o.flat else {
+        panic!("no flat cf: {:?}", o.flat)
+    };
+    assert_rel("flat cf", c, flat_cf(), 1e-12);
+    let rows: Vec<_> = o.options.iter().filter(|f| f.part == Part::CfFlat).collect();
+    assert_eq!(rows.len(), 2);
+    assert_rel("nearest E12", rows[0].value, 0.56e-12, 1e-9);
+    assert_rel("next up", rows[1].value, 0.68e-12, 1e-9);
+    assert!(rows[0].peaking_db < 0.01, "{}", rows[0].peaking_db);
+    assert_rel("f−3dB at 0.56 pF", rows[0].f_3db_hz.unwrap(), f_3db(0.56e-12), 2e-3);
+    assert_rel("f−3dB at 0.68 pF", rows[1].f_3db_hz.unwrap(), f_3db(0.68e-12), 2e-3);
+    let lower = 1.0 - f_3db(0.68e-12) / f_3db(0.56e-12);
+    assert!((lower - 0.19).abs() < 0.01, "{lower}");
+    let text = loopwright::output::helper_tables::stabilize_output(&s, 60.0, false).unwrap();
+    let text = String::from_utf8(text).unwrap();
+    assert!(text.contains("maximally flat cf 0.564 pF"), "{text}");
+
+    // 2·ω_t·rf·C_i ≤ 1: a flat response needs no cf.
+    let mut small = s.clone();
+    small.stage.rf = Some(1.0e3);
+    small.source.cd = Some(1.0e-15);
+    let o = options(&small, 60.0).unwrap();
+    assert_eq!(o.flat, Some(Flat::NotNeeded));
+    assert!(o.options.iter().all(|f| f.part != Part::CfFlat));
+}
+
+/// The phase-margin warning names the flat cf as the fix; `pairs` says
+/// a transimpedance has nothing to pair.
+#[test]
+fn the_warning_and_pairs_name_the_kind() {
+    let e = evaluate(&stage(None));
+    let w = e
+        .warnings
+        .iter()
+        .find(|w| w.code == loopwright::judge::Code::PhaseMargin)
+        .expect("a phase-margin warning");
+    assert!(w.text.contains("maximally flat 0.564 pF"), "{}", w.text);
+    let err = loopwright::commands::parse::parse_pair_topology("Transimpedance").unwrap_err();
+    assert!(format!("{err:#}").contains("nothing to pair"), "{err:#}");
 }

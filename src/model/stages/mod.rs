@@ -267,7 +267,48 @@ impl Input {
     }
 }
 
+/// The maximally flat cf of a current-input stage.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Flat {
+    /// 2·ω_t·R_f·C_i ≤ 1: the response is flat without a cf.
+    NotNeeded,
+    /// The exact value, farads.
+    Cf(f64),
+}
+
 impl Scenario {
+    /// The maximally flat cf of a stage driven by a current (second-order
+    /// analysis with a single-pole amplifier, common practice): C_f =
+    /// √(2·ω_t·R_f·C_i − 1)/(ω_t·R_f), ω_t = 2π·gbw, C_i the capacitance the
+    /// kind puts from the − input to AC ground plus the pin's cin. None for a
+    /// voltage input or without an rf.
+    pub fn flat_cf(&self) -> Option<Flat> {
+        let s = self;
+        let k = s.stage.topology.kind();
+        if !s.current_input() {
+            return None;
+        }
+        let rf = k.parts.iter().find(|p| p.name == "rf")?.value(s);
+        let grounded = |n: Node| matches!(n, Node::Ground | Node::Reference | Node::Bias);
+        let ci: f64 = k
+            .parts
+            .iter()
+            .filter(|p| p.element == Element::Capacitor)
+            .filter(|p| {
+                (p.a == Node::Minus && grounded(p.b)) || (p.b == Node::Minus && grounded(p.a))
+            })
+            .map(|p| p.value(s))
+            .sum::<f64>()
+            + crate::model::scenario::present(s.amp.cin).unwrap_or(0.0);
+        let wt = 2.0 * std::f64::consts::PI * s.amp.gbw;
+        let x = 2.0 * wt * rf * ci - 1.0;
+        Some(if x <= 0.0 || rf <= 0.0 {
+            Flat::NotNeeded
+        } else {
+            Flat::Cf(x.sqrt() / (wt * rf))
+        })
+    }
+
     /// Whether the stage's input is a current.
     pub fn current_input(&self) -> bool {
         kind(self.stage.topology).input.is_current()
