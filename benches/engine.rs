@@ -65,7 +65,10 @@ fn step_response(c: &mut Criterion) {
     let linear = scenario::demo();
     let mut slewing = linear.clone();
     slewing.amp.slew = Some(1.0e6);
-    slewing.step = Some(loopwright::model::scenario::Step { size: Some(10.0), size_a: None });
+    slewing.step = Some(loopwright::model::scenario::Step {
+        size: Some(10.0),
+        size_a: None,
+    });
     for (name, s) in [
         ("step_response", &linear),
         ("step_response_slewing", &slewing),
