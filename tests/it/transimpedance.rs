@@ -388,3 +388,23 @@ fn the_warning_and_pairs_name_the_kind() {
     let err = loopwright::commands::parse::parse_pair_topology("Transimpedance").unwrap_err();
     assert!(format!("{err:#}").contains("nothing to pair"), "{err:#}");
 }
+
+/// Switching kind keeps the parts both kinds have (rf, cf) and leaves a
+/// valid stage: the other input's source fields go, a voltage input gets
+/// its source resistance.
+#[test]
+fn switching_kind_keeps_shared_parts() {
+    use loopwright::model::params::set_topology;
+    let s = Scenario::load(std::path::Path::new("scenarios/light_barrier_receiver.ron")).unwrap();
+    let mut v = s.clone();
+    set_topology(&mut v, Topology::NonInverting);
+    assert_eq!(v.stage.rf, s.stage.rf);
+    assert_eq!(v.stage.cf, s.stage.cf);
+    assert!(v.source.cd.is_none() && v.source.idc.is_none() && v.source.r.is_some());
+    assert!(v.validate().is_ok(), "{:?}", v.validate());
+    let mut back = v.clone();
+    set_topology(&mut back, Topology::Transimpedance);
+    assert_eq!(back.stage.rf, s.stage.rf);
+    assert!(back.source.r.is_none() && back.source.dc.is_none());
+    assert!(back.validate().is_ok(), "{:?}", back.validate());
+}
