@@ -1167,7 +1167,10 @@ pub fn set_topology(s: &mut Scenario, t: Topology) {
     }
     // The fields of the other kind of input go; one the new kind needs
     // (a voltage source's r) starts at its starting value.
-    for p in PARAMS.iter().filter(|p| matches!(p.access, Access::Number { .. })) {
+    for p in PARAMS
+        .iter()
+        .filter(|p| matches!(p.access, Access::Number { .. }))
+    {
         if !p.inputs.admit(s) {
             p.set(s, None);
         } else if p.raw(s).is_none() && p.check(s).is_some() {
