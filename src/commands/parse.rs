@@ -85,9 +85,20 @@ pub fn parse_pair_topology(text: &str) -> Result<Topology> {
         .filter(|t| t.has_resistors())
         .find(|t| t.name().eq_ignore_ascii_case(text.trim()))
         .with_context(|| {
-            format!(
-                "`{text}`: use {} (a follower has no rg or rf)",
-                Topology::with_resistors(" or ")
-            )
+            let without = Topology::ALL
+                .into_iter()
+                .find(|t| t.name().eq_ignore_ascii_case(text.trim()))
+                .filter(|t| *t != Topology::Follower);
+            match without {
+                Some(t) => format!(
+                    "`{text}`: a {} stage has nothing to pair (no rf/rg ratio sets its gain); use {}",
+                    t.name(),
+                    Topology::with_resistors(" or ")
+                ),
+                None => format!(
+                    "`{text}`: use {} (a follower has no rg or rf)",
+                    Topology::with_resistors(" or ")
+                ),
+            }
         })
 }

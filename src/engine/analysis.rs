@@ -8,6 +8,7 @@ pub use crate::engine::circuit::{
 pub use crate::engine::netlist::MAX_NOISE;
 use crate::engine::netlist::{AmpModel, Netlist, NoiseKind};
 use crate::model::scenario::{present, Scenario};
+use crate::model::stages::GainUnit;
 use crate::num::refine::{
     bracket, log_grid, refine_between, refine_max, segment_integral, unwrap_near,
 };
@@ -64,6 +65,13 @@ pub struct Analysis {
     pub supply_rejection_db: Option<f64>,
     /// The peak output ripple (V), when `supply.ripple` is given.
     pub ripple_out_v: Option<f64>,
+    /// The unit of the stage's gain (V/A for a current input).
+    pub gain_unit: GainUnit,
+    /// A current input's noise referred to the input: the output density
+    /// at 1 kHz over |gain| there (A/√Hz), and √∫ (e_out/|gain|)² df over
+    /// the band (A); None for voltage inputs.
+    pub noise_current_density_1khz: Option<f64>,
+    pub noise_current_rms: Option<f64>,
     pub sweep: Sweep,
     /// The point at DC.
     pub dc: Point,
@@ -105,6 +113,18 @@ fn crossover(
         unwrap_near(loop_at(fc), grid[i - 1].2)
     };
     Some((fc, 180.0 + phase))
+}
+
+/// The output noise referred to the input through |gain| at each point,
+/// integrated over the band (input units², the same exact power-law
+/// segments as the output's).
+fn input_referred_power(points: &[Point], lo: f64, hi: f64) -> f64 {
+    let referred = |p: &Point| p.noise_psd.iter().sum::<f64>() / p.gain.norm_sqr();
+    points
+        .windows(2)
+        .filter(|w| w[1].f_hz > lo && w[0].f_hz < hi)
+        .map(|w| segment_integral(w[0].f_hz, referred(&w[0]), w[1].f_hz, referred(&w[1])))
+        .sum()
 }
 
 /// Integrated noise power per source over the band, V².
@@ -439,6 +459,14 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
     } else {
         Default::default()
     };
+    let at_1k = circuit.eval_or_blank(1.0e3);
+    let current = s.current_input();
+    let noise_current_density_1khz = current
+        .then(|| at_1k.noise_density() / at_1k.gain.norm())
+        .filter(|v| v.is_finite());
+    let noise_current_rms = current
+        .then(|| input_referred_power(&sweep.points, s.band.0, s.band.1).sqrt())
+        .filter(|v| v.is_finite());
     let gain_error = if ideal_gain != 0.0 && ideal_gain.is_finite() {
         (dc_gain - ideal_gain) / ideal_gain
     } else {
@@ -462,11 +490,14 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         zin_dc_ohm: dc.zin.map(|z| z.re),
         zout_1khz_ohm: circuit.eval(1.0e3).map(|p| p.zout.norm()),
         zout_at_ohm: zout_probe_hz(s).and_then(|f| circuit.eval(f).map(|p| p.zout.norm())),
-        noise_density_1khz: circuit.eval_or_blank(1.0e3).noise_density(),
+        noise_density_1khz: at_1k.noise_density(),
         noise_rms,
         noise_sources,
         supply_rejection_db,
         ripple_out_v,
+        gain_unit: s.stage.topology.kind().gain_unit,
+        noise_current_density_1khz,
+        noise_current_rms,
         sweep,
         dc,
         limits,

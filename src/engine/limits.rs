@@ -300,7 +300,7 @@ fn dc_errors(s: &Scenario, l: &mut Limits, dc: &Dc, dc_gain: f64) {
         l.out_offset_max_v =
             Some(bias.abs() + dc.vos * out.hvos.abs() + 0.5 * dc.ios * (out.zp - out.zn).abs());
     }
-    if s.source.dc.is_some() || a.ib.is_some() || out.held != 0.0 {
+    if s.signal_dc().is_some() || a.ib.is_some() || out.held != 0.0 {
         l.out_dc_v = Some(held_plus(dc_gain * dc.source_dc + bias, out.held));
     }
 }
@@ -380,7 +380,7 @@ fn envelope(s: &Scenario, l: &mut Limits, sweep: &Sweep, peak: f64) {
 
 /// The signal limits over the band (section "Signal limits").
 fn signal_limits(s: &Scenario, l: &mut Limits, dc: &Dc, circuit: &Circuit, sweep: &Sweep) {
-    let Some(peak) = s.source.peak else {
+    let Some(peak) = s.signal_peak() else {
         return;
     };
     l.signal_given = true;
@@ -411,11 +411,11 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
             || a.vos_drift.is_some()
             || a.ib.is_some()
             || a.ios.is_some()
-            || s.source.dc.is_some()
+            || s.signal_dc().is_some()
             || !circuit.net.held.is_empty(),
         ..Limits::default()
     };
-    if !l.dc_given && s.source.peak.is_none() {
+    if !l.dc_given && s.signal_peak().is_none() {
         return l;
     }
     let Some(t) = dc_transfers(circuit) else {
@@ -424,7 +424,7 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
     l.dc = t;
     l.vos_at_temp = a.vos.unwrap_or(0.0) + a.vos_drift.unwrap_or(0.0) * (s.temp_c - 25.0).abs();
     let mut dc = Dc {
-        source_dc: s.source.dc.unwrap_or(0.0),
+        source_dc: s.signal_dc().unwrap_or(0.0),
         ib: a.current_at_temp(a.ib.unwrap_or(0.0), s.temp_c),
         ios: a.current_at_temp(a.ios.unwrap_or(0.0), s.temp_c),
         vos: l.vos_at_temp,
@@ -440,7 +440,7 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
         l.bias_balance_ohm = bias_balance(s, t.out.zp + t.out.zn);
     }
     signal_limits(s, &mut l, &dc, circuit, sweep);
-    if s.source.peak.is_none() && s.supply.is_some() {
+    if s.signal_peak().is_none() && s.supply.is_some() {
         let mut t = l.clone();
         output_range(s, &mut t, &dc, 0.0, 0.0);
         input_range(s, &mut t, &dc, 0.0);

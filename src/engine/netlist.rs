@@ -56,6 +56,9 @@ pub enum NoiseKind {
     AmpVoltage,
     /// The amplifier's current noise at one input.
     AmpCurrent,
+    /// The shot noise of a current input's DC current: given by the
+    /// application.
+    SourceShot,
 }
 
 /// A noise source of the stage and the way it couples in.
@@ -307,6 +310,8 @@ pub const MAX_NOISE: usize = 12;
 
 /// Boltzmann constant, J/K (SI 2019, exact).
 pub const BOLTZMANN: f64 = 1.380649e-23;
+/// Elementary charge, C (SI 2019, exact).
+pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
 
 /// The noisy resistors a stage can have: the source's own, and every
 /// resistor a kind declares (labelled by its name).
@@ -326,7 +331,8 @@ const _: () = {
         let parts = KINDS[i].parts;
         let sources = match KINDS[i].input {
             Input::Voltage => 1,
-            Input::Current => 0,
+            // A current input's shot noise.
+            Input::Current => 1,
             Input::Pair { .. } => 2,
         };
         // The reference input's resistance is one more.
@@ -385,7 +391,7 @@ fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = 
     let shown = move |d: &PartDecl| {
         d.with
             .and_then(|w| decl.parts.iter().find(|p| p.name == w))
-            .is_none_or(|w| w.value(st) > 0.0)
+            .is_none_or(|w| w.value(s) > 0.0)
     };
     decl.parts
         .iter()
@@ -396,9 +402,9 @@ fn kind_parts<'a>(s: &'a Scenario, decl: &'static Kind) -> impl Iterator<Item = 
             match d.element {
                 Kinds::Wire => Some(Part::Wire(a, b)),
                 Kinds::Resistor => {
-                    Some(Part::Resistor(a, b, d.value(st), Some(Noisy::Part(d.name))))
+                    Some(Part::Resistor(a, b, d.value(s), Some(Noisy::Part(d.name))))
                 }
-                Kinds::Capacitor => present(Some(d.value(st))).map(|c| Part::Capacitor(a, b, c)),
+                Kinds::Capacitor => present(Some(d.value(s))).map(|c| Part::Capacitor(a, b, c)),
             }
         })
 }
@@ -428,7 +434,7 @@ fn parts(s: &Scenario, decl: &'static Kind, model: AmpModel) -> Vec<Part> {
     let amp = &s.amp;
     let mut p = Vec::new();
     if !matches!(decl.input, Input::Current) {
-        emf_parts(&mut p, Src, Term, s.source.r, Noisy::Source);
+        emf_parts(&mut p, Src, Term, s.source.r.unwrap_or(0.0), Noisy::Source);
     }
     if let Some(r2) = second_r(s, decl) {
         emf_parts(&mut p, Src2, Term2, r2, Noisy::Source2);
@@ -694,7 +700,7 @@ impl Netlist {
         let mut next = count;
         let drive = match decl.input {
             Input::Current => Drive::Current { node: node(Term) },
-            _ => voltage_drive(node(Src), node(Term), s.source.r, &mut next),
+            _ => voltage_drive(node(Src), node(Term), s.source.r.unwrap_or(0.0), &mut next),
         };
         let en_row = next;
         let norton_amp = model == AmpModel::Real && s.amp.ro > 0.0;
@@ -711,7 +717,7 @@ impl Netlist {
             .bias
             .map(|level| Held {
                 drive: voltage_drive(node(Bias), node(Bias), 0.0, &mut next),
-                level: level(&s.stage),
+                level: level(s),
             })
             .into_iter()
             .chain(s.reference.map(|rf| Held {
@@ -720,6 +726,18 @@ impl Netlist {
             }))
             .collect();
         noise.extend(amp_noise(&s.amp, en_row, node));
+        if decl.input.is_current() {
+            // Schottky: a DC current I carries a white current noise of
+            // 2·q·|I| A²/Hz, injected where the input current enters.
+            noise.push(NoiseSource {
+                key: "shot",
+                label: "input shot noise",
+                kind: NoiseKind::SourceShot,
+                coupling: Coupling::Current(None, node(Term)),
+                white: 2.0 * ELEMENTARY_CHARGE * s.signal_dc().unwrap_or(0.0).abs(),
+                corner: 0.0,
+            });
+        }
         let amp = &s.amp;
         Netlist {
             dim: next,

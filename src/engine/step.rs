@@ -1051,7 +1051,7 @@ pub fn any_unstable(poles: &[C64]) -> bool {
 /// form: around a nullor or with an index-2 loop of capacitors and ideal
 /// sources).
 pub fn step_response(s: &Scenario, net: &Netlist, f_ref: f64, unstable: bool) -> StepResponse {
-    let size = s.step.map_or(DEFAULT_STEP_V, |x| x.size);
+    let size = s.step_size();
     if unstable || !(f_ref.is_finite() && f_ref > 0.0) {
         return StepResponse::blank(size);
     }
@@ -1123,7 +1123,7 @@ fn simulate(
     f_ref: f64,
 ) -> Option<StepResponse> {
     let lim = limits_of(s);
-    let e0 = s.source.dc.unwrap_or(0.0);
+    let e0 = s.signal_dc().unwrap_or(0.0);
     let e1 = e0 + size;
     let out = eq.out?;
     let (x0, held) = dc_state(eq, e0, &lim)?;

@@ -6,6 +6,7 @@
 //! To add a figure: compute it in the analysis, then add one entry here.
 
 use crate::judge::Evaluation;
+use crate::model::stages::GainUnit;
 use crate::model::values::{fmt_eng, spelled};
 
 /// How a figure's number reads.
@@ -256,7 +257,7 @@ use Section::{DcErrors, Gain, Impedance, Kick, Loop, Noise, SignalLimits, Step, 
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 56] = [
+pub static FIGURES: [Figure; 58] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -423,6 +424,26 @@ pub static FIGURES: [Figure; 56] = [
         |e| Some(e.analysis.noise_rms),
     )
     .closed_loop(),
+    fig(
+        "noise_current_density_1khz",
+        "input noise 1 kHz",
+        "in@1k",
+        Si("A/√Hz"),
+        Noise,
+        REPORT,
+        |e| e.analysis.noise_current_density_1khz,
+    )
+    .given(),
+    fig(
+        "noise_current_rms",
+        "input noise rms",
+        "in rms",
+        Si("A"),
+        Noise,
+        REPORT,
+        |e| e.analysis.noise_current_rms,
+    )
+    .given(),
     fig(
         "warnings",
         "warnings",
@@ -847,7 +868,113 @@ fn fixed(v: f64, decimals: usize, signed: bool) -> String {
     }
 }
 
+/// A transimpedance in engineering notation to four significant digits
+/// with its level in dBΩ: "−1.000 MΩ (120.0 dBΩ)".
+fn ohms_and_db(v: f64, signed: bool) -> String {
+    let db = 20.0 * v.abs().log10();
+    format!("{} ({} dBΩ)", ohms(v, signed), fixed(db, 1, false))
+        .replace('Ω', &crate::model::values::spelled("Ω"))
+}
+
+/// A transimpedance to four significant digits, trailing zeros kept
+/// ("−1.000 MΩ"; a minus sign, or "-" in ASCII spelling).
+fn ohms(v: f64, signed: bool) -> String {
+    const PREFIXES: [&str; 9] = ["p", "n", "µ", "m", "", "k", "M", "G", "T"];
+    let a = v.abs();
+    let mut exp3 = if a > 0.0 {
+        (a.log10() / 3.0).floor() as i32
+    } else {
+        0
+    };
+    exp3 = exp3.clamp(-4, 4);
+    let mut m = a / 10f64.powi(3 * exp3);
+    if (m * 1000.0).round() / 1000.0 >= 1000.0 && exp3 < 4 {
+        exp3 += 1;
+        m /= 1000.0;
+    }
+    let digits = match m {
+        x if x >= 100.0 => 1,
+        x if x >= 10.0 => 2,
+        _ => 3,
+    };
+    let minus = if crate::model::values::ascii_units() {
+        "-"
+    } else {
+        "−"
+    };
+    let sign = match (v < 0.0, signed && v > 0.0) {
+        (true, _) => minus,
+        (false, true) => "+",
+        _ => "",
+    };
+    let prefix = crate::model::values::spelled(PREFIXES[(exp3 + 4) as usize]);
+    format!(
+        "{sign}{m:.digits$} {prefix}{}",
+        crate::model::values::spelled("Ω")
+    )
+}
+
 impl Figure {
+    /// Whether the figure is the stage's gain read in ohms: a gain figure
+    /// of a stage whose gain is in V/A.
+    fn in_ohms(&self, e: &Evaluation) -> bool {
+        self.unit == Ratio && self.section == Gain && e.analysis.gain_unit == GainUnit::VoltsPerAmp
+    }
+
+    /// The figure's name for this stage: a transimpedance stage's DC gain
+    /// is its transimpedance.
+    pub fn label_in(&self, e: &Evaluation) -> &'static str {
+        match self.key {
+            "dc_gain" if self.in_ohms(e) => "transimpedance",
+            _ => self.label,
+        }
+    }
+
+    /// The figure's unit for this stage: a gain in V/A reads in ohms, a
+    /// current step in amperes.
+    pub fn unit_in(&self, e: &Evaluation) -> Unit {
+        let amps = e.analysis.gain_unit == GainUnit::VoltsPerAmp;
+        match self.key {
+            _ if self.in_ohms(e) => Si("Ω"),
+            "size_v" if amps => Si("A"),
+            _ => self.unit,
+        }
+    }
+
+    /// [`Figure::text`] in this stage's unit.
+    pub fn text_in(&self, e: &Evaluation, r: Reading) -> String {
+        match r {
+            Reading::Value(v) if self.in_ohms(e) && v != 0.0 => ohms_and_db(v, false),
+            Reading::Value(v) if self.unit_in(e) != self.unit => self.unit_in(e).number(v, false),
+            _ => self.text(r),
+        }
+    }
+
+    /// [`Figure::cell`] in this stage's unit.
+    pub fn cell_in(&self, e: &Evaluation, r: Reading, signed: bool) -> String {
+        match r {
+            Reading::Value(v) if self.in_ohms(e) => ohms(v, signed).replace(' ', ""),
+            Reading::Value(v) if self.unit_in(e) != self.unit => self.unit_in(e).cell(v, signed),
+            _ => self.cell(r, signed),
+        }
+    }
+
+    /// [`Figure::number`] for a stage whose gain is in `u`.
+    pub fn number_for(&self, u: GainUnit, v: f64, signed: bool) -> String {
+        let amps = u == GainUnit::VoltsPerAmp;
+        match self.key {
+            _ if amps && self.unit == Ratio && self.section == Gain => ohms(v, signed),
+            "size_v" if amps => Si("A").number(v, signed),
+            _ => self.number(v, signed),
+        }
+    }
+
+    /// Whether the figure reads in different units in two stages (a gain
+    /// in V/V against one in V/A): their difference means nothing.
+    pub fn units_differ(&self, a: GainUnit, b: GainUnit) -> bool {
+        a != b && ((self.unit == Ratio && self.section == Gain) || self.key == "size_v")
+    }
+
     /// The figure of one evaluated stage.
     pub fn read(&self, e: &Evaluation) -> Reading {
         self.read_value(e, (self.read)(e))
@@ -956,6 +1083,9 @@ impl Unit {
 
 /// B − A of a figure, where both are defined.
 pub fn delta(f: &Figure, a: &Evaluation, b: &Evaluation) -> Option<f64> {
+    if f.units_differ(a.analysis.gain_unit, b.analysis.gain_unit) {
+        return None;
+    }
     match (f.read(a), f.read(b)) {
         (Reading::Value(x), Reading::Value(y)) => Some(y - x).filter(|d| d.is_finite()),
         _ => None,

@@ -171,7 +171,7 @@ pub fn output_current(cx: &Context, w: &mut Vec<Warning>) {
 /// The worst-case DC offset is large against the output signal.
 pub fn dc_offset(cx: &Context, w: &mut Vec<Warning>) {
     let l = &cx.a.limits;
-    let (Some(offset), Some(peak)) = (l.out_offset_max_v, cx.s.source.peak) else {
+    let (Some(offset), Some(peak)) = (l.out_offset_max_v, cx.s.signal_peak()) else {
         return;
     };
     let signal = peak * cx.a.dc_gain.abs();

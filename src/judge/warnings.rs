@@ -88,7 +88,14 @@ fn load_note(s: &Scenario) -> String {
 }
 
 /// The usual fix for a lack of phase margin, in plain words.
-fn margin_fix(s: &Scenario) -> &'static str {
+fn margin_fix(s: &Scenario) -> String {
+    // A current-input stage: the maximally flat cf is the fix.
+    if let Some(crate::model::stages::Flat::Cf(c)) = s.flat_cf() {
+        return format!(
+            "; a feedback capacitor near the maximally flat {} restores it (stabilize lists it)",
+            crate::model::values::fmt_eng_sig(c, "F", 3)
+        );
+    }
     match (present(s.load.c), present(s.stage.riso)) {
         (Some(_), None) => {
             "; an isolation resistor before the load capacitance usually restores it"
@@ -98,6 +105,7 @@ fn margin_fix(s: &Scenario) -> &'static str {
         }
         (None, _) => "; a feedback capacitor or a higher noise gain usually restores it",
     }
+    .to_string()
 }
 
 /// A right-half-plane pole the margin does not show (it reads positive,
@@ -232,7 +240,7 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
 /// The parts that pull the passive network's gain off the resistor ratio.
 fn divider_parts(s: &Scenario) -> Vec<String> {
     let mut parts = Vec::new();
-    let source = present(Some(s.source.r)).filter(|_| s.stage.topology.kind().source_in_network);
+    let source = present(s.source.r).filter(|_| s.stage.topology.kind().source_in_network);
     if let Some(r) = source {
         parts.push(format!("source r {} in series with rg", fmt_eng(r, "Ω")));
     }
@@ -316,7 +324,9 @@ fn resistor_noise(cx: &Context, w: &mut Vec<Warning>) {
     let changeable = a
         .noise_sources
         .iter()
-        .filter(|n| n.kind != NoiseKind::SourceResistance && n.share > 0.0)
+        .filter(|n| {
+            !matches!(n.kind, NoiseKind::SourceResistance | NoiseKind::SourceShot) && n.share > 0.0
+        })
         .max_by(|x, y| x.share.total_cmp(&y.share));
     let text = if source_share > SOURCE_NOISE_SHARE {
         let floor = source.iter().map(|n| n.rms * n.rms).sum::<f64>().sqrt();
@@ -370,7 +380,7 @@ fn noise_advice(n: &crate::engine::analysis::NoiseShare) -> String {
              an amplifier with lower current noise, or lower resistance at its inputs, reduces it",
             n.label
         ),
-        NoiseKind::SourceResistance => String::new(),
+        NoiseKind::SourceResistance | NoiseKind::SourceShot => String::new(),
     }
 }
 

@@ -132,6 +132,29 @@ pub struct Param {
     /// Shown (pane, report, note) only when this holds or the value is
     /// given: a qualifier of other fields (None: always shown).
     pub qualifies: Option<fn(&Scenario) -> bool>,
+    /// The kinds of input the field belongs to (refused for the others).
+    pub inputs: Inputs,
+}
+
+/// Which stages a field belongs to, by the kind of their input.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Inputs {
+    Any,
+    /// Kinds driven by voltages (one input or a pair).
+    Voltage,
+    /// Kinds driven by a current.
+    Current,
+}
+
+impl Inputs {
+    /// Whether a stage of this scenario's kind has the field.
+    pub fn admit(self, s: &Scenario) -> bool {
+        match self {
+            Inputs::Any => true,
+            Inputs::Voltage => !s.current_input(),
+            Inputs::Current => s.current_input(),
+        }
+    }
 }
 
 /// A reference to a table entry; compared by identity of the path.
@@ -199,7 +222,19 @@ pub const SPREAD: (f64, f64) = (0.0, 0.99);
 pub const TRIALS: (f64, f64) = (1.0, 1.0e6);
 /// Seeds are whole numbers a double holds exactly.
 pub const SEED: (f64, f64) = (0.0, 9.007_199_254_740_992e15);
+/// A gain in V/V (pairs, a voltage stage's target).
 pub const GAIN_TARGET: (f64, f64) = (-1.0e9, 1.0e9);
+/// A gain target in V/A (a transimpedance) reaches 1e13; in V/V the
+/// cross-check holds it to [`GAIN_TARGET`].
+pub const GAIN_TARGET_VA: (f64, f64) = (-1.0e13, 1.0e13);
+/// A photodiode's shunt resistance.
+pub const RSH: (f64, f64) = (1.0e3, 1.0e12);
+/// A current input's DC current and step (A, either sign).
+pub const IDC: (f64, f64) = (-1.0e-2, 1.0e-2);
+/// A current input's peak (A).
+pub const IPEAK: (f64, f64) = (0.0, 1.0);
+/// The photodiode's far-terminal level (V).
+pub const BIAS: (f64, f64) = (-100.0, 100.0);
 pub const FRACTION: (f64, f64) = (0.0, 1.0);
 pub const DB_LIMIT: (f64, f64) = (0.0, 100.0);
 pub const DEG_LIMIT: (f64, f64) = (0.0, 180.0);
@@ -319,6 +354,9 @@ fn tidy(s: &mut Scenario) {
     if s.spec.as_ref().is_some_and(|b| *b == Default::default()) {
         s.spec = None;
     }
+    if s.step.as_ref().is_some_and(|b| *b == Default::default()) {
+        s.step = None;
+    }
 }
 
 /// One table row; the builder methods below set the less common parts.
@@ -347,6 +385,7 @@ const fn entry(
         whole: false,
         note: None,
         qualifies: None,
+        inputs: Inputs::Any,
     }
 }
 
@@ -371,6 +410,10 @@ impl Param {
         self.whole = true;
         self
     }
+    const fn only(mut self, inputs: Inputs) -> Param {
+        self.inputs = inputs;
+        self
+    }
 }
 
 use Group::{Amplifier, Environment, SourceLoad, Spread, Stage, SupplySignal};
@@ -378,7 +421,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 84] = [
+pub static PARAMS: [Param; 91] = [
     entry(
         "stage.topology",
         "topology",
@@ -813,8 +856,33 @@ pub static PARAMS: [Param; 84] = [
         OneTwoFive,
         ZeroAllowed,
         OHMS,
-        number!(req source.r),
-    ),
+        number!(opt source.r),
+    )
+    .only(Inputs::Voltage),
+    entry(
+        "source.cd",
+        "diode c",
+        "F",
+        SourceLoad,
+        Capacitor,
+        Optional,
+        STAGE_FARADS,
+        number!(opt source.cd),
+    )
+    .starting(|_| 10e-12)
+    .only(Inputs::Current),
+    entry(
+        "source.rsh",
+        "diode rsh",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        RSH,
+        number!(opt source.rsh),
+    )
+    .starting(|_| 1e9)
+    .only(Inputs::Current),
     entry(
         "load.r",
         "load r",
@@ -1071,7 +1139,20 @@ pub static PARAMS: [Param; 84] = [
         Optional,
         VOLTS,
         number!(opt source.dc),
-    ),
+    )
+    .only(Inputs::Voltage),
+    entry(
+        "source.idc",
+        "input dc",
+        "A",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        IDC,
+        number!(opt source.idc),
+    )
+    .starting(|_| 1e-9)
+    .only(Inputs::Current),
     entry(
         "source.peak",
         "peak",
@@ -1082,7 +1163,31 @@ pub static PARAMS: [Param; 84] = [
         PEAK,
         number!(opt source.peak),
     )
-    .starting(|_| 1.0),
+    .starting(|_| 1.0)
+    .only(Inputs::Voltage),
+    entry(
+        "source.ipeak",
+        "peak",
+        "A",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        IPEAK,
+        number!(opt source.ipeak),
+    )
+    .starting(|_| 1e-6)
+    .only(Inputs::Current),
+    entry(
+        "source.bias",
+        "diode bias",
+        "V",
+        SupplySignal,
+        Linear(0.5),
+        Optional,
+        BIAS,
+        number!(opt source.bias),
+    )
+    .only(Inputs::Current),
     entry(
         "step.size",
         "step",
@@ -1091,15 +1196,22 @@ pub static PARAMS: [Param; 84] = [
         OneTwoFive,
         Optional,
         VOLTS,
-        Access::Number {
-            get: |s| s.step.map(|x| x.size),
-            set: |s, v| match (v, s.step.as_mut()) {
-                (Some(size), Some(step)) => step.size = size,
-                (v, _) => s.step = v.map(Step::of),
-            },
-        },
+        block!(step.size),
     )
-    .starting(|_| crate::model::scenario::DEFAULT_STEP_V),
+    .starting(|_| crate::model::scenario::DEFAULT_STEP_V)
+    .only(Inputs::Voltage),
+    entry(
+        "step.size_a",
+        "step",
+        "A",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        IDC,
+        block!(step.size_a),
+    )
+    .starting(|_| crate::model::scenario::DEFAULT_STEP_A)
+    .only(Inputs::Current),
     entry(
         "step.settle_bits",
         "ts bits",
@@ -1246,6 +1358,19 @@ pub static PARAMS: [Param; 84] = [
     .starting(|_| 0.2)
     .shown(Format::Percent),
     entry(
+        "spread.cd_tol",
+        "cd spread",
+        "",
+        Spread,
+        List(&SPREADS),
+        Optional,
+        SPREAD,
+        block!(spread.cd_tol),
+    )
+    .starting(|_| 0.1)
+    .shown(Format::Percent)
+    .only(Inputs::Current),
+    entry(
         "spread.trials",
         "trials",
         "",
@@ -1275,7 +1400,7 @@ pub static PARAMS: [Param; 84] = [
         Spread,
         OneTwoFive,
         Optional,
-        GAIN_TARGET,
+        GAIN_TARGET_VA,
         block!(spec.gain_target),
     )
     .starting(Scenario::nominal_gain),
@@ -1488,6 +1613,18 @@ pub fn set_topology(s: &mut Scenario, t: Topology) {
             p.set(s, Some(start));
         }
     }
+    // The fields of the other kind of input go; one the new kind needs
+    // (a voltage source's r) starts at its starting value.
+    for p in PARAMS
+        .iter()
+        .filter(|p| matches!(p.access, Access::Number { .. }))
+    {
+        if !p.inputs.admit(s) {
+            p.set(s, None);
+        } else if p.raw(s).is_none() && p.check(s).is_some() {
+            p.set(s, Some((p.start)(s)));
+        }
+    }
 }
 
 impl Param {
@@ -1499,7 +1636,8 @@ impl Param {
         if self.path == "stage.feedback" {
             return present(s.stage.riso).is_some();
         }
-        !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
+        self.inputs.admit(s)
+            && !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
             && self
                 .qualifies
                 .is_none_or(|when| when(s) || self.raw(s).is_some())
@@ -1777,6 +1915,17 @@ impl Param {
                     self.label
                 ));
             }
+            Some(_) if !self.inputs.admit(s) => {
+                let name = s.stage.topology.name();
+                let (has, other) = match self.inputs {
+                    Inputs::Current => ("a voltage input", "current"),
+                    _ => ("a current input", "voltage"),
+                };
+                return problem(format!(
+                    "the {name} stage has {has}: {} belongs to {other}-input stages only; remove it",
+                    self.path
+                ));
+            }
             Some(v) => v,
         };
         if !v.is_finite() {
@@ -1837,11 +1986,10 @@ fn set_threshold(s: &mut Scenario, v: Option<(Option<u32>, Option<f64>)>) {
     if bits.is_none() && to.is_none() && s.step.is_none() {
         return;
     }
-    let step = s
-        .step
-        .get_or_insert_with(|| Step::of(crate::model::scenario::DEFAULT_STEP_V));
+    let step = s.step.get_or_insert_with(Step::default);
     step.settle_bits = bits;
     step.settle_to = to;
+    tidy(s);
 }
 
 /// One settling threshold at most: `settle_bits` and `settle_to` say the
@@ -1987,6 +2135,20 @@ fn spread_checks(s: &Scenario) -> Vec<FieldProblem> {
             field: "spec.gain_target".into(),
             message: "0 is not a gain target: the error is relative to it".into(),
         });
+    }
+    // A gain in V/V stays within the narrower range (V/A reaches 1e13).
+    if let Some(t) = s.spec.as_ref().and_then(|b| b.gain_target) {
+        let (lo, hi) = GAIN_TARGET;
+        if !s.current_input() && (t < lo || t > hi) {
+            p.push(FieldProblem {
+                field: "spec.gain_target".into(),
+                message: format!(
+                    "{t} is outside the accepted range {} to {} for a gain in V/V",
+                    fmt_compact(lo),
+                    fmt_compact(hi)
+                ),
+            });
+        }
     }
     // The target is signed like the stage's gain: −rf/rg inverting, else
     // positive; the other sign would read as an error near −200 %.

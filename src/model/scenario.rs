@@ -20,23 +20,26 @@ pub enum Topology {
     NonInverting,
     Inverting,
     Follower,
+    Transimpedance,
 }
 
 impl Topology {
     /// Every topology, in the order the lists and the workbench give them.
-    pub const ALL: [Topology; 3] = [
+    pub const ALL: [Topology; 4] = [
         Topology::NonInverting,
         Topology::Inverting,
         Topology::Follower,
+        Topology::Transimpedance,
     ];
     /// Their names, as in a stage file.
-    pub const NAMES: [&'static str; 3] = names_of!(Topology, 3);
+    pub const NAMES: [&'static str; 4] = names_of!(Topology, 4);
 
     pub const fn name(self) -> &'static str {
         match self {
             Topology::NonInverting => "NonInverting",
             Topology::Inverting => "Inverting",
             Topology::Follower => "Follower",
+            Topology::Transimpedance => "Transimpedance",
         }
     }
 }
@@ -432,11 +435,17 @@ impl Amp {
     }
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Source {
-    #[serde(deserialize_with = "number")]
-    pub r: f64,
+    /// The source resistance (Ω; voltage inputs only, where it is needed).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r: Option<f64>,
     /// DC level of the source EMF (V).
     #[serde(
         default,
@@ -454,6 +463,46 @@ pub struct Source {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub peak: Option<f64>,
+    /// A current input's photodiode: its capacitance (F) and shunt
+    /// resistance (Ω; absent = open) from the − input to its far terminal.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cd: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub rsh: Option<f64>,
+    /// A current input's DC current (A, into the − input) and peak signal
+    /// current (A).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub idc: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub ipeak: Option<f64>,
+    /// The DC level of the diode's far terminal (V; AC ground).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub bias: Option<f64>,
 }
 
 /// The supply rails (V), neg below pos.
@@ -519,12 +568,25 @@ pub struct Reference {
     pub c: Option<f64>,
 }
 
-/// The step of the source EMF for the step response (V, not zero).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+/// The step of the input for the step response: the source EMF's (V,
+/// voltage inputs) or the input current's (A, a current input); not zero.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Step {
-    #[serde(deserialize_with = "number")]
-    pub size: f64,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub size: Option<f64>,
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub size_a: Option<f64>,
     /// Settle to half an LSB of this many bits: 2^−(N+1) of the final
     /// value (`settle_to_s`). Not with `settle_to`.
     #[serde(
@@ -548,9 +610,8 @@ impl Step {
     /// A step of `size` volts with no settling threshold.
     pub fn of(size: f64) -> Step {
         Step {
-            size,
-            settle_bits: None,
-            settle_to: None,
+            size: Some(size),
+            ..Step::default()
         }
     }
 
@@ -689,6 +750,14 @@ pub struct Spread {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub ro_tol: Option<f64>,
+    /// A photodiode's capacitance within ±cd_tol (fraction).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cd_tol: Option<f64>,
     /// Monte Carlo trials (2000 without it).
     #[serde(
         default,
@@ -963,6 +1032,8 @@ fn bare<T: Serialize, S: serde::Serializer>(v: &Option<T>, s: S) -> Result<S::Ok
 
 /// The step without a `step` field, volts.
 pub const DEFAULT_STEP_V: f64 = 0.01;
+/// A current input's step without `step.size_a`, amperes.
+pub const DEFAULT_STEP_A: f64 = 1.0e-6;
 
 /// A number as a file may write it: bare (`19100.0`), or as a designer
 /// writes it, in SI or IEC 60062 RKM notation (`"19k1"`, `"4.7n"`, `"10M"`).

@@ -257,6 +257,20 @@ pub fn options_for(s: &Scenario, margin: f64) -> Result<Options> {
     stabilize::options(s, margin).or_else(|e| bail!("--margin {margin}: {e}"))
 }
 
+/// What the maximally flat cf of a current-input stage is, if it has one.
+pub fn flat_text(o: &Options) -> Option<String> {
+    Some(match o.flat? {
+        stabilize::Flat::NotNeeded => {
+            "no cf is needed for a flat response (2·ω_t·rf·C_i ≤ 1)".to_string()
+        }
+        stabilize::Flat::Cf(c) => format!(
+            "maximally flat cf {}: √(2·ω_t·rf·C_i − 1)/(ω_t·rf), C_i = cd + cin; \
+             `cf, flat` rows are its nearest E12 value and the next one up",
+            crate::model::values::fmt_eng_sig(c, "F", 3)
+        ),
+    })
+}
+
 /// `stabilize`: the options as text or the JSON object.
 pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>> {
     let o = options_for(s, margin)?;
@@ -285,6 +299,9 @@ pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>
     }
     for miss in &o.misses {
         text.push_str(&format!("  none reaches the target: {miss}\n"));
+    }
+    if let Some(line) = flat_text(&o) {
+        text.push_str(&format!("  {line}\n"));
     }
     buf.extend_from_slice(text.as_bytes());
     Ok(buf)

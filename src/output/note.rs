@@ -78,7 +78,12 @@ fn write_figures(s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result
             if f.needs_input && r == crate::judge::figures::Reading::Undefined {
                 continue;
             }
-            writeln!(w, "| {} | {} |", cell(f.label), cell(&f.text(r)))?;
+            writeln!(
+                w,
+                "| {} | {} |",
+                cell(f.label_in(e)),
+                cell(&f.text_in(e, r))
+            )?;
         }
     }
     writeln!(

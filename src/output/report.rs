@@ -7,6 +7,7 @@ use crate::judge::spread_figures::unit_and_label;
 use crate::judge::{Evaluation, Warning};
 use crate::model::params::{Group, PARAMS};
 use crate::model::scenario::Scenario;
+use crate::model::stages::GainUnit;
 use crate::model::values::{fmt_eng, fmt_fixed, fmt_plain, printable};
 use crate::num::refine::phase_deg;
 use crate::study::over_temperature::{over_temperature, OverTemperature};
@@ -49,6 +50,8 @@ pub struct NoiseReport {
 #[derive(Debug, Clone)]
 pub struct Report {
     pub title: String,
+    /// The unit of the stage's gain figures ("V/V" or "V/A").
+    pub gain_unit: GainUnit,
     pub figures: Vec<(&'static str, Option<f64>)>,
     /// The step response's figures (and, when asked, its waveform).
     pub step: serde_json::Map<String, serde_json::Value>,
@@ -67,6 +70,7 @@ impl Serialize for Report {
         use serde::ser::SerializeMap;
         let mut m = ser.serialize_map(Some(self.figures.len() + 5))?;
         m.serialize_entry("title", &self.title)?;
+        m.serialize_entry("gain_unit", self.gain_unit.text())?;
         for (key, v) in &self.figures {
             m.serialize_entry(key, v)?;
         }
@@ -140,6 +144,12 @@ fn step_object(e: &Evaluation) -> serde_json::Map<String, serde_json::Value> {
         })
         .map(|f| (f.key.to_string(), f.json_value(e)))
         .collect();
+    // A current step is in amperes: its size is `size_a`.
+    if e.analysis.gain_unit == GainUnit::VoltsPerAmp {
+        if let Some(v) = m.remove("size_v") {
+            m.insert("size_a".into(), v);
+        }
+    }
     if let Some(reason) = e.analysis.step.reason {
         m.insert("reason".into(), reason.into());
     }
@@ -151,6 +161,7 @@ impl Report {
         let circuit = Circuit::new(s);
         Report {
             title: s.title.clone(),
+            gain_unit: e.analysis.gain_unit,
             figures: FIGURES
                 .iter()
                 .filter(|f| f.shown.json && f.section.json_object().is_none())
@@ -241,7 +252,9 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
     writeln!(w)?;
     writeln!(w, "{}", sec.title())?;
     if let (Section::Step, Some(reason)) = (sec, e.analysis.step.reason) {
-        let size = fmt_eng(e.analysis.step.size_v, "V");
+        let size = figure("size_v").map_or_else(String::new, |f| {
+            f.number_for(e.analysis.gain_unit, e.analysis.step.size_v, false)
+        });
         writeln!(w, "  {:<18} {size}", "step size")?;
         return writeln!(w, "  {:<18} none: {reason}", "figures");
     }
@@ -253,7 +266,7 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
         if f.needs_input && r == crate::judge::figures::Reading::Undefined {
             continue;
         }
-        writeln!(w, "  {:<18} {}", f.label, f.text(r))?;
+        writeln!(w, "  {:<18} {}", f.label_in(e), f.text_in(e, r))?;
     }
     Ok(())
 }
@@ -512,17 +525,23 @@ impl Comparison {
         )?;
         for d in &self.differences.figures {
             let Some(f) = figure(d.key) else { continue };
-            let show = |v: Option<f64>, signed: bool| match v {
-                Some(v) => f.number(v, signed),
+            let (ua, ub) = (self.a.gain_unit, self.b.gain_unit);
+            let show = |v: Option<f64>, u, signed: bool| match v {
+                Some(v) => f.number_for(u, v, signed),
                 None => "none".into(),
+            };
+            let delta = if f.units_differ(ua, ub) {
+                "—".into()
+            } else {
+                show(d.delta, ua, true)
             };
             writeln!(
                 w,
                 "{:<18} {:>14} {:>14} {:>14}",
                 f.label,
-                show(d.a, false),
-                show(d.b, false),
-                show(d.delta, true)
+                show(d.a, ua, false),
+                show(d.b, ub, false),
+                delta
             )?;
         }
         if let Some(y) = &self.differences.yields {

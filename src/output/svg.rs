@@ -196,7 +196,7 @@ fn footer(stages: &[Evaluated]) -> Vec<String> {
             let cells: Vec<String> = key_figures()
                 .map(|f| {
                     let name = f.short.replace("{f}", "1kHz");
-                    format!("{name} {}", f.cell(f.read(s.eval), false))
+                    format!("{name} {}", f.cell_in(s.eval, f.read(s.eval), false))
                 })
                 .collect();
             let tag = if stages.len() > 1 { tag } else { "" };

@@ -128,7 +128,7 @@ fn impedance_curves(t: &Traces) -> Vec<Curve> {
 
 /// The envelope needs the signal's peak.
 fn needs_peak(s: &Evaluated) -> Option<String> {
-    s.scenario.source.peak.is_none().then(|| {
+    s.scenario.signal_peak().is_none().then(|| {
         format!(
             "the envelope view needs source.peak (the signal's peak at the source); \
              “{}” gives none",

@@ -134,7 +134,8 @@ impl SpreadResult {
 /// The parts that vary, with their extremes: the kind's resistors and the
 /// reference input's r within the stage tolerance, then its capacitors and
 /// the reference's c with the capacitor tolerance (each part of the kind
-/// within its own `stage.part_tolerance` where given), gbw, a0 and ro as
+/// within its own `stage.part_tolerance` where given), a photodiode's
+/// capacitance with `spread.cd_tol`, gbw, a0 and ro as
 /// the spread block gives (the reference's level does not spread).
 pub fn knobs(s: &Scenario) -> Vec<Knob> {
     let b = s.spread.clone().unwrap_or_default();
@@ -172,6 +173,7 @@ pub fn knobs(s: &Scenario) -> Vec<Knob> {
         )])
         .chain(of(Tolerance::Capacitor))
         .chain([spread("reference_c", "reference.c", b.cap_tol)])
+        .chain(of(Tolerance::Diode))
         .chain([
             spread("gbw", "amp.gbw", b.gbw_tol),
             a0,
@@ -188,6 +190,7 @@ pub fn part_tolerance(s: &Scenario, name: &str, class: Tolerance) -> Option<f64>
     match class {
         Tolerance::Resistor => own.or(Some(s.stage.tolerance)),
         Tolerance::Capacitor => own.or(s.spread.as_ref().and_then(|b| b.cap_tol)),
+        Tolerance::Diode => own.or(s.spread.as_ref().and_then(|b| b.cd_tol)),
         Tolerance::None => None,
     }
 }

@@ -6,6 +6,7 @@
 use crate::engine::analysis::{analyze, Analysis};
 use crate::model::eseries::{Series, CAPACITOR_SERIES};
 use crate::model::scenario::{present, Feedback, Scenario, Topology};
+pub use crate::model::stages::Flat;
 use crate::model::values::fmt_eng;
 use serde::Serialize;
 
@@ -27,6 +28,9 @@ pub enum Part {
     /// the in-loop option.
     #[serde(rename = "cf_feedback_at_load")]
     CfAtLoad,
+    /// A cf near the maximally flat value of a current-input stage.
+    #[serde(rename = "cf_flat")]
+    CfFlat,
 }
 
 impl Part {
@@ -36,13 +40,14 @@ impl Part {
             Part::Riso => "riso",
             Part::Cf => "cf",
             Part::CfAtLoad => "cf, feedback at load",
+            Part::CfFlat => "cf, flat",
         }
     }
 
     pub fn unit(self) -> &'static str {
         match self {
             Part::Riso => "Ω",
-            Part::Cf | Part::CfAtLoad => "F",
+            Part::Cf | Part::CfAtLoad | Part::CfFlat => "F",
         }
     }
 
@@ -50,7 +55,7 @@ impl Part {
     fn search(self, s: &Scenario) -> (Series, (f64, f64)) {
         match self {
             Part::Riso => (s.stage.series, RISO_RANGE),
-            Part::Cf | Part::CfAtLoad => (CAPACITOR_SERIES, CF_RANGE),
+            Part::Cf | Part::CfAtLoad | Part::CfFlat => (CAPACITOR_SERIES, CF_RANGE),
         }
     }
 
@@ -58,7 +63,7 @@ impl Part {
     pub fn present(self, s: &Scenario) -> Option<f64> {
         match self {
             Part::Riso => s.stage.riso,
-            Part::Cf | Part::CfAtLoad => s.stage.cf,
+            Part::Cf | Part::CfAtLoad | Part::CfFlat => s.stage.cf,
         }
     }
 
@@ -67,7 +72,7 @@ impl Part {
         let mut out = s.clone();
         match self {
             Part::Riso => out.stage.riso = Some(value),
-            Part::Cf => out.stage.cf = Some(value),
+            Part::Cf | Part::CfFlat => out.stage.cf = Some(value),
             Part::CfAtLoad => {
                 out.stage.cf = Some(value);
                 out.stage.feedback = Feedback::Load;
@@ -129,6 +134,25 @@ pub struct Options {
     pub options: Vec<Fix>,
     /// Parts searched without success, each with its range in words.
     pub misses: Vec<String>,
+    /// A current-input stage's maximally flat cf ([`Scenario::flat_cf`]).
+    pub flat: Option<Flat>,
+}
+
+/// The flat cf's nearest capacitor-series value and the next one up,
+/// each with its figures.
+fn flat_fixes(s: &Scenario, flat: Option<Flat>) -> Vec<Fix> {
+    let Some(Flat::Cf(c)) = flat else {
+        return Vec::new();
+    };
+    let near = CAPACITOR_SERIES.nearest(c);
+    [near, CAPACITOR_SERIES.next_above(near)]
+        .into_iter()
+        .filter_map(|v| {
+            let trial = Part::CfFlat.applied(s, v);
+            trial.validate().ok()?;
+            Some(Fix::new(s, Part::CfFlat, v, &analyze(&trial)))
+        })
+        .collect()
 }
 
 impl Options {
@@ -222,6 +246,7 @@ pub fn options(s: &Scenario, target_deg: f64) -> anyhow::Result<Options> {
         already_met: meets(&now, target_deg),
         options: Vec::new(),
         misses: Vec::new(),
+        flat: s.flat_cf(),
     };
     for part in parts_for(s) {
         match smallest(s, part, target_deg) {
@@ -237,5 +262,6 @@ pub fn options(s: &Scenario, target_deg: f64) -> anyhow::Result<Options> {
             }
         }
     }
+    out.options.extend(flat_fixes(s, out.flat));
     Ok(out)
 }

@@ -101,7 +101,8 @@ pub fn ladder(tol: f64, class: Tolerance) -> Vec<f64> {
     let steps: &[f64] = match class {
         Tolerance::Resistor => &RESISTOR_STEPS,
         Tolerance::Capacitor => &CAPACITOR_STEPS,
-        Tolerance::None => &[],
+        // A photodiode's capacitance is the diode's, not a grade to buy.
+        Tolerance::Diode | Tolerance::None => &[],
     };
     steps
         .iter()

@@ -658,7 +658,7 @@ fn gains_line(app: &App) -> String {
         .iter()
         .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
         .map(|f| {
-            let cell = f.cell(f.read(&slot.eval), false);
+            let cell = f.cell_in(&slot.eval, f.read(&slot.eval), false);
             format!("{} {}", f.short, trim_zeros(&cell))
         })
         .collect();
@@ -1290,13 +1290,18 @@ fn reading(f: &Figure, s: &Slot) -> Reading {
 }
 
 fn figure_cells(s: &Slot, cols: &[&Figure]) -> Vec<String> {
-    cols.iter().map(|f| f.cell(reading(f, s), false)).collect()
+    cols.iter()
+        .map(|f| f.cell_in(&s.eval, reading(f, s), false))
+        .collect()
 }
 
 fn delta_cells(a: &Slot, b: &Slot, cols: &[&Figure]) -> Vec<String> {
     cols.iter()
         .map(|f| match (reading(f, a), reading(f, b)) {
-            (Reading::Value(x), Reading::Value(y)) => f.cell(Reading::Value(y - x), true),
+            _ if f.units_differ(a.eval.analysis.gain_unit, b.eval.analysis.gain_unit) => "—".into(),
+            (Reading::Value(x), Reading::Value(y)) => {
+                f.cell_in(&a.eval, Reading::Value(y - x), true)
+            }
             _ => "—".into(),
         })
         .collect()

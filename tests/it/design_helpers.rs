@@ -203,7 +203,7 @@ fn r_list_uses_the_stage_source_and_load() {
     // An inverting stage behind a 600 Ω source with a spec target of −4.7:
     // the list offers 4.7 and every row's gain is −rf/(rg + 600) in size.
     let mut s = plain(Topology::Inverting, 10e3, 47e3);
-    s.source.r = 600.0;
+    s.source.r = Some(600.0);
     s.spec = Some(loopwright::model::scenario::Spec {
         gain_target: Some(-4.7),
         ..Default::default()
@@ -422,7 +422,7 @@ fn scenario(name: &str) -> Scenario {
 fn smaller_values(s: &Scenario, part: Part, value: f64) -> Vec<f64> {
     let (series, lo) = match part {
         Part::Riso => (s.stage.series, 0.1),
-        Part::Cf | Part::CfAtLoad => (Series::E12, 0.1e-12),
+        Part::Cf | Part::CfAtLoad | Part::CfFlat => (Series::E12, 0.1e-12),
     };
     series_values(series, lo, value * (1.0 - 1e-6))
 }
@@ -431,7 +431,7 @@ fn with_part(s: &Scenario, part: Part, v: f64) -> Scenario {
     let mut t = s.clone();
     match part {
         Part::Riso => t.stage.riso = Some(v),
-        Part::Cf => t.stage.cf = Some(v),
+        Part::Cf | Part::CfFlat => t.stage.cf = Some(v),
         // The in-loop option: rf from the load terminal, after riso.
         Part::CfAtLoad => {
             t.stage.cf = Some(v);

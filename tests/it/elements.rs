@@ -64,7 +64,7 @@ fn input_capacitance_at_both_inputs_of_a_non_inverting_stage() {
     //   H = (1 + rf/rg + jω·rf·cin)/(1 + jω·rs·cin).
     let mut s = fast(plain(Topology::NonInverting, 10e3, 90e3));
     s.amp.cin = Some(10e-12);
-    s.source.r = 100e3;
+    s.source.r = Some(100e3);
     for f in [10e3, 100e3, 300e3] {
         let w = 2.0 * PI * f;
         let want = (10.0 + J * w * 90e3 * 10e-12) / (1.0 + J * w * 100e3 * 10e-12);

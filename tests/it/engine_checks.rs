@@ -25,7 +25,7 @@ fn johnson_noise_of_1k_at_25c() {
     // A follower with a noiseless, very fast op-amp passes the source
     // resistor's noise with gain 1.
     let mut s = follower();
-    s.source.r = 1000.0;
+    s.source.r = Some(1000.0);
     s.amp.a0 = 1.0e9;
     s.amp.gbw = 1.0e12;
     let a = evaluate(&s);
@@ -90,7 +90,7 @@ fn source_resistance_adds_to_rg_in_an_inverting_stage() {
     // Textbook: the source resistance is in series with rg, so the ideal
     // gain is −rf/(rg + rs).
     let mut s = plain(Topology::Inverting, 1e3, 10e3);
-    s.source.r = 1e3;
+    s.source.r = Some(1e3);
     let a = evaluate(&s);
     assert_rel("ideal gain", a.analysis.ideal_gain, -5.0, 1e-12);
 }
@@ -259,7 +259,7 @@ fn input_impedance_closed_forms() {
     let mut s = plain(Topology::NonInverting, 1e3, 9e3);
     s.amp.rin = Some(1e6);
     s.amp.a0 = 1e4;
-    s.source.r = 50.0;
+    s.source.r = Some(50.0);
     let a = evaluate(&s);
     let par = 1e3 * 9e3 / 10e3;
     let want = 1e6 + par * (1.0 + 1e4 * 1e6 / 9e3);
@@ -533,14 +533,14 @@ fn blackman_formula_for_the_input_impedance() {
         let variant = |a0: f64, rs: f64| {
             let mut s = base.clone();
             s.amp.a0 = a0;
-            s.source.r = rs;
+            s.source.r = Some(rs);
             Circuit::new(&s)
         };
         let real = Circuit::new(&base);
         let a0 = base.amp.a0;
         let short = variant(a0, 0.0);
         let open = variant(a0, 1e15);
-        let dead = variant(1e-15, base.source.r);
+        let dead = variant(1e-15, base.source.r.unwrap());
         for f in [0.0, 100.0, 1e4, 1e5, 1e6] {
             let Some(z) = real.eval(f).unwrap().zin else {
                 panic!("finite Zin expected at {f} Hz");
@@ -655,7 +655,7 @@ fn pin_impedance_where_the_loop_gain_is_near_one() {
     non.load.r = Some(100.0);
     non.load.c = Some(10e-9);
     let mut inv = plain(Topology::Inverting, 1e3, 10e3);
-    inv.source.r = 1e3;
+    inv.source.r = Some(1e3);
     inv.load.r = Some(1e3);
     let mut fol = follower();
     fol.load.c = Some(1e-9);

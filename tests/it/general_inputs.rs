@@ -81,7 +81,7 @@ static PAIR_IDEAL: Kind = test_kind(PAIR_PARTS, Input::Pair { r2: |_| 0.0 });
 /// the input (the source's 1 kΩ) to 4 kΩ to ground; the held level is
 /// read from `stage.rg` so a test can move it.
 static HELD: Kind = Kind {
-    bias: Some(|st| st.rg.unwrap_or(0.0)),
+    bias: Some(|s| s.stage.rg.unwrap_or(0.0)),
     ..test_kind(
         &[
             wire(Input, Plus),
@@ -98,7 +98,7 @@ static HELD: Kind = Kind {
 /// network; the source's resistance is `r`.
 fn scenario(r: f64) -> Scenario {
     let mut s = plain(Topology::NonInverting, 1e3, 1e3);
-    s.source.r = r;
+    s.source.r = Some(r);
     s
 }
 

@@ -56,7 +56,7 @@ fn non_inverting_dc_error_meets_the_textbook_expression() {
     let (rg, rf, rs) = (1.0e3, 10.0e3, 2.0e3);
     let g = 1.0 + rf / rg;
     let mut s = ideal_amp(plain(Topology::NonInverting, rg, rf));
-    s.source.r = rs;
+    s.source.r = Some(rs);
     s.amp.ib = Some(100.0e-9);
     let ib = 100.0e-9;
     let e = evaluate(&s);
@@ -128,20 +128,20 @@ fn bias_currents_cancel_with_rs_equal_to_rg_parallel_rf() {
     let (rg, rf) = (1.0e3, 10.0e3);
     let ib = 100.0e-9;
     let mut s = ideal_amp(plain(Topology::NonInverting, rg, rf));
-    s.source.r = par(rg, rf);
+    s.source.r = Some(par(rg, rf));
     s.amp.ib = Some(ib);
     let bias = evaluate(&s).analysis.limits.out_bias_v.unwrap();
     assert!(bias.abs() < 1e-6 * ib * rf, "{bias}");
     // From an ideal source the balance resistor is rg‖rf itself; from
     // 100 Ω, rg‖rf − 100 Ω (same cancellation).
-    s.source.r = 0.0;
+    s.source.r = Some(0.0);
     let r = evaluate(&s).analysis.limits.bias_balance_ohm.unwrap();
     assert_rel("balance from 0 Ω", r, par(rg, rf), 1e-6);
-    s.source.r = 100.0;
+    s.source.r = Some(100.0);
     let r = evaluate(&s).analysis.limits.bias_balance_ohm.unwrap();
     assert_rel("balance from 100 Ω", r, par(rg, rf) - 100.0, 1e-6);
     // Already balanced or over: no positive resistor (null).
-    s.source.r = 2.0 * par(rg, rf);
+    s.source.r = Some(2.0 * par(rg, rf));
     assert_eq!(evaluate(&s).analysis.limits.bias_balance_ohm, None);
     s.amp.ib = None;
     assert_eq!(evaluate(&s).analysis.limits.bias_balance_ohm, None);
@@ -153,7 +153,7 @@ fn inverting_stage_balances_with_rs_plus_rg_parallel_rf() {
     // from the + pin to ground cancels equal bias currents.
     let (rg, rf, rs) = (1.0e3, 10.0e3, 50.0);
     let mut s = ideal_amp(plain(Topology::Inverting, rg, rf));
-    s.source.r = rs;
+    s.source.r = Some(rs);
     s.amp.ib = Some(50.0e-9);
     let e = evaluate(&s);
     assert_rel(

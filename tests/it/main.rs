@@ -48,6 +48,7 @@ mod svg_text;
 mod sweep_cli;
 mod tighten;
 mod tmux_e2e;
+mod transimpedance;
 mod ui_render;
 mod view_marks;
 mod warnings_rules;

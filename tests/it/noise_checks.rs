@@ -30,7 +30,7 @@ fn low_rin_voltage_noise_gain_closed_form() {
         let mut s = fast(plain(Topology::NonInverting, rg, rf));
         s.amp.rin = Some(rin);
         s.amp.vnoise = 1e-9;
-        s.source.r = rs;
+        s.source.r = Some(rs);
         let c = Circuit::new(&s);
         let want = (1.0 + rs / rin) * (1.0 + rf / rg) + rf / rin;
         // Measured error ≤ 2.1e-8 (finite a0 = 1e9: ≈ NG/a0); tolerance 1e-7.
@@ -57,7 +57,7 @@ fn follower_on_100_megohm_voltage_noise_is_not_filtered_by_cin() {
     let s = Scenario::load(std::path::Path::new(path)).unwrap();
     let (lo, hi) = s.band;
     let fc = s.amp.vnoise_corner.unwrap();
-    let gain = 1.0 + s.source.r / s.amp.rin.unwrap();
+    let gain = 1.0 + s.source.r.unwrap() / s.amp.rin.unwrap();
     let want = s.amp.vnoise * ((hi - lo) + fc * (hi / lo).ln()).sqrt() * gain;
     assert!((want - 657e-9).abs() < 1e-9, "about 657 nV: {want:e}");
     let a = evaluate(&s);
@@ -82,7 +82,7 @@ fn plus_input_capacitance_filters_the_signal_not_the_voltage_noise() {
     let mut s = fast(follower());
     s.amp.vnoise = 1e-9;
     s.amp.cin = Some(10e-12);
-    s.source.r = 1e6;
+    s.source.r = Some(1e6);
     let c = Circuit::new(&s);
     let fp = 1.0 / (2.0 * std::f64::consts::PI * 1e6 * 10e-12);
     for f in [1e3, 15.9e3, 100e3] {
@@ -101,7 +101,7 @@ fn current_noise_through_the_source_resistance() {
     // in·rf (virtual ground at the − pin for a noise current).
     let mut s = fast(plain(Topology::NonInverting, 1e3, 9e3));
     s.amp.inoise = 1e-12;
-    s.source.r = 47e3;
+    s.source.r = Some(47e3);
     let c = Circuit::new(&s);
     // Measured error 1e-8 (finite a0); tolerance 5e-8.
     assert_rel(
@@ -125,7 +125,7 @@ fn johnson_noise_at_other_temperatures() {
     // source resistor's noise with gain 1.
     for t in [-55.0, 0.0, 85.0, 125.0] {
         let mut s = fast(follower());
-        s.source.r = 10e3;
+        s.source.r = Some(10e3);
         s.temp_c = t;
         let a = evaluate(&s);
         // Measured error 1e-9 (finite a0); tolerance 1e-8.
@@ -148,7 +148,7 @@ fn current_noise_corner() {
     let mut s = fast(follower());
     s.amp.inoise = 1e-12;
     s.amp.inoise_corner = Some(1e3);
-    s.source.r = 1e6;
+    s.source.r = Some(1e6);
     s.temp_c = -273.149_999_999; // resistor noise ≈ 0 (T ≈ 1e-9 K)
     s.band = (1.0, 100.0);
     let a = evaluate(&s);
@@ -229,7 +229,7 @@ fn density_at_dc_with_and_without_a_corner() {
     let mut s = plain(Topology::NonInverting, 1e3, 9e3);
     s.amp.vnoise = 10e-9;
     s.amp.inoise = 1e-12;
-    s.source.r = 1e3;
+    s.source.r = Some(1e3);
     let white = Circuit::new(&s);
     let dc = white.eval(0.0).unwrap().noise_density();
     let low = white.eval(1e-6).unwrap().noise_density();

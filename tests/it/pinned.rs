@@ -219,7 +219,7 @@ fn ranges_are_symmetric_about_the_dc_level() {
     s.amp.ios = Some(100e-9);
     s.amp.cm_pos = Some(1.5);
     s.amp.cm_neg = Some(1.5);
-    s.source.r = rs;
+    s.source.r = Some(rs);
     s.source.dc = Some(6.0);
     s.source.peak = Some(0.5);
     let l = analyze(&s).limits;
@@ -401,7 +401,7 @@ fn bias_currents_move_the_dc_level() {
     let mut s = fast(plain(Topology::NonInverting, rg, rf));
     rails(&mut s, -15.0, 15.0);
     s.amp.ib = Some(ib);
-    s.source.r = rs;
+    s.source.r = Some(rs);
     s.source.dc = Some(0.5);
     s.source.peak = Some(0.1);
     let l = analyze(&s).limits;
@@ -413,7 +413,7 @@ fn bias_currents_move_the_dc_level() {
     let cm_mid = 0.5 * (l.cm_low_v.unwrap() + l.cm_high_v.unwrap());
     assert_rel("pin dc", cm_mid, 0.5 - ib * rs, 1e-6);
     // Balanced: rs = rf·rg/(rf + rg) = 900 Ω leaves only the source.
-    s.source.r = rf * rg / (rf + rg);
+    s.source.r = Some(rf * rg / (rf + rg));
     let l = analyze(&s).limits;
     assert_rel("balanced", l.int_dc_v.unwrap(), 0.5 * g, 1e-6);
 }

@@ -265,7 +265,7 @@ fn envelope_step_and_spread_views() {
             assert!(has_text(&doc, "limit ≥"), "{p} spread: the limit mark");
         }
         // Envelope: only with a source peak.
-        if s.source.peak.is_some() {
+        if s.signal_peak().is_some() {
             let doc_text = svg(&[p, "--view", "envelope"], &out);
             let doc = roxmltree::Document::parse(&doc_text).unwrap();
             assert!(

@@ -25,7 +25,7 @@ prop_compose! {
     /// table anywhere in its whole accepted range (ends included), absent
     /// or zero where that is allowed; the band up to its widest.
     fn scenario()(
-        topology in prop_oneof![Just(Topology::NonInverting), Just(Topology::Inverting), Just(Topology::Follower)],
+        topology in prop_oneof![Just(Topology::NonInverting), Just(Topology::Inverting), Just(Topology::Follower), Just(Topology::Transimpedance)],
         series in 0..7usize,
         picks in prop::collection::vec((0..5u8, prop_oneof![Just(0.0), Just(1.0), 0.0..=1.0f64]), PARAMS.len()),
         band_lo in prop_oneof![Just(0.0), Just(1.0), 0.0..=1.0f64],
@@ -37,6 +37,11 @@ prop_compose! {
         s.stage.series = Series::ALL[series];
         for (p, (kind, u)) in PARAMS.iter().zip(picks) {
             if !matches!(p.access, Access::Number { .. }) || p.path.starts_with("band.") {
+                continue;
+            }
+            // A field of the other kind of input is refused: left out.
+            if !p.inputs.admit(&s) {
+                p.set(&mut s, None);
                 continue;
             }
             let absent_ok = matches!(p.presence, Presence::Optional | Presence::ZeroIsAbsent)
@@ -69,9 +74,11 @@ prop_compose! {
         if let Some(b) = s.spread.as_mut() {
             b.a0_min = b.a0_min.map(|v| v.min(s.amp.a0));
         }
+        let inverting = s.stage.topology.kind().negative;
+        // A gain in V/V is held to the narrower range.
+        let top = if s.current_input() { 1e13 } else { 1e9 };
         if let Some(x) = s.spec.as_mut() {
-            let inverting = s.stage.topology == Topology::Inverting;
-            x.gain_target = x.gain_target.map(|g| if inverting { -g.abs() } else { g.abs() });
+            x.gain_target = x.gain_target.map(|g| g.abs().min(top)).map(|g| if inverting { -g } else { g });
             // A supply-rejection limit only where the amplifier gives
             // its figure (cross-field rule).
             if s.amp.psrr_db.is_none() {

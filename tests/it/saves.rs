@@ -116,6 +116,12 @@ fn every_edit_of_every_file_changes_only_its_field() {
                 assert!(!saved.drops_comments, "{at}: rewritten whole");
                 let back = Scenario::from_ron(&saved.text, None);
                 assert_eq!(back.as_ref(), Ok(&s), "{at}: reads back otherwise");
+                // A switch to a kind with the other kind of input also
+                // changes the source fields (README "Scenario files").
+                if p.path == "stage.topology" && s.current_input() != original.current_input() {
+                    checked += 1;
+                    continue;
+                }
                 let (old, new) = changed_lines(&text, &saved.text);
                 assert!(old.len() <= 1 && new.len() <= 2, "{at}: {old:?} → {new:?}");
                 let lines: Vec<&&str> = old.iter().chain(&new).collect();

@@ -121,7 +121,7 @@ fn random_stage(topology: Topology, u: &[f64]) -> Scenario {
     s.stage.riso = opt(7, 1e-2, 1e5);
     s.load.c = (u[8] >= 0.2).then(|| log_at(1e-15, 1.0, (u[8] - 0.2) / 0.8));
     s.load.r = opt(9, 10.0, 1e7);
-    s.source.r = log_at(1e-3, 1e5, u[10]);
+    s.source.r = Some(log_at(1e-3, 1e5, u[10]));
     s.amp.cin = opt(11, 1e-15, 1e-9);
     s.band = (1e3, 1e4);
     s
@@ -202,7 +202,7 @@ fn a_crossover_below_the_sweep_keeps_the_margin_on_its_branch() {
     s.amp.ro = 23841.470256044875;
     s.load.r = Some(88693.33446232603);
     s.load.c = Some(0.3440032666350695);
-    s.source.r = 0.001;
+    s.source.r = Some(0.001);
     s.band = (1e3, 1e4);
     for a in [analyze_to(&s, TRIAL), analyze(&s)] {
         assert_eq!(a.stable, Some(true), "poles {:?}", a.poles);

@@ -247,7 +247,7 @@ fn laplace_transform_matches_the_transfer_function() {
     s.amp.ro = 20.0;
     s.amp.cin = Some(3e-12);
     s.stage.cf = Some(2e-12);
-    s.source.r = 600.0;
+    s.source.r = Some(600.0);
     s.load.r = Some(2e3);
     s.load.c = Some(100e-12);
     let a = analyze(&s);

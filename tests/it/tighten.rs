@@ -151,7 +151,7 @@ fn tracking_resistors_drift_the_gain_as_their_ratio() {
 #[test]
 fn thermal_noise_scales_with_root_temperature() {
     let mut s = plain(Topology::NonInverting, 1.0e3, 10.0e3);
-    s.source.r = 1.0e3;
+    s.source.r = Some(1.0e3);
     s.temp_range = Some((-40.0, 85.0));
     let n = |s: &Scenario| analyze_to(s, FULL).noise_rms;
     for t in [-40.0, 85.0] {

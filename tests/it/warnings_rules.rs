@@ -150,7 +150,7 @@ fn source_resistance_that_dominates_the_noise_is_named_not_advised_on() {
     // source 9·4kT·3300 against 4kT·(400 + 200): 98 % from the source.
     // Flat over the band, so its rms is its density · √(100 kHz − 10 Hz).
     let mut s = fast(plain(Topology::NonInverting, 100.0, 200.0));
-    s.source.r = 3300.0;
+    s.source.r = Some(3300.0);
     let psd = non_inverting_psd(3300.0, 100.0, 200.0, 0.0);
     let total: f64 = psd.iter().sum();
     let source = psd[0] / total;
@@ -175,7 +175,7 @@ fn feedback_resistor_that_dominates_the_noise_gets_the_resistor_advice() {
     // rg 10 kΩ, rf 5 kΩ (G = 1.5): rf's 4kT·5k against rg's 4kT·2.5k,
     // with source r 100 Ω and en 1 nV/√Hz far below: rf is the largest.
     let mut s = fast(plain(Topology::NonInverting, 10e3, 5e3));
-    s.source.r = 100.0;
+    s.source.r = Some(100.0);
     s.amp.vnoise = 1e-9;
     let psd = non_inverting_psd(100.0, 10e3, 5e3, 1e-9);
     let total: f64 = psd.iter().sum();
@@ -446,7 +446,7 @@ fn load_divider_beyond_tolerance() {
     // Inverting: the source resistance adds to rg, −10k/(1k + 50) = −9.5238
     // against −10 (−4.76 %); a 5 % tolerance covers it.
     let mut s = plain(Topology::Inverting, 1e3, 10e3);
-    s.source.r = 50.0;
+    s.source.r = Some(50.0);
     let w = warning(&s, "load-divider").unwrap();
     assert!(w.text.contains("-9.5238"), "{}", w.text);
     assert!(w.text.contains("-4.76 %"), "{}", w.text);
@@ -461,7 +461,7 @@ fn load_divider_quiet_when_the_ratio_already_makes_up_for_it() {
     // rf 47 kΩ gives −47k/10k = −4.7 (series resistors add, virtual ground),
     // the spec's target; the nominal −47k/9.4k = −5 is not what was meant.
     let mut s = plain(Topology::Inverting, 9.4e3, 47e3);
-    s.source.r = 600.0;
+    s.source.r = Some(600.0);
     s.spec = Some(loopwright::model::scenario::Spec {
         gain_target: Some(-4.7),
         ..Default::default()

@@ -12,6 +12,7 @@ mod common;
 mod follower;
 mod inverting;
 mod non_inverting;
+mod transimpedance;
 
 /// The named nodes a kind wires its parts between. The builder maps them
 /// onto the netlist: `Reference` is ground (through the reference input
@@ -60,6 +61,9 @@ pub enum Tolerance {
     Resistor,
     /// The spread block's capacitor tolerance (`spread.cap_tol`).
     Capacitor,
+    /// The spread block's photodiode capacitance tolerance
+    /// (`spread.cd_tol`).
+    Diode,
     /// It does not spread (a wire).
     None,
 }
@@ -74,7 +78,7 @@ pub struct PartDecl {
     pub element: Element,
     /// The parameter it reads (a `PARAMS` path; "" for a wire).
     pub param: &'static str,
-    pub read: fn(&Stage) -> Option<f64>,
+    pub read: fn(&Scenario) -> Option<f64>,
     /// The value used when the parameter is absent.
     pub absent: f64,
     /// Whether the kind needs it (validation refuses it absent).
@@ -89,8 +93,8 @@ pub struct PartDecl {
 
 impl PartDecl {
     /// The part's value in this stage (its default when absent).
-    pub fn value(&self, st: &Stage) -> f64 {
-        (self.read)(st).unwrap_or(self.absent)
+    pub fn value(&self, s: &Scenario) -> f64 {
+        (self.read)(s).unwrap_or(self.absent)
     }
 }
 
@@ -186,7 +190,7 @@ pub struct Kind {
     pub output: Node,
     /// The DC-only level of [`Node::Bias`] (volts, held through 0 Ω), if
     /// the kind has such a node.
-    pub bias: Option<fn(&Stage) -> f64>,
+    pub bias: Option<fn(&Scenario) -> f64>,
     pub gain_unit: GainUnit,
     /// The ideal gain from the parts alone (the resistor ratio).
     pub gain: fn(&Stage) -> f64,
@@ -204,7 +208,12 @@ pub struct Kind {
 }
 
 /// Every kind, in the order of [`Topology::ALL`].
-pub static KINDS: [&Kind; 3] = [&non_inverting::KIND, &inverting::KIND, &follower::KIND];
+pub static KINDS: [&Kind; 4] = [
+    &non_inverting::KIND,
+    &inverting::KIND,
+    &follower::KIND,
+    &transimpedance::KIND,
+];
 
 /// The kind of a topology.
 pub fn kind(t: Topology) -> &'static Kind {
@@ -258,7 +267,91 @@ impl Topology {
     }
 }
 
+impl Input {
+    /// Whether the kind is driven by a current (its source fields are
+    /// `idc`, `ipeak`, `cd`, `rsh`, `bias` and its step `size_a`).
+    pub fn is_current(self) -> bool {
+        matches!(self, Input::Current)
+    }
+}
+
+/// The maximally flat cf of a current-input stage.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Flat {
+    /// 2·ω_t·R_f·C_i ≤ 1: the response is flat without a cf.
+    NotNeeded,
+    /// The exact value, farads.
+    Cf(f64),
+}
+
 impl Scenario {
+    /// The maximally flat cf of a stage driven by a current (second-order
+    /// analysis with a single-pole amplifier, common practice): C_f =
+    /// √(2·ω_t·R_f·C_i − 1)/(ω_t·R_f), ω_t = 2π·gbw, C_i the capacitance the
+    /// kind puts from the − input to AC ground plus the pin's cin. None for a
+    /// voltage input or without an rf.
+    pub fn flat_cf(&self) -> Option<Flat> {
+        let s = self;
+        let k = s.stage.topology.kind();
+        if !s.current_input() {
+            return None;
+        }
+        let rf = k.parts.iter().find(|p| p.name == "rf")?.value(s);
+        let grounded = |n: Node| matches!(n, Node::Ground | Node::Reference | Node::Bias);
+        let ci: f64 = k
+            .parts
+            .iter()
+            .filter(|p| p.element == Element::Capacitor)
+            .filter(|p| {
+                (p.a == Node::Minus && grounded(p.b)) || (p.b == Node::Minus && grounded(p.a))
+            })
+            .map(|p| p.value(s))
+            .sum::<f64>()
+            + crate::model::scenario::present(s.amp.cin).unwrap_or(0.0);
+        let wt = 2.0 * std::f64::consts::PI * s.amp.gbw;
+        let x = 2.0 * wt * rf * ci - 1.0;
+        Some(if x <= 0.0 || rf <= 0.0 {
+            Flat::NotNeeded
+        } else {
+            Flat::Cf(x.sqrt() / (wt * rf))
+        })
+    }
+
+    /// Whether the stage's input is a current.
+    pub fn current_input(&self) -> bool {
+        kind(self.stage.topology).input.is_current()
+    }
+
+    /// The input's DC level: the source EMF's (V) or the input current
+    /// (A), as the kind's input is driven.
+    pub fn signal_dc(&self) -> Option<f64> {
+        if self.current_input() {
+            self.source.idc
+        } else {
+            self.source.dc
+        }
+    }
+
+    /// The signal's peak at the input (V or A), the level the limits are
+    /// checked at.
+    pub fn signal_peak(&self) -> Option<f64> {
+        if self.current_input() {
+            self.source.ipeak
+        } else {
+            self.source.peak
+        }
+    }
+
+    /// The step the time-domain analysis applies (V or A).
+    pub fn step_size(&self) -> f64 {
+        use crate::model::scenario::{DEFAULT_STEP_A, DEFAULT_STEP_V};
+        if self.current_input() {
+            self.step.and_then(|x| x.size_a).unwrap_or(DEFAULT_STEP_A)
+        } else {
+            self.step.and_then(|x| x.size).unwrap_or(DEFAULT_STEP_V)
+        }
+    }
+
     /// The gain the kind's parts set (its resistor ratio).
     pub fn nominal_gain(&self) -> f64 {
         (kind(self.stage.topology).gain)(&self.stage)

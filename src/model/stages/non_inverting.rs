@@ -14,7 +14,7 @@ pub static KIND: Kind = Kind {
             b: Reference,
             element: Element::Resistor,
             param: "stage.rg",
-            read: |st| st.rg,
+            read: |s| s.stage.rg,
             absent: 1.0,
             required: true,
             start: Some(1e3),

@@ -74,8 +74,12 @@ impl App {
     pub(super) fn start_pairs(&mut self) {
         let s = &self.slot().scenario;
         if !s.stage.topology.has_resistors() {
+            let what = match s.stage.topology {
+                Topology::Follower => "a follower has no rg or rf".to_string(),
+                t => format!("a {} stage has nothing to pair", t.name()),
+            };
             self.error(format!(
-                "a follower has no rg or rf: resistor pairs are for {} stages",
+                "{what}: resistor pairs are for {} stages",
                 Topology::with_resistors(" and ")
             ));
             return;
@@ -100,7 +104,7 @@ impl App {
         let q = Query {
             series: s.stage.series,
             topology: s.stage.topology,
-            source_r: s.source.r,
+            source_r: s.source.r.unwrap_or(0.0),
             riso: s.stage.riso.unwrap_or(0.0),
             load_r: s.load.r,
             ..Query::new(target)

@@ -41,9 +41,8 @@ pub fn plain(topology: Topology, rg: f64, rf: f64) -> Scenario {
             ..Amp::default()
         },
         source: Source {
-            r: 0.0,
-            dc: None,
-            peak: None,
+            r: Some(0.0),
+            ..Source::default()
         },
         load: Load {
             r: None,
