@@ -10,6 +10,7 @@ use crate::model::eseries::{Series, CAPACITOR_SERIES};
 use crate::model::scenario::{
     present, Dist, Feedback, FieldProblem, Scenario, Step, Supply, Topology,
 };
+use crate::model::stages::Input;
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -243,6 +244,12 @@ macro_rules! block {
     };
 }
 
+/// Whether the stage's kind has two inputs (the common-mode and input 2
+/// fields apply).
+fn two_inputs(s: &Scenario) -> bool {
+    matches!(s.stage.topology.kind().input, Input::Pair { .. })
+}
+
 /// Drop a spread or spec block that holds nothing.
 fn tidy(s: &mut Scenario) {
     if s.spread.as_ref().is_some_and(|b| *b == Default::default()) {
@@ -310,7 +317,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 60] = [
+pub static PARAMS: [Param; 68] = [
     entry(
         "stage.topology",
         "topology",
@@ -361,6 +368,61 @@ pub static PARAMS: [Param; 60] = [
         ZeroIsAbsent,
         STAGE_FARADS,
         number!(opt stage.cf),
+    )
+    .starting(|_| 1e-12),
+    entry(
+        "stage.r1",
+        "r1",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r1),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.r2",
+        "r2",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r2),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.r3",
+        "r3",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r3),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.r4",
+        "r4",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r4),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.c4",
+        "c4",
+        "F",
+        Stage,
+        Capacitor,
+        GainStage,
+        STAGE_FARADS,
+        number!(opt stage.c4),
     )
     .starting(|_| 1e-12),
     entry(
@@ -672,6 +734,18 @@ pub static PARAMS: [Param; 60] = [
         number!(req source.r),
     ),
     entry(
+        "source.r_plus",
+        "source r+",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        (0.0, OHMS.1),
+        number!(opt source.r_plus),
+    )
+    .qualifies(two_inputs)
+    .note("input 2's source resistance; none: equal to source r"),
+    entry(
         "load.r",
         "load r",
         "Ω",
@@ -738,6 +812,17 @@ pub static PARAMS: [Param; 60] = [
         number!(opt source.dc),
     ),
     entry(
+        "source.cm",
+        "cm dc",
+        "V",
+        SupplySignal,
+        Linear(0.1),
+        Optional,
+        VOLTS,
+        number!(opt source.cm),
+    )
+    .qualifies(two_inputs),
+    entry(
         "source.peak",
         "peak",
         "V",
@@ -747,6 +832,18 @@ pub static PARAMS: [Param; 60] = [
         PEAK,
         number!(opt source.peak),
     )
+    .starting(|_| 1.0),
+    entry(
+        "source.cm_peak",
+        "cm peak",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        PEAK,
+        number!(opt source.cm_peak),
+    )
+    .qualifies(two_inputs)
     .starting(|_| 1.0),
     entry(
         "step.size",
@@ -1050,7 +1147,8 @@ impl Param {
         if self.path == "stage.feedback" {
             return present(s.stage.riso).is_some();
         }
-        !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
+        !(matches!(self.presence, GainStage | FeedbackResistor)
+            && s.stage.topology.kind().part(self.path).is_none())
             && self
                 .qualifies
                 .is_none_or(|when| when(s) || self.raw(s).is_some())
@@ -1383,6 +1481,7 @@ impl Param {
 /// The rules between fields, after each field's own check.
 fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     let mut p = supply_checks(s);
+    p.extend(two_input_checks(s));
     p.extend(spread_checks(s));
     let (lo, hi) = s.band;
     if lo.is_finite() && hi.is_finite() && lo > 0.0 {
@@ -1402,6 +1501,36 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
         }
     }
     p
+}
+
+/// The second input's and the common mode's fields, refused for a kind
+/// with one input (they would be ignored).
+fn two_input_checks(s: &Scenario) -> Vec<FieldProblem> {
+    if two_inputs(s) {
+        return Vec::new();
+    }
+    let name = s.stage.topology.name();
+    ["source.r_plus", "source.cm", "source.cm_peak"]
+        .into_iter()
+        .filter_map(param)
+        .filter(|p| p.raw(s).is_some())
+        .map(|p| FieldProblem {
+            field: file_field(p.path).into(),
+            message: format!(
+                "{} {name} stage has one input: {} applies to a stage with two inputs (Difference)",
+                capital(article(name)),
+                p.label
+            ),
+        })
+        .collect()
+}
+
+/// A word with its first letter in capitals.
+fn capital(word: &str) -> String {
+    let mut c = word.chars();
+    c.next()
+        .map(|f| f.to_uppercase().chain(c).collect())
+        .unwrap_or_default()
 }
 
 /// "an" before a word that starts with a vowel letter, else "a" (common

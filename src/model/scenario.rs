@@ -20,23 +20,26 @@ pub enum Topology {
     NonInverting,
     Inverting,
     Follower,
+    Difference,
 }
 
 impl Topology {
     /// Every topology, in the order the lists and the workbench give them.
-    pub const ALL: [Topology; 3] = [
+    pub const ALL: [Topology; 4] = [
         Topology::NonInverting,
         Topology::Inverting,
         Topology::Follower,
+        Topology::Difference,
     ];
     /// Their names, as in a stage file.
-    pub const NAMES: [&'static str; 3] = names_of!(Topology, 3);
+    pub const NAMES: [&'static str; 4] = names_of!(Topology, 4);
 
     pub const fn name(self) -> &'static str {
         match self {
             Topology::NonInverting => "NonInverting",
             Topology::Inverting => "Inverting",
             Topology::Follower => "Follower",
+            Topology::Difference => "Difference",
         }
     }
 }
@@ -101,6 +104,46 @@ pub struct Stage {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub riso: Option<f64>,
+    /// Difference: input 1 to the − pin (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r1: Option<f64>,
+    /// Difference: the − pin to the feedback point (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r2: Option<f64>,
+    /// Difference: input 2 to the + pin (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r3: Option<f64>,
+    /// Difference: the + pin to the reference (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r4: Option<f64>,
+    /// Difference: across r4 (F).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub c4: Option<f64>,
     /// Where rf takes the feedback (`Pin` when absent).
     #[serde(default, skip_serializing_if = "Feedback::is_pin")]
     pub feedback: Feedback,
@@ -309,6 +352,30 @@ pub struct Source {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub peak: Option<f64>,
+    /// Input 2's source resistance (Ω; absent: equal to `r`): two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r_plus: Option<f64>,
+    /// DC common-mode level (V1 + V2)/2 (V): two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cm: Option<f64>,
+    /// Peak common-mode signal anywhere in the band (V): two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cm_peak: Option<f64>,
 }
 
 /// The supply rails (V), neg below pos.

@@ -130,7 +130,7 @@ impl Report {
             title: s.title.clone(),
             figures: FIGURES
                 .iter()
-                .filter(|f| f.shown.json && f.section.json_object().is_none())
+                .filter(|f| f.shown.json && f.section.json_object().is_none() && f.applies_to(e))
                 .map(|f| (f.key, f.json(e)))
                 .collect(),
             step: step_object(e),
@@ -220,7 +220,10 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
         writeln!(w, "  {:<18} {size}", "step size")?;
         return writeln!(w, "  {:<18} none: {reason}", "figures");
     }
-    for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
+    for f in FIGURES
+        .iter()
+        .filter(|f| f.section == sec && f.shown.text && f.applies_to(e))
+    {
         let r = f.read(e);
         if f.needs_input && r == crate::judge::figures::Reading::Undefined {
             continue;

@@ -9,6 +9,7 @@
 use crate::model::scenario::{Scenario, Stage, Topology};
 
 mod common;
+mod difference;
 mod follower;
 mod inverting;
 mod non_inverting;
@@ -204,7 +205,12 @@ pub struct Kind {
 }
 
 /// Every kind, in the order of [`Topology::ALL`].
-pub static KINDS: [&Kind; 3] = [&non_inverting::KIND, &inverting::KIND, &follower::KIND];
+pub static KINDS: [&Kind; 4] = [
+    &non_inverting::KIND,
+    &inverting::KIND,
+    &follower::KIND,
+    &difference::KIND,
+];
 
 /// The kind of a topology.
 pub fn kind(t: Topology) -> &'static Kind {

@@ -1,0 +1,158 @@
+//! The difference amplifier: its gains, common-mode rejection and input
+//! impedances against the textbook difference-amplifier analysis
+//! (superposition of the two inputs around an ideal amplifier, common
+//! practice), each closed form recomputed here from the resistor values.
+
+use crate::support::closed_forms::assert_rel;
+use crate::support::stages::{fast, plain};
+use loopwright::judge::evaluate;
+use loopwright::model::scenario::{Scenario, Topology};
+
+/// r1 = r3 = 2 kΩ, r2 = r4 = 200 kΩ (the issue's check stage) around a
+/// near-ideal amplifier (a0 1e9), ideal sources.
+fn stage(r1: f64, r2: f64, r3: f64, r4: f64) -> Scenario {
+    let mut s = fast(plain(Topology::Difference, 1.0, 1.0));
+    s.stage.rg = None;
+    s.stage.rf = None;
+    s.stage.r1 = Some(r1);
+    s.stage.r2 = Some(r2);
+    s.stage.r3 = Some(r3);
+    s.stage.r4 = Some(r4);
+    s
+}
+
+/// Textbook superposition around an ideal amplifier, each EMF behind its
+/// source resistance: a1 = −r2/(r1 + rs1), a2 = r4/(r3 + rs2 + r4)·(1 +
+/// r2/(r1 + rs1)). Returns (A_d, A_cm) = ((a2 − a1)/2, a1 + a2).
+fn closed_form(r: [f64; 4], rs1: f64, rs2: f64) -> (f64, f64) {
+    let [r1, r2, r3, r4] = r;
+    let a1 = -r2 / (r1 + rs1);
+    let a2 = r4 / (r3 + rs2 + r4) * (1.0 + r2 / (r1 + rs1));
+    ((a2 - a1) / 2.0, a1 + a2)
+}
+
+#[test]
+fn matched_stage_has_gain_100_and_no_common_mode_gain() {
+    let e = evaluate(&stage(2e3, 200e3, 2e3, 200e3));
+    let a = &e.analysis;
+    // Textbook: A_d = r2/r1 = 100, A_cm = 0 for r2/r1 = r4/r3.
+    assert_rel("nominal gain", a.nominal_gain, 100.0, 1e-12);
+    assert_rel("DC gain", a.dc_gain, 100.0, 1e-6);
+    let cm = a.cm_gain_dc.expect("a common-mode gain");
+    assert!(cm.abs() < 1e-8, "A_cm {cm}");
+    assert!(
+        a.cmrr_dc_db.is_some_and(|c| c > 160.0),
+        "{:?}",
+        a.cmrr_dc_db
+    );
+}
+
+#[test]
+fn worst_corner_of_one_percent_resistors() {
+    let t = 0.01;
+    // r1 and r4 low, r2 and r3 high (the issue's worst corner).
+    let r = [
+        2e3 * (1.0 - t),
+        200e3 * (1.0 + t),
+        2e3 * (1.0 + t),
+        200e3 * (1.0 - t),
+    ];
+    let e = evaluate(&stage(r[0], r[1], r[2], r[3]));
+    let a = &e.analysis;
+    let (ad, acm) = closed_form(r, 0.0, 0.0);
+    // The issue's rounded values of the same closed form.
+    assert!((ad - 102.0).abs() < 5e-3, "A_d {ad}");
+    assert!((acm.abs() - 0.0404).abs() < 5e-5, "A_cm {acm}");
+    assert!(
+        ((ad / acm).abs() - 2524.75).abs() < 0.01,
+        "CMRR {}",
+        ad / acm
+    );
+    assert_rel("A_d", a.dc_gain, ad, 1e-6);
+    assert_rel("A_cm", a.cm_gain_dc.unwrap(), acm, 1e-6);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert!((db - 68.04).abs() < 0.005, "{db}");
+    assert_rel("CMRR dB", a.cmrr_dc_db.unwrap(), db, 1e-6);
+    // First-order estimate (common practice): (1 + r2/r1)/(4t) = 2525,
+    // 68.05 dB; the exact corner sits just below it (not a bound).
+    let estimate = (1.0 + 100.0) / (4.0 * t);
+    assert_rel("estimate", estimate, 2525.0, 1e-12);
+    assert!((20.0 * estimate.log10() - db).abs() < 0.01);
+}
+
+#[test]
+fn unequal_source_resistances_spoil_the_match() {
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.source.r = 100.0;
+    s.source.r_plus = Some(1e3);
+    let a = evaluate(&s).analysis;
+    let (ad, acm) = closed_form([10e3; 4], 100.0, 1e3);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert!((db - 27.0).abs() < 0.5, "closed form {db} dB");
+    assert_rel("ideal gain", a.ideal_gain, ad, 1e-9);
+    assert_rel("A_cm", a.cm_gain_dc.unwrap(), acm, 1e-6);
+    assert_rel("CMRR", a.cmrr_dc_db.unwrap(), db, 1e-6);
+}
+
+#[test]
+fn r_plus_defaults_to_r() {
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.source.r = 1e3;
+    let a = evaluate(&s).analysis;
+    // Equal sources keep the bridge balanced: r1 + rs against r3 + rs.
+    let (ad, _) = closed_form([10e3; 4], 1e3, 1e3);
+    assert_rel("ideal gain", a.ideal_gain, ad, 1e-9);
+}
+
+#[test]
+fn the_two_inputs_see_different_impedances() {
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.source.r = 50.0;
+    let a = evaluate(&s).analysis;
+    // Textbook: input 1 sees r1 (the − pin a virtual ground when input
+    // 2's EMF is at 0 V: the + pin sits at 0 V), input 2 sees r3 + r4.
+    assert_rel("zin1", a.zin1_dc_ohm.unwrap(), 2e3, 1e-6);
+    assert_rel("zin2", a.zin2_dc_ohm.unwrap(), 202e3, 1e-6);
+    assert_eq!(a.zin_dc_ohm, a.zin1_dc_ohm);
+    // One-input kinds have none of these figures.
+    let b = evaluate(&fast(plain(Topology::NonInverting, 1e3, 9e3))).analysis;
+    assert_eq!(
+        (b.zin1_dc_ohm, b.zin2_dc_ohm, b.cm_gain_dc),
+        (None, None, None)
+    );
+}
+
+#[test]
+fn two_input_fields_refused_for_one_input_kinds() {
+    let text = std::fs::read_to_string("scenarios/mic_preamp.ron").unwrap();
+    let bad = text.replacen("source: (", "source: (cm: 1.0, ", 1);
+    let err = Scenario::from_ron(&bad, Some("f.ron"))
+        .unwrap_err()
+        .to_string();
+    let line = bad.lines().position(|l| l.contains("cm: 1.0")).unwrap() + 1;
+    assert!(err.contains("source.cm"), "{err}");
+    assert!(err.contains("two inputs"), "{err}");
+    assert!(err.contains(&format!("f.ron:{line}:")), "{err}");
+}
+
+#[test]
+fn difference_fields_read_and_save() {
+    let text = "(version: 1, title: \"t\",
+        stage: (topology: Difference, r1: 2000.0, r2: 200000.0, r3: 2000.0, r4: 200000.0, cf: 10.0e-12, c4: 10.0e-12, series: E96, tolerance: 0.01),
+        amp: (a0: 1.0e6, gbw: 1.0e6, ro: 10.0, vnoise: 1.0e-8, inoise: 1.0e-12),
+        source: (r: 50.0, r_plus: 60.0, dc: 0.01, cm: 2.5, peak: 0.05, cm_peak: 1.0),
+        load: (), temp_c: 25.0, band: (10.0, 1000.0))";
+    let s = Scenario::from_ron(text, None).unwrap();
+    let saved = s.to_ron();
+    let back = Scenario::from_ron(&saved, None).unwrap();
+    assert_eq!(back, s);
+    for k in ["r1:", "r4:", "c4:", "r_plus:", "cm:", "cm_peak:"] {
+        assert!(saved.contains(k), "{k} in {saved}");
+    }
+    let bad = text.replace("r_plus: 60.0", "r_plus: -60.0");
+    let err = Scenario::from_ron(&bad, None).unwrap_err().to_string();
+    assert!(err.contains("source.r_plus"), "{err}");
+    let bad = text.replace("r4: 200000.0", "r4: 1.0e20");
+    let err = Scenario::from_ron(&bad, None).unwrap_err().to_string();
+    assert!(err.contains("stage.r4"), "{err}");
+}
