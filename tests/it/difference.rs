@@ -3,6 +3,7 @@
 //! (superposition of the two inputs around an ideal amplifier, common
 //! practice), each closed form recomputed here from the resistor values.
 
+use crate::support::cli::stdout_of;
 use crate::support::closed_forms::assert_rel;
 use crate::support::stages::{fast, plain};
 use loopwright::judge::evaluate;
@@ -155,4 +156,40 @@ fn difference_fields_read_and_save() {
     let bad = text.replace("r4: 200000.0", "r4: 1.0e20");
     let err = Scenario::from_ron(&bad, None).unwrap_err().to_string();
     assert!(err.contains("stage.r4"), "{err}");
+}
+
+#[test]
+fn pairs_for_a_difference_stage_give_r1_and_r2() {
+    let out = stdout_of(&[
+        "pairs",
+        "100",
+        "--topology",
+        "Difference",
+        "--source-r",
+        "50",
+        "--json",
+    ]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let rows = v["pairs"].as_array().unwrap();
+    assert!(!rows.is_empty());
+    for row in rows {
+        let (r1, r2) = (row["r1"].as_f64().unwrap(), row["r2"].as_f64().unwrap());
+        assert!(row.get("rg").is_none());
+        // Textbook, r3 = r1 and r4 = r2 with equal sources: A_d = r2/(r1 + rs).
+        assert_rel(
+            "pair gain",
+            row["gain"].as_f64().unwrap(),
+            r2 / (r1 + 50.0),
+            1e-12,
+        );
+        // The same gain from the engine, the pair placed as r1..r4.
+        let mut s = stage(r1, r2, r1, r2);
+        s.source.r = 50.0;
+        assert_rel(
+            "engine",
+            evaluate(&s).analysis.ideal_gain,
+            r2 / (r1 + 50.0),
+            1e-9,
+        );
+    }
 }

@@ -76,5 +76,7 @@ pub static KIND: Kind = Kind {
         ratio: |gain| gain,
         above: None,
         load: |_, rf| rf,
+        parts: ["stage.r1", "stage.r2"],
+        also: Some(["stage.r3", "stage.r4"]),
     }),
 };
