@@ -38,7 +38,7 @@ impl PartialEq for Limit {
 use Rule::*;
 
 /// Every limit, in file order.
-pub static LIMITS: [Limit; 9] = [
+pub static LIMITS: [Limit; 10] = [
     Limit {
         field: "gain_error_max",
         figures: &["target_error"],
@@ -92,6 +92,12 @@ pub static LIMITS: [Limit; 9] = [
         figures: &["settle_01pct_s"],
         rule: AtMost,
         get: |s| s.settle_max_s,
+    },
+    Limit {
+        field: "cmrr_min_db",
+        figures: &["cmrr_dc_db"],
+        rule: AtLeast,
+        get: |s| s.cmrr_min_db,
     },
 ];
 

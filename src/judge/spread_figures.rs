@@ -22,7 +22,7 @@ pub enum When {
 
 /// The figures that spread, in report order. `target_error` is computed
 /// here; the rest are read from the figure table.
-pub const SPREAD_FIGURES: [(&str, When); 13] = [
+pub const SPREAD_FIGURES: [(&str, When); 14] = [
     ("dc_gain", When::Always),
     (TARGET_ERROR, When::Always),
     ("f_3db_hz", When::Always),
@@ -36,7 +36,12 @@ pub const SPREAD_FIGURES: [(&str, When); 13] = [
     ("headroom_low_v", When::Given),
     ("headroom_high_v", When::Given),
     ("settle_01pct_s", When::Held),
+    (CMRR, When::Given),
 ];
+
+/// The CMRR at DC: an unbounded one (a null in the figure table) reads
+/// as +∞ here, so it passes a minimum.
+pub const CMRR: &str = "cmrr_dc_db";
 
 /// The gain `target_error` is measured against: the spec's target, or
 /// the nominal stage's network gain.
@@ -52,6 +57,9 @@ pub fn read(e: &Evaluation, key: &str, target: f64) -> Option<f64> {
     if key == TARGET_ERROR {
         let g = figure("dc_gain")?.read(e).value()?;
         return Some((g - target) / target).filter(|v| v.is_finite());
+    }
+    if key == CMRR && !e.analysis.unstable() {
+        return e.analysis.cmrr_dc_db;
     }
     figure(key)?.read(e).value()
 }

@@ -192,6 +192,8 @@ pub const SEED: (f64, f64) = (0.0, 9.007_199_254_740_992e15);
 pub const GAIN_TARGET: (f64, f64) = (-1.0e9, 1.0e9);
 pub const FRACTION: (f64, f64) = (0.0, 1.0);
 pub const DB_LIMIT: (f64, f64) = (0.0, 100.0);
+/// A CMRR minimum (dB).
+pub const CMRR_LIMIT: (f64, f64) = (0.0, 200.0);
 pub const DEG_LIMIT: (f64, f64) = (0.0, 180.0);
 pub const OHM_LIMIT: (f64, f64) = (0.0, 1.0e13);
 pub const HZ_AT: (f64, f64) = (0.0, 1.0e12);
@@ -317,7 +319,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 68] = [
+pub static PARAMS: [Param; 69] = [
     entry(
         "stage.topology",
         "topology",
@@ -1025,6 +1027,17 @@ pub static PARAMS: [Param; 68] = [
         block!(spec.peaking_max_db),
     ),
     entry(
+        "spec.cmrr_min_db",
+        "CMRR ≥",
+        "dB",
+        Spread,
+        Linear(1.0),
+        Optional,
+        CMRR_LIMIT,
+        block!(spec.cmrr_min_db),
+    )
+    .qualifies(two_inputs),
+    entry(
         "spec.pm_min_deg",
         "margin ≥",
         "°",
@@ -1510,19 +1523,24 @@ fn two_input_checks(s: &Scenario) -> Vec<FieldProblem> {
         return Vec::new();
     }
     let name = s.stage.topology.name();
-    ["source.r_plus", "source.cm", "source.cm_peak"]
-        .into_iter()
-        .filter_map(param)
-        .filter(|p| p.raw(s).is_some())
-        .map(|p| FieldProblem {
-            field: file_field(p.path).into(),
-            message: format!(
-                "{} {name} stage has one input: {} applies to a stage with two inputs (Difference)",
-                capital(article(name)),
-                p.label
-            ),
-        })
-        .collect()
+    [
+        "source.r_plus",
+        "source.cm",
+        "source.cm_peak",
+        "spec.cmrr_min_db",
+    ]
+    .into_iter()
+    .filter_map(param)
+    .filter(|p| p.raw(s).is_some())
+    .map(|p| FieldProblem {
+        field: file_field(p.path).into(),
+        message: format!(
+            "{} {name} stage has one input: {} applies to a stage with two inputs (Difference)",
+            capital(article(name)),
+            p.label
+        ),
+    })
+    .collect()
 }
 
 /// A word with its first letter in capitals.

@@ -527,6 +527,14 @@ pub struct Spec {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub pm_min_deg: Option<f64>,
+    /// The least CMRR at DC (dB), two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cmrr_min_db: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",

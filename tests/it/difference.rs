@@ -193,3 +193,68 @@ fn pairs_for_a_difference_stage_give_r1_and_r2() {
         );
     }
 }
+
+/// A small generator for the test's own draws (xorshift64*, common
+/// practice), independent of the program's.
+struct Draws(u64);
+
+impl Draws {
+    /// Uniform in [−1, 1).
+    fn next(&mut self) -> f64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        let u = (self.0.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64;
+        2.0 * u - 1.0
+    }
+}
+
+#[test]
+fn monte_carlo_cmrr_yield_agrees_with_brute_force_sampling() {
+    use loopwright::model::scenario::{Dist, Spec, Spread};
+    use loopwright::study::spread::{self, Run};
+    let (t, n, limit) = (0.01, 2000usize, 74.0);
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.spread = Some(Spread {
+        dist: Dist::Uniform,
+        ..Spread::default()
+    });
+    s.spec = Some(Spec {
+        cmrr_min_db: Some(limit),
+        ..Spec::default()
+    });
+    let r = spread::spread(
+        &s,
+        &Run {
+            trials: Some(n as u32),
+            ..Run::default()
+        },
+    );
+    // Brute force: each resistor uniform within ±t, the CMRR from the
+    // textbook closed form.
+    let mut d = Draws(0x9e37_79b9_7f4a_7c15);
+    let mut db: Vec<f64> = (0..n)
+        .map(|_| {
+            let r = [2e3, 200e3, 2e3, 200e3].map(|v| v * (1.0 + t * d.next()));
+            let (ad, acm) = closed_form(r, 0.0, 0.0);
+            20.0 * (ad / acm).abs().log10()
+        })
+        .collect();
+    db.sort_by(f64::total_cmp);
+    let median = db[n / 2];
+    assert!(
+        (median - 82.0).abs() < 1.5,
+        "brute-force median {median} dB"
+    );
+    let p = db.iter().filter(|v| **v >= limit).count() as f64 / n as f64;
+    assert!((p - 0.92).abs() < 0.03, "brute-force yield {p}");
+    let got = r.yield_frac.expect("a yield");
+    // Two independent estimates of one proportion: the difference's
+    // standard error is √(2p(1−p)/n); allow three of them.
+    let se = (2.0 * p * (1.0 - p) / n as f64).sqrt();
+    assert!((got - p).abs() < 3.0 * se, "yield {got} against {p} ± {se}");
+    // The worst corner is the 68.04 dB.
+    let f = r.figure("cmrr_dc_db").expect("a CMRR spread");
+    let worst = f.corner_min.expect("a corner minimum");
+    assert!((worst - 68.04).abs() < 0.01, "worst corner {worst}");
+}
