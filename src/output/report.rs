@@ -1,7 +1,7 @@
 //! The headless report: the engine's results as readable text or as one
 //! JSON object (keys documented in the README).
 
-use crate::engine::analysis::{Analysis, Circuit};
+use crate::engine::analysis::{cmrr_db, Analysis, Circuit};
 use crate::judge::figures::{delta, figure, key_figures, Section, FIGURES};
 use crate::judge::{Evaluation, Warning};
 use crate::model::params::{Group, PARAMS};
@@ -31,6 +31,10 @@ pub struct PointReport {
     pub loop_mag: Option<f64>,
     pub loop_phase_deg: Option<f64>,
     pub noise_density: Option<f64>,
+    /// Two inputs: |A_d/A_cm| in dB there (null when unbounded); left out
+    /// for a kind with one input.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cmrr_db: Option<Option<f64>>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -89,6 +93,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             loop_mag: fin(p.loop_gain.norm()),
             loop_phase_deg: fin(a.loop_phase_at(circuit, f_hz)),
             noise_density: fin(p.noise_density()),
+            cmrr_db: p.cm_gain.map(|cm| fin(cmrr_db(p.gain, cm))),
         },
         None => PointReport {
             f_hz,
@@ -103,6 +108,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             loop_mag: None,
             loop_phase_deg: None,
             noise_density: None,
+            cmrr_db: circuit.net.drive2.map(|_| None),
         },
     }
 }
@@ -249,15 +255,24 @@ fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
     Ok(())
 }
 
+/// Above this CMRR the text reads "> 160 dB".
+const CMRR_SHOWN_DB: f64 = 160.0;
+
 /// The table of figures at the `--at` frequencies.
 fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     if points.is_empty() {
         return Ok(());
     }
     writeln!(w)?;
+    let two = points.iter().any(|p| p.cmrr_db.is_some());
+    let cmrr_head = if two {
+        format!(" {:>10}", "CMRR")
+    } else {
+        String::new()
+    };
     writeln!(
         w,
-        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}{cmrr_head}",
         "f", "gain", "phase", "Zout", "phase", "Zout pin", "Zin", "loop", "phase", "noise"
     )?;
     let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
@@ -267,9 +282,15 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     };
     let ratio = |v: Option<f64>| v.map(|x| fmt_plain(x, 3)).unwrap_or("—".into());
     for p in points {
+        let cmrr = match p.cmrr_db {
+            Some(Some(v)) if v > CMRR_SHOWN_DB => format!(" {:>10}", "> 160 dB"),
+            Some(Some(v)) => format!(" {:>10}", format!("{} dB", fmt_fixed(v, 1))),
+            Some(None) => format!(" {:>10}", "unbounded"),
+            None => String::new(),
+        };
         writeln!(
             w,
-            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}{cmrr}",
             fmt_eng(p.f_hz, "Hz"),
             ratio(p.gain_mag),
             deg(p.gain_phase_deg),
