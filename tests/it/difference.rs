@@ -258,3 +258,25 @@ fn monte_carlo_cmrr_yield_agrees_with_brute_force_sampling() {
     let worst = f.corner_min.expect("a corner minimum");
     assert!((worst - 68.04).abs() < 0.01, "worst corner {worst}");
 }
+
+#[test]
+fn the_plus_pin_carries_the_common_mode() {
+    use loopwright::model::scenario::Supply;
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.source.dc = Some(0.0);
+    s.source.cm = Some(2.5);
+    s.source.peak = Some(0.05);
+    s.source.cm_peak = Some(1.0);
+    s.supply = Some(Supply { neg: 0.0, pos: 5.0 });
+    let l = evaluate(&s).analysis.limits;
+    // Textbook divider: the + pin sits at V2·r4/(r3 + r4), V2 = cm + Vd/2.
+    let k = 200e3 / 202e3;
+    assert_rel("pin per volt of cm", l.dc.pin.cm, k, 1e-9);
+    let (lo, hi) = (2.5 * k - (0.025 + 1.0) * k, 2.5 * k + (0.025 + 1.0) * k);
+    assert_rel("+ input low", l.cm_low_v.unwrap(), lo, 1e-6);
+    assert_rel("+ input high", l.cm_high_v.unwrap(), hi, 1e-6);
+    // A matched stage passes no common mode to the output.
+    assert!(l.out_dc_v.unwrap().abs() < 1e-6, "{:?}", l.out_dc_v);
+    // The room to a 0 V rail with no common-mode allowance is the low end.
+    assert_rel("room", l.cm_headroom_v.unwrap(), lo.min(5.0 - hi), 1e-6);
+}
