@@ -61,6 +61,9 @@ pub struct Analysis {
     /// Two inputs: CMRR = |A_d/A_cm| at DC in dB; infinite where |A_cm|
     /// is below [`CMRR_NULL`]·|A_d| (read as unbounded).
     pub cmrr_dc_db: Option<f64>,
+    /// Two inputs: the same CMRR with both sources ideal (0 Ω), from the
+    /// stage's own parts alone (the `reference-imbalance` rule compares).
+    pub cmrr_parts_dc_db: Option<f64>,
     /// |Zout| at 1 kHz.
     pub zout_1khz_ohm: Option<f64>,
     /// |Zout| where the spec holds it ([`zout_probe_hz`]).
@@ -147,6 +150,15 @@ pub fn cmrr_db(a_d: C64, a_cm: C64) -> f64 {
     } else {
         20.0 * (a_d.norm() / a_cm.norm()).log10()
     }
+}
+
+/// The DC CMRR of the stage with both sources ideal (its parts alone).
+fn cmrr_of_parts(s: &Scenario) -> Option<f64> {
+    let mut ideal = s.clone();
+    ideal.source.r = 0.0;
+    ideal.source.r_plus = Some(0.0);
+    let p = Circuit::new(&ideal).eval(0.0)?;
+    p.cm_gain.map(|cm| cmrr_db(p.gain, cm))
 }
 
 /// The DC gain of the same passive network around a nullor.
@@ -454,6 +466,7 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         zin2_dc_ohm: circuit.zin_input(1, 0.0).map(|z| z.re),
         cm_gain_dc: dc.cm_gain.map(|z| z.re),
         cmrr_dc_db: dc.cm_gain.map(|cm| cmrr_db(dc.gain, cm)),
+        cmrr_parts_dc_db: dc.cm_gain.and_then(|_| cmrr_of_parts(s)),
         zout_1khz_ohm: circuit.eval(1.0e3).map(|p| p.zout.norm()),
         zout_at_ohm: zout_probe_hz(s).and_then(|f| circuit.eval(f).map(|p| p.zout.norm())),
         noise_density_1khz: circuit.eval_or_blank(1.0e3).noise_density(),

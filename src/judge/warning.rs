@@ -44,10 +44,11 @@ pub enum Code {
     OutputCurrent,
     DcOffset,
     Spec,
+    ReferenceImbalance,
 }
 
 impl Code {
-    pub const ALL: [Code; 17] = [
+    pub const ALL: [Code; 18] = [
         Code::InputInvalid,
         Code::PhaseMargin,
         Code::NoCrossover,
@@ -65,6 +66,7 @@ impl Code {
         Code::OutputCurrent,
         Code::DcOffset,
         Code::Spec,
+        Code::ReferenceImbalance,
     ];
 
     /// The stable kebab-case name.
@@ -87,6 +89,7 @@ impl Code {
             Code::OutputCurrent => "output-current",
             Code::DcOffset => "dc-offset",
             Code::Spec => "spec",
+            Code::ReferenceImbalance => "reference-imbalance",
         }
     }
 }
@@ -144,6 +147,10 @@ pub const IOUT_WARN_SHARE: f64 = 0.8;
 /// Worst-case output offset above this share of the output signal's
 /// peak is a warning (common practice).
 pub const OFFSET_WARN_SHARE: f64 = 0.01;
+
+/// A CMRR moved by more than this from what the stage's parts give is
+/// a warning (the usual 3 dB of a figure that matters).
+pub const CMRR_MOVE_DB: f64 = 3.0;
 
 /// What a rule sees: the scenario, its figures and its field problems.
 pub struct Context<'a> {

@@ -280,3 +280,23 @@ fn the_plus_pin_carries_the_common_mode() {
     // The room to a 0 V rail with no common-mode allowance is the low end.
     assert_rel("room", l.cm_headroom_v.unwrap(), lo.min(5.0 - hi), 1e-6);
 }
+
+#[test]
+fn unequal_sources_warn_of_the_lost_rejection() {
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.amp.ro = 0.01;
+    s.source.r = 100.0;
+    s.source.r_plus = Some(1e3);
+    let w = evaluate(&s).warnings;
+    let hit = w.iter().find(|x| x.code == "reference-imbalance");
+    let text = &hit.expect("a reference-imbalance warning").text;
+    // The closed form's 27 dB and the fix are named.
+    let (ad, acm) = closed_form([10e3; 4], 100.0, 1e3);
+    let db = format!("{:.1} dB", 20.0 * (ad / acm).abs().log10());
+    assert!(text.contains(&db), "{text} lacks {db}");
+    assert!(text.contains("equal source resistances"), "{text}");
+    // Equal sources keep the match: no warning.
+    s.source.r_plus = None;
+    let w = evaluate(&s).warnings;
+    assert!(w.iter().all(|x| x.code != "reference-imbalance"), "{w:?}");
+}
