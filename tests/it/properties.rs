@@ -69,6 +69,14 @@ prop_compose! {
         if let Some(b) = s.spread.as_mut() {
             b.a0_min = b.a0_min.map(|v| v.min(s.amp.a0));
         }
+        // The second input's and the common mode's fields only on a kind
+        // with two inputs (cross-field rule).
+        if !matches!(s.stage.topology.kind().input, loopwright::model::stages::Input::Pair { .. }) {
+            (s.source.r_plus, s.source.cm, s.source.cm_peak) = (None, None, None);
+            if let Some(x) = s.spec.as_mut() {
+                x.cmrr_min_db = None;
+            }
+        }
         if let Some(x) = s.spec.as_mut() {
             let inverting = s.stage.topology == Topology::Inverting;
             x.gain_target = x.gain_target.map(|g| if inverting { -g.abs() } else { g.abs() });
