@@ -53,6 +53,18 @@ pub struct Analysis {
     pub phase_margin_without_load_c: Option<f64>,
     pub zout_dc_ohm: f64,
     pub zin_dc_ohm: Option<f64>,
+    /// Two inputs: each input's impedance at DC (its own source resistance
+    /// removed, the other EMF at 0 V behind its source resistance).
+    pub zin1_dc_ohm: Option<f64>,
+    pub zin2_dc_ohm: Option<f64>,
+    /// Two inputs: the common-mode gain at DC, A_cm = a1 + a2 (signed).
+    pub cm_gain_dc: Option<f64>,
+    /// Two inputs: CMRR = |A_d/A_cm| at DC in dB; infinite where |A_cm|
+    /// is below [`CMRR_NULL`]·|A_d| (read as unbounded).
+    pub cmrr_dc_db: Option<f64>,
+    /// Two inputs: the same CMRR with both sources ideal (0 Ω), from the
+    /// stage's own parts alone (the `reference-imbalance` rule compares).
+    pub cmrr_parts_dc_db: Option<f64>,
     /// |Zout| at 1 kHz.
     pub zout_1khz_ohm: Option<f64>,
     /// |Zout| where the spec holds it ([`zout_probe_hz`]).
@@ -152,6 +164,29 @@ fn target_error(s: &Scenario, dc_gain: f64, ideal_gain: f64) -> Option<f64> {
         (None, None) => return None,
     };
     Some((dc_gain - aim) / aim).filter(|v| v.is_finite())
+}
+
+/// Below this |A_cm|/|A_d| the common-mode gain is taken as rounding: the
+/// CMRR is unbounded.
+pub const CMRR_NULL: f64 = 1e-12;
+
+/// CMRR = |A_d/A_cm| in dB from the differential and common-mode gains;
+/// infinite where |A_cm| < [`CMRR_NULL`]·|A_d|.
+pub fn cmrr_db(a_d: C64, a_cm: C64) -> f64 {
+    if a_cm.norm() < CMRR_NULL * a_d.norm() {
+        f64::INFINITY
+    } else {
+        20.0 * (a_d.norm() / a_cm.norm()).log10()
+    }
+}
+
+/// The DC CMRR of the stage with both sources ideal (its parts alone).
+fn cmrr_of_parts(s: &Scenario) -> Option<f64> {
+    let mut ideal = s.clone();
+    ideal.source.r = Some(0.0);
+    ideal.source.r_plus = Some(0.0);
+    let p = Circuit::new(&ideal).eval(0.0)?;
+    p.cm_gain.map(|cm| cmrr_db(p.gain, cm))
 }
 
 /// The DC gain of the same passive network around a nullor.
@@ -488,6 +523,11 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         phase_margin_without_load_c: margin_without,
         zout_dc_ohm: dc.zout.re,
         zin_dc_ohm: dc.zin.map(|z| z.re),
+        zin1_dc_ohm: circuit.net.drive2.and(dc.zin.map(|z| z.re)),
+        zin2_dc_ohm: circuit.zin_input(1, 0.0).map(|z| z.re),
+        cm_gain_dc: dc.cm_gain.map(|z| z.re),
+        cmrr_dc_db: dc.cm_gain.map(|cm| cmrr_db(dc.gain, cm)),
+        cmrr_parts_dc_db: dc.cm_gain.and_then(|_| cmrr_of_parts(s)),
         zout_1khz_ohm: circuit.eval(1.0e3).map(|p| p.zout.norm()),
         zout_at_ohm: zout_probe_hz(s).and_then(|f| circuit.eval(f).map(|p| p.zout.norm())),
         noise_density_1khz: at_1k.noise_density(),

@@ -2,7 +2,7 @@
 //! gives: a [`Point`] of the sweep and the [`Signals`] inside the stage.
 
 pub use crate::engine::netlist::MAX_NOISE;
-use crate::engine::netlist::{AmpModel, Coupling, LoadState, Netlist};
+use crate::engine::netlist::{AmpModel, Coupling, Excitation, LoadState, Netlist};
 use crate::model::scenario::Scenario;
 use crate::num::refine::log_grid;
 use crate::num::solver::{Lu, Vector, MAXN, ZERO};
@@ -42,7 +42,12 @@ pub struct Point {
     /// riso and the load removed (source EMF shorted, its r in place).
     pub zout_pin: C64,
     /// Input impedance seen by the source, source r excluded; None = open.
+    /// With two inputs, input 1's (input 2's EMF at 0 V behind its own
+    /// source resistance).
     pub zin: Option<C64>,
+    /// The common-mode gain V(out)/V with both input EMFs at 1 V: a1 + a2
+    /// (None with one input).
+    pub cm_gain: Option<C64>,
     /// Output noise density contributions, V²/Hz, in netlist noise order.
     pub noise_psd: [f64; MAX_NOISE],
     /// The signal inside the stage, per volt of source EMF.
@@ -157,6 +162,7 @@ impl Circuit {
             zout: ZERO,
             zout_pin: ZERO,
             zin: None,
+            cm_gain: None,
             noise_psd: [0.0; MAX_NOISE],
             signals: Signals::default(),
         })
@@ -245,6 +251,33 @@ impl Circuit {
         }
     }
 
+    /// Input `k`'s impedance (0 or 1) from a solve with its EMF at 1 V and
+    /// the other's at 0 V: its terminal's voltage over the current it
+    /// delivers, its own source resistance excluded; None when open.
+    fn zin_of(&self, k: usize, f_hz: f64, x: &[C64]) -> Option<C64> {
+        let net = &self.net;
+        let (paths, term) = match k {
+            0 => (net.input_paths, net.term),
+            _ => (net.input2_paths?, net.term2),
+        };
+        let i_in = net.input_current(k, 1.0, x);
+        let open = !paths.any || (f_hz == 0.0 && !paths.dc);
+        if open || i_in == ZERO {
+            return None;
+        }
+        let z = Netlist::node_v(x, term) / i_in;
+        let m2 = z.norm_sqr();
+        (m2.is_finite() && m2 < ZIN_OPEN_OHM * ZIN_OPEN_OHM).then_some(z)
+    }
+
+    /// Input `k`'s impedance at one frequency (see [`Circuit::eval`]'s
+    /// `zin`): None when open, singular or absent.
+    pub fn zin_input(&self, k: usize, f_hz: f64) -> Option<C64> {
+        let e = Excitation::Input(k);
+        let x = self.solve_at(f_hz, &[self.net.rhs(e)])?;
+        self.zin_of(k, f_hz, &x[0][..self.net.dim])
+    }
+
     /// Solve at frequency f (f = 0 is DC). None if the matrix is singular.
     pub fn eval(&self, f_hz: f64) -> Option<Point> {
         let net = &self.net;
@@ -254,17 +287,15 @@ impl Circuit {
 
         // Gain, loop gain and Zin: source EMF = 1 V.
         let (x, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
-        let i_in = net.source_current(&x[..n]);
-        let v_term = Netlist::node_v(&x[..n], net.term);
-        let paths = net.input_paths;
-        let open = !paths.any || (f_hz == 0.0 && !paths.dc);
-        let zin = if open || i_in == ZERO {
-            None
+        // Input 1 alone: the signal solve when it carries the whole signal.
+        let zin = if net.weights == (1.0, 0.0) {
+            self.zin_of(0, f_hz, &x[..n])
         } else {
-            let z = v_term / i_in;
-            let m2 = z.norm_sqr();
-            (m2.is_finite() && m2 < ZIN_OPEN_OHM * ZIN_OPEN_OHM).then_some(z)
+            self.zin_of(0, f_hz, &lu.solve(&net.rhs(Excitation::Input(0)))[..n])
         };
+        let cm_gain = net
+            .drive2
+            .map(|_| Netlist::node_v(&lu.solve(&net.rhs(Excitation::CommonMode))[..n], net.out));
 
         // Adjoint: transimpedance from every node/branch to V(out).
         let mut z = [ZERO; MAXN];
@@ -291,6 +322,7 @@ impl Circuit {
             zout,
             zout_pin,
             zin,
+            cm_gain,
             noise_psd,
             signals: self.signals_of(s, &x[..n]),
         })

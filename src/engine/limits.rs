@@ -26,6 +26,8 @@ use std::f64::consts::PI;
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
 pub struct Transfers {
     pub src: f64,
+    /// Per volt of common mode at both inputs (0 with one input).
+    pub cm: f64,
     pub zp: f64,
     pub zn: f64,
     pub hvos: f64,
@@ -152,13 +154,20 @@ pub fn dc_transfers(circuit: &Circuit) -> Option<DcTransfers> {
     if !net.held.is_empty() {
         rhs.push(net.rhs(Excitation::Held));
     }
+    let cm_at = rhs.len();
+    if net.drive2.is_some() {
+        rhs.push(net.rhs(Excitation::CommonMode));
+    }
     let x = circuit.solve_at(0.0, &rhs)?;
+    let held_at = (!net.held.is_empty()).then_some(4);
+    let cm_at = net.drive2.map(|_| cm_at);
     let read = |f: &dyn Fn(&[C64]) -> C64| Transfers {
         src: f(&x[0][..net.dim]).re,
+        cm: cm_at.map_or(0.0, |i| f(&x[i][..net.dim]).re),
         zp: f(&x[1][..net.dim]).re,
         zn: f(&x[2][..net.dim]).re,
         hvos: f(&x[3][..net.dim]).re,
-        held: x.get(4).map_or(0.0, |h| f(&h[..net.dim]).re),
+        held: held_at.map_or(0.0, |i| f(&x[i][..net.dim]).re),
     };
     Some(DcTransfers {
         out: read(&|v| Netlist::node_v(v, net.out)),
@@ -172,6 +181,8 @@ pub fn dc_transfers(circuit: &Circuit) -> Option<DcTransfers> {
 /// The DC operating point and its uncertainty at one place.
 struct Dc {
     source_dc: f64,
+    /// The common-mode DC level (two inputs; 0 otherwise).
+    cm: f64,
     ib: f64,
     ios: f64,
     /// vos at temp_c and the common-mode error at the operating point:
@@ -185,7 +196,10 @@ impl Dc {
     /// DC(X): the source's DC level, the (known, signed) bias currents
     /// and the DC-only EMFs.
     fn level(&self, t: &Transfers) -> f64 {
-        held_plus(t.src * self.source_dc - self.ib * (t.zp + t.zn), t.held)
+        held_plus(
+            t.src * self.source_dc + t.cm * self.cm - self.ib * (t.zp + t.zn),
+            t.held,
+        )
     }
     /// u(X): the unknown-sign offset voltage and offset current.
     fn uncertainty(&self, t: &Transfers) -> f64 {
@@ -300,8 +314,9 @@ fn dc_errors(s: &Scenario, l: &mut Limits, dc: &Dc, dc_gain: f64) {
         l.out_offset_max_v =
             Some(bias.abs() + dc.vos * out.hvos.abs() + 0.5 * dc.ios * (out.zp - out.zn).abs());
     }
-    if s.signal_dc().is_some() || a.ib.is_some() || out.held != 0.0 {
-        l.out_dc_v = Some(held_plus(dc_gain * dc.source_dc + bias, out.held));
+    if s.signal_dc().is_some() || s.source.cm.is_some() || a.ib.is_some() || out.held != 0.0 {
+        let cm = out.cm * dc.cm;
+        l.out_dc_v = Some(held_plus(dc_gain * dc.source_dc + cm + bias, out.held));
     }
 }
 
@@ -389,8 +404,12 @@ fn signal_limits(s: &Scenario, l: &mut Limits, dc: &Dc, circuit: &Circuit, sweep
     let pin_max = band_max(sweep, band, circuit, |_, g| g.pin.norm());
     let slew_max = band_max(sweep, band, circuit, |f, g| 2.0 * PI * f * g.int.norm());
     let i_max = band_max(sweep, band, circuit, |_, g| g.amp_i.norm());
-    output_range(s, l, dc, peak, int_max.value);
-    input_range(s, l, dc, peak * pin_max.value);
+    // The common-mode peak at its DC transfer (a capacitor across r4 only
+    // lowers it in the band).
+    let cm_peak = s.source.cm_peak.unwrap_or(0.0);
+    let int_cm = cm_peak * l.dc.int.cm.abs();
+    output_range(s, l, dc, 1.0, peak * int_max.value + int_cm);
+    input_range(s, l, dc, peak * pin_max.value + cm_peak * l.dc.pin.cm.abs());
     l.slew_needed_v_per_s = Some(peak * slew_max.value);
     l.slew_at_hz = slew_max.f_hz;
     l.fpbw_hz = present(s.amp.slew)
@@ -412,6 +431,7 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
             || a.ib.is_some()
             || a.ios.is_some()
             || s.signal_dc().is_some()
+            || s.source.cm.is_some()
             || !circuit.net.held.is_empty(),
         ..Limits::default()
     };
@@ -425,6 +445,7 @@ pub fn limits(s: &Scenario, circuit: &Circuit, sweep: &Sweep, dc_gain: f64) -> L
     l.vos_at_temp = a.vos.unwrap_or(0.0) + a.vos_drift.unwrap_or(0.0) * (s.temp_c - 25.0).abs();
     let mut dc = Dc {
         source_dc: s.signal_dc().unwrap_or(0.0),
+        cm: s.source.cm.unwrap_or(0.0),
         ib: a.current_at_temp(a.ib.unwrap_or(0.0), s.temp_c),
         ios: a.current_at_temp(a.ios.unwrap_or(0.0), s.temp_c),
         vos: l.vos_at_temp,

@@ -147,6 +147,14 @@ const ROW_IF_GIVEN: Shown = Shown {
     row_when_given: true,
 };
 
+/// The CMRR: in the reports and as a column of the figures row.
+const CMRR_SHOWN: Shown = Shown {
+    json: true,
+    text: true,
+    key_figure: false,
+    row_when_given: true,
+};
+
 /// One scalar result.
 pub struct Figure {
     /// JSON key, also the figure's name in `compare --json`.
@@ -174,6 +182,12 @@ pub struct Figure {
     pub needs_input: bool,
     /// In the step's JSON object even without its input (null then).
     pub null_in_json: bool,
+    /// Whether the figure applies to the stage at all (None: always): one
+    /// that does not is left out of the JSON and text reports.
+    pub applies: Option<fn(&Evaluation) -> bool>,
+    /// Above this value the text reads "> value" (a rejection past what
+    /// any real stage holds).
+    pub ceiling: Option<f64>,
     read: fn(&Evaluation) -> Option<f64>,
 }
 
@@ -218,6 +232,8 @@ const fn fig(
         undefined: "none",
         needs_input: false,
         null_in_json: false,
+        applies: None,
+        ceiling: None,
         read,
     }
 }
@@ -247,6 +263,15 @@ impl Figure {
         self.null_in_json = true;
         self
     }
+    /// A figure of a stage with two inputs only.
+    const fn two_inputs(mut self) -> Figure {
+        self.applies = Some(|e| e.analysis.cm_gain_dc.is_some());
+        self
+    }
+    const fn ceiling(mut self, v: f64) -> Figure {
+        self.ceiling = Some(v);
+        self
+    }
     const fn undefined(mut self, text: &'static str) -> Figure {
         self.undefined = text;
         self
@@ -257,7 +282,7 @@ use Section::{DcErrors, Gain, Impedance, Kick, Loop, Noise, SignalLimits, Step, 
 use Unit::*;
 
 /// Every scalar figure, in JSON and report order.
-pub static FIGURES: [Figure; 58] = [
+pub static FIGURES: [Figure; 62] = [
     fig(
         "nominal_gain",
         "nominal gain",
@@ -290,6 +315,30 @@ pub static FIGURES: [Figure; 58] = [
         |e| Some(e.analysis.gain_error),
     )
     .closed_loop(),
+    fig(
+        "cm_gain_dc",
+        "common-mode gain",
+        "A_cm",
+        Ratio,
+        Gain,
+        REPORT,
+        |e| e.analysis.cm_gain_dc,
+    )
+    .closed_loop()
+    .two_inputs(),
+    fig(
+        "cmrr_dc_db",
+        "CMRR at DC",
+        "CMRR",
+        Db,
+        Gain,
+        CMRR_SHOWN,
+        |e| e.analysis.cmrr_dc_db.filter(|v| v.is_finite()),
+    )
+    .closed_loop()
+    .two_inputs()
+    .ceiling(160.0)
+    .undefined("unbounded (the common-mode gain is below 1e-12 of the differential)"),
     fig(
         "target_error",
         "error vs target",
@@ -382,6 +431,30 @@ pub static FIGURES: [Figure; 58] = [
         |e| e.analysis.zin_dc_ohm,
     )
     .closed_loop()
+    .undefined("open (no DC path, or above 1 PΩ)"),
+    fig(
+        "zin1_dc_ohm",
+        "Zin 1 at DC",
+        "Zin1 DC",
+        Si("Ω"),
+        Impedance,
+        REPORT,
+        |e| e.analysis.zin1_dc_ohm,
+    )
+    .closed_loop()
+    .two_inputs()
+    .undefined("open (no DC path, or above 1 PΩ)"),
+    fig(
+        "zin2_dc_ohm",
+        "Zin 2 at DC",
+        "Zin2 DC",
+        Si("Ω"),
+        Impedance,
+        REPORT,
+        |e| e.analysis.zin2_dc_ohm,
+    )
+    .closed_loop()
+    .two_inputs()
     .undefined("open (no DC path, or above 1 PΩ)"),
     fig(
         "zout_1khz_ohm",
@@ -993,6 +1066,11 @@ impl Figure {
             .map_or(Reading::Undefined, Reading::Value)
     }
 
+    /// Whether the figure applies to this stage (see [`Figure::applies`]).
+    pub fn applies_to(&self, e: &Evaluation) -> bool {
+        self.applies.is_none_or(|f| f(e))
+    }
+
     /// The value for JSON: null where undefined or unstable.
     pub fn json(&self, e: &Evaluation) -> Option<f64> {
         self.read(e).value()
@@ -1023,6 +1101,9 @@ impl Figure {
                     self.number(v, false),
                     fixed(20.0 * v.abs().log10(), 1, false)
                 )
+            }
+            Reading::Value(v) if self.ceiling.is_some_and(|c| v > c) => {
+                format!("> {}", self.number(self.ceiling.unwrap_or(v), false))
             }
             Reading::Value(v) => self.number(v, false),
             Reading::Undefined => self.undefined.into(),

@@ -52,7 +52,7 @@ use Rule::*;
 
 /// Every limit, in file order; `settle_max_s` has two entries: the
 /// 0.1 % settling time, or `settle_to_s` when the step has a threshold.
-pub static LIMITS: [Limit; 12] = [
+pub static LIMITS: [Limit; 13] = [
     Limit {
         field: "gain_error_max",
         figures: &["target_error"],
@@ -135,6 +135,13 @@ pub static LIMITS: [Limit; 12] = [
         figures: &["kick_error_lsb"],
         rule: AtMost,
         get: |s| s.kick_error_max_lsb,
+        applies: always,
+    },
+    Limit {
+        field: "cmrr_min_db",
+        figures: &["cmrr_dc_db"],
+        rule: AtLeast,
+        get: |s| s.cmrr_min_db,
         applies: always,
     },
 ];

@@ -35,7 +35,7 @@ pub enum Worse {
 /// The figures that spread, in report order, and which way each gets
 /// worse. `target_error` is computed here; the rest are read from the
 /// figure table.
-pub const SPREAD_FIGURES: [(&str, When, Worse); 16] = [
+pub const SPREAD_FIGURES: [(&str, When, Worse); 17] = [
     ("dc_gain", When::Always, Worse::Away),
     (TARGET_ERROR, When::Always, Worse::Larger),
     ("f_3db_hz", When::Always, Worse::Lower),
@@ -49,6 +49,7 @@ pub const SPREAD_FIGURES: [(&str, When, Worse); 16] = [
     ("headroom_low_v", When::Given, Worse::Lower),
     ("headroom_high_v", When::Given, Worse::Lower),
     ("supply_rejection_db", When::Given, Worse::Lower),
+    (CMRR, When::Given, Worse::Lower),
     ("settle_01pct_s", When::Held, Worse::Higher),
     ("settle_to_s", When::Held, Worse::Higher),
     ("kick_error_lsb", When::Held, Worse::Higher),
@@ -74,6 +75,9 @@ pub fn worse_of(key: &str, a: Option<f64>, b: Option<f64>, nominal: Option<f64>)
 /// The spread figures that need the time domain (a step and a kick per
 /// trial) when a limit holds them.
 pub const TIME_DOMAIN: [&str; 3] = ["settle_01pct_s", "settle_to_s", "kick_error_lsb"];
+/// The CMRR at DC: an unbounded one (a null in the figure table) reads
+/// as +∞ here, so it passes a minimum.
+pub const CMRR: &str = "cmrr_dc_db";
 
 /// The gain `target_error` is measured against: the spec's target, or
 /// the nominal stage's network gain.
@@ -89,6 +93,9 @@ pub fn read(e: &Evaluation, key: &str, target: f64) -> Option<f64> {
     if key == TARGET_ERROR {
         let g = figure("dc_gain")?.read(e).value()?;
         return Some((g - target) / target).filter(|v| v.is_finite());
+    }
+    if key == CMRR && !e.analysis.unstable() {
+        return e.analysis.cmrr_dc_db;
     }
     figure(key)?.read(e).value()
 }

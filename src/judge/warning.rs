@@ -45,10 +45,11 @@ pub enum Code {
     DcOffset,
     SampleKick,
     Spec,
+    ReferenceImbalance,
 }
 
 impl Code {
-    pub const ALL: [Code; 18] = [
+    pub const ALL: [Code; 19] = [
         Code::InputInvalid,
         Code::PhaseMargin,
         Code::NoCrossover,
@@ -67,6 +68,7 @@ impl Code {
         Code::DcOffset,
         Code::SampleKick,
         Code::Spec,
+        Code::ReferenceImbalance,
     ];
 
     /// The stable kebab-case name.
@@ -90,6 +92,7 @@ impl Code {
             Code::DcOffset => "dc-offset",
             Code::SampleKick => "sample-kick",
             Code::Spec => "spec",
+            Code::ReferenceImbalance => "reference-imbalance",
         }
     }
 }
@@ -151,6 +154,9 @@ pub const OFFSET_WARN_SHARE: f64 = 0.01;
 /// The sampling capacitor's error at the end of the acquisition above
 /// this many LSB is a warning (half an LSB: common practice).
 pub const KICK_WARN_LSB: f64 = 0.5;
+/// A CMRR moved by more than this from what the stage's parts give is
+/// a warning (the usual 3 dB of a figure that matters).
+pub const CMRR_MOVE_DB: f64 = 3.0;
 
 /// What a rule sees: the scenario, its figures and its field problems.
 pub struct Context<'a> {

@@ -28,6 +28,7 @@ pub const RULES: &[Rule] = &[
     limit_rules::output_current,
     limit_rules::dc_offset,
     sample_kick,
+    reference_imbalance,
 ];
 
 /// All warnings for a scenario and its analysis, worst first.
@@ -235,6 +236,39 @@ fn gain_error(cx: &Context, w: &mut Vec<Warning>) {
         tol * 100.0
     );
     push(w, Code::GainError, Severity::Warning, text);
+}
+
+/// The resistance in series with the two inputs (or the reference) upsets
+/// the resistor match: the CMRR moves by more than [`CMRR_MOVE_DB`] from
+/// what the parts alone give.
+fn reference_imbalance(cx: &Context, w: &mut Vec<Warning>) {
+    let (Some(with), Some(parts)) = (cx.a.cmrr_dc_db, cx.a.cmrr_parts_dc_db) else {
+        return;
+    };
+    let moved = if with.is_finite() && parts.is_finite() {
+        (with - parts).abs() > CMRR_MOVE_DB
+    } else {
+        with.is_finite() != parts.is_finite()
+    };
+    if !moved || cx.a.unstable() {
+        return;
+    }
+    let db = |v: f64| match v.is_finite() {
+        true => format!("{v:.1} dB"),
+        false => "unbounded".into(),
+    };
+    let src = &cx.s.source;
+    let r = src.r.unwrap_or(0.0);
+    let r_plus = src.r_plus.unwrap_or(r);
+    let text = format!(
+        "the source resistances (r {}, r_plus {}) take the CMRR from {} (the resistors alone) to {}; \
+         equal source resistances, r1 and r3 reduced by them, or buffered inputs restore it",
+        fmt_eng(r, "Ω"),
+        fmt_eng(r_plus, "Ω"),
+        db(parts),
+        db(with)
+    );
+    push(w, Code::ReferenceImbalance, Severity::Warning, text);
 }
 
 /// The parts that pull the passive network's gain off the resistor ratio.

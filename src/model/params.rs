@@ -10,6 +10,7 @@ use crate::model::eseries::{Series, CAPACITOR_SERIES};
 use crate::model::scenario::{
     present, Dist, Feedback, FieldProblem, Reference, Sample, Scenario, Step, Supply, Topology,
 };
+use crate::model::stages::Input;
 use crate::model::values::{fmt_compact, fmt_eng, fmt_eng_sig, fmt_fixed, fmt_plain, parse_value};
 
 /// Where a parameter sits in the pane and the report.
@@ -237,6 +238,8 @@ pub const IPEAK: (f64, f64) = (0.0, 1.0);
 pub const BIAS: (f64, f64) = (-100.0, 100.0);
 pub const FRACTION: (f64, f64) = (0.0, 1.0);
 pub const DB_LIMIT: (f64, f64) = (0.0, 100.0);
+/// A CMRR minimum (dB).
+pub const CMRR_LIMIT: (f64, f64) = (0.0, 200.0);
 pub const DEG_LIMIT: (f64, f64) = (0.0, 180.0);
 pub const OHM_LIMIT: (f64, f64) = (0.0, 1.0e13);
 pub const HZ_AT: (f64, f64) = (0.0, 1.0e12);
@@ -346,6 +349,12 @@ macro_rules! supply_field {
     };
 }
 
+/// Whether the stage's kind has two inputs (the common-mode and input 2
+/// fields apply).
+fn two_inputs(s: &Scenario) -> bool {
+    matches!(s.stage.topology.kind().input, Input::Pair { .. })
+}
+
 /// Drop a spread or spec block that holds nothing.
 fn tidy(s: &mut Scenario) {
     if s.spread.as_ref().is_some_and(|b| *b == Default::default()) {
@@ -421,7 +430,7 @@ use Presence::*;
 use Stepping::*;
 
 /// Every field, in file and pane order.
-pub static PARAMS: [Param; 91] = [
+pub static PARAMS: [Param; 100] = [
     entry(
         "stage.topology",
         "topology",
@@ -472,6 +481,61 @@ pub static PARAMS: [Param; 91] = [
         ZeroIsAbsent,
         STAGE_FARADS,
         number!(opt stage.cf),
+    )
+    .starting(|_| 1e-12),
+    entry(
+        "stage.r1",
+        "r1",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r1),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.r2",
+        "r2",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r2),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.r3",
+        "r3",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r3),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.r4",
+        "r4",
+        "Ω",
+        Stage,
+        Resistor,
+        GainStage,
+        OHMS,
+        number!(opt stage.r4),
+    )
+    .starting(|_| 10e3),
+    entry(
+        "stage.c4",
+        "c4",
+        "F",
+        Stage,
+        Capacitor,
+        GainStage,
+        STAGE_FARADS,
+        number!(opt stage.c4),
     )
     .starting(|_| 1e-12),
     entry(
@@ -884,6 +948,18 @@ pub static PARAMS: [Param; 91] = [
     .starting(|_| 1e9)
     .only(Inputs::Current),
     entry(
+        "source.r_plus",
+        "source r+",
+        "Ω",
+        SourceLoad,
+        OneTwoFive,
+        Optional,
+        (0.0, OHMS.1),
+        number!(opt source.r_plus),
+    )
+    .qualifies(two_inputs)
+    .note("input 2's source resistance; none: equal to source r"),
+    entry(
         "load.r",
         "load r",
         "Ω",
@@ -1154,6 +1230,17 @@ pub static PARAMS: [Param; 91] = [
     .starting(|_| 1e-9)
     .only(Inputs::Current),
     entry(
+        "source.cm",
+        "cm dc",
+        "V",
+        SupplySignal,
+        Linear(0.1),
+        Optional,
+        VOLTS,
+        number!(opt source.cm),
+    )
+    .qualifies(two_inputs),
+    entry(
         "source.peak",
         "peak",
         "V",
@@ -1188,6 +1275,18 @@ pub static PARAMS: [Param; 91] = [
         number!(opt source.bias),
     )
     .only(Inputs::Current),
+    entry(
+        "source.cm_peak",
+        "cm peak",
+        "V",
+        SupplySignal,
+        OneTwoFive,
+        Optional,
+        PEAK,
+        number!(opt source.cm_peak),
+    )
+    .qualifies(two_inputs)
+    .starting(|_| 1.0),
     entry(
         "step.size",
         "step",
@@ -1438,6 +1537,17 @@ pub static PARAMS: [Param; 91] = [
         block!(spec.peaking_max_db),
     ),
     entry(
+        "spec.cmrr_min_db",
+        "CMRR ≥",
+        "dB",
+        Spread,
+        Linear(1.0),
+        Optional,
+        CMRR_LIMIT,
+        block!(spec.cmrr_min_db),
+    )
+    .qualifies(two_inputs),
+    entry(
         "spec.pm_min_deg",
         "margin ≥",
         "°",
@@ -1637,7 +1747,8 @@ impl Param {
             return present(s.stage.riso).is_some();
         }
         self.inputs.admit(s)
-            && !(self.presence == GainStage && s.stage.topology.kind().part(self.path).is_none())
+            && !(matches!(self.presence, GainStage | FeedbackResistor)
+                && s.stage.topology.kind().part(self.path).is_none())
             && self
                 .qualifies
                 .is_none_or(|when| when(s) || self.raw(s).is_some())
@@ -2015,6 +2126,7 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     let mut p = supply_checks(s);
     p.extend(reference_checks(s));
     p.extend(threshold_checks(s));
+    p.extend(two_input_checks(s));
     p.extend(spread_checks(s));
     p.extend(part_tolerance_checks(s));
     p.extend(temperature_checks(s));
@@ -2104,6 +2216,41 @@ fn part_tolerance_checks(s: &Scenario) -> Vec<FieldProblem> {
         p.push(FieldProblem { field, message });
     }
     p
+}
+
+/// The second input's and the common mode's fields, refused for a kind
+/// with one input (they would be ignored).
+fn two_input_checks(s: &Scenario) -> Vec<FieldProblem> {
+    if two_inputs(s) {
+        return Vec::new();
+    }
+    let name = s.stage.topology.name();
+    [
+        "source.r_plus",
+        "source.cm",
+        "source.cm_peak",
+        "spec.cmrr_min_db",
+    ]
+    .into_iter()
+    .filter_map(param)
+    .filter(|p| p.raw(s).is_some())
+    .map(|p| FieldProblem {
+        field: file_field(p.path).into(),
+        message: format!(
+            "{} {name} stage has one input: {} applies to a stage with two inputs (Difference)",
+            capital(article(name)),
+            p.label
+        ),
+    })
+    .collect()
+}
+
+/// A word with its first letter in capitals.
+fn capital(word: &str) -> String {
+    let mut c = word.chars();
+    c.next()
+        .map(|f| f.to_uppercase().chain(c).collect())
+        .unwrap_or_default()
 }
 
 /// "an" before a word that starts with a vowel letter, else "a" (common

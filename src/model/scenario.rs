@@ -21,18 +21,20 @@ pub enum Topology {
     Inverting,
     Follower,
     Transimpedance,
+    Difference,
 }
 
 impl Topology {
     /// Every topology, in the order the lists and the workbench give them.
-    pub const ALL: [Topology; 4] = [
+    pub const ALL: [Topology; 5] = [
         Topology::NonInverting,
         Topology::Inverting,
         Topology::Follower,
         Topology::Transimpedance,
+        Topology::Difference,
     ];
     /// Their names, as in a stage file.
-    pub const NAMES: [&'static str; 4] = names_of!(Topology, 4);
+    pub const NAMES: [&'static str; 5] = names_of!(Topology, 5);
 
     pub const fn name(self) -> &'static str {
         match self {
@@ -40,6 +42,7 @@ impl Topology {
             Topology::Inverting => "Inverting",
             Topology::Follower => "Follower",
             Topology::Transimpedance => "Transimpedance",
+            Topology::Difference => "Difference",
         }
     }
 }
@@ -104,6 +107,46 @@ pub struct Stage {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub riso: Option<f64>,
+    /// Difference: input 1 to the − pin (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r1: Option<f64>,
+    /// Difference: the − pin to the feedback point (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r2: Option<f64>,
+    /// Difference: input 2 to the + pin (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r3: Option<f64>,
+    /// Difference: the + pin to the reference (Ω).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r4: Option<f64>,
+    /// Difference: across r4 (F).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub c4: Option<f64>,
     /// Where rf takes the feedback (`Pin` when absent).
     #[serde(default, skip_serializing_if = "Feedback::is_pin")]
     pub feedback: Feedback,
@@ -503,6 +546,30 @@ pub struct Source {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub bias: Option<f64>,
+    /// Input 2's source resistance (Ω; absent: equal to `r`): two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub r_plus: Option<f64>,
+    /// DC common-mode level (V1 + V2)/2 (V): two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cm: Option<f64>,
+    /// Peak common-mode signal anywhere in the band (V): two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cm_peak: Option<f64>,
 }
 
 /// The supply rails (V), neg below pos.
@@ -816,6 +883,14 @@ pub struct Spec {
     )]
     #[serde(deserialize_with = "optional_number")]
     pub pm_min_deg: Option<f64>,
+    /// The least CMRR at DC (dB), two-input kinds.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        serialize_with = "bare"
+    )]
+    #[serde(deserialize_with = "optional_number")]
+    pub cmrr_min_db: Option<f64>,
     #[serde(
         default,
         skip_serializing_if = "Option::is_none",

@@ -123,6 +123,37 @@ pub fn surroundings(q: &Query) -> Vec<String> {
 /// The columns of a pairs row.
 pub const PAIR_HEADER: [&str; 6] = ["rg", "rf", "gain", "error", "noise (25 °C)", "load"];
 
+/// The pair's part names for a kind (`rg`, `rf` where it has none).
+pub fn pair_names(q: &Query) -> [&'static str; 2] {
+    q.topology.kind().pairs.map_or(["rg", "rf"], |p| p.names())
+}
+
+/// The columns of a pairs row, the first two named as the kind's parts.
+pub fn pair_header(t: crate::model::Topology) -> [&'static str; 6] {
+    let mut h = PAIR_HEADER;
+    if let Some(p) = t.kind().pairs {
+        [h[0], h[1]] = p.names();
+    }
+    h
+}
+
+/// The JSON pairs keyed by the kind's part names (`r1`, `r2`) rather
+/// than `rg`, `rf`.
+fn rename_pair_keys(v: &mut serde_json::Value, names: [&str; 2]) {
+    let Some(rows) = v.get_mut("pairs").and_then(|p| p.as_array_mut()) else {
+        return;
+    };
+    for row in rows.iter_mut().filter_map(|r| r.as_object_mut()) {
+        for (old, new) in ["rg", "rf"].into_iter().zip(names) {
+            if old != new {
+                if let Some(x) = row.remove(old) {
+                    row.insert(new.into(), x);
+                }
+            }
+        }
+    }
+}
+
 /// A signed relative error in percent: `+0.23 %`, `-1.5 %`, `0 %`.
 fn signed_percent(e: f64) -> String {
     let text = fmt_plain(e * 100.0, 3);
@@ -198,7 +229,14 @@ pub fn pairs_output(q: &Query, json: bool) -> Result<Vec<u8>> {
             target: q.target,
             pairs: &found,
         };
-        serde_json::to_writer_pretty(&mut buf, &out)?;
+        match pair_names(q) {
+            ["rg", "rf"] => serde_json::to_writer_pretty(&mut buf, &out)?,
+            names => {
+                let mut value = serde_json::to_value(&out)?;
+                rename_pair_keys(&mut value, names);
+                serde_json::to_writer_pretty(&mut buf, &value)?;
+            }
+        }
         buf.push(b'\n');
         return Ok(buf);
     }
@@ -215,7 +253,7 @@ pub fn pairs_output(q: &Query, json: bool) -> Result<Vec<u8>> {
         buf.extend_from_slice(format!("  {line}\n").as_bytes());
     }
     let rows: Vec<Vec<String>> = found.iter().map(pair_cells).collect();
-    for line in table(&PAIR_HEADER, &rows) {
+    for line in table(&pair_header(q.topology), &rows) {
         buf.extend_from_slice(format!("  {line}\n").as_bytes());
     }
     Ok(buf)

@@ -73,7 +73,10 @@ fn write_figures(s: &Scenario, e: &Evaluation, w: &mut impl Write) -> io::Result
     // As the text report: a section only where its inputs are given, a
     // figure that needs an input left out when it has none.
     for sec in Section::ALL.into_iter().filter(|s| s.shown_for(e)) {
-        for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
+        for f in FIGURES
+            .iter()
+            .filter(|f| f.section == sec && f.shown.text && f.applies_to(e))
+        {
             let r = f.read(e);
             if f.needs_input && r == crate::judge::figures::Reading::Undefined {
                 continue;

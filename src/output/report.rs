@@ -1,7 +1,7 @@
 //! The headless report: the engine's results as readable text or as one
 //! JSON object (keys documented in the README).
 
-use crate::engine::analysis::{Analysis, Circuit};
+use crate::engine::analysis::{cmrr_db, Analysis, Circuit};
 use crate::judge::figures::{delta, figure, key_figures, Section, FIGURES};
 use crate::judge::spread_figures::unit_and_label;
 use crate::judge::{Evaluation, Warning};
@@ -34,6 +34,10 @@ pub struct PointReport {
     pub loop_mag: Option<f64>,
     pub loop_phase_deg: Option<f64>,
     pub noise_density: Option<f64>,
+    /// Two inputs: |A_d/A_cm| in dB there (null when unbounded); left out
+    /// for a kind with one input.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cmrr_db: Option<Option<f64>>,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -113,6 +117,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             loop_mag: fin(p.loop_gain.norm()),
             loop_phase_deg: fin(a.loop_phase_at(circuit, f_hz)),
             noise_density: fin(p.noise_density()),
+            cmrr_db: p.cm_gain.map(|cm| fin(cmrr_db(p.gain, cm))),
         },
         None => PointReport {
             f_hz,
@@ -127,6 +132,7 @@ pub fn point_report(circuit: &Circuit, a: &Analysis, f_hz: f64) -> PointReport {
             loop_mag: None,
             loop_phase_deg: None,
             noise_density: None,
+            cmrr_db: circuit.net.drive2.map(|_| None),
         },
     }
 }
@@ -164,7 +170,7 @@ impl Report {
             gain_unit: e.analysis.gain_unit,
             figures: FIGURES
                 .iter()
-                .filter(|f| f.shown.json && f.section.json_object().is_none())
+                .filter(|f| f.shown.json && f.section.json_object().is_none() && f.applies_to(e))
                 .map(|f| (f.key, f.json(e)))
                 .collect(),
             step: step_object(e),
@@ -261,7 +267,10 @@ fn write_section(sec: Section, e: &Evaluation, w: &mut impl Write) -> io::Result
     if let (Section::Kick, Some(why)) = (sec, kick_blank(e)) {
         return writeln!(w, "  {:<18} none: {why}", "figures");
     }
-    for f in FIGURES.iter().filter(|f| f.section == sec && f.shown.text) {
+    for f in FIGURES
+        .iter()
+        .filter(|f| f.section == sec && f.shown.text && f.applies_to(e))
+    {
         let r = f.read(e);
         if f.needs_input && r == crate::judge::figures::Reading::Undefined {
             continue;
@@ -333,6 +342,8 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
     }
     Ok(())
 }
+/// Above this CMRR the text reads "> 160 dB".
+const CMRR_SHOWN_DB: f64 = 160.0;
 
 /// The table of figures at the `--at` frequencies.
 fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
@@ -340,9 +351,15 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
         return Ok(());
     }
     writeln!(w)?;
+    let two = points.iter().any(|p| p.cmrr_db.is_some());
+    let cmrr_head = if two {
+        format!(" {:>10}", "CMRR")
+    } else {
+        String::new()
+    };
     writeln!(
         w,
-        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+        "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}{cmrr_head}",
         "f", "gain", "phase", "Zout", "phase", "Zout pin", "Zin", "loop", "phase", "noise"
     )?;
     let num = |v: Option<f64>, u: &str| v.map(|x| fmt_eng(x, u)).unwrap_or("—".into());
@@ -352,9 +369,15 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
     };
     let ratio = |v: Option<f64>| v.map(|x| fmt_plain(x, 3)).unwrap_or("—".into());
     for p in points {
+        let cmrr = match p.cmrr_db {
+            Some(Some(v)) if v > CMRR_SHOWN_DB => format!(" {:>10}", "> 160 dB"),
+            Some(Some(v)) => format!(" {:>10}", format!("{} dB", fmt_fixed(v, 1))),
+            Some(None) => format!(" {:>10}", "unbounded"),
+            None => String::new(),
+        };
         writeln!(
             w,
-            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}",
+            "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}{cmrr}",
             fmt_eng(p.f_hz, "Hz"),
             ratio(p.gain_mag),
             deg(p.gain_phase_deg),

@@ -11,7 +11,7 @@ use crate::output::report::{point_report, PointReport};
 use std::io::{self, Write};
 
 /// The column names, in order: the CSV header and the JSON keys.
-pub const COLUMNS: [&str; 12] = [
+pub const COLUMNS: [&str; 13] = [
     "f_hz",
     "gain_mag",
     "gain_db",
@@ -24,13 +24,14 @@ pub const COLUMNS: [&str; 12] = [
     "zin_mag",
     "zin_phase_deg",
     "noise_density",
+    "cmrr_db",
 ];
 
 /// Most rows a sweep may have.
 pub const MAX_ROWS: usize = 2000;
 
 /// One row: the values of [`COLUMNS`], None where undefined.
-pub type Row = [Option<f64>; 12];
+pub type Row = [Option<f64>; 13];
 
 /// The row of one `--at` point, with the loop gain also in dB.
 pub fn row(p: &PointReport) -> Row {
@@ -51,6 +52,7 @@ pub fn row(p: &PointReport) -> Row {
         p.zin_mag,
         p.zin_phase_deg,
         p.noise_density,
+        p.cmrr_db.flatten(),
     ]
 }
 

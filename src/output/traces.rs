@@ -1,7 +1,7 @@
 //! Plot-ready traces of one analysis (x = log10 f): the workbench's plots
 //! and the SVG figures draw the same points.
 
-use crate::engine::analysis::{Analysis, Point};
+use crate::engine::analysis::{cmrr_db, Analysis, Point};
 
 /// Keep only finite points.
 pub fn finite(points: impl Iterator<Item = (f64, f64)>) -> Vec<(f64, f64)> {
@@ -45,6 +45,8 @@ pub struct Traces {
     pub env_swing: Vec<(f64, f64)>,
     pub env_slew: Vec<(f64, f64)>,
     pub env_current: Vec<(f64, f64)>,
+    /// Two inputs: the CMRR in dB (points where it is unbounded left out).
+    pub cmrr_db: Vec<(f64, f64)>,
 }
 
 impl Traces {
@@ -70,6 +72,10 @@ impl Traces {
                     .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
             ),
             noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
+            cmrr_db: finite(
+                pts.iter()
+                    .filter_map(|p| p.cm_gain.map(|cm| (lf(p), cmrr_db(p.gain, cm)))),
+            ),
             ..Traces::envelope(a)
         }
     }

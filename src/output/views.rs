@@ -126,6 +126,21 @@ fn impedance_curves(t: &Traces) -> Vec<Curve> {
     c
 }
 
+/// The gain and its phase; with two inputs, the CMRR on the gain's axis.
+fn response_curves(t: &Traces) -> Vec<Curve> {
+    let mut c = vec![
+        curve("gain", false, &t.gain_db),
+        curve("phase", true, &t.gain_phase),
+    ];
+    if !t.cmrr_db.is_empty() {
+        c.push(Curve {
+            tone: 2,
+            ..curve("CMRR", false, &t.cmrr_db)
+        });
+    }
+    c
+}
+
 /// The envelope needs the signal's peak.
 fn needs_peak(s: &Evaluated) -> Option<String> {
     s.scenario.signal_peak().is_none().then(|| {
@@ -198,12 +213,7 @@ pub static VIEWS: [View; 9] = [
         needs: nothing_needed,
         left: DB,
         right: Some(DEG),
-        curves: |t| {
-            vec![
-                curve("gain", false, &t.gain_db),
-                curve("phase", true, &t.gain_phase),
-            ]
-        },
+        curves: response_curves,
         marks: f3db_mark,
         own: None,
     },

@@ -65,9 +65,9 @@ impl Query {
     /// The source resistance in series with rg: the source's own in an
     /// inverting stage, 0 otherwise.
     pub fn series_r(&self) -> f64 {
-        match self.topology {
-            Topology::Inverting => self.source_r,
-            _ => 0.0,
+        match self.topology.kind().source_in_network {
+            true => self.source_r,
+            false => 0.0,
         }
     }
 
@@ -84,18 +84,18 @@ impl Query {
     /// rf/(rg + rs)·d (Inverting) or (1 + rf/rg)·d.
     pub fn gain_of(&self, rg: f64, rf: f64) -> f64 {
         let d = self.divider();
-        match self.topology {
-            Topology::Inverting => rf / (rg + self.series_r()) * d,
-            _ => (1.0 + rf / rg) * d,
+        match self.topology.kind().pairs {
+            Some(p) => (p.gain)(rf / (rg + self.series_r())) * d,
+            None => (1.0 + rf / rg) * d,
         }
     }
 
     /// The rf that gives the target exactly from this rg.
     fn ideal_rf(&self, rg: f64) -> f64 {
         let aim = self.target / self.divider();
-        match self.topology {
-            Topology::Inverting => aim * (rg + self.series_r()),
-            _ => (aim - 1.0) * rg,
+        match self.topology.kind().pairs {
+            Some(p) => (p.ratio)(aim) * (rg + self.series_r()),
+            None => (aim - 1.0) * rg,
         }
     }
 }
@@ -147,18 +147,23 @@ impl Pair {
     /// The figures of one pair for a query's target, source and load.
     pub fn new(q: &Query, rg: f64, rf: f64) -> Pair {
         let gain = q.gain_of(rg, rf);
-        let load_ohm = match q.topology {
-            // The inverting input is a virtual ground: rg loads the source,
-            // only rf the output.
-            Topology::Inverting => rf,
-            _ => rf + rg,
-        };
+        // The kind says what the pair puts on the output (an inverting
+        // input is a virtual ground: rg loads the source, only rf the
+        // output).
+        let pairs = q.topology.kind().pairs;
+        let load_ohm = pairs.map_or(rf + rg, |p| (p.load)(rg, rf));
         let four_kt = 4.0 * BOLTZMANN * NOISE_TEMP_K;
         // rf's own noise reaches the amplifier output at gain 1, rg's at
         // rf/(rg + rs) (rf/rg non-inverting): Johnson–Nyquist density 4kTR
         // each, uncorrelated.
         let rg_gain = rf / (rg + q.series_r());
-        let noise_density = (four_kt * rf + four_kt * rg * rg_gain * rg_gain).sqrt();
+        // A matched second half (r3 = rg, r4 = rf on the + input) adds
+        // rg ∥ rf at the + pin, amplified by the noise gain 1 + rg_gain.
+        let mirror = match pairs.and_then(|p| p.also) {
+            Some(_) => four_kt * rg * rf / (rg + rf) * (1.0 + rg_gain).powi(2),
+            None => 0.0,
+        };
+        let noise_density = (four_kt * rf + four_kt * rg * rg_gain * rg_gain + mirror).sqrt();
         Pair {
             rg,
             rf,

@@ -398,10 +398,14 @@ fn statistics(key: &'static str, nominal: Option<f64>, column: &[Option<f64>]) -
     let mut v: Vec<f64> = column.iter().flatten().copied().collect();
     v.sort_by(f64::total_cmp);
     let n = v.len();
-    let mean = (n > 0).then(|| v.iter().sum::<f64>() / n as f64);
-    let std = mean.filter(|_| n > 1).map(|m| {
-        let ss: f64 = v.iter().map(|x| (x - m).powi(2)).sum();
-        (ss / (n - 1) as f64).sqrt()
+    // An unbounded value (a null CMRR) counts in the percentiles, not in
+    // the mean and deviation.
+    let finite: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
+    let nf = finite.len();
+    let mean = (nf > 0).then(|| finite.iter().sum::<f64>() / nf as f64);
+    let std = mean.filter(|_| nf > 1).map(|m| {
+        let ss: f64 = finite.iter().map(|x| (x - m).powi(2)).sum();
+        (ss / (nf - 1) as f64).sqrt()
     });
     let (min, max) = (v.first().copied(), v.last().copied());
     // A figure no part moves differs only by rounding between trials.

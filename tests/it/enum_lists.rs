@@ -29,6 +29,6 @@ fn enum_lists_name_what_a_stage_file_writes() {
     assert_eq!(all.len(), n);
     assert_eq!(
         Topology::with_resistors(" or "),
-        "NonInverting or Inverting"
+        "NonInverting or Inverting or Difference"
     );
 }

@@ -11,6 +11,7 @@ mod cli_edges;
 mod cursor;
 mod datasheet;
 mod design_helpers;
+mod difference;
 mod elements;
 mod engine_checks;
 mod enum_lists;

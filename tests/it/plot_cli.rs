@@ -82,6 +82,11 @@ fn every_scenario_and_view_is_well_formed_svg() {
                 t.iter().any(|s| s.contains(mark)),
                 "{p} {view}: mark {mark}"
             );
+            // A two-input stage's response adds its CMRR.
+            let two = std::fs::read_to_string(&path)
+                .unwrap()
+                .contains("Difference");
+            let n = n + usize::from(two && view == "response");
             assert_eq!(curves(&doc), n, "{p} {view}: one path per curve");
         }
     }

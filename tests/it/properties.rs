@@ -77,6 +77,14 @@ prop_compose! {
         let inverting = s.stage.topology.kind().negative;
         // A gain in V/V is held to the narrower range.
         let top = if s.current_input() { 1e13 } else { 1e9 };
+        // The second input's and the common mode's fields only on a kind
+        // with two inputs (cross-field rule).
+        if !matches!(s.stage.topology.kind().input, loopwright::model::stages::Input::Pair { .. }) {
+            (s.source.r_plus, s.source.cm, s.source.cm_peak) = (None, None, None);
+            if let Some(x) = s.spec.as_mut() {
+                x.cmrr_min_db = None;
+            }
+        }
         if let Some(x) = s.spec.as_mut() {
             x.gain_target = x.gain_target.map(|g| g.abs().min(top)).map(|g| if inverting { -g } else { g });
             // A supply-rejection limit only where the amplifier gives

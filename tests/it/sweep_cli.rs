@@ -6,7 +6,7 @@ use crate::support::stages::{follower, in_range, CLOSED_FORM_RON};
 use serde_json::Value;
 
 /// The header the README and the issue give, exactly.
-const HEADER: &str = "f_hz,gain_mag,gain_db,gain_phase_deg,loop_mag,loop_db,loop_phase_deg,zout_mag,zout_phase_deg,zin_mag,zin_phase_deg,noise_density";
+const HEADER: &str = "f_hz,gain_mag,gain_db,gain_phase_deg,loop_mag,loop_db,loop_phase_deg,zout_mag,zout_phase_deg,zin_mag,zin_phase_deg,noise_density,cmrr_db";
 
 fn run(args: &[&str]) -> std::process::Output {
     bin().args(args).output().unwrap()
@@ -52,7 +52,7 @@ fn header_and_rows_of_every_scenario() {
         // (11 decades, DEVELOPERS.md), so more than 330 rows.
         assert!(rows.len() > 330, "{path:?}: {} rows", rows.len());
         for r in &rows {
-            assert_eq!(r.len(), 12);
+            assert_eq!(r.len(), 13);
             // loop_db is 20·log10(loop_mag) (definition of the decibel).
             if let (Some(m), Some(db)) = (r[4], r[5]) {
                 assert!((db - 20.0 * m.log10()).abs() < 1e-9, "{path:?}");
@@ -145,7 +145,7 @@ fn a_grid_against_closed_forms_and_json_columns() {
     assert!(at.windows(2).all(|w| w[0] < w[1]), "column order");
     let v: Value = serde_json::from_str(&json).unwrap();
     let obj = v.as_object().unwrap();
-    assert_eq!(obj.len(), 12);
+    assert_eq!(obj.len(), 13);
     for (col, name) in HEADER.split(',').enumerate() {
         let arr = obj[name].as_array().unwrap();
         assert_eq!(arr.len(), 3, "{name}");

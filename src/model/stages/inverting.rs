@@ -42,5 +42,7 @@ pub static KIND: Kind = Kind {
         above: None,
         // rg loads the source, only rf the output.
         load: |_, rf| rf,
+        parts: ["stage.rg", "stage.rf"],
+        also: None,
     }),
 };

@@ -9,6 +9,7 @@
 use crate::model::scenario::{Scenario, Stage, Topology};
 
 mod common;
+mod difference;
 mod follower;
 mod inverting;
 mod non_inverting;
@@ -174,6 +175,18 @@ pub struct Pairs {
     pub above: Option<(f64, &'static str)>,
     /// The resistance the pair puts on the output at DC, from (rg, rf).
     pub load: fn(f64, f64) -> f64,
+    /// The parameters the pair sets: the rg-like and the rf-like part
+    /// (their names are the pair's JSON keys and column heads).
+    pub parts: [&'static str; 2],
+    /// Parameters set to the same two values (a matched second half).
+    pub also: Option<[&'static str; 2]>,
+}
+
+impl Pairs {
+    /// The two parts' names (`rg`, `rf`), from their parameter paths.
+    pub fn names(&self) -> [&'static str; 2] {
+        self.parts.map(|p| p.rsplit('.').next().unwrap_or(p))
+    }
 }
 
 /// One stage kind.
@@ -208,11 +221,12 @@ pub struct Kind {
 }
 
 /// Every kind, in the order of [`Topology::ALL`].
-pub static KINDS: [&Kind; 4] = [
+pub static KINDS: [&Kind; 5] = [
     &non_inverting::KIND,
     &inverting::KIND,
     &follower::KIND,
     &transimpedance::KIND,
+    &difference::KIND,
 ];
 
 /// The kind of a topology.

@@ -44,5 +44,7 @@ pub static KIND: Kind = Kind {
             "must be above 1 for a non-inverting stage (its gain is 1 + rf/rg)",
         )),
         load: |rg, rf| rf + rg,
+        parts: ["stage.rg", "stage.rf"],
+        also: None,
     }),
 };

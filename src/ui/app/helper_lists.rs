@@ -5,7 +5,7 @@
 use super::{App, Mode, Prompt};
 use crate::model::scenario::Topology;
 use crate::model::values::{fmt_eng, fmt_plain, parse_value};
-use crate::output::helper_tables::{self, PAIR_HEADER};
+use crate::output::helper_tables;
 use crate::output::tighten_text;
 use crate::study::pairs::{self, Query};
 use crate::study::stabilize::{self, Part};
@@ -125,7 +125,8 @@ impl App {
             fmt_eng(q.rg_range.0, "Ω"),
             fmt_eng(q.rg_range.1, "Ω")
         );
-        let mut list = Choices::new(title, &PAIR_HEADER, &cells, picks);
+        let header = helper_tables::pair_header(q.topology);
+        let mut list = Choices::new(title, &header, &cells, picks);
         let mut notes = helper_tables::surroundings(&q);
         notes.push("closest gain first; ties: lower resistor noise, then lower load".into());
         list.note = notes.join("; ");
@@ -207,12 +208,18 @@ impl App {
         let label = Self::slot_label(self.active);
         let done = match pick {
             Pick::Pair { rg, rf } => {
+                let pairs = self.slot().scenario.stage.topology.kind().pairs;
+                let [a, b] = pairs.map_or(["rg", "rf"], |p| p.names());
                 self.change("resistor pair", |s| {
-                    s.stage.rg = Some(rg);
-                    s.stage.rf = Some(rf);
+                    if let Some(p) = s.stage.topology.kind().pairs {
+                        for [x, y] in std::iter::once(p.parts).chain(p.also) {
+                            param_set(s, x, rg);
+                            param_set(s, y, rf);
+                        }
+                    }
                     Ok(())
                 });
-                format!("rg {}, rf {}", fmt_eng(rg, "Ω"), fmt_eng(rf, "Ω"))
+                format!("{a} {}, {b} {}", fmt_eng(rg, "Ω"), fmt_eng(rf, "Ω"))
             }
             Pick::Part(part, v) => {
                 self.change(part.name(), |s| {
@@ -239,5 +246,12 @@ impl App {
         if self.status_kind == super::StatusKind::Info {
             self.info(format!("{label}: {done} (Backspace takes it back)"));
         }
+    }
+}
+
+/// Set one parameter of a stage by its path.
+fn param_set(s: &mut crate::model::scenario::Scenario, path: &str, v: f64) {
+    if let Some(p) = crate::model::params::param(path) {
+        p.set(s, Some(v));
     }
 }

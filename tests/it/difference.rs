@@ -1,0 +1,306 @@
+//! The difference amplifier: its gains, common-mode rejection and input
+//! impedances against the textbook difference-amplifier analysis
+//! (superposition of the two inputs around an ideal amplifier, common
+//! practice), each closed form recomputed here from the resistor values.
+
+use crate::support::cli::stdout_of;
+use crate::support::closed_forms::assert_rel;
+use crate::support::stages::{fast, plain};
+use loopwright::judge::evaluate;
+use loopwright::model::scenario::{Scenario, Topology};
+
+/// r1 = r3 = 2 kΩ, r2 = r4 = 200 kΩ (the issue's check stage) around a
+/// near-ideal amplifier (a0 1e9), ideal sources.
+fn stage(r1: f64, r2: f64, r3: f64, r4: f64) -> Scenario {
+    let mut s = fast(plain(Topology::Difference, 1.0, 1.0));
+    s.stage.rg = None;
+    s.stage.rf = None;
+    s.stage.r1 = Some(r1);
+    s.stage.r2 = Some(r2);
+    s.stage.r3 = Some(r3);
+    s.stage.r4 = Some(r4);
+    s
+}
+
+/// Textbook superposition around an ideal amplifier, each EMF behind its
+/// source resistance: a1 = −r2/(r1 + rs1), a2 = r4/(r3 + rs2 + r4)·(1 +
+/// r2/(r1 + rs1)). Returns (A_d, A_cm) = ((a2 − a1)/2, a1 + a2).
+fn closed_form(r: [f64; 4], rs1: f64, rs2: f64) -> (f64, f64) {
+    let [r1, r2, r3, r4] = r;
+    let a1 = -r2 / (r1 + rs1);
+    let a2 = r4 / (r3 + rs2 + r4) * (1.0 + r2 / (r1 + rs1));
+    ((a2 - a1) / 2.0, a1 + a2)
+}
+
+#[test]
+fn matched_stage_has_gain_100_and_no_common_mode_gain() {
+    let e = evaluate(&stage(2e3, 200e3, 2e3, 200e3));
+    let a = &e.analysis;
+    // Textbook: A_d = r2/r1 = 100, A_cm = 0 for r2/r1 = r4/r3.
+    assert_rel("nominal gain", a.nominal_gain, 100.0, 1e-12);
+    assert_rel("DC gain", a.dc_gain, 100.0, 1e-6);
+    let cm = a.cm_gain_dc.expect("a common-mode gain");
+    assert!(cm.abs() < 1e-8, "A_cm {cm}");
+    assert!(
+        a.cmrr_dc_db.is_some_and(|c| c > 160.0),
+        "{:?}",
+        a.cmrr_dc_db
+    );
+}
+
+#[test]
+fn worst_corner_of_one_percent_resistors() {
+    let t = 0.01;
+    // r1 and r4 low, r2 and r3 high (the issue's worst corner).
+    let r = [
+        2e3 * (1.0 - t),
+        200e3 * (1.0 + t),
+        2e3 * (1.0 + t),
+        200e3 * (1.0 - t),
+    ];
+    let e = evaluate(&stage(r[0], r[1], r[2], r[3]));
+    let a = &e.analysis;
+    let (ad, acm) = closed_form(r, 0.0, 0.0);
+    // The issue's rounded values of the same closed form.
+    assert!((ad - 102.0).abs() < 5e-3, "A_d {ad}");
+    assert!((acm.abs() - 0.0404).abs() < 5e-5, "A_cm {acm}");
+    assert!(
+        ((ad / acm).abs() - 2524.75).abs() < 0.01,
+        "CMRR {}",
+        ad / acm
+    );
+    assert_rel("A_d", a.dc_gain, ad, 1e-6);
+    assert_rel("A_cm", a.cm_gain_dc.unwrap(), acm, 1e-6);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert!((db - 68.04).abs() < 0.005, "{db}");
+    assert_rel("CMRR dB", a.cmrr_dc_db.unwrap(), db, 1e-6);
+    // First-order estimate (common practice): (1 + r2/r1)/(4t) = 2525,
+    // 68.05 dB; the exact corner sits just below it (not a bound).
+    let estimate = (1.0 + 100.0) / (4.0 * t);
+    assert_rel("estimate", estimate, 2525.0, 1e-12);
+    assert!((20.0 * estimate.log10() - db).abs() < 0.01);
+}
+
+#[test]
+fn unequal_source_resistances_spoil_the_match() {
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.source.r = Some(100.0);
+    s.source.r_plus = Some(1e3);
+    let a = evaluate(&s).analysis;
+    let (ad, acm) = closed_form([10e3; 4], 100.0, 1e3);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert!((db - 27.0).abs() < 0.5, "closed form {db} dB");
+    assert_rel("ideal gain", a.ideal_gain, ad, 1e-9);
+    assert_rel("A_cm", a.cm_gain_dc.unwrap(), acm, 1e-6);
+    assert_rel("CMRR", a.cmrr_dc_db.unwrap(), db, 1e-6);
+}
+
+#[test]
+fn r_plus_defaults_to_r() {
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.source.r = Some(1e3);
+    let a = evaluate(&s).analysis;
+    // Equal sources keep the bridge balanced: r1 + rs against r3 + rs.
+    let (ad, _) = closed_form([10e3; 4], 1e3, 1e3);
+    assert_rel("ideal gain", a.ideal_gain, ad, 1e-9);
+}
+
+#[test]
+fn the_two_inputs_see_different_impedances() {
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.source.r = Some(50.0);
+    let a = evaluate(&s).analysis;
+    // Textbook: input 1 sees r1 (the − pin a virtual ground when input
+    // 2's EMF is at 0 V: the + pin sits at 0 V), input 2 sees r3 + r4.
+    assert_rel("zin1", a.zin1_dc_ohm.unwrap(), 2e3, 1e-6);
+    assert_rel("zin2", a.zin2_dc_ohm.unwrap(), 202e3, 1e-6);
+    assert_eq!(a.zin_dc_ohm, a.zin1_dc_ohm);
+    // One-input kinds have none of these figures.
+    let b = evaluate(&fast(plain(Topology::NonInverting, 1e3, 9e3))).analysis;
+    assert_eq!(
+        (b.zin1_dc_ohm, b.zin2_dc_ohm, b.cm_gain_dc),
+        (None, None, None)
+    );
+}
+
+#[test]
+fn two_input_fields_refused_for_one_input_kinds() {
+    let text = std::fs::read_to_string("scenarios/mic_preamp.ron").unwrap();
+    let bad = text.replacen("source: (", "source: (cm: 1.0, ", 1);
+    let err = Scenario::from_ron(&bad, Some("f.ron"))
+        .unwrap_err()
+        .to_string();
+    let line = bad.lines().position(|l| l.contains("cm: 1.0")).unwrap() + 1;
+    assert!(err.contains("source.cm"), "{err}");
+    assert!(err.contains("two inputs"), "{err}");
+    assert!(err.contains(&format!("f.ron:{line}:")), "{err}");
+}
+
+#[test]
+fn difference_fields_read_and_save() {
+    let text = "(version: 1, title: \"t\",
+        stage: (topology: Difference, r1: 2000.0, r2: 200000.0, r3: 2000.0, r4: 200000.0, cf: 10.0e-12, c4: 10.0e-12, series: E96, tolerance: 0.01),
+        amp: (a0: 1.0e6, gbw: 1.0e6, ro: 10.0, vnoise: 1.0e-8, inoise: 1.0e-12),
+        source: (r: 50.0, r_plus: 60.0, dc: 0.01, cm: 2.5, peak: 0.05, cm_peak: 1.0),
+        load: (), temp_c: 25.0, band: (10.0, 1000.0))";
+    let s = Scenario::from_ron(text, None).unwrap();
+    let saved = s.to_ron();
+    let back = Scenario::from_ron(&saved, None).unwrap();
+    assert_eq!(back, s);
+    for k in ["r1:", "r4:", "c4:", "r_plus:", "cm:", "cm_peak:"] {
+        assert!(saved.contains(k), "{k} in {saved}");
+    }
+    let bad = text.replace("r_plus: 60.0", "r_plus: -60.0");
+    let err = Scenario::from_ron(&bad, None).unwrap_err().to_string();
+    assert!(err.contains("source.r_plus"), "{err}");
+    let bad = text.replace("r4: 200000.0", "r4: 1.0e20");
+    let err = Scenario::from_ron(&bad, None).unwrap_err().to_string();
+    assert!(err.contains("stage.r4"), "{err}");
+}
+
+#[test]
+fn pairs_for_a_difference_stage_give_r1_and_r2() {
+    let out = stdout_of(&[
+        "pairs",
+        "100",
+        "--topology",
+        "Difference",
+        "--source-r",
+        "50",
+        "--json",
+    ]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let rows = v["pairs"].as_array().unwrap();
+    assert!(!rows.is_empty());
+    for row in rows {
+        let (r1, r2) = (row["r1"].as_f64().unwrap(), row["r2"].as_f64().unwrap());
+        assert!(row.get("rg").is_none());
+        // Textbook, r3 = r1 and r4 = r2 with equal sources: A_d = r2/(r1 + rs).
+        assert_rel(
+            "pair gain",
+            row["gain"].as_f64().unwrap(),
+            r2 / (r1 + 50.0),
+            1e-12,
+        );
+        // The same gain from the engine, the pair placed as r1..r4.
+        let mut s = stage(r1, r2, r1, r2);
+        s.source.r = Some(50.0);
+        assert_rel(
+            "engine",
+            evaluate(&s).analysis.ideal_gain,
+            r2 / (r1 + 50.0),
+            1e-9,
+        );
+    }
+}
+
+/// A small generator for the test's own draws (xorshift64*, common
+/// practice), independent of the program's.
+struct Draws(u64);
+
+impl Draws {
+    /// Uniform in [−1, 1).
+    fn next(&mut self) -> f64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        let u = (self.0.wrapping_mul(0x2545_f491_4f6c_dd1d) >> 11) as f64 / (1u64 << 53) as f64;
+        2.0 * u - 1.0
+    }
+}
+
+#[test]
+fn monte_carlo_cmrr_yield_agrees_with_brute_force_sampling() {
+    use loopwright::model::scenario::{Dist, Spec, Spread};
+    use loopwright::study::spread::{self, Run};
+    let (t, n, limit) = (0.01, 2000usize, 74.0);
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.spread = Some(Spread {
+        dist: Dist::Uniform,
+        ..Spread::default()
+    });
+    s.spec = Some(Spec {
+        cmrr_min_db: Some(limit),
+        ..Spec::default()
+    });
+    let r = spread::spread(
+        &s,
+        &Run {
+            trials: Some(n as u32),
+            ..Run::default()
+        },
+    );
+    // Brute force: each resistor uniform within ±t, the CMRR from the
+    // textbook closed form.
+    let mut d = Draws(0x9e37_79b9_7f4a_7c15);
+    let mut db: Vec<f64> = (0..n)
+        .map(|_| {
+            let r = [2e3, 200e3, 2e3, 200e3].map(|v| v * (1.0 + t * d.next()));
+            let (ad, acm) = closed_form(r, 0.0, 0.0);
+            20.0 * (ad / acm).abs().log10()
+        })
+        .collect();
+    db.sort_by(f64::total_cmp);
+    let median = db[n / 2];
+    assert!(
+        (median - 82.0).abs() < 1.5,
+        "brute-force median {median} dB"
+    );
+    let p = db.iter().filter(|v| **v >= limit).count() as f64 / n as f64;
+    assert!((p - 0.92).abs() < 0.03, "brute-force yield {p}");
+    let got = r.yield_frac.expect("a yield");
+    // Two independent estimates of one proportion: the difference's
+    // standard error is √(2p(1−p)/n); allow three of them.
+    let se = (2.0 * p * (1.0 - p) / n as f64).sqrt();
+    assert!((got - p).abs() < 3.0 * se, "yield {got} against {p} ± {se}");
+    // The worst corner is the issue's 68.04 dB.
+    let f = r.figure("cmrr_dc_db").expect("a CMRR spread");
+    let worst = f.corner_min.expect("a corner minimum");
+    assert!((worst - 68.04).abs() < 0.01, "worst corner {worst}");
+}
+
+#[test]
+fn the_plus_pin_carries_the_common_mode() {
+    use loopwright::model::scenario::Supply;
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.source.dc = Some(0.0);
+    s.source.cm = Some(2.5);
+    s.source.peak = Some(0.05);
+    s.source.cm_peak = Some(1.0);
+    s.supply = Some(Supply {
+        neg: 0.0,
+        pos: 5.0,
+        ..Supply::default()
+    });
+    let l = evaluate(&s).analysis.limits;
+    // Textbook divider: the + pin sits at V2·r4/(r3 + r4), V2 = cm + Vd/2.
+    let k = 200e3 / 202e3;
+    assert_rel("pin per volt of cm", l.dc.pin.cm, k, 1e-9);
+    let (lo, hi) = (2.5 * k - (0.025 + 1.0) * k, 2.5 * k + (0.025 + 1.0) * k);
+    assert_rel("+ input low", l.cm_low_v.unwrap(), lo, 1e-6);
+    assert_rel("+ input high", l.cm_high_v.unwrap(), hi, 1e-6);
+    // A matched stage passes no common mode to the output.
+    assert!(l.out_dc_v.unwrap().abs() < 1e-6, "{:?}", l.out_dc_v);
+    // The room to a 0 V rail with no common-mode allowance is the low end.
+    assert_rel("room", l.cm_headroom_v.unwrap(), lo.min(5.0 - hi), 1e-6);
+}
+
+#[test]
+fn unequal_sources_warn_of_the_lost_rejection() {
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.amp.ro = 0.01;
+    s.source.r = Some(100.0);
+    s.source.r_plus = Some(1e3);
+    let w = evaluate(&s).warnings;
+    let hit = w.iter().find(|x| x.code == "reference-imbalance");
+    let text = &hit.expect("a reference-imbalance warning").text;
+    // The closed form's 27 dB and the fix are named.
+    let (ad, acm) = closed_form([10e3; 4], 100.0, 1e3);
+    let db = format!("{:.1} dB", 20.0 * (ad / acm).abs().log10());
+    assert!(text.contains(&db), "{text} lacks {db}");
+    assert!(text.contains("equal source resistances"), "{text}");
+    // Equal sources keep the match: no warning.
+    s.source.r_plus = None;
+    let w = evaluate(&s).warnings;
+    assert!(w.iter().all(|x| x.code != "reference-imbalance"), "{w:?}");
+}
