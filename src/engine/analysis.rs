@@ -62,9 +62,14 @@ pub struct Analysis {
     /// Two inputs: CMRR = |A_d/A_cm| at DC in dB; infinite where |A_cm|
     /// is below [`CMRR_NULL`]·|A_d| (read as unbounded).
     pub cmrr_dc_db: Option<f64>,
-    /// Two inputs: the same CMRR with both sources ideal (0 Ω), from the
-    /// stage's own parts alone (the `reference-imbalance` rule compares).
+    /// Two inputs: the same CMRR with both sources and the reference input
+    /// ideal (0 Ω), from the stage's own parts alone (the
+    /// `reference-imbalance` rule compares).
     pub cmrr_parts_dc_db: Option<f64>,
+    /// Two inputs, where the amplifier gives its own `cmrr_db`: the CMRR
+    /// with that rejection infinite (the network's share; the `spec`
+    /// warning names which of the two dominates).
+    pub cmrr_network_dc_db: Option<f64>,
     /// |Zout| at 1 kHz.
     pub zout_1khz_ohm: Option<f64>,
     /// |Zout| where the spec holds it ([`zout_probe_hz`]).
@@ -180,11 +185,28 @@ pub fn cmrr_db(a_d: C64, a_cm: C64) -> f64 {
     }
 }
 
-/// The DC CMRR of the stage with both sources ideal (its parts alone).
+/// The DC CMRR of the stage with both sources and the reference input
+/// ideal (0 Ω): its own parts alone.
 fn cmrr_of_parts(s: &Scenario) -> Option<f64> {
+    cmrr_with(s, |ideal| {
+        ideal.source.r = Some(0.0);
+        ideal.source.r_plus = Some(0.0);
+        if let Some(r) = ideal.reference.as_mut() {
+            (r.r, r.c) = (0.0, None);
+        }
+    })
+}
+
+/// The DC CMRR of the stage as it is but for the amplifier's own
+/// rejection (infinite): the resistors' and the sources' share.
+fn cmrr_without_amp(s: &Scenario) -> Option<f64> {
+    cmrr_with(s, |ideal| ideal.amp.cmrr_db = None)
+}
+
+/// The DC CMRR of the stage after `edit`.
+fn cmrr_with(s: &Scenario, edit: impl Fn(&mut Scenario)) -> Option<f64> {
     let mut ideal = s.clone();
-    ideal.source.r = Some(0.0);
-    ideal.source.r_plus = Some(0.0);
+    edit(&mut ideal);
     let p = Circuit::new(&ideal).eval(0.0)?;
     p.cm_gain.map(|cm| cmrr_db(p.gain, cm))
 }
@@ -528,6 +550,10 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         cm_gain_dc: dc.cm_gain.map(|z| z.re),
         cmrr_dc_db: dc.cm_gain.map(|cm| cmrr_db(dc.gain, cm)),
         cmrr_parts_dc_db: dc.cm_gain.and_then(|_| cmrr_of_parts(s)),
+        cmrr_network_dc_db: dc
+            .cm_gain
+            .filter(|_| s.amp.cmrr_db.is_some())
+            .and_then(|_| cmrr_without_amp(s)),
         zout_1khz_ohm: circuit.eval(1.0e3).map(|p| p.zout.norm()),
         zout_at_ohm: zout_probe_hz(s).and_then(|f| circuit.eval(f).map(|p| p.zout.norm())),
         noise_density_1khz: at_1k.noise_density(),

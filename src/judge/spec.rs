@@ -291,8 +291,9 @@ pub fn nominal_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warni
                 code: Code::Spec,
                 severity: Severity::Warning,
                 text: format!(
-                    "misses its spec: {}",
-                    l.failure_readable(l.held_key(read), v, limit)
+                    "misses its spec: {}{}",
+                    l.failure_readable(l.held_key(read), v, limit),
+                    cmrr_cause(l, s, e)
                 ),
             })
         })
@@ -320,5 +321,36 @@ mod keys_resolve {
                 "`{key}` does not spread"
             );
         }
+    }
+}
+
+/// For a missed `cmrr_min_db`: which sets the stage's CMRR, the network
+/// (the resistors' mismatch, with the sources and the reference) or the
+/// amplifier's own rejection, whichever alone gives the lower figure.
+fn cmrr_cause(l: &Limit, s: &Scenario, e: &crate::judge::Evaluation) -> String {
+    if l.field != "cmrr_min_db" {
+        return String::new();
+    }
+    let db = |v: f64| format!("{} dB", fmt_plain(v, 4));
+    match (e.analysis.cmrr_network_dc_db, s.amp.cmrr_db) {
+        (Some(net), Some(amp)) if amp < net => format!(
+            "; the amplifier's own CMRR dominates ({} against the resistors' {}): \
+             an amplifier with a higher cmrr_db",
+            db(amp),
+            if net.is_finite() {
+                db(net)
+            } else {
+                "unbounded".into()
+            }
+        ),
+        (Some(net), Some(amp)) => format!(
+            "; the resistor mismatch dominates (the resistors give {} against the amplifier's {}): \
+             tighter or matched resistors",
+            db(net),
+            db(amp)
+        ),
+        _ => "; the resistor mismatch sets it (the amplifier's own CMRR is not given): \
+              tighter or matched resistors"
+            .into(),
     }
 }

@@ -260,11 +260,30 @@ fn reference_imbalance(cx: &Context, w: &mut Vec<Warning>) {
     let src = &cx.s.source;
     let r = src.r.unwrap_or(0.0);
     let r_plus = src.r_plus.unwrap_or(r);
+    let reference = cx.s.reference.map_or(0.0, |x| x.r);
+    let (named, fix) = if reference > 0.0 {
+        (
+            format!(
+                "the source resistances (r {}, r_plus {}) and the reference's {}",
+                fmt_eng(r, "Ω"),
+                fmt_eng(r_plus, "Ω"),
+                fmt_eng(reference, "Ω")
+            ),
+            "a buffered reference or r4 reduced by the reference's resistance, and equal \
+             source resistances (r1 and r3 reduced by them, or buffered inputs), restore it",
+        )
+    } else {
+        (
+            format!(
+                "the source resistances (r {}, r_plus {})",
+                fmt_eng(r, "Ω"),
+                fmt_eng(r_plus, "Ω")
+            ),
+            "equal source resistances, r1 and r3 reduced by them, or buffered inputs restore it",
+        )
+    };
     let text = format!(
-        "the source resistances (r {}, r_plus {}) take the CMRR from {} (the resistors alone) to {}; \
-         equal source resistances, r1 and r3 reduced by them, or buffered inputs restore it",
-        fmt_eng(r, "Ω"),
-        fmt_eng(r_plus, "Ω"),
+        "{named} take the CMRR from {} (the resistors alone) to {}; {fix}",
         db(parts),
         db(with)
     );

@@ -7,7 +7,7 @@ use crate::support::cli::stdout_of;
 use crate::support::closed_forms::assert_rel;
 use crate::support::stages::{fast, plain};
 use loopwright::judge::evaluate;
-use loopwright::model::scenario::{Scenario, Topology};
+use loopwright::model::scenario::{Reference, Scenario, Topology};
 
 /// r1 = r3 = 2 kΩ, r2 = r4 = 200 kΩ (the issue's check stage) around a
 /// near-ideal amplifier (a0 1e9), ideal sources.
@@ -303,4 +303,78 @@ fn unequal_sources_warn_of_the_lost_rejection() {
     s.source.r_plus = None;
     let w = evaluate(&s).warnings;
     assert!(w.iter().all(|x| x.code != "reference-imbalance"), "{w:?}");
+}
+
+#[test]
+fn the_reference_resistance_upsets_the_match_and_is_named() {
+    // r1..r4 = 10 kΩ, ideal sources, a reference input of 0 V behind 1 kΩ:
+    // that resistance adds to r4 (Thevenin, common practice), so the
+    // textbook superposition with r4 + 1 kΩ gives the stage's CMRR.
+    let mut s = stage(10e3, 10e3, 10e3, 10e3);
+    s.amp.ro = 0.01;
+    s.reference = Some(Reference {
+        v: 0.0,
+        r: 1e3,
+        c: None,
+    });
+    let e = evaluate(&s);
+    let (ad, acm) = closed_form([10e3, 10e3, 10e3, 11e3], 0.0, 0.0);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert_rel(
+        "CMRR with the reference's r",
+        e.analysis.cmrr_dc_db.unwrap(),
+        db,
+        1e-6,
+    );
+    // The parts alone (the reference ideal) are matched: unbounded.
+    assert!(e.analysis.cmrr_parts_dc_db.is_some_and(f64::is_infinite));
+    let hit = e.warnings.iter().find(|x| x.code == "reference-imbalance");
+    let text = &hit.expect("a reference-imbalance warning").text;
+    assert!(
+        text.contains("reference's 1.000 kΩ") || text.contains("reference's 1 kΩ"),
+        "{text}"
+    );
+    assert!(text.contains("buffered reference"), "{text}");
+    assert!(
+        text.contains(&format!("{db:.1} dB")),
+        "{text} lacks {db:.1} dB"
+    );
+}
+
+#[test]
+fn a_missed_cmrr_names_what_dominates() {
+    // A matched stage (gain 10) on an amplifier of its own CMRR c: the
+    // stage's CMRR equals c (issue's check, common practice), so with
+    // c = 60 dB a minimum of 80 dB fails and the amplifier dominates.
+    let mut s = stage(10e3, 100e3, 10e3, 100e3);
+    // An amplifier in its accepted ranges (the spec is judged only then).
+    (s.amp.gbw, s.amp.ro) = (10e6, 0.01);
+    s.amp.cmrr_db = Some(60.0);
+    s.spec = Some(loopwright::model::scenario::Spec {
+        cmrr_min_db: Some(80.0),
+        ..Default::default()
+    });
+    let spec = |s: &Scenario| {
+        evaluate(s)
+            .warnings
+            .into_iter()
+            .find(|w| w.code == "spec")
+            .map(|w| w.text)
+            .expect("a spec warning")
+    };
+    let text = spec(&s);
+    assert!(text.contains("amplifier's own CMRR dominates"), "{text}");
+    // A 1 % mismatch in r4 alone (CMRR about 67 dB by the superposition
+    // above) under an amplifier of 120 dB: the resistors dominate.
+    let r4 = 100e3 * 0.99;
+    let (ad, acm) = closed_form([10e3, 100e3, 10e3, r4], 0.0, 0.0);
+    assert!(20.0 * (ad / acm).abs().log10() < 80.0);
+    s.stage.r4 = Some(r4);
+    s.amp.cmrr_db = Some(120.0);
+    let text = spec(&s);
+    assert!(text.contains("resistor mismatch dominates"), "{text}");
+    // Without the amplifier's figure the mismatch sets it.
+    s.amp.cmrr_db = None;
+    let text = spec(&s);
+    assert!(text.contains("amplifier's own CMRR is not given"), "{text}");
 }
