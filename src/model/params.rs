@@ -248,6 +248,11 @@ pub const RMS_LIMIT: (f64, f64) = (0.0, 1.0e3);
 /// The amplifier's common-mode and supply rejection (dB), their corners
 /// (Hz), the supply ripple (V peak) and its frequency.
 pub const REJECTION_DB: (f64, f64) = (0.0, 200.0);
+/// The amplifier's own CMRR: from 20 dB, since a common-mode error of
+/// 2/3 of V_cm or more can turn a follower's feedback positive where its
+/// pins follow the output together (below 20 dB no amplifier is sold as
+/// one; common practice).
+pub const AMP_CMRR_DB: (f64, f64) = (20.0, 200.0);
 pub const CORNER_HZ: (f64, f64) = (1.0e-3, 1.0e9);
 pub const RIPPLE: (f64, f64) = (0.0, 100.0);
 /// The widest band, in decades.
@@ -869,7 +874,7 @@ pub static PARAMS: [Param; 100] = [
         Amplifier,
         Linear(5.0),
         Optional,
-        REJECTION_DB,
+        AMP_CMRR_DB,
         number!(opt amp.cmrr_db),
     )
     .starting(|_| 90.0)

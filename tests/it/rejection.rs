@@ -334,3 +334,29 @@ fn without_the_fields_nothing_changes() {
         assert_rel("dc_gain", b.dc_gain, a.dc_gain, 1e-9);
     }
 }
+
+#[test]
+fn the_lowest_accepted_cmrr_keeps_a_followers_feedback_negative() {
+    // A follower whose pins are tied by rin = 10 TΩ against a 10 TΩ
+    // source: V+ = (Vin + Vout)/2 and V_cm = Vin/4 + 3·Vout/4, so the DC
+    // loop is a0·(1/2 − 3κ/4) and Zout = ro/(1 + a0·(1/2 − 3κ/4)) (the
+    // 20 TΩ load on the output is negligible; first-order loop algebra,
+    // common practice). Below κ = 2/3 (3.5 dB) the feedback turns positive
+    // and Zout negative: the accepted range starts at 20 dB (κ = 0.1).
+    let mut s = in_range(stages::follower());
+    (s.amp.a0, s.amp.gbw) = (1e6, 1e6);
+    s.amp.rin = Some(1e13);
+    s.source.r = Some(1e13);
+    s.amp.cmrr_db = Some(20.0);
+    assert!(s.validate().is_ok(), "{:?}", s.validate());
+    let kappa = per_volt(20.0);
+    let a = analyze(&s);
+    let want = s.amp.ro / (1.0 + s.amp.a0 * (0.5 - 0.75 * kappa));
+    assert_rel("Zout at DC", a.zout_dc_ohm, want, 1e-6);
+    assert!(!a.unstable());
+    for db in [0.0, 3.0, 19.9] {
+        s.amp.cmrr_db = Some(db);
+        let refused = s.validate().expect_err("a CMRR below 20 dB is refused");
+        assert!(format!("{refused:?}").contains("amp.cmrr_db"), "{refused:?}");
+    }
+}
