@@ -20,7 +20,7 @@ pub struct Args {
 
 pub fn run(args: &Args) -> Result<ExitCode> {
     let s = Scenario::load(&args.file)?;
-    let t = tighten(&s, None);
+    let t = tighten(&s, None, None);
     let mut buf = Vec::new();
     if args.json {
         serde_json::to_writer_pretty(&mut buf, &tighten_text::json(&t))?;

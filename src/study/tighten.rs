@@ -11,6 +11,7 @@ use crate::model::params::param;
 use crate::model::scenario::Scenario;
 use crate::model::stages::Tolerance;
 use crate::study::spread::{knobs, part_tolerance, spread, Run, SpreadResult};
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// The resistor tolerance steps (fractions), loosest first (common practice).
 pub const RESISTOR_STEPS: [f64; 5] = [0.05, 0.02, 0.01, 0.005, 0.001];
@@ -160,12 +161,14 @@ struct Verifier<'a> {
     seed: Option<u64>,
     runs: usize,
     progress: Option<&'a (dyn Fn(usize) + Sync)>,
+    cancel: Option<&'a AtomicBool>,
 }
 
 impl Verifier<'_> {
-    /// The yield of a stage, or None when the budget is spent.
+    /// The yield of a stage, or None when the budget is spent (or the
+    /// search was cancelled).
     fn yield_of(&mut self, s: &Scenario) -> Option<f64> {
-        if self.runs >= MAX_RUNS {
+        if self.runs >= MAX_RUNS || self.cancel.is_some_and(|c| c.load(Ordering::Relaxed)) {
             return None;
         }
         self.runs += 1;
@@ -177,6 +180,7 @@ impl Verifier<'_> {
             &Run {
                 trials: Some(RUN_TRIALS),
                 seed: self.seed,
+                cancel: self.cancel,
                 ..Run::default()
             },
         );
@@ -226,14 +230,21 @@ fn subsets(n: usize, k: usize) -> Vec<Vec<usize>> {
     out
 }
 
-/// The search on a valid scenario with a spec.
-pub fn tighten(s: &Scenario, progress: Option<&(dyn Fn(usize) + Sync)>) -> Tightening {
+/// The search on a valid scenario with a spec. `progress` hears the count
+/// of verifications made; `cancel` set ends the search early (the workbench
+/// drops what it returns then).
+pub fn tighten(
+    s: &Scenario,
+    progress: Option<&(dyn Fn(usize) + Sync)>,
+    cancel: Option<&AtomicBool>,
+) -> Tightening {
     let seed = s.spread.as_ref().and_then(|b| b.seed);
     let now = spread(
         s,
         &Run {
             trials: Some(RUN_TRIALS),
             seed,
+            cancel,
             ..Run::default()
         },
     );
@@ -241,6 +252,7 @@ pub fn tighten(s: &Scenario, progress: Option<&(dyn Fn(usize) + Sync)>) -> Tight
         seed,
         runs: 0,
         progress,
+        cancel,
     };
     let mut t = Tightening {
         choices: Vec::new(),

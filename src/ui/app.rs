@@ -283,6 +283,8 @@ pub struct App {
     pub full_range: bool,
     /// The spread view's background Monte Carlo of the edited stage.
     pub spread: super::spread_job::SpreadJob,
+    /// `T`'s tolerance search, running beside the keys.
+    pub tightening: super::tighten_job::TightenJob,
     /// The rescue copies found at start, listed first by `o`.
     pub rescued: Vec<PathBuf>,
 }
@@ -360,6 +362,7 @@ impl App {
             show_phase: false,
             full_range: false,
             spread: Default::default(),
+            tightening: Default::default(),
             rescued: Vec::new(),
         }
     }
@@ -367,14 +370,43 @@ impl App {
     /// Between events: keep the spread view's job on the edited stage and
     /// pick up its progress. True when the screen should be redrawn.
     pub fn tick(&mut self) -> bool {
+        let tightening = self.tick_tightening();
         if self.view != ViewId::Spread {
             // Off the view, a running spread only costs the editing time.
             self.spread.stop();
-            return false;
+            return tightening;
         }
         let s = &self.slots[self.active].scenario;
         self.spread.follow(s);
-        self.spread.poll()
+        self.spread.poll() | tightening
+    }
+
+    /// `T`'s search: its list when it ends, its progress meanwhile; an
+    /// edit of the stage (or a switch to the other one) cancels it.
+    fn tick_tightening(&mut self) -> bool {
+        if !self.tightening.running() {
+            return false;
+        }
+        if self.tightening.for_scenario.as_ref() != Some(&self.slots[self.active].scenario) {
+            self.tightening.stop();
+            self.info("tightening cancelled: the stage changed");
+            return true;
+        }
+        match self.tightening.poll() {
+            Ok(t) => {
+                if matches!(self.mode, Mode::Normal) {
+                    self.show_tightening(t);
+                }
+                true
+            }
+            Err(moved) => {
+                if moved {
+                    let p = self.tightening.progress();
+                    self.info(format!("tightening: {p} (Esc cancels)"));
+                }
+                moved
+            }
+        }
     }
 
     pub fn slot(&self) -> &Slot {
@@ -494,6 +526,10 @@ impl App {
                 // A message lasts until the next key; then the hint line
                 // about the selected parameter shows again.
                 self.status.clear();
+                if key.code == KeyCode::Esc && self.tightening.running() {
+                    self.tightening.stop();
+                    return self.info("tightening cancelled");
+                }
                 if let Some(action) = keys::action_for(&key) {
                     self.act(action);
                 }

@@ -10,6 +10,7 @@ pub mod readout;
 pub mod spread_job;
 pub mod spread_view;
 pub mod theme;
+pub mod tighten_job;
 pub mod view;
 pub mod widgets;
 
@@ -280,7 +281,11 @@ fn event_loop<B: Backend>(
             // A frame follows an event, or the spread job's progress.
             // Events already queued (a held key over a slow link) are all
             // applied before the next frame, so the screen keeps up.
-            let wait = if app.spread.running() { 100 } else { 200 };
+            let wait = if app.spread.running() || app.tightening.running() {
+                100
+            } else {
+                200
+            };
             if events.poll(Duration::from_millis(wait))? {
                 redraw = handle(app, events.read()?);
                 while app.running && events.poll(Duration::ZERO)? {

@@ -357,6 +357,9 @@ fn the_lowest_accepted_cmrr_keeps_a_followers_feedback_negative() {
     for db in [0.0, 3.0, 19.9] {
         s.amp.cmrr_db = Some(db);
         let refused = s.validate().expect_err("a CMRR below 20 dB is refused");
-        assert!(format!("{refused:?}").contains("amp.cmrr_db"), "{refused:?}");
+        assert!(
+            format!("{refused:?}").contains("amp.cmrr_db"),
+            "{refused:?}"
+        );
     }
 }

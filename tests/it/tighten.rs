@@ -220,7 +220,7 @@ fn ladders_start_below_the_tolerance() {
 #[test]
 fn tighten_finds_the_single_parts() {
     let s = failing_gain_stage();
-    let t = tighten(&s, None);
+    let t = tighten(&s, None, None);
     assert!(!t.already());
     let worst = 9.1 / 10.1 * (0.001 + 0.01);
     assert!(worst < 0.01, "{worst}");
@@ -267,11 +267,14 @@ fn the_tighten_key_lists_the_options_and_applies_one() {
     let s = failing_gain_stage();
     let mut a = App::new(vec![(s.clone(), None)], Theme::new(false, false));
     a.on_key(key(KeyCode::Char('T')));
+    // The search runs beside the keys: the list opens when it ends.
+    assert!(a.tightening.running());
+    finish_search(&mut a);
     let text = screen_at(&a, 100, 30);
     assert!(text.contains("rf 1% → 0.1%"), "{text}");
     assert!(text.contains("rg 1% → 0.1%"), "{text}");
     a.on_key(key(KeyCode::Enter));
-    let first = tighten(&s, None).choices[0].upgrades[0].part;
+    let first = tighten(&s, None, None).choices[0].upgrades[0].part;
     assert_eq!(
         a.slot().scenario.stage.part_tolerance.get(first),
         Some(0.001)
@@ -280,6 +283,47 @@ fn the_tighten_key_lists_the_options_and_applies_one() {
     assert!(text.contains(&format!("±1% ({first} ±0.1%)")), "{text}");
     a.on_key(key(KeyCode::Backspace));
     assert!(a.slot().scenario.stage.part_tolerance.is_empty());
+}
+
+/// Let `T`'s search end (a wait, not a timing check: at most ten minutes).
+fn finish_search(a: &mut loopwright::ui::app::App) {
+    for _ in 0..60_000 {
+        a.tick();
+        if !a.tightening.running() {
+            return;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(10));
+    }
+    panic!("the tolerance search did not end");
+}
+
+/// `T`'s search leaves the keys free: Esc cancels it, an edit of the
+/// stage cancels it, and neither opens a list or changes the stage.
+#[test]
+fn the_tighten_search_runs_beside_the_keys_and_cancels() {
+    use crate::support::keys::{key, screen_at};
+    use crossterm::event::KeyCode;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let s = failing_gain_stage();
+    let mut a = App::new(vec![(s.clone(), None)], Theme::new(false, false));
+    a.on_key(key(KeyCode::Char('T')));
+    assert!(a.tightening.running());
+    a.on_key(key(KeyCode::Esc));
+    assert!(!a.tightening.running());
+    assert!(screen_at(&a, 100, 30).contains("tightening cancelled"));
+    // An edit while it runs: the search is for a stage that is gone.
+    a.on_key(key(KeyCode::Char('T')));
+    a.on_key(key(KeyCode::Char('+')));
+    assert_ne!(a.slot().scenario, s, "the step key changed the stage");
+    a.tick();
+    assert!(!a.tightening.running());
+    let text = screen_at(&a, 100, 30);
+    assert!(
+        text.contains("tightening cancelled: the stage changed"),
+        "{text}"
+    );
+    assert!(!text.contains("Tighten to a yield"), "{text}");
 }
 
 /// `tighten --json` gives the options with their verified yields, the
@@ -319,7 +363,7 @@ fn tighten_names_the_amplifier_bound_when_parts_cannot() {
         a0_min: Some(200.0),
         ..Spread::default()
     });
-    let t = tighten(&s, None);
+    let t = tighten(&s, None, None);
     assert!(t.choices.is_empty(), "{:?}", t.choices);
     let b = t.amp.iter().find(|b| b.part == "a0").expect("an a0 bound");
     // G/(1 + G/a0) within 1 % of 10 needs a0 ≥ a_c = 990 with exact

@@ -9,7 +9,7 @@ use crate::output::helper_tables;
 use crate::output::tighten_text;
 use crate::study::pairs::{self, Query};
 use crate::study::stabilize::{self, Part};
-use crate::study::tighten::{tighten, MAX_PARTS};
+use crate::study::tighten::{Tightening, MAX_PARTS};
 use crate::ui::field::Field;
 use ratatui::crossterm::event::{KeyCode, KeyEvent};
 
@@ -161,14 +161,21 @@ impl App {
         self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");
     }
 
-    /// `T`: the tolerance upgrades that reach the spec's yield, as
-    /// `tighten` lists them (the search runs here: a second or so).
+    /// `T`: start the search for the tolerance upgrades that reach the
+    /// spec's yield (on its own thread: seconds on a large stage); its
+    /// list opens when it ends.
     pub(super) fn list_tightening(&mut self) {
         let s = &self.slot().scenario;
         if s.spec.is_none() {
             return self.error("no spec: give limits and spec.yield_min to tighten towards");
         }
-        let t = tighten(s, None);
+        let s = s.clone();
+        self.tightening.start(&s);
+        self.info("tightening: searching (Esc cancels)");
+    }
+
+    /// The search's options as a list, as `tighten` prints them.
+    pub(super) fn show_tightening(&mut self, t: Tightening) {
         let lines = tighten_text::summary(&t);
         if t.choices.is_empty() {
             return self.error(lines.join("; "));
