@@ -657,6 +657,7 @@ fn gains_line(app: &App) -> String {
     let cells: Vec<String> = crate::judge::figures::FIGURES
         .iter()
         .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
+        .filter(|f| f.applies_to(&slot.eval))
         .map(|f| {
             let cell = f.cell_in(&slot.eval, f.read(&slot.eval), false);
             format!("{} {}", f.short, trim_zeros(&cell))

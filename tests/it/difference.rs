@@ -378,3 +378,26 @@ fn a_missed_cmrr_names_what_dominates() {
     let text = spec(&s);
     assert!(text.contains("amplifier's own CMRR is not given"), "{text}");
 }
+
+#[test]
+fn the_gains_caption_names_a_common_mode_gain_only_for_two_inputs() {
+    use crate::support::keys::screen_at;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    // A one-input stage has no common-mode gain: its caption leaves it out.
+    let one = crate::support::stages::in_range(plain(Topology::NonInverting, 1e3, 9e3));
+    let text = screen_at(
+        &App::new(vec![(one, None)], Theme::new(false, false)),
+        120,
+        40,
+    );
+    assert!(text.contains("nominal 10"), "{text}");
+    assert!(!text.contains("A_cm"), "{text}");
+    let two = stage(2e3, 200e3, 2e3, 200e3);
+    let text = screen_at(
+        &App::new(vec![(two, None)], Theme::new(false, false)),
+        120,
+        40,
+    );
+    assert!(text.contains("A_cm"), "{text}");
+}
