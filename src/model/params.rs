@@ -1142,7 +1142,9 @@ pub static PARAMS: [Param; 100] = [
         },
     )
     .starting(|s| s.supply.map_or(0.0, |p| 0.5 * (p.neg + p.pos)))
-    .qualifies(|s| s.reference.is_some()),
+    // Offered (as "none") on every kind with a reference input, so one
+    // can be added from the pane; r and c follow once it exists.
+    .qualifies(|s| s.stage.topology.kind().has_reference()),
     entry(
         "reference.r",
         "ref r",

@@ -231,3 +231,33 @@ fn the_json_report_echoes_the_reference() {
     let demo = crate::support::cli::stdout_of(&["report", "--json"]);
     assert!(!demo.contains("\"reference\""), "no block, no echo");
 }
+
+/// A reference input can be added from the pane: its level is offered
+/// (as "none") on every kind that has one, typing a level adds the block,
+/// and its resistance and bypass capacitor follow; a follower has none.
+#[test]
+fn the_pane_adds_a_reference_to_a_stage_without_one() {
+    use crate::support::keys::{key, type_text};
+    use crossterm::event::KeyCode;
+    use loopwright::model::params::param;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let s = in_range(plain(Topology::Inverting, 10e3, 47e3));
+    assert!(s.reference.is_none());
+    let mut a = App::new(vec![(s, None)], Theme::new(false, false));
+    let paths = |a: &App| a.visible().iter().map(|p| p.path).collect::<Vec<_>>();
+    assert!(paths(&a).contains(&"reference.v"), "{:?}", paths(&a));
+    assert!(!paths(&a).contains(&"reference.r"));
+    a.selected = param("reference.v").unwrap();
+    a.on_key(key(KeyCode::Enter));
+    for _ in 0..20 {
+        a.on_key(key(KeyCode::Backspace));
+    }
+    type_text(&mut a, "1.65");
+    a.on_key(key(KeyCode::Enter));
+    assert_eq!(a.slot().scenario.reference.map(|r| (r.v, r.r)), Some((1.65, 0.0)), "{}", a.status);
+    assert!(paths(&a).contains(&"reference.r"), "{:?}", paths(&a));
+    // A follower returns nothing to ground: no reference row.
+    let f = App::new(vec![(in_range(crate::support::stages::follower()), None)], Theme::new(false, false));
+    assert!(!paths(&f).contains(&"reference.v"));
+}
