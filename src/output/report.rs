@@ -342,8 +342,7 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
     }
     Ok(())
 }
-/// Above this CMRR the text reads "> 160 dB".
-const CMRR_SHOWN_DB: f64 = 160.0;
+use crate::judge::figures::CMRR_CEILING_DB as CMRR_SHOWN_DB;
 
 /// The table of figures at the `--at` frequencies.
 fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
