@@ -121,3 +121,22 @@ fn switching_the_kind_keeps_the_cursor_on_a_shown_row_and_shared_parts() {
         app.selected.path
     );
 }
+
+#[test]
+fn help_and_the_manual_name_every_kind() {
+    use crate::support::cli::stdout_of;
+    // Every kind a stage file accepts (Topology::NAMES, the file's names).
+    let main = stdout_of(&["--help"]);
+    let pairs = stdout_of(&["pairs", "--help"]);
+    let dir = crate::support::cli::temp_dir("manual_kinds");
+    let _ = std::fs::remove_dir_all(&dir);
+    stdout_of(&["manual", "--dir", dir.to_str().unwrap()]);
+    let man = std::fs::read_to_string(dir.join("loopwright.1")).unwrap();
+    let pairs_man = std::fs::read_to_string(dir.join("loopwright-pairs.1")).unwrap();
+    for name in Topology::NAMES {
+        assert!(main.contains(name), "--help lacks {name}");
+        assert!(pairs.contains(name), "pairs --help lacks {name}");
+        assert!(man.contains(name), "the man page lacks {name}");
+        assert!(pairs_man.contains(name), "the pairs page lacks {name}");
+    }
+}
