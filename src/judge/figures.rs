@@ -1185,6 +1185,8 @@ pub fn delta(f: &Figure, a: &Evaluation, b: &Evaluation) -> Option<f64> {
         return None;
     }
     match (f.read(a), f.read(b)) {
+        // Past the ceiling the value is only "more than": no difference.
+        (Reading::Value(x), Reading::Value(y)) if f.ceiling.is_some_and(|c| x > c || y > c) => None,
         (Reading::Value(x), Reading::Value(y)) => Some(y - x).filter(|d| d.is_finite()),
         _ => None,
     }

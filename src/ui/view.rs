@@ -1339,9 +1339,11 @@ fn figure_cells(s: &Slot, cols: &[&Figure]) -> Vec<String> {
 }
 
 fn delta_cells(a: &Slot, b: &Slot, cols: &[&Figure]) -> Vec<String> {
+    let past = |f: &Figure, r: Reading| f.ceiling.is_some_and(|c| r.value().is_some_and(|v| v > c));
     cols.iter()
         .map(|f| match (reading(f, a), reading(f, b)) {
             _ if f.units_differ(a.eval.analysis.gain_unit, b.eval.analysis.gain_unit) => "—".into(),
+            (x, y) if past(f, x) || past(f, y) => "—".into(),
             (Reading::Value(x), Reading::Value(y)) => {
                 f.cell_in(&a.eval, Reading::Value(y - x), true)
             }

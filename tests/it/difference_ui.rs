@@ -140,3 +140,42 @@ fn help_and_the_manual_name_every_kind() {
         assert!(pairs_man.contains(name), "the pairs page lacks {name}");
     }
 }
+
+#[test]
+fn a_difference_against_a_cmrr_past_the_ceiling_is_not_a_number() {
+    use crate::support::cli::stdout_of;
+    // A: the matched shunt read-out (CMRR above 160 dB); B: r4 2 % low.
+    let dir = crate::support::cli::temp_dir("cmrr_delta");
+    let a = "scenarios/shunt_readout_gain20.ron";
+    let text = std::fs::read_to_string(a).unwrap();
+    let b = dir.join("b.ron");
+    std::fs::write(&b, text.replace("r4: 200000.0", "r4: 196000.0")).unwrap();
+    let out = stdout_of(&["compare", a, b.to_str().unwrap()]);
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("CMRR at DC"))
+        .expect("a CMRR line");
+    // The text rule: "> 160 dB" above 160 dB; A's "more than" has
+    // no difference to B.
+    assert!(line.contains("> 160.00 dB"), "{line}");
+    assert!(line.trim_end().ends_with("none"), "{line}");
+    let app = App::new(
+        vec![(shunt(), None), (Scenario::load(&b).unwrap(), None)],
+        Theme::new(false, false),
+    );
+    let screen = screen_at(&app, 120, 40);
+    let (head, _) = figures_row(&screen);
+    let delta = screen
+        .lines()
+        .find(|l| l.starts_with("Δ"))
+        .expect("a Δ row");
+    // The columns are right-aligned: the Δ cell ends where "CMRR" does.
+    let end = head.chars().collect::<Vec<_>>();
+    let at = (0..end.len())
+        .find(|&i| end[i..].starts_with(&['C', 'M', 'R', 'R']))
+        .expect("a CMRR column")
+        + 4;
+    let cells: String = delta.chars().take(at).collect();
+    let cell = cells.split_whitespace().last().unwrap();
+    assert_eq!(cell, "—", "{head}\n{delta}");
+}
