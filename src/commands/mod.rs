@@ -45,6 +45,8 @@ the same result on any number of cores.";
     long_about = "Terminal workbench for op-amp feedback amplifier stages.\n\n\
         With no command, opens the workbench on the built-in demo, on FILE, or on two \
         candidate stages A and B.\n\
+        Stage kinds (stage.topology): NonInverting, Inverting, Follower, Transimpedance, \
+        Difference.\n\
         Results come from small-signal models: verify them on the bench.",
     args_conflicts_with_subcommands = true
 )]

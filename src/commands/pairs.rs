@@ -10,14 +10,15 @@ use std::process::ExitCode;
 // The options of `pairs`.
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// The gain magnitude (NonInverting: 1 + rf/rg; Inverting: rf/rg).
+    /// The gain magnitude (NonInverting: 1 + rf/rg; Inverting: rf/rg;
+    /// Difference: r2/r1 with r3 = r1, r4 = r2).
     #[arg(value_name = "GAIN", value_parser = super::parse::parse_gain, allow_negative_numbers = true)]
     pub gain: f64,
     /// The series both resistors come from.
     #[arg(long, default_value = "E24", value_parser = super::parse::parse_series)]
     pub series: Series,
     #[arg(long, default_value = "NonInverting", value_parser = super::parse::parse_pair_topology,
-          help = Topology::with_resistors(" or "))]
+          help = super::parse::pair_topology_help())]
     pub topology: Topology,
     /// Smallest rg (`1k`, `4k7`).
     #[arg(long = "rg-min", value_name = "OHMS", default_value = "1k", value_parser = super::parse::parse_resistance, allow_negative_numbers = true)]

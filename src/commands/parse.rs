@@ -78,7 +78,23 @@ pub fn parse_series(text: &str) -> Result<Series> {
     })
 }
 
-/// NonInverting or Inverting (a follower has no rg and rf).
+/// The `--topology` help of `pairs`: every kind, the ones with a
+/// resistor ratio first.
+pub fn pair_topology_help() -> String {
+    let without: Vec<&str> = Topology::ALL
+        .into_iter()
+        .filter(|t| !t.has_resistors())
+        .map(|t| t.name())
+        .collect();
+    format!(
+        "{} ({}: no resistor ratio sets the gain)",
+        Topology::with_resistors(" or "),
+        without.join(" and ")
+    )
+}
+
+/// A kind whose gain a resistor ratio sets (NonInverting, Inverting,
+/// Difference; a follower has no rg and rf).
 pub fn parse_pair_topology(text: &str) -> Result<Topology> {
     Topology::ALL
         .into_iter()

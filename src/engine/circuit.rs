@@ -52,6 +52,9 @@ pub struct Point {
     pub noise_psd: [f64; MAX_NOISE],
     /// The signal inside the stage, per volt of source EMF.
     pub signals: Signals,
+    /// With two inputs, the same per volt of common mode (both EMFs at
+    /// 1 V); None with one input.
+    pub cm_signals: Option<Signals>,
 }
 
 /// Where the signal goes inside the stage, per volt of source EMF.
@@ -165,6 +168,7 @@ impl Circuit {
             cm_gain: None,
             noise_psd: [0.0; MAX_NOISE],
             signals: Signals::default(),
+            cm_signals: None,
         })
     }
 
@@ -182,10 +186,23 @@ impl Circuit {
     /// The signals at one frequency (one LU, one solve), or zeros where
     /// the matrix is singular.
     pub fn signals_at(&self, f_hz: f64) -> Signals {
+        self.signals_for(f_hz, &self.net.drive_rhs())
+    }
+
+    /// The signals per volt of common mode at one frequency (zeros with
+    /// one input or where the matrix is singular).
+    pub fn cm_signals_at(&self, f_hz: f64) -> Signals {
+        match self.net.drive2 {
+            Some(_) => self.signals_for(f_hz, &self.net.rhs(Excitation::CommonMode)),
+            None => Signals::default(),
+        }
+    }
+
+    fn signals_for(&self, f_hz: f64, rhs: &Vector) -> Signals {
         let s = C64::new(0.0, 2.0 * PI * f_hz);
         match self.factor_at(s) {
             Some(lu) => {
-                let x = lu.solve(&self.net.drive_rhs());
+                let x = lu.solve(rhs);
                 self.signals_of(s, &x[..self.net.dim])
             }
             None => Signals::default(),
@@ -293,9 +310,9 @@ impl Circuit {
         } else {
             self.zin_of(0, f_hz, &lu.solve(&net.rhs(Excitation::Input(0)))[..n])
         };
-        let cm_gain = net
+        let cm_signals = net
             .drive2
-            .map(|_| Netlist::node_v(&lu.solve(&net.rhs(Excitation::CommonMode))[..n], net.out));
+            .map(|_| self.signals_of(s, &lu.solve(&net.rhs(Excitation::CommonMode))[..n]));
 
         // Adjoint: transimpedance from every node/branch to V(out).
         let mut z = [ZERO; MAXN];
@@ -322,9 +339,10 @@ impl Circuit {
             zout,
             zout_pin,
             zin,
-            cm_gain,
+            cm_gain: cm_signals.map(|c| c.out),
             noise_psd,
             signals: self.signals_of(s, &x[..n]),
+            cm_signals,
         })
     }
 }

@@ -247,12 +247,39 @@ fn bias_balance(s: &Scenario, alpha: f64) -> Option<f64> {
     (r.is_finite() && r > 0.0).then_some(r)
 }
 
+/// What drives the stage for a band maximum: the signal (the source's
+/// EMF, or the differential pair) or the common mode (both inputs at 1 V).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Driven {
+    Signal,
+    CommonMode,
+}
+
+impl Driven {
+    /// The signals of one sweep point under this drive (zeros where the
+    /// stage has no common mode).
+    fn of(self, p: &crate::engine::circuit::Point) -> Signals {
+        match self {
+            Driven::Signal => p.signals,
+            Driven::CommonMode => p.cm_signals.unwrap_or_default(),
+        }
+    }
+
+    fn at(self, circuit: &Circuit, f_hz: f64) -> Signals {
+        match self {
+            Driven::Signal => circuit.signals_at(f_hz),
+            Driven::CommonMode => circuit.cm_signals_at(f_hz),
+        }
+    }
+}
+
 /// The largest g over the sweep points inside the band (its edges are
 /// sweep points), refined between the neighbours of an inner maximum.
 fn band_max(
     sweep: &Sweep,
     band: (f64, f64),
     circuit: &Circuit,
+    driven: Driven,
     g: impl Fn(f64, &Signals) -> f64,
 ) -> BandMax {
     let pts: Vec<_> = sweep
@@ -262,7 +289,7 @@ fn band_max(
         .collect();
     let Some((i, best)) = pts
         .iter()
-        .map(|p| g(p.f_hz, &p.signals))
+        .map(|p| g(p.f_hz, &driven.of(p)))
         .enumerate()
         .max_by(|a, b| a.1.total_cmp(&b.1))
     else {
@@ -274,7 +301,7 @@ fn band_max(
     };
     if i > 0 && i + 1 < pts.len() {
         let (a, b) = (pts[i - 1].f_hz.ln(), pts[i + 1].f_hz.ln());
-        let (x, v) = refine_max(a, b, |x| g(x.exp(), &circuit.signals_at(x.exp())));
+        let (x, v) = refine_max(a, b, |x| g(x.exp(), &driven.at(circuit, x.exp())));
         if v > out.value {
             out = BandMax {
                 value: v,
@@ -361,8 +388,11 @@ fn input_range(s: &Scenario, l: &mut Limits, dc: &Dc, pin_peak: f64) {
     }
 }
 
-/// The envelope at the internal output on the sweep points in the band.
+/// The envelope at the internal output on the sweep points in the band:
+/// the signal's peak and, with two inputs, the common mode's at each
+/// frequency.
 fn envelope(s: &Scenario, l: &mut Limits, sweep: &Sweep, peak: f64) {
+    let cm_peak = s.source.cm_peak.unwrap_or(0.0).abs();
     let slew = present(s.amp.slew);
     let iout = present(s.amp.iout);
     l.envelope = sweep
@@ -371,9 +401,10 @@ fn envelope(s: &Scenario, l: &mut Limits, sweep: &Sweep, peak: f64) {
         .filter(|p| p.f_hz >= s.band.0 && p.f_hz <= s.band.1)
         .map(|p| {
             let y = p.signals.amp_i.norm() / p.signals.int.norm();
+            let cm = cm_peak * Driven::CommonMode.of(p).int.norm();
             EnvelopePoint {
                 f_hz: p.f_hz,
-                need: peak * p.signals.int.norm(),
+                need: peak * p.signals.int.norm() + cm,
                 slew_ceiling: slew.map(|sr| sr / (2.0 * PI * p.f_hz)),
                 current_ceiling: iout
                     .map(|i| (i - l.i_dc_a.abs()).max(0.0) / y)
@@ -393,29 +424,46 @@ fn envelope(s: &Scenario, l: &mut Limits, sweep: &Sweep, peak: f64) {
     });
 }
 
-/// The signal limits over the band (section "Signal limits").
+/// The signal's band maximum of g, and the common mode's (0 without
+/// `source.cm_peak` or a second input), each where it is largest: both
+/// are peaks "anywhere in the band", so the need is their sum.
+fn signal_and_cm_max(
+    s: &Scenario,
+    circuit: &Circuit,
+    sweep: &Sweep,
+    g: impl Fn(f64, &Signals) -> f64,
+) -> (BandMax, f64) {
+    let signal = band_max(sweep, s.band, circuit, Driven::Signal, &g);
+    let cm_peak = s.source.cm_peak.unwrap_or(0.0);
+    let cm = if cm_peak != 0.0 && circuit.net.drive2.is_some() {
+        cm_peak.abs() * band_max(sweep, s.band, circuit, Driven::CommonMode, &g).value
+    } else {
+        0.0
+    };
+    (signal, cm)
+}
+
+/// The signal limits over the band (section "Signal limits"): the
+/// signal's peak at each transfer's band maximum plus, with two inputs,
+/// `source.cm_peak` at the common-mode transfer's band maximum.
 fn signal_limits(s: &Scenario, l: &mut Limits, dc: &Dc, circuit: &Circuit, sweep: &Sweep) {
     let Some(peak) = s.signal_peak() else {
         return;
     };
     l.signal_given = true;
-    let band = s.band;
-    let int_max = band_max(sweep, band, circuit, |_, g| g.int.norm());
-    let pin_max = band_max(sweep, band, circuit, |_, g| g.pin.norm());
-    let slew_max = band_max(sweep, band, circuit, |f, g| 2.0 * PI * f * g.int.norm());
-    let i_max = band_max(sweep, band, circuit, |_, g| g.amp_i.norm());
-    // The common-mode peak at its DC transfer (a capacitor across r4 only
-    // lowers it in the band).
-    let cm_peak = s.source.cm_peak.unwrap_or(0.0);
-    let int_cm = cm_peak * l.dc.int.cm.abs();
+    let (int_max, int_cm) = signal_and_cm_max(s, circuit, sweep, |_, g| g.int.norm());
+    let (pin_max, pin_cm) = signal_and_cm_max(s, circuit, sweep, |_, g| g.pin.norm());
+    let (slew_max, slew_cm) =
+        signal_and_cm_max(s, circuit, sweep, |f, g| 2.0 * PI * f * g.int.norm());
+    let (i_max, i_cm) = signal_and_cm_max(s, circuit, sweep, |_, g| g.amp_i.norm());
     output_range(s, l, dc, 1.0, peak * int_max.value + int_cm);
-    input_range(s, l, dc, peak * pin_max.value + cm_peak * l.dc.pin.cm.abs());
-    l.slew_needed_v_per_s = Some(peak * slew_max.value);
+    input_range(s, l, dc, peak * pin_max.value + pin_cm);
+    l.slew_needed_v_per_s = Some(peak * slew_max.value + slew_cm);
     l.slew_at_hz = slew_max.f_hz;
     l.fpbw_hz = present(s.amp.slew)
         .map(|sr| sr / (2.0 * PI * peak * int_max.value))
         .filter(|f| f.is_finite());
-    l.iout_peak_a = Some(l.i_dc_a.abs() + peak * i_max.value);
+    l.iout_peak_a = Some(l.i_dc_a.abs() + peak * i_max.value + i_cm);
     l.iout_at_hz = i_max.f_hz;
     l.iout_drawn = Some(drawn_by(circuit, i_max.f_hz));
     envelope(s, l, sweep, peak);

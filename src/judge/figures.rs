@@ -147,6 +147,10 @@ const ROW_IF_GIVEN: Shown = Shown {
     row_when_given: true,
 };
 
+/// Above this CMRR the text reads "> 160 dB" and the plots draw the
+/// CMRR at it (no real stage holds more; an unbounded one is above it).
+pub const CMRR_CEILING_DB: f64 = 160.0;
+
 /// The CMRR: in the reports and as a column of the figures row.
 const CMRR_SHOWN: Shown = Shown {
     json: true,
@@ -337,7 +341,7 @@ pub static FIGURES: [Figure; 62] = [
     )
     .closed_loop()
     .two_inputs()
-    .ceiling(160.0)
+    .ceiling(CMRR_CEILING_DB)
     .undefined("unbounded (the common-mode gain is below 1e-12 of the differential)"),
     fig(
         "target_error",
@@ -1028,6 +1032,15 @@ impl Figure {
         match r {
             Reading::Value(v) if self.in_ohms(e) => ohms(v, signed).replace(' ', ""),
             Reading::Value(v) if self.unit_in(e) != self.unit => self.unit_in(e).cell(v, signed),
+            // Unbounded (a rejection figure of a stage it applies to).
+            Reading::Undefined
+                if !signed
+                    && self.ceiling.is_some()
+                    && self.applies.is_some()
+                    && self.applies_to(e) =>
+            {
+                self.cell(Reading::Value(f64::INFINITY), false)
+            }
             _ => self.cell(r, signed),
         }
     }
@@ -1111,12 +1124,16 @@ impl Figure {
         }
     }
 
-    /// A compact cell for the figures row (no space before the unit).
+    /// A compact cell for the figures row (no space before the unit);
+    /// above its ceiling "> ceiling" (a difference is never cut).
     pub fn cell(&self, r: Reading, signed: bool) -> String {
-        match r {
-            Reading::Value(v) => self.unit.cell(v, signed),
-            Reading::Unstable => "unstable".into(),
-            Reading::Undefined => "—".into(),
+        match (r, self.ceiling) {
+            (Reading::Value(v), Some(c)) if !signed && v > c => {
+                format!(">{}", self.unit.cell(c, false))
+            }
+            (Reading::Value(v), _) => self.unit.cell(v, signed),
+            (Reading::Unstable, _) => "unstable".into(),
+            (Reading::Undefined, _) => "—".into(),
         }
     }
 }
@@ -1168,6 +1185,8 @@ pub fn delta(f: &Figure, a: &Evaluation, b: &Evaluation) -> Option<f64> {
         return None;
     }
     match (f.read(a), f.read(b)) {
+        // Past the ceiling the value is only "more than": no difference.
+        (Reading::Value(x), Reading::Value(y)) if f.ceiling.is_some_and(|c| x > c || y > c) => None,
         (Reading::Value(x), Reading::Value(y)) => Some(y - x).filter(|d| d.is_finite()),
         _ => None,
     }

@@ -1730,6 +1730,12 @@ pub fn set_topology(s: &mut Scenario, t: Topology) {
             p.set(s, Some(start));
         }
     }
+    // A second input's fields go with it.
+    if !two_inputs(s) {
+        for p in TWO_INPUT_FIELDS.into_iter().filter_map(param) {
+            p.set(s, None);
+        }
+    }
     // The fields of the other kind of input go; one the new kind needs
     // (a voltage source's r) starts at its starting value.
     for p in PARAMS
@@ -2225,6 +2231,16 @@ fn part_tolerance_checks(s: &Scenario) -> Vec<FieldProblem> {
     p
 }
 
+/// The second input's and the common mode's fields: refused for a kind
+/// with one input (they would be ignored), dropped when the pane switches
+/// to one.
+const TWO_INPUT_FIELDS: [&str; 4] = [
+    "source.r_plus",
+    "source.cm",
+    "source.cm_peak",
+    "spec.cmrr_min_db",
+];
+
 /// The second input's and the common mode's fields, refused for a kind
 /// with one input (they would be ignored).
 fn two_input_checks(s: &Scenario) -> Vec<FieldProblem> {
@@ -2232,24 +2248,19 @@ fn two_input_checks(s: &Scenario) -> Vec<FieldProblem> {
         return Vec::new();
     }
     let name = s.stage.topology.name();
-    [
-        "source.r_plus",
-        "source.cm",
-        "source.cm_peak",
-        "spec.cmrr_min_db",
-    ]
-    .into_iter()
-    .filter_map(param)
-    .filter(|p| p.raw(s).is_some())
-    .map(|p| FieldProblem {
-        field: file_field(p.path).into(),
-        message: format!(
-            "{} {name} stage has one input: {} applies to a stage with two inputs (Difference)",
-            capital(article(name)),
-            p.label
-        ),
-    })
-    .collect()
+    TWO_INPUT_FIELDS
+        .into_iter()
+        .filter_map(param)
+        .filter(|p| p.raw(s).is_some())
+        .map(|p| FieldProblem {
+            field: file_field(p.path).into(),
+            message: format!(
+                "{} {name} stage has one input: {} applies to a stage with two inputs (Difference)",
+                capital(article(name)),
+                p.label
+            ),
+        })
+        .collect()
 }
 
 /// A word with its first letter in capitals.

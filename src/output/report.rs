@@ -342,8 +342,7 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
     }
     Ok(())
 }
-/// Above this CMRR the text reads "> 160 dB".
-const CMRR_SHOWN_DB: f64 = 160.0;
+use crate::judge::figures::CMRR_CEILING_DB as CMRR_SHOWN_DB;
 
 /// The table of figures at the `--at` frequencies.
 fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
@@ -472,9 +471,12 @@ pub struct Comparison {
 /// Figures `compare` adds to the key figures when either stage has them:
 /// the error against the spec's aim, the worst-case offset and headroom,
 /// the settling to the step's threshold, the sampling kick, the supply
-/// rejection and the output ripple.
-const COMPARED_WHEN_GIVEN: [&str; 10] = [
+/// rejection and the output ripple; with two inputs, the common-mode gain
+/// and the CMRR.
+const COMPARED_WHEN_GIVEN: [&str; 12] = [
     "target_error",
+    "cm_gain_dc",
+    "cmrr_dc_db",
     "out_offset_max_v",
     "headroom_low_v",
     "headroom_high_v",
@@ -550,6 +552,9 @@ impl Comparison {
             let Some(f) = figure(d.key) else { continue };
             let (ua, ub) = (self.a.gain_unit, self.b.gain_unit);
             let show = |v: Option<f64>, u, signed: bool| match v {
+                Some(v) if !signed && f.ceiling.is_some_and(|c| v > c) => {
+                    f.text(crate::judge::figures::Reading::Value(v))
+                }
                 Some(v) => f.number_for(u, v, signed),
                 None => "none".into(),
             };

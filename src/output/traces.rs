@@ -2,6 +2,7 @@
 //! and the SVG figures draw the same points.
 
 use crate::engine::analysis::{cmrr_db, Analysis, Point};
+use crate::judge::figures::CMRR_CEILING_DB;
 
 /// Keep only finite points.
 pub fn finite(points: impl Iterator<Item = (f64, f64)>) -> Vec<(f64, f64)> {
@@ -45,8 +46,11 @@ pub struct Traces {
     pub env_swing: Vec<(f64, f64)>,
     pub env_slew: Vec<(f64, f64)>,
     pub env_current: Vec<(f64, f64)>,
-    /// Two inputs: the CMRR in dB (points where it is unbounded left out).
+    /// Two inputs: the CMRR in dB, drawn at most at the ceiling
+    /// (`CMRR_CEILING_DB`; an unbounded point sits on it).
     pub cmrr_db: Vec<(f64, f64)>,
+    /// Whether some CMRR point was drawn at the ceiling.
+    pub cmrr_clamped: bool,
 }
 
 impl Traces {
@@ -72,10 +76,14 @@ impl Traces {
                     .filter_map(|p| p.zin.map(|z| (lf(p), z.norm().log10()))),
             ),
             noise: finite(pts.iter().map(|p| (lf(p), p.noise_density().log10()))),
-            cmrr_db: finite(
-                pts.iter()
-                    .filter_map(|p| p.cm_gain.map(|cm| (lf(p), cmrr_db(p.gain, cm)))),
-            ),
+            cmrr_db: finite(pts.iter().filter_map(|p| {
+                p.cm_gain
+                    .map(|cm| (lf(p), cmrr_db(p.gain, cm).min(CMRR_CEILING_DB)))
+            })),
+            cmrr_clamped: pts.iter().any(|p| {
+                p.cm_gain
+                    .is_some_and(|cm| cmrr_db(p.gain, cm) >= CMRR_CEILING_DB)
+            }),
             ..Traces::envelope(a)
         }
     }

@@ -126,7 +126,17 @@ fn impedance_curves(t: &Traces) -> Vec<Curve> {
     c
 }
 
-/// The gain and its phase; with two inputs, the CMRR on the gain's axis.
+/// The CMRR curve's name: where it was drawn at the ceiling, it says so.
+pub fn cmrr_name(t: &Traces) -> &'static str {
+    if t.cmrr_clamped {
+        "CMRR (above 160 dB drawn at 160 dB)"
+    } else {
+        "CMRR"
+    }
+}
+
+/// The gain and its phase; with two inputs, the CMRR on the gain's axis
+/// (at most 160 dB, so the axis stays in reach of the gain).
 fn response_curves(t: &Traces) -> Vec<Curve> {
     let mut c = vec![
         curve("gain", false, &t.gain_db),
@@ -135,7 +145,7 @@ fn response_curves(t: &Traces) -> Vec<Curve> {
     if !t.cmrr_db.is_empty() {
         c.push(Curve {
             tone: 2,
-            ..curve("CMRR", false, &t.cmrr_db)
+            ..curve(cmrr_name(t), false, &t.cmrr_db)
         });
     }
     c

@@ -214,6 +214,15 @@ pub enum Mode {
 }
 
 /// The questions a save may ask, in the order asked.
+/// The one plot a Bode view too short for all shows (the g key's cycle;
+/// the CMRR only on a two-input stage's response view).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ShortPlot {
+    Magnitude,
+    Phase,
+    Cmrr,
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
 pub enum SaveAsk {
     /// Save-as onto a file that exists.
@@ -276,9 +285,8 @@ pub struct App {
     pub user_parts: Option<PathBuf>,
     /// The part last applied or saved (its name is offered on save).
     pub last_part: Option<crate::model::part::Part>,
-    /// Where the Bode view is too short for both, it shows the phase
-    /// instead of the magnitude.
-    pub show_phase: bool,
+    /// Where the Bode view is too short for all its plots, the one shown.
+    pub short_plot: ShortPlot,
     /// The gain view over its full range instead of the zoomed one.
     pub full_range: bool,
     /// The spread view's background Monte Carlo of the edited stage.
@@ -344,7 +352,7 @@ impl App {
                 Slot::new(st.scenario, st.path, original, probe_hz)
             })
             .collect();
-        App {
+        let mut app = App {
             slots,
             active: 0,
             selected: param("stage.rf").unwrap_or(&PARAMS[0]),
@@ -359,12 +367,31 @@ impl App {
             archetypes: archetypes(),
             user_parts: None,
             last_part: None,
-            show_phase: false,
+            short_plot: ShortPlot::Magnitude,
             full_range: false,
             spread: Default::default(),
             tightening: Default::default(),
             rescued: Vec::new(),
+        };
+        app.start_selection();
+        app
+    }
+
+    /// The first row selected: rf where the stage has one, else the first
+    /// part its kind declares (r1 of a difference stage).
+    fn start_selection(&mut self) {
+        let vis = self.visible();
+        if vis.contains(&self.selected) {
+            return;
         }
+        let kind = self.slot().scenario.stage.topology.kind();
+        self.selected = kind
+            .parts
+            .iter()
+            .filter_map(|p| vis.iter().find(|v| v.path == p.param))
+            .copied()
+            .next()
+            .unwrap_or(vis[0]);
     }
 
     /// Between events: keep the spread view's job on the edited stage and
@@ -505,11 +532,36 @@ impl App {
         self.selected = vis[j];
     }
 
+    /// The g key: the next plot a short Bode view shows (magnitude, phase,
+    /// and the CMRR where a stage has two inputs).
+    fn next_short_plot(&mut self) {
+        let cmrr = self.slots.iter().any(|s| !s.traces.cmrr_db.is_empty());
+        self.short_plot = match self.short_plot {
+            ShortPlot::Magnitude => ShortPlot::Phase,
+            ShortPlot::Phase if cmrr => ShortPlot::Cmrr,
+            _ => ShortPlot::Magnitude,
+        };
+        let which = match self.short_plot {
+            ShortPlot::Magnitude => "magnitude",
+            ShortPlot::Phase => "phase",
+            ShortPlot::Cmrr => "CMRR",
+        };
+        self.info(format!("a short Bode plot shows the {which}"));
+    }
+
+    /// A selected row the stage no longer shows (another kind, another
+    /// slot) gives way to the nearest shown row above it in pane order.
     fn ensure_visible_selection(&mut self) {
         let vis = self.visible();
-        if !vis.contains(&self.selected) {
-            self.selected = vis[0];
+        if vis.contains(&self.selected) {
+            return;
         }
+        let at = PARAMS.iter().position(|p| p == self.selected).unwrap_or(0);
+        self.selected = PARAMS[..at]
+            .iter()
+            .rev()
+            .find(|p| vis.contains(p))
+            .unwrap_or(vis[0]);
     }
 
     pub fn on_key(&mut self, key: KeyEvent) {
@@ -714,15 +766,7 @@ impl App {
             Action::CopyToOther => self.copy_to_other(true),
             Action::SwitchSlot => self.switch_slot(),
             Action::Undo => self.undo(),
-            Action::GainOrPhase => {
-                self.show_phase = !self.show_phase;
-                let which = if self.show_phase {
-                    "phase"
-                } else {
-                    "magnitude"
-                };
-                self.info(format!("a short Bode plot shows the {which}"));
-            }
+            Action::GainOrPhase => self.next_short_plot(),
             Action::GainRange => {
                 self.full_range = !self.full_range;
                 let range = ["peak and passband", "full range"][usize::from(self.full_range)];

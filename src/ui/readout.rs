@@ -2,6 +2,7 @@
 //! at the frequency cursor (the figures of `report --at` there).
 
 use super::app::App;
+use crate::judge::figures::Reading;
 use crate::model::values::fmt_fixed;
 use crate::output::report::PointReport;
 use ratatui::buffer::Buffer;
@@ -22,6 +23,12 @@ pub fn parts(r: &PointReport) -> Vec<String> {
     let mut out = Vec::new();
     if let Some(g) = r.gain_mag {
         out.push(format!("gain {}dB{}", db(g), deg(r.gain_phase_deg, 1)));
+    }
+    // Two inputs: the CMRR there (unbounded reads as above the ceiling).
+    if let Some(c) = r.cmrr_db {
+        let cmrr = crate::judge::figures::figure("cmrr_dc_db")
+            .map(|f| f.cell(Reading::Value(c.unwrap_or(f64::INFINITY)), false));
+        out.push(format!("CMRR {}", cmrr.unwrap_or_default()));
     }
     if let Some(l) = r.loop_mag {
         out.push(format!("loop {}dB{}", db(l), deg(r.loop_phase_deg, 0)));

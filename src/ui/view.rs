@@ -1,6 +1,6 @@
 //! Drawing: reads the App, never changes it.
 
-use super::app::{App, Choices, Mode, Slot, ViewId};
+use super::app::{App, Choices, Mode, ShortPlot, Slot, ViewId};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
@@ -23,6 +23,10 @@ pub const MIN_H: u16 = 24;
 /// Rows inside the Bode plot below which it shows magnitude or phase, not
 /// both (at 80×24 it has 10).
 const BOTH_ROWS: u16 = 14;
+
+/// Rows inside the response plot of a two-input stage from which it shows
+/// the magnitude, the phase and the CMRR together (at 120×40 it has 17).
+const ALL_ROWS: u16 = 17;
 
 /// Frequency window of the response and impedance plots (log10 Hz).
 const X_WINDOW: (f64, f64) = (0.0, 9.0);
@@ -521,17 +525,9 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     }
     let inner = b.inner(area);
     b.render(area, buf);
-    // Too short for both: one of them, as the p key chose.
-    let [mag, phase] = if inner.height < BOTH_ROWS {
-        let none = Rect { height: 0, ..inner };
-        if app.show_phase {
-            [none, inner]
-        } else {
-            [inner, none]
-        }
-    } else {
-        Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner)
-    };
+    let with_cmrr = !loop_view && app.slots.iter().any(|s| !s.traces.cmrr_db.is_empty());
+    let [mag, phase, cmrr] = bode_areas(app, inner, with_cmrr);
+    cmrr_plot(app, cmrr, buf);
     let x = X_WINDOW;
     let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
         (
@@ -581,7 +577,54 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let prow = phase.height.saturating_sub(1) as usize;
     let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
-    plot(app, ph_tr, x, y, margin).render(phase, buf);
+    let mut phase_plot = plot(app, ph_tr, x, y, margin);
+    phase_plot.x_labels = cmrr.height == 0;
+    phase_plot.render(phase, buf);
+}
+
+/// The Bode plot's magnitude, phase and (two inputs, response view) CMRR
+/// areas; too short for all of them, the one the g key chose (an unused
+/// area has no height).
+fn bode_areas(app: &App, inner: Rect, with_cmrr: bool) -> [Rect; 3] {
+    let none = Rect { height: 0, ..inner };
+    let tall = if with_cmrr { ALL_ROWS } else { BOTH_ROWS };
+    if inner.height >= tall && with_cmrr {
+        let fill = [
+            Constraint::Fill(3),
+            Constraint::Fill(2),
+            Constraint::Fill(2),
+        ];
+        return Layout::vertical(fill).areas(inner);
+    }
+    if inner.height >= tall {
+        let [m, p] = Layout::vertical([Constraint::Fill(3), Constraint::Fill(2)]).areas(inner);
+        return [m, p, none];
+    }
+    match app.short_plot {
+        ShortPlot::Phase => [none, inner, none],
+        ShortPlot::Cmrr if with_cmrr => [none, none, inner],
+        _ => [inner, none, none],
+    }
+}
+
+/// The CMRR of each two-input stage against frequency, on its own dB
+/// axis; a CMRR above 160 dB (or unbounded) is drawn at 160 dB and the
+/// trace's name says so.
+fn cmrr_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
+    if area.height == 0 {
+        return;
+    }
+    let clamped = app.slots.iter().any(|s| s.traces.cmrr_clamped);
+    let label = if clamped {
+        "CMRR (>160dB at 160)"
+    } else {
+        "CMRR"
+    };
+    let tr = traces(app, |s| &s.traces.cmrr_db, Some(label), Joining::Continuous);
+    let (lo, hi) = visible_range(tr.iter().map(|t| t.points), X_WINDOW);
+    let rows = (area.height as usize).saturating_sub(1);
+    let y = zoom_axis((lo - 5.0, hi + 5.0), true, rows.max(2));
+    plot(app, tr, X_WINDOW, y, Vec::new()).render(area, buf);
 }
 
 /// The closed-loop gain of every stage in the middle of its band (the
@@ -1297,9 +1340,11 @@ fn figure_cells(s: &Slot, cols: &[&Figure]) -> Vec<String> {
 }
 
 fn delta_cells(a: &Slot, b: &Slot, cols: &[&Figure]) -> Vec<String> {
+    let past = |f: &Figure, r: Reading| f.ceiling.is_some_and(|c| r.value().is_some_and(|v| v > c));
     cols.iter()
         .map(|f| match (reading(f, a), reading(f, b)) {
             _ if f.units_differ(a.eval.analysis.gain_unit, b.eval.analysis.gain_unit) => "—".into(),
+            (x, y) if past(f, x) || past(f, y) => "—".into(),
             (Reading::Value(x), Reading::Value(y)) => {
                 f.cell_in(&a.eval, Reading::Value(y - x), true)
             }
@@ -1308,16 +1353,27 @@ fn delta_cells(a: &Slot, b: &Slot, cols: &[&Figure]) -> Vec<String> {
         .collect()
 }
 
-/// The key figures, then the figures a stage defines only with its
+/// The key figures, a figure of the stage's kind (the CMRR of two
+/// inputs) right after the key figures of its section so it keeps its
+/// place at 80 columns, then the figures a stage defines only with its
 /// inputs (headroom, offset) when some stage has them.
 fn figure_columns(app: &App) -> (Vec<&'static Figure>, usize) {
+    let given = |f: &Figure| {
+        app.slots.iter().any(|s| match f.applies {
+            Some(_) => f.applies_to(&s.eval),
+            None => matches!(f.read(&s.eval), Reading::Value(_)),
+        })
+    };
     let mut cols: Vec<&'static Figure> = key_figures().collect();
-    let fixed = cols.len();
-    cols.extend(row_figures().filter(|f| {
-        app.slots
+    for f in row_figures().filter(|f| f.applies.is_some() && given(f)) {
+        let at = cols
             .iter()
-            .any(|s| matches!(f.read(&s.eval), Reading::Value(_)))
-    }));
+            .rposition(|c| c.section == f.section)
+            .map_or(cols.len(), |i| i + 1);
+        cols.insert(at, f);
+    }
+    let fixed = cols.len();
+    cols.extend(row_figures().filter(|f| f.applies.is_none() && given(f)));
     (cols, fixed)
 }
 

@@ -401,3 +401,108 @@ fn the_gains_caption_names_a_common_mode_gain_only_for_two_inputs() {
     );
     assert!(text.contains("A_cm"), "{text}");
 }
+
+/// The + pin network of a difference stage around an ideal amplifier
+/// (textbook divider): H(s) = (Z4 + rref)/(r3 + Z4 + rref) with Z4 = r4 ∥
+/// c4 and the reference's resistance in series with it; the reference's
+/// own share of the pin at DC is r3/(r3 + r4 + rref).
+fn plus_divider(r3: f64, r4: f64, c4: f64, rref: f64, f: f64) -> num_complex::Complex64 {
+    let s = num_complex::Complex64::new(0.0, 2.0 * std::f64::consts::PI * f);
+    let z4 = r4 / (1.0 + s * r4 * c4);
+    (z4 + rref) / (r3 + z4 + rref)
+}
+
+#[test]
+fn the_envelope_uses_both_inputs_and_the_band_maximum_of_the_common_mode() {
+    use loopwright::model::scenario::Supply;
+    // r1 = r3 = 10 k, r2 = r4 = 100 k (k = 10), c4 = 1 nF without a cf
+    // (the rejection falls above 1.6 kHz), a 1.5 V reference behind 1 kΩ.
+    let (r3, r4, c4, rref, vref, k) = (10e3, 100e3, 1e-9, 1e3, 1.5, 10.0);
+    let mut s = stage(10e3, 100e3, r3, r4);
+    s.stage.c4 = Some(c4);
+    s.reference = Some(Reference {
+        v: vref,
+        r: rref,
+        c: None,
+    });
+    let (dc, cm, peak, cm_peak) = (0.1, 3.0, 0.2, 0.5);
+    s.source.dc = Some(dc);
+    s.source.cm = Some(cm);
+    s.source.peak = Some(peak);
+    s.source.cm_peak = Some(cm_peak);
+    s.band = (10.0, 100e3);
+    s.supply = Some(Supply {
+        neg: -15.0,
+        pos: 15.0,
+        ..Supply::default()
+    });
+    let l = evaluate(&s).analysis.limits;
+    // Superposition around an ideal amplifier (common practice): the +
+    // pin at V2·H(0) plus the reference's share Vref·r3/(r3 + r4 + rref),
+    // V2 = cm + dc/2; the signal moves it by peak/2·|H| (V2 carries half
+    // the differential), the common mode by cm_peak·|H|, both largest at
+    // DC, where c4 is open.
+    let h0 = plus_divider(r3, r4, c4, rref, 0.0).re;
+    let pin_dc = (cm + dc / 2.0) * h0 + vref * r3 / (r3 + r4 + rref);
+    let pin_swing = peak / 2.0 * h0 + cm_peak * h0;
+    assert_rel("+ input low", l.cm_low_v.unwrap(), pin_dc - pin_swing, 1e-6);
+    assert_rel(
+        "+ input high",
+        l.cm_high_v.unwrap(),
+        pin_dc + pin_swing,
+        1e-6,
+    );
+    // The output: A_cm(s) = H(s)·(1 + k) − k, A_d(s) = (H(s)·(1 + k) + k)/2.
+    // |A_d| is largest at DC; |A_cm| grows as c4 shorts r4, so its band
+    // maximum is at the band's top (100 kHz), not at DC.
+    let a_cm = |f: f64| (plus_divider(r3, r4, c4, rref, f) * (1.0 + k) - k).norm();
+    let a_d0 = (h0 * (1.0 + k) + k) / 2.0;
+    assert!(
+        a_cm(100e3) > 10.0 * a_cm(0.0),
+        "the test needs a rising A_cm"
+    );
+    let need = peak * a_d0 + cm_peak * a_cm(100e3);
+    assert_rel("internal peak", l.int_peak_v.unwrap(), need, 1e-5);
+    let out_dc = dc * a_d0
+        + cm * a_cm(0.0).copysign(h0 * (1.0 + k) - k)
+        + vref * r3 / (r3 + r4 + rref) * (1.0 + k);
+    assert_rel("internal DC", l.int_dc_v.unwrap(), out_dc, 1e-6);
+    // The envelope's need at the band's top counts the common mode too.
+    let top = l.envelope.last().expect("an envelope");
+    assert_rel("envelope at 100 kHz", top.f_hz, 100e3, 1e-9);
+    let a_d_top = ((plus_divider(r3, r4, c4, rref, 100e3) * (1.0 + k) + k) / 2.0).norm();
+    assert_rel(
+        "envelope need at 100 kHz",
+        top.need,
+        peak * a_d_top + cm_peak * a_cm(100e3),
+        1e-5,
+    );
+}
+
+#[test]
+fn compare_shows_the_common_mode_gain_and_the_cmrr() {
+    // B: the shunt read-out with r4 2 % low (196 kΩ), so its CMRR is set
+    // by the mismatch; A: the matched stage.
+    let dir = crate::support::cli::temp_dir("compare_cmrr");
+    let a = "scenarios/shunt_readout_gain20.ron";
+    let text = std::fs::read_to_string(a).unwrap();
+    let b = dir.join("b.ron");
+    std::fs::write(&b, text.replace("r4: 200000.0", "r4: 196000.0")).unwrap();
+    let out = stdout_of(&["compare", a, b.to_str().unwrap(), "--json"]);
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let figures = v["differences"]["figures"].as_array().unwrap();
+    let get = |k: &str| {
+        figures
+            .iter()
+            .find(|f| f["key"] == k)
+            .unwrap_or_else(|| panic!("compare lacks {k}"))
+    };
+    // Textbook superposition (closed_form above) with the file's 5 Ω
+    // sources: the amplifier's loop gain (87 dB) moves it by far less
+    // than the 1e-3 allowed.
+    let (ad, acm) = closed_form([10e3, 200e3, 10e3, 196e3], 5.0, 5.0);
+    let cm = get("cm_gain_dc")["b"].as_f64().unwrap();
+    assert_rel("B's A_cm", cm, acm, 1e-3);
+    let cmrr = get("cmrr_dc_db")["b"].as_f64().unwrap();
+    assert_rel("B's CMRR", cmrr, 20.0 * (ad / acm).abs().log10(), 1e-4);
+}

@@ -12,6 +12,7 @@ mod cursor;
 mod datasheet;
 mod design_helpers;
 mod difference;
+mod difference_ui;
 mod elements;
 mod engine_checks;
 mod enum_lists;
