@@ -101,6 +101,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         } => open_overlay(app, area, buf, files, *selected, typed),
         Mode::Choose(list) => choose_overlay(app, area, buf, list),
         Mode::Parts(list) => super::part_list_view::draw(app, area, buf, list),
+        Mode::Sheet(form) => super::sheet_view::draw(app, area, buf, form),
         _ => {}
     }
     if app.theme.ascii {
@@ -156,7 +157,7 @@ fn asciify(area: Rect, buf: &mut ratatui::buffer::Buffer) {
 /// A text field: an offered old value underlined (typing replaces it),
 /// otherwise the text with the cursor cell in `cursor` style (`_` at the
 /// end).
-fn field_spans(
+pub(super) fn field_spans(
     field: &Field,
     base: ratatui::style::Style,
     cursor: ratatui::style::Style,
