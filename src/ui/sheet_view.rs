@@ -99,9 +99,7 @@ fn form_rows(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, form: &Sh
         lines.push(Line::from(spans));
     }
     let h = usize::from(area.height).max(1);
-    let start = at
-        .saturating_sub(h / 2)
-        .min(lines.len().saturating_sub(h));
+    let start = at.saturating_sub(h / 2).min(lines.len().saturating_sub(h));
     let shown: Vec<Line> = lines.into_iter().skip(start).take(h).collect();
     Paragraph::new(shown).render(area, buf);
 }

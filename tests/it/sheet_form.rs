@@ -133,7 +133,11 @@ fn figures_that_cannot_be_reconciled_are_said_and_not_applied() {
     let text = screen_at(&a, 80, 24);
     assert!(text.contains("phase_margin: 95° is more than"), "{text}");
     a.on_key(key(KeyCode::Char('a')));
-    assert!(a.status.starts_with("not applied: phase_margin"), "{}", a.status);
+    assert!(
+        a.status.starts_with("not applied: phase_margin"),
+        "{}",
+        a.status
+    );
     assert!(matches!(a.mode, Mode::Sheet(_)), "the form stays open");
     assert_eq!(a.slot().scenario.amp, before);
     // Half a test circuit is named too.
@@ -159,7 +163,11 @@ fn applying_sets_the_amplifier_says_what_changed_and_undoes_in_one() {
     assert!((amp.gbw / 1.0785e6 - 1.0).abs() < 1e-4);
     assert_eq!(amp.ro, 50.0);
     assert!(a.status.contains("from datasheet set"), "{}", a.status);
-    assert!(a.status.contains("changed") && a.status.contains("gbw"), "{}", a.status);
+    assert!(
+        a.status.contains("changed") && a.status.contains("gbw"),
+        "{}",
+        a.status
+    );
     a.on_key(key(KeyCode::Backspace));
     assert_eq!(a.slot().scenario.amp, before);
 }
@@ -177,7 +185,11 @@ fn esc_leaves_the_stage_unchanged_and_d_reopens_the_figures_typed() {
     type_text(&mut a, "99");
     a.on_key(key(KeyCode::Esc));
     assert!(matches!(a.mode, Mode::Sheet(_)));
-    assert_eq!(form(&a).values.get("ro"), None, "cleared by the empty entry");
+    assert_eq!(
+        form(&a).values.get("ro"),
+        None,
+        "cleared by the empty entry"
+    );
     a.on_key(key(KeyCode::Esc));
     assert_eq!(a.mode, Mode::Normal);
     assert_eq!(a.slot().scenario, before);
@@ -204,7 +216,11 @@ fn shift_a_saves_the_derived_amplifier_as_a_part_never_replacing_unasked() {
         form(&a).derivation().unwrap()
     };
     assert_eq!(saved[0].amp, derived.amp);
-    assert!(saved[0].notes["fp2"].contains("tan(90° − PM)"), "{:?}", saved[0].notes);
+    assert!(
+        saved[0].notes["fp2"].contains("tan(90° − PM)"),
+        "{:?}",
+        saved[0].notes
+    );
     // The stage's own amplifier was not touched by saving.
     assert_ne!(a.slot().scenario.amp, derived.amp);
     // Again, with another figure: asked first; n keeps the file.

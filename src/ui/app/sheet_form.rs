@@ -77,7 +77,12 @@ macro_rules! noise_rows {
             row(concat!($p, ".e2"), "spot 2 density", $unit, Positive),
             row(concat!($p, ".density"), "or density", $unit, Positive),
             row(concat!($p, ".at"), "density at", "Hz", Positive),
-            row(concat!($p, ".white"), "or white level", $unit, Amp(concat!("amp.", $p))),
+            row(
+                concat!($p, ".white"),
+                "or white level",
+                $unit,
+                Amp(concat!("amp.", $p)),
+            ),
             row(concat!($p, ".corner"), "1/f corner", "Hz", NonNegative),
         ]
     };
@@ -87,8 +92,18 @@ macro_rules! noise_rows {
 macro_rules! typmax_rows {
     ($p:literal, $unit:literal) => {
         [
-            row(concat!($p, ".typ"), concat!($p, " typ"), $unit, Amp(concat!("amp.", $p))),
-            row(concat!($p, ".max"), concat!($p, " max"), $unit, Amp(concat!("amp.", $p))),
+            row(
+                concat!($p, ".typ"),
+                concat!($p, " typ"),
+                $unit,
+                Amp(concat!("amp.", $p)),
+            ),
+            row(
+                concat!($p, ".max"),
+                concat!($p, " max"),
+                $unit,
+                Amp(concat!("amp.", $p)),
+            ),
         ]
     };
 }
@@ -195,7 +210,10 @@ impl SheetForm {
     fn edit_text(&self, r: &Row) -> String {
         match r.entry {
             Entry::Name => self.name.clone(),
-            _ => self.values.get(r.key).map_or(String::new(), |v| fmt_compact(*v)),
+            _ => self
+                .values
+                .get(r.key)
+                .map_or(String::new(), |v| fmt_compact(*v)),
         }
     }
 
@@ -371,20 +389,7 @@ impl SheetForm {
             put(key, v);
         }
         for (keys, n) in [(&VNOISE, &f.vnoise), (&INOISE, &f.inoise)] {
-            let n = n.clone().unwrap_or_default();
-            let spot = |i: usize| n.spots.as_ref().and_then(|s| s.get(i).copied());
-            let (s1, s2) = (spot(0), spot(1));
-            let vals = [
-                s1.map(|s| s.0),
-                s1.map(|s| s.1),
-                s2.map(|s| s.0),
-                s2.map(|s| s.1),
-                n.density,
-                n.at,
-                n.white,
-                n.corner,
-            ];
-            for (r, v) in keys.iter().zip(vals) {
+            for (r, v) in keys.iter().zip(noise_values(n)) {
                 put(r.key, v);
             }
         }
@@ -457,6 +462,24 @@ impl SheetForm {
     }
 }
 
+/// A noise figure's values in the order of its eight rows (the first two
+/// spots only: a file with more is refused when derived).
+fn noise_values(n: &Option<NoiseFigures>) -> [Option<Num>; 8] {
+    let n = n.clone().unwrap_or_default();
+    let spot = |i: usize| n.spots.as_ref().and_then(|s| s.get(i).copied());
+    let (s1, s2) = (spot(0), spot(1));
+    [
+        s1.map(|s| s.0),
+        s1.map(|s| s.1),
+        s2.map(|s| s.0),
+        s2.map(|s| s.1),
+        n.density,
+        n.at,
+        n.white,
+        n.corner,
+    ]
+}
+
 /// The check of a typed number: its sign, or the `amp` field's range as
 /// the pane accepts it (the same message).
 fn check(entry: Entry, v: f64) -> Result<(), String> {
@@ -481,6 +504,19 @@ fn check(entry: Entry, v: f64) -> Result<(), String> {
     }
 }
 
+/// A key in a one-line entry: `Some(Some(text))` on Enter, `Some(None)`
+/// on Esc, `None` while typing goes on (the field edited).
+fn entry_key(key: &KeyEvent, field: &mut Field) -> Option<Option<String>> {
+    match keys::field_key(key) {
+        FieldKey::Edit(FieldAction::Apply) => return Some(Some(field.text())),
+        FieldKey::Edit(FieldAction::Cancel) => return Some(None),
+        FieldKey::Edit(a) => field.edit(a),
+        FieldKey::Type(c) => field.insert(c),
+        FieldKey::Ignore => {}
+    }
+    None
+}
+
 /// The form's keys outside an entry.
 const MOVES: [(KeyCode, isize); 6] = [
     (KeyCode::Up, -1),
@@ -496,7 +532,9 @@ impl App {
     pub(super) fn start_sheet(&mut self) {
         let form = self.sheet_draft.take().unwrap_or_default();
         self.mode = Mode::Sheet(form);
-        self.info("datasheet form: ↑↓ a row, type its value; a applies, A saves a part, Esc leaves");
+        self.info(
+            "datasheet form: ↑↓ a row, type its value; a applies, A saves a part, Esc leaves",
+        );
     }
 
     /// Leave the form (kept for the next `d`).
@@ -516,15 +554,13 @@ impl App {
         let choice = matches!(r.entry, Entry::Take | Entry::Circuit);
         let number = !choice && r.entry != Entry::Name;
         if let Some(&(_, by)) = MOVES.iter().find(|(c, _)| *c == key.code) {
-            form.selected = form
-                .selected
-                .saturating_add_signed(by)
-                .min(rows.len() - 1);
+            form.selected = form.selected.saturating_add_signed(by).min(rows.len() - 1);
         } else {
             match key.code {
                 KeyCode::Esc => {
                     self.keep_sheet(form);
-                    return self.info("datasheet form left: stage unchanged (d reopens it as typed)");
+                    return self
+                        .info("datasheet form left: stage unchanged (d reopens it as typed)");
                 }
                 KeyCode::Enter | KeyCode::Left | KeyCode::Right if choice => form.switch(&r),
                 KeyCode::Enter => form.typing = Some(Field::offering(&form.edit_text(&r))),
@@ -552,25 +588,17 @@ impl App {
     /// A key while a row's value is typed: Enter takes it (or refuses it
     /// with the row, the text and why), Esc drops it.
     fn on_sheet_entry(&mut self, key: KeyEvent, mut form: Box<SheetForm>, mut field: Field) {
-        match keys::field_key(&key) {
-            FieldKey::Edit(FieldAction::Apply) => {
+        match entry_key(&key, &mut field) {
+            Some(Some(text)) => {
                 let rows = rows();
                 let r = rows[form.selected.min(rows.len() - 1)];
-                match form.enter(&r, &field.text()) {
+                match form.enter(&r, &text) {
                     Ok(msg) => self.info(msg),
                     Err(e) => self.error(e),
                 }
             }
-            FieldKey::Edit(FieldAction::Cancel) => self.info("entry dropped: the row is unchanged"),
-            FieldKey::Edit(a) => {
-                field.edit(a);
-                form.typing = Some(field);
-            }
-            FieldKey::Type(c) => {
-                field.insert(c);
-                form.typing = Some(field);
-            }
-            FieldKey::Ignore => form.typing = Some(field),
+            Some(None) => self.info("entry dropped: the row is unchanged"),
+            None => form.typing = Some(field),
         }
         self.mode = Mode::Sheet(form);
     }
@@ -579,9 +607,9 @@ impl App {
     /// from the file (a bad file is reported at file:line:column and the
     /// rows stay), Esc drops it.
     fn on_sheet_load(&mut self, key: KeyEvent, mut form: Box<SheetForm>, mut field: Field) {
-        match keys::field_key(&key) {
-            FieldKey::Edit(FieldAction::Apply) => {
-                let path = std::path::PathBuf::from(field.text().trim());
+        match entry_key(&key, &mut field) {
+            Some(Some(text)) => {
+                let path = std::path::PathBuf::from(text.trim());
                 match read_figures(&path) {
                     Ok(f) => {
                         let selected = form.selected;
@@ -603,16 +631,8 @@ impl App {
                     Err(e) => self.error(format!("{e} (form unchanged)")),
                 }
             }
-            FieldKey::Edit(FieldAction::Cancel) => self.info("no file read"),
-            FieldKey::Edit(a) => {
-                field.edit(a);
-                form.loading = Some(field);
-            }
-            FieldKey::Type(c) => {
-                field.insert(c);
-                form.loading = Some(field);
-            }
-            FieldKey::Ignore => form.loading = Some(field),
+            Some(None) => self.info("no file read"),
+            None => form.loading = Some(field),
         }
         self.mode = Mode::Sheet(form);
     }
