@@ -256,3 +256,38 @@ fn the_form_fits_80x24_and_120x40_in_utf8_and_ascii() {
         }
     }
 }
+
+#[test]
+fn the_test_circuit_rows_give_ro_from_the_closed_loop_output_impedance() {
+    let d = temp_dir("sheet-zout");
+    let mut a = app_in(&d, false);
+    a.on_key(key(KeyCode::Char('d')));
+    fill_example(&mut a);
+    // Issue 28's check: a0 = 1e5, |A| = 70 dB at 800 Hz (one pole:
+    // |A| = a0/√(1 + (f/fp1)²), so fp1 = f/√((a0/|A|)² − 1), gbw = a0·fp1),
+    // 0.5 Ω at 800 Hz in a non-inverting gain of 10 → ro = 158.1 Ω.
+    let a_mag = 10f64.powf(70.0 / 20.0);
+    let gbw = 1e5 * 800.0 / ((1e5 / a_mag).powi(2) - 1.0).sqrt();
+    for (figure, text) in [
+        ("unity", ""),
+        ("phase_margin", ""),
+        ("ro", ""),
+        ("gbw", &format!("{gbw:e}")),
+        ("zout.ohms", "0.5"),
+        ("zout.at", "800"),
+        ("zout.gain", "10"),
+    ] {
+        fill(&mut a, figure, text);
+    }
+    let ro = form(&a).derivation().unwrap().amp.ro;
+    assert!((ro - 158.1).abs() < 0.05, "{ro}");
+    // An inverting gain of −9 has the same β = 1/(1 + 9) = 1/10: the same ro.
+    fill(&mut a, "zout.gain", "9");
+    let i = sheet_rows().iter().position(|r| r.key == "zout.circuit").unwrap();
+    a.on_key(key(KeyCode::Home));
+    press(&mut a, KeyCode::Down, i);
+    a.on_key(key(KeyCode::Right));
+    assert!(form(&a).inverting);
+    let ro9 = form(&a).derivation().unwrap().amp.ro;
+    assert!((ro9 / ro - 1.0).abs() < 1e-12, "{ro9} vs {ro}");
+}
