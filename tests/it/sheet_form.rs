@@ -283,7 +283,10 @@ fn the_test_circuit_rows_give_ro_from_the_closed_loop_output_impedance() {
     assert!((ro - 158.1).abs() < 0.05, "{ro}");
     // An inverting gain of −9 has the same β = 1/(1 + 9) = 1/10: the same ro.
     fill(&mut a, "zout.gain", "9");
-    let i = sheet_rows().iter().position(|r| r.key == "zout.circuit").unwrap();
+    let i = sheet_rows()
+        .iter()
+        .position(|r| r.key == "zout.circuit")
+        .unwrap();
     a.on_key(key(KeyCode::Home));
     press(&mut a, KeyCode::Down, i);
     a.on_key(key(KeyCode::Right));
