@@ -199,6 +199,10 @@ impl SheetForm {
             Entry::Name => printable(&self.name),
             Entry::Take => ["typical", "maximum"][usize::from(self.take == Take::Maximum)].into(),
             Entry::Circuit => ["non-inverting", "inverting"][usize::from(self.inverting)].into(),
+            // Degrees stay on the number (68°), as the pane writes them.
+            _ if r.unit == "°" => self.values.get(r.key).map_or(String::new(), |v| {
+                fmt_eng_sig(*v, r.unit, 4).replace(" °", "°")
+            }),
             _ => self
                 .values
                 .get(r.key)
