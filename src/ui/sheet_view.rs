@@ -5,8 +5,7 @@
 //! scrolled into view), or why the figures give none; the keys under them.
 
 use super::app::{sheet_rows, App, SheetForm};
-use super::view::{field_spans, wrap_words};
-use super::widgets::block;
+use super::widgets::{block, field_spans, wrap_words};
 use crate::model::datasheet::Derivation;
 use crate::model::values::fmt_eng_sig;
 use ratatui::layout::{Constraint, Layout, Rect};
