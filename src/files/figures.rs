@@ -29,28 +29,35 @@ pub fn derive_text(text: &str, file: Option<&str>) -> Result<(Figures, Derivatio
     })?;
     // The derived model must be one a stage file accepts; a value out of
     // range is placed at the figure it came from.
-    let mut s = crate::files::load::demo();
-    s.amp = derivation.amp.clone();
-    if let Err(problems) = s.validate() {
-        if let Some(p) = problems.iter().find(|p| p.field.starts_with("amp.")) {
-            let field = &p.field["amp.".len()..];
-            let pos = sources(field)
-                .iter()
-                .find_map(|f| fields.iter().find(|x| x.path == *f));
-            return Err(ScenarioError {
-                file: file.map(str::to_string),
-                field: Some(pos.map_or(field.to_string(), |f| f.path.clone())),
-                line: Some(pos.map_or(1, |f| f.line)),
-                col: Some(pos.map_or(1, |f| f.col)),
-                message: format!("gives {}, which is not usable: {}", p.field, p.message),
-            });
-        }
+    if let Some((field, message)) = unusable(&derivation.amp) {
+        let pos = sources(&field)
+            .iter()
+            .find_map(|f| fields.iter().find(|x| x.path == *f));
+        return Err(ScenarioError {
+            file: file.map(str::to_string),
+            field: Some(pos.map_or(field.clone(), |f| f.path.clone())),
+            line: Some(pos.map_or(1, |f| f.line)),
+            col: Some(pos.map_or(1, |f| f.col)),
+            message,
+        });
     }
     Ok((figures, derivation))
 }
 
-/// The figures a model value is derived from (README table).
-fn sources(amp_field: &str) -> Vec<&str> {
+/// The first `amp` value a stage file would refuse, as its field (`ro`)
+/// and a message ("gives amp.ro, which is not usable: …").
+pub fn unusable(amp: &crate::model::scenario::Amp) -> Option<(String, String)> {
+    let mut s = crate::files::load::demo();
+    s.amp = amp.clone();
+    let problems = s.validate().err()?;
+    let p = problems.iter().find(|p| p.field.starts_with("amp."))?;
+    let message = format!("gives {}, which is not usable: {}", p.field, p.message);
+    Some((p.field["amp.".len()..].to_string(), message))
+}
+
+/// The figures a model value is derived from (README table), by their
+/// top-level name in the figures file.
+pub fn sources(amp_field: &str) -> Vec<&str> {
     match amp_field {
         "a0" => vec!["gain_db", "a0"],
         "gbw" => vec!["gbw", "unity", "phase_margin"],
@@ -63,6 +70,18 @@ fn sources(amp_field: &str) -> Vec<&str> {
         "cm_neg" | "cm_pos" => vec!["input_range"],
         other => vec![other],
     }
+}
+
+/// Read a figures file without deriving (the workbench's form fills its
+/// rows from it; the figures need not be complete).
+pub fn read_figures(path: &Path) -> Result<Figures, ScenarioError> {
+    let name = path.display().to_string();
+    let text = read(path, &name)?;
+    let text = text.strip_prefix('\u{feff}').unwrap_or(&text);
+    let fields = field_positions(text);
+    ron_options()
+        .from_str(text)
+        .map_err(|e| ron_error(&e, &fields, Some(&name)))
 }
 
 /// Read a figures file and derive the model.

@@ -570,31 +570,40 @@ fn copied(
     Ok(Some(x))
 }
 
-/// Derive the `amp` block from datasheet figures.
-pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
-    let mut out = Vec::new();
-    let mut put = |field: &'static str, value: f64, how: String| {
-        out.push(Derived { field, value, how });
-    };
-    // a0
-    let a0 = match one_of("gain_db", f.gain_db, "a0", f.a0)? {
+/// Record one derived value with its formula and inputs.
+fn put(out: &mut Vec<Derived>, field: &'static str, value: f64, how: impl Into<String>) {
+    out.push(Derived {
+        field,
+        value,
+        how: how.into(),
+    });
+}
+
+/// The open-loop gain: `gain_db` or `a0` → a0.
+fn derive_a0(f: &Figures, out: &mut Vec<Derived>) -> Result<f64, Problem> {
+    match one_of("gain_db", f.gain_db, "a0", f.a0)? {
         Some((true, db)) => {
             let a0 = a0_from_db(db);
-            put("a0", a0, format!("10^(dB/20): open-loop gain {db} dB"));
-            a0
+            put(out, "a0", a0, format!("10^(dB/20): open-loop gain {db} dB"));
+            Ok(a0)
         }
         Some((false, a0)) => {
-            put("a0", a0, "as given".into());
-            a0
+            put(out, "a0", a0, "as given");
+            Ok(a0)
         }
-        None => {
-            return Err(Problem::new(
-                "gain_db",
-                "missing: the open-loop gain (`gain_db` or `a0`)",
-            ))
-        }
-    };
-    // gbw, fp2
+        None => Err(Problem::new(
+            "gain_db",
+            "missing: the open-loop gain (`gain_db` or `a0`)",
+        )),
+    }
+}
+
+/// The gain-bandwidth and second pole: `gbw` or `unity`, with
+/// `phase_margin` or `fp2` → gbw, fp2, and which of gbw and f_u was given.
+fn derive_poles(
+    f: &Figures,
+    out: &mut Vec<Derived>,
+) -> Result<(f64, Option<f64>, &'static str), Problem> {
     let pm = f.phase_margin.map(|p| p.0);
     let crossing = one_of("gbw", f.gbw, "unity", f.unity)?;
     let Some((gbw_given, freq)) = crossing else {
@@ -610,70 +619,57 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         ));
     }
     let given = if gbw_given { "gbw" } else { "f_u" };
-    let (gbw, fp2) = match (pm, gbw_given) {
-        (Some(pm), true) => {
-            let p = poles_from_gbw(freq, pm)?;
-            put(
-                "gbw",
-                p.gbw,
-                format!(
-                    "as given (gbw given; crossing f_u = gbw·sin PM = {})",
-                    hz(p.f_u)
-                ),
-            );
-            put(
-                "fp2",
-                p.fp2,
-                format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(p.f_u)),
-            );
-            (p.gbw, Some(p.fp2))
+    let Some(pm) = pm else {
+        let how = if gbw_given {
+            "as given (gbw given)".to_string()
+        } else {
+            format!("= f_u = {} given (one pole: gbw = f_u)", hz(freq))
+        };
+        put(out, "gbw", freq, how);
+        if let Some(p2) = f.fp2 {
+            put(out, "fp2", p2.0, "as given");
         }
-        (Some(pm), false) => {
-            let p = poles_from_crossing(freq, pm)?;
-            put(
-                "gbw",
-                p.gbw,
-                format!(
-                    "f_u·√(1 + (f_u/fp2)²): f_u = {} given, fp2 = {}",
-                    hz(freq),
-                    hz(p.fp2)
-                ),
-            );
-            put(
-                "fp2",
-                p.fp2,
-                format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(freq)),
-            );
-            (p.gbw, Some(p.fp2))
-        }
-        (None, _) => {
-            let how = if gbw_given {
-                "as given (gbw given)".to_string()
-            } else {
-                format!("= f_u = {} given (one pole: gbw = f_u)", hz(freq))
-            };
-            put("gbw", freq, how);
-            if let Some(p2) = f.fp2 {
-                put("fp2", p2.0, "as given".into());
-            }
-            (freq, f.fp2.map(|p| p.0))
-        }
+        return Ok((freq, f.fp2.map(|p| p.0), given));
     };
-    if !(a0.is_finite() && a0 > 1.0) {
-        return Err(Problem::new(
-            if f.a0.is_some() { "a0" } else { "gain_db" },
-            format!("an open-loop gain of {a0} is not above 1"),
-        ));
-    }
-    // rin, cin
+    let p = if gbw_given {
+        poles_from_gbw(freq, pm)?
+    } else {
+        poles_from_crossing(freq, pm)?
+    };
+    let gbw_how = if gbw_given {
+        format!(
+            "as given (gbw given; crossing f_u = gbw·sin PM = {})",
+            hz(p.f_u)
+        )
+    } else {
+        format!(
+            "f_u·√(1 + (f_u/fp2)²): f_u = {} given, fp2 = {}",
+            hz(freq),
+            hz(p.fp2)
+        )
+    };
+    put(out, "gbw", p.gbw, gbw_how);
+    put(
+        out,
+        "fp2",
+        p.fp2,
+        format!("f_u/tan(90° − PM): f_u = {}, PM = {pm}°", hz(p.f_u)),
+    );
+    Ok((p.gbw, Some(p.fp2), given))
+}
+
+/// The input resistance and capacitance: `rin`; `cin` or `cin_cm` and
+/// `cin_diff` → cin per pin.
+fn derive_inputs(
+    f: &Figures,
+    out: &mut Vec<Derived>,
+) -> Result<(Option<f64>, Option<f64>), Problem> {
     let rin = f.rin.map(|r| r.0);
     if let Some(r) = rin {
-        put("rin", r, "as given".into());
+        put(out, "rin", r, "as given");
     }
-    let cin = match (
-        f.cin,
-        f.cin_cm.or(f.cin_diff).map(|_| (f.cin_cm, f.cin_diff)),
-    ) {
+    let split = f.cin_cm.or(f.cin_diff).map(|_| (f.cin_cm, f.cin_diff));
+    let cin = match (f.cin, split) {
         (Some(_), Some(_)) => {
             return Err(Problem::new(
                 "cin",
@@ -681,13 +677,14 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
             ))
         }
         (Some(c), None) => {
-            put("cin", c.0, "as given".into());
+            put(out, "cin", c.0, "as given");
             Some(c.0)
         }
         (None, Some((cm, diff))) => {
             let (cm, diff) = (cm.map_or(0.0, |c| c.0), diff.map_or(0.0, |c| c.0));
             let c = cin_per_pin(cm, diff);
             put(
+                out,
                 "cin",
                 c,
                 format!(
@@ -700,12 +697,21 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         }
         (None, None) => None,
     };
-    // ro
-    let ro = match (f.ro, f.zout) {
-        (Some(_), Some(_)) => return Err(Problem::new("zout", "give `ro` or `zout`, not both")),
+    Ok((rin, cin))
+}
+
+/// The output resistance: `ro`, or `zout` in its test circuit with the
+/// model's complex A(jf) → ro.
+fn derive_ro(
+    f: &Figures,
+    (a0, gbw, fp2): (f64, f64, Option<f64>),
+    out: &mut Vec<Derived>,
+) -> Result<f64, Problem> {
+    match (f.ro, f.zout) {
+        (Some(_), Some(_)) => Err(Problem::new("zout", "give `ro` or `zout`, not both")),
         (Some(r), None) => {
-            put("ro", r.0, "as given".into());
-            r.0
+            put(out, "ro", r.0, "as given");
+            Ok(r.0)
         }
         (None, Some(z)) => {
             let circuit = match z.circuit {
@@ -715,6 +721,7 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
             let beta = circuit.beta()?;
             let ro = ro_from_closed_loop(z.ohms.0, z.at.0, circuit, a0, gbw, fp2)?;
             put(
+                out,
                 "ro",
                 ro,
                 format!(
@@ -726,95 +733,157 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
                     z.gain.0
                 ),
             );
-            ro
+            Ok(ro)
         }
-        (None, None) => return Err(Problem::new("ro", "missing: `ro`, or `zout` (the closed-loop output impedance at a frequency in a test circuit)")),
+        (None, None) => Err(Problem::new("ro", "missing: `ro`, or `zout` (the closed-loop output impedance at a frequency in a test circuit)")),
+    }
+}
+
+/// The voltage and current noise (both required) → white levels and
+/// corners.
+fn derive_noise(f: &Figures, out: &mut Vec<Derived>) -> Result<(Noise, Noise), Problem> {
+    let mut one = |field: &'static str,
+                   corner: &'static str,
+                   n: Option<&NoiseFigures>,
+                   what: &str,
+                   unit: &str| {
+        let n = n.ok_or_else(|| Problem::new(field, format!("missing: the {what} `{field}`")))?;
+        let (r, how) = noise(field, n, unit)?;
+        put(out, field, r.white, how.clone());
+        if let Some(c) = r.corner {
+            put(out, corner, c, how);
+        }
+        Ok::<Noise, Problem>(r)
     };
-    // noise
-    let vn = f
-        .vnoise
-        .as_ref()
-        .ok_or_else(|| Problem::new("vnoise", "missing: the voltage noise `vnoise`"))?;
-    let (v, vhow) = noise("vnoise", vn, "V/√Hz")?;
-    put("vnoise", v.white, vhow.clone());
-    if let Some(c) = v.corner {
-        put("vnoise_corner", c, vhow);
+    let v = one(
+        "vnoise",
+        "vnoise_corner",
+        f.vnoise.as_ref(),
+        "voltage noise",
+        "V/√Hz",
+    )?;
+    let i = one(
+        "inoise",
+        "inoise_corner",
+        f.inoise.as_ref(),
+        "current noise",
+        "A/√Hz",
+    )?;
+    Ok((v, i))
+}
+
+/// The output swing at a load → swing_neg, swing_pos and swing_load.
+#[allow(clippy::type_complexity)]
+fn derive_swing(
+    f: &Figures,
+    out: &mut Vec<Derived>,
+) -> Result<(Option<f64>, Option<f64>, Option<f64>), Problem> {
+    let Some(s) = f.swing else {
+        return Ok((None, None, None));
+    };
+    let load = s
+        .load
+        .map(|l| format!(" at a {} load (swing_load)", fmt_eng_sig(l.0, "Ω", 4)))
+        .unwrap_or_else(|| " (no load given)".into());
+    if let Some(l) = s.load {
+        put(
+            out,
+            "swing_load",
+            l.0,
+            "as given: the load the swing was specified into, returned to mid-supply",
+        );
     }
-    let inn = f
-        .inoise
-        .as_ref()
-        .ok_or_else(|| Problem::new("inoise", "missing: the current noise `inoise`"))?;
-    let (i, ihow) = noise("inoise", inn, "A/√Hz")?;
-    put("inoise", i.white, ihow.clone());
-    if let Some(c) = i.corner {
-        put("inoise_corner", c, ihow);
+    let (n, p, how) =
+        match (s.neg, s.pos, s.low, s.high, s.supply) {
+            (Some(n), Some(p), None, None, None) => (n.0, p.0, format!("as given{load}")),
+            (None, None, Some(lo), Some(hi), Some((sn, sp))) => {
+                let (n, p) = swing_from_levels(lo.0, hi.0, (sn.0, sp.0))?;
+                (
+                    n,
+                    p,
+                    format!(
+                        "rail − level: output {} V … {} V on {} V … {} V{load}",
+                        lo.0, hi.0, sn.0, sp.0
+                    ),
+                )
+            }
+            _ => return Err(Problem::new(
+                "swing",
+                "give `neg` and `pos` (the distance to each rail), or `low`, `high` and `supply`",
+            )),
+        };
+    put(out, "swing_neg", n, how.clone());
+    put(out, "swing_pos", p, how);
+    Ok((Some(n), Some(p), s.load.map(|l| l.0)))
+}
+
+/// The input common-mode range → cm_neg and cm_pos.
+fn derive_input_range(f: &Figures, out: &mut Vec<Derived>) -> (Option<f64>, Option<f64>) {
+    let Some(r) = f.input_range else {
+        return (None, None);
+    };
+    put(
+        out,
+        "cm_neg",
+        r.neg.0,
+        "as given (inside the negative rail)",
+    );
+    put(
+        out,
+        "cm_pos",
+        r.pos.0,
+        "as given (inside the positive rail)",
+    );
+    (Some(r.neg.0), Some(r.pos.0))
+}
+
+/// The `amp` fields in the scenario's order (the block prints in it).
+const ORDER: [&str; 21] = [
+    "a0",
+    "gbw",
+    "fp2",
+    "rin",
+    "cin",
+    "ro",
+    "vnoise",
+    "vnoise_corner",
+    "inoise",
+    "inoise_corner",
+    "vos",
+    "vos_drift",
+    "ib",
+    "ios",
+    "slew",
+    "swing_neg",
+    "swing_pos",
+    "swing_load",
+    "cm_neg",
+    "cm_pos",
+    "iout",
+];
+
+/// Derive the `amp` block from datasheet figures: each group of figures
+/// by its own function, in the order the messages are checked.
+pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
+    let mut out = Vec::new();
+    let a0 = derive_a0(f, &mut out)?;
+    let (gbw, fp2, given) = derive_poles(f, &mut out)?;
+    if !(a0.is_finite() && a0 > 1.0) {
+        return Err(Problem::new(
+            if f.a0.is_some() { "a0" } else { "gain_db" },
+            format!("an open-loop gain of {a0} is not above 1"),
+        ));
     }
-    // copied figures
+    let (rin, cin) = derive_inputs(f, &mut out)?;
+    let ro = derive_ro(f, (a0, gbw, fp2), &mut out)?;
+    let (v, i) = derive_noise(f, &mut out)?;
     let vos = copied(&mut out, "vos", f.vos, f.take)?;
     let vos_drift = copied(&mut out, "vos_drift", f.vos_drift, f.take)?;
     let ib = copied(&mut out, "ib", f.ib, f.take)?;
     let ios = copied(&mut out, "ios", f.ios, f.take)?;
     let slew = copied(&mut out, "slew", f.slew, f.take)?;
-    // swing
-    let mut swing_load = None;
-    let (swing_neg, swing_pos) = match f.swing {
-        None => (None, None),
-        Some(s) => {
-            let load = s
-                .load
-                .map(|l| format!(" at a {} load (swing_load)", fmt_eng_sig(l.0, "Ω", 4)))
-                .unwrap_or_else(|| " (no load given)".into());
-            if let Some(l) = s.load {
-                swing_load = Some(l.0);
-                out.push(Derived {
-                    field: "swing_load",
-                    value: l.0,
-                    how: "as given: the load the swing was specified into, returned to mid-supply"
-                        .into(),
-                });
-            }
-            let (n, p, how) = match (s.neg, s.pos, s.low, s.high, s.supply) {
-                (Some(n), Some(p), None, None, None) => (n.0, p.0, format!("as given{load}")),
-                (None, None, Some(lo), Some(hi), Some((sn, sp))) => {
-                    let (n, p) = swing_from_levels(lo.0, hi.0, (sn.0, sp.0))?;
-                    (n, p, format!("rail − level: output {} V … {} V on {} V … {} V{load}", lo.0, hi.0, sn.0, sp.0))
-                }
-                _ => {
-                    return Err(Problem::new(
-                        "swing",
-                        "give `neg` and `pos` (the distance to each rail), or `low`, `high` and `supply`",
-                    ))
-                }
-            };
-            out.push(Derived {
-                field: "swing_neg",
-                value: n,
-                how: how.clone(),
-            });
-            out.push(Derived {
-                field: "swing_pos",
-                value: p,
-                how,
-            });
-            (Some(n), Some(p))
-        }
-    };
-    let (cm_neg, cm_pos) = match f.input_range {
-        Some(r) => {
-            out.push(Derived {
-                field: "cm_neg",
-                value: r.neg.0,
-                how: "as given (inside the negative rail)".into(),
-            });
-            out.push(Derived {
-                field: "cm_pos",
-                value: r.pos.0,
-                how: "as given (inside the positive rail)".into(),
-            });
-            (Some(r.neg.0), Some(r.pos.0))
-        }
-        None => (None, None),
-    };
+    let (swing_neg, swing_pos, swing_load) = derive_swing(f, &mut out)?;
+    let (cm_neg, cm_pos) = derive_input_range(f, &mut out);
     let iout = copied(&mut out, "iout", f.iout, f.take)?;
     let amp = Amp {
         a0,
@@ -842,30 +911,6 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         ib_doubling: None,
         ..Amp::default()
     };
-    // Print in the scenario's field order.
-    const ORDER: [&str; 21] = [
-        "a0",
-        "gbw",
-        "fp2",
-        "rin",
-        "cin",
-        "ro",
-        "vnoise",
-        "vnoise_corner",
-        "inoise",
-        "inoise_corner",
-        "vos",
-        "vos_drift",
-        "ib",
-        "ios",
-        "slew",
-        "swing_neg",
-        "swing_pos",
-        "swing_load",
-        "cm_neg",
-        "cm_pos",
-        "iout",
-    ];
     out.sort_by_key(|d| ORDER.iter().position(|o| *o == d.field));
     Ok(Derivation {
         amp,

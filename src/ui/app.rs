@@ -20,9 +20,11 @@ use std::path::{Path, PathBuf};
 mod cursor;
 mod helper_lists;
 mod part_list;
+mod sheet_form;
 use helper_lists::{list_key, ListKey};
 pub use helper_lists::{Choices, Pick};
 pub use part_list::{changed_text, PartList, SaveTarget};
+pub use sheet_form::{rows as sheet_rows, Entry as SheetEntry, Row as SheetRow, SheetForm};
 
 /// Which plot the upper right panel shows: a view of the registry that
 /// the workbench shows (`v` steps through them).
@@ -163,8 +165,6 @@ pub enum Prompt {
     Gain,
     /// The name the amplifier is saved under as a part.
     PartName,
-    /// A datasheet-figures file the amplifier is derived from.
-    Figures,
 }
 
 impl Prompt {
@@ -176,7 +176,6 @@ impl Prompt {
             Prompt::Title => "title",
             Prompt::Gain => "target gain",
             Prompt::PartName => "part name",
-            Prompt::Figures => "datasheet figures file",
         }
     }
 }
@@ -202,6 +201,8 @@ pub enum Mode {
     PartWhere(Box<crate::model::part::Part>),
     /// The part's file exists: replace it?
     PartReplace(Box<SaveTarget>),
+    /// The datasheet form (`d`).
+    Sheet(Box<SheetForm>),
     /// Choosing from a design helper's list (resistor pairs, stabilising
     /// options).
     Choose(Choices),
@@ -287,6 +288,11 @@ pub struct App {
     pub last_part: Option<crate::model::part::Part>,
     /// Where the Bode view is too short for all its plots, the one shown.
     pub short_plot: ShortPlot,
+    /// The datasheet form as last left (`d` reopens it).
+    pub sheet_draft: Option<Box<SheetForm>>,
+    /// The part `A` of the datasheet form is saving (its name still to
+    /// be typed); None when `A` saves the stage's amplifier.
+    pub pending_part: Option<crate::model::part::Part>,
     /// The gain view over its full range instead of the zoomed one.
     pub full_range: bool,
     /// The spread view's background Monte Carlo of the edited stage.
@@ -368,6 +374,8 @@ impl App {
             user_parts: None,
             last_part: None,
             short_plot: ShortPlot::Magnitude,
+            sheet_draft: None,
+            pending_part: None,
             full_range: false,
             spread: Default::default(),
             tightening: Default::default(),
@@ -626,7 +634,6 @@ impl App {
                         }
                         Prompt::Gain => self.list_pairs(&text),
                         Prompt::PartName => self.part_named(&text),
-                        Prompt::Figures => self.figures_entered(&text),
                     }
                 }
             }
@@ -638,6 +645,7 @@ impl App {
             Mode::Parts(list) => self.on_parts_key(key, list),
             Mode::PartWhere(part) => self.on_part_where_key(key, part),
             Mode::PartReplace(target) => self.on_part_replace_key(key, target),
+            Mode::Sheet(form) => self.on_sheet_key(key, form),
             Mode::Choose(list) => self.on_choose_key(key, list),
         }
     }
@@ -759,7 +767,7 @@ impl App {
             }
             Action::PickArchetype => self.start_pick(),
             Action::SavePart => self.start_save_part(),
-            Action::FromFigures => self.start_figures(),
+            Action::FromFigures => self.start_sheet(),
             Action::ResistorPairs => self.start_pairs(),
             Action::StabilizeOptions => self.list_fixes(),
             Action::TightenOptions => self.list_tightening(),

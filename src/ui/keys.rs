@@ -214,7 +214,7 @@ pub const KEYS: &[Binding] = &[
         keys: &[k('a')],
         shown: "a, A, d",
         action: Action::PickArchetype,
-        help: "a: pick a part · A: save it as one · d: datasheet file",
+        help: "a: pick a part · A: save it as one · d: datasheet form",
         hint: None,
     },
     Binding {

@@ -7,6 +7,7 @@ pub mod keys;
 pub mod part_list_view;
 pub mod plot;
 pub mod readout;
+pub mod sheet_view;
 pub mod spread_job;
 pub mod spread_view;
 pub mod theme;

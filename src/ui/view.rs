@@ -4,14 +4,13 @@ use super::app::{App, Choices, Mode, ShortPlot, Slot, ViewId};
 use super::field::Field;
 use super::keys;
 use super::plot::{decade_label, nice_linear, nice_log, Joining, LogPlot, Stroke, Trace, VMark};
-pub use super::widgets::{block, compact, fitted};
+use super::widgets::{block, compact, field_spans, fitted, wrap_words};
 use crate::judge::figures::{key_figures, row_figures, Figure, Reading, Section, Unit};
 use crate::judge::Severity;
 use crate::model::params::Group;
 use crate::model::values::{fmt_eng, fmt_fixed, spelled};
 use crate::output::views::MarkKind;
 use ratatui::layout::{Constraint, Layout, Rect};
-use ratatui::style::Modifier;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, Borders, Clear, Paragraph, Widget};
 use ratatui::Frame;
@@ -105,6 +104,7 @@ pub fn render(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         } => open_overlay(app, area, buf, files, *selected, typed),
         Mode::Choose(list) => choose_overlay(app, area, buf, list),
         Mode::Parts(list) => super::part_list_view::draw(app, area, buf, list),
+        Mode::Sheet(form) => super::sheet_view::draw(app, area, buf, form),
         _ => {}
     }
     if app.theme.ascii {
@@ -155,28 +155,6 @@ fn asciify(area: Rect, buf: &mut ratatui::buffer::Buffer) {
             }
         }
     }
-}
-
-/// A text field: an offered old value underlined (typing replaces it),
-/// otherwise the text with the cursor cell in `cursor` style (`_` at the
-/// end).
-fn field_spans(
-    field: &Field,
-    base: ratatui::style::Style,
-    cursor: ratatui::style::Style,
-) -> Vec<Span<'static>> {
-    if field.offered() {
-        return vec![
-            Span::styled(field.text(), base.add_modifier(Modifier::UNDERLINED)),
-            Span::styled("_", cursor),
-        ];
-    }
-    let (before, at, after) = field.parts();
-    vec![
-        Span::styled(before, base),
-        Span::styled(at.map_or("_".to_string(), String::from), cursor),
-        Span::styled(after, base),
-    ]
 }
 
 /// The top line: each stage's label, file and an "edited" mark, the
@@ -1728,25 +1706,6 @@ fn list_overlay(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer, list: 
         lines.push(Line::styled(format!("  {part}"), app.theme.dim));
     }
     Paragraph::new(lines).render(inner, buf);
-}
-
-/// Text broken at spaces into lines of at most `width` characters (a word
-/// longer than that gets a line of its own); at least one line.
-pub fn wrap_words(text: &str, width: usize) -> Vec<String> {
-    let mut out: Vec<String> = Vec::new();
-    let mut line = String::new();
-    for word in text.split(' ').filter(|w| !w.is_empty()) {
-        let need = line.chars().count() + usize::from(!line.is_empty()) + word.chars().count();
-        if !line.is_empty() && need > width.max(1) {
-            out.push(std::mem::take(&mut line));
-        }
-        if !line.is_empty() {
-            line.push(' ');
-        }
-        line.push_str(word);
-    }
-    out.push(line);
-    out
 }
 
 /// What [`list_overlay`] draws.

@@ -1,9 +1,12 @@
 //! Small pieces every pane draws with: a bordered block in the theme's
-//! style, and compact value text for table cells.
+//! style, compact value text for table cells, a text field's spans and
+//! words wrapped to a width.
 
 use super::app::App;
+use super::field::Field;
 use crate::model::values::fmt_eng;
-use ratatui::text::Line;
+use ratatui::style::Modifier;
+use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, Borders};
 
 /// A bordered block with a title, in the theme's style.
@@ -58,4 +61,45 @@ pub fn fitted(text: &str, width: u16) -> String {
     } else {
         format!(" {out} ")
     }
+}
+
+/// A text field: an offered old value underlined (typing replaces it),
+/// otherwise the text with the cursor cell in `cursor` style (`_` at the
+/// end).
+pub fn field_spans(
+    field: &Field,
+    base: ratatui::style::Style,
+    cursor: ratatui::style::Style,
+) -> Vec<Span<'static>> {
+    if field.offered() {
+        return vec![
+            Span::styled(field.text(), base.add_modifier(Modifier::UNDERLINED)),
+            Span::styled("_", cursor),
+        ];
+    }
+    let (before, at, after) = field.parts();
+    vec![
+        Span::styled(before, base),
+        Span::styled(at.map_or("_".to_string(), String::from), cursor),
+        Span::styled(after, base),
+    ]
+}
+
+/// Text broken at spaces into lines of at most `width` characters (a word
+/// longer than that gets a line of its own); at least one line.
+pub fn wrap_words(text: &str, width: usize) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    let mut line = String::new();
+    for word in text.split(' ').filter(|w| !w.is_empty()) {
+        let need = line.chars().count() + usize::from(!line.is_empty()) + word.chars().count();
+        if !line.is_empty() && need > width.max(1) {
+            out.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    out.push(line);
+    out
 }

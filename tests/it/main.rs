@@ -38,6 +38,7 @@ mod report_cli;
 mod saves;
 mod scenario_files;
 mod screen_fit;
+mod sheet_form;
 mod spread;
 mod spread_ui;
 mod stability;

@@ -219,9 +219,12 @@ fn d_derives_the_amplifier_from_a_figures_file_and_keeps_the_formulas_as_notes()
     )
     .unwrap();
     let mut a = app_in(&d);
+    // `d` opens the datasheet form; `o` fills it from a file, `a` applies.
     a.on_key(key(KeyCode::Char('d')));
+    a.on_key(key(KeyCode::Char('o')));
     type_text(&mut a, &figs.display().to_string());
     a.on_key(key(KeyCode::Enter));
+    a.on_key(key(KeyCode::Char('a')));
     // Issue 28: 68° at 1 MHz gives fp2 = 2.475 MHz and gbw = 1.0785 MHz.
     let amp = &a.slot().scenario.amp;
     assert!((amp.fp2.unwrap() / 2.475e6 - 1.0).abs() < 1e-3, "{amp:?}");
@@ -245,8 +248,12 @@ fn d_derives_the_amplifier_from_a_figures_file_and_keeps_the_formulas_as_notes()
     std::fs::write(&figs, "(gain_db: 100, unity: \"1M\",\n phase_margin: 95, ro: 50, vnoise: (white: \"10n\"), inoise: (white: \"1p\"))").unwrap();
     let before = a.slot().scenario.amp.clone();
     a.on_key(key(KeyCode::Char('d')));
+    a.on_key(key(KeyCode::Char('o')));
     type_text(&mut a, &figs.display().to_string());
     a.on_key(key(KeyCode::Enter));
     assert_eq!(a.slot().scenario.amp, before);
     assert!(a.status.contains("figs.ron:2:2:"), "{}", a.status);
+    // Applying it anyway is refused; the amplifier stays.
+    a.on_key(key(KeyCode::Char('a')));
+    assert_eq!(a.slot().scenario.amp, before);
 }

@@ -497,3 +497,49 @@ fn pick_a_part_by_typing_and_save_one_at_80x24() {
     let done = wait_for(&s.0, "EXIT=").expect("process exits");
     assert!(done.contains("EXIT=0"), "{done}");
 }
+
+#[test]
+fn the_datasheet_form_in_a_real_terminal_at_80x24() {
+    let d = temp_dir("e2e-sheet");
+    std::fs::write(
+        d.join("figs.ron"),
+        "(part: \"sheet amp\", gain_db: 100, unity: \"1M\", phase_margin: 68, ro: 50,\n vnoise: (white: \"10n\"), inoise: (white: \"1p\"))",
+    )
+    .unwrap();
+    std::fs::write(
+        d.join("stage.ron"),
+        loopwright::files::load::demo().to_ron(),
+    )
+    .unwrap();
+    let Some(s) = start_in("lw_e2e_sheet", &d, "", "stage.ron") else {
+        return;
+    };
+    tmux(&["resize-window", "-t", &s.0, "-x", "80", "-y", "24"]);
+    wait_for(&s.0, "Parameters").expect("workbench starts");
+    tmux(&["send-keys", "-t", &s.0, "d"]);
+    wait_for(&s.0, "Amplifier from datasheet figures").expect("the form opens");
+    tmux(&["send-keys", "-t", &s.0, "o"]);
+    tmux(&["send-keys", "-t", &s.0, "-l", "figs.ron"]);
+    tmux(&["send-keys", "-t", &s.0, "Enter"]);
+    let filled = wait_for(&s.0, "the amplifier, live").expect("filled from the file");
+    // fp2 = 1 MHz/tan(90° − 68°) = 2.475 MHz (issue 28's check).
+    assert!(filled.contains("fp2 = 2.475 MHz"), "{filled}");
+    // The phase margin row (the seventh): 95° is refused by the model.
+    for _ in 0..6 {
+        tmux(&["send-keys", "-t", &s.0, "Down"]);
+    }
+    tmux(&["send-keys", "-t", &s.0, "-l", "95"]);
+    tmux(&["send-keys", "-t", &s.0, "Enter"]);
+    let refused = wait_for(&s.0, "more than the").expect("no amplifier at 95°");
+    assert!(refused.contains("phase_margin: 95°"), "{refused}");
+    tmux(&["send-keys", "-t", &s.0, "-l", "60"]);
+    tmux(&["send-keys", "-t", &s.0, "Enter"]);
+    // 1 MHz/tan 30° = 1.732 MHz.
+    wait_for(&s.0, "fp2 = 1.732 MHz").expect("derived again");
+    tmux(&["send-keys", "-t", &s.0, "a"]);
+    let set = wait_for(&s.0, "sheet amp set").expect("applied");
+    assert!(set.contains("changed"), "{set}");
+    tmux(&["send-keys", "-t", &s.0, "C-c"]);
+    let done = wait_for(&s.0, "EXIT=").expect("process exits");
+    assert!(done.contains("EXIT=0"), "{done}");
+}

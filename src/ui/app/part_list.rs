@@ -160,7 +160,7 @@ impl App {
 
     /// Set every amplifier field from a part, as one undoable change, and
     /// say which fields changed.
-    fn apply_part(&mut self, part: Part) {
+    pub(super) fn apply_part(&mut self, part: Part) {
         let before = self.slot().scenario.clone();
         let amp = part.amp.clone();
         if !self.apply_change("amplifier", |s| {
@@ -189,6 +189,7 @@ impl App {
             .as_ref()
             .map(|p| p.name.clone())
             .unwrap_or_default();
+        self.pending_part = None;
         self.mode = Mode::Prompt(Prompt::PartName, Field::offering(&offer));
         self.info("save the amplifier as a part: type its name; Enter goes on, Esc cancels");
     }
@@ -198,6 +199,11 @@ impl App {
         let name = name.trim();
         if name.is_empty() {
             return self.error("a part needs a name (not saved)");
+        }
+        if let Some(part) = self.pending_part.take() {
+            // `A` of the datasheet form: the derived amplifier and its notes.
+            let name = name.to_string();
+            return self.ask_part_place(Part { name, ..part });
         }
         let s = &self.slot().scenario;
         // Notes of the last applied part stay with the values they were about.
@@ -231,6 +237,11 @@ impl App {
             amp: s.amp.clone(),
             notes,
         };
+        self.ask_part_place(part);
+    }
+
+    /// Ask where the part goes: project or user library.
+    fn ask_part_place(&mut self, part: Part) {
         self.mode = Mode::PartWhere(Box::new(part));
         let user = match &self.user_parts {
             Some(d) => crate::model::values::printable(&d.display().to_string()),
@@ -290,46 +301,6 @@ impl App {
                 self.last_part = Some(t.part);
             }
             Err(e) => self.error(format!("part not saved: {e}")),
-        }
-    }
-
-    /// `d`: ask for a datasheet-figures file (README "Amplifier models
-    /// from datasheet figures").
-    pub(super) fn start_figures(&mut self) {
-        self.mode = Mode::Prompt(Prompt::Figures, Field::offering(""));
-        self.info(
-            "datasheet figures: type the file's path; Enter derives and applies, Esc cancels",
-        );
-    }
-
-    /// Derive the amplifier from a figures file and apply it like a part;
-    /// each value's formula and inputs become its note (kept by `A`).
-    pub(super) fn figures_entered(&mut self, text: &str) {
-        let path = std::path::Path::new(text.trim());
-        match crate::files::figures::derive_file(path) {
-            Err(e) => self.error(format!("{e} (amplifier unchanged)")),
-            Ok((figures, d)) => {
-                let name = figures.part.clone().unwrap_or_else(|| {
-                    path.file_stem()
-                        .map_or("from figures".into(), |s| s.to_string_lossy().into_owned())
-                });
-                let notes = d
-                    .values
-                    .iter()
-                    .map(|v| {
-                        (
-                            v.field.to_string(),
-                            format!("{}: {}", path.display(), v.how),
-                        )
-                    })
-                    .collect();
-                self.apply_part(Part {
-                    name,
-                    class: String::new(),
-                    amp: d.amp,
-                    notes,
-                });
-            }
         }
     }
 }
