@@ -35,6 +35,9 @@ pub struct Point {
     pub gain: C64,
     /// Loop gain (return ratio of the controlled source).
     pub loop_gain: C64,
+    /// The amplifier's open-loop gain A(f) as modelled (a0 and its
+    /// poles): with the loop gain T, the noise gain 1/β = A/T.
+    pub open_loop: C64,
     /// Output impedance at the load terminal, load removed, riso included
     /// (source EMF shorted, its r in place).
     pub zout: C64,
@@ -70,6 +73,13 @@ pub struct Signals {
 impl Point {
     pub fn noise_density(&self) -> f64 {
         self.noise_psd.iter().sum::<f64>().sqrt()
+    }
+
+    /// The noise gain 1/β = A/T: the gain the loop closes to, where the
+    /// open-loop gain |A| and it meet the loop gain is 1 (NaN without a
+    /// loop).
+    pub fn noise_gain(&self) -> C64 {
+        self.open_loop / self.loop_gain
     }
 }
 
@@ -159,6 +169,7 @@ impl Circuit {
             f_hz,
             gain: ZERO,
             loop_gain: ZERO,
+            open_loop: ZERO,
             zout: ZERO,
             zout_pin: ZERO,
             zin: None,
@@ -319,6 +330,7 @@ impl Circuit {
             f_hz,
             gain,
             loop_gain,
+            open_loop: net.open_loop(s),
             zout,
             zout_pin,
             zin,

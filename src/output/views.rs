@@ -141,6 +141,24 @@ fn response_curves(t: &Traces) -> Vec<Curve> {
     c
 }
 
+/// The loop gain T and its phase, with the amplifier's open-loop gain |A|
+/// and the noise gain |1/β| = |A/T|: T in dB is the gap between the two,
+/// and the rate at which they close is the margin.
+fn loop_curves(t: &Traces) -> Vec<Curve> {
+    vec![
+        curve("loop gain |T|", false, &t.loop_db),
+        curve("loop phase", true, &t.loop_phase),
+        Curve {
+            tone: 1,
+            ..curve("open-loop gain |A|", false, &t.open_loop_db)
+        },
+        Curve {
+            tone: 2,
+            ..curve("noise gain |1/β| = |A/T|", false, &t.noise_gain_db)
+        },
+    ]
+}
+
 /// The envelope needs the signal's peak.
 fn needs_peak(s: &Evaluated) -> Option<String> {
     s.scenario.signal_peak().is_none().then(|| {
@@ -221,17 +239,14 @@ pub static VIEWS: [View; 9] = [
         id: ViewId::Loop,
         name: "loop",
         title: "Loop gain",
-        about: "loop gain and phase, crossover and phase margin marked",
+        about: "loop gain and phase, the amplifier's open-loop gain |A| and the noise \
+                gain |1/β| = |A/T| (the loop gain is the gap between them), crossover and \
+                phase margin marked",
         workbench: true,
         needs: nothing_needed,
         left: DB,
         right: Some(DEG),
-        curves: |t| {
-            vec![
-                curve("loop gain", false, &t.loop_db),
-                curve("loop phase", true, &t.loop_phase),
-            ]
-        },
+        curves: loop_curves,
         marks: crossover_mark,
         own: None,
     },

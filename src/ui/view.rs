@@ -11,7 +11,7 @@ use crate::model::params::Group;
 use crate::model::values::{fmt_eng, fmt_fixed, spelled};
 use crate::output::views::MarkKind;
 use ratatui::layout::{Constraint, Layout, Rect};
-use ratatui::style::Modifier;
+use ratatui::style::{Modifier, Style};
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, Borders, Clear, Paragraph, Widget};
 use ratatui::Frame;
@@ -354,6 +354,7 @@ fn traces<'a>(
                 None
             },
             label_at: 0.85,
+            minor: false,
             joining,
         })
         .collect()
@@ -535,7 +536,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let x = X_WINDOW;
     let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
         (
-            traces(app, |s| &s.traces.loop_db, None, Joining::Continuous),
+            loop_magnitudes(app),
             traces(app, |s| &s.traces.loop_phase, None, Joining::Continuous),
         )
     } else {
@@ -582,6 +583,40 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let (r, t) = super::plot::phase_scale(plo, phi, prow.max(3));
     let y = (r, t.into_iter().map(|v| (v, format!("{v}°"))).collect());
     plot(app, ph_tr, x, y, margin).render(phase, buf);
+}
+
+/// The loop view's magnitudes: each stage's loop gain, then the active
+/// stage's open-loop gain |A| (dim) and noise gain |1/β| = |A/T| (its
+/// own tone) in its stroke, labelled: the loop gain is the gap between
+/// them (two stages' four would bury the margins; the active stage's
+/// show, and switching stage shows the other's).
+fn loop_magnitudes(app: &App) -> Vec<Trace<'_>> {
+    type Pick = fn(&Slot) -> &[(f64, f64)];
+    let mut tr = traces(
+        app,
+        |s| &s.traces.loop_db,
+        Some("loop"),
+        Joining::Continuous,
+    );
+    for t in &mut tr {
+        t.minor = true;
+    }
+    let others: [(&str, Style, Pick); 2] = [
+        ("open loop", app.theme.dim, |s| &s.traces.open_loop_db),
+        ("noise gain", app.theme.trace_2, |s| &s.traces.noise_gain_db),
+    ];
+    for (name, style, pick) in others {
+        tr.push(Trace {
+            points: pick(app.slot()),
+            style,
+            stroke: slot_style(app, app.active).1,
+            label: Some(name.to_string()),
+            label_at: 0.02,
+            minor: true,
+            joining: Joining::Continuous,
+        });
+    }
+    tr
 }
 
 /// The closed-loop gain of every stage in the middle of its band (the
@@ -817,6 +852,7 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
                 },
                 label: (i == app.active).then(|| name.to_string()),
                 label_at: at,
+                minor: false,
                 joining: Joining::Continuous,
             });
         }
@@ -956,6 +992,7 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke: Stroke::Solid,
             label: (i == 0).then(|| "final".to_string()),
             label_at: 0.9,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -967,6 +1004,7 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke,
             label: None,
             label_at: 0.85,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1026,6 +1064,7 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke: Stroke::Solid,
             label: None,
             label_at: 0.9,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1037,6 +1076,7 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke,
             label: None,
             label_at: 0.85,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1161,6 +1201,7 @@ fn kick_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke: Stroke::Solid,
             label: Some("½LSB".into()),
             label_at: 0.95,
+            minor: false,
             joining: Joining::Continuous,
         })
         .collect();
@@ -1173,6 +1214,7 @@ fn kick_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
                 stroke,
                 label: None,
                 label_at: 0.85,
+                minor: false,
                 joining: Joining::Continuous,
             });
         }
@@ -1234,6 +1276,7 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             },
             label: (i == app.active).then(|| "Zin".to_string()),
             label_at: 0.02,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1275,6 +1318,7 @@ fn pin_traces(app: &App) -> Vec<Trace<'_>> {
                 && crate::model::scenario::present(s.scenario.stage.riso).is_some())
             .then(|| "pin".to_string()),
             label_at: 0.3,
+            minor: false,
             joining: Joining::Continuous,
         })
         .collect()
