@@ -44,7 +44,9 @@ pub struct Point {
     /// Output impedance at the amplifier's output pin (before riso), with
     /// riso and the load removed (source EMF shorted, its r in place).
     pub zout_pin: C64,
-    /// Input impedance seen by the source, source r excluded; None = open.
+    /// Input impedance seen by the source, source r excluded (and the
+    /// source's own parts a kind declares, a photodiode's cd and rsh);
+    /// None = open.
     /// With two inputs, input 1's (input 2's EMF at 0 V behind its own
     /// source resistance).
     pub zin: Option<C64>,
@@ -88,11 +90,18 @@ pub struct Circuit {
     pub net: Netlist,
     /// Reused matrix storage, so a point costs no large copies.
     work: RefCell<Lu>,
+    /// The stage without its source's own parts (`Kind::source_parts`):
+    /// where the input impedance is read, when the kind declares any.
+    bare: Option<Box<Circuit>>,
 }
 
 impl Circuit {
     pub fn new(s: &Scenario) -> Circuit {
-        Circuit::of(Netlist::build(s, AmpModel::Real))
+        let bare = s.stage.topology.kind().without_source(s);
+        Circuit {
+            bare: bare.map(|b| Box::new(Circuit::of(Netlist::build(&b, AmpModel::Real)))),
+            ..Circuit::of(Netlist::build(s, AmpModel::Real))
+        }
     }
 
     /// A netlist built elsewhere (a kind given directly) ready to solve.
@@ -100,6 +109,7 @@ impl Circuit {
         Circuit {
             net,
             work: RefCell::new(Lu::zeroed()),
+            bare: None,
         }
     }
 
@@ -299,10 +309,10 @@ impl Circuit {
         // Gain, loop gain and Zin: source EMF = 1 V.
         let (x, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
         // Input 1 alone: the signal solve when it carries the whole signal.
-        let zin = if net.weights == (1.0, 0.0) {
-            self.zin_of(0, f_hz, &x[..n])
-        } else {
-            self.zin_of(0, f_hz, &lu.solve(&net.rhs(Excitation::Input(0)))[..n])
+        let zin = match &self.bare {
+            Some(bare) => bare.zin_input(0, f_hz),
+            None if net.weights == (1.0, 0.0) => self.zin_of(0, f_hz, &x[..n]),
+            None => self.zin_of(0, f_hz, &lu.solve(&net.rhs(Excitation::Input(0)))[..n]),
         };
         let cm_gain = net
             .drive2

@@ -417,3 +417,69 @@ fn switching_kind_keeps_shared_parts() {
     assert!(back.source.r.is_none() && back.source.dc.is_none());
     assert!(back.validate().is_ok(), "{:?}", back.validate());
 }
+
+/// A stage for the input impedance: a slow amplifier (a0 = 1e3, gbw =
+/// 1 MHz, its pole at 1 kHz) so that Zin is about a kilohm, beside a
+/// diode whose rsh (1 kΩ) and cd (1 µF) would halve it or swamp it if
+/// they were counted; ro 50 Ω, no rin, no cin, no cf.
+fn zin_stage(extra: &str) -> Scenario {
+    let text = format!(
+        "(title: \"zin\",
+          stage: (topology: Transimpedance, rf: 1.0e6, series: E24, tolerance: 0.01{extra}),
+          amp: (a0: 1.0e3, gbw: 1.0e6, ro: 50.0, vnoise: 1.0e-9, inoise: 0.0),
+          source: (cd: 1.0e-6, rsh: 1000.0, idc: 0.0),
+          load: (), temp_c: 25.0, band: (1.0, 1.0e4))"
+    );
+    Scenario::from_ron(&text, None).unwrap()
+}
+
+/// `zin_dc_ohm` is what the current source looks into at the − input
+/// with cd and rsh removed (the issue's definition). Derivation (nodal
+/// analysis, no rin): the current I into the − node runs through rf to
+/// the amplifier's output, which is a Thevenin source −A·V−·k behind
+/// R_th = ro ∥ R_l (R_l the path to ground after the pin: riso + the
+/// load, k = R_l/(R_l + ro); with no load, k = 1, R_th = ro). So
+/// V− = −A·k·V− + I·(rf + R_th): Zin = (rf + R_th)/(1 + A·k). With the
+/// feedback taken after riso and no load, riso carries I too:
+/// Zin = (rf + riso + ro)/(1 + A).
+#[test]
+fn zin_leaves_out_the_diode() {
+    let (rf, ro, a0) = (1.0e6, 50.0, 1.0e3);
+    let a = analyze(&zin_stage(""));
+    assert_rel(
+        "Zin, no load",
+        a.zin_dc_ohm.unwrap(),
+        (rf + ro) / (1.0 + a0),
+        1e-6,
+    );
+    // riso in series with rf (feedback after it), no load.
+    let a = analyze(&zin_stage(", riso: 100.0, feedback: Load"));
+    let want = (rf + 100.0 + ro) / (1.0 + a0);
+    assert_rel(
+        "Zin, feedback at the load",
+        a.zin_dc_ohm.unwrap(),
+        want,
+        1e-6,
+    );
+    // riso after the pin into a 1 kΩ load, feedback at the pin.
+    let mut s = zin_stage(", riso: 100.0");
+    s.load.r = Some(1000.0);
+    let rl = 100.0 + 1000.0;
+    let (k, r_th) = (rl / (rl + ro), ro * rl / (ro + rl));
+    let want = (rf + r_th) / (1.0 + a0 * k);
+    assert_rel(
+        "Zin, riso into a load",
+        analyze(&s).zin_dc_ohm.unwrap(),
+        want,
+        1e-6,
+    );
+    // At 1 kHz (the amplifier's pole) cd's 159 Ω would swamp it: the
+    // points' Zin leaves it out too. A(s) = a0/(1 + s·a0/ω_t).
+    let c = Circuit::new(&zin_stage(""));
+    let f = 1.0e3;
+    let s = C64::new(0.0, 2.0 * PI * f);
+    let a_s = a0 / (1.0 + s * a0 / (2.0 * PI * 1.0e6));
+    let want = (rf + ro) / (1.0 + a_s);
+    let got = c.eval(f).unwrap().zin.unwrap();
+    assert_rel("|Zin| at 1 kHz", got.norm(), want.norm(), 1e-6);
+}

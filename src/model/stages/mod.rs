@@ -215,6 +215,11 @@ pub struct Kind {
     /// The DC resistance the feedback network puts on the point where
     /// the feedback is taken (the − input's level follows from the kind).
     pub feedback_load: fn(&Stage) -> f64,
+    /// The parts that belong to the signal source (a photodiode's own
+    /// capacitance and shunt), by name: the input impedance is read with
+    /// each at its absent value, as a voltage source's resistance is left
+    /// out of it.
+    pub source_parts: &'static [&'static str],
     /// The parts `stabilize` offers, by name.
     pub stabilize: &'static [&'static str],
     pub pairs: Option<Pairs>,
@@ -250,6 +255,25 @@ impl Kind {
         self.parts
             .iter()
             .any(|p| p.a == Node::Reference || p.b == Node::Reference)
+    }
+
+    /// The stage without its source's own parts ([`Kind::source_parts`]),
+    /// each at its absent value; None where the kind declares none.
+    pub fn without_source(&self, s: &Scenario) -> Option<Scenario> {
+        if self.source_parts.is_empty() {
+            return None;
+        }
+        let mut bare = s.clone();
+        for p in self
+            .parts
+            .iter()
+            .filter(|p| self.source_parts.contains(&p.name))
+        {
+            if let Some(param) = crate::model::params::param(p.param) {
+                param.set(&mut bare, None);
+            }
+        }
+        Some(bare)
     }
 
     /// Whether the kind has a part of this name.
