@@ -345,8 +345,13 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
 /// Above this CMRR the text reads "> 160 dB".
 const CMRR_SHOWN_DB: f64 = 160.0;
 
-/// The table of figures at the `--at` frequencies.
-fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
+/// The table of figures at the `--at` frequencies (the gain in ohms for
+/// a transimpedance).
+fn write_points(
+    points: &[PointReport],
+    unit: crate::model::stages::GainUnit,
+    w: &mut impl Write,
+) -> io::Result<()> {
     if points.is_empty() {
         return Ok(());
     }
@@ -379,7 +384,10 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
             w,
             "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}{cmrr}",
             fmt_eng(p.f_hz, "Hz"),
-            ratio(p.gain_mag),
+            match unit {
+                crate::model::stages::GainUnit::VoltsPerAmp => num(p.gain_mag, "Ω"),
+                crate::model::stages::GainUnit::VoltsPerVolt => ratio(p.gain_mag),
+            },
             deg(p.gain_phase_deg),
             num(p.zout_mag, "Ω"),
             deg(p.zout_phase_deg),
@@ -431,7 +439,7 @@ pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) 
     if let Some(o) = &r.over_temperature {
         write_over_temperature(o, w)?;
     }
-    write_points(&r.points, w)?;
+    write_points(&r.points, e.analysis.gain_unit, w)?;
     write_warnings(&e.warnings, w)
 }
 

@@ -7,7 +7,7 @@
 //! (its axes, traces and marks).
 
 use crate::model::values::{fmt_eng, printable};
-use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG};
+use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG, GAIN_DB};
 pub use crate::output::figure::{MarkKind, ViewId};
 use crate::output::kick;
 use crate::output::settling;
@@ -229,7 +229,7 @@ pub static VIEWS: [View; 9] = [
         about: "closed-loop gain and phase, f−3dB marked",
         workbench: true,
         needs: nothing_needed,
-        left: DB,
+        left: GAIN_DB,
         right: Some(DEG),
         curves: response_curves,
         marks: f3db_mark,
@@ -260,6 +260,7 @@ pub static VIEWS: [View; 9] = [
         left: Axis {
             desc: "noise density (V/√Hz)",
             log_unit: Some("V"),
+            in_ohms: None,
         },
         right: None,
         curves: |t| vec![curve("noise", false, &t.noise)],
@@ -276,6 +277,7 @@ pub static VIEWS: [View; 9] = [
         left: Axis {
             desc: "|Z| (Ω)",
             log_unit: Some("Ω"),
+            in_ohms: None,
         },
         right: None,
         curves: impedance_curves,
@@ -292,6 +294,7 @@ pub static VIEWS: [View; 9] = [
         left: Axis {
             desc: "peak at the internal output (V)",
             log_unit: Some("V"),
+            in_ohms: None,
         },
         right: None,
         curves: envelope_curves,

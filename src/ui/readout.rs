@@ -2,6 +2,7 @@
 //! at the frequency cursor (the figures of `report --at` there).
 
 use super::app::App;
+use crate::model::stages::GainUnit;
 use crate::model::values::fmt_fixed;
 use crate::output::report::PointReport;
 use ratatui::buffer::Buffer;
@@ -11,8 +12,9 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use super::widgets::compact as eng;
 
-/// The readout's parts for one stage, most important first.
-pub fn parts(r: &PointReport) -> Vec<String> {
+/// The readout's parts for one stage, most important first; the gain's
+/// level in its unit (dB, or dBΩ for a transimpedance).
+pub fn parts(r: &PointReport, unit: GainUnit) -> Vec<String> {
     let db = |m: f64| fmt_fixed(20.0 * m.log10(), 1);
     let deg = |p: Option<f64>, d| {
         p.map_or(String::new(), |p| {
@@ -21,7 +23,8 @@ pub fn parts(r: &PointReport) -> Vec<String> {
     };
     let mut out = Vec::new();
     if let Some(g) = r.gain_mag {
-        out.push(format!("gain {}dB{}", db(g), deg(r.gain_phase_deg, 1)));
+        let u = crate::model::values::spelled(unit.db());
+        out.push(format!("gain {}{u}{}", db(g), deg(r.gain_phase_deg, 1)));
     }
     if let Some(l) = r.loop_mag {
         out.push(format!("loop {}dB{}", db(l), deg(r.loop_phase_deg, 0)));
@@ -71,7 +74,12 @@ pub fn draw(app: &App, area: Rect, buf: &mut Buffer) {
             break;
         }
         let head = format!("{} @ {}", App::slot_label(i), eng(app.probe_hz, "Hz"));
-        let parts = slot.readout.as_ref().map(parts).unwrap_or_default();
+        let unit = slot.eval.analysis.gain_unit;
+        let parts = slot
+            .readout
+            .as_ref()
+            .map(|r| parts(r, unit))
+            .unwrap_or_default();
         let text = fit(&head, &parts, width);
         let rest = text[head.len()..].to_string();
         let line = Line::from(vec![

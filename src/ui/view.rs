@@ -548,9 +548,14 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
     let rows = mag.height as usize;
     let plot_rows = rows.saturating_sub(usize::from(phase.height == 0));
+    let unit = if loop_view {
+        "dB".into()
+    } else {
+        gain_db_unit(app)
+    };
     let y = match gain_zoom(app, plot_rows).filter(|_| !loop_view && !app.full_range) {
-        Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2)),
-        None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), "dB"),
+        Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2), &unit),
+        None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), &unit),
     };
     // Each stage's marks; where B's fall on A's (the same stage twice),
     // A's alone, untagged.
@@ -667,13 +672,18 @@ fn gain_zoom(app: &App, rows: usize) -> Option<((f64, f64), bool)> {
 
 /// A dB axis over `range`, rounded out to grid steps unless `exact`, with
 /// ticks at round steps inside it.
-fn zoom_axis(range: (f64, f64), exact: bool, ticks: usize) -> ((f64, f64), Vec<(f64, String)>) {
+fn zoom_axis(
+    range: (f64, f64),
+    exact: bool,
+    ticks: usize,
+    unit: &str,
+) -> ((f64, f64), Vec<(f64, String)>) {
     let ((lo, hi), t) = nice_linear(range.0, range.1, ticks);
     let r = if exact { range } else { (lo, hi) };
     let labelled = t
         .into_iter()
         .filter(|v| *v >= r.0 - 1e-9 && *v <= r.1 + 1e-9)
-        .map(|v| (v, format!("{}dB", fmt_plain_db(v))))
+        .map(|v| (v, format!("{}{unit}", fmt_plain_db(v))))
         .collect();
     (r, labelled)
 }
@@ -685,16 +695,43 @@ fn fmt_plain_db(v: f64) -> String {
     s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
+/// The unit of the gain axis: dB, or dBΩ where every stage shown is a
+/// transimpedance (a mixed pair keeps plain dB).
+fn gain_db_unit(app: &App) -> String {
+    use crate::model::stages::GainUnit;
+    let unit = app.slot().eval.analysis.gain_unit;
+    let alike = app.slots.iter().all(|s| s.eval.analysis.gain_unit == unit);
+    spelled(if alike {
+        unit.db()
+    } else {
+        GainUnit::VoltsPerVolt.db()
+    })
+}
+
 /// The stage's gains, from the figure table's gain ratios: nominal, with
-/// the passive network, and the DC gain.
+/// the passive network, and the DC gain; a gain in ohms has its level in
+/// dBΩ after the first ("nominal −1.000MΩ (120.0dBΩ)").
 fn gains_line(app: &App) -> String {
     let slot = app.slot();
     let cells: Vec<String> = crate::judge::figures::FIGURES
         .iter()
         .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
-        .map(|f| {
-            let cell = f.cell_in(&slot.eval, f.read(&slot.eval), false);
-            format!("{} {}", f.short, trim_zeros(&cell))
+        .enumerate()
+        .map(|(i, f)| {
+            let r = f.read(&slot.eval);
+            let cell = f.cell_in(&slot.eval, r, false);
+            let level = match (r, f.unit_in(&slot.eval)) {
+                (Reading::Value(v), Unit::Si(_)) if i == 0 && v != 0.0 => {
+                    let unit = slot.eval.analysis.gain_unit.db();
+                    format!(
+                        " ({}{})",
+                        fmt_fixed(20.0 * v.abs().log10(), 1),
+                        spelled(unit)
+                    )
+                }
+                _ => String::new(),
+            };
+            format!("{} {}{level}", f.short, trim_zeros(&cell))
         })
         .collect();
     let who = if app.slots.len() > 1 {

@@ -483,3 +483,57 @@ fn zin_leaves_out_the_diode() {
     let got = c.eval(f).unwrap().zin.unwrap();
     assert_rel("|Zin| at 1 kHz", got.norm(), want.norm(), 1e-6);
 }
+
+/// The workbench reads the transimpedance in its unit (the issue's
+/// "transimpedance −1.000 MΩ (120.0 dBΩ)"): the response view's axis
+/// and caption and the cursor readout in dBΩ, the figures row in Ω; A/B
+/// against a voltage stage, the B − A of the gain is "—".
+#[test]
+fn the_workbench_speaks_in_ohms() {
+    use crate::support::keys::screen_at;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let s = stage(Some(0.56e-12));
+    let app = App::new(vec![(s.clone(), None)], Theme::new(false, false));
+    let screen = screen_at(&app, 80, 24);
+    // 20·log10(1e6 Ω) = 120 dBΩ: the axis's top tick and the caption.
+    assert!(screen.contains("120dBΩ ├"), "{screen}");
+    assert!(screen.contains("(120.0dBΩ)"), "{screen}");
+    let readout = screen.lines().find(|l| l.starts_with("A @ ")).unwrap();
+    assert!(readout.contains("gain 120.0dBΩ∠"), "{readout}");
+    assert!(screen.contains("−1.000MΩ"), "{screen}");
+    // A voltage stage beside it: no dBΩ on its own, "—" for B − A.
+    let v = crate::support::stages::plain(Topology::Inverting, 1e3, 1e4);
+    let ab = App::new(vec![(v, None), (s, None)], Theme::new(false, false));
+    let screen = screen_at(&ab, 120, 40);
+    let delta = screen.lines().find(|l| l.starts_with("Δ ")).unwrap();
+    let gain_cell = delta.split_whitespace().nth(1).unwrap();
+    assert_eq!(gain_cell, "—", "{screen}");
+}
+
+/// The text report's `--at` table and the response figure read the
+/// transimpedance in ohms: |Z_T| at 1 kHz is rf (1 MΩ; the loop gain
+/// there is about 1e4, a 1e-4 error), and the SVG's gain axis is in dBΩ.
+#[test]
+fn the_at_table_and_the_figure_speak_in_ohms() {
+    use loopwright::output::svg::{self, Evaluated, Look};
+    use loopwright::output::views::ViewId;
+    let s = stage(Some(0.56e-12));
+    let e = evaluate(&s);
+    let r = Report::new(&s, &e, &[1.0e3]);
+    let mut out = Vec::new();
+    write_text(&r, &s, &e, &mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    let row = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("1 kHz"))
+        .unwrap();
+    assert_eq!(row.split_whitespace().nth(2), Some("1"), "{row}");
+    assert_eq!(row.split_whitespace().nth(3), Some("MΩ"), "{row}");
+    let stage = [Evaluated {
+        scenario: &s,
+        eval: &e,
+    }];
+    let svg = svg::render(ViewId::Response.view(), &stage, Look::default()).unwrap();
+    assert!(svg.contains("transimpedance (dBΩ)"), "{svg}");
+}

@@ -162,6 +162,15 @@ impl GainUnit {
             GainUnit::VoltsPerAmp => "V/A",
         }
     }
+
+    /// The unit of the gain's level, 20·log10 of its magnitude: dB of a
+    /// ratio, dBΩ of a transimpedance in ohms.
+    pub fn db(self) -> &'static str {
+        match self {
+            GainUnit::VoltsPerVolt => "dB",
+            GainUnit::VoltsPerAmp => "dBΩ",
+        }
+    }
 }
 
 /// The E-series pairs a kind with a gain ratio can search (`pairs`).
