@@ -537,3 +537,35 @@ fn the_at_table_and_the_figure_speak_in_ohms() {
     let svg = svg::render(ViewId::Response.view(), &stage, Look::default()).unwrap();
     assert!(svg.contains("transimpedance (dBΩ)"), "{svg}");
 }
+
+/// The workbench's stabilising list (`m`) says what `stabilize` says of
+/// the flat cf: its value beside the `cf, flat` rows, or, where
+/// 2·ω_t·R_f·C_i ≤ 1, that no cf is needed (the closed form above).
+#[test]
+fn the_workbench_list_names_the_flat_cf() {
+    use crate::support::keys::{key, screen_at};
+    use crossterm::event::KeyCode;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let list = |s: Scenario| {
+        let mut app = App::new(vec![(s, None)], Theme::new(false, false));
+        app.on_key(key(KeyCode::Char('m')));
+        screen_at(&app, 120, 40).replace('│', " ")
+    };
+    let joined = |t: &str| t.split_whitespace().collect::<Vec<_>>().join(" ");
+    // The check stage without cf: the flat cf is 0.564 pF.
+    assert!((flat_cf() - 0.564e-12).abs() < 0.0005e-12);
+    let screen = joined(&list(stage(None)));
+    assert!(screen.contains("cf, flat"), "{screen}");
+    assert!(screen.contains("maximally flat cf 0.564 pF"), "{screen}");
+    // rf 1 kΩ, cd 1 pF, gbw 10 MHz: 2·ω_t·R_f·C_i = 2·2π·1e7·1e3·1e-12
+    // ≈ 0.126 ≤ 1.
+    let mut small = stage(None);
+    small.stage.rf = Some(1.0e3);
+    small.source.cd = Some(1.0e-12);
+    assert!(2.0 * wt() * 1.0e3 * 1.0e-12 <= 1.0);
+    let screen = joined(&list(small));
+    // The note wraps in the overlay: its two halves.
+    assert!(screen.contains("no cf is"), "{screen}");
+    assert!(screen.contains("needed for a flat response (2·ω_t·rf·C_i ≤ 1)"));
+}
