@@ -311,7 +311,11 @@ fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
 
 /// The "Over temperature" section: each figure at the range's ends and
 /// at temp_c.
-fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result<()> {
+fn write_over_temperature(
+    o: &OverTemperature,
+    gain: crate::model::stages::GainUnit,
+    w: &mut impl Write,
+) -> io::Result<()> {
     writeln!(w)?;
     writeln!(
         w,
@@ -328,7 +332,7 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
         o.rows
             .iter()
             .map(|r| {
-                let (unit, label) = unit_and_label(r.key);
+                let (unit, label) = unit_and_label(r.key, gain);
                 std::iter::once(label.to_string())
                     .chain(r.values.iter().map(|v| {
                         v.map_or("—".into(), |v| unit.number(v, false).replace(' ', ""))
@@ -437,7 +441,7 @@ pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) 
         }
     }
     if let Some(o) = &r.over_temperature {
-        write_over_temperature(o, w)?;
+        write_over_temperature(o, e.analysis.gain_unit, w)?;
     }
     write_points(&r.points, e.analysis.gain_unit, w)?;
     write_warnings(&e.warnings, w)

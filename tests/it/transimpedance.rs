@@ -569,3 +569,34 @@ fn the_workbench_list_names_the_flat_cf() {
     assert!(screen.contains("no cf is"), "{screen}");
     assert!(screen.contains("needed for a flat response (2·ω_t·rf·C_i ≤ 1)"));
 }
+
+/// `spread` reads the transimpedance's DC gain in ohms too: its rows
+/// for the 1 MΩ stage (±1 % rf, a uniform spread) say MΩ for the
+/// nominal and kΩ for the std (about 1 MΩ·0.01/√3 ≈ 5.8 kΩ, the
+/// standard deviation of a uniform on ±a being a/√3).
+#[test]
+fn spread_reads_the_transimpedance_in_ohms() {
+    use loopwright::study::spread::{spread, Run};
+    let s = stage(Some(0.56e-12));
+    let r = spread(
+        &s,
+        &Run {
+            trials: Some(200),
+            ..Run::default()
+        },
+    );
+    let mut out = Vec::new();
+    loopwright::output::spread_text::write_spread(&r, "t", &mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    let row = text.lines().find(|l| l.starts_with("DC gain")).unwrap();
+    let cells: Vec<&str> = row.split_whitespace().collect();
+    assert!(cells[2].ends_with("MΩ"), "{row}");
+    assert!(cells[4].ends_with("kΩ"), "{row}");
+    let std_ohm: f64 = cells[4].trim_end_matches("kΩ").parse::<f64>().unwrap() * 1e3;
+    assert_rel(
+        "std of the transimpedance",
+        std_ohm,
+        1.0e6 * 0.01 / 3f64.sqrt(),
+        0.2,
+    );
+}

@@ -147,9 +147,10 @@ impl Input {
 }
 
 /// The unit of a kind's gain.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum GainUnit {
     /// V/V.
+    #[default]
     VoltsPerVolt,
     /// V/A (a current input).
     VoltsPerAmp,
