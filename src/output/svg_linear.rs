@@ -101,7 +101,7 @@ pub fn step_chart(
     let (yr, y_axis) = axis((lo, hi), 8);
     let sizes: Vec<String> = stages
         .iter()
-        .map(|s| fmt_eng(s.eval.analysis.step.size_v, "V"))
+        .map(|s| fmt_eng(s.eval.analysis.step.size_v, s.scenario.input_unit()))
         .collect();
     let mut entries: Vec<Entry> = Vec::new();
     if !band.is_empty() {

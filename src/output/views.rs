@@ -163,8 +163,9 @@ fn loop_curves(t: &Traces) -> Vec<Curve> {
 fn needs_peak(s: &Evaluated) -> Option<String> {
     s.scenario.signal_peak().is_none().then(|| {
         format!(
-            "the envelope view needs source.peak (the signal's peak at the source); \
+            "the envelope view needs {} (the signal's peak at the source); \
              “{}” gives none",
+            s.scenario.peak_field(),
             printable(&s.scenario.title)
         )
     })
@@ -288,7 +289,7 @@ pub static VIEWS: [View; 9] = [
         id: ViewId::Envelope,
         name: "envelope",
         title: "Output envelope",
-        about: "the peak needed at the internal output under its swing, slew and current ceilings; needs source.peak",
+        about: "the peak needed at the internal output under its swing, slew and current ceilings; needs source.peak (source.ipeak for a current input)",
         workbench: true,
         needs: needs_peak,
         left: Axis {

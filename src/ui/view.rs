@@ -994,7 +994,11 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let n = (area.width as usize * 4).clamp(50, 600);
     let responses: Vec<_> = app.slots.iter().map(|s| &s.eval.analysis.step).collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, n);
-    let sizes: Vec<String> = responses.iter().map(|r| compact(r.size_v, "V")).collect();
+    let sizes: Vec<String> = app
+        .slots
+        .iter()
+        .map(|s| compact(s.eval.analysis.step.size_v, s.scenario.input_unit()))
+        .collect();
     let unit = if divided { "output / final value" } else { "V" };
     let title = format!(
         " {}, {} step, {unit}{} ",

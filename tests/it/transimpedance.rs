@@ -600,3 +600,33 @@ fn spread_reads_the_transimpedance_in_ohms() {
         0.2,
     );
 }
+
+/// A current input's step is in amperes on the step view and figure, and
+/// the envelope view asks for the kind's own peak field.
+#[test]
+fn the_step_and_envelope_views_name_the_current() {
+    use crate::support::keys::{key, screen_at};
+    use crossterm::event::KeyCode;
+    use loopwright::output::svg::{self, Evaluated, Look};
+    use loopwright::output::views::ViewId;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let mut s = stage(Some(0.56e-12));
+    s.source.ipeak = None;
+    let e = evaluate(&s);
+    let stage_of = [Evaluated {
+        scenario: &s,
+        eval: &e,
+    }];
+    // The default current step: 1 µA (the README's step.size_a).
+    let svg = svg::render(ViewId::Step.view(), &stage_of, Look::default()).unwrap();
+    assert!(svg.contains("1 µA"), "{svg}");
+    let needs = (ViewId::Envelope.view().needs)(&stage_of[0]).unwrap();
+    assert!(needs.contains("source.ipeak"), "{needs}");
+    let mut app = App::new(vec![(s, None)], Theme::new(false, false));
+    while app.view != ViewId::Step {
+        app.on_key(key(KeyCode::Char('v')));
+    }
+    let screen = screen_at(&app, 120, 40);
+    assert!(screen.contains("1µA step"), "{screen}");
+}

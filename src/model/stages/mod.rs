@@ -390,6 +390,24 @@ impl Scenario {
         }
     }
 
+    /// The unit of the kind's input signal: "A" for a current, else "V".
+    pub fn input_unit(&self) -> &'static str {
+        if self.current_input() {
+            "A"
+        } else {
+            "V"
+        }
+    }
+
+    /// The file field of the signal's peak at the input.
+    pub fn peak_field(&self) -> &'static str {
+        if self.current_input() {
+            "source.ipeak"
+        } else {
+            "source.peak"
+        }
+    }
+
     /// The step the time-domain analysis applies (V or A).
     pub fn step_size(&self) -> f64 {
         use crate::model::scenario::{DEFAULT_STEP_A, DEFAULT_STEP_V};
