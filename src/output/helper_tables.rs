@@ -279,7 +279,7 @@ pub fn margin_now_text(o: &Options) -> String {
     if o.already_met {
         format!(
             "no change needed: the stage already meets {}° (now {now}{settle}); \
-             the options below are only the smallest values that would also meet it",
+             the options listed are only the smallest values that would also meet it",
             o.target_deg
         )
     } else {
