@@ -35,13 +35,18 @@ pub struct Point {
     pub gain: C64,
     /// Loop gain (return ratio of the controlled source).
     pub loop_gain: C64,
+    /// The amplifier's open-loop gain A(f) as modelled (a0 and its
+    /// poles): with the loop gain T, the noise gain 1/β = A/T.
+    pub open_loop: C64,
     /// Output impedance at the load terminal, load removed, riso included
     /// (source EMF shorted, its r in place).
     pub zout: C64,
     /// Output impedance at the amplifier's output pin (before riso), with
     /// riso and the load removed (source EMF shorted, its r in place).
     pub zout_pin: C64,
-    /// Input impedance seen by the source, source r excluded; None = open.
+    /// Input impedance seen by the source, source r excluded (and the
+    /// source's own parts a kind declares, a photodiode's cd and rsh);
+    /// None = open.
     /// With two inputs, input 1's (input 2's EMF at 0 V behind its own
     /// source resistance).
     pub zin: Option<C64>,
@@ -74,6 +79,13 @@ impl Point {
     pub fn noise_density(&self) -> f64 {
         self.noise_psd.iter().sum::<f64>().sqrt()
     }
+
+    /// The noise gain 1/β = A/T: the gain the loop closes to, where the
+    /// open-loop gain |A| and it meet the loop gain is 1 (NaN without a
+    /// loop).
+    pub fn noise_gain(&self) -> C64 {
+        self.open_loop / self.loop_gain
+    }
 }
 
 /// A netlist ready to be evaluated at any frequency.
@@ -81,11 +93,18 @@ pub struct Circuit {
     pub net: Netlist,
     /// Reused matrix storage, so a point costs no large copies.
     work: RefCell<Lu>,
+    /// The stage without its source's own parts (`Kind::source_parts`):
+    /// where the input impedance is read, when the kind declares any.
+    bare: Option<Box<Circuit>>,
 }
 
 impl Circuit {
     pub fn new(s: &Scenario) -> Circuit {
-        Circuit::of(Netlist::build(s, AmpModel::Real))
+        let bare = s.stage.topology.kind().without_source(s);
+        Circuit {
+            bare: bare.map(|b| Box::new(Circuit::of(Netlist::build(&b, AmpModel::Real)))),
+            ..Circuit::of(Netlist::build(s, AmpModel::Real))
+        }
     }
 
     /// A netlist built elsewhere (a kind given directly) ready to solve.
@@ -93,6 +112,7 @@ impl Circuit {
         Circuit {
             net,
             work: RefCell::new(Lu::zeroed()),
+            bare: None,
         }
     }
 
@@ -162,6 +182,7 @@ impl Circuit {
             f_hz,
             gain: ZERO,
             loop_gain: ZERO,
+            open_loop: ZERO,
             zout: ZERO,
             zout_pin: ZERO,
             zin: None,
@@ -305,10 +326,10 @@ impl Circuit {
         // Gain, loop gain and Zin: source EMF = 1 V.
         let (x, gain, loop_gain) = self.gain_and_loop_solve(&lu, s);
         // Input 1 alone: the signal solve when it carries the whole signal.
-        let zin = if net.weights == (1.0, 0.0) {
-            self.zin_of(0, f_hz, &x[..n])
-        } else {
-            self.zin_of(0, f_hz, &lu.solve(&net.rhs(Excitation::Input(0)))[..n])
+        let zin = match &self.bare {
+            Some(bare) => bare.zin_input(0, f_hz),
+            None if net.weights == (1.0, 0.0) => self.zin_of(0, f_hz, &x[..n]),
+            None => self.zin_of(0, f_hz, &lu.solve(&net.rhs(Excitation::Input(0)))[..n]),
         };
         let cm_signals = net
             .drive2
@@ -336,6 +357,7 @@ impl Circuit {
             f_hz,
             gain,
             loop_gain,
+            open_loop: net.open_loop(s),
             zout,
             zout_pin,
             zin,

@@ -1010,9 +1010,14 @@ impl Figure {
     /// The figure's unit for this stage: a gain in V/A reads in ohms, a
     /// current step in amperes.
     pub fn unit_in(&self, e: &Evaluation) -> Unit {
-        let amps = e.analysis.gain_unit == GainUnit::VoltsPerAmp;
+        self.unit_for(e.analysis.gain_unit)
+    }
+
+    /// The figure's unit for a stage whose gain is in `u`.
+    pub fn unit_for(&self, u: GainUnit) -> Unit {
+        let amps = u == GainUnit::VoltsPerAmp;
         match self.key {
-            _ if self.in_ohms(e) => Si("Ω"),
+            _ if amps && self.unit == Ratio && self.section == Gain => Si("Ω"),
             "size_v" if amps => Si("A"),
             _ => self.unit,
         }

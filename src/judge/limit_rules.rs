@@ -201,8 +201,9 @@ pub fn dc_offset(cx: &Context, w: &mut Vec<Warning>) {
         )
     } else {
         format!(
-            "worst-case output offset {} with no output signal (source.peak is 0){fix}",
-            fmt_eng(offset, "V")
+            "worst-case output offset {} with no output signal ({} is 0){fix}",
+            fmt_eng(offset, "V"),
+            cx.s.peak_field()
         )
     };
     push(w, Code::DcOffset, Severity::Warning, text);

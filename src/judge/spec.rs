@@ -236,8 +236,14 @@ impl Limit {
 
     /// The same for the screen: "phase margin 41.2° < 50° (pm_min_deg)",
     /// labelled by the figure `key` that fails (one of [`Limit::figures`]).
-    pub fn failure_readable(&self, key: &str, value: Option<f64>, limit: f64) -> String {
-        let (unit, label) = crate::judge::spread_figures::unit_and_label(key);
+    pub fn failure_readable(
+        &self,
+        key: &str,
+        gain: crate::model::stages::GainUnit,
+        value: Option<f64>,
+        limit: f64,
+    ) -> String {
+        let (unit, label) = crate::judge::spread_figures::unit_and_label(key, gain);
         let text = self.failure_with(value, limit, |v| unit.number(v, false));
         let named = text.replacen(self.field, label, 1);
         format!("{named} ({})", self.field)
@@ -292,7 +298,7 @@ pub fn nominal_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warni
                 severity: Severity::Warning,
                 text: format!(
                     "misses its spec: {}{}",
-                    l.failure_readable(l.held_key(read), v, limit),
+                    l.failure_readable(l.held_key(read), e.analysis.gain_unit, v, limit),
                     cmrr_cause(l, s, e)
                 ),
             })

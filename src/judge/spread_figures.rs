@@ -6,6 +6,7 @@
 use crate::judge::figures::{figure, Unit};
 use crate::judge::Evaluation;
 use crate::model::scenario::Scenario;
+use crate::model::stages::GainUnit;
 
 /// The spread figure that is not in the figure table.
 pub const TARGET_ERROR: &str = "target_error";
@@ -100,15 +101,21 @@ pub fn read(e: &Evaluation, key: &str, target: f64) -> Option<f64> {
     figure(key)?.read(e).value()
 }
 
+/// A spread figure's name (whatever the stage's gain unit).
+pub fn label(key: &str) -> &str {
+    unit_and_label(key, GainUnit::VoltsPerVolt).1
+}
+
 /// How a spread figure reads: its unit and its name. Every key of
 /// [`SPREAD_FIGURES`] and of the spec's limits resolves (a test checks it);
-/// any other key reads as itself, in no unit.
-pub fn unit_and_label(key: &str) -> (Unit, &str) {
+/// any other key reads as itself, in no unit. A gain of a stage whose
+/// gain is in V/A reads in ohms.
+pub fn unit_and_label(key: &str, gain: GainUnit) -> (Unit, &str) {
     if key == TARGET_ERROR {
         return (Unit::Fraction, "gain error against the target");
     }
     match figure(key) {
-        Some(f) => (f.unit, f.label),
+        Some(f) => (f.unit_for(gain), f.label),
         None => (Unit::Ratio, key),
     }
 }

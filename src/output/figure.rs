@@ -18,6 +18,9 @@ pub struct Evaluated<'a> {
 pub struct Axis {
     pub desc: &'static str,
     pub log_unit: Option<&'static str>,
+    /// The description where every stage drawn has its gain in V/A (the
+    /// gain's level is then in dBΩ); None: `desc` for every stage.
+    pub in_ohms: Option<&'static str>,
 }
 
 /// One curve of a view for one stage.
@@ -102,11 +105,18 @@ pub struct View {
 pub const DB: Axis = Axis {
     desc: "magnitude (dB)",
     log_unit: None,
+    in_ohms: None,
+};
+/// The closed-loop gain's level: dB, or dBΩ for a transimpedance.
+pub const GAIN_DB: Axis = Axis {
+    in_ohms: Some("transimpedance (dBΩ)"),
+    ..DB
 };
 /// The phase axis in degrees.
 pub const DEG: Axis = Axis {
     desc: "phase (°)",
     log_unit: None,
+    in_ohms: None,
 };
 
 /// Size and look of a figure.

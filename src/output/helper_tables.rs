@@ -279,7 +279,7 @@ pub fn margin_now_text(o: &Options) -> String {
     if o.already_met {
         format!(
             "no change needed: the stage already meets {}° (now {now}{settle}); \
-             the options below are only the smallest values that would also meet it",
+             the options listed are only the smallest values that would also meet it",
             o.target_deg
         )
     } else {
@@ -309,6 +309,17 @@ pub fn flat_text(o: &Options) -> Option<String> {
     })
 }
 
+/// What follows the options' table (`stabilize` and the workbench's
+/// list): the parts that reach no value, then the flat cf of a
+/// current-input stage or that it needs none.
+pub fn notes_after(o: &Options) -> Vec<String> {
+    let misses = o
+        .misses
+        .iter()
+        .map(|m| format!("none reaches the target: {m}"));
+    misses.chain(flat_text(o)).collect()
+}
+
 /// `stabilize`: the options as text or the JSON object.
 pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>> {
     let o = options_for(s, margin)?;
@@ -335,10 +346,7 @@ pub fn stabilize_output(s: &Scenario, margin: f64, json: bool) -> Result<Vec<u8>
             text.push_str(&format!("  {line}\n"));
         }
     }
-    for miss in &o.misses {
-        text.push_str(&format!("  none reaches the target: {miss}\n"));
-    }
-    if let Some(line) = flat_text(&o) {
+    for line in notes_after(&o) {
         text.push_str(&format!("  {line}\n"));
     }
     buf.extend_from_slice(text.as_bytes());

@@ -115,7 +115,7 @@ fn write_spec(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
     )?;
     writeln!(w, "| --- | --- | --- | --- | --- |")?;
     for l in &r.limits {
-        let unit = unit_and_label(l.limit.figures[0]).0;
+        let unit = unit_and_label(l.limit.figures[0], r.gain_unit).0;
         let num = |v: Option<f64>| v.map_or("undefined".to_string(), |v| unit.number(v, false));
         let nominal = format!(
             "{}{}",
@@ -168,7 +168,12 @@ fn write_movers(r: &crate::study::spread::SpreadResult, w: &mut impl Write) -> i
     writeln!(w)?;
     for f in r.figures.iter().filter(|f| !f.contributions.is_empty()) {
         let list = crate::output::spread_text::share_list(&f.contributions, 4);
-        writeln!(w, "- {}: {}", unit_and_label(f.key).1, cell(&list))?;
+        writeln!(
+            w,
+            "- {}: {}",
+            unit_and_label(f.key, r.gain_unit).1,
+            cell(&list)
+        )?;
     }
     Ok(())
 }

@@ -311,7 +311,11 @@ fn write_noise_shares(e: &Evaluation, w: &mut impl Write) -> io::Result<()> {
 
 /// The "Over temperature" section: each figure at the range's ends and
 /// at temp_c.
-fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result<()> {
+fn write_over_temperature(
+    o: &OverTemperature,
+    gain: crate::model::stages::GainUnit,
+    w: &mut impl Write,
+) -> io::Result<()> {
     writeln!(w)?;
     writeln!(
         w,
@@ -328,7 +332,7 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
         o.rows
             .iter()
             .map(|r| {
-                let (unit, label) = unit_and_label(r.key);
+                let (unit, label) = unit_and_label(r.key, gain);
                 std::iter::once(label.to_string())
                     .chain(r.values.iter().map(|v| {
                         v.map_or("—".into(), |v| unit.number(v, false).replace(' ', ""))
@@ -344,8 +348,13 @@ fn write_over_temperature(o: &OverTemperature, w: &mut impl Write) -> io::Result
 }
 use crate::judge::figures::CMRR_CEILING_DB as CMRR_SHOWN_DB;
 
-/// The table of figures at the `--at` frequencies.
-fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
+/// The table of figures at the `--at` frequencies (the gain in ohms for
+/// a transimpedance).
+fn write_points(
+    points: &[PointReport],
+    unit: crate::model::stages::GainUnit,
+    w: &mut impl Write,
+) -> io::Result<()> {
     if points.is_empty() {
         return Ok(());
     }
@@ -378,7 +387,10 @@ fn write_points(points: &[PointReport], w: &mut impl Write) -> io::Result<()> {
             w,
             "{:>12} {:>10} {:>8} {:>12} {:>8} {:>12} {:>12} {:>10} {:>8} {:>14}{cmrr}",
             fmt_eng(p.f_hz, "Hz"),
-            ratio(p.gain_mag),
+            match unit {
+                crate::model::stages::GainUnit::VoltsPerAmp => num(p.gain_mag, "Ω"),
+                crate::model::stages::GainUnit::VoltsPerVolt => ratio(p.gain_mag),
+            },
             deg(p.gain_phase_deg),
             num(p.zout_mag, "Ω"),
             deg(p.zout_phase_deg),
@@ -428,9 +440,9 @@ pub fn write_text(r: &Report, s: &Scenario, e: &Evaluation, w: &mut impl Write) 
         }
     }
     if let Some(o) = &r.over_temperature {
-        write_over_temperature(o, w)?;
+        write_over_temperature(o, e.analysis.gain_unit, w)?;
     }
-    write_points(&r.points, w)?;
+    write_points(&r.points, e.analysis.gain_unit, w)?;
     write_warnings(&e.warnings, w)
 }
 

@@ -72,9 +72,12 @@ pub fn spread_json(r: &SpreadResult) -> Value {
 }
 
 /// A value of a spread figure as text ("—" when undefined).
-fn cell(key: &str, v: Option<f64>) -> String {
+fn cell(r: &SpreadResult, key: &str, v: Option<f64>) -> String {
     v.map_or("—".into(), |v| {
-        unit_and_label(key).0.number(v, false).replace(' ', "")
+        unit_and_label(key, r.gain_unit)
+            .0
+            .number(v, false)
+            .replace(' ', "")
     })
 }
 
@@ -150,16 +153,16 @@ fn write_figure_table(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
         let mark = |on: bool| if on { " *" } else { "" };
         inside |= below || above;
         rows.push(vec![
-            unit_and_label(f.key).1.to_string(),
-            cell(f.key, f.nominal),
-            cell(f.key, f.mean),
-            cell(f.key, f.std),
-            format!("{}{}", cell(f.key, f.min), mark(below)),
-            format!("{}{}", cell(f.key, f.max), mark(above)),
-            cell(f.key, f.p_low),
-            cell(f.key, f.p_high),
-            cell(f.key, f.corner_min),
-            cell(f.key, f.corner_max),
+            unit_and_label(f.key, r.gain_unit).1.to_string(),
+            cell(r, f.key, f.nominal),
+            cell(r, f.key, f.mean),
+            cell(r, f.key, f.std),
+            format!("{}{}", cell(r, f.key, f.min), mark(below)),
+            format!("{}{}", cell(r, f.key, f.max), mark(above)),
+            cell(r, f.key, f.p_low),
+            cell(r, f.key, f.p_high),
+            cell(r, f.key, f.corner_min),
+            cell(r, f.key, f.corner_max),
             f.undefined.to_string(),
             sparkline(&f.histogram),
         ]);
@@ -188,11 +191,11 @@ fn write_shares(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
     let width = r
         .figures
         .iter()
-        .map(|f| unit_and_label(f.key).1.chars().count())
+        .map(|f| unit_and_label(f.key, r.gain_unit).1.chars().count())
         .max()
         .unwrap_or(0);
     for f in r.figures.iter().filter(|f| !f.contributions.is_empty()) {
-        let label = unit_and_label(f.key).1;
+        let label = unit_and_label(f.key, r.gain_unit).1;
         let pad = " ".repeat(width - label.chars().count());
         writeln!(out, "  {label}{pad}  {}", share_list(&f.contributions, 4))?;
     }
@@ -250,9 +253,9 @@ pub fn write_limits(r: &SpreadResult, out: &mut impl Write) -> Result<()> {
         let key = l.limit.figures[0];
         rows.push(vec![
             l.limit.field.to_string(),
-            cell(key, Some(l.value)),
-            cell(key, l.nominal),
-            cell(key, l.worst),
+            cell(r, key, Some(l.value)),
+            cell(r, key, l.nominal),
+            cell(r, key, l.worst),
             format!("{}/{}", l.failed, r.trials),
             if l.nominal_pass { "pass" } else { "FAIL" }.into(),
         ]);

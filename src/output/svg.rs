@@ -517,7 +517,7 @@ fn draw_primary<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, p: &Plot) -> anyhow::Resu
     chart
         .configure_mesh()
         .x_desc("frequency (Hz)")
-        .y_desc(left.desc)
+        .y_desc(left_desc(left, p.stages))
         .x_label_formatter(&|x| fmt_eng(10f64.powf(*x), "Hz").replace(' ', ""))
         .y_label_formatter(&|y| label(left, *y))
         .label_style(("sans-serif", font).into_font())
@@ -526,6 +526,19 @@ fn draw_primary<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, p: &Plot) -> anyhow::Resu
         .map_err(err)?;
     draw_marks(chart, p.stages, p.view, p.ly, p.look, font)?;
     draw_curves(chart, p.curves, false, p.look)
+}
+
+/// The left axis's description: its V/A one where it has one and every
+/// stage's gain is in V/A.
+fn left_desc(axis: Axis, stages: &[Evaluated]) -> &'static str {
+    use crate::model::stages::GainUnit;
+    let ohms = stages
+        .iter()
+        .all(|s| s.eval.analysis.gain_unit == GainUnit::VoltsPerAmp);
+    match axis.in_ohms {
+        Some(desc) if ohms && !stages.is_empty() => desc,
+        _ => axis.desc,
+    }
 }
 
 /// Curves on the right-hand axis too (phase beside magnitude).

@@ -101,7 +101,7 @@ pub fn step_chart(
     let (yr, y_axis) = axis((lo, hi), 8);
     let sizes: Vec<String> = stages
         .iter()
-        .map(|s| fmt_eng(s.eval.analysis.step.size_v, "V"))
+        .map(|s| fmt_eng(s.eval.analysis.step.size_v, s.scenario.input_unit()))
         .collect();
     let mut entries: Vec<Entry> = Vec::new();
     if !band.is_empty() {
@@ -208,7 +208,7 @@ fn draw_wave<'a, 'b: 'a>(
 fn panel_name(key: &str) -> &str {
     match key {
         "f_3db_hz" => "f−3dB",
-        other => unit_and_label(other).1,
+        other => crate::judge::spread_figures::label(other),
     }
 }
 
@@ -293,7 +293,8 @@ fn histogram_panel(
     look: Look,
     font: u32,
 ) -> anyhow::Result<()> {
-    let (unit, _) = unit_and_label(key);
+    let gain = results.first().map(|r| r.gain_unit).unwrap_or_default();
+    let (unit, _) = unit_and_label(key, gain);
     // Fractions are drawn in percent.
     let scale = if key == "target_error" { 100.0 } else { 1.0 };
     // A figure every trial gives the same value (to the shown digits) is
@@ -416,7 +417,7 @@ fn tagged_limits(results: &[SpreadResult], key: &str, scale: f64) -> Vec<(usize,
 
 /// The spec limits on one figure, as (x, text) in the panel's scale.
 fn limit_marks(r: &SpreadResult, key: &str, scale: f64) -> Vec<(f64, String)> {
-    let (unit, _) = unit_and_label(key);
+    let (unit, _) = unit_and_label(key, r.gain_unit);
     let mut out = Vec::new();
     for l in r.limits.iter().filter(|l| l.limit.figures.contains(&key)) {
         let value = unit.cell(l.value, false);

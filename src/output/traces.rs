@@ -33,6 +33,10 @@ pub struct Traces {
     pub gain_phase: Vec<(f64, f64)>,
     pub loop_db: Vec<(f64, f64)>,
     pub loop_phase: Vec<(f64, f64)>,
+    /// The amplifier's open-loop gain |A| and the noise gain |1/β| =
+    /// |A/T|, in dB: where they meet, the loop gain is 0 dB.
+    pub open_loop_db: Vec<(f64, f64)>,
+    pub noise_gain_db: Vec<(f64, f64)>,
     /// log10 |Z| in ohms: Zout at the load terminal (riso included, load
     /// removed), Zout_pin at the amplifier pin (riso and load removed), Zin.
     pub zout: Vec<(f64, f64)>,
@@ -57,13 +61,14 @@ impl Traces {
     pub fn new(a: &Analysis) -> Traces {
         let pts = &a.sweep.points;
         let lf = |p: &Point| p.f_hz.log10();
+        let db =
+            |pick: fn(&Point) -> f64| finite(pts.iter().map(|p| (lf(p), 20.0 * pick(p).log10())));
         Traces {
-            gain_db: finite(pts.iter().map(|p| (lf(p), 20.0 * p.gain.norm().log10()))),
+            gain_db: db(|p| p.gain.norm()),
             gain_phase: finite(unwrapped_gain_phase(pts).into_iter()),
-            loop_db: finite(
-                pts.iter()
-                    .map(|p| (lf(p), 20.0 * p.loop_gain.norm().log10())),
-            ),
+            loop_db: db(|p| p.loop_gain.norm()),
+            open_loop_db: db(|p| p.open_loop.norm()),
+            noise_gain_db: db(|p| p.noise_gain().norm()),
             loop_phase: finite(
                 pts.iter()
                     .zip(&a.sweep.loop_phase_deg)

@@ -7,7 +7,7 @@
 //! (its axes, traces and marks).
 
 use crate::model::values::{fmt_eng, printable};
-use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG};
+use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG, GAIN_DB};
 pub use crate::output::figure::{MarkKind, ViewId};
 use crate::output::kick;
 use crate::output::settling;
@@ -151,12 +151,31 @@ fn response_curves(t: &Traces) -> Vec<Curve> {
     c
 }
 
+/// The loop gain T and its phase, with the amplifier's open-loop gain |A|
+/// and the noise gain |1/β| = |A/T|: T in dB is the gap between the two,
+/// and the rate at which they close is the margin.
+fn loop_curves(t: &Traces) -> Vec<Curve> {
+    vec![
+        curve("loop gain |T|", false, &t.loop_db),
+        curve("loop phase", true, &t.loop_phase),
+        Curve {
+            tone: 1,
+            ..curve("open-loop gain |A|", false, &t.open_loop_db)
+        },
+        Curve {
+            tone: 2,
+            ..curve("noise gain |1/β| = |A/T|", false, &t.noise_gain_db)
+        },
+    ]
+}
+
 /// The envelope needs the signal's peak.
 fn needs_peak(s: &Evaluated) -> Option<String> {
     s.scenario.signal_peak().is_none().then(|| {
         format!(
-            "the envelope view needs source.peak (the signal's peak at the source); \
+            "the envelope view needs {} (the signal's peak at the source); \
              “{}” gives none",
+            s.scenario.peak_field(),
             printable(&s.scenario.title)
         )
     })
@@ -221,7 +240,7 @@ pub static VIEWS: [View; 9] = [
         about: "closed-loop gain and phase, f−3dB marked",
         workbench: true,
         needs: nothing_needed,
-        left: DB,
+        left: GAIN_DB,
         right: Some(DEG),
         curves: response_curves,
         marks: f3db_mark,
@@ -231,17 +250,14 @@ pub static VIEWS: [View; 9] = [
         id: ViewId::Loop,
         name: "loop",
         title: "Loop gain",
-        about: "loop gain and phase, crossover and phase margin marked",
+        about: "loop gain and phase, the amplifier's open-loop gain |A| and the noise \
+                gain |1/β| = |A/T| (the loop gain is the gap between them), crossover and \
+                phase margin marked",
         workbench: true,
         needs: nothing_needed,
         left: DB,
         right: Some(DEG),
-        curves: |t| {
-            vec![
-                curve("loop gain", false, &t.loop_db),
-                curve("loop phase", true, &t.loop_phase),
-            ]
-        },
+        curves: loop_curves,
         marks: crossover_mark,
         own: None,
     },
@@ -255,6 +271,7 @@ pub static VIEWS: [View; 9] = [
         left: Axis {
             desc: "noise density (V/√Hz)",
             log_unit: Some("V"),
+            in_ohms: None,
         },
         right: None,
         curves: |t| vec![curve("noise", false, &t.noise)],
@@ -271,6 +288,7 @@ pub static VIEWS: [View; 9] = [
         left: Axis {
             desc: "|Z| (Ω)",
             log_unit: Some("Ω"),
+            in_ohms: None,
         },
         right: None,
         curves: impedance_curves,
@@ -281,12 +299,13 @@ pub static VIEWS: [View; 9] = [
         id: ViewId::Envelope,
         name: "envelope",
         title: "Output envelope",
-        about: "the peak needed at the internal output under its swing, slew and current ceilings; needs source.peak",
+        about: "the peak needed at the internal output under its swing, slew and current ceilings; needs source.peak (source.ipeak for a current input)",
         workbench: true,
         needs: needs_peak,
         left: Axis {
             desc: "peak at the internal output (V)",
             log_unit: Some("V"),
+            in_ohms: None,
         },
         right: None,
         curves: envelope_curves,

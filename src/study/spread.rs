@@ -116,6 +116,9 @@ pub struct SpreadResult {
     pub yield_min: f64,
     /// The temperatures each trial is judged at (one without a range).
     pub temperatures: Vec<f64>,
+    /// The unit of the stage's gain (its gain figures read in ohms for
+    /// V/A).
+    pub gain_unit: crate::model::stages::GainUnit,
 }
 
 impl SpreadResult {
@@ -596,6 +599,7 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
         yield_frac,
         yield_min: spec::yield_min(s),
         temperatures: plan.temps.clone(),
+        gain_unit: s.stage.topology.kind().gain_unit,
     }
 }
 

@@ -36,6 +36,9 @@ pub struct Trace<'a> {
     /// A name printed on the trace, at `label_at` (0 = left, 1 = right).
     pub label: Option<String>,
     pub label_at: f64,
+    /// A secondary curve: its label is placed after the marks' (a margin
+    /// or a bandwidth is read before a curve's name), where cells remain.
+    pub minor: bool,
     pub joining: Joining,
 }
 
@@ -244,12 +247,7 @@ impl LogPlot<'_> {
             }
         }
         self.draw_cursor(plot, &map, &mut taken, buf);
-        for (i, t) in self.traces.iter().enumerate() {
-            let Some(label) = &t.label else { continue };
-            if let Some((c, r)) = trace_label_spot(t, label, &traces[i], &taken, plot) {
-                put_label(plot, (c, r), label, t.style, &mut taken, buf);
-            }
-        }
+        self.draw_trace_labels(false, plot, &traces, &mut taken, buf);
         for (i, m) in self.marks.iter().enumerate() {
             if m.x < self.x_range.0 || m.x > self.x_range.1 {
                 continue;
@@ -263,6 +261,27 @@ impl LogPlot<'_> {
                     put_label(plot, spot, text, self.mark_style, &mut taken, buf);
                     break;
                 }
+            }
+        }
+        self.draw_trace_labels(true, plot, &traces, &mut taken, buf);
+    }
+
+    /// The names of the main (or the minor) traces, each where it covers
+    /// no trace cell and no label.
+    fn draw_trace_labels(
+        &self,
+        minor: bool,
+        plot: Rect,
+        traces: &[Dots],
+        taken: &mut [bool],
+        buf: &mut Buffer,
+    ) {
+        for (i, t) in self.traces.iter().enumerate() {
+            let Some(label) = t.label.as_ref().filter(|_| t.minor == minor) else {
+                continue;
+            };
+            if let Some((c, r)) = trace_label_spot(t, label, &traces[i], taken, plot) {
+                put_label(plot, (c, r), label, t.style, taken, buf);
             }
         }
     }

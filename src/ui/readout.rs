@@ -3,6 +3,7 @@
 
 use super::app::App;
 use crate::judge::figures::Reading;
+use crate::model::stages::GainUnit;
 use crate::model::values::fmt_fixed;
 use crate::output::report::PointReport;
 use ratatui::buffer::Buffer;
@@ -12,8 +13,9 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use super::widgets::compact as eng;
 
-/// The readout's parts for one stage, most important first.
-pub fn parts(r: &PointReport) -> Vec<String> {
+/// The readout's parts for one stage, most important first; the gain's
+/// level in its unit (dB, or dBΩ for a transimpedance).
+pub fn parts(r: &PointReport, unit: GainUnit) -> Vec<String> {
     let db = |m: f64| fmt_fixed(20.0 * m.log10(), 1);
     let deg = |p: Option<f64>, d| {
         p.map_or(String::new(), |p| {
@@ -22,7 +24,8 @@ pub fn parts(r: &PointReport) -> Vec<String> {
     };
     let mut out = Vec::new();
     if let Some(g) = r.gain_mag {
-        out.push(format!("gain {}dB{}", db(g), deg(r.gain_phase_deg, 1)));
+        let u = crate::model::values::spelled(unit.db());
+        out.push(format!("gain {}{u}{}", db(g), deg(r.gain_phase_deg, 1)));
     }
     // Two inputs: the CMRR there (unbounded reads as above the ceiling).
     if let Some(c) = r.cmrr_db {
@@ -78,7 +81,12 @@ pub fn draw(app: &App, area: Rect, buf: &mut Buffer) {
             break;
         }
         let head = format!("{} @ {}", App::slot_label(i), eng(app.probe_hz, "Hz"));
-        let parts = slot.readout.as_ref().map(parts).unwrap_or_default();
+        let unit = slot.eval.analysis.gain_unit;
+        let parts = slot
+            .readout
+            .as_ref()
+            .map(|r| parts(r, unit))
+            .unwrap_or_default();
         let text = fit(&head, &parts, width);
         let rest = text[head.len()..].to_string();
         let line = Line::from(vec![

@@ -152,7 +152,7 @@ fn panel(app: &App, r: &SpreadResult, shown: (&FigureSpread, &str), area: Rect, 
     if area.height < 4 || area.width < 6 {
         return;
     }
-    let (unit, _) = unit_and_label(f.key);
+    let (unit, _) = unit_and_label(f.key, r.gain_unit);
     let cell = |v: f64| unit.cell(v, false);
     let [name, bars, axis, foot, movers] = Layout::vertical([
         Constraint::Length(1),
@@ -237,7 +237,7 @@ fn limit_notes(
     (bars, foot): (Rect, Rect),
     buf: &mut Buffer,
 ) {
-    let (unit, _) = unit_and_label(f.key);
+    let (unit, _) = unit_and_label(f.key, r.gain_unit);
     let cell = |v: f64| unit.cell(v, false);
     let mut notes = Vec::new();
     let span = hi - lo;

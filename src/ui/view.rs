@@ -11,6 +11,7 @@ use crate::model::params::Group;
 use crate::model::values::{fmt_eng, fmt_fixed, spelled};
 use crate::output::views::MarkKind;
 use ratatui::layout::{Constraint, Layout, Rect};
+use ratatui::style::Style;
 use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, Borders, Clear, Paragraph, Widget};
 use ratatui::Frame;
@@ -336,6 +337,7 @@ fn traces<'a>(
                 None
             },
             label_at: 0.85,
+            minor: false,
             joining,
         })
         .collect()
@@ -509,7 +511,7 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let x = X_WINDOW;
     let (mag_tr, ph_tr): (Vec<Trace>, Vec<Trace>) = if loop_view {
         (
-            traces(app, |s| &s.traces.loop_db, None, Joining::Continuous),
+            loop_magnitudes(app),
             traces(app, |s| &s.traces.loop_phase, None, Joining::Continuous),
         )
     } else {
@@ -521,9 +523,14 @@ fn bode(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let (lo, hi) = visible_range(mag_tr.iter().map(|t| t.points), x);
     let rows = mag.height as usize;
     let plot_rows = rows.saturating_sub(usize::from(phase.height == 0));
+    let unit = if loop_view {
+        "dB".into()
+    } else {
+        gain_db_unit(app)
+    };
     let y = match gain_zoom(app, plot_rows).filter(|_| !loop_view && !app.full_range) {
-        Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2)),
-        None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), "dB"),
+        Some((r, exact)) => zoom_axis(r, exact, (rows / 2).max(2), &unit),
+        None => linear_axis((lo.max(hi - 100.0), hi + 5.0), (rows / 2).max(2), &unit),
     };
     // Each stage's marks; where B's fall on A's (the same stage twice),
     // A's alone, untagged.
@@ -601,8 +608,42 @@ fn cmrr_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let tr = traces(app, |s| &s.traces.cmrr_db, Some(label), Joining::Continuous);
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), X_WINDOW);
     let rows = (area.height as usize).saturating_sub(1);
-    let y = zoom_axis((lo - 5.0, hi + 5.0), true, rows.max(2));
+    let y = zoom_axis((lo - 5.0, hi + 5.0), true, rows.max(2), "dB");
     plot(app, tr, X_WINDOW, y, Vec::new()).render(area, buf);
+}
+
+/// The loop view's magnitudes: each stage's loop gain, then the active
+/// stage's open-loop gain |A| (dim) and noise gain |1/β| = |A/T| (its
+/// own tone) in its stroke, labelled: the loop gain is the gap between
+/// them (two stages' four would bury the margins; the active stage's
+/// show, and switching stage shows the other's).
+fn loop_magnitudes(app: &App) -> Vec<Trace<'_>> {
+    type Pick = fn(&Slot) -> &[(f64, f64)];
+    let mut tr = traces(
+        app,
+        |s| &s.traces.loop_db,
+        Some("loop"),
+        Joining::Continuous,
+    );
+    for t in &mut tr {
+        t.minor = true;
+    }
+    let others: [(&str, Style, Pick); 2] = [
+        ("open loop", app.theme.dim, |s| &s.traces.open_loop_db),
+        ("noise gain", app.theme.trace_2, |s| &s.traces.noise_gain_db),
+    ];
+    for (name, style, pick) in others {
+        tr.push(Trace {
+            points: pick(app.slot()),
+            style,
+            stroke: slot_style(app, app.active).1,
+            label: Some(name.to_string()),
+            label_at: 0.02,
+            minor: true,
+            joining: Joining::Continuous,
+        });
+    }
+    tr
 }
 
 /// The closed-loop gain of every stage in the middle of its band (the
@@ -653,13 +694,18 @@ fn gain_zoom(app: &App, rows: usize) -> Option<((f64, f64), bool)> {
 
 /// A dB axis over `range`, rounded out to grid steps unless `exact`, with
 /// ticks at round steps inside it.
-fn zoom_axis(range: (f64, f64), exact: bool, ticks: usize) -> ((f64, f64), Vec<(f64, String)>) {
+fn zoom_axis(
+    range: (f64, f64),
+    exact: bool,
+    ticks: usize,
+    unit: &str,
+) -> ((f64, f64), Vec<(f64, String)>) {
     let ((lo, hi), t) = nice_linear(range.0, range.1, ticks);
     let r = if exact { range } else { (lo, hi) };
     let labelled = t
         .into_iter()
         .filter(|v| *v >= r.0 - 1e-9 && *v <= r.1 + 1e-9)
-        .map(|v| (v, format!("{}dB", fmt_plain_db(v))))
+        .map(|v| (v, format!("{}{unit}", fmt_plain_db(v))))
         .collect();
     (r, labelled)
 }
@@ -671,17 +717,44 @@ fn fmt_plain_db(v: f64) -> String {
     s.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
+/// The unit of the gain axis: dB, or dBΩ where every stage shown is a
+/// transimpedance (a mixed pair keeps plain dB).
+fn gain_db_unit(app: &App) -> String {
+    use crate::model::stages::GainUnit;
+    let unit = app.slot().eval.analysis.gain_unit;
+    let alike = app.slots.iter().all(|s| s.eval.analysis.gain_unit == unit);
+    spelled(if alike {
+        unit.db()
+    } else {
+        GainUnit::VoltsPerVolt.db()
+    })
+}
+
 /// The stage's gains, from the figure table's gain ratios: nominal, with
-/// the passive network, and the DC gain.
+/// the passive network, and the DC gain; a gain in ohms has its level in
+/// dBΩ after the first ("nominal −1.000MΩ (120.0dBΩ)").
 fn gains_line(app: &App) -> String {
     let slot = app.slot();
     let cells: Vec<String> = crate::judge::figures::FIGURES
         .iter()
         .filter(|f| f.section == Section::Gain && f.unit == Unit::Ratio)
         .filter(|f| f.applies_to(&slot.eval))
-        .map(|f| {
-            let cell = f.cell_in(&slot.eval, f.read(&slot.eval), false);
-            format!("{} {}", f.short, trim_zeros(&cell))
+        .enumerate()
+        .map(|(i, f)| {
+            let r = f.read(&slot.eval);
+            let cell = f.cell_in(&slot.eval, r, false);
+            let level = match (r, f.unit_in(&slot.eval)) {
+                (Reading::Value(v), Unit::Si(_)) if i == 0 && v != 0.0 => {
+                    let unit = slot.eval.analysis.gain_unit.db();
+                    format!(
+                        " ({}{})",
+                        fmt_fixed(20.0 * v.abs().log10(), 1),
+                        spelled(unit)
+                    )
+                }
+                _ => String::new(),
+            };
+            format!("{} {}{level}", f.short, trim_zeros(&cell))
         })
         .collect();
     let who = if app.slots.len() > 1 {
@@ -839,6 +912,7 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
                 },
                 label: (i == app.active).then(|| name.to_string()),
                 label_at: at,
+                minor: false,
                 joining: Joining::Continuous,
             });
         }
@@ -943,7 +1017,11 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let n = (area.width as usize * 4).clamp(50, 600);
     let responses: Vec<_> = app.slots.iter().map(|s| &s.eval.analysis.step).collect();
     let (waves, divided) = crate::engine::step::shown_waves(&responses, end, n);
-    let sizes: Vec<String> = responses.iter().map(|r| compact(r.size_v, "V")).collect();
+    let sizes: Vec<String> = app
+        .slots
+        .iter()
+        .map(|s| compact(s.eval.analysis.step.size_v, s.scenario.input_unit()))
+        .collect();
     let unit = if divided { "output / final value" } else { "V" };
     let title = format!(
         " {}, {} step, {unit}{} ",
@@ -978,6 +1056,7 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke: Stroke::Solid,
             label: (i == 0).then(|| "final".to_string()),
             label_at: 0.9,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -989,6 +1068,7 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke,
             label: None,
             label_at: 0.85,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1048,6 +1128,7 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke: Stroke::Solid,
             label: None,
             label_at: 0.9,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1059,6 +1140,7 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke,
             label: None,
             label_at: 0.85,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1183,6 +1265,7 @@ fn kick_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             stroke: Stroke::Solid,
             label: Some("½LSB".into()),
             label_at: 0.95,
+            minor: false,
             joining: Joining::Continuous,
         })
         .collect();
@@ -1195,6 +1278,7 @@ fn kick_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
                 stroke,
                 label: None,
                 label_at: 0.85,
+                minor: false,
                 joining: Joining::Continuous,
             });
         }
@@ -1256,6 +1340,7 @@ fn impedance_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
             },
             label: (i == app.active).then(|| "Zin".to_string()),
             label_at: 0.02,
+            minor: false,
             joining: Joining::Continuous,
         });
     }
@@ -1297,6 +1382,7 @@ fn pin_traces(app: &App) -> Vec<Trace<'_>> {
                 && crate::model::scenario::present(s.scenario.stage.riso).is_some())
             .then(|| "pin".to_string()),
             label_at: 0.3,
+            minor: false,
             joining: Joining::Continuous,
         })
         .collect()

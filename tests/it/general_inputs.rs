@@ -46,6 +46,7 @@ const fn test_kind(parts: &'static [PartDecl], input: Input) -> Kind {
         negative: false,
         source_in_network: false,
         feedback_load: |_| f64::INFINITY,
+        source_parts: &[],
         stabilize: &[],
         pairs: None,
     }

@@ -23,6 +23,7 @@ mod general_inputs;
 mod large_signal;
 mod limits;
 mod loader_fuzz;
+mod loop_view;
 mod noise_checks;
 mod note_and_shell;
 mod parts;

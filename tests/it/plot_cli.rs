@@ -53,10 +53,11 @@ fn curves(doc: &roxmltree::Document) -> usize {
 fn every_scenario_and_view_is_well_formed_svg() {
     let dir = temp_dir("plot-all");
     let out = dir.join("f.svg");
-    // Curves per stage: gain and phase, loop gain and phase, noise.
+    // Curves per stage: gain and phase; loop gain and phase with the
+    // open-loop gain and the noise gain (issue 21); noise.
     let views = [
         ("response", 2, "f−3dB"),
-        ("loop", 2, "PM"),
+        ("loop", 4, "PM"),
         ("noise", 1, "band"),
     ];
     for entry in std::fs::read_dir(scenario("")).unwrap() {

@@ -33,6 +33,7 @@ fn trace<'a>(points: &'a [(f64, f64)], stroke: Stroke, label: Option<&str>, at: 
         stroke,
         label: label.map(str::to_string),
         label_at: at,
+        minor: false,
         joining: Joining::Continuous,
     }
 }

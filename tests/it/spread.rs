@@ -197,7 +197,7 @@ fn trial_depth_agrees_with_the_full_analysis() {
                 loopwright::judge::spread_figures::read(&full, key, 1.0),
                 loopwright::judge::spread_figures::read(&trial, key, 1.0),
             );
-            let (unit, _) = spread::unit_and_label(key);
+            let (unit, _) = spread::unit_and_label(key, trial.analysis.gain_unit);
             let half = match unit {
                 Unit::Ratio => 5e-7,
                 Unit::Db => 5e-3,

@@ -417,3 +417,216 @@ fn switching_kind_keeps_shared_parts() {
     assert!(back.source.r.is_none() && back.source.dc.is_none());
     assert!(back.validate().is_ok(), "{:?}", back.validate());
 }
+
+/// A stage for the input impedance: a slow amplifier (a0 = 1e3, gbw =
+/// 1 MHz, its pole at 1 kHz) so that Zin is about a kilohm, beside a
+/// diode whose rsh (1 kΩ) and cd (1 µF) would halve it or swamp it if
+/// they were counted; ro 50 Ω, no rin, no cin, no cf.
+fn zin_stage(extra: &str) -> Scenario {
+    let text = format!(
+        "(title: \"zin\",
+          stage: (topology: Transimpedance, rf: 1.0e6, series: E24, tolerance: 0.01{extra}),
+          amp: (a0: 1.0e3, gbw: 1.0e6, ro: 50.0, vnoise: 1.0e-9, inoise: 0.0),
+          source: (cd: 1.0e-6, rsh: 1000.0, idc: 0.0),
+          load: (), temp_c: 25.0, band: (1.0, 1.0e4))"
+    );
+    Scenario::from_ron(&text, None).unwrap()
+}
+
+/// `zin_dc_ohm` is what the current source looks into at the − input
+/// with cd and rsh removed (the issue's definition). Derivation (nodal
+/// analysis, no rin): the current I into the − node runs through rf to
+/// the amplifier's output, which is a Thevenin source −A·V−·k behind
+/// R_th = ro ∥ R_l (R_l the path to ground after the pin: riso + the
+/// load, k = R_l/(R_l + ro); with no load, k = 1, R_th = ro). So
+/// V− = −A·k·V− + I·(rf + R_th): Zin = (rf + R_th)/(1 + A·k). With the
+/// feedback taken after riso and no load, riso carries I too:
+/// Zin = (rf + riso + ro)/(1 + A).
+#[test]
+fn zin_leaves_out_the_diode() {
+    let (rf, ro, a0) = (1.0e6, 50.0, 1.0e3);
+    let a = analyze(&zin_stage(""));
+    assert_rel(
+        "Zin, no load",
+        a.zin_dc_ohm.unwrap(),
+        (rf + ro) / (1.0 + a0),
+        1e-6,
+    );
+    // riso in series with rf (feedback after it), no load.
+    let a = analyze(&zin_stage(", riso: 100.0, feedback: Load"));
+    let want = (rf + 100.0 + ro) / (1.0 + a0);
+    assert_rel(
+        "Zin, feedback at the load",
+        a.zin_dc_ohm.unwrap(),
+        want,
+        1e-6,
+    );
+    // riso after the pin into a 1 kΩ load, feedback at the pin.
+    let mut s = zin_stage(", riso: 100.0");
+    s.load.r = Some(1000.0);
+    let rl = 100.0 + 1000.0;
+    let (k, r_th) = (rl / (rl + ro), ro * rl / (ro + rl));
+    let want = (rf + r_th) / (1.0 + a0 * k);
+    assert_rel(
+        "Zin, riso into a load",
+        analyze(&s).zin_dc_ohm.unwrap(),
+        want,
+        1e-6,
+    );
+    // At 1 kHz (the amplifier's pole) cd's 159 Ω would swamp it: the
+    // points' Zin leaves it out too. A(s) = a0/(1 + s·a0/ω_t).
+    let c = Circuit::new(&zin_stage(""));
+    let f = 1.0e3;
+    let s = C64::new(0.0, 2.0 * PI * f);
+    let a_s = a0 / (1.0 + s * a0 / (2.0 * PI * 1.0e6));
+    let want = (rf + ro) / (1.0 + a_s);
+    let got = c.eval(f).unwrap().zin.unwrap();
+    assert_rel("|Zin| at 1 kHz", got.norm(), want.norm(), 1e-6);
+}
+
+/// The workbench reads the transimpedance in its unit (the issue's
+/// "transimpedance −1.000 MΩ (120.0 dBΩ)"): the response view's axis
+/// and caption and the cursor readout in dBΩ, the figures row in Ω; A/B
+/// against a voltage stage, the B − A of the gain is "—".
+#[test]
+fn the_workbench_speaks_in_ohms() {
+    use crate::support::keys::screen_at;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let s = stage(Some(0.56e-12));
+    let app = App::new(vec![(s.clone(), None)], Theme::new(false, false));
+    let screen = screen_at(&app, 80, 24);
+    // 20·log10(1e6 Ω) = 120 dBΩ: the axis's top tick and the caption.
+    assert!(screen.contains("120dBΩ ├"), "{screen}");
+    assert!(screen.contains("(120.0dBΩ)"), "{screen}");
+    let readout = screen.lines().find(|l| l.starts_with("A @ ")).unwrap();
+    assert!(readout.contains("gain 120.0dBΩ∠"), "{readout}");
+    assert!(screen.contains("−1.000MΩ"), "{screen}");
+    // A voltage stage beside it: no dBΩ on its own, "—" for B − A.
+    let v = crate::support::stages::plain(Topology::Inverting, 1e3, 1e4);
+    let ab = App::new(vec![(v, None), (s, None)], Theme::new(false, false));
+    let screen = screen_at(&ab, 120, 40);
+    let delta = screen.lines().find(|l| l.starts_with("Δ ")).unwrap();
+    let gain_cell = delta.split_whitespace().nth(1).unwrap();
+    assert_eq!(gain_cell, "—", "{screen}");
+}
+
+/// The text report's `--at` table and the response figure read the
+/// transimpedance in ohms: |Z_T| at 1 kHz is rf (1 MΩ; the loop gain
+/// there is about 1e4, a 1e-4 error), and the SVG's gain axis is in dBΩ.
+#[test]
+fn the_at_table_and_the_figure_speak_in_ohms() {
+    use loopwright::output::svg::{self, Evaluated, Look};
+    use loopwright::output::views::ViewId;
+    let s = stage(Some(0.56e-12));
+    let e = evaluate(&s);
+    let r = Report::new(&s, &e, &[1.0e3]);
+    let mut out = Vec::new();
+    write_text(&r, &s, &e, &mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    let row = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("1 kHz"))
+        .unwrap();
+    assert_eq!(row.split_whitespace().nth(2), Some("1"), "{row}");
+    assert_eq!(row.split_whitespace().nth(3), Some("MΩ"), "{row}");
+    let stage = [Evaluated {
+        scenario: &s,
+        eval: &e,
+    }];
+    let svg = svg::render(ViewId::Response.view(), &stage, Look::default()).unwrap();
+    assert!(svg.contains("transimpedance (dBΩ)"), "{svg}");
+}
+
+/// The workbench's stabilising list (`m`) says what `stabilize` says of
+/// the flat cf: its value beside the `cf, flat` rows, or, where
+/// 2·ω_t·R_f·C_i ≤ 1, that no cf is needed (the closed form above).
+#[test]
+fn the_workbench_list_names_the_flat_cf() {
+    use crate::support::keys::{key, screen_at};
+    use crossterm::event::KeyCode;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let list = |s: Scenario| {
+        let mut app = App::new(vec![(s, None)], Theme::new(false, false));
+        app.on_key(key(KeyCode::Char('m')));
+        screen_at(&app, 120, 40).replace('│', " ")
+    };
+    let joined = |t: &str| t.split_whitespace().collect::<Vec<_>>().join(" ");
+    // The check stage without cf: the flat cf is 0.564 pF.
+    assert!((flat_cf() - 0.564e-12).abs() < 0.0005e-12);
+    let screen = joined(&list(stage(None)));
+    assert!(screen.contains("cf, flat"), "{screen}");
+    assert!(screen.contains("maximally flat cf 0.564 pF"), "{screen}");
+    // rf 1 kΩ, cd 1 pF, gbw 10 MHz: 2·ω_t·R_f·C_i = 2·2π·1e7·1e3·1e-12
+    // ≈ 0.126 ≤ 1.
+    let mut small = stage(None);
+    small.stage.rf = Some(1.0e3);
+    small.source.cd = Some(1.0e-12);
+    assert!(2.0 * wt() * 1.0e3 * 1.0e-12 <= 1.0);
+    let screen = joined(&list(small));
+    // The note wraps in the overlay: its two halves.
+    assert!(screen.contains("no cf is"), "{screen}");
+    assert!(screen.contains("needed for a flat response (2·ω_t·rf·C_i ≤ 1)"));
+}
+
+/// `spread` reads the transimpedance's DC gain in ohms too: its rows
+/// for the 1 MΩ stage (±1 % rf, a uniform spread) say MΩ for the
+/// nominal and kΩ for the std (about 1 MΩ·0.01/√3 ≈ 5.8 kΩ, the
+/// standard deviation of a uniform on ±a being a/√3).
+#[test]
+fn spread_reads_the_transimpedance_in_ohms() {
+    use loopwright::study::spread::{spread, Run};
+    let s = stage(Some(0.56e-12));
+    let r = spread(
+        &s,
+        &Run {
+            trials: Some(200),
+            ..Run::default()
+        },
+    );
+    let mut out = Vec::new();
+    loopwright::output::spread_text::write_spread(&r, "t", &mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    let row = text.lines().find(|l| l.starts_with("DC gain")).unwrap();
+    let cells: Vec<&str> = row.split_whitespace().collect();
+    assert!(cells[2].ends_with("MΩ"), "{row}");
+    assert!(cells[4].ends_with("kΩ"), "{row}");
+    let std_ohm: f64 = cells[4].trim_end_matches("kΩ").parse::<f64>().unwrap() * 1e3;
+    assert_rel(
+        "std of the transimpedance",
+        std_ohm,
+        1.0e6 * 0.01 / 3f64.sqrt(),
+        0.2,
+    );
+}
+
+/// A current input's step is in amperes on the step view and figure, and
+/// the envelope view asks for the kind's own peak field.
+#[test]
+fn the_step_and_envelope_views_name_the_current() {
+    use crate::support::keys::{key, screen_at};
+    use crossterm::event::KeyCode;
+    use loopwright::output::svg::{self, Evaluated, Look};
+    use loopwright::output::views::ViewId;
+    use loopwright::ui::app::App;
+    use loopwright::ui::theme::Theme;
+    let mut s = stage(Some(0.56e-12));
+    s.source.ipeak = None;
+    let e = evaluate(&s);
+    let stage_of = [Evaluated {
+        scenario: &s,
+        eval: &e,
+    }];
+    // The default current step: 1 µA (the README's step.size_a).
+    let svg = svg::render(ViewId::Step.view(), &stage_of, Look::default()).unwrap();
+    assert!(svg.contains("1 µA"), "{svg}");
+    let needs = (ViewId::Envelope.view().needs)(&stage_of[0]).unwrap();
+    assert!(needs.contains("source.ipeak"), "{needs}");
+    let mut app = App::new(vec![(s, None)], Theme::new(false, false));
+    while app.view != ViewId::Step {
+        app.on_key(key(KeyCode::Char('v')));
+    }
+    let screen = screen_at(&app, 120, 40);
+    assert!(screen.contains("1µA step"), "{screen}");
+}

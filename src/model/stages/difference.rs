@@ -70,6 +70,7 @@ pub static KIND: Kind = Kind {
     // The − pin follows the + pin, which sits near the reference: r2
     // loads the feedback point.
     feedback_load: |st| st.r2.unwrap_or(0.0),
+    source_parts: &[],
     stabilize: &["riso", "cf"],
     pairs: Some(Pairs {
         gain: |ratio| ratio,

@@ -26,6 +26,7 @@ pub static KIND: Kind = Kind {
     source_in_network: false,
     // A follower's rf carries only the input current.
     feedback_load: |_| f64::INFINITY,
+    source_parts: &[],
     stabilize: &["riso"],
     pairs: None,
 };

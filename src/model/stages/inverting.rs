@@ -35,6 +35,7 @@ pub static KIND: Kind = Kind {
     source_in_network: true,
     // The − input is a virtual ground: only rf loads the feedback point.
     feedback_load: |st| st.rf.unwrap_or(0.0),
+    source_parts: &[],
     stabilize: &["riso", "cf"],
     pairs: Some(Pairs {
         gain: |ratio| ratio,

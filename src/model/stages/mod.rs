@@ -147,9 +147,10 @@ impl Input {
 }
 
 /// The unit of a kind's gain.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum GainUnit {
     /// V/V.
+    #[default]
     VoltsPerVolt,
     /// V/A (a current input).
     VoltsPerAmp,
@@ -160,6 +161,15 @@ impl GainUnit {
         match self {
             GainUnit::VoltsPerVolt => "V/V",
             GainUnit::VoltsPerAmp => "V/A",
+        }
+    }
+
+    /// The unit of the gain's level, 20·log10 of its magnitude: dB of a
+    /// ratio, dBΩ of a transimpedance in ohms.
+    pub fn db(self) -> &'static str {
+        match self {
+            GainUnit::VoltsPerVolt => "dB",
+            GainUnit::VoltsPerAmp => "dBΩ",
         }
     }
 }
@@ -215,6 +225,11 @@ pub struct Kind {
     /// The DC resistance the feedback network puts on the point where
     /// the feedback is taken (the − input's level follows from the kind).
     pub feedback_load: fn(&Stage) -> f64,
+    /// The parts that belong to the signal source (a photodiode's own
+    /// capacitance and shunt), by name: the input impedance is read with
+    /// each at its absent value, as a voltage source's resistance is left
+    /// out of it.
+    pub source_parts: &'static [&'static str],
     /// The parts `stabilize` offers, by name.
     pub stabilize: &'static [&'static str],
     pub pairs: Option<Pairs>,
@@ -250,6 +265,25 @@ impl Kind {
         self.parts
             .iter()
             .any(|p| p.a == Node::Reference || p.b == Node::Reference)
+    }
+
+    /// The stage without its source's own parts ([`Kind::source_parts`]),
+    /// each at its absent value; None where the kind declares none.
+    pub fn without_source(&self, s: &Scenario) -> Option<Scenario> {
+        if self.source_parts.is_empty() {
+            return None;
+        }
+        let mut bare = s.clone();
+        for p in self
+            .parts
+            .iter()
+            .filter(|p| self.source_parts.contains(&p.name))
+        {
+            if let Some(param) = crate::model::params::param(p.param) {
+                param.set(&mut bare, None);
+            }
+        }
+        Some(bare)
     }
 
     /// Whether the kind has a part of this name.
@@ -353,6 +387,24 @@ impl Scenario {
             self.source.ipeak
         } else {
             self.source.peak
+        }
+    }
+
+    /// The unit of the kind's input signal: "A" for a current, else "V".
+    pub fn input_unit(&self) -> &'static str {
+        if self.current_input() {
+            "A"
+        } else {
+            "V"
+        }
+    }
+
+    /// The file field of the signal's peak at the input.
+    pub fn peak_field(&self) -> &'static str {
+        if self.current_input() {
+            "source.ipeak"
+        } else {
+            "source.peak"
         }
     }
 

@@ -35,6 +35,7 @@ pub static KIND: Kind = Kind {
     source_in_network: false,
     // rf and rg in series from the feedback point to the reference.
     feedback_load: |st| st.rf.unwrap_or(0.0) + st.rg.unwrap_or(0.0),
+    source_parts: &[],
     stabilize: &["riso", "cf"],
     pairs: Some(Pairs {
         gain: |ratio| 1.0 + ratio,

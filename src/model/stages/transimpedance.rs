@@ -54,6 +54,9 @@ pub static KIND: Kind = Kind {
     source_in_network: false,
     // The − input is a virtual ground: only rf loads the feedback point.
     feedback_load: |st| st.rf.unwrap_or(0.0),
+    // The diode's own capacitance and shunt: the source's, not the
+    // stage's input impedance.
+    source_parts: &["cd", "rsh"],
     stabilize: &["riso", "cf"],
     pairs: None,
 };

@@ -156,7 +156,9 @@ impl App {
             false => format!(" Stabilising options for {target}° (↑↓ Enter, Esc) "),
         };
         let mut list = Choices::new(title, &helper_tables::fix_header(&o), &cells, picks);
-        list.note = helper_tables::margin_now_text(&o);
+        let mut notes = vec![helper_tables::margin_now_text(&o)];
+        notes.extend(helper_tables::notes_after(&o));
+        list.note = notes.join("; ");
         self.mode = Mode::Choose(list);
         self.info("stabilising options: ↑↓ choose, Enter applies the part, Esc cancels");
     }
