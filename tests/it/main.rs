@@ -38,6 +38,7 @@ mod saves;
 mod scenario_files;
 mod screen_fit;
 mod spread;
+mod spread_stream;
 mod spread_ui;
 mod stability;
 mod stage_kinds;
