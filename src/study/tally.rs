@@ -301,7 +301,7 @@ impl Stream {
     /// The range the streamed histogram's sub-bins cover (None before two
     /// different finite values).
     pub fn grid_width(&self) -> Option<f64> {
-        (self.fine.w > 0.0).then(|| self.fine.w * FINE_BINS as f64)
+        (self.fine.w > 0.0).then_some(self.fine.w * FINE_BINS as f64)
     }
 
     /// The statistics: from every value up to [`EXACT_TRIALS`] defined
@@ -331,9 +331,14 @@ impl Stream {
             }
             _ => [0; BINS],
         };
-        let still = matches!((min, max), (Some(a), Some(b)) if b - a <= 1e-12 * a.abs().max(b.abs()));
+        let still =
+            matches!((min, max), (Some(a), Some(b)) if b - a <= 1e-12 * a.abs().max(b.abs()));
         let std = self.moments.std().map(|s| if still { 0.0 } else { s });
-        let at = |p| (n > 0).then(|| quantile_by(n, p, |r| tails.rank(r, n))).flatten();
+        let at = |p| {
+            (n > 0)
+                .then(|| quantile_by(n, p, |r| tails.rank(r, n)))
+                .flatten()
+        };
         Stats {
             mean: self.moments.mean(),
             std,

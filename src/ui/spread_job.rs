@@ -7,14 +7,15 @@
 
 use crate::model::Scenario;
 use crate::study::spread::{spread, spread_in, trials_of, Run, SpreadResult};
+use std::collections::HashSet;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::mpsc::{channel, Receiver};
-use std::collections::HashSet;
 use std::sync::{Arc, Mutex};
 use std::thread::{JoinHandle, ThreadId};
 
-/// The most trials the spread view runs (about 30 MB of trial rows); a
-/// larger `spread.trials` is capped here and the view's title says so.
+/// The most trials the spread view runs (the statistics' memory does not
+/// depend on it; the cap keeps a job's time to seconds); a larger
+/// `spread.trials` is capped here and the view's title says so.
 pub const WORKBENCH_TRIALS: usize = 100_000;
 
 /// One running (or finished) spread of one scenario.

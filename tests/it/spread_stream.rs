@@ -60,7 +60,11 @@ fn running_moments_match_the_two_pass_definition() {
         // Welford's rounding grows with offset/σ (3e8 here): a few parts
         // in 1e9 of the deviation.
         let rel = (m.std().unwrap() - std).abs() / std;
-        assert!(rel < 1e-8, "{dist:?}: std {} against {std}", m.std().unwrap());
+        assert!(
+            rel < 1e-8,
+            "{dist:?}: std {} against {std}",
+            m.std().unwrap()
+        );
         // Uniform on ±1: σ = 1/√3; normal with 3σ = 1: about 1/3 (the
         // truncation at 3σ takes 1.35 % off): from the definitions.
         let sigma = if dist == Dist::Uniform {
@@ -159,21 +163,30 @@ fn assert_histogram_within_bound(name: &str, v: &[f64]) {
     let span = max - min;
     let grid = st.grid_width().unwrap();
     let sub = FINE_BINS as f64;
-    assert!(grid <= 4.0 * span * sub / (sub - 1.0), "{name}: {grid} for {span}");
+    assert!(
+        grid <= 4.0 * span * sub / (sub - 1.0),
+        "{name}: {grid} for {span}"
+    );
     let want = histogram(v, min, max);
     assert_eq!(t.histogram.iter().sum::<usize>(), v.len(), "{name}");
     let bin = span / BINS as f64;
-    let near = |edge: f64| v.iter().filter(|x| (*x - edge).abs() <= bin / 128.0).count();
+    let near = |edge: f64| {
+        v.iter()
+            .filter(|x| (*x - edge).abs() <= bin / 128.0)
+            .count()
+    };
     let mut moved = 0;
-    for i in 0..BINS {
-        let diff = t.histogram[i].abs_diff(want[i]);
+    for (i, (got, want)) in t.histogram.iter().zip(want).enumerate() {
+        let diff = got.abs_diff(want);
         let lower = if i > 0 { near(min + i as f64 * bin) } else { 0 };
-        let upper = if i + 1 < BINS { near(min + (i + 1) as f64 * bin) } else { 0 };
+        let upper = if i + 1 < BINS {
+            near(min + (i + 1) as f64 * bin)
+        } else {
+            0
+        };
         assert!(
             diff <= lower + upper,
-            "{name}: bin {i} {} against {} (near its edges: {})",
-            t.histogram[i],
-            want[i],
+            "{name}: bin {i} {got} against {want} (near its edges: {})",
             lower + upper
         );
         moved += diff;

@@ -249,12 +249,20 @@ fn a_key_storm_in_the_spread_view_keeps_one_pool_and_one_job() {
         }));
         a.tick();
         assert!(a.spread.running(), "key {i} started a job");
-        assert!(a.spread.jobs_alive() <= 1, "key {i}: {}", a.spread.jobs_alive());
+        assert!(
+            a.spread.jobs_alive() <= 1,
+            "key {i}: {}",
+            a.spread.jobs_alive()
+        );
         // Let the new job run trials, so its threads are counted.
         while a.spread.done() == 0 && a.spread.running() {
             std::thread::sleep(std::time::Duration::from_millis(1));
         }
-        assert!(a.spread.jobs_alive() <= 1, "key {i}: {}", a.spread.jobs_alive());
+        assert!(
+            a.spread.jobs_alive() <= 1,
+            "key {i}: {}",
+            a.spread.jobs_alive()
+        );
     }
     assert!(
         a.spread.worker_threads() <= cores,
