@@ -131,7 +131,7 @@ fn the_state_does_not_grow_with_the_trials() {
             assert_eq!(st.heap_bytes(), empty, "after {} trials", i + 1);
         }
     }
-    // Under 300 kB per figure (8-byte values: 10 000 kept, 2 × 4096 in
+    // About 190 kB per figure (8-byte values: 10 000 kept, 2 × 4096 in
     // the tails' buffers, 5120 sub-bins).
     assert!(empty <= 8 * (10_000 + 2 * 4096 + 5120), "{empty}");
 }
