@@ -6,4 +6,5 @@ pub mod pairs;
 pub mod shares;
 pub mod spread;
 pub mod stabilize;
+pub mod tally;
 pub mod tighten;

@@ -18,6 +18,8 @@ use crate::model::scenario::{Dist, Scenario};
 use crate::model::stages::Tolerance;
 use crate::model::temperature::{at_temperature, drifting_resistors, temperatures};
 pub use crate::study::shares::{Contribution, Knob};
+use crate::study::tally::Stream;
+pub use crate::study::tally::{histogram, quantile, BINS, P_HIGH, P_LOW};
 use rand::{Rng, SeedableRng};
 use rand_distr::StandardNormal;
 use rand_pcg::Pcg64;
@@ -27,12 +29,6 @@ use rayon::prelude::*;
 pub const DEFAULT_TRIALS: u32 = 2000;
 /// The seed without `spread.seed`.
 pub const DEFAULT_SEED: u64 = 1;
-/// Histogram bins from min to max.
-pub const BINS: usize = 20;
-/// The Monte Carlo percentiles: ±3σ of a normal distribution.
-pub const P_LOW: f64 = 0.00135;
-pub const P_HIGH: f64 = 0.99865;
-
 /// The most parts whose every combination of extremes is solved: 2^10
 /// corners. Beyond it the corners take the parts with the largest
 /// first-order effect on the gain ([`corner_knobs`]), the rest nominal.
@@ -369,73 +365,6 @@ impl Plan {
     }
 }
 
-/// The p-quantile of sorted values: h = (n − 1)·p, linear between the
-/// neighbours of h.
-pub fn quantile(sorted: &[f64], p: f64) -> Option<f64> {
-    let n = sorted.len();
-    if n == 0 {
-        return None;
-    }
-    let h = (n - 1) as f64 * p;
-    let (lo, hi) = (h.floor() as usize, h.ceil() as usize);
-    Some(sorted[lo] + (h - lo as f64) * (sorted[hi] - sorted[lo]))
-}
-
-/// 20 equal bins from min to max (all in the first when min = max).
-pub fn histogram(values: &[f64], min: f64, max: f64) -> [usize; BINS] {
-    let mut h = [0; BINS];
-    for &v in values {
-        let i = if max > min {
-            (((v - min) / (max - min)) * BINS as f64).floor() as usize
-        } else {
-            0
-        };
-        h[i.min(BINS - 1)] += 1;
-    }
-    h
-}
-
-/// Mean, sample standard deviation, min, max, percentiles and histogram
-/// of one figure's defined trial values.
-fn statistics(key: &'static str, nominal: Option<f64>, column: &[Option<f64>]) -> FigureSpread {
-    let mut v: Vec<f64> = column.iter().flatten().copied().collect();
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    // An unbounded value (a null CMRR) counts in the percentiles, not in
-    // the mean and deviation.
-    let finite: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
-    let nf = finite.len();
-    let mean = (nf > 0).then(|| finite.iter().sum::<f64>() / nf as f64);
-    let std = mean.filter(|_| nf > 1).map(|m| {
-        let ss: f64 = finite.iter().map(|x| (x - m).powi(2)).sum();
-        (ss / (nf - 1) as f64).sqrt()
-    });
-    let (min, max) = (v.first().copied(), v.last().copied());
-    // A figure no part moves differs only by rounding between trials.
-    let still = matches!((min, max), (Some(a), Some(b)) if b - a <= 1e-12 * a.abs().max(b.abs()));
-    let std = if still { std.map(|_| 0.0) } else { std };
-    FigureSpread {
-        key,
-        nominal,
-        mean,
-        std,
-        min,
-        max,
-        p_low: quantile(&v, P_LOW),
-        p_high: quantile(&v, P_HIGH),
-        corner_min: None,
-        corner_max: None,
-        corner_min_at: Vec::new(),
-        corner_max_at: Vec::new(),
-        undefined: column.len() - n,
-        histogram: match (min, max) {
-            (Some(lo), Some(hi)) => histogram(&v, lo, hi),
-            _ => [0; BINS],
-        },
-        contributions: Vec::new(),
-    }
-}
-
 /// The corner of index `c`: knob i at its top when bit i is set.
 fn corner(knobs: &[Knob], c: usize) -> Vec<(&'static str, f64)> {
     knobs
@@ -550,20 +479,17 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
     };
     let plan = Plan::new(s, &nominal);
     let knobs = knobs(s);
-    let rows = trial_rows(s, &plan, &knobs, (seed, b.dist, trials), run);
     let nominal_values: Vec<Option<f64>> = plan
         .keys
         .iter()
         .map(|k| read(&nominal, k, plan.target))
         .collect();
+    let mut tally = Tally::new(s, &plan, &nominal_values);
+    run_trials(s, &plan, &knobs, (seed, b.dist, trials), run, &mut tally);
     // The nominal stage at each temperature: temp_c's row is the full
     // analysis itself.
     let mut nominal_rows = plan.rows(s, &[]);
     nominal_rows[plan.at_nominal()] = nominal_values.clone();
-    let worst: Vec<Vec<Option<f64>>> = rows
-        .iter()
-        .map(|r| plan.worst(r, &nominal_values))
-        .collect();
     let shares = crate::study::shares::contributions(
         s,
         &|t: &Scenario| plan.values(t),
@@ -576,8 +502,7 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
         .iter()
         .enumerate()
         .map(|(j, k)| {
-            let column: Vec<Option<f64>> = worst.iter().map(|r| r[j]).collect();
-            let mut f = statistics(k, nominal_values[j], &column);
+            let mut f = figure_spread(k, nominal_values[j], &tally.figures[j]);
             f.contributions = shares[j].clone();
             f
         })
@@ -587,7 +512,7 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
         let chosen: Vec<Knob> = corner_knobs.iter().map(|&i| knobs[i].clone()).collect();
         corners(s, &plan, &chosen, &nominal_values, &mut figures);
     }
-    let (limits, yield_frac) = check_limits(s, &plan, &nominal_rows, &rows);
+    let (limits, yield_frac) = tally.limits(s, &plan, &nominal_rows);
     SpreadResult {
         trials,
         seed,
@@ -603,22 +528,45 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
     }
 }
 
+/// A figure's streamed statistics, its corners and shares still to come.
+fn figure_spread(key: &'static str, nominal: Option<f64>, stream: &Stream) -> FigureSpread {
+    let t = stream.finish();
+    FigureSpread {
+        key,
+        nominal,
+        mean: t.mean,
+        std: t.std,
+        min: t.min,
+        max: t.max,
+        p_low: t.p_low,
+        p_high: t.p_high,
+        corner_min: None,
+        corner_max: None,
+        corner_min_at: Vec::new(),
+        corner_max_at: Vec::new(),
+        undefined: t.undefined,
+        histogram: t.histogram,
+        contributions: Vec::new(),
+    }
+}
+
 /// Trials run in blocks of this many, in order: a cancelled run stops at
-/// the end of the block it is in (its trials are skipped at once) and
-/// holds no rows past it.
+/// the end of the block it is in (its trials are skipped at once). Only
+/// one block's rows are held at a time; the [`Tally`] takes them in trial
+/// order, so its sums do not depend on the thread count.
 const BLOCK: usize = 4096;
 
-/// Every trial's figures at each temperature, in trial order; after a
-/// cancel, the rows so far.
-fn trial_rows(
+/// Every trial's figures at each temperature, handed to `tally` in trial
+/// order one block at a time; after a cancel, the rest are skipped.
+fn run_trials(
     s: &Scenario,
     plan: &Plan,
     knobs: &[Knob],
     (seed, dist, trials): (u64, Dist, usize),
     run: &Run,
-) -> Vec<Rows> {
+    tally: &mut Tally,
+) {
     let done = std::sync::atomic::AtomicUsize::new(0);
-    let mut rows: Vec<Rows> = Vec::new();
     for start in (0..trials).step_by(BLOCK) {
         if run.cancelled() {
             break;
@@ -642,13 +590,14 @@ fn trial_rows(
                 row
             })
             .collect();
-        rows.extend(block);
+        if run.cancelled() {
+            // The result is meaningless; the block is freed here.
+            break;
+        }
+        for rows in &block {
+            tally.push(plan, rows);
+        }
     }
-    if run.cancelled() {
-        // The result is meaningless; what it computed is freed now.
-        rows.clear();
-    }
-    rows
 }
 
 /// A limit's held value over the temperatures: the one furthest from
@@ -668,53 +617,97 @@ fn held_over(l: &Limit, plan: &Plan, rows: &Rows) -> (Option<f64>, Option<f64>, 
     (worst.map(|w| w.0), worst.map(|w| w.1), undefined)
 }
 
-/// Each given limit on the nominal stage and the trials; the yield. Over
-/// a temperature range a trial passes only if it passes at every
-/// temperature.
-fn check_limits(
-    s: &Scenario,
-    plan: &Plan,
-    nominal: &Rows,
-    rows: &[Rows],
-) -> (Vec<LimitCheck>, Option<f64>) {
-    let ranged = plan.temps.len() > 1;
-    let given = spec::given(s);
-    let mut passing = vec![true; rows.len()];
-    let limits = given
-        .iter()
-        .map(|&(l, value)| {
-            let (mut worst, mut worst_at, mut undefined, mut failed) = (None, None, false, 0);
-            for (i, r) in rows.iter().enumerate() {
-                let (v, at, undef) = held_over(l, plan, r);
-                undefined |= undef;
-                let w = l.worse(worst, v);
-                if w != worst {
-                    (worst, worst_at) = (w, at);
-                }
-                if undef || !l.passes(v, value) {
-                    failed += 1;
-                    passing[i] = false;
-                }
-            }
-            let (nominal, nominal_at, nominal_undef) = held_over(l, plan, nominal);
-            LimitCheck {
-                limit: l,
+/// One limit over the trials so far.
+struct LimitTally {
+    limit: &'static Limit,
+    value: f64,
+    worst: Option<f64>,
+    worst_at: Option<f64>,
+    undefined: bool,
+    failed: usize,
+}
+
+/// What the trials give, taken one trial at a time: each figure's
+/// [`Stream`] (its worst over the temperatures), each limit's worst and
+/// failures, and the trials passing every limit. Its size does not
+/// depend on the number of trials.
+struct Tally {
+    nominal: Vec<Option<f64>>,
+    figures: Vec<Stream>,
+    limits: Vec<LimitTally>,
+    trials: usize,
+    passing: usize,
+}
+
+impl Tally {
+    fn new(s: &Scenario, plan: &Plan, nominal: &[Option<f64>]) -> Tally {
+        let limits = spec::given(s)
+            .into_iter()
+            .map(|(limit, value)| LimitTally {
+                limit,
                 value,
-                nominal: nominal.filter(|_| !nominal_undef),
-                worst: worst.filter(|_| !undefined),
-                nominal_pass: !nominal_undef && l.passes(nominal, value),
-                failed,
-                nominal_at: nominal_at.filter(|_| ranged),
-                worst_at: worst_at.filter(|_| ranged),
+                worst: None,
+                worst_at: None,
+                undefined: false,
+                failed: 0,
+            })
+            .collect();
+        Tally {
+            nominal: nominal.to_vec(),
+            figures: plan.keys.iter().map(|_| Stream::new()).collect(),
+            limits,
+            trials: 0,
+            passing: 0,
+        }
+    }
+
+    /// One trial's figures at each temperature. Over a temperature range
+    /// a trial passes only if it passes at every temperature.
+    fn push(&mut self, plan: &Plan, rows: &Rows) {
+        for (f, v) in self.figures.iter_mut().zip(plan.worst(rows, &self.nominal)) {
+            f.push(v);
+        }
+        let mut passes = true;
+        for t in &mut self.limits {
+            let (v, at, undef) = held_over(t.limit, plan, rows);
+            t.undefined |= undef;
+            let w = t.limit.worse(t.worst, v);
+            if w != t.worst {
+                (t.worst, t.worst_at) = (w, at);
             }
-        })
-        .collect();
-    let n = rows.len().max(1) as f64;
-    let yield_frac = s
-        .spec
-        .as_ref()
-        .map(|_| passing.iter().filter(|p| **p).count() as f64 / n);
-    (limits, yield_frac)
+            if undef || !t.limit.passes(v, t.value) {
+                t.failed += 1;
+                passes = false;
+            }
+        }
+        self.trials += 1;
+        self.passing += usize::from(passes);
+    }
+
+    /// Each given limit on the nominal stage and the trials; the yield.
+    fn limits(&self, s: &Scenario, plan: &Plan, nominal: &Rows) -> (Vec<LimitCheck>, Option<f64>) {
+        let ranged = plan.temps.len() > 1;
+        let limits = self
+            .limits
+            .iter()
+            .map(|t| {
+                let (nominal, nominal_at, nominal_undef) = held_over(t.limit, plan, nominal);
+                LimitCheck {
+                    limit: t.limit,
+                    value: t.value,
+                    nominal: nominal.filter(|_| !nominal_undef),
+                    worst: t.worst.filter(|_| !t.undefined),
+                    nominal_pass: !nominal_undef && t.limit.passes(nominal, t.value),
+                    failed: t.failed,
+                    nominal_at: nominal_at.filter(|_| ranged),
+                    worst_at: t.worst_at.filter(|_| ranged),
+                }
+            })
+            .collect();
+        let n = self.trials.max(1) as f64;
+        let yield_frac = s.spec.as_ref().map(|_| self.passing as f64 / n);
+        (limits, yield_frac)
+    }
 }
 
 /// The figures of a limit that fail it in some trial or at the nominal

@@ -7,13 +7,15 @@
 
 use crate::model::Scenario;
 use crate::study::spread::{spread, spread_in, trials_of, Run, SpreadResult};
+use std::collections::HashSet;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::mpsc::{channel, Receiver};
-use std::sync::Arc;
-use std::thread::JoinHandle;
+use std::sync::{Arc, Mutex};
+use std::thread::{JoinHandle, ThreadId};
 
-/// The most trials the spread view runs (about 30 MB of trial rows); a
-/// larger `spread.trials` is capped here and the view's title says so.
+/// The most trials the spread view runs (the statistics' memory does not
+/// depend on it; the cap keeps a job's time to seconds); a larger
+/// `spread.trials` is capped here and the view's title says so.
 pub const WORKBENCH_TRIALS: usize = 100_000;
 
 /// One running (or finished) spread of one scenario.
@@ -39,6 +41,28 @@ pub struct SpreadJob {
     /// of jobs leave the memory as they found it (new threads each time
     /// left the allocator's per-thread heaps growing).
     pool: Option<Arc<rayon::ThreadPool>>,
+    /// For tests: every thread that has run a trial of this workbench's
+    /// jobs (one pool keeps it at the pool's size however many jobs run),
+    /// and the jobs whose threads are alive (at most one).
+    workers: Arc<Mutex<HashSet<ThreadId>>>,
+    alive: Arc<AtomicUsize>,
+}
+
+/// Counts a job's thread as alive from its start to its end, whatever
+/// way it ends.
+struct Alive(Arc<AtomicUsize>);
+
+impl Alive {
+    fn new(count: &Arc<AtomicUsize>) -> Alive {
+        count.fetch_add(1, Ordering::SeqCst);
+        Alive(Arc::clone(count))
+    }
+}
+
+impl Drop for Alive {
+    fn drop(&mut self) {
+        self.0.fetch_sub(1, Ordering::SeqCst);
+    }
 }
 
 impl SpreadJob {
@@ -68,8 +92,15 @@ impl SpreadJob {
             self.pool = rayon::ThreadPoolBuilder::new().build().ok().map(Arc::new);
         }
         let pool = self.pool.clone();
+        let (workers, alive) = (Arc::clone(&self.workers), Arc::clone(&self.alive));
         self.thread = Some(std::thread::spawn(move || {
-            let progress = |n: usize| done.store(n, Ordering::Relaxed);
+            let _alive = Alive::new(&alive);
+            let progress = |n: usize| {
+                if let Ok(mut w) = workers.lock() {
+                    w.insert(std::thread::current().id());
+                }
+                done.store(n, Ordering::Relaxed);
+            };
             let run = Run {
                 trials,
                 progress: Some(&progress),
@@ -130,6 +161,17 @@ impl SpreadJob {
     /// Trials finished so far.
     pub fn done(&self) -> usize {
         self.done.load(Ordering::Relaxed)
+    }
+
+    /// How many different threads have run this workbench's trials, over
+    /// all its jobs (for tests: the pool's size when one pool serves them).
+    pub fn worker_threads(&self) -> usize {
+        self.workers.lock().map_or(0, |w| w.len())
+    }
+
+    /// How many jobs' threads are alive (for tests: at most one).
+    pub fn jobs_alive(&self) -> usize {
+        self.alive.load(Ordering::SeqCst)
     }
 }
 

@@ -41,6 +41,7 @@ mod scenario_files;
 mod screen_fit;
 mod sheet_form;
 mod spread;
+mod spread_stream;
 mod spread_ui;
 mod stability;
 mod stage_kinds;

@@ -223,3 +223,54 @@ fn the_spread_svg_marks_a_figure_that_does_not_move() {
     let text = svg::render(view, &stages, look).unwrap();
     assert!(text.contains("no spread: "), "no mark in the spread SVG");
 }
+
+/// Issue 25 item 9 (the workbench's memory creeping over thousands of
+/// keys): every step key in the spread view starts a new job, and each
+/// new set of threads left its own heaps behind. One pool serves every
+/// job, so however many keys come, the threads that ever ran a trial are
+/// at most the pool's (rayon's default: one per core), and a new key
+/// stops and joins the old job first: never more than one job's thread
+/// alive, none after leaving the view.
+#[test]
+fn a_key_storm_in_the_spread_view_keeps_one_pool_and_one_job() {
+    let mut s = example("line_driver_cable");
+    s.spread.as_mut().unwrap().trials = Some(100_000);
+    let mut a = App::new(vec![(s, None)], Theme::new(false, false));
+    while a.view != ViewId::Spread {
+        a.on_key(key(KeyCode::Char('v')));
+    }
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    for i in 0..30 {
+        // rf up, then back down: each a different stage from the job's.
+        a.on_key(key(if i % 2 == 0 {
+            KeyCode::Right
+        } else {
+            KeyCode::Left
+        }));
+        a.tick();
+        assert!(a.spread.running(), "key {i} started a job");
+        assert!(
+            a.spread.jobs_alive() <= 1,
+            "key {i}: {}",
+            a.spread.jobs_alive()
+        );
+        // Let the new job run trials, so its threads are counted.
+        while a.spread.done() == 0 && a.spread.running() {
+            std::thread::sleep(std::time::Duration::from_millis(1));
+        }
+        assert!(
+            a.spread.jobs_alive() <= 1,
+            "key {i}: {}",
+            a.spread.jobs_alive()
+        );
+    }
+    assert!(
+        a.spread.worker_threads() <= cores,
+        "{} threads ran trials over 30 jobs on {cores} cores",
+        a.spread.worker_threads()
+    );
+    assert!(a.spread.worker_threads() >= 1);
+    a.on_key(key(KeyCode::Char('v')));
+    a.tick();
+    assert_eq!(a.spread.jobs_alive(), 0, "leaving the view ends the job");
+}
