@@ -11,7 +11,8 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use super::widgets::compact as eng;
 
-/// The readout's parts for one stage, most important first.
+/// The readout's parts for one stage, most important first (a line too
+/// narrow drops whole parts from the end: |Zin|, then |Zout|).
 pub fn parts(r: &PointReport) -> Vec<String> {
     let db = |m: f64| fmt_fixed(20.0 * m.log10(), 1);
     let deg = |p: Option<f64>, d| {
@@ -26,6 +27,9 @@ pub fn parts(r: &PointReport) -> Vec<String> {
     if let Some(l) = r.loop_mag {
         out.push(format!("loop {}dB{}", db(l), deg(r.loop_phase_deg, 0)));
     }
+    if let Some(n) = r.noise_density {
+        out.push(format!("en {}", eng(n, "V/√Hz")));
+    }
     if let Some(z) = r.zout_mag {
         out.push(format!("Zout {}", eng(z, "Ω")));
     }
@@ -33,9 +37,6 @@ pub fn parts(r: &PointReport) -> Vec<String> {
         Some(z) => format!("Zin {}", eng(z, "Ω")),
         None => "Zin open".into(),
     });
-    if let Some(n) = r.noise_density {
-        out.push(format!("en {}", eng(n, "V/√Hz")));
-    }
     out
 }
 
