@@ -89,6 +89,9 @@ fn captions_never_cut_a_number_in_any_view() {
                     for l in lines {
                         assert!(l.contains(" en "), "{which} {view:?} {w}×{h}: {l}");
                     }
+                    for f in mangled_units(s) {
+                        faults.push(format!("{view:?} {n} stage(s) {w}×{h} {which}: {f}"));
+                    }
                     for f in run_together(s) {
                         faults.push(format!("{view:?} {n} stage(s) {w}×{h} {which}: {f}"));
                     }
@@ -134,6 +137,33 @@ fn run_together(screen: &str) -> Vec<String> {
         }
     }
     out
+}
+
+/// Figures-table cells with a unit cut to one glyph's stand-in (the
+/// issue's `88o` for 88°, `79.5MR` for 79.5 MΩ): a number ending in `o`
+/// or `R`.
+fn mangled_units(screen: &str) -> Vec<String> {
+    screen
+        .lines()
+        .filter(|l| ["A ", "B ", "D "].iter().any(|t| l.starts_with(t)))
+        .flat_map(|l| l.split_whitespace().map(move |w| (l, w)))
+        .filter(|(_, w)| {
+            let Some(num) = w.strip_suffix(['o', 'R']) else {
+                return false;
+            };
+            let prefixes = ['f', 'p', 'n', 'u', 'm', 'k', 'M', 'G', 'T'];
+            let num = num.strip_suffix(prefixes).unwrap_or(num);
+            num.parse::<f64>().is_ok()
+        })
+        .map(|(l, w)| format!("unit cut in {w:?}: {l}"))
+        .collect()
+}
+
+/// The checker: a cut unit is found.
+#[test]
+fn the_checker_finds_a_cut_unit() {
+    assert_eq!(mangled_units("A   -9.52  88o  79.5MR  1kOhm").len(), 2);
+    assert!(mangled_units("A   -9.52  88deg  79.5MOhm").is_empty());
 }
 
 /// The checker: a label one space from its value is found.
