@@ -300,30 +300,6 @@ pub fn nominal_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warni
         .collect()
 }
 
-#[cfg(test)]
-mod keys_resolve {
-    use super::*;
-    use crate::judge::figures::figure;
-    use crate::judge::spread_figures::{SPREAD_FIGURES, TARGET_ERROR};
-
-    /// Every key the spread and the spec name resolves to a figure.
-    #[test]
-    fn every_key_resolves() {
-        let keys = SPREAD_FIGURES.iter().map(|f| f.0);
-        let held = LIMITS.iter().flat_map(|l| l.figures.iter().copied());
-        for key in keys.chain(held) {
-            assert!(
-                key == TARGET_ERROR || figure(key).is_some(),
-                "`{key}` names no figure"
-            );
-            assert!(
-                SPREAD_FIGURES.iter().any(|f| f.0 == key),
-                "`{key}` does not spread"
-            );
-        }
-    }
-}
-
 /// For a missed `cmrr_min_db`: which sets the stage's CMRR, the network
 /// (the resistors' mismatch, with the sources and the reference) or the
 /// amplifier's own rejection, whichever alone gives the lower figure.
@@ -352,5 +328,29 @@ fn cmrr_cause(l: &Limit, s: &Scenario, e: &crate::judge::Evaluation) -> String {
         _ => "; the resistor mismatch sets it (the amplifier's own CMRR is not given): \
               tighter or matched resistors"
             .into(),
+    }
+}
+
+#[cfg(test)]
+mod keys_resolve {
+    use super::*;
+    use crate::judge::figures::figure;
+    use crate::judge::spread_figures::{SPREAD_FIGURES, TARGET_ERROR};
+
+    /// Every key the spread and the spec name resolves to a figure.
+    #[test]
+    fn every_key_resolves() {
+        let keys = SPREAD_FIGURES.iter().map(|f| f.0);
+        let held = LIMITS.iter().flat_map(|l| l.figures.iter().copied());
+        for key in keys.chain(held) {
+            assert!(
+                key == TARGET_ERROR || figure(key).is_some(),
+                "`{key}` names no figure"
+            );
+            assert!(
+                SPREAD_FIGURES.iter().any(|f| f.0 == key),
+                "`{key}` does not spread"
+            );
+        }
     }
 }

@@ -418,7 +418,10 @@ fn linear_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<
     )
 }
 
-fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f64, String)>) {
+/// A y axis: its range (log10) and its labelled values.
+type YAxis = ((f64, f64), Vec<(f64, String)>);
+
+fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> YAxis {
     let (r, t) = nice_log(range.0, range.1, ticks);
     let mut labelled: Vec<(f64, String)> = t
         .into_iter()
@@ -857,12 +860,7 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
 /// of `rows` text rows, both inside with room around them, labelled at
 /// 1, 2 and 5 of each decade; None where the given range already does
 /// it, or where the two are within 5 % (one level, as good as touching).
-fn apart(
-    slot: &Slot,
-    x: (f64, f64),
-    (lo, hi): (f64, f64),
-    rows: u16,
-) -> Option<((f64, f64), Vec<(f64, String)>)> {
+fn apart(slot: &Slot, x: (f64, f64), (lo, hi): (f64, f64), rows: u16) -> Option<YAxis> {
     let need = slot.traces.env_need.iter().find(|p| p.0 >= x.0)?.1;
     let swing = slot.traces.env_swing.first()?.1;
     let d = (swing - need).abs();
