@@ -6,6 +6,7 @@ pub mod figure;
 pub mod helper_tables;
 pub(crate) mod ink;
 pub mod kick;
+pub(crate) mod labels;
 pub mod note;
 pub mod report;
 pub mod settling;

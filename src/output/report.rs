@@ -232,6 +232,13 @@ fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
             groups.push(p.group);
         }
     }
+    // The value column: after the longest group name and two spaces (the
+    // figures' column, 18, when that is wider), so no name runs into its
+    // values.
+    let name_w = groups
+        .iter()
+        .map(|g| g.title().chars().count() + 1)
+        .fold(18, usize::max);
     for g in groups {
         let items: Vec<String> = PARAMS
             .iter()
@@ -245,7 +252,8 @@ fn write_parameters(s: &Scenario, w: &mut impl Write) -> io::Result<()> {
         if items.is_empty() {
             continue;
         }
-        writeln!(w, "  {:<16} {}", g.title().to_lowercase(), items.join(", "))?;
+        let name = g.title().to_lowercase();
+        writeln!(w, "  {name:<name_w$} {}", items.join(", "))?;
     }
     Ok(())
 }

@@ -10,7 +10,7 @@ use crate::engine::step::{StepResponse, BANDS};
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, head, style, text_width, titled, trace, Chart, Entry, Keyed, Look};
+use crate::output::svg::{err, head, style, titled, trace, Chart, Entry, Keyed, Look, Placer};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -186,64 +186,56 @@ pub fn settling_chart(
         let (x, y) = (chart.x_range(), chart.y_range());
         ink::Frame::of(chart.plotting_area(), (x.start, x.end), (y.start, y.end))
     };
-    // Each label placed so far: its band, its dot's x (px), its side.
-    let mut placed: Vec<(f64, i32, bool)> = Vec::new();
+    // The texts keep off every curve, band rule and spec rule.
+    let spec_ts: Vec<Option<f64>> = stages
+        .iter()
+        .map(|s| {
+            let spec_t = s.scenario.spec.as_ref().and_then(|sp| sp.settle_max_s);
+            spec_t.filter(|t| *t <= x1)
+        })
+        .collect();
+    let mut placer = Placer::default();
+    for c in &curves {
+        placer.avoid_curve(&frame, c);
+    }
+    for y in rule_levels(&responses) {
+        placer.avoid_level(&frame, y);
+    }
+    for t in spec_ts.iter().flatten() {
+        placer.avoid_rule(&frame, *t);
+    }
     for (slot, (s, c)) in stages.iter().zip(&curves).enumerate() {
         let st = style(slot, false, look.mono);
         trace(&mut chart, &frame, c, &st)?;
-        let r = &s.eval.analysis.step;
-        for (y, t) in rules(r) {
+        let text_style = |h| {
+            ("sans-serif", font)
+                .into_font()
+                .color(&st.color)
+                .pos(Pos::new(h, VPos::Top))
+        };
+        for (y, t) in rules(&s.eval.analysis.step) {
             let Some(t) = t else { continue };
             let text = format!("{} at {}", level_label(y), fmt_eng(t, "s"));
             // A dot where the curve last leaves the band, its time set in
-            // the free side of a falling curve: above and right of the dot,
-            // or below and left of it in the chart's right part.
+            // the first free corner: above and right of the dot, or below
+            // and left of it in the chart's right part.
             let dot = Circle::new((t, y), 3, st.color.filled());
             chart.draw_series(std::iter::once(dot)).map_err(err)?;
-            let mut right_part = (t - x0) / (x1 - x0) > 0.6;
-            // B's time beside A's in the same band: on the other side, so
-            // the two texts do not cover each other.
-            let px = chart.backend_coord(&(t, y)).0;
-            let room = text_width(&text, font) + 12.0;
-            if placed.iter().any(|&(b, x, side)| {
-                b == y && side == right_part && f64::from((x - px).abs()) < room
-            }) {
-                right_part = !right_part;
-            }
-            placed.push((y, px, right_part));
-            let (h, v, dx, dy) = if right_part {
-                (HPos::Right, VPos::Top, -6, 4)
-            } else {
-                (HPos::Left, VPos::Bottom, 6, -4)
-            };
-            let style = ("sans-serif", font)
-                .into_font()
-                .color(&st.color)
-                .pos(Pos::new(h, v));
-            let label = EmptyElement::at((t, y)) + Text::new(text, (dx, dy), style);
+            let left_first = (t - x0) / (x1 - x0) > 0.6;
+            let (dx, dy) = placer.place_by_dot(&frame, (t, y), &text, (font, left_first));
+            let label =
+                EmptyElement::at((t, y)) + Text::new(text, (dx, dy), text_style(HPos::Left));
             chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
-        let spec_t = s.scenario.spec.as_ref().and_then(|sp| sp.settle_max_s);
-        if let Some(tmax) = spec_t.filter(|t| *t <= x1) {
+        if let Some(tmax) = spec_ts[slot] {
             let line = PathElement::new(
                 vec![(tmax, FLOOR_LOG), (tmax, top)],
                 st.color.mix(0.7).stroke_width(1),
             );
             chart.draw_series(std::iter::once(line)).map_err(err)?;
-            // Beside the rule on the side with room: left of it in the
-            // chart's right part.
-            let (h, dx) = if (tmax - x0) / (x1 - x0) > 0.6 {
-                (HPos::Right, -4)
-            } else {
-                (HPos::Left, 4)
-            };
-            let style = ("sans-serif", font)
-                .into_font()
-                .color(&st.color)
-                .pos(Pos::new(h, VPos::Top));
             let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
-            let label =
-                EmptyElement::at((tmax, top)) + Text::new(text, (dx, 4 + 16 * slot as i32), style);
+            let (dx, dy, h) = placer.place(&frame, tmax, &text, font);
+            let label = EmptyElement::at((tmax, top)) + Text::new(text, (dx, dy), text_style(h));
             chart.draw_series(std::iter::once(label)).map_err(err)?;
         }
     }

@@ -10,6 +10,8 @@ use crate::judge::figures::key_figures;
 use crate::model::values::{fmt_eng, printable};
 pub use crate::output::figure::{Axis, Curve, Evaluated, Look, Mark, OwnChart, View, DEG};
 use crate::output::ink;
+pub use crate::output::labels::text_width;
+pub(crate) use crate::output::labels::{em, Placer};
 use crate::output::traces::Traces;
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint};
 use plotters::prelude::*;
@@ -265,17 +267,6 @@ impl Ranged for Keyed {
 /// The right margin of a chart: room for half the last x label.
 pub(crate) const RIGHT_MARGIN: u32 = 28;
 
-/// The page size of a plotters font size (plotters writes `size / 1.24`).
-pub(crate) fn em(font: u32) -> f64 {
-    f64::from(font) / 1.24
-}
-
-/// A text's width on the page: 0.6 em a character, a generous mean
-/// advance for a sans-serif face, so what is laid out by it fits.
-pub fn text_width(text: &str, font: u32) -> f64 {
-    text.chars().count() as f64 * 0.6 * em(font)
-}
-
 /// Lines of `text` no wider than `width`, broken after `sep` (or at
 /// spaces when a piece is still too wide); a word is never cut.
 pub(crate) fn wrap(text: &str, sep: &str, width: f64, font: u32) -> Vec<String> {
@@ -483,11 +474,13 @@ fn draw_chart(
     let x_axis = Keyed::new((x0, x1), x_keys, minor_decades(x0, x1));
     let y_axis = Keyed::new(ly, y_keys(view.left, ly), Vec::new());
     let chart = builder.build_cartesian_2d(x_axis, y_axis).map_err(err)?;
+    let ry = view.right.map(|axis| y_range(&side(true), axis));
     let plot = Plot {
         view,
         stages,
         curves: &curves,
         ly,
+        ry,
         look,
         font,
     };
@@ -506,6 +499,8 @@ struct Plot<'p> {
     stages: &'p [Evaluated<'p>],
     curves: &'p [Vec<Curve>],
     ly: (f64, f64),
+    /// The right-hand axis's range, when the view has one.
+    ry: Option<(f64, f64)>,
     look: Look,
     font: u32,
 }
@@ -524,7 +519,7 @@ fn draw_primary<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, p: &Plot) -> anyhow::Resu
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
-    draw_marks(chart, p.stages, p.view, p.ly, p.look, font)?;
+    draw_marks(chart, p)?;
     draw_curves(chart, p.curves, false, p.look)
 }
 
@@ -549,8 +544,7 @@ fn draw_two_sided<'a, 'b: 'a>(
     (x0, x1): (f64, f64),
 ) -> anyhow::Result<()> {
     let (curves, look, font) = (p.curves, p.look, p.font);
-    let right: Vec<&Curve> = curves.iter().flatten().filter(|c| c.right).collect();
-    let ry = y_range(&right, axis);
+    let ry = p.ry.unwrap_or((0.0, 1.0));
     let mut chart = chart.set_secondary_coord(
         Keyed::new((x0, x1), steps(x0, x1, 1.0), Vec::new()),
         Keyed::new(ry, y_keys(axis, ry), Vec::new()),
@@ -626,98 +620,49 @@ fn draw_curves<'a, 'b: 'a>(
     Ok(())
 }
 
-/// Where marks' texts go: beside their rule (never on it), inside the
-/// plot area, each in the first row from the top where it meets no text
-/// already placed.
-#[derive(Default)]
-pub(crate) struct Placer {
-    taken: Vec<(f64, f64, f64, f64)>,
-}
-
-impl Placer {
-    /// The label of a rule at data x `x`: the text's anchor offset from the
-    /// top of the rule (dx, dy in px) and its side.
-    pub(crate) fn place(
-        &mut self,
-        frame: &ink::Frame,
-        x: f64,
-        text: &str,
-        font: u32,
-    ) -> (i32, i32, plotters::style::text_anchor::HPos) {
-        use plotters::style::text_anchor::HPos;
-        let (px, top) = frame.at((x, frame.y.1));
-        let (tw, th) = (text_width(text, font), em(font) * 1.15);
-        let gap = 5.0;
-        let fits_right = px + gap + tw <= frame.px.1 - 2.0;
-        let fits_left = px - gap - tw >= frame.px.0 + 2.0;
-        // Right of the rule unless only the left fits (or the rule sits in
-        // the right part and both do).
-        let right = fits_right && !(fits_left && px > frame.px.0 + 0.6 * (frame.px.1 - frame.px.0));
-        let l = if right {
-            px + gap
-        } else if fits_left {
-            px - gap - tw
-        } else {
-            // Neither fits beside the rule: keep it inside the plot.
-            (frame.px.1 - 2.0 - tw).max(frame.px.0 + 2.0)
-        };
-        let mut row = 0;
-        let t = loop {
-            let t = top + 4.0 + f64::from(row) * th * 1.25;
-            let free = self
-                .taken
-                .iter()
-                .all(|b| l + tw <= b.0 || b.2 <= l || t + th <= b.1 || b.3 <= t);
-            if free || t + 2.0 * th > frame.py.1 {
-                break t;
-            }
-            row += 1;
-        };
-        self.taken.push((l, t, l + tw, t + th));
-        (
-            (l - px).round() as i32,
-            (t - top).round() as i32,
-            HPos::Left,
-        )
-    }
-}
-
-/// Each stage's marks: a thin rule with its text beside it near the top.
-fn draw_marks<'a, 'b: 'a>(
-    chart: &mut Chart<'a, 'b>,
-    stages: &[Evaluated],
-    view: &View,
-    (y0, y1): (f64, f64),
-    look: Look,
-    font: u32,
-) -> anyhow::Result<()> {
+/// Each stage's marks: a thin rule with its text beside it, in the first
+/// place from the top that no curve, rule or other text takes.
+fn draw_marks<'a, 'b: 'a>(chart: &mut Chart<'a, 'b>, p: &Plot) -> anyhow::Result<()> {
     use plotters::style::text_anchor::{Pos, VPos};
+    let (y0, y1) = p.ly;
     let frame = {
         let r = chart.x_range();
         ink::Frame::of(chart.plotting_area(), (r.start, r.end), (y0, y1))
     };
+    let marks: Vec<(usize, Mark)> = p
+        .stages
+        .iter()
+        .enumerate()
+        .flat_map(|(slot, s)| (p.view.marks)(s).into_iter().map(move |m| (slot, m)))
+        .filter(|(_, m)| m.f_hz.log10().is_finite())
+        .collect();
     let mut placer = Placer::default();
-    for (slot, s) in stages.iter().enumerate() {
-        let color = if look.mono {
+    for c in p.curves.iter().flatten() {
+        match (c.right, p.ry) {
+            (false, _) => placer.avoid_curve(&frame, &c.points),
+            (true, Some(ry)) => placer.avoid_curve(&frame.with_y(ry), &c.points),
+            (true, None) => {}
+        }
+    }
+    for (_, m) in &marks {
+        placer.avoid_rule(&frame, m.f_hz.log10());
+    }
+    for (slot, m) in &marks {
+        let color = if p.look.mono {
             RGBColor(60, 60, 60)
         } else {
-            style(slot, false, false).color
+            style(*slot, false, false).color
         };
-        for m in (view.marks)(s).iter() {
-            let x = m.f_hz.log10();
-            if !x.is_finite() {
-                continue;
-            }
-            let line = PathElement::new(vec![(x, y0), (x, y1)], color.mix(0.6).stroke_width(1));
-            chart.draw_series(std::iter::once(line)).map_err(err)?;
-            let (dx, dy, h) = placer.place(&frame, x, &m.text, font);
-            let style = ("sans-serif", font)
-                .into_font()
-                .color(&color)
-                .pos(Pos::new(h, VPos::Top));
-            let label = EmptyElement::at((x, y1)) + Text::new(m.text.clone(), (dx, dy), style);
-            chart.draw_series(std::iter::once(label)).map_err(err)?;
-        }
+        let x = m.f_hz.log10();
+        let line = PathElement::new(vec![(x, y0), (x, y1)], color.mix(0.6).stroke_width(1));
+        chart.draw_series(std::iter::once(line)).map_err(err)?;
+        let (dx, dy, h) = placer.place(&frame, x, &m.text, p.font);
+        let style = ("sans-serif", p.font)
+            .into_font()
+            .color(&color)
+            .pos(Pos::new(h, VPos::Top));
+        let label = EmptyElement::at((x, y1)) + Text::new(m.text.clone(), (dx, dy), style);
+        chart.draw_series(std::iter::once(label)).map_err(err)?;
     }
     Ok(())
 }

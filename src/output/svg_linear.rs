@@ -6,7 +6,7 @@
 use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
 use crate::output::ink;
 use crate::output::svg::{
-    err, head, style, titled, trace, Chart, Entry, Evaluated, Keyed, Look, Placer,
+    err, head, style, text_width, titled, trace, Chart, Entry, Evaluated, Keyed, Look, Placer,
 };
 use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use plotters::coord::Shift;
@@ -111,11 +111,15 @@ pub fn step_chart(
         ));
     }
     for slot in 0..stages.len() {
-        let name = if stages.len() > 1 {
+        let mut name = if stages.len() > 1 {
             format!("{} output", ["A", "B"][slot.min(1)])
         } else {
             "output".to_string()
         };
+        // Held at a rail before the step: no figures, and the legend says why.
+        if let Some(reason) = stages[slot].eval.analysis.step.reason {
+            name = format!("{name} (no figures: {reason})");
+        }
         entries.push((name, style(slot, false, look.mono)));
     }
     let area = head(
@@ -153,9 +157,28 @@ pub fn step_chart(
             .draw_series(std::iter::once(ink::placeholder(token, (x0, lo_b))))
             .map_err(err)?;
     }
+    let frame = frame_of(&chart);
     let mut placer = Placer::default();
-    for (slot, (s, w)) in stages.iter().zip(&waves).enumerate() {
-        draw_wave(&mut chart, &mut placer, slot, s, w, (yr, look, font))?;
+    if let [lo_b, hi_b] = band[..] {
+        placer.avoid_band(&frame, (lo_b, hi_b), 6.0);
+    }
+    let marks: Vec<(usize, f64, String)> = stages
+        .iter()
+        .enumerate()
+        .flat_map(|(slot, s)| step_marks(s).into_iter().map(move |(x, t)| (slot, x, t)))
+        .collect();
+    for w in &waves {
+        placer.avoid_curve(&frame, w);
+    }
+    for (_, x, _) in &marks {
+        placer.avoid_rule(&frame, *x);
+    }
+    for (slot, x, text) in marks {
+        let color = style(slot, false, look.mono).color;
+        vmark(&mut chart, &mut placer, x, yr, text, (color, font))?;
+    }
+    for (slot, w) in waves.iter().enumerate() {
+        trace(&mut chart, &frame, w, &style(slot, false, look.mono))?;
     }
     Ok(())
 }
@@ -174,34 +197,19 @@ fn band_style(look: Look) -> crate::output::svg::Style {
     }
 }
 
-/// One stage's waveform and its settling-time mark.
-fn draw_wave<'a, 'b: 'a>(
-    chart: &mut Chart<'a, 'b>,
-    placer: &mut Placer,
-    slot: usize,
-    s: &Evaluated,
-    w: &[(f64, f64)],
-    (yr, look, font): ((f64, f64), Look, u32),
-) -> anyhow::Result<()> {
-    let st = style(slot, false, look.mono);
+/// One stage's settling-time marks: (time, text).
+fn step_marks(s: &Evaluated) -> Vec<(f64, String)> {
     let r = &s.eval.analysis.step;
+    let mut out = Vec::new();
     if let Some(ts) = r.settle_s[1] {
-        let text = format!("ts 0.1 % {}", fmt_eng(ts, "s"));
-        vmark(chart, placer, ts, yr, text, (st.color, font))?;
+        out.push((ts, format!("ts 0.1 % {}", fmt_eng(ts, "s"))));
     }
     // The stage's own threshold (half an LSB of N bits, or a fraction).
     if let (Some(b), Some(ts)) = (r.threshold, r.settle_to_s) {
         let level = crate::output::settling::level_label(b.log10());
-        let text = format!("ts {level} {}", fmt_eng(ts, "s"));
-        vmark(chart, placer, ts, yr, text, (st.color, font))?;
+        out.push((ts, format!("ts {level} {}", fmt_eng(ts, "s"))));
     }
-    // Held at a rail before the step: no figures, and the chart says why.
-    if let Some(reason) = s.eval.analysis.step.reason {
-        let text = format!("no figures: {reason}");
-        vmark(chart, placer, 0.0, yr, text, (st.color, font))?;
-    }
-    let frame = frame_of(chart);
-    trace(chart, &frame, w, &st)
+    out
 }
 
 /// A histogram's name over its panel.
@@ -311,34 +319,24 @@ fn histogram_panel(
             _ => Vec::new(),
         })
         .collect();
-    let limits = tagged_limits(results, key, scale);
+    let marks = panel_marks(results, &steady, (key, scale), look);
     let xs = outlines
         .iter()
         .flatten()
         .map(|p| p.0)
-        .chain(steady.iter().flatten().map(|v| v * scale))
-        .chain(limits.iter().map(|l| l.1));
+        .chain(marks.iter().map(|m| m.0));
     let (lo, hi) = xs.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
         (a.min(x), b.max(x))
     });
-    // Without a histogram the axis counts every trial (the mark is all of them).
-    let floor = match outlines.iter().all(Vec::is_empty) {
-        true => results[0].trials as f64,
-        false => 1.0,
-    };
-    let top = outlines.iter().flatten().map(|p| p.1).fold(floor, f64::max);
+    let top = panel_top(&outlines, results[0].trials);
     // As many labelled steps as fit the panel's width.
     let room = f64::from(area.dim_in_pixel().0) - f64::from(font * 4 + 20);
     let fit = (room / (crate::output::svg::text_width("-00.00kHz", font) * 1.3)).floor() as usize;
     let (_, x_axis) = axis((lo, hi), fit.clamp(1, 4));
     let (yr, y_axis) = axis((0.0, top * 1.15), 5);
-    let unit_text = match unit {
-        crate::judge::figures::Unit::Si(u) => u,
-        crate::judge::figures::Unit::Degrees => "°",
-        crate::judge::figures::Unit::Lsb => "LSB",
-        _ => "%",
-    };
-    let area = crate::output::svg::head_sized(area, name, &[], (font, font + 2))?;
+    let unit_text = unit_text(unit);
+    let (heading, in_heading) = panel_heading(name, &marks, area.dim_in_pixel().0, font);
+    let area = crate::output::svg::head_sized(area, &heading, &[], (font, font + 2))?;
     let mut chart = ChartBuilder::on(&area)
         .margin(10)
         .margin_right(crate::output::svg::RIGHT_MARGIN)
@@ -359,7 +357,76 @@ fn histogram_panel(
         .axis_desc_style(("sans-serif", font).into_font())
         .draw()
         .map_err(err)?;
+    let frame = frame_of(&chart);
     let mut placer = Placer::default();
+    for o in &outlines {
+        placer.avoid_curve(&frame, o);
+    }
+    for (x, _, _) in &marks {
+        placer.avoid_rule(&frame, *x);
+    }
+    for (x, text, color) in marks {
+        if in_heading {
+            let line = PathElement::new(vec![(x, yr.0), (x, yr.1)], color.mix(0.6).stroke_width(1));
+            chart.draw_series(std::iter::once(line)).map_err(err)?;
+        } else {
+            vmark(&mut chart, &mut placer, x, yr, text, (color, font))?;
+        }
+    }
+    draw_outlines(&mut chart, &outlines, look)
+}
+
+/// A panel's axis unit.
+fn unit_text(unit: crate::judge::figures::Unit) -> &'static str {
+    match unit {
+        crate::judge::figures::Unit::Si(u) => u,
+        crate::judge::figures::Unit::Degrees => "°",
+        crate::judge::figures::Unit::Lsb => "LSB",
+        _ => "%",
+    }
+}
+
+/// The top of a panel's count axis: the tallest bin; without a histogram
+/// every trial (the mark is all of them).
+fn panel_top(outlines: &[Vec<(f64, f64)>], trials: usize) -> f64 {
+    let floor = match outlines.iter().all(Vec::is_empty) {
+        true => trials as f64,
+        false => 1.0,
+    };
+    outlines.iter().flatten().map(|p| p.1).fold(floor, f64::max)
+}
+
+/// A panel's heading: its name, joined by the marks' texts when the panel
+/// is too narrow to set them beside their rules (then true).
+fn panel_heading(
+    name: &str,
+    marks: &[(f64, String, RGBColor)],
+    width: u32,
+    font: u32,
+) -> (String, bool) {
+    let room = f64::from(width) - f64::from(font * 4 + 50);
+    let widest = marks
+        .iter()
+        .map(|m| text_width(&m.1, font))
+        .fold(0.0, f64::max);
+    if widest * 1.6 <= room {
+        return (name.to_string(), false);
+    }
+    let texts = std::iter::once(name.to_string()).chain(marks.iter().map(|m| m.1.clone()));
+    (texts.collect::<Vec<_>>().join(" · "), true)
+}
+
+/// A panel's marks: each stage's "no spread" value, then the limits, as
+/// (x in the panel's scale, text, colour).
+fn panel_marks(
+    results: &[SpreadResult],
+    steady: &[Option<f64>],
+    (key, scale): (&str, f64),
+    look: Look,
+) -> Vec<(f64, String, RGBColor)> {
+    let gain = results.first().map(|r| r.gain_unit).unwrap_or_default();
+    let (unit, _) = unit_and_label(key, gain);
+    let mut marks = Vec::new();
     for (slot, v) in steady.iter().enumerate() {
         let Some(v) = v else { continue };
         let tag = if results.len() > 1 {
@@ -368,18 +435,17 @@ fn histogram_panel(
             ""
         };
         let text = format!("{tag}no spread: {}", unit.number(*v, false));
-        let color = style(slot, false, look.mono).color;
-        vmark(&mut chart, &mut placer, v * scale, yr, text, (color, font))?;
+        marks.push((v * scale, text, style(slot, false, look.mono).color));
     }
-    for (slot, x, text) in limits {
+    for (slot, x, text) in tagged_limits(results, key, scale) {
         let color = match (look.mono, slot) {
             (true, _) => RGBColor(0, 0, 0),
             (false, 0) => RGBColor(200, 30, 30),
             (false, _) => RGBColor(150, 30, 110),
         };
-        vmark(&mut chart, &mut placer, x, yr, text, (color, font))?;
+        marks.push((x, text, color));
     }
-    draw_outlines(&mut chart, &outlines, look)
+    marks
 }
 
 /// Each stage's histogram outline in its style (A solid, B with rings).

@@ -280,7 +280,7 @@ impl LogPlot<'_> {
             let Some(label) = t.label.as_ref().filter(|_| t.minor == minor) else {
                 continue;
             };
-            if let Some((c, r)) = trace_label_spot(t, label, &traces[i], taken, plot) {
+            if let Some((c, r)) = trace_label_spot(t, label, (traces, i), taken, plot) {
                 put_label(plot, (c, r), label, t.style, taken, buf);
             }
         }
@@ -573,36 +573,54 @@ fn free(taken: &[bool], plot: Rect, col: i32, row: i32, len: u16) -> bool {
 }
 
 /// A spot for a trace's name right above or below the trace, as near to
-/// `label_at` as there is one that covers no trace cell and no label.
+/// `label_at` as there is one that covers no trace cell and no label:
+/// first where the trace keeps to one row under the name and no other
+/// trace runs in the row beyond the name (so it sits beside its own
+/// trace), then where the trace keeps to one row, then anywhere.
 fn trace_label_spot(
     t: &Trace<'_>,
     label: &str,
-    dots: &Dots,
+    (all, own): (&[Dots], usize),
     taken: &[bool],
     plot: Rect,
 ) -> Option<(u16, u16)> {
     let len = label.chars().count() as u16;
     let w = plot.width as i32;
     let start = ((t.label_at * (w - 1) as f64).round() as i32).min(w - len as i32);
-    for off in 0..2 * w {
-        let col = start
-            + if off % 2 == 0 {
-                off / 2
-            } else {
-                -(off + 1) / 2
+    let dots = &all[own];
+    let any_in = |d: &Dots, row: i32, col: i32| {
+        (0..plot.height as i32).contains(&row)
+            && (col..col + len as i32).any(|c| d.bits[(row * w + c) as usize] != 0)
+    };
+    for pass in 0..3 {
+        for off in 0..2 * w {
+            let col = start
+                + if off % 2 == 0 {
+                    off / 2
+                } else {
+                    -(off + 1) / 2
+                };
+            if col < 0 || col + len as i32 > w {
+                continue;
+            }
+            let rows: Vec<i32> = (0..plot.height as i32)
+                .filter(|r| any_in(dots, *r, col))
+                .collect();
+            let (Some(&top), Some(&bottom)) = (rows.first(), rows.last()) else {
+                continue;
             };
-        if col < 0 || col + len as i32 > w {
-            continue;
-        }
-        let rows: Vec<i32> = (0..plot.height as i32)
-            .filter(|r| (col..col + len as i32).any(|c| dots.bits[(r * w + c) as usize] != 0))
-            .collect();
-        let (Some(&top), Some(&bottom)) = (rows.first(), rows.last()) else {
-            continue;
-        };
-        for row in [top - 1, bottom + 1] {
-            if free(taken, plot, col, row, len) {
-                return Some((col as u16, row as u16));
+            if pass < 2 && top != bottom {
+                continue;
+            }
+            for (row, beyond) in [(top - 1, top - 2), (bottom + 1, bottom + 2)] {
+                let alone = pass > 0
+                    || all
+                        .iter()
+                        .enumerate()
+                        .all(|(j, d)| j == own || !(any_in(d, beyond, col) || any_in(d, row, col)));
+                if alone && free(taken, plot, col, row, len) {
+                    return Some((col as u16, row as u16));
+                }
             }
         }
     }

@@ -13,7 +13,8 @@ use ratatui::widgets::{Paragraph, Widget};
 
 use super::widgets::compact as eng;
 
-/// The readout's parts for one stage, most important first; the gain's
+/// The readout's parts for one stage, most important first (a line too
+/// narrow drops whole parts from the end: |Zin|, then |Zout|); the gain's
 /// level in its unit (dB, or dBΩ for a transimpedance).
 pub fn parts(r: &PointReport, unit: GainUnit) -> Vec<String> {
     let db = |m: f64| fmt_fixed(20.0 * m.log10(), 1);
@@ -36,6 +37,9 @@ pub fn parts(r: &PointReport, unit: GainUnit) -> Vec<String> {
     if let Some(l) = r.loop_mag {
         out.push(format!("loop {}dB{}", db(l), deg(r.loop_phase_deg, 0)));
     }
+    if let Some(n) = r.noise_density {
+        out.push(format!("en {}", eng(n, "V/√Hz")));
+    }
     if let Some(z) = r.zout_mag {
         out.push(format!("Zout {}", eng(z, "Ω")));
     }
@@ -43,9 +47,6 @@ pub fn parts(r: &PointReport, unit: GainUnit) -> Vec<String> {
         Some(z) => format!("Zin {}", eng(z, "Ω")),
         None => "Zin open".into(),
     });
-    if let Some(n) = r.noise_density {
-        out.push(format!("en {}", eng(n, "V/√Hz")));
-    }
     out
 }
 

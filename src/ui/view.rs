@@ -212,7 +212,15 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     let mut lines: Vec<Line> = Vec::new();
     let mut selected_line = 0;
     let mut group: Option<Group> = None;
-    let value_w = inner.width.saturating_sub(21) as usize;
+    // The label column: the longest label and two spaces, so that no
+    // label runs into its value.
+    let label_w = crate::model::params::PARAMS
+        .iter()
+        .map(|p| p.label.chars().count())
+        .max()
+        .unwrap_or(10)
+        + 2;
+    let value_w = (inner.width as usize).saturating_sub(label_w + 11);
     for p in app.visible() {
         if group != Some(p.group) {
             group = Some(p.group);
@@ -239,7 +247,7 @@ fn param_pane(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         };
         let mut spans = vec![
             Span::styled(mark, if diff { t.differs } else { t.normal }),
-            Span::styled(format!("{pointer}{:<10}", p.label), row_style),
+            Span::styled(format!("{pointer}{:<label_w$}", p.label), row_style),
         ];
         match (&app.mode, is_sel) {
             (Mode::Edit(field), true) => {
@@ -394,7 +402,10 @@ fn linear_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<
     )
 }
 
-fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> ((f64, f64), Vec<(f64, String)>) {
+/// A y axis: its range (log10) and its labelled values.
+type YAxis = ((f64, f64), Vec<(f64, String)>);
+
+fn log_axis(range: (f64, f64), ticks: usize, unit: &str) -> YAxis {
     let (r, t) = nice_log(range.0, range.1, ticks);
     let mut labelled: Vec<(f64, String)> = t
         .into_iter()
@@ -918,15 +929,53 @@ fn envelope_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         }
     }
     let (lo, hi) = visible_range(tr.iter().map(|t| t.points), x);
+    // The ceilings where they matter: up to two decades above the largest
+    // need (as the SVG), so the need and the ceilings it meets get rows
+    // of their own.
+    let (_, need_top) = visible_range(tr.iter().take(app.slots.len()).map(|t| t.points), x);
+    let hi = if need_top.is_finite() {
+        hi.min(need_top + 2.0)
+    } else {
+        hi
+    };
     let (lo, hi) = if lo.is_finite() {
         (lo.max(hi - 6.0), hi)
     } else {
         (-1.0, 1.0)
     };
-    let y = log_axis((lo, hi), (inner.height as usize / 2).max(2), "");
+    let rows = inner.height.saturating_sub(1);
+    let y = apart(slot, x, (lo, hi), rows)
+        .unwrap_or_else(|| log_axis((lo, hi), (inner.height as usize / 2).max(2), ""));
     // The band edges and where the need first passes a ceiling.
     let marks = registry_marks(app, slot);
     plot(app, tr, x, y, marks).render(inner, buf);
+}
+
+/// The envelope's y axis narrowed so that the need (at the band's low
+/// end) and the flat swing ceiling lie at least 1.2 rows apart on a plot
+/// of `rows` text rows, both inside with room around them, labelled at
+/// 1, 2 and 5 of each decade; None where the given range already does
+/// it, or where the two are within 5 % (one level, as good as touching).
+fn apart(slot: &Slot, x: (f64, f64), (lo, hi): (f64, f64), rows: u16) -> Option<YAxis> {
+    let need = slot.traces.env_need.iter().find(|p| p.0 >= x.0)?.1;
+    let swing = slot.traces.env_swing.first()?.1;
+    let d = (swing - need).abs();
+    // Distances of 5 % and less: one level.
+    if d < 1.05f64.log10() || rows < 3 {
+        return None;
+    }
+    let span = f64::from(rows) * d / 1.2;
+    if hi.ceil() - lo.floor() <= span {
+        return None;
+    }
+    let mid = (need + swing) / 2.0;
+    let range = (mid - span / 2.0, mid + span / 2.0);
+    let ticks = (range.0.floor() as i32..=range.1.ceil() as i32)
+        .flat_map(|dec| [1.0f64, 2.0, 5.0].map(|m| f64::from(dec) + m.log10()))
+        .filter(|v| *v >= range.0 && *v <= range.1)
+        .map(|v| (v, compact(10f64.powf(v), "")))
+        .collect();
+    Some((range, ticks))
 }
 
 /// The step view's bottom line: overshoot, settling, limits.

@@ -255,9 +255,17 @@ fn the_pane_adds_a_reference_to_a_stage_without_one() {
     }
     type_text(&mut a, "1.65");
     a.on_key(key(KeyCode::Enter));
-    assert_eq!(a.slot().scenario.reference.map(|r| (r.v, r.r)), Some((1.65, 0.0)), "{}", a.status);
+    assert_eq!(
+        a.slot().scenario.reference.map(|r| (r.v, r.r)),
+        Some((1.65, 0.0)),
+        "{}",
+        a.status
+    );
     assert!(paths(&a).contains(&"reference.r"), "{:?}", paths(&a));
     // A follower returns nothing to ground: no reference row.
-    let f = App::new(vec![(in_range(crate::support::stages::follower()), None)], Theme::new(false, false));
+    let f = App::new(
+        vec![(in_range(crate::support::stages::follower()), None)],
+        Theme::new(false, false),
+    );
     assert!(!paths(&f).contains(&"reference.v"));
 }

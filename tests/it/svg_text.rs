@@ -1,7 +1,8 @@
 //! Figures fit for a review: in every view of every shipped scenario (and
 //! the demo), A alone and A against B, at 800×500 and 480×300, no text
-//! leaves the figure, no two texts overlap, and every curve lies inside
-//! the plot area. Text boxes are estimated from the SVG itself: the font
+//! leaves the figure, no two texts overlap, no drawn line (a curve, a
+//! mark's rule, a band's edge) runs through a text, and every curve lies
+//! inside the plot area. Text boxes are estimated from the SVG itself: the font
 //! size of each `<text>` and the length of its string.
 
 use loopwright::judge::evaluate;
@@ -86,6 +87,105 @@ fn text_box(n: &roxmltree::Node) -> Option<(String, TextBox)> {
     Some((text, bx))
 }
 
+/// One straight piece of a drawn line (px), and the box it is seen in
+/// (its clip box, or the whole page).
+#[derive(Debug, Clone, Copy)]
+struct Segment {
+    a: (f64, f64),
+    b: (f64, f64),
+    seen: TextBox,
+}
+
+impl Segment {
+    /// Whether the visible part of the piece passes through the inside of
+    /// a text's box (shrunk by a pixel each side: a line may touch a text,
+    /// as a rule beside its label does). Liang–Barsky clipping of the
+    /// segment to the box, intersected with where the line is seen.
+    fn crosses(&self, t: &TextBox) -> bool {
+        let (l, r) = (self.seen.l.max(t.l + 1.0), self.seen.r.min(t.r - 1.0));
+        let (top, bot) = (self.seen.t.max(t.t + 1.0), self.seen.b.min(t.b - 1.0));
+        if l >= r || top >= bot {
+            return false;
+        }
+        let (dx, dy) = (self.b.0 - self.a.0, self.b.1 - self.a.1);
+        let (mut u0, mut u1) = (0.0f64, 1.0f64);
+        for (p, q) in [
+            (-dx, self.a.0 - l),
+            (dx, r - self.a.0),
+            (-dy, self.a.1 - top),
+            (dy, bot - self.a.1),
+        ] {
+            if p == 0.0 {
+                if q < 0.0 {
+                    return false;
+                }
+            } else if p < 0.0 {
+                u0 = u0.max(q / p);
+            } else {
+                u1 = u1.min(q / p);
+            }
+        }
+        u0 <= u1
+    }
+}
+
+/// The pieces of every drawn line a text must keep off: each curve or
+/// edge in a clipped group (a polyline or a line: curves, a band's
+/// edges) and each rule drawn in a colour (a mark's rule, a band rule, a
+/// limit); the black axes and ticks, the faint grid and the legend's
+/// samples (`<line>` outside the plot) are the frame texts sit on.
+fn lines(doc: &roxmltree::Document) -> Vec<Segment> {
+    let page = TextBox {
+        l: f64::NEG_INFINITY,
+        t: f64::NEG_INFINITY,
+        r: f64::INFINITY,
+        b: f64::INFINITY,
+    };
+    let mut out = Vec::new();
+    let in_clip = |n: &roxmltree::Node| n.ancestors().any(|g| g.attribute("clip-path").is_some());
+    let drawn = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("polyline") || (n.has_tag_name("line") && in_clip(n)));
+    for p in drawn {
+        let clip = p
+            .ancestors()
+            .find_map(|g| g.attribute("clip-path"))
+            .and_then(|c| c.strip_prefix("url(#")?.strip_suffix(')'))
+            .and_then(|id| doc.descendants().find(|n| n.attribute("id") == Some(id)))
+            .and_then(|c| c.children().find(|n| n.has_tag_name("rect")));
+        let seen = match clip {
+            Some(rect) => {
+                let f = |a: &str| rect.attribute(a).unwrap().parse::<f64>().unwrap();
+                TextBox {
+                    l: f("x"),
+                    t: f("y"),
+                    r: f("x") + f("width"),
+                    b: f("y") + f("height"),
+                }
+            }
+            None if p.attribute("stroke") == Some("#000000") => continue,
+            None => page,
+        };
+        let ends = ["x1", "y1", "x2", "y2"].map(|a| p.attribute(a).unwrap_or("0"));
+        let pair = format!("{},{} {},{}", ends[0], ends[1], ends[2], ends[3]);
+        let pts: Vec<(f64, f64)> = p
+            .attribute("points")
+            .unwrap_or(&pair)
+            .split_whitespace()
+            .filter_map(|xy| {
+                let (x, y) = xy.split_once(',')?;
+                Some((x.parse().ok()?, y.parse().ok()?))
+            })
+            .collect();
+        out.extend(pts.windows(2).map(|w| Segment {
+            a: w[0],
+            b: w[1],
+            seen,
+        }));
+    }
+    out
+}
+
 /// What is wrong with one figure's text and curves.
 fn faults(svg_text: &str, (w, h): (u32, u32)) -> Vec<String> {
     let doc = roxmltree::Document::parse(svg_text).expect("SVG is XML");
@@ -105,6 +205,12 @@ fn faults(svg_text: &str, (w, h): (u32, u32)) -> Vec<String> {
             if b.overlaps(b2) {
                 out.push(format!("overlap: {s:?} {b:?} and {s2:?} {b2:?}"));
             }
+        }
+    }
+    let drawn = lines(&doc);
+    for (s, b) in &boxes {
+        if let Some(line) = drawn.iter().find(|l| l.crosses(b)) {
+            out.push(format!("a drawn line crosses {s:?} {b:?}: {line:?}"));
         }
     }
     // Every curve (a clipped polyline of many points) inside its clip box.
@@ -194,4 +300,22 @@ fn the_checker_finds_cut_and_overlapping_text() {
 <text x="10" y="10" dy="0.76em" font-size="10">first</text>
 <text x="10" y="30" dy="0.76em" font-size="10">second</text></svg>"#;
     assert!(faults(fine, (200, 50)).is_empty());
+    // A coloured rule through a label, and a clipped curve through one,
+    // are found; a black axis beside a label and a curve clipped away
+    // before it are not.
+    let ruled = r##"<svg xmlns="http://www.w3.org/2000/svg" width="200" height="50">
+<polyline stroke="#164696" points="30,0 30,50 "/>
+<text x="10" y="10" dy="0.76em" font-size="10">f-3dB 1 kHz</text></svg>"##;
+    assert_eq!(faults(ruled, (200, 50)).len(), 1);
+    let curve = |points: &str| {
+        format!(
+            r##"<svg xmlns="http://www.w3.org/2000/svg" width="200" height="50">
+<defs><clipPath id="c"><rect x="0" y="0" width="200" height="50"/></clipPath></defs>
+<g clip-path="url(#c)"><polyline stroke="#164696" points="{points}"/></g>
+<polyline stroke="#000000" points="9,0 9,50 "/>
+<text x="10" y="10" dy="0.76em" font-size="10">crossover</text></svg>"##
+        )
+    };
+    assert_eq!(faults(&curve("0,40 100,5 200,5 "), (200, 50)).len(), 1);
+    assert!(faults(&curve("0,40 100,30 200,30 "), (200, 50)).is_empty());
 }
