@@ -100,7 +100,7 @@ pub struct Circuit {
 
 impl Circuit {
     pub fn new(s: &Scenario) -> Circuit {
-        let bare = s.stage.topology.kind().without_source(s);
+        let bare = without_source(s);
         Circuit {
             bare: bare.map(|b| Box::new(Circuit::of(Netlist::build(&b, AmpModel::Real)))),
             ..Circuit::of(Netlist::build(s, AmpModel::Real))
@@ -380,4 +380,24 @@ pub struct Sweep {
 /// The log-spaced sweep frequencies from `lo` to `hi`.
 pub fn sweep_frequencies(lo: f64, hi: f64) -> Vec<f64> {
     log_grid(lo, hi, POINTS_PER_DECADE as f64)
+}
+
+/// The stage without its source's own parts (the kind's `source_parts`),
+/// each at its absent value; None where the kind declares none.
+fn without_source(s: &Scenario) -> Option<Scenario> {
+    let kind = s.stage.topology.kind();
+    if kind.source_parts.is_empty() {
+        return None;
+    }
+    let mut bare = s.clone();
+    for p in kind
+        .parts
+        .iter()
+        .filter(|p| kind.source_parts.contains(&p.name))
+    {
+        if let Some(param) = crate::model::params::param(p.param) {
+            param.set(&mut bare, None);
+        }
+    }
+    Some(bare)
 }

@@ -267,25 +267,6 @@ impl Kind {
             .any(|p| p.a == Node::Reference || p.b == Node::Reference)
     }
 
-    /// The stage without its source's own parts ([`Kind::source_parts`]),
-    /// each at its absent value; None where the kind declares none.
-    pub fn without_source(&self, s: &Scenario) -> Option<Scenario> {
-        if self.source_parts.is_empty() {
-            return None;
-        }
-        let mut bare = s.clone();
-        for p in self
-            .parts
-            .iter()
-            .filter(|p| self.source_parts.contains(&p.name))
-        {
-            if let Some(param) = crate::model::params::param(p.param) {
-                param.set(&mut bare, None);
-            }
-        }
-        Some(bare)
-    }
-
     /// Whether the kind has a part of this name.
     pub fn has(&self, name: &str) -> bool {
         self.parts.iter().any(|p| p.name == name)
