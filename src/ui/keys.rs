@@ -157,7 +157,7 @@ pub const KEYS: &[Binding] = &[
         keys: &[k('g')],
         shown: "g, z",
         action: Action::GainOrPhase,
-        help: "g: gain, phase or CMRR where short · z: gain zoomed or full range",
+        help: "g: gain, phase or CMRR if short · z: zoomed or full range",
         hint: None,
     },
     Binding {

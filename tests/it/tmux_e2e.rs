@@ -19,7 +19,7 @@ fn step_a_resistor_and_quit_in_a_real_terminal() {
     // files_and_ab::two_candidates_side_by_side).
     let after = wait_for(&s.0, "11.99").expect("gain figure redrawn");
     assert!(
-        after.contains("rf        11kΩ"),
+        squeezed(&after).contains("rf 11kΩ"),
         "rf steps to 11k:\n{after}"
     );
     // The plot is redrawn too: its view switches on v.
@@ -307,7 +307,7 @@ fn stepping_band_from_to_its_end_cannot_crash() {
         tmux(&["send-keys", "-t", &s.0, "Left"]);
     }
     let screen = wait_for(&s.0, "stays at 1µHz").expect("stops at the end");
-    assert!(screen.contains("band from 1µHz"), "{screen}");
+    assert!(squeezed(&screen).contains("band from 1µHz"), "{screen}");
     tmux(&["send-keys", "-t", &s.0, "C-c"]);
     let done = wait_for(&s.0, "EXIT=").expect("exits");
     assert!(done.contains("EXIT=0"), "{done}");
@@ -542,4 +542,14 @@ fn the_datasheet_form_in_a_real_terminal_at_80x24() {
     tmux(&["send-keys", "-t", &s.0, "C-c"]);
     let done = wait_for(&s.0, "EXIT=").expect("process exits");
     assert!(done.contains("EXIT=0"), "{done}");
+}
+
+/// The screen with each run of spaces as one (the pane's label column is
+/// as wide as its longest label).
+fn squeezed(screen: &str) -> String {
+    screen
+        .split(' ')
+        .filter(|w| !w.is_empty())
+        .collect::<Vec<_>>()
+        .join(" ")
 }
