@@ -499,14 +499,7 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
     let (supply_rejection_db, ripple_out_v) = supply_ripple(s, &circuit);
     let limits = crate::engine::limits::limits(s, &circuit, &sweep, dc_gain);
     let f_3db_hz = f_3db(&circuit, &sweep.points, dc_gain);
-    let poles = crate::engine::step::closed_loop_poles(&circuit.net);
-    let stable = poles
-        .as_ref()
-        .map(|p| !crate::engine::step::any_unstable(p));
-    let unstable = match stable {
-        Some(st) => !st,
-        None => phase_margin_deg.is_some_and(|p| p <= 0.0),
-    };
+    let (poles, stable, unstable) = verdict(&circuit, phase_margin_deg);
     let f_ref = time_reference(s, cross.map(|c| c.0), f_3db_hz);
     let (step, kick) = if depth.step {
         (
@@ -517,23 +510,12 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         Default::default()
     };
     let at_1k = circuit.eval_or_blank(1.0e3);
-    let current = s.current_input();
-    let noise_current_density_1khz = current
-        .then(|| at_1k.noise_density() / at_1k.gain.norm())
-        .filter(|v| v.is_finite());
-    let noise_current_rms = current
-        .then(|| input_referred_power(&sweep.points, s.band.0, s.band.1).sqrt())
-        .filter(|v| v.is_finite());
-    let gain_error = if ideal_gain != 0.0 && ideal_gain.is_finite() {
-        (dc_gain - ideal_gain) / ideal_gain
-    } else {
-        0.0
-    };
+    let (noise_current_density_1khz, noise_current_rms) = input_current_noise(s, &at_1k, &sweep);
     Analysis {
         nominal_gain: s.nominal_gain(),
         ideal_gain,
         dc_gain,
-        gain_error,
+        gain_error: relative_error(dc_gain, ideal_gain),
         target_error: target_error(s, dc_gain, ideal_gain),
         f_3db_hz,
         peaking_db: peaking_db(&circuit, &sweep.points, dc_gain),
@@ -571,6 +553,46 @@ pub fn analyze_to(s: &Scenario, depth: Depth) -> Analysis {
         kick,
         poles: poles.unwrap_or_default(),
         stable,
+    }
+}
+
+/// The closed loop's poles, whether it is stable (from the poles; null
+/// when they could not be found), and whether the time-domain analyses
+/// treat it as unstable (the poles, else a margin at or below zero).
+fn verdict(
+    circuit: &Circuit,
+    phase_margin_deg: Option<f64>,
+) -> (Option<Vec<C64>>, Option<bool>, bool) {
+    let poles = crate::engine::step::closed_loop_poles(&circuit.net);
+    let stable = poles
+        .as_ref()
+        .map(|p| !crate::engine::step::any_unstable(p));
+    let unstable = match stable {
+        Some(st) => !st,
+        None => phase_margin_deg.is_some_and(|p| p <= 0.0),
+    };
+    (poles, stable, unstable)
+}
+
+/// A current input's noise referred to the input: its density at 1 kHz
+/// and its RMS over the band (null for a voltage input).
+fn input_current_noise(s: &Scenario, at_1k: &Point, sweep: &Sweep) -> (Option<f64>, Option<f64>) {
+    let current = s.current_input();
+    let density = current
+        .then(|| at_1k.noise_density() / at_1k.gain.norm())
+        .filter(|v| v.is_finite());
+    let rms = current
+        .then(|| input_referred_power(&sweep.points, s.band.0, s.band.1).sqrt())
+        .filter(|v| v.is_finite());
+    (density, rms)
+}
+
+/// (value − ideal)/ideal, zero when the ideal is zero or not finite.
+fn relative_error(value: f64, ideal: f64) -> f64 {
+    if ideal != 0.0 && ideal.is_finite() {
+        (value - ideal) / ideal
+    } else {
+        0.0
     }
 }
 

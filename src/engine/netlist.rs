@@ -618,6 +618,49 @@ fn input_paths(parts: &[Part], term: Pin, own: Noisy) -> InputPaths {
 
 /// A voltage source's drive: a Norton current into its terminal behind
 /// resistance, else an EMF branch (taking the next free row).
+/// The held levels' ideal EMFs, each with its branch row from `next`:
+/// the kind's bias level (straight onto its node), then the reference
+/// input through its resistance.
+fn held_levels(
+    s: &Scenario,
+    decl: &Kind,
+    node: impl Fn(Pin) -> Option<usize>,
+    next: &mut usize,
+) -> Vec<Held> {
+    let bias = decl.bias.map(|level| Held {
+        drive: voltage_drive(node(Pin::Bias), node(Pin::Bias), 0.0, next),
+        level: level(s),
+    });
+    let reference = s.reference.map(|rf| Held {
+        drive: voltage_drive(node(Pin::RefSrc), node(Pin::Ref), rf.r, next),
+        level: rf.v,
+    });
+    bias.into_iter().chain(reference).collect()
+}
+
+/// Schottky: a DC current I carries a white current noise of 2·q·|I|
+/// A²/Hz, injected where the input current enters (`term`).
+fn shot_noise(s: &Scenario, term: Option<usize>) -> NoiseSource {
+    NoiseSource {
+        key: "shot",
+        label: "input shot noise",
+        kind: NoiseKind::SourceShot,
+        coupling: Coupling::Current(None, term),
+        white: 2.0 * ELEMENTARY_CHARGE * s.signal_dc().unwrap_or(0.0).abs(),
+        corner: 0.0,
+    }
+}
+
+/// Add `v.0` at column `at.0` and `v.1` at column `at.1` of row `row`
+/// (a node on ground adds nothing).
+fn add_pair(m: &mut Matrix, row: usize, at: (Option<usize>, Option<usize>), v: (C64, C64)) {
+    for (i, v) in [(at.0, v.0), (at.1, v.1)] {
+        if let Some(i) = i {
+            m[row][i] += v;
+        }
+    }
+}
+
 fn voltage_drive(emf: Option<usize>, term: Option<usize>, r: f64, next: &mut usize) -> Drive {
     if r > 0.0 {
         Drive::Norton {
@@ -713,30 +756,10 @@ impl Netlist {
         };
         let drive2 =
             second_r(s, decl).map(|r2| voltage_drive(node(Src2), node(Term2), r2, &mut next));
-        let held = decl
-            .bias
-            .map(|level| Held {
-                drive: voltage_drive(node(Bias), node(Bias), 0.0, &mut next),
-                level: level(s),
-            })
-            .into_iter()
-            .chain(s.reference.map(|rf| Held {
-                drive: voltage_drive(node(RefSrc), node(Ref), rf.r, &mut next),
-                level: rf.v,
-            }))
-            .collect();
+        let held = held_levels(s, decl, node, &mut next);
         noise.extend(amp_noise(&s.amp, en_row, node));
         if decl.input.is_current() {
-            // Schottky: a DC current I carries a white current noise of
-            // 2·q·|I| A²/Hz, injected where the input current enters.
-            noise.push(NoiseSource {
-                key: "shot",
-                label: "input shot noise",
-                kind: NoiseKind::SourceShot,
-                coupling: Coupling::Current(None, node(Term)),
-                white: 2.0 * ELEMENTARY_CHARGE * s.signal_dc().unwrap_or(0.0).abs(),
-                corner: 0.0,
-            });
+            noise.push(shot_noise(s, node(Term)));
         }
         let amp = &s.amp;
         Netlist {
@@ -877,31 +900,31 @@ impl Netlist {
         }
         // Voltage-noise probe: V(inp) − V(inp_i) = e (0 V here).
         let (p, n) = self.en_nodes;
-        if let Some(i) = p {
-            m[self.en_row][i] += one;
-            m[i][self.en_row] += one;
-        }
-        if let Some(i) = n {
-            m[self.en_row][i] -= one;
-            m[i][self.en_row] -= one;
+        let en_row = self.en_row;
+        add_pair(m, en_row, (p, n), (one, -one));
+        for (i, v) in [(p, one), (n, -one)] {
+            if let Some(i) = i {
+                m[i][en_row] += v;
+            }
         }
         // The common-mode error: V(inp_i) = V(inp) + κ(s)·V_cm.
         if let Some(k) = self.cm_error {
-            self.stamp_cm(&mut |i, v| m[self.en_row][i] += v, k.at(s));
+            self.stamp_cm(&mut |i, v| m[en_row][i] += v, k.at(s));
         }
-        // Amplifier: V(int) − A·(V(+) − V(−)) = 0, or the nullor V(+) = V(−),
-        // or in Norton form the current (A/ro)·(V(+) − V(−)) into the output.
+        self.stamp_amp(s, m, active);
+    }
+
+    /// The amplifier's row: V(int) − A·(V(+) − V(−)) = 0, or the nullor
+    /// V(+) = V(−), or in Norton form the current (A/ro)·(V(+) − V(−))
+    /// into the output (nothing when `active` is false).
+    fn stamp_amp(&self, s: C64, m: &mut Matrix, active: bool) {
+        let one = C64::new(1.0, 0.0);
         let r = self.amp_row;
+        let sense = (self.sense_p, self.sense_n);
         if self.inv_ro > 0.0 {
-            if !active {
-                return;
-            }
-            let g = self.loop_factor(s);
-            if let Some(i) = self.sense_p {
-                m[r][i] -= g;
-            }
-            if let Some(i) = self.sense_n {
-                m[r][i] += g;
+            if active {
+                let g = self.loop_factor(s);
+                add_pair(m, r, sense, (-g, g));
             }
             return;
         }
@@ -909,23 +932,13 @@ impl Netlist {
             m[i][r] += one;
         }
         if self.model == AmpModel::Nullor {
-            if let Some(i) = self.sense_p {
-                m[r][i] += one;
-            }
-            if let Some(i) = self.sense_n {
-                m[r][i] -= one;
-            }
+            add_pair(m, r, sense, (one, -one));
         } else {
             if let Some(i) = self.amp_out {
                 m[r][i] += one;
             }
             let a = if active { self.open_loop(s) } else { ZERO };
-            if let Some(i) = self.sense_p {
-                m[r][i] -= a;
-            }
-            if let Some(i) = self.sense_n {
-                m[r][i] += a;
-            }
+            add_pair(m, r, sense, (-a, a));
         }
     }
 

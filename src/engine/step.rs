@@ -421,20 +421,16 @@ pub(super) fn reduce(eq: &TimeEquations) -> Option<Reduced> {
     let (gz, cz) = (tt.mul(&g).mul(&to_x), tt.mul(&c).mul(&to_x));
     let (bz, kz, k0z) = (tt.mul_vec(&beta), tt.mul_vec(&gamma), tt.mul_vec(&kappa));
     // 3. Eliminate the algebraic unknowns.
-    let d_idx = &dynamic;
-    let a_idx = &algebraic;
+    let (d_idx, a_idx) = (&dynamic, &algebraic);
     let cdd = Lu::factor(&cz.select(d_idx, d_idx))?;
-    let gaa = if a_idx.is_empty() {
-        None
-    } else {
-        Some(Lu::factor(&gz.select(a_idx, a_idx))?)
-    };
+    let gaa = (!a_idx.is_empty())
+        .then(|| Lu::factor(&gz.select(a_idx, a_idx)))
+        .map_or(Some(None), |lu| lu.map(Some))?;
     let (gdd, gda, gad) = (
         gz.select(d_idx, d_idx),
         gz.select(d_idx, a_idx),
         gz.select(a_idx, d_idx),
     );
-    let pick = |v: &[f64], idx: &[usize]| idx.iter().map(|&i| v[i]).collect::<Vec<f64>>();
     // z_a = P·z_d + p·E + p0
     let (p_mat, p_vec, p0) = match &gaa {
         Some(lu) => (
@@ -456,28 +452,14 @@ pub(super) fn reduce(eq: &TimeEquations) -> Option<Reduced> {
         cdd.solve(&rhs)
     };
     let (f, f0) = (drive(&bz, &p_vec), drive(&k0z, &p0));
-    let jump: Vec<f64> = cdd
-        .solve(&pick(&kz, d_idx))
-        .into_iter()
-        .map(|v| -v)
-        .collect();
+    let jump: Vec<f64> = cdd.solve(&pick(&kz, d_idx)).iter().map(|v| -v).collect();
     let (xz, xe) = unknowns_from_states(&to_x, (d_idx, a_idx), (&p_mat, &p_vec));
     let (_, xe0) = unknowns_from_states(&to_x, (d_idx, a_idx), (&p_mat, &p0));
     // The load terminal (never the known node) among the kept unknowns.
     let out = keep.iter().position(|&i| Some(i) == eq.out)?;
     let x1 = d_idx.iter().position(|&i| keep[i] == eq.x1)?;
     let x2 = eq.x2.and_then(|k| d_idx.iter().position(|&i| keep[i] == k));
-    let current = eq
-        .amp_current
-        .iter()
-        .try_fold((vec![0.0; r], 0.0, 0.0), |(mut ci, ce, ce0), &(u, k)| {
-            let row = keep.iter().position(|&i| i == u)?;
-            for (c, v) in ci.iter_mut().zip(xz.row(row)) {
-                *c += k * v;
-            }
-            Some((ci, ce + k * xe[row], plus(ce0, k * xe0[row])))
-        })
-        .filter(|(ci, ce, ce0)| ci.iter().all(|v| v.is_finite()) && (ce + ce0).is_finite());
+    let current = amp_current(eq, &keep, &xz, (&xe, &xe0));
     let finite = |v: &[f64]| v.iter().all(|v| v.is_finite());
     (a.is_finite() && finite(&f) && finite(&f0)).then(|| Reduced {
         r,
@@ -496,6 +478,35 @@ pub(super) fn reduce(eq: &TimeEquations) -> Option<Reduced> {
             .map(|&i| (keep[i], reference[i].map(|r| keep[r])))
             .collect(),
     })
+}
+
+/// The amplifier's output current in the states: its weights on them,
+/// on the EMF and the constant (`xe`: the kept unknowns' EMF and constant
+/// parts); null when a term is not finite or a node is not kept.
+fn amp_current(
+    eq: &TimeEquations,
+    keep: &[usize],
+    xz: &Mat,
+    (xe, xe0): (&[f64], &[f64]),
+) -> Option<(Vec<f64>, f64, f64)> {
+    eq.amp_current
+        .iter()
+        .try_fold(
+            (vec![0.0; xz.cols], 0.0, 0.0),
+            |(mut ci, ce, ce0), &(u, k)| {
+                let row = keep.iter().position(|&i| i == u)?;
+                for (c, v) in ci.iter_mut().zip(xz.row(row)) {
+                    *c += k * v;
+                }
+                Some((ci, ce + k * xe[row], plus(ce0, k * xe0[row])))
+            },
+        )
+        .filter(|(ci, ce, ce0)| ci.iter().all(|v| v.is_finite()) && (ce + ce0).is_finite())
+}
+
+/// The entries of `v` at `idx`, in order.
+fn pick(v: &[f64], idx: &[usize]) -> Vec<f64> {
+    idx.iter().map(|&i| v[i]).collect()
 }
 
 fn all(n: usize) -> Vec<usize> {
@@ -599,6 +610,48 @@ fn mode_index(m: Mode) -> usize {
     MODES.iter().position(|x| *x == m).unwrap_or(0)
 }
 
+/// The state matrix [A f; 0 0] of one mode: the linear one as it is; a
+/// current limit holds the output current (ĉi·z' = 0 sets the held rows'
+/// common rate from the other rows, exactly linear); a slew or rail mode
+/// sets x1's rate to the slew rate or to zero.
+fn mode_matrix(
+    mode: Mode,
+    lin: &Mat,
+    red: &Reduced,
+    lim: &Limits,
+    (current, held): (&Option<(Vec<f64>, f64)>, &[usize]),
+) -> Mat {
+    let r = red.r;
+    let mut m = lin.clone();
+    if mode.current_sign().is_some() {
+        if let Some((row, sum)) = current {
+            let mut rate = vec![0.0; r + 1];
+            for j in (0..r).filter(|j| !held.contains(j)) {
+                for (c, v) in rate.iter_mut().zip(lin.row(j)) {
+                    *c -= row[j] * v / sum;
+                }
+            }
+            for &k in held {
+                for (c, v) in rate.iter().enumerate() {
+                    m[(k, c)] = *v;
+                }
+            }
+        }
+        return m;
+    }
+    let rate = match mode {
+        Mode::Linear | Mode::SourceLimit | Mode::SinkLimit => return m,
+        Mode::SlewUp => lim.slew.unwrap_or(0.0),
+        Mode::SlewDown => -lim.slew.unwrap_or(0.0),
+        Mode::High | Mode::Low => 0.0,
+    };
+    for j in 0..r {
+        m[(red.x1, j)] = 0.0;
+    }
+    m[(red.x1, r)] = rate;
+    m
+}
+
 impl<'a> Sim<'a> {
     pub(super) fn new(
         red: &'a Reduced,
@@ -632,38 +685,7 @@ impl<'a> Sim<'a> {
             .filter(|(_, sum)| *sum != 0.0 && sum.is_finite());
         let mats = MODES
             .iter()
-            .map(|&mode| {
-                let mut m = lin.clone();
-                if mode.current_sign().is_some() {
-                    // Hold the current: ĉi·z' = 0 sets the held rows'
-                    // common rate from the other rows (exactly linear).
-                    if let Some((row, sum)) = &current {
-                        let mut rate = vec![0.0; r + 1];
-                        for j in (0..r).filter(|j| !held.contains(j)) {
-                            for (c, v) in rate.iter_mut().zip(lin.row(j)) {
-                                *c -= row[j] * v / sum;
-                            }
-                        }
-                        for &k in &held {
-                            for (c, v) in rate.iter().enumerate() {
-                                m[(k, c)] = *v;
-                            }
-                        }
-                    }
-                    return m;
-                }
-                let rate = match mode {
-                    Mode::Linear | Mode::SourceLimit | Mode::SinkLimit => return m,
-                    Mode::SlewUp => lim.slew.unwrap_or(0.0),
-                    Mode::SlewDown => -lim.slew.unwrap_or(0.0),
-                    Mode::High | Mode::Low => 0.0,
-                };
-                for j in 0..r {
-                    m[(red.x1, j)] = 0.0;
-                }
-                m[(red.x1, r)] = rate;
-                m
-            })
+            .map(|&mode| mode_matrix(mode, &lin, red, &lim, (&current, &held)))
             .collect();
         let mut out = red.c.clone();
         out.push(plus(red.d * e1, red.d0) - y0);
@@ -792,43 +814,49 @@ impl<'a> Sim<'a> {
             ],
             Mode::High => [(-r, Mode::Linear), current(1.0), off],
             Mode::Low => [(r, Mode::Linear), current(-1.0), off],
-            Mode::SourceLimit | Mode::SinkLimit => {
-                let sign = mode.current_sign().unwrap_or(1.0);
-                // Back to the mode the amplifier would otherwise be in,
-                // where that no longer pushes the current outward.
-                let other = match self.lim.slew {
-                    Some(sr) if r > sr => Mode::SlewUp,
-                    Some(sr) if r < -sr => Mode::SlewDown,
-                    _ => Mode::Linear,
-                };
-                let back = match &self.current {
-                    Some((row, _)) => {
-                        let dz = self.mats[mode_index(other)].mul_vec(z);
-                        let di: f64 = row.iter().zip(&dz).map(|(a, b)| a * b).sum();
-                        (-sign * di, other)
-                    }
-                    None => (1.0, Mode::Linear),
-                };
-                let held_rate = self.mats[mode_index(mode)].mul_vec(z)[self.red.x1];
-                let fast = match self.lim.slew {
-                    Some(sr) if sign * held_rate > sr => (
-                        sign * held_rate - sr,
-                        if sign > 0.0 {
-                            Mode::SlewUp
-                        } else {
-                            Mode::SlewDown
-                        },
-                    ),
-                    _ => off,
-                };
-                let edge = if sign > 0.0 {
-                    rail(x1 - hi, Mode::High)
-                } else {
-                    rail(lo - x1, Mode::Low)
-                };
-                [edge, back, fast]
-            }
+            Mode::SourceLimit | Mode::SinkLimit => self.current_limit_exits(mode, z),
         }
+    }
+
+    /// The ways out of a current limit: the rail it pushes towards; back
+    /// to the mode the amplifier would otherwise be in (linear or slewing),
+    /// where that no longer pushes the current outward; slewing, when the
+    /// held rate passes the slew rate.
+    fn current_limit_exits(&self, mode: Mode, z: &[f64]) -> [(f64, Mode); 3] {
+        let (r, x1) = (self.rate_lin(z), z[self.red.x1]);
+        let off = (f64::NEG_INFINITY, mode);
+        let sign = mode.current_sign().unwrap_or(1.0);
+        let other = match self.lim.slew {
+            Some(sr) if r > sr => Mode::SlewUp,
+            Some(sr) if r < -sr => Mode::SlewDown,
+            _ => Mode::Linear,
+        };
+        let back = match &self.current {
+            Some((row, _)) => {
+                let dz = self.mats[mode_index(other)].mul_vec(z);
+                let di: f64 = row.iter().zip(&dz).map(|(a, b)| a * b).sum();
+                (-sign * di, other)
+            }
+            None => (1.0, Mode::Linear),
+        };
+        let held_rate = self.mats[mode_index(mode)].mul_vec(z)[self.red.x1];
+        let fast = match self.lim.slew {
+            Some(sr) if sign * held_rate > sr => (
+                sign * held_rate - sr,
+                if sign > 0.0 {
+                    Mode::SlewUp
+                } else {
+                    Mode::SlewDown
+                },
+            ),
+            _ => off,
+        };
+        let edge = match self.lim.rails {
+            Some((_, hi)) if sign > 0.0 => (x1 - hi, Mode::High),
+            Some((lo, _)) => (lo - x1, Mode::Low),
+            None => off,
+        };
+        [edge, back, fast]
     }
 
     /// The mode a state starts in.

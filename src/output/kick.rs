@@ -10,7 +10,7 @@ use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
 use crate::output::settling::{decade_chart, DecadeAxes};
-use crate::output::svg::{err, head, style, titled, trace, Entry, Look};
+use crate::output::svg::{err, head, slot_name, style, titled, trace, Entry, Look};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -109,16 +109,9 @@ pub fn kick_chart(
     let pairs: Vec<Pair> = kicks.iter().map(|k| curves(k, end, 1200, floor)).collect();
     let mut entries: Vec<Entry> = Vec::new();
     for slot in 0..kicks.len() {
-        let tag = if kicks.len() > 1 {
-            format!("{} ", ["A", "B"][slot.min(1)])
-        } else {
-            String::new()
-        };
-        entries.push((
-            format!("{tag}sampling capacitor"),
-            style(slot, false, look.mono),
-        ));
-        entries.push((format!("{tag}load terminal"), style(slot, true, look.mono)));
+        let name = |n| slot_name(kicks.len(), slot, n);
+        entries.push((name("sampling capacitor"), style(slot, false, look.mono)));
+        entries.push((name("load terminal"), style(slot, true, look.mono)));
     }
     let area = head(area, &titled(heading, stages), &entries, font)?;
     let axes = DecadeAxes {

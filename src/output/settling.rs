@@ -10,7 +10,9 @@ use crate::engine::step::{StepResponse, BANDS};
 use crate::model::values::{fmt_eng, printable};
 use crate::output::figure::Evaluated;
 use crate::output::ink;
-use crate::output::svg::{err, head, style, titled, trace, Chart, Entry, Keyed, Look, Placer};
+use crate::output::svg::{
+    err, head, slot_name, style, titled, trace, Chart, Entry, Keyed, Look, Placer,
+};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -160,11 +162,7 @@ pub fn settling_chart(
         .ceil();
     let entries: Vec<Entry> = (0..stages.len())
         .map(|slot| {
-            let name = if stages.len() > 1 {
-                format!("{} |output / final − 1|", ["A", "B"][slot.min(1)])
-            } else {
-                "|output / final − 1|".to_string()
-            };
+            let name = slot_name(stages.len(), slot, "|output / final − 1|");
             (name, style(slot, false, look.mono))
         })
         .collect();
@@ -207,37 +205,58 @@ pub fn settling_chart(
     for (slot, (s, c)) in stages.iter().zip(&curves).enumerate() {
         let st = style(slot, false, look.mono);
         trace(&mut chart, &frame, c, &st)?;
-        let text_style = |h| {
-            ("sans-serif", font)
-                .into_font()
-                .color(&st.color)
-                .pos(Pos::new(h, VPos::Top))
-        };
-        for (y, t) in rules(&s.eval.analysis.step) {
-            let Some(t) = t else { continue };
-            let text = format!("{} at {}", level_label(y), fmt_eng(t, "s"));
-            // A dot where the curve last leaves the band, its time set in
-            // the first free corner: above and right of the dot, or below
-            // and left of it in the chart's right part.
-            let dot = Circle::new((t, y), 3, st.color.filled());
-            chart.draw_series(std::iter::once(dot)).map_err(err)?;
-            let left_first = (t - x0) / (x1 - x0) > 0.6;
-            let (dx, dy) = placer.place_by_dot(&frame, (t, y), &text, (font, left_first));
-            let label =
-                EmptyElement::at((t, y)) + Text::new(text, (dx, dy), text_style(HPos::Left));
-            chart.draw_series(std::iter::once(label)).map_err(err)?;
-        }
-        if let Some(tmax) = spec_ts[slot] {
-            let line = PathElement::new(
-                vec![(tmax, FLOOR_LOG), (tmax, top)],
-                st.color.mix(0.7).stroke_width(1),
-            );
-            chart.draw_series(std::iter::once(line)).map_err(err)?;
-            let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
-            let (dx, dy, h) = placer.place(&frame, tmax, &text, font);
-            let label = EmptyElement::at((tmax, top)) + Text::new(text, (dx, dy), text_style(h));
-            chart.draw_series(std::iter::once(label)).map_err(err)?;
-        }
+        let spec = spec_ts[slot].map(|t| (t, top));
+        settle_texts(
+            &mut chart,
+            (&frame, &mut placer),
+            &s.eval.analysis.step,
+            spec,
+            (&st, font),
+        )?;
+    }
+    Ok(())
+}
+
+/// One stage's settling texts: a dot where its curve last leaves each
+/// band with the time beside it, and the spec's settling time as a rule
+/// (`spec`: the time and the chart's top) with its text.
+fn settle_texts(
+    chart: &mut Chart,
+    (frame, placer): (&ink::Frame, &mut Placer),
+    step: &StepResponse,
+    spec: Option<(f64, f64)>,
+    (st, font): (&crate::output::svg::Style, u32),
+) -> anyhow::Result<()> {
+    let (x0, x1) = (chart.x_range().start, chart.x_range().end);
+    let text_style = |h| {
+        ("sans-serif", font)
+            .into_font()
+            .color(&st.color)
+            .pos(Pos::new(h, VPos::Top))
+    };
+    for (y, t) in rules(step) {
+        let Some(t) = t else { continue };
+        let text = format!("{} at {}", level_label(y), fmt_eng(t, "s"));
+        // A dot where the curve last leaves the band, its time set in
+        // the first free corner: above and right of the dot, or below
+        // and left of it in the chart's right part.
+        let dot = Circle::new((t, y), 3, st.color.filled());
+        chart.draw_series(std::iter::once(dot)).map_err(err)?;
+        let left_first = (t - x0) / (x1 - x0) > 0.6;
+        let (dx, dy) = placer.place_by_dot(frame, (t, y), &text, (font, left_first));
+        let label = EmptyElement::at((t, y)) + Text::new(text, (dx, dy), text_style(HPos::Left));
+        chart.draw_series(std::iter::once(label)).map_err(err)?;
+    }
+    if let Some((tmax, top)) = spec {
+        let line = PathElement::new(
+            vec![(tmax, FLOOR_LOG), (tmax, top)],
+            st.color.mix(0.7).stroke_width(1),
+        );
+        chart.draw_series(std::iter::once(line)).map_err(err)?;
+        let text = format!("spec: settled by {}", fmt_eng(tmax, "s"));
+        let (dx, dy, h) = placer.place(frame, tmax, &text, font);
+        let label = EmptyElement::at((tmax, top)) + Text::new(text, (dx, dy), text_style(h));
+        chart.draw_series(std::iter::once(label)).map_err(err)?;
     }
     Ok(())
 }

@@ -572,10 +572,16 @@ fn draw_two_sided<'a, 'b: 'a>(
 }
 
 fn legend_name(n: usize, slot: usize, c: &Curve) -> String {
+    slot_name(n, slot, c.name)
+}
+
+/// A legend name for stage `slot` of `n`: "A name" / "B name" when two
+/// stages are drawn, the bare name for one.
+pub(crate) fn slot_name(n: usize, slot: usize, name: &str) -> String {
     if n > 1 {
-        format!("{} {}", ["A", "B"][slot.min(1)], c.name)
+        format!("{} {name}", ["A", "B"][slot.min(1)])
     } else {
-        c.name.to_string()
+        name.to_string()
     }
 }
 

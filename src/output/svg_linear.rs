@@ -6,7 +6,8 @@
 use crate::model::values::{fmt_eng, fmt_plain, nice_linear, printable};
 use crate::output::ink;
 use crate::output::svg::{
-    err, head, style, text_width, titled, trace, Chart, Entry, Evaluated, Keyed, Look, Placer,
+    err, head, slot_name, style, text_width, titled, trace, Chart, Entry, Evaluated, Keyed, Look,
+    Placer,
 };
 use crate::study::spread::{self, unit_and_label, FigureSpread, SpreadResult, BINS};
 use plotters::coord::Shift;
@@ -14,6 +15,8 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{Pos, VPos};
 
 type Area<'a, 'b> = DrawingArea<SVGBackend<'b>, Shift>;
+/// A curve's points (x, y) in data units.
+type Curve = Vec<(f64, f64)>;
 
 /// The step view needs a step response (none for an unstable loop).
 pub fn needs_step(s: &Evaluated) -> Option<String> {
@@ -103,25 +106,7 @@ pub fn step_chart(
         .iter()
         .map(|s| fmt_eng(s.eval.analysis.step.size_v, s.scenario.input_unit()))
         .collect();
-    let mut entries: Vec<Entry> = Vec::new();
-    if !band.is_empty() {
-        entries.push((
-            "±0.1 % of the final value (shaded)".into(),
-            band_style(look),
-        ));
-    }
-    for slot in 0..stages.len() {
-        let mut name = if stages.len() > 1 {
-            format!("{} output", ["A", "B"][slot.min(1)])
-        } else {
-            "output".to_string()
-        };
-        // Held at a rail before the step: no figures, and the legend says why.
-        if let Some(reason) = stages[slot].eval.analysis.step.reason {
-            name = format!("{name} (no figures: {reason})");
-        }
-        entries.push((name, style(slot, false, look.mono)));
-    }
+    let entries = step_entries(stages, !band.is_empty(), look);
     let area = head(
         area,
         &titled(&format!("{heading}, {} step", sizes.join(" / ")), stages),
@@ -157,7 +142,19 @@ pub fn step_chart(
             .draw_series(std::iter::once(ink::placeholder(token, (x0, lo_b))))
             .map_err(err)?;
     }
-    let frame = frame_of(&chart);
+    marks_and_waves(&mut chart, stages, (&waves, &band), yr, (look, font))
+}
+
+/// The step chart's marks (each stage's settling and other times, with
+/// texts kept off the curves, the band and each other) and its waves.
+fn marks_and_waves<'a, 'b: 'a>(
+    chart: &mut Chart<'a, 'b>,
+    stages: &[Evaluated],
+    (waves, band): (&[Curve], &[f64]),
+    yr: (f64, f64),
+    (look, font): (Look, u32),
+) -> anyhow::Result<()> {
+    let frame = frame_of(chart);
     let mut placer = Placer::default();
     if let [lo_b, hi_b] = band[..] {
         placer.avoid_band(&frame, (lo_b, hi_b), 6.0);
@@ -167,7 +164,7 @@ pub fn step_chart(
         .enumerate()
         .flat_map(|(slot, s)| step_marks(s).into_iter().map(move |(x, t)| (slot, x, t)))
         .collect();
-    for w in &waves {
+    for w in waves {
         placer.avoid_curve(&frame, w);
     }
     for (_, x, _) in &marks {
@@ -175,12 +172,30 @@ pub fn step_chart(
     }
     for (slot, x, text) in marks {
         let color = style(slot, false, look.mono).color;
-        vmark(&mut chart, &mut placer, x, yr, text, (color, font))?;
+        vmark(chart, &mut placer, x, yr, text, (color, font))?;
     }
     for (slot, w) in waves.iter().enumerate() {
-        trace(&mut chart, &frame, w, &style(slot, false, look.mono))?;
+        trace(chart, &frame, w, &style(slot, false, look.mono))?;
     }
     Ok(())
+}
+
+/// The step chart's legend: the settling band (when drawn), then each
+/// stage's output; a stage held at a rail before the step has no figures,
+/// and its name says why.
+fn step_entries(stages: &[Evaluated], band: bool, look: Look) -> Vec<Entry> {
+    let shade = (
+        "±0.1 % of the final value (shaded)".to_string(),
+        band_style(look),
+    );
+    let outputs = stages.iter().enumerate().map(|(slot, s)| {
+        let mut name = slot_name(stages.len(), slot, "output");
+        if let Some(reason) = s.eval.analysis.step.reason {
+            name = format!("{name} (no figures: {reason})");
+        }
+        (name, style(slot, false, look.mono))
+    });
+    band.then_some(shade).into_iter().chain(outputs).collect()
 }
 
 /// The settling band's look: a teal (grey in mono) shade.
@@ -307,18 +322,7 @@ fn histogram_panel(
     let scale = if key == "target_error" { 100.0 } else { 1.0 };
     // A figure every trial gives the same value (to the shown digits) is
     // one mark with "no spread", not a full-height bar.
-    let steady: Vec<Option<f64>> = results
-        .iter()
-        .map(|r| r.figure(key).and_then(|f| steady_value(f, unit)))
-        .collect();
-    let outlines: Vec<Vec<(f64, f64)>> = results
-        .iter()
-        .zip(&steady)
-        .map(|(r, st)| match (r.figure(key), st) {
-            (Some(f), None) => outline(f, scale),
-            _ => Vec::new(),
-        })
-        .collect();
+    let (steady, outlines) = steady_and_outlines(results, key, unit, scale);
     let marks = panel_marks(results, &steady, (key, scale), look);
     let xs = outlines
         .iter()
@@ -374,6 +378,29 @@ fn histogram_panel(
         }
     }
     draw_outlines(&mut chart, &outlines, look)
+}
+
+/// Per result: the one value every trial gives (to the shown digits), or
+/// else the histogram's outline (in the panel's `scale`).
+fn steady_and_outlines(
+    results: &[SpreadResult],
+    key: &str,
+    unit: crate::judge::figures::Unit,
+    scale: f64,
+) -> (Vec<Option<f64>>, Vec<Curve>) {
+    let steady: Vec<Option<f64>> = results
+        .iter()
+        .map(|r| r.figure(key).and_then(|f| steady_value(f, unit)))
+        .collect();
+    let outlines = results
+        .iter()
+        .zip(&steady)
+        .map(|(r, st)| match (r.figure(key), st) {
+            (Some(f), None) => outline(f, scale),
+            _ => Vec::new(),
+        })
+        .collect();
+    (steady, outlines)
 }
 
 /// A panel's axis unit.

@@ -122,6 +122,22 @@ fn a_refused_value_names_the_row_and_the_text_and_changes_nothing() {
 }
 
 #[test]
+fn delete_on_a_choice_row_says_it_is_a_choice_and_keeps_it() {
+    let d = temp_dir("sheet-choice");
+    let mut a = app_in(&d, false);
+    a.on_key(key(KeyCode::Char('d')));
+    let i = sheet_rows().iter().position(|r| r.key == "take").unwrap();
+    a.on_key(key(KeyCode::Home));
+    press(&mut a, KeyCode::Down, i);
+    a.on_key(key(KeyCode::Right));
+    let before = format!("{:?}", form(&a).take);
+    a.on_key(key(KeyCode::Delete));
+    assert_eq!(format!("{:?}", form(&a).take), before);
+    assert!(!a.status.contains("cleared"), "{}", a.status);
+    assert!(a.status.contains("choice"), "{}", a.status);
+}
+
+#[test]
 fn figures_that_cannot_be_reconciled_are_said_and_not_applied() {
     let d = temp_dir("sheet-margin");
     let mut a = app_in(&d, false);

@@ -223,7 +223,7 @@ impl SheetForm {
 
     /// Take typed text into a row: parsed and checked as the pane does
     /// (an empty text or `none` clears it). Ok: what was set.
-    pub fn enter(&mut self, r: &Row, text: &str) -> Result<String, String> {
+    pub fn enter(&mut self, r: &Row, text: &str) -> Result<String, Refused> {
         let t = text.trim();
         if r.entry == Entry::Name {
             self.name = t.to_string();
@@ -233,7 +233,7 @@ impl SheetForm {
             self.values.remove(r.key);
             return Ok(format!("{} ({}) cleared", r.label, r.key));
         }
-        let refuse = |why: String| format!("{} ({}): {why} (value unchanged)", r.label, r.key);
+        let refuse = |why: String| Refused { row: *r, why };
         let v = parse_value(t).map_err(|e| refuse(e.to_string()))?;
         check(r.entry, v).map_err(|why| refuse(format!("`{t}`: {why}")))?;
         self.values.insert(r.key, v);
@@ -484,15 +484,50 @@ fn noise_values(n: &Option<NoiseFigures>) -> [Option<Num>; 8] {
     ]
 }
 
+/// A typed figure the form refused: its row and why (the text included).
+#[derive(Debug, Clone)]
+pub struct Refused {
+    pub row: Row,
+    pub why: String,
+}
+
+impl std::fmt::Display for Refused {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let r = &self.row;
+        write!(f, "{} ({}): {} (value unchanged)", r.label, r.key, self.why)
+    }
+}
+
+/// Why a number does not fit its row.
+#[derive(Debug, Clone, PartialEq)]
+enum Misfit {
+    NotFinite(f64),
+    NotAbove0,
+    Negative,
+    /// Refused by the amplifier field the row fills (`path`).
+    AsField(&'static str, String),
+}
+
+impl std::fmt::Display for Misfit {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Misfit::NotFinite(v) => write!(f, "{v} is not a finite number"),
+            Misfit::NotAbove0 => f.write_str("must be above 0"),
+            Misfit::Negative => f.write_str("must be 0 or more"),
+            Misfit::AsField(path, message) => write!(f, "as {path}, {message}"),
+        }
+    }
+}
+
 /// The check of a typed number: its sign, or the `amp` field's range as
 /// the pane accepts it (the same message).
-fn check(entry: Entry, v: f64) -> Result<(), String> {
+fn check(entry: Entry, v: f64) -> Result<(), Misfit> {
     if !v.is_finite() {
-        return Err(format!("{v} is not a finite number"));
+        return Err(Misfit::NotFinite(v));
     }
     match entry {
-        Positive if v <= 0.0 => Err("must be above 0".into()),
-        NonNegative if v < 0.0 => Err("must be 0 or more".into()),
+        Positive if v <= 0.0 => Err(Misfit::NotAbove0),
+        NonNegative if v < 0.0 => Err(Misfit::Negative),
         Amp(path) => {
             let Some(p) = crate::model::params::param(path) else {
                 return Ok(());
@@ -500,7 +535,7 @@ fn check(entry: Entry, v: f64) -> Result<(), String> {
             let mut s = crate::files::load::demo();
             p.set(&mut s, Some(v));
             match p.check(&s) {
-                Some(problem) => Err(format!("as {path}, {}", problem.message)),
+                Some(problem) => Err(Misfit::AsField(path, problem.message)),
                 None => Ok(()),
             }
         }
@@ -568,10 +603,13 @@ impl App {
                 }
                 KeyCode::Enter | KeyCode::Left | KeyCode::Right if choice => form.switch(&r),
                 KeyCode::Enter => form.typing = Some(Field::offering(&form.edit_text(&r))),
-                KeyCode::Delete | KeyCode::Backspace => {
-                    let msg = form.enter(&r, "");
-                    self.info(msg.unwrap_or_default());
+                KeyCode::Delete | KeyCode::Backspace if choice => {
+                    self.info(format!("{} is a choice: ← → switch it", r.label));
                 }
+                KeyCode::Delete | KeyCode::Backspace => match form.enter(&r, "") {
+                    Ok(msg) => self.info(msg),
+                    Err(e) => self.error(e.to_string()),
+                },
                 KeyCode::Char('a') => return self.sheet_apply(form),
                 KeyCode::Char('A') => return self.sheet_save(form),
                 KeyCode::Char('o') => {
@@ -598,7 +636,7 @@ impl App {
                 let r = rows[form.selected.min(rows.len() - 1)];
                 match form.enter(&r, &text) {
                     Ok(msg) => self.info(msg),
-                    Err(e) => self.error(e),
+                    Err(e) => self.error(e.to_string()),
                 }
             }
             Some(None) => self.info("entry dropped: the row is unchanged"),
