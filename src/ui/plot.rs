@@ -42,6 +42,30 @@ pub struct Trace<'a> {
     pub joining: Joining,
 }
 
+impl<'a> Trace<'a> {
+    /// A continuous, unnamed, major trace.
+    pub fn plain(points: &'a [(f64, f64)], (style, stroke): (Style, Stroke)) -> Trace<'a> {
+        Trace {
+            points,
+            style,
+            stroke,
+            label: None,
+            label_at: 0.85,
+            minor: false,
+            joining: Joining::Continuous,
+        }
+    }
+
+    /// The same trace with a name printed at `at` (0 = left, 1 = right).
+    pub fn named(self, label: Option<String>, at: f64) -> Trace<'a> {
+        Trace {
+            label,
+            label_at: at,
+            ..self
+        }
+    }
+}
+
 /// A vertical marker with a short label.
 pub struct VMark {
     pub x: f64,

@@ -1099,27 +1099,11 @@ fn step_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
     // The band lines first, under the waveforms.
     let mut tr: Vec<Trace> = Vec::new();
     for (i, l) in lines.iter().enumerate().rev() {
-        tr.push(Trace {
-            points: l,
-            style: app.theme.dim,
-            stroke: Stroke::Solid,
-            label: (i == 0).then(|| "final".to_string()),
-            label_at: 0.9,
-            minor: false,
-            joining: Joining::Continuous,
-        });
+        let final_name = (i == 0).then(|| "final".to_string());
+        tr.push(Trace::plain(l, (app.theme.dim, Stroke::Solid)).named(final_name, 0.9));
     }
     for (i, w) in waves.iter().enumerate() {
-        let (style, stroke) = slot_style(app, i);
-        tr.push(Trace {
-            points: w,
-            style,
-            stroke,
-            label: None,
-            label_at: 0.85,
-            minor: false,
-            joining: Joining::Continuous,
-        });
+        tr.push(Trace::plain(w, slot_style(app, i)));
     }
     let (lo, hi) = tr
         .iter()
@@ -1171,27 +1155,10 @@ fn settling_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .collect();
     let mut tr: Vec<Trace> = Vec::new();
     for l in &rules {
-        tr.push(Trace {
-            points: l,
-            style: app.theme.dim,
-            stroke: Stroke::Solid,
-            label: None,
-            label_at: 0.9,
-            minor: false,
-            joining: Joining::Continuous,
-        });
+        tr.push(Trace::plain(l, (app.theme.dim, Stroke::Solid)).named(None, 0.9));
     }
     for (i, c) in curves.iter().enumerate() {
-        let (style, stroke) = slot_style(app, i);
-        tr.push(Trace {
-            points: c,
-            style,
-            stroke,
-            label: None,
-            label_at: 0.85,
-            minor: false,
-            joining: Joining::Continuous,
-        });
+        tr.push(Trace::plain(c, slot_style(app, i)));
     }
     let top = curves
         .iter()
@@ -1308,28 +1275,12 @@ fn kick_plot(app: &App, area: Rect, buf: &mut ratatui::buffer::Buffer) {
         .collect();
     let mut tr: Vec<Trace> = half
         .iter()
-        .map(|l| Trace {
-            points: l,
-            style: app.theme.dim,
-            stroke: Stroke::Solid,
-            label: Some("½LSB".into()),
-            label_at: 0.95,
-            minor: false,
-            joining: Joining::Continuous,
-        })
+        .map(|l| Trace::plain(l, (app.theme.dim, Stroke::Solid)).named(Some("½LSB".into()), 0.95))
         .collect();
     for (i, (load, cap)) in pairs.iter().enumerate() {
         let (style, stroke) = slot_style(app, i);
         for (points, stroke) in [(load, Stroke::Dotted), (cap, stroke)] {
-            tr.push(Trace {
-                points,
-                style,
-                stroke,
-                label: None,
-                label_at: 0.85,
-                minor: false,
-                joining: Joining::Continuous,
-            });
+            tr.push(Trace::plain(points, (style, stroke)));
         }
     }
     let y_ticks = decade_ticks((floor, top), inner.height, kick::level_label);
