@@ -68,6 +68,8 @@ pub fn sources(amp_field: &str) -> Vec<&str> {
         "inoise" | "inoise_corner" => vec!["inoise"],
         "swing_neg" | "swing_pos" => vec!["swing"],
         "cm_neg" | "cm_pos" => vec!["input_range"],
+        "cmrr_db" | "cmrr_corner" => vec!["cmrr"],
+        "psrr_db" | "psrr_corner" => vec!["psrr"],
         other => vec![other],
     }
 }

@@ -389,6 +389,20 @@ pub struct RangeFigures {
     pub pos: Num,
 }
 
+/// A rejection ratio (CMRR or PSRR) as a datasheet prints it: the
+/// guaranteed minimum and/or the typical figure (dB), and optionally the
+/// frequency above which it falls at 20 dB/decade (Hz).
+#[derive(Debug, Clone, Copy, PartialEq, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RejectionFigures {
+    #[serde(default)]
+    pub min: Option<Num>,
+    #[serde(default)]
+    pub typ: Option<Num>,
+    #[serde(default)]
+    pub corner: Option<Num>,
+}
+
 /// The figures of one amplifier as a datasheet prints them.
 #[derive(Debug, Clone, PartialEq, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -444,6 +458,12 @@ pub struct Figures {
     pub ios: Option<TypMax>,
     #[serde(default)]
     pub iout: Option<TypMax>,
+    /// Common-mode rejection (dB), as `amp.cmrr_db` and `amp.cmrr_corner`.
+    #[serde(default)]
+    pub cmrr: Option<RejectionFigures>,
+    /// Supply rejection (dB), as `amp.psrr_db` and `amp.psrr_corner`.
+    #[serde(default)]
+    pub psrr: Option<RejectionFigures>,
 }
 
 /// One value of the derived `amp` block and how it was found.
@@ -837,8 +857,46 @@ fn derive_input_range(f: &Figures, out: &mut Vec<Derived>) -> (Option<f64>, Opti
     (Some(r.neg.0), Some(r.pos.0))
 }
 
+/// A rejection ratio's dB figure and corner: with `take: Typical` the
+/// typical figure (the minimum when only it is given); with `Maximum`
+/// (the worst-case figures) the guaranteed minimum, as a rejection's
+/// worst case is its lowest.
+fn derive_rejection(
+    name: &'static str,
+    r: Option<RejectionFigures>,
+    take: Take,
+    out: &mut Vec<Derived>,
+) -> Result<(Option<f64>, Option<f64>), Problem> {
+    let Some(r) = r else {
+        return Ok((None, None));
+    };
+    let (db_field, corner_field) = match name {
+        "cmrr" => ("cmrr_db", "cmrr_corner"),
+        _ => ("psrr_db", "psrr_corner"),
+    };
+    let (first, second, a, b) = match take {
+        Take::Typical => (r.typ, r.min, "typical", "minimum"),
+        Take::Maximum => (r.min, r.typ, "minimum (the worst case)", "typical"),
+    };
+    let (db, how) = match (first, second) {
+        (Some(x), _) => (x.0, format!("{a}, as given")),
+        (None, Some(x)) => (x.0, format!("{b} as given (no {a} figure)")),
+        (None, None) => return Err(Problem::new(name, "give `min` or `typ` (dB)")),
+    };
+    put(out, db_field, db, how);
+    if let Some(c) = r.corner {
+        put(
+            out,
+            corner_field,
+            c.0,
+            "as given (falls at 20 dB/decade above)",
+        );
+    }
+    Ok((Some(db), r.corner.map(|c| c.0)))
+}
+
 /// The `amp` fields in the scenario's order (the block prints in it).
-const ORDER: [&str; 21] = [
+const ORDER: [&str; 25] = [
     "a0",
     "gbw",
     "fp2",
@@ -860,6 +918,10 @@ const ORDER: [&str; 21] = [
     "cm_neg",
     "cm_pos",
     "iout",
+    "cmrr_db",
+    "cmrr_corner",
+    "psrr_db",
+    "psrr_corner",
 ];
 
 /// Derive the `amp` block from datasheet figures: each group of figures
@@ -885,6 +947,8 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
     let (swing_neg, swing_pos, swing_load) = derive_swing(f, &mut out)?;
     let (cm_neg, cm_pos) = derive_input_range(f, &mut out);
     let iout = copied(&mut out, "iout", f.iout, f.take)?;
+    let (cmrr_db, cmrr_corner) = derive_rejection("cmrr", f.cmrr, f.take, &mut out)?;
+    let (psrr_db, psrr_corner) = derive_rejection("psrr", f.psrr, f.take, &mut out)?;
     let amp = Amp {
         a0,
         gbw,
@@ -907,9 +971,12 @@ pub fn derive(f: &Figures) -> Result<Derivation, Problem> {
         cm_neg,
         cm_pos,
         iout,
+        cmrr_db,
+        cmrr_corner,
+        psrr_db,
+        psrr_corner,
         gbw_tc: None,
         ib_doubling: None,
-        ..Amp::default()
     };
     out.sort_by_key(|d| ORDER.iter().position(|o| *o == d.field));
     Ok(Derivation {

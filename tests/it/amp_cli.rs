@@ -126,3 +126,45 @@ fn amp_refuses_bad_figures_at_file_line_column() {
         assert!(!err.contains("panicked"), "{err}");
     }
 }
+
+/// The rejection figures: CMRR and PSRR in dB as printed (a guaranteed
+/// minimum and a typical figure), and the frequency where each starts to
+/// fall. `take: Typical` copies the typical figure; `take: Maximum` (the
+/// worst case) the minimum, a rejection's worst case being its lowest
+/// (common practice: datasheets print rejection as min/typ); a figure
+/// given alone is copied whichever is asked. The block is a usable amp.
+#[test]
+fn amp_copies_the_rejection_figures_typical_or_worst_case() {
+    let d = temp_dir("amp-rejection");
+    let figures = |take: &str, psrr: &str| {
+        format!(
+            r#"(
+    take: {take},
+    gain_db: 100,
+    unity: "1M",
+    ro: 50,
+    vnoise: (white: "10n"),
+    inoise: (white: "1p"),
+    cmrr: (min: 80, typ: 95, corner: "2k"),
+    psrr: {psrr},
+)"#
+        )
+    };
+    let typical = write(&d, "typ.ron", &figures("Typical", "(min: 86)"));
+    let s = stage_with(&stdout_of(&["amp", &typical]));
+    assert_eq!(s.amp.cmrr_db, Some(95.0));
+    assert_eq!(s.amp.cmrr_corner, Some(2000.0));
+    assert_eq!(s.amp.psrr_db, Some(86.0), "only the minimum was given");
+    assert_eq!(s.amp.psrr_corner, None, "no corner given: none copied");
+    let worst = write(&d, "max.ron", &figures("Maximum", "(typ: 110, corner: 50)"));
+    let s = stage_with(&stdout_of(&["amp", &worst]));
+    assert_eq!(s.amp.cmrr_db, Some(80.0), "the worst case is the minimum");
+    assert_eq!(s.amp.psrr_db, Some(110.0), "only the typical was given");
+    assert_eq!(s.amp.psrr_corner, Some(50.0));
+    // A rejection with neither figure is refused at its field.
+    let bad = write(&d, "bad.ron", &figures("Typical", "(corner: 50)"));
+    let out = bin().args(["amp", &bad]).output().unwrap();
+    assert!(!out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("bad.ron:9:") && err.contains("psrr"), "{err}");
+}

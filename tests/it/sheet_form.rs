@@ -310,3 +310,35 @@ fn the_test_circuit_rows_give_ro_from_the_closed_loop_output_impedance() {
     let ro9 = form(&a).derivation().unwrap().amp.ro;
     assert!((ro9 / ro - 1.0).abs() < 1e-12, "{ro9} vs {ro}");
 }
+
+/// The rejection rows fill the amplifier's CMRR and PSRR as `loopwright
+/// amp` does: the typical figure, or with "copy figures" at maximum (the
+/// worst case) the minimum (common practice: rejection is printed as
+/// min/typ, its worst case the lowest).
+#[test]
+fn the_rejection_rows_give_the_amplifiers_cmrr_and_psrr() {
+    let d = temp_dir("sheet-rejection");
+    let mut a = app_in(&d, false);
+    a.on_key(key(KeyCode::Char('d')));
+    fill_example(&mut a);
+    fill(&mut a, "cmrr.min", "80");
+    fill(&mut a, "cmrr.typ", "95");
+    fill(&mut a, "cmrr.corner", "2k");
+    fill(&mut a, "psrr.min", "86");
+    let amp = form(&a).derivation().unwrap().amp;
+    assert_eq!(amp.cmrr_db, Some(95.0));
+    assert_eq!(amp.cmrr_corner, Some(2000.0));
+    assert_eq!(amp.psrr_db, Some(86.0));
+    // "copy figures" at maximum: the worst case, the minimum.
+    let i = sheet_rows().iter().position(|r| r.key == "take").unwrap();
+    a.on_key(key(KeyCode::Home));
+    press(&mut a, KeyCode::Down, i);
+    a.on_key(key(KeyCode::Right));
+    let amp = form(&a).derivation().unwrap().amp;
+    assert_eq!(amp.cmrr_db, Some(80.0));
+    // The pane's range refuses a rejection it would refuse.
+    fill(&mut a, "psrr.typ", "300");
+    assert_eq!(a.status_kind, StatusKind::Error);
+    assert!(a.status.contains("psrr"), "{}", a.status);
+    assert_eq!(form(&a).values.get("psrr.typ"), None);
+}

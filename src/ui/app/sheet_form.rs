@@ -11,7 +11,7 @@ use super::{App, Mode, Prompt};
 use crate::files::figures::{derive_file, read_figures, sources, unusable};
 use crate::model::datasheet::{
     derive, Circuit, Derivation, Derived, Figures, NoiseFigures, Num, Problem, RangeFigures,
-    SwingFigures, Take, TypMax, Zout,
+    RejectionFigures, SwingFigures, Take, TypMax, Zout,
 };
 use crate::model::part::Part;
 use crate::model::values::{fmt_compact, fmt_eng_sig, parse_value, printable};
@@ -149,6 +149,38 @@ const SWING: [Row; 9] = [
     row("input_range.pos", "from + rail", "V", Amp("amp.cm_pos")),
 ];
 
+/// A rejection ratio's three rows (minimum, typical, corner).
+macro_rules! rejection_rows {
+    ($group:expr, $p:literal) => {
+        [
+            head(
+                $group,
+                row(
+                    concat!($p, ".min"),
+                    concat!($p, " min"),
+                    "dB",
+                    Amp(concat!("amp.", $p, "_db")),
+                ),
+            ),
+            row(
+                concat!($p, ".typ"),
+                concat!($p, " typ"),
+                "dB",
+                Amp(concat!("amp.", $p, "_db")),
+            ),
+            row(
+                concat!($p, ".corner"),
+                "falls above",
+                "Hz",
+                Amp(concat!("amp.", $p, "_corner")),
+            ),
+        ]
+    };
+}
+
+const CMRR: [Row; 3] = rejection_rows!("common-mode rejection", "cmrr");
+const PSRR: [Row; 3] = rejection_rows!("supply rejection", "psrr");
+
 const VNOISE: [Row; 8] = noise_rows!("voltage noise", "vnoise", "V/√Hz");
 const INOISE: [Row; 8] = noise_rows!("current noise", "inoise", "A/√Hz");
 const SLEW: [Row; 2] = typmax_rows!("slew", "V/s");
@@ -169,6 +201,8 @@ pub fn rows() -> Vec<Row> {
         &INOISE[..],
         &SWING[..],
         &copied[..],
+        &CMRR[..],
+        &PSRR[..],
     ]
     .concat()
 }
@@ -303,6 +337,15 @@ impl SheetForm {
         (t != TypMax::default()).then_some(t)
     }
 
+    fn rejection(&self, p: &str) -> Option<RejectionFigures> {
+        let r = RejectionFigures {
+            min: self.num(&format!("{p}.min")),
+            typ: self.num(&format!("{p}.typ")),
+            corner: self.num(&format!("{p}.corner")),
+        };
+        (r != RejectionFigures::default()).then_some(r)
+    }
+
     fn swing(&self) -> Result<Option<SwingFigures>, Problem> {
         let supply = self
             .together("swing", ["swing.supply_neg", "swing.supply_pos"])?
@@ -356,6 +399,8 @@ impl SheetForm {
             ib: self.typmax("ib"),
             ios: self.typmax("ios"),
             iout: self.typmax("iout"),
+            cmrr: self.rejection("cmrr"),
+            psrr: self.rejection("psrr"),
         })
     }
 
@@ -421,6 +466,12 @@ impl SheetForm {
             let t = t.unwrap_or_default();
             put(keys[0].key, t.typ);
             put(keys[1].key, t.max);
+        }
+        for (keys, r) in [(&CMRR, f.cmrr), (&PSRR, f.psrr)] {
+            let r = r.unwrap_or_default();
+            for (row, v) in keys.iter().zip([r.min, r.typ, r.corner]) {
+                put(row.key, v);
+            }
         }
         form
     }
