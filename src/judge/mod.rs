@@ -40,7 +40,8 @@ pub fn evaluate_with(s: &Scenario, problems: &[FieldProblem]) -> Evaluation {
     let mut e = Evaluation { analysis, warnings };
     // The spec reads the stage's figures as the spread does.
     if problems.is_empty() {
-        let failed = spec::nominal_warnings(s, &e);
+        let mut failed = spec::nominal_warnings(s, &e);
+        failed.extend(spec::range_end_warnings(s, &e));
         e.warnings.extend(failed);
         e.warnings.sort_by_key(|x| std::cmp::Reverse(x.severity));
     }

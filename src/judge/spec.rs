@@ -306,6 +306,68 @@ pub fn nominal_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warni
         .collect()
 }
 
+/// Over a temperature range: one `spec` warning per limit the nominal
+/// stage meets at `temp_c` but misses at an end of the range, naming the
+/// end where it is worst. The ends are judged as `check` judges them:
+/// the stage built at that temperature with every resistor coefficient at
+/// 0 (gbw by `amp.gbw_tc`; the engine reads the temperature for noise,
+/// drift and bias currents), against the target found at `temp_c`.
+pub fn range_end_warnings(s: &Scenario, e: &crate::judge::Evaluation) -> Vec<Warning> {
+    let limits = given(s);
+    let Some((lo, hi)) = s.temp_range.filter(|_| !limits.is_empty()) else {
+        return Vec::new();
+    };
+    let target = crate::judge::spread_figures::target(s, e);
+    let ends: Vec<(f64, crate::judge::Evaluation)> = [lo, hi]
+        .into_iter()
+        .map(|t| {
+            let at = crate::model::temperature::at_temperature(s, t, &[]);
+            let analysis = crate::engine::analyze(&at);
+            (
+                t,
+                crate::judge::Evaluation {
+                    analysis,
+                    warnings: Vec::new(),
+                },
+            )
+        })
+        .collect();
+    limits
+        .into_iter()
+        .filter_map(|(l, limit)| {
+            let read_in = |ev: &crate::judge::Evaluation, k: &str| {
+                crate::judge::spread_figures::read(ev, k, target)
+            };
+            if !l.passes(l.held(|k| read_in(e, k)), limit) {
+                return None; // said at temp_c already
+            }
+            let mut worst: Option<(f64, Option<f64>, &str)> = None;
+            for (t, ev) in &ends {
+                let v = l.held(|k| read_in(ev, k));
+                let failing = !l.passes(v, limit);
+                let worse = match worst {
+                    None => true,
+                    Some((_, None, _)) => false,
+                    Some((_, w, _)) => v.is_none() || l.worse(w, v) != w,
+                };
+                if failing && worse {
+                    worst = Some((*t, v, l.held_key(|k| read_in(ev, k))));
+                }
+            }
+            let (t, v, key) = worst?;
+            Some(Warning {
+                code: Code::Spec,
+                severity: Severity::Warning,
+                text: format!(
+                    "misses its spec at {} °C (the nominal stage, the resistors' coefficients at 0): {}",
+                    crate::model::values::fmt_plain(t, 4),
+                    l.failure_readable(key, e.analysis.gain_unit, v, limit)
+                ),
+            })
+        })
+        .collect()
+}
+
 /// For a missed `cmrr_min_db`: which sets the stage's CMRR, the network
 /// (the resistors' mismatch, with the sources and the reference) or the
 /// amplifier's own rejection, whichever alone gives the lower figure.

@@ -202,6 +202,42 @@ fn a_limit_failing_hot_is_named_with_its_temperature() {
     );
 }
 
+/// The report and the workbench say what `check` says: a limit the
+/// nominal stage meets at `temp_c` but misses at an end of the range is a
+/// `spec` warning naming that end (issue 29: `check` reports where a
+/// limit fails; one verdict in every output).
+#[test]
+fn a_limit_failing_hot_is_a_spec_warning_in_the_report() {
+    let dir = temp_dir("warm-report");
+    let f = warm_stage(&dir);
+    let s = Scenario::load(&f).unwrap();
+    let spec_texts = |s: &Scenario| -> Vec<String> {
+        loopwright::judge::evaluate(s)
+            .warnings
+            .into_iter()
+            .filter(|w| w.code == "spec")
+            .map(|w| w.text)
+            .collect()
+    };
+    let texts = spec_texts(&s);
+    assert_eq!(texts.len(), 1, "{texts:?}");
+    assert!(
+        texts[0].contains("at 85 °C") && texts[0].contains("f_3db_min"),
+        "{texts:?}"
+    );
+    // Without the range, or with a limit every end meets, no warning.
+    let mut flat = s.clone();
+    flat.temp_range = None;
+    assert!(spec_texts(&flat).is_empty());
+    let mut easy = s.clone();
+    easy.spec.as_mut().unwrap().f_3db_min = Some(30_000.0);
+    assert!(spec_texts(&easy).is_empty());
+    // The report prints it.
+    let out = bin().arg("report").arg(&f).output().unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("spec: misses its spec at 85 °C"), "{text}");
+}
+
 /// The ladders (common practice): a tolerance between steps starts at
 /// the next tighter one.
 #[test]
