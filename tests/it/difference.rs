@@ -506,3 +506,107 @@ fn compare_shows_the_common_mode_gain_and_the_cmrr() {
     let cmrr = get("cmrr_dc_db")["b"].as_f64().unwrap();
     assert_rel("B's CMRR", cmrr, 20.0 * (ad / acm).abs().log10(), 1e-4);
 }
+
+/// Exactly matched resistors (r2/r1 = r4/r3 = 100) around an ideal
+/// amplifier (a0 1e9, no amplifier CMRR), and the same stage with r4 1 %
+/// low, as files.
+fn matched_and_mismatched() -> (std::path::PathBuf, std::path::PathBuf) {
+    let dir = crate::support::cli::temp_dir("cmrr_unbounded");
+    let text = "(title: \"matched\",
+        stage: (topology: Difference, r1: 2000.0, r2: 200000.0, r3: 2000.0, r4: 200000.0, series: E96, tolerance: 0.01),
+        amp: (a0: 1.0e9, gbw: 1.0e7, ro: 0.01, vnoise: 3.0e-9, inoise: 0.0),
+        source: (r: 0.0), load: (), temp_c: 25.0, band: (10.0, 100000.0),
+        spec: (cmrr_min_db: 60.0))";
+    let (a, b) = (dir.join("a.ron"), dir.join("b.ron"));
+    std::fs::write(&a, text).unwrap();
+    std::fs::write(&b, text.replace("r4: 200000.0", "r4: 198000.0")).unwrap();
+    (a, b)
+}
+
+/// The issue's rule: a CMRR is null when |A_cm| < 1e-12·|A_d| and reads
+/// "unbounded" as text: in `compare` (where it read "none"), the spread's
+/// table and limits, `check --verbose` and the Markdown note; the
+/// mismatched stage reads its dB figure.
+#[test]
+fn an_unbounded_cmrr_reads_unbounded_in_every_text() {
+    let (a, b) = matched_and_mismatched();
+    let (a, b) = (a.to_str().unwrap(), b.to_str().unwrap());
+    let out = stdout_of(&["compare", a, b]);
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("CMRR at DC"))
+        .unwrap_or_else(|| panic!("no CMRR line:\n{out}"));
+    let cells: Vec<&str> = line["CMRR at DC".len()..].split_whitespace().collect();
+    assert_eq!(cells[0], "unbounded", "{line}");
+    // B: textbook superposition (closed_form above), ideal sources; the
+    // amplifier's 1e9 loop gain moves it by far less than 0.01 dB.
+    let (ad, acm) = closed_form([2e3, 200e3, 2e3, 198e3], 0.0, 0.0);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert_eq!(cells[2], "dB", "{line}");
+    let shown: f64 = cells[1].parse().unwrap();
+    assert!((shown - db).abs() < 0.01, "B's CMRR {shown} against {db}");
+    // Figures null for other reasons keep their own word: the single-pole
+    // stage's gain margin (phase never reaches −180°) reads "none".
+    let gm = out.lines().find(|l| l.starts_with("gain margin")).unwrap();
+    assert!(gm.contains("none") && !gm.contains("unbounded"), "{gm}");
+
+    for args in [
+        vec!["spread", a, "--trials", "50"],
+        vec!["check", a, "--verbose"],
+    ] {
+        let out = stdout_of(&args);
+        let limit = out
+            .lines()
+            .find(|l| l.starts_with("cmrr_min_db"))
+            .unwrap_or_else(|| panic!("{args:?}: no limit line:\n{out}"));
+        // limit, value, nominal: the nominal stage's CMRR is unbounded.
+        assert_eq!(limit.split_whitespace().nth(2), Some("unbounded"), "{limit}");
+        assert!(!out.contains("inf"), "{args:?}:\n{out}");
+    }
+    let spread = stdout_of(&["spread", a, "--trials", "50"]);
+    let row = spread.lines().find(|l| l.starts_with("CMRR at DC")).unwrap();
+    assert_eq!(row.split_whitespace().nth(3), Some("unbounded"), "{row}");
+
+    let md = stdout_of(&["report", a, "--md"]);
+    let spec = md
+        .lines()
+        .find(|l| l.starts_with("| `cmrr_min_db`"))
+        .unwrap_or_else(|| panic!("no spec row:\n{md}"));
+    assert!(spec.contains("| unbounded |"), "{spec}");
+    assert!(!md.contains("inf dB"), "{md}");
+}
+
+/// The workbench's cursor readout names an unbounded CMRR at its point
+/// (where it drew a number past the ceiling).
+#[test]
+fn the_readout_names_an_unbounded_cmrr() {
+    use loopwright::engine::circuit::Circuit;
+    use loopwright::model::stages::GainUnit;
+    use loopwright::output::report::point_report;
+    let s = stage(2e3, 200e3, 2e3, 198e3);
+    let e = evaluate(&s);
+    let mut p = point_report(&Circuit::new(&s), &e.analysis, 1e3);
+    assert!(matches!(p.cmrr_db, Some(Some(_))), "{:?}", p.cmrr_db);
+    // The point report's null: |A_cm| below 1e-12 of |A_d| there.
+    p.cmrr_db = Some(None);
+    let parts = loopwright::ui::readout::parts(&p, GainUnit::VoltsPerVolt);
+    assert!(parts.iter().any(|x| x == "CMRR unbounded"), "{parts:?}");
+}
+
+/// The workbench's figures row reads the matched stage's DC CMRR as
+/// "unbounded" (it read "> 160 dB", as for a finite rejection past it).
+#[test]
+fn the_figures_row_names_an_unbounded_cmrr() {
+    use loopwright::ui::{app::App, theme::Theme};
+    let (a, _) = matched_and_mismatched();
+    let s = Scenario::load(&a).unwrap();
+    assert_eq!(evaluate(&s).analysis.cmrr_dc_db, Some(f64::INFINITY));
+    let app = App::new(vec![(s, None)], Theme::new(false, false));
+    let screen = crate::support::keys::screen_at(&app, 120, 40);
+    let lines: Vec<&str> = screen.lines().collect();
+    let head = lines
+        .iter()
+        .position(|l| l.contains("CMRR") && l.contains("error"))
+        .unwrap_or_else(|| panic!("no figures header:\n{screen}"));
+    assert!(lines[head + 1].contains("unbounded"), "{screen}");
+}
