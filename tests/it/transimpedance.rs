@@ -683,3 +683,29 @@ fn compare_spread_and_the_note_name_the_transimpedance() {
     // The movers' list of the spec section names it too.
     assert!(md.contains("- transimpedance: rf"), "{md}");
 }
+
+/// A part the kind does not have is refused where the file gives it, as
+/// the other input's fields are: rg on a transimpedance stage (its gain
+/// is rf alone) names the field, the kind and its line and column; a
+/// pane switch to the kind drops rg, so what it saves loads again.
+#[test]
+fn rg_is_refused_on_a_transimpedance_stage() {
+    use loopwright::model::params::set_topology;
+    let text = "(title: \"t\",\n stage: (topology: Transimpedance, rf: 1.0e6,\n    rg: 1.0e3, series: E24, tolerance: 0.01),\n amp: (a0: 1.0e6, gbw: 1.0e6, ro: 10.0, vnoise: 1.0e-8, inoise: 1.0e-15),\n source: (cd: 1.0e-11),\n load: (), temp_c: 25.0, band: (1.0, 1.0e5))";
+    let e = Scenario::from_ron(text, Some("t.ron")).unwrap_err();
+    assert_eq!(e.field.as_deref(), Some("stage.rg"), "{e}");
+    // rg stands on line 3, column 5 of the text.
+    assert_eq!((e.line, e.col), (Some(3), Some(5)), "{e}");
+    let shown = e.to_string();
+    assert!(shown.contains("Transimpedance") && shown.contains("t.ron:3:5"), "{shown}");
+    assert!(Scenario::from_ron(&text.replace("rg: 1.0e3, ", ""), None).is_ok());
+
+    let mut s = crate::support::stages::in_range(crate::support::stages::plain(
+        Topology::NonInverting,
+        1e3,
+        1e6,
+    ));
+    set_topology(&mut s, Topology::Transimpedance);
+    assert_eq!(s.stage.rg, None);
+    assert!(Scenario::from_ron(&s.to_ron(), None).is_ok(), "{}", s.to_ron());
+}
