@@ -113,7 +113,10 @@ pub fn label(key: &str) -> &str {
 /// gain named a transimpedance.
 pub fn unit_and_label(key: &str, gain: GainUnit) -> (Reads, &str) {
     if key == TARGET_ERROR {
-        return (Reads::plain(Unit::Fraction), "gain error against the target");
+        return (
+            Reads::plain(Unit::Fraction),
+            "gain error against the target",
+        );
     }
     match figure(key) {
         Some(f) => (f.reads_for(gain), f.label_for(gain)),

@@ -534,7 +534,8 @@ fn apart(all: Vec<Vec<Curve>>) -> (Vec<Vec<Curve>>, Option<(Axis, Vec<Vec<Curve>
         .find_map(|c| c.own_axis);
     let (mut main, mut lower) = (Vec::new(), Vec::new());
     for cs in all {
-        let (own, rest): (Vec<Curve>, Vec<Curve>) = cs.into_iter().partition(|c| c.own_axis.is_some());
+        let (own, rest): (Vec<Curve>, Vec<Curve>) =
+            cs.into_iter().partition(|c| c.own_axis.is_some());
         main.push(rest);
         lower.push(own);
     }
@@ -561,13 +562,19 @@ fn draw_below(
     let ((x0, x1), x_keys) = p.x.clone();
     let font = p.font;
     let refs: Vec<&Curve> = curves.iter().flatten().collect();
-    let ly = y_range(&refs, p.axis);
+    // At least two steps of the axis, so a flat curve has a scale.
+    let ly = match y_range(&refs, p.axis) {
+        (lo, hi) if hi - lo < 40.0 => (hi - 40.0, hi),
+        r => r,
+    };
     // The plot's height: the panel less its margins and the x labels.
     let plot_h = f64::from(area.dim_in_pixel().1) - f64::from(4 + 6 + font * 3);
     // In a short panel the lowest label would meet the first frequency's
     // label under it: the steps above it are labelled.
     let short = plot_h < f64::from(font) * 6.0;
-    let above = y_keys(p.axis, ly).into_iter().filter(|y| !short || *y > ly.0);
+    let above = y_keys(p.axis, ly)
+        .into_iter()
+        .filter(|y| !short || *y > ly.0);
     let keys = fitted(above.collect(), plot_h, font);
     // The chart's right-hand label room kept empty, so the plots line up.
     let mut chart = ChartBuilder::on(area)

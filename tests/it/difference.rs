@@ -560,11 +560,18 @@ fn an_unbounded_cmrr_reads_unbounded_in_every_text() {
             .find(|l| l.starts_with("cmrr_min_db"))
             .unwrap_or_else(|| panic!("{args:?}: no limit line:\n{out}"));
         // limit, value, nominal: the nominal stage's CMRR is unbounded.
-        assert_eq!(limit.split_whitespace().nth(2), Some("unbounded"), "{limit}");
+        assert_eq!(
+            limit.split_whitespace().nth(2),
+            Some("unbounded"),
+            "{limit}"
+        );
         assert!(!out.contains("inf"), "{args:?}:\n{out}");
     }
     let spread = stdout_of(&["spread", a, "--trials", "50"]);
-    let row = spread.lines().find(|l| l.starts_with("CMRR at DC")).unwrap();
+    let row = spread
+        .lines()
+        .find(|l| l.starts_with("CMRR at DC"))
+        .unwrap();
     assert_eq!(row.split_whitespace().nth(3), Some("unbounded"), "{row}");
 
     let md = stdout_of(&["report", a, "--md"]);
@@ -609,4 +616,138 @@ fn the_figures_row_names_an_unbounded_cmrr() {
         .position(|l| l.contains("CMRR") && l.contains("error"))
         .unwrap_or_else(|| panic!("no figures header:\n{screen}"));
     assert!(lines[head + 1].contains("unbounded"), "{screen}");
+}
+
+/// A polyline's clip box in the SVG: left, top, right, bottom (px).
+fn clip_box(doc: &roxmltree::Document, line: &roxmltree::Node) -> [f64; 4] {
+    let id = line
+        .ancestors()
+        .find_map(|g| g.attribute("clip-path"))
+        .and_then(|c| c.strip_prefix("url(#")?.strip_suffix(')'))
+        .expect("a clipped curve");
+    let rect = doc
+        .descendants()
+        .find(|n| n.attribute("id") == Some(id))
+        .and_then(|c| c.children().find(|n| n.has_tag_name("rect")))
+        .expect("a clip box");
+    let f = |a: &str| rect.attribute(a).unwrap().parse::<f64>().unwrap();
+    [f("x"), f("y"), f("x") + f("width"), f("y") + f("height")]
+}
+
+/// The straight line through labelled ticks (value, px) as px(value).
+fn through(ticks: &[(f64, f64)]) -> impl Fn(f64) -> f64 {
+    assert!(ticks.len() >= 2, "two labelled ticks at least: {ticks:?}");
+    let (a, b) = (ticks[0], ticks[ticks.len() - 1]);
+    let slope = (b.1 - a.1) / (b.0 - a.0);
+    move |v| a.1 + (v - a.0) * slope
+}
+
+/// The response figure draws the CMRR on an axis of its own ("CMRR (dB)",
+/// its own ticks, in a panel apart from the gain's): read back through
+/// that axis's labelled ticks, the trace gives the textbook CMRR of a
+/// mismatched stage around an ideal amplifier, |A_d/A_cm| from the
+/// four-resistor superposition (closed_form above), which the engine's
+/// point CMRR matches too.
+#[test]
+fn the_response_figure_draws_the_cmrr_on_its_own_axis() {
+    use loopwright::engine::circuit::Circuit;
+    use loopwright::output::report::point_report;
+    use loopwright::output::svg::{render, Evaluated, Look};
+    use loopwright::output::views::ViewId;
+    let s = stage(2e3, 200e3, 2e3, 196e3);
+    let e = evaluate(&s);
+    let (ad, acm) = closed_form([2e3, 200e3, 2e3, 196e3], 0.0, 0.0);
+    let want = 20.0 * (ad / acm).abs().log10();
+    let circuit = Circuit::new(&s);
+    let freqs = [10.0, 1e3, 1e5];
+    for f in freqs {
+        let engine = point_report(&circuit, &e.analysis, f)
+            .cmrr_db
+            .flatten()
+            .unwrap();
+        assert!(
+            (engine - want).abs() < 1e-3,
+            "engine {engine} dB at {f} Hz, textbook {want}"
+        );
+    }
+    for (w, h) in [(800, 500), (480, 300)] {
+        let look = Look {
+            width: w,
+            height: h,
+            mono: false,
+        };
+        let stages = [Evaluated {
+            scenario: &s,
+            eval: &e,
+        }];
+        let text = render(ViewId::Response.view(), &stages, look).unwrap();
+        let doc = roxmltree::Document::parse(&text).unwrap();
+        let line = |stroke: &str| {
+            doc.descendants()
+                .find(|n| n.has_tag_name("polyline") && n.attribute("stroke") == Some(stroke))
+                .unwrap_or_else(|| panic!("{w}×{h}: no curve in {stroke}"))
+        };
+        // The CMRR's tone (violet) and A's gain (deep blue), as svg.rs sets them.
+        let (cmrr, gain) = (line("#823CAA"), line("#164696"));
+        let [l, t, r, b] = clip_box(&doc, &cmrr);
+        assert_ne!(
+            clip_box(&doc, &gain),
+            [l, t, r, b],
+            "{w}×{h}: the CMRR shares the gain's plot"
+        );
+        let texts: Vec<(String, f64, f64)> = doc
+            .descendants()
+            .filter(|n| n.has_tag_name("text"))
+            .filter_map(|n| {
+                let at = |a: &str| n.attribute(a)?.parse::<f64>().ok();
+                Some((n.text()?.trim().to_string(), at("x")?, at("y")?))
+            })
+            .collect();
+        // The axis's name beside the CMRR's panel.
+        assert!(
+            texts
+                .iter()
+                .any(|(s, x, y)| s == "CMRR (dB)" && *x < l && *y > t && *y < b),
+            "{w}×{h}: no CMRR axis beside its panel"
+        );
+        // Its labelled ticks (left of the panel, within its height) and the
+        // frequencies under it.
+        let ys: Vec<(f64, f64)> = texts
+            .iter()
+            .filter(|(_, x, y)| *x < l && *y >= t - 1.0 && *y <= b + 1.0)
+            .filter_map(|(s, _, y)| Some((s.parse::<f64>().ok()?, *y)))
+            .collect();
+        let xs: Vec<(f64, f64)> = texts
+            .iter()
+            .filter(|(_, _, y)| *y > b)
+            .filter_map(|(s, x, _)| {
+                let v = loopwright::model::values::parse_value(s.strip_suffix("Hz")?).ok()?;
+                Some((v.log10(), *x))
+            })
+            .collect();
+        let (y_of, x_of) = (through(&ys), through(&xs));
+        let db_per_px = ((ys[0].0 - ys[ys.len() - 1].0) / (ys[0].1 - ys[ys.len() - 1].1)).abs();
+        let pts: Vec<(f64, f64)> = cmrr
+            .attribute("points")
+            .unwrap()
+            .split_whitespace()
+            .filter_map(|p| {
+                let (x, y) = p.split_once(',')?;
+                Some((x.parse().ok()?, y.parse().ok()?))
+            })
+            .collect();
+        for f in freqs {
+            let x = x_of(f.log10());
+            let near = pts
+                .iter()
+                .min_by(|a, b| (a.0 - x).abs().total_cmp(&(b.0 - x).abs()))
+                .unwrap();
+            // Back through the axis: y = y_of(dB), so dB = the inverse.
+            let drawn = ys[0].0 + (near.1 - ys[0].1) / (y_of(ys[0].0 + 1.0) - ys[0].1);
+            assert!(
+                (drawn - want).abs() <= 1.5 * db_per_px,
+                "{w}×{h}: the trace reads {drawn} dB at {f} Hz, textbook {want} dB ({db_per_px} dB/px)"
+            );
+        }
+    }
 }

@@ -674,7 +674,10 @@ fn compare_spread_and_the_note_name_the_transimpedance() {
     loopwright::output::spread_text::write_spread(&r, "t", &mut out).unwrap();
     let text = String::from_utf8(out).unwrap();
     assert!(!text.contains("DC gain"), "{text}");
-    assert!(text.lines().any(|l| l.starts_with("transimpedance")), "{text}");
+    assert!(
+        text.lines().any(|l| l.starts_with("transimpedance")),
+        "{text}"
+    );
 
     let mut out = Vec::new();
     loopwright::output::note::write_markdown(&a, &ea, &[], &mut out).unwrap();
@@ -697,7 +700,10 @@ fn rg_is_refused_on_a_transimpedance_stage() {
     // rg stands on line 3, column 5 of the text.
     assert_eq!((e.line, e.col), (Some(3), Some(5)), "{e}");
     let shown = e.to_string();
-    assert!(shown.contains("Transimpedance") && shown.contains("t.ron:3:5"), "{shown}");
+    assert!(
+        shown.contains("Transimpedance") && shown.contains("t.ron:3:5"),
+        "{shown}"
+    );
     assert!(Scenario::from_ron(&text.replace("rg: 1.0e3, ", ""), None).is_ok());
 
     let mut s = crate::support::stages::in_range(crate::support::stages::plain(
@@ -707,5 +713,9 @@ fn rg_is_refused_on_a_transimpedance_stage() {
     ));
     set_topology(&mut s, Topology::Transimpedance);
     assert_eq!(s.stage.rg, None);
-    assert!(Scenario::from_ron(&s.to_ron(), None).is_ok(), "{}", s.to_ron());
+    assert!(
+        Scenario::from_ron(&s.to_ron(), None).is_ok(),
+        "{}",
+        s.to_ron()
+    );
 }
