@@ -1001,8 +1001,13 @@ impl Figure {
     /// The figure's name for this stage: a transimpedance stage's DC gain
     /// is its transimpedance.
     pub fn label_in(&self, e: &Evaluation) -> &'static str {
+        self.label_for(e.analysis.gain_unit)
+    }
+
+    /// The figure's name for a stage whose gain is in `u`.
+    pub fn label_for(&self, u: GainUnit) -> &'static str {
         match self.key {
-            "dc_gain" if self.in_ohms(e) => "transimpedance",
+            "dc_gain" if u == GainUnit::VoltsPerAmp => "transimpedance",
             _ => self.label,
         }
     }
@@ -1037,16 +1042,45 @@ impl Figure {
         match r {
             Reading::Value(v) if self.in_ohms(e) => ohms(v, signed).replace(' ', ""),
             Reading::Value(v) if self.unit_in(e) != self.unit => self.unit_in(e).cell(v, signed),
-            // Unbounded (a rejection figure of a stage it applies to).
+            // Unbounded (a rejection figure of a stage it applies to): the
+            // figure's own word for it.
             Reading::Undefined
                 if !signed
                     && self.ceiling.is_some()
                     && self.applies.is_some()
                     && self.applies_to(e) =>
             {
-                self.cell(Reading::Value(f64::INFINITY), false)
+                self.undefined_word().into()
             }
             _ => self.cell(r, signed),
+        }
+    }
+
+    /// The undefined text's first words, before its explanation in
+    /// parentheses: what a narrow column says ("none", "open",
+    /// "unbounded").
+    pub fn undefined_word(&self) -> &'static str {
+        self.undefined.split(" (").next().unwrap_or(self.undefined)
+    }
+
+    /// A reading in a narrow column (`compare`) for a stage whose gain is
+    /// in `u`: the number ("> ceiling" past it), the figure's undefined
+    /// word, or "unstable".
+    pub fn column(&self, u: GainUnit, r: Reading) -> String {
+        match r {
+            Reading::Value(v) if self.ceiling.is_some_and(|c| v > c) => self.text(r),
+            Reading::Value(v) => self.number_for(u, v, false),
+            Reading::Undefined => self.undefined_word().into(),
+            Reading::Unstable => "unstable".into(),
+        }
+    }
+
+    /// How the figure's values read in a stage whose gain is in `u`, where
+    /// a value may be unbounded (see [`Reads`]).
+    pub fn reads_for(&self, u: GainUnit) -> Reads {
+        Reads {
+            unit: self.unit_for(u),
+            unbounded: self.undefined_word(),
         }
     }
 
@@ -1180,6 +1214,45 @@ impl Unit {
                     (false, false) => text,
                 }
             }
+        }
+    }
+}
+
+/// How a figure's values read where a value may be past every number: a
+/// spread keeps an unbounded CMRR as +∞ (so that it passes a minimum), and
+/// +∞ reads as the figure's own word for it (its undefined word,
+/// "unbounded"); a value that is not a number reads "—".
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Reads {
+    pub unit: Unit,
+    /// The figure's word for +∞.
+    pub unbounded: &'static str,
+}
+
+impl Reads {
+    /// A unit's values with no word of their own for +∞ ("none").
+    pub fn plain(unit: Unit) -> Reads {
+        Reads {
+            unit,
+            unbounded: "none",
+        }
+    }
+
+    /// [`Unit::number`], or the word for a value that is not finite.
+    pub fn number(self, v: f64, signed: bool) -> String {
+        self.finite(v, |v| self.unit.number(v, signed))
+    }
+
+    /// [`Unit::cell`], or the word for a value that is not finite.
+    pub fn cell(self, v: f64, signed: bool) -> String {
+        self.finite(v, |v| self.unit.cell(v, signed))
+    }
+
+    fn finite(self, v: f64, text: impl Fn(f64) -> String) -> String {
+        match v {
+            f64::INFINITY => self.unbounded.into(),
+            v if v.is_finite() => text(v),
+            _ => "—".into(),
         }
     }
 }

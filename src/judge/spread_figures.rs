@@ -3,7 +3,7 @@
 //! that one is the DC gain's error against the spec's target (or the
 //! nominal stage's network gain).
 
-use crate::judge::figures::{figure, Unit};
+use crate::judge::figures::{figure, Reads, Unit};
 use crate::judge::Evaluation;
 use crate::model::scenario::Scenario;
 use crate::model::stages::GainUnit;
@@ -106,16 +106,20 @@ pub fn label(key: &str) -> &str {
     unit_and_label(key, GainUnit::VoltsPerVolt).1
 }
 
-/// How a spread figure reads: its unit and its name. Every key of
-/// [`SPREAD_FIGURES`] and of the spec's limits resolves (a test checks it);
-/// any other key reads as itself, in no unit. A gain of a stage whose
-/// gain is in V/A reads in ohms.
-pub fn unit_and_label(key: &str, gain: GainUnit) -> (Unit, &str) {
+/// How a spread figure reads: its unit (with its word for an unbounded
+/// value) and its name. Every key of [`SPREAD_FIGURES`] and of the spec's
+/// limits resolves (a test checks it); any other key reads as itself, in
+/// no unit. A gain of a stage whose gain is in V/A reads in ohms, its DC
+/// gain named a transimpedance.
+pub fn unit_and_label(key: &str, gain: GainUnit) -> (Reads, &str) {
     if key == TARGET_ERROR {
-        return (Unit::Fraction, "gain error against the target");
+        return (
+            Reads::plain(Unit::Fraction),
+            "gain error against the target",
+        );
     }
     match figure(key) {
-        Some(f) => (f.unit_for(gain), f.label),
-        None => (Unit::Ratio, key),
+        Some(f) => (f.reads_for(gain), f.label_for(gain)),
+        None => (Reads::plain(Unit::Ratio), key),
     }
 }

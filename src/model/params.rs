@@ -1730,6 +1730,12 @@ pub fn set_topology(s: &mut Scenario, t: Topology) {
             p.set(s, Some(start));
         }
     }
+    // The parts the new kind does not have go (a file would be refused).
+    for p in PARAMS.iter() {
+        if foreign_part(p, s) {
+            p.set(s, None);
+        }
+    }
     // A second input's fields go with it.
     if !two_inputs(s) {
         for p in TWO_INPUT_FIELDS.into_iter().filter_map(param) {
@@ -2140,6 +2146,7 @@ fn cross_checks(s: &Scenario) -> Vec<FieldProblem> {
     p.extend(reference_checks(s));
     p.extend(threshold_checks(s));
     p.extend(two_input_checks(s));
+    p.extend(foreign_part_checks(s));
     p.extend(spread_checks(s));
     p.extend(part_tolerance_checks(s));
     p.extend(temperature_checks(s));
@@ -2240,6 +2247,45 @@ const TWO_INPUT_FIELDS: [&str; 4] = [
     "source.cm_peak",
     "spec.cmrr_min_db",
 ];
+
+/// Part fields a kind without the part ignores rather than refuses: a
+/// follower's rg (README: a follower ignores rg).
+const IGNORED_PARTS: [(Topology, &str); 1] = [(Topology::Follower, "stage.rg")];
+
+/// Whether `p` is a part field that the stage's kind does not have and
+/// does not ignore (rg on a transimpedance stage, r1 on an inverting one).
+pub fn foreign_part(p: &Param, s: &Scenario) -> bool {
+    let t = s.stage.topology;
+    matches!(p.presence, GainStage | FeedbackResistor)
+        && t.kind().part(p.path).is_none()
+        && !IGNORED_PARTS.contains(&(t, p.path))
+}
+
+/// A part the stage's kind does not have, refused where the file gives it
+/// (it would be ignored), naming the kinds that have it.
+fn foreign_part_checks(s: &Scenario) -> Vec<FieldProblem> {
+    let name = s.stage.topology.name();
+    PARAMS
+        .iter()
+        .filter(|p| p.raw(s).is_some() && foreign_part(p, s))
+        .map(|p| {
+            let kinds: Vec<&str> = Topology::ALL
+                .iter()
+                .filter(|t| t.kind().part(p.path).is_some())
+                .map(|t| t.name())
+                .collect();
+            FieldProblem {
+                field: file_field(p.path).into(),
+                message: format!(
+                    "{} {name} stage has no {}: it is a part of {} stages; remove it",
+                    capital(article(name)),
+                    p.label,
+                    kinds.join(", ")
+                ),
+            }
+        })
+        .collect()
+}
 
 /// The second input's and the common mode's fields, refused for a kind
 /// with one input (they would be ignored).

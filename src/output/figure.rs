@@ -32,6 +32,9 @@ pub struct Curve {
     /// 0: the view's main quantity; 1, 2, 3: secondary lines (limits,
     /// ceilings) in their own colours and a thinner stroke.
     pub tone: u8,
+    /// A quantity of its own (a CMRR beside a gain): drawn in a panel
+    /// under the chart, on this axis, against the same frequencies.
+    pub own_axis: Option<Axis>,
 }
 
 /// Every view, in `--view` order; the registry (`views`) gives each its
@@ -111,6 +114,12 @@ pub const DB: Axis = Axis {
 pub const GAIN_DB: Axis = Axis {
     in_ohms: Some("transimpedance (dBΩ)"),
     ..DB
+};
+/// A two-input stage's CMRR in dB (its own panel under the response).
+pub const CMRR_DB: Axis = Axis {
+    desc: "CMRR (dB)",
+    log_unit: None,
+    in_ohms: None,
 };
 /// The phase axis in degrees.
 pub const DEG: Axis = Axis {

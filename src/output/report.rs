@@ -2,7 +2,7 @@
 //! JSON object (keys documented in the README).
 
 use crate::engine::analysis::{cmrr_db, Analysis, Circuit};
-use crate::judge::figures::{delta, figure, key_figures, Section, FIGURES};
+use crate::judge::figures::{delta, figure, key_figures, Reading, Section, FIGURES};
 use crate::judge::spread_figures::unit_and_label;
 use crate::judge::{Evaluation, Warning};
 use crate::model::params::{Group, PARAMS};
@@ -462,6 +462,10 @@ pub struct FigureDelta {
     pub b: Option<f64>,
     /// b − a, null where either is undefined.
     pub delta: Option<f64>,
+    /// What A's and B's values are, for the text (an undefined figure
+    /// reads in its own word: "none", "unbounded"; "unstable").
+    #[serde(skip)]
+    pub readings: [Reading; 2],
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -522,6 +526,7 @@ impl Comparison {
                 a: f.json(ea),
                 b: f.json(eb),
                 delta: delta(f, ea, eb),
+                readings: [f.read(ea), f.read(eb)],
             })
             .collect();
         let parameters = sa
@@ -548,6 +553,7 @@ impl Comparison {
                 a,
                 b,
                 delta: a.zip(b).map(|(x, y)| y - x),
+                readings: [a, b].map(|v| v.map_or(Reading::Undefined, Reading::Value)),
             });
         }
         self
@@ -571,24 +577,19 @@ impl Comparison {
         for d in &self.differences.figures {
             let Some(f) = figure(d.key) else { continue };
             let (ua, ub) = (self.a.gain_unit, self.b.gain_unit);
-            let show = |v: Option<f64>, u, signed: bool| match v {
-                Some(v) if !signed && f.ceiling.is_some_and(|c| v > c) => {
-                    f.text(crate::judge::figures::Reading::Value(v))
-                }
-                Some(v) => f.number_for(u, v, signed),
+            let delta = match d.delta {
+                _ if f.units_differ(ua, ub) => "—".into(),
+                Some(v) => f.number_for(ua, v, true),
                 None => "none".into(),
             };
-            let delta = if f.units_differ(ua, ub) {
-                "—".into()
-            } else {
-                show(d.delta, ua, true)
-            };
+            // Named in the stages' unit (a transimpedance), where they share it.
+            let label = if ua == ub { f.label_for(ua) } else { f.label };
             writeln!(
                 w,
                 "{:<18} {:>14} {:>14} {:>14}",
-                f.label,
-                show(d.a, ua, false),
-                show(d.b, ub, false),
+                label,
+                f.column(ua, d.readings[0]),
+                f.column(ub, d.readings[1]),
                 delta
             )?;
         }

@@ -437,18 +437,9 @@ fn draw_chart(
     look: Look,
     font: u32,
 ) -> anyhow::Result<()> {
-    let curves: Vec<Vec<Curve>> = traces.iter().map(|t| (view.curves)(t)).collect();
-    let side = |right: bool| -> Vec<&Curve> {
-        curves
-            .iter()
-            .flatten()
-            .filter(|c| c.right == right)
-            .collect()
-    };
-    let (x0, x1) = x_range(&curves);
-    let ly = y_range(&side(false), view.left);
-    let n = curves.len();
-    let entries: Vec<Entry> = curves
+    let all: Vec<Vec<Curve>> = traces.iter().map(|t| (view.curves)(t)).collect();
+    let n = all.len();
+    let entries: Vec<Entry> = all
         .iter()
         .enumerate()
         .flat_map(|(slot, cs)| {
@@ -457,6 +448,9 @@ fn draw_chart(
                 .map(move |c| (legend_name(n, slot, c), curve_style(slot, c, look.mono)))
         })
         .collect();
+    let (x0, x1) = x_range(&all);
+    // A quantity of its own goes to a panel under the chart.
+    let (curves, below) = apart(all);
     let area = head(area, &caption(view, stages), &entries, font)?;
     // Every decade labelled where the labels fit, else every other one.
     let plot_w = f64::from(area.dim_in_pixel().0) - f64::from(font * 9);
@@ -464,15 +458,50 @@ fn draw_chart(
     if text_width("100mHz", font) * 1.6 * x_keys.len() as f64 > plot_w {
         x_keys = x_keys.into_iter().step_by(2).collect();
     }
+    let right_size = if view.right.is_some() { font * 4 } else { 0 };
+    let with_panel = below.is_some();
+    let area = match below {
+        Some((axis, lower)) => {
+            let (_, h) = area.dim_in_pixel();
+            let (upper, under) = area.split_vertically(h * 3 / 5);
+            let panel = Panel {
+                axis,
+                x: ((x0, x1), x_keys.clone()),
+                right_size,
+                look,
+                font,
+            };
+            draw_below(&under, &lower, &panel)?;
+            upper
+        }
+        None => area,
+    };
+    let side = |right: bool| -> Vec<&Curve> {
+        curves
+            .iter()
+            .flatten()
+            .filter(|c| c.right == right)
+            .collect()
+    };
+    let ly = y_range(&side(false), view.left);
     let mut builder = ChartBuilder::on(&area);
+    // Over a panel the frequencies are labelled once, under the panel.
+    let x_labels = if with_panel { 0 } else { font * 3 };
     builder
         .margin(12)
+        .margin_bottom(if with_panel { 4 } else { 12 })
         .margin_right(RIGHT_MARGIN)
-        .x_label_area_size(font * 3)
+        .x_label_area_size(x_labels)
         .y_label_area_size(font * 5)
-        .right_y_label_area_size(if view.right.is_some() { font * 4 } else { 0 });
+        .right_y_label_area_size(right_size);
     let x_axis = Keyed::new((x0, x1), x_keys, minor_decades(x0, x1));
-    let y_axis = Keyed::new(ly, y_keys(view.left, ly), Vec::new());
+    // Over a panel the chart is short: its labelled steps fitted to it.
+    let fit = with_panel.then(|| f64::from(area.dim_in_pixel().1) - 16.0);
+    let fit_keys = |keys: Vec<f64>| match fit {
+        Some(h) => fitted(keys, h, font),
+        None => keys,
+    };
+    let y_axis = Keyed::new(ly, fit_keys(y_keys(view.left, ly)), Vec::new());
     let chart = builder.build_cartesian_2d(x_axis, y_axis).map_err(err)?;
     let ry = view.right.map(|axis| y_range(&side(true), axis));
     let plot = Plot {
@@ -481,6 +510,7 @@ fn draw_chart(
         curves: &curves,
         ly,
         ry,
+        right_keys: view.right.zip(ry).map(|(a, r)| fit_keys(y_keys(a, r))),
         look,
         font,
     };
@@ -493,14 +523,108 @@ fn draw_chart(
     }
 }
 
+/// The curves of the chart, and those with an axis of their own (the
+/// axis of the first of them; None when there are none).
+#[allow(clippy::type_complexity)]
+fn apart(all: Vec<Vec<Curve>>) -> (Vec<Vec<Curve>>, Option<(Axis, Vec<Vec<Curve>>)>) {
+    let axis = all
+        .iter()
+        .flatten()
+        .filter(|c| !c.points.is_empty())
+        .find_map(|c| c.own_axis);
+    let (mut main, mut lower) = (Vec::new(), Vec::new());
+    for cs in all {
+        let (own, rest): (Vec<Curve>, Vec<Curve>) =
+            cs.into_iter().partition(|c| c.own_axis.is_some());
+        main.push(rest);
+        lower.push(own);
+    }
+    (main, axis.map(|a| (a, lower)))
+}
+
+/// The panel under a chart: its axis, the chart's x range and keys, the
+/// chart's right-hand label room (so the two plot areas line up).
+struct Panel {
+    axis: Axis,
+    x: ((f64, f64), Vec<f64>),
+    right_size: u32,
+    look: Look,
+    font: u32,
+}
+
+/// A quantity of its own under the chart: the same frequencies, its own
+/// axis and ticks, as many labelled steps as the panel's height holds.
+fn draw_below(
+    area: &DrawingArea<SVGBackend, plotters::coord::Shift>,
+    curves: &[Vec<Curve>],
+    p: &Panel,
+) -> anyhow::Result<()> {
+    let ((x0, x1), x_keys) = p.x.clone();
+    let font = p.font;
+    let refs: Vec<&Curve> = curves.iter().flatten().collect();
+    // At least two steps of the axis, so a flat curve has a scale.
+    let ly = match y_range(&refs, p.axis) {
+        (lo, hi) if hi - lo < 40.0 => (hi - 40.0, hi),
+        r => r,
+    };
+    // The plot's height: the panel less its margins and the x labels.
+    let plot_h = f64::from(area.dim_in_pixel().1) - f64::from(4 + 6 + font * 3);
+    // In a short panel the lowest label would meet the first frequency's
+    // label under it: the steps above it are labelled.
+    let short = plot_h < f64::from(font) * 6.0;
+    let above = y_keys(p.axis, ly)
+        .into_iter()
+        .filter(|y| !short || *y > ly.0);
+    let keys = fitted(above.collect(), plot_h, font);
+    // The chart's right-hand label room kept empty, so the plots line up.
+    let mut chart = ChartBuilder::on(area)
+        .margin(12)
+        .margin_top(4)
+        .margin_bottom(6)
+        .margin_right(RIGHT_MARGIN + p.right_size)
+        .x_label_area_size(font * 3)
+        .y_label_area_size(font * 5)
+        .build_cartesian_2d(
+            Keyed::new((x0, x1), x_keys, minor_decades(x0, x1)),
+            Keyed::new(ly, keys, Vec::new()),
+        )
+        .map_err(err)?;
+    chart
+        .configure_mesh()
+        .x_desc("frequency (Hz)")
+        .y_desc(p.axis.desc)
+        .x_label_formatter(&|x| fmt_eng(10f64.powf(*x), "Hz").replace(' ', ""))
+        .y_label_formatter(&|y| label(p.axis, *y))
+        .label_style(("sans-serif", font).into_font())
+        .axis_desc_style(("sans-serif", font).into_font())
+        .draw()
+        .map_err(err)?;
+    draw_curves(&mut chart, curves, false, p.look)
+}
+
+/// Every other key (every fourth, …) until their labels fit `height` px
+/// (a line and a half of `font` each); at least two stay.
+fn fitted(keys: Vec<f64>, height: f64, font: u32) -> Vec<f64> {
+    let mut step = 1;
+    loop {
+        let kept: Vec<f64> = keys.iter().copied().step_by(step).collect();
+        if kept.len() <= 2 || kept.len() as f64 * f64::from(font) * 1.6 <= height {
+            return kept;
+        }
+        step *= 2;
+    }
+}
+
 /// What the parts of one chart share.
 struct Plot<'p> {
     view: &'p View,
     stages: &'p [Evaluated<'p>],
     curves: &'p [Vec<Curve>],
     ly: (f64, f64),
-    /// The right-hand axis's range, when the view has one.
+    /// The right-hand axis's range and labelled steps, when the view
+    /// has one.
     ry: Option<(f64, f64)>,
+    right_keys: Option<Vec<f64>>,
     look: Look,
     font: u32,
 }
@@ -547,7 +671,7 @@ fn draw_two_sided<'a, 'b: 'a>(
     let ry = p.ry.unwrap_or((0.0, 1.0));
     let mut chart = chart.set_secondary_coord(
         Keyed::new((x0, x1), steps(x0, x1, 1.0), Vec::new()),
-        Keyed::new(ry, y_keys(axis, ry), Vec::new()),
+        Keyed::new(ry, p.right_keys.clone().unwrap_or_default(), Vec::new()),
     );
     draw_primary(&mut chart, p)?;
     chart

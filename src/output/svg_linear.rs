@@ -257,7 +257,7 @@ fn outline(f: &FigureSpread, scale: f64) -> Vec<(f64, f64)> {
 
 /// The value of a figure that every trial gives alike to the digits the
 /// text views show (None where it spreads or is undefined).
-fn steady_value(f: &FigureSpread, unit: crate::judge::figures::Unit) -> Option<f64> {
+fn steady_value(f: &FigureSpread, unit: crate::judge::figures::Reads) -> Option<f64> {
     let (lo, hi) = (f.min?, f.max?);
     (unit.number(lo, false) == unit.number(hi, false)).then_some(lo)
 }
@@ -317,12 +317,13 @@ fn histogram_panel(
     font: u32,
 ) -> anyhow::Result<()> {
     let gain = results.first().map(|r| r.gain_unit).unwrap_or_default();
-    let (unit, _) = unit_and_label(key, gain);
+    let (reads, _) = unit_and_label(key, gain);
+    let unit = reads.unit;
     // Fractions are drawn in percent.
     let scale = if key == "target_error" { 100.0 } else { 1.0 };
     // A figure every trial gives the same value (to the shown digits) is
     // one mark with "no spread", not a full-height bar.
-    let (steady, outlines) = steady_and_outlines(results, key, unit, scale);
+    let (steady, outlines) = steady_and_outlines(results, key, reads, scale);
     let marks = panel_marks(results, &steady, (key, scale), look);
     let xs = outlines
         .iter()
@@ -385,12 +386,12 @@ fn histogram_panel(
 fn steady_and_outlines(
     results: &[SpreadResult],
     key: &str,
-    unit: crate::judge::figures::Unit,
+    reads: crate::judge::figures::Reads,
     scale: f64,
 ) -> (Vec<Option<f64>>, Vec<Curve>) {
     let steady: Vec<Option<f64>> = results
         .iter()
-        .map(|r| r.figure(key).and_then(|f| steady_value(f, unit)))
+        .map(|r| r.figure(key).and_then(|f| steady_value(f, reads)))
         .collect();
     let outlines = results
         .iter()

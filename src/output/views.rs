@@ -7,7 +7,9 @@
 //! (its axes, traces and marks).
 
 use crate::model::values::{fmt_eng, printable};
-use crate::output::figure::{Axis, Curve, Evaluated, Mark, OwnChart, View, DB, DEG, GAIN_DB};
+use crate::output::figure::{
+    Axis, Curve, Evaluated, Mark, OwnChart, View, CMRR_DB, DB, DEG, GAIN_DB,
+};
 pub use crate::output::figure::{MarkKind, ViewId};
 use crate::output::kick;
 use crate::output::settling;
@@ -24,6 +26,7 @@ fn curve(name: &'static str, right: bool, points: &[(f64, f64)]) -> Curve {
         right,
         points: points.to_vec(),
         tone: 0,
+        own_axis: None,
     }
 }
 
@@ -135,8 +138,9 @@ pub fn cmrr_name(t: &Traces) -> &'static str {
     }
 }
 
-/// The gain and its phase; with two inputs, the CMRR on the gain's axis
-/// (at most 160 dB, so the axis stays in reach of the gain).
+/// The gain and its phase; with two inputs, the CMRR on an axis of its
+/// own (a panel under the gain: a rejection is not a gain), at most
+/// 160 dB.
 fn response_curves(t: &Traces) -> Vec<Curve> {
     let mut c = vec![
         curve("gain", false, &t.gain_db),
@@ -145,6 +149,7 @@ fn response_curves(t: &Traces) -> Vec<Curve> {
     if !t.cmrr_db.is_empty() {
         c.push(Curve {
             tone: 2,
+            own_axis: Some(CMRR_DB),
             ..curve(cmrr_name(t), false, &t.cmrr_db)
         });
     }

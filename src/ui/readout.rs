@@ -28,10 +28,12 @@ pub fn parts(r: &PointReport, unit: GainUnit) -> Vec<String> {
         let u = crate::model::values::spelled(unit.db());
         out.push(format!("gain {}{u}{}", db(g), deg(r.gain_phase_deg, 1)));
     }
-    // Two inputs: the CMRR there (unbounded reads as above the ceiling).
+    // Two inputs: the CMRR there (an unbounded one in the figure's word).
     if let Some(c) = r.cmrr_db {
-        let cmrr = crate::judge::figures::figure("cmrr_dc_db")
-            .map(|f| f.cell(Reading::Value(c.unwrap_or(f64::INFINITY)), false));
+        let cmrr = crate::judge::figures::figure("cmrr_dc_db").map(|f| match c {
+            Some(v) => f.cell(Reading::Value(v), false),
+            None => f.undefined_word().into(),
+        });
         out.push(format!("CMRR {}", cmrr.unwrap_or_default()));
     }
     if let Some(l) = r.loop_mag {

@@ -506,3 +506,248 @@ fn compare_shows_the_common_mode_gain_and_the_cmrr() {
     let cmrr = get("cmrr_dc_db")["b"].as_f64().unwrap();
     assert_rel("B's CMRR", cmrr, 20.0 * (ad / acm).abs().log10(), 1e-4);
 }
+
+/// Exactly matched resistors (r2/r1 = r4/r3 = 100) around an ideal
+/// amplifier (a0 1e9, no amplifier CMRR), and the same stage with r4 1 %
+/// low, as files.
+fn matched_and_mismatched() -> (std::path::PathBuf, std::path::PathBuf) {
+    let dir = crate::support::cli::temp_dir("cmrr_unbounded");
+    let text = "(title: \"matched\",
+        stage: (topology: Difference, r1: 2000.0, r2: 200000.0, r3: 2000.0, r4: 200000.0, series: E96, tolerance: 0.01),
+        amp: (a0: 1.0e9, gbw: 1.0e7, ro: 0.01, vnoise: 3.0e-9, inoise: 0.0),
+        source: (r: 0.0), load: (), temp_c: 25.0, band: (10.0, 100000.0),
+        spec: (cmrr_min_db: 60.0))";
+    let (a, b) = (dir.join("a.ron"), dir.join("b.ron"));
+    std::fs::write(&a, text).unwrap();
+    std::fs::write(&b, text.replace("r4: 200000.0", "r4: 198000.0")).unwrap();
+    (a, b)
+}
+
+/// The issue's rule: a CMRR is null when |A_cm| < 1e-12·|A_d| and reads
+/// "unbounded" as text: in `compare` (where it read "none"), the spread's
+/// table and limits, `check --verbose` and the Markdown note; the
+/// mismatched stage reads its dB figure.
+#[test]
+fn an_unbounded_cmrr_reads_unbounded_in_every_text() {
+    let (a, b) = matched_and_mismatched();
+    let (a, b) = (a.to_str().unwrap(), b.to_str().unwrap());
+    let out = stdout_of(&["compare", a, b]);
+    let line = out
+        .lines()
+        .find(|l| l.starts_with("CMRR at DC"))
+        .unwrap_or_else(|| panic!("no CMRR line:\n{out}"));
+    let cells: Vec<&str> = line["CMRR at DC".len()..].split_whitespace().collect();
+    assert_eq!(cells[0], "unbounded", "{line}");
+    // B: textbook superposition (closed_form above), ideal sources; the
+    // amplifier's 1e9 loop gain moves it by far less than 0.01 dB.
+    let (ad, acm) = closed_form([2e3, 200e3, 2e3, 198e3], 0.0, 0.0);
+    let db = 20.0 * (ad / acm).abs().log10();
+    assert_eq!(cells[2], "dB", "{line}");
+    let shown: f64 = cells[1].parse().unwrap();
+    assert!((shown - db).abs() < 0.01, "B's CMRR {shown} against {db}");
+    // Figures null for other reasons keep their own word: the single-pole
+    // stage's gain margin (phase never reaches −180°) reads "none".
+    let gm = out.lines().find(|l| l.starts_with("gain margin")).unwrap();
+    assert!(gm.contains("none") && !gm.contains("unbounded"), "{gm}");
+
+    for args in [
+        vec!["spread", a, "--trials", "50"],
+        vec!["check", a, "--verbose"],
+    ] {
+        let out = stdout_of(&args);
+        let limit = out
+            .lines()
+            .find(|l| l.starts_with("cmrr_min_db"))
+            .unwrap_or_else(|| panic!("{args:?}: no limit line:\n{out}"));
+        // limit, value, nominal: the nominal stage's CMRR is unbounded.
+        assert_eq!(
+            limit.split_whitespace().nth(2),
+            Some("unbounded"),
+            "{limit}"
+        );
+        assert!(!out.contains("inf"), "{args:?}:\n{out}");
+    }
+    let spread = stdout_of(&["spread", a, "--trials", "50"]);
+    let row = spread
+        .lines()
+        .find(|l| l.starts_with("CMRR at DC"))
+        .unwrap();
+    assert_eq!(row.split_whitespace().nth(3), Some("unbounded"), "{row}");
+
+    let md = stdout_of(&["report", a, "--md"]);
+    let spec = md
+        .lines()
+        .find(|l| l.starts_with("| `cmrr_min_db`"))
+        .unwrap_or_else(|| panic!("no spec row:\n{md}"));
+    assert!(spec.contains("| unbounded |"), "{spec}");
+    assert!(!md.contains("inf dB"), "{md}");
+}
+
+/// The workbench's cursor readout names an unbounded CMRR at its point
+/// (where it drew a number past the ceiling).
+#[test]
+fn the_readout_names_an_unbounded_cmrr() {
+    use loopwright::engine::circuit::Circuit;
+    use loopwright::model::stages::GainUnit;
+    use loopwright::output::report::point_report;
+    let s = stage(2e3, 200e3, 2e3, 198e3);
+    let e = evaluate(&s);
+    let mut p = point_report(&Circuit::new(&s), &e.analysis, 1e3);
+    assert!(matches!(p.cmrr_db, Some(Some(_))), "{:?}", p.cmrr_db);
+    // The point report's null: |A_cm| below 1e-12 of |A_d| there.
+    p.cmrr_db = Some(None);
+    let parts = loopwright::ui::readout::parts(&p, GainUnit::VoltsPerVolt);
+    assert!(parts.iter().any(|x| x == "CMRR unbounded"), "{parts:?}");
+}
+
+/// The workbench's figures row reads the matched stage's DC CMRR as
+/// "unbounded" (it read "> 160 dB", as for a finite rejection past it).
+#[test]
+fn the_figures_row_names_an_unbounded_cmrr() {
+    use loopwright::ui::{app::App, theme::Theme};
+    let (a, _) = matched_and_mismatched();
+    let s = Scenario::load(&a).unwrap();
+    assert_eq!(evaluate(&s).analysis.cmrr_dc_db, Some(f64::INFINITY));
+    let app = App::new(vec![(s, None)], Theme::new(false, false));
+    let screen = crate::support::keys::screen_at(&app, 120, 40);
+    let lines: Vec<&str> = screen.lines().collect();
+    let head = lines
+        .iter()
+        .position(|l| l.contains("CMRR") && l.contains("error"))
+        .unwrap_or_else(|| panic!("no figures header:\n{screen}"));
+    assert!(lines[head + 1].contains("unbounded"), "{screen}");
+}
+
+/// A polyline's clip box in the SVG: left, top, right, bottom (px).
+fn clip_box(doc: &roxmltree::Document, line: &roxmltree::Node) -> [f64; 4] {
+    let id = line
+        .ancestors()
+        .find_map(|g| g.attribute("clip-path"))
+        .and_then(|c| c.strip_prefix("url(#")?.strip_suffix(')'))
+        .expect("a clipped curve");
+    let rect = doc
+        .descendants()
+        .find(|n| n.attribute("id") == Some(id))
+        .and_then(|c| c.children().find(|n| n.has_tag_name("rect")))
+        .expect("a clip box");
+    let f = |a: &str| rect.attribute(a).unwrap().parse::<f64>().unwrap();
+    [f("x"), f("y"), f("x") + f("width"), f("y") + f("height")]
+}
+
+/// The straight line through labelled ticks (value, px) as px(value).
+fn through(ticks: &[(f64, f64)]) -> impl Fn(f64) -> f64 {
+    assert!(ticks.len() >= 2, "two labelled ticks at least: {ticks:?}");
+    let (a, b) = (ticks[0], ticks[ticks.len() - 1]);
+    let slope = (b.1 - a.1) / (b.0 - a.0);
+    move |v| a.1 + (v - a.0) * slope
+}
+
+/// The response figure draws the CMRR on an axis of its own ("CMRR (dB)",
+/// its own ticks, in a panel apart from the gain's): read back through
+/// that axis's labelled ticks, the trace gives the textbook CMRR of a
+/// mismatched stage around an ideal amplifier, |A_d/A_cm| from the
+/// four-resistor superposition (closed_form above), which the engine's
+/// point CMRR matches too.
+#[test]
+fn the_response_figure_draws_the_cmrr_on_its_own_axis() {
+    use loopwright::engine::circuit::Circuit;
+    use loopwright::output::report::point_report;
+    use loopwright::output::svg::{render, Evaluated, Look};
+    use loopwright::output::views::ViewId;
+    let s = stage(2e3, 200e3, 2e3, 196e3);
+    let e = evaluate(&s);
+    let (ad, acm) = closed_form([2e3, 200e3, 2e3, 196e3], 0.0, 0.0);
+    let want = 20.0 * (ad / acm).abs().log10();
+    let circuit = Circuit::new(&s);
+    let freqs = [10.0, 1e3, 1e5];
+    for f in freqs {
+        let engine = point_report(&circuit, &e.analysis, f)
+            .cmrr_db
+            .flatten()
+            .unwrap();
+        assert!(
+            (engine - want).abs() < 1e-3,
+            "engine {engine} dB at {f} Hz, textbook {want}"
+        );
+    }
+    for (w, h) in [(800, 500), (480, 300)] {
+        let look = Look {
+            width: w,
+            height: h,
+            mono: false,
+        };
+        let stages = [Evaluated {
+            scenario: &s,
+            eval: &e,
+        }];
+        let text = render(ViewId::Response.view(), &stages, look).unwrap();
+        let doc = roxmltree::Document::parse(&text).unwrap();
+        let line = |stroke: &str| {
+            doc.descendants()
+                .find(|n| n.has_tag_name("polyline") && n.attribute("stroke") == Some(stroke))
+                .unwrap_or_else(|| panic!("{w}×{h}: no curve in {stroke}"))
+        };
+        // The CMRR's tone (violet) and A's gain (deep blue), as svg.rs sets them.
+        let (cmrr, gain) = (line("#823CAA"), line("#164696"));
+        let [l, t, r, b] = clip_box(&doc, &cmrr);
+        assert_ne!(
+            clip_box(&doc, &gain),
+            [l, t, r, b],
+            "{w}×{h}: the CMRR shares the gain's plot"
+        );
+        let texts: Vec<(String, f64, f64)> = doc
+            .descendants()
+            .filter(|n| n.has_tag_name("text"))
+            .filter_map(|n| {
+                let at = |a: &str| n.attribute(a)?.parse::<f64>().ok();
+                Some((n.text()?.trim().to_string(), at("x")?, at("y")?))
+            })
+            .collect();
+        // The axis's name beside the CMRR's panel.
+        assert!(
+            texts
+                .iter()
+                .any(|(s, x, y)| s == "CMRR (dB)" && *x < l && *y > t && *y < b),
+            "{w}×{h}: no CMRR axis beside its panel"
+        );
+        // Its labelled ticks (left of the panel, within its height) and the
+        // frequencies under it.
+        let ys: Vec<(f64, f64)> = texts
+            .iter()
+            .filter(|(_, x, y)| *x < l && *y >= t - 1.0 && *y <= b + 1.0)
+            .filter_map(|(s, _, y)| Some((s.parse::<f64>().ok()?, *y)))
+            .collect();
+        let xs: Vec<(f64, f64)> = texts
+            .iter()
+            .filter(|(_, _, y)| *y > b)
+            .filter_map(|(s, x, _)| {
+                let v = loopwright::model::values::parse_value(s.strip_suffix("Hz")?).ok()?;
+                Some((v.log10(), *x))
+            })
+            .collect();
+        let (y_of, x_of) = (through(&ys), through(&xs));
+        let db_per_px = ((ys[0].0 - ys[ys.len() - 1].0) / (ys[0].1 - ys[ys.len() - 1].1)).abs();
+        let pts: Vec<(f64, f64)> = cmrr
+            .attribute("points")
+            .unwrap()
+            .split_whitespace()
+            .filter_map(|p| {
+                let (x, y) = p.split_once(',')?;
+                Some((x.parse().ok()?, y.parse().ok()?))
+            })
+            .collect();
+        for f in freqs {
+            let x = x_of(f.log10());
+            let near = pts
+                .iter()
+                .min_by(|a, b| (a.0 - x).abs().total_cmp(&(b.0 - x).abs()))
+                .unwrap();
+            // Back through the axis: y = y_of(dB), so dB = the inverse.
+            let drawn = ys[0].0 + (near.1 - ys[0].1) / (y_of(ys[0].0 + 1.0) - ys[0].1);
+            assert!(
+                (drawn - want).abs() <= 1.5 * db_per_px,
+                "{w}×{h}: the trace reads {drawn} dB at {f} Hz, textbook {want} dB ({db_per_px} dB/px)"
+            );
+        }
+    }
+}

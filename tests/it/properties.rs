@@ -39,8 +39,9 @@ prop_compose! {
             if !matches!(p.access, Access::Number { .. }) || p.path.starts_with("band.") {
                 continue;
             }
-            // A field of the other kind of input is refused: left out.
-            if !p.inputs.admit(&s) {
+            // A field of the other kind of input, or a part the kind does
+            // not have, is refused: left out.
+            if !p.inputs.admit(&s) || loopwright::model::params::foreign_part(p, &s) {
                 p.set(&mut s, None);
                 continue;
             }

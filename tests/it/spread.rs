@@ -198,7 +198,7 @@ fn trial_depth_agrees_with_the_full_analysis() {
                 loopwright::judge::spread_figures::read(&trial, key, 1.0),
             );
             let (unit, _) = spread::unit_and_label(key, trial.analysis.gain_unit);
-            let half = match unit {
+            let half = match unit.unit {
                 Unit::Ratio => 5e-7,
                 Unit::Db => 5e-3,
                 Unit::Degrees => 5e-2,

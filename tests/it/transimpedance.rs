@@ -588,11 +588,15 @@ fn spread_reads_the_transimpedance_in_ohms() {
     let mut out = Vec::new();
     loopwright::output::spread_text::write_spread(&r, "t", &mut out).unwrap();
     let text = String::from_utf8(out).unwrap();
-    let row = text.lines().find(|l| l.starts_with("DC gain")).unwrap();
+    // Named for the kind (issue 21's leftover): the row reads in ohms.
+    let row = text
+        .lines()
+        .find(|l| l.starts_with("transimpedance"))
+        .unwrap();
     let cells: Vec<&str> = row.split_whitespace().collect();
-    assert!(cells[2].ends_with("MΩ"), "{row}");
-    assert!(cells[4].ends_with("kΩ"), "{row}");
-    let std_ohm: f64 = cells[4].trim_end_matches("kΩ").parse::<f64>().unwrap() * 1e3;
+    assert!(cells[1].ends_with("MΩ"), "{row}");
+    assert!(cells[3].ends_with("kΩ"), "{row}");
+    let std_ohm: f64 = cells[3].trim_end_matches("kΩ").parse::<f64>().unwrap() * 1e3;
     assert_rel(
         "std of the transimpedance",
         std_ohm,
@@ -629,4 +633,89 @@ fn the_step_and_envelope_views_name_the_current() {
     }
     let screen = screen_at(&app, 120, 40);
     assert!(screen.contains("1µA step"), "{screen}");
+}
+
+/// `compare`, `spread` and the Markdown note name a transimpedance
+/// stage's DC gain row "transimpedance", as the report does (its values
+/// are in Ω, not a ratio); the JSON keeps the key `dc_gain`.
+#[test]
+fn compare_spread_and_the_note_name_the_transimpedance() {
+    use loopwright::study::spread::{spread, Run};
+    let mut a = stage(Some(0.56e-12));
+    a.spec = Some(loopwright::model::scenario::Spec {
+        gain_error_max: Some(0.05),
+        ..Default::default()
+    });
+    let mut b = a.clone();
+    b.stage.rf = Some(1.2e6);
+    let (ea, eb) = (evaluate(&a), evaluate(&b));
+    let cmp = Comparison::new(&a, &ea, &b, &eb);
+    let mut out = Vec::new();
+    cmp.write_text(&mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    let row = text
+        .lines()
+        .find(|l| l.starts_with("transimpedance"))
+        .unwrap_or_else(|| panic!("no transimpedance row:\n{text}"));
+    // −rf·T/(1 + T), T ≈ 1e9: −1.000 MΩ and −1.200 MΩ, B − A −200 kΩ.
+    assert!(row.contains("MΩ") && row.contains("kΩ"), "{row}");
+    assert!(!text.contains("DC gain"), "{text}");
+    let json = serde_json::to_value(&cmp).unwrap();
+    assert_eq!(json["differences"]["figures"][0]["key"], "dc_gain");
+
+    let r = spread(
+        &a,
+        &Run {
+            trials: Some(50),
+            ..Run::default()
+        },
+    );
+    let mut out = Vec::new();
+    loopwright::output::spread_text::write_spread(&r, "t", &mut out).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    assert!(!text.contains("DC gain"), "{text}");
+    assert!(
+        text.lines().any(|l| l.starts_with("transimpedance")),
+        "{text}"
+    );
+
+    let mut out = Vec::new();
+    loopwright::output::note::write_markdown(&a, &ea, &[], &mut out).unwrap();
+    let md = String::from_utf8(out).unwrap();
+    assert!(!md.contains("DC gain"), "{md}");
+    // The movers' list of the spec section names it too.
+    assert!(md.contains("- transimpedance: rf"), "{md}");
+}
+
+/// A part the kind does not have is refused where the file gives it, as
+/// the other input's fields are: rg on a transimpedance stage (its gain
+/// is rf alone) names the field, the kind and its line and column; a
+/// pane switch to the kind drops rg, so what it saves loads again.
+#[test]
+fn rg_is_refused_on_a_transimpedance_stage() {
+    use loopwright::model::params::set_topology;
+    let text = "(title: \"t\",\n stage: (topology: Transimpedance, rf: 1.0e6,\n    rg: 1.0e3, series: E24, tolerance: 0.01),\n amp: (a0: 1.0e6, gbw: 1.0e6, ro: 10.0, vnoise: 1.0e-8, inoise: 1.0e-15),\n source: (cd: 1.0e-11),\n load: (), temp_c: 25.0, band: (1.0, 1.0e5))";
+    let e = Scenario::from_ron(text, Some("t.ron")).unwrap_err();
+    assert_eq!(e.field.as_deref(), Some("stage.rg"), "{e}");
+    // rg stands on line 3, column 5 of the text.
+    assert_eq!((e.line, e.col), (Some(3), Some(5)), "{e}");
+    let shown = e.to_string();
+    assert!(
+        shown.contains("Transimpedance") && shown.contains("t.ron:3:5"),
+        "{shown}"
+    );
+    assert!(Scenario::from_ron(&text.replace("rg: 1.0e3, ", ""), None).is_ok());
+
+    let mut s = crate::support::stages::in_range(crate::support::stages::plain(
+        Topology::NonInverting,
+        1e3,
+        1e6,
+    ));
+    set_topology(&mut s, Topology::Transimpedance);
+    assert_eq!(s.stage.rg, None);
+    assert!(
+        Scenario::from_ron(&s.to_ron(), None).is_ok(),
+        "{}",
+        s.to_ron()
+    );
 }
