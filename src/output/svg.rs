@@ -438,26 +438,12 @@ fn draw_chart(
     font: u32,
 ) -> anyhow::Result<()> {
     let all: Vec<Vec<Curve>> = traces.iter().map(|t| (view.curves)(t)).collect();
-    let n = all.len();
-    let entries: Vec<Entry> = all
-        .iter()
-        .enumerate()
-        .flat_map(|(slot, cs)| {
-            cs.iter()
-                .filter(|c| !c.points.is_empty())
-                .map(move |c| (legend_name(n, slot, c), curve_style(slot, c, look.mono)))
-        })
-        .collect();
+    let entries = legend_entries(&all, look);
     let (x0, x1) = x_range(&all);
     // A quantity of its own goes to a panel under the chart.
     let (curves, below) = apart(all);
     let area = head(area, &caption(view, stages), &entries, font)?;
-    // Every decade labelled where the labels fit, else every other one.
-    let plot_w = f64::from(area.dim_in_pixel().0) - f64::from(font * 9);
-    let mut x_keys = steps(x0, x1, 1.0);
-    if text_width("100mHz", font) * 1.6 * x_keys.len() as f64 > plot_w {
-        x_keys = x_keys.into_iter().step_by(2).collect();
-    }
+    let x_keys = decade_keys((x0, x1), f64::from(area.dim_in_pixel().0), font);
     let right_size = if view.right.is_some() { font * 4 } else { 0 };
     let with_panel = below.is_some();
     let area = match below {
@@ -520,6 +506,31 @@ fn draw_chart(
             let mut chart = chart;
             draw_primary(&mut chart, &plot)
         }
+    }
+}
+
+/// The legend: every drawn curve of every stage, named and styled.
+fn legend_entries(all: &[Vec<Curve>], look: Look) -> Vec<Entry> {
+    let n = all.len();
+    all.iter()
+        .enumerate()
+        .flat_map(|(slot, cs)| {
+            cs.iter()
+                .filter(|c| !c.points.is_empty())
+                .map(move |c| (legend_name(n, slot, c), curve_style(slot, c, look.mono)))
+        })
+        .collect()
+}
+
+/// The frequency axis's labelled decades: every decade where the labels
+/// fit the chart's `width` (px), else every other one.
+fn decade_keys((x0, x1): (f64, f64), width: f64, font: u32) -> Vec<f64> {
+    let plot_w = width - f64::from(font * 9);
+    let keys = steps(x0, x1, 1.0);
+    if text_width("100mHz", font) * 1.6 * keys.len() as f64 > plot_w {
+        keys.into_iter().step_by(2).collect()
+    } else {
+        keys
     }
 }
 
