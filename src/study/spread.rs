@@ -11,7 +11,7 @@
 use crate::engine::analysis::{analyze_to, Depth, FULL, TRIAL};
 use crate::judge::spec::{self, Limit};
 pub use crate::judge::spread_figures::unit_and_label;
-use crate::judge::spread_figures::{read, target, worse_of, When, SPREAD_FIGURES};
+use crate::judge::spread_figures::{read, target, worse_of, When, CMRR, SPREAD_FIGURES};
 use crate::judge::Evaluation;
 use crate::model::params::param;
 use crate::model::scenario::{Dist, Scenario};
@@ -363,6 +363,45 @@ impl Plan {
         };
         self.keys.iter().map(|k| read(&e, k, self.target)).collect()
     }
+
+    /// The figures as the variance shares take them: each as it is,
+    /// but the CMRR as the signed common-mode error ρ = A_cm/A_d it is
+    /// −20·log10|·| of. ρ is linear in the parts near a match, where the
+    /// CMRR in dB is not (unbounded at the match itself), and both give
+    /// the same shares to first order wherever the CMRR is finite.
+    fn share_values(&self, s: &Scenario) -> Vec<Option<f64>> {
+        let e = Evaluation {
+            analysis: analyze_to(s, self.depth),
+            warnings: Vec::new(),
+        };
+        self.keys
+            .iter()
+            .map(|k| match *k {
+                CMRR => common_mode_error(&e),
+                _ => read(&e, k, self.target),
+            })
+            .collect()
+    }
+}
+
+/// A_cm/A_d of a two-input stage (None for one input or unstable).
+fn common_mode_error(e: &Evaluation) -> Option<f64> {
+    let a = &e.analysis;
+    let cm = a.cm_gain_dc.filter(|_| !a.unstable())?;
+    Some(cm / a.dc_gain).filter(|v| v.is_finite())
+}
+
+/// The CMRR's shares were taken on ρ = A_cm/A_d: its sensitivity in dB
+/// by the chain rule, ∂CMRR/∂p = −(20/ln 10)·(∂ρ/∂p)/ρ at the nominal ρ
+/// (infinite, written null, where the nominal CMRR is unbounded).
+fn cmrr_sensitivities(shares: &mut [Contribution], rho: Option<f64>) {
+    let k = -20.0 / std::f64::consts::LN_10;
+    for c in shares {
+        c.sensitivity = match rho {
+            Some(r) if r != 0.0 => k * c.sensitivity / r,
+            _ => f64::INFINITY,
+        };
+    }
 }
 
 /// The corner of index `c`: knob i at its top when bit i is set.
@@ -490,13 +529,16 @@ fn spread_here(s: &Scenario, run: &Run) -> SpreadResult {
     // analysis itself.
     let mut nominal_rows = plan.rows(s, &[]);
     nominal_rows[plan.at_nominal()] = nominal_values.clone();
-    let shares = crate::study::shares::contributions(
+    let mut shares = crate::study::shares::contributions(
         s,
-        &|t: &Scenario| plan.values(t),
+        &|t: &Scenario| plan.share_values(t),
         plan.keys.len(),
         &knobs,
         b.dist,
     );
+    if let Some(j) = plan.keys.iter().position(|k| *k == CMRR) {
+        cmrr_sensitivities(&mut shares[j], common_mode_error(&nominal));
+    }
     let mut figures: Vec<FigureSpread> = plan
         .keys
         .iter()

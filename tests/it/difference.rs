@@ -209,6 +209,56 @@ impl Draws {
     }
 }
 
+/// Which resistor moves the CMRR (issue 29's shares on issue 22's check
+/// stage): at a match the CMRR is unbounded, so its spread is the
+/// common-mode error ρ = A_cm/A_d. By the closed form, with k = r2/r1 =
+/// r4/r3, ∂A_cm/∂ln r = ∓k/(1 + k) for r2 and r3, ±k/(1 + k) for r1 and
+/// r4 (differentiating a1 + a2 above; textbook), and every resistor has
+/// the same relative σ (uniform ±1 %: t/√3): the four shares are equal,
+/// 25 % each (propagation of errors, textbook).
+#[test]
+fn each_resistor_moves_a_matched_stages_cmrr_alike() {
+    use loopwright::model::scenario::{Dist, Spec, Spread};
+    use loopwright::study::spread::{self, Run};
+    let mut s = stage(2e3, 200e3, 2e3, 200e3);
+    s.spread = Some(Spread {
+        dist: Dist::Uniform,
+        ..Spread::default()
+    });
+    s.spec = Some(Spec {
+        cmrr_min_db: Some(74.0),
+        ..Spec::default()
+    });
+    // The closed form's slopes, numerically from `closed_form` itself.
+    let k = 100.0;
+    let base = [2e3, 200e3, 2e3, 200e3];
+    for (i, want) in [k / (1.0 + k), -k / (1.0 + k), -k / (1.0 + k), k / (1.0 + k)]
+        .into_iter()
+        .enumerate()
+    {
+        let h = 1e-7;
+        let at = |x: f64| {
+            let mut r = base;
+            r[i] *= 1.0 + x;
+            closed_form(r, 0.0, 0.0).1
+        };
+        let slope = (at(h) - at(-h)) / (2.0 * h);
+        assert_rel("∂A_cm/∂ln r", slope, want, 1e-5);
+    }
+    let r = spread::spread(
+        &s,
+        &Run {
+            trials: Some(200),
+            ..Run::default()
+        },
+    );
+    let f = r.figure("cmrr_dc_db").expect("a CMRR spread");
+    assert_eq!(f.contributions.len(), 4, "{:?}", f.contributions);
+    for c in &f.contributions {
+        assert!((c.share - 0.25).abs() < 0.005, "{} {}", c.part, c.share);
+    }
+}
+
 #[test]
 fn monte_carlo_cmrr_yield_agrees_with_brute_force_sampling() {
     use loopwright::model::scenario::{Dist, Spec, Spread};
