@@ -261,29 +261,33 @@ fn reference_imbalance(cx: &Context, w: &mut Vec<Warning>) {
     let r = src.r.unwrap_or(0.0);
     let r_plus = src.r_plus.unwrap_or(r);
     let reference = cx.s.reference.map_or(0.0, |x| x.r);
-    let (named, fix) = if reference > 0.0 {
-        (
-            format!(
-                "the source resistances (r {}, r_plus {}) and the reference's {}",
-                fmt_eng(r, "Ω"),
-                fmt_eng(r_plus, "Ω"),
-                fmt_eng(reference, "Ω")
-            ),
-            "a buffered reference or r4 reduced by the reference's resistance, and equal \
-             source resistances (r1 and r3 reduced by them, or buffered inputs), restore it",
-        )
+    // Name only what is there: the sources where either has resistance,
+    // the reference where it has.
+    let mut named = Vec::new();
+    let mut fixes = Vec::new();
+    if r > 0.0 || r_plus > 0.0 {
+        named.push(format!(
+            "the source resistances (r {}, r_plus {})",
+            fmt_eng(r, "Ω"),
+            fmt_eng(r_plus, "Ω")
+        ));
+        fixes.push("equal source resistances, r1 and r3 reduced by them, or buffered inputs");
+    }
+    if reference > 0.0 {
+        named.push(format!("the reference's {}", fmt_eng(reference, "Ω")));
+        fixes.push("a buffered reference or r4 reduced by the reference's resistance");
+    }
+    if named.is_empty() {
+        return;
+    }
+    let verb = if r > 0.0 || r_plus > 0.0 {
+        "take"
     } else {
-        (
-            format!(
-                "the source resistances (r {}, r_plus {})",
-                fmt_eng(r, "Ω"),
-                fmt_eng(r_plus, "Ω")
-            ),
-            "equal source resistances, r1 and r3 reduced by them, or buffered inputs restore it",
-        )
+        "takes"
     };
+    let (named, fix) = (named.join(" and "), fixes.join(", and "));
     let text = format!(
-        "{named} take the CMRR from {} (the resistors alone) to {}; {fix}",
+        "{named} {verb} the CMRR from {} (the resistors alone) to {}; restore it with {fix}",
         db(parts),
         db(with)
     );
@@ -293,9 +297,24 @@ fn reference_imbalance(cx: &Context, w: &mut Vec<Warning>) {
 /// The parts that pull the passive network's gain off the resistor ratio.
 fn divider_parts(s: &Scenario) -> Vec<String> {
     let mut parts = Vec::new();
-    let source = present(s.source.r).filter(|_| s.stage.topology.kind().source_in_network);
+    let kind = s.stage.topology.kind();
+    let source = present(s.source.r).filter(|_| kind.source_in_network);
+    let [input_part, _] = ratio_names(s);
     if let Some(r) = source {
-        parts.push(format!("source r {} in series with rg", fmt_eng(r, "Ω")));
+        parts.push(format!(
+            "source r {} in series with {input_part}",
+            fmt_eng(r, "Ω")
+        ));
+    }
+    // A second input's source beside its own input part.
+    let second = kind.pairs.and_then(|p| p.also).map(|a| a[0]);
+    let r_plus = present(s.source.r_plus.or(s.source.r)).filter(|_| kind.source_in_network);
+    if let (Some(part), Some(r)) = (second, r_plus) {
+        let name = part.rsplit('.').next().unwrap_or(part);
+        parts.push(format!(
+            "source r_plus {} in series with {name}",
+            fmt_eng(r, "Ω")
+        ));
     }
     // With the feedback taken at the load, riso is inside the loop.
     let riso = present(s.stage.riso).filter(|_| s.stage.feedback == Feedback::Pin);
@@ -307,6 +326,15 @@ fn divider_parts(s: &Scenario) -> Vec<String> {
         ));
     }
     parts
+}
+
+/// The names of the kind's gain-setting pair (`rg`, `rf`; `r1`, `r2`).
+fn ratio_names(s: &Scenario) -> [&'static str; 2] {
+    s.stage
+        .topology
+        .kind()
+        .pairs
+        .map_or(["rg", "rf"], |p| p.names())
 }
 
 /// The source resistance, riso or the load move the gain off 1 + rf/rg
@@ -338,10 +366,18 @@ fn load_divider(cx: &Context, w: &mut Vec<Warning>) {
         ),
     };
     // Taking the feedback after riso helps only where riso divides.
+    let [g, f] = ratio_names(cx.s);
+    let rescale = match cx.s.stage.topology.kind().pairs.and_then(|p| p.also) {
+        Some(also) => {
+            let [g2, f2] = also.map(|p| p.rsplit('.').next().unwrap_or(p));
+            format!("rescale {f}/{g} and {f2}/{g2}")
+        }
+        None => format!("rescale {f}/{g}"),
+    };
     let fix = if parts.iter().any(|p| p.starts_with("riso")) {
-        "take the feedback after riso (feedback: Load) or rescale rf/rg"
+        format!("take the feedback after riso (feedback: Load) or {rescale}")
     } else {
-        "rescale rf/rg"
+        rescale
     };
     let text = format!(
         "{why} {against} ({:+.2} %), more than the {:.2} % tolerance; {fix} \

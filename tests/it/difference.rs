@@ -385,6 +385,8 @@ fn the_reference_resistance_upsets_the_match_and_is_named() {
         "{text}"
     );
     assert!(text.contains("buffered reference"), "{text}");
+    // Ideal sources are not named as a cause.
+    assert!(!text.contains("source resistances"), "{text}");
     assert!(
         text.contains(&format!("{db:.1} dB")),
         "{text} lacks {db:.1} dB"
@@ -800,4 +802,56 @@ fn the_response_figure_draws_the_cmrr_on_its_own_axis() {
             );
         }
     }
+}
+
+/// The load-divider warning on a difference stage names its own parts:
+/// the sources sit in series with r1 and r3 and the fix rescales r2/r1
+/// and r4/r3 (no rg or rf on this kind). The gain it names is the
+/// textbook superposition with each source in series with its input
+/// resistor (closed_form above).
+#[test]
+fn the_load_divider_warning_names_the_difference_stages_parts() {
+    let mut s = stage(5e3, 250e3, 5e3, 250e3);
+    s.stage.tolerance = 0.001;
+    s.source.r = Some(350.0);
+    s.source.r_plus = Some(350.0);
+    let w = evaluate(&s).warnings;
+    let text = &w
+        .iter()
+        .find(|x| x.code == "load-divider")
+        .expect("a load-divider warning")
+        .text;
+    assert!(text.contains("in series with r1"), "{text}");
+    assert!(text.contains("r_plus 350 Ω in series with r3"), "{text}");
+    assert!(text.contains("rescale r2/r1 and r4/r3"), "{text}");
+    assert!(!text.contains("rg") && !text.contains("rf/"), "{text}");
+    let (ad, _) = closed_form([5e3, 250e3, 5e3, 250e3], 350.0, 350.0);
+    assert!(text.contains(&format!("{ad:.4}")), "{text} lacks {ad:.4}");
+}
+
+/// Issue 22's definition: CMRR is null (unbounded) when |A_cm| < 1e-12·|A_d|,
+/// else |A_d/A_cm| in dB, on either side of the threshold for an A_d far
+/// from 1 (so a threshold of 1e-12/|A_d| would show).
+#[test]
+fn the_cmrr_is_unbounded_below_a_millionth_of_a_millionth_of_the_gain() {
+    use loopwright::engine::analysis::cmrr_db;
+    use num_complex::Complex64 as C;
+    let ad = C::new(100.0, 0.0);
+    assert!(cmrr_db(ad, C::new(0.9e-10, 0.0)).is_infinite());
+    let got = cmrr_db(ad, C::new(0.0, 1.1e-10));
+    assert_rel(
+        "CMRR just above",
+        got,
+        20.0 * (100.0 / 1.1e-10f64).log10(),
+        1e-12,
+    );
+    let small = C::new(0.01, 0.0);
+    assert!(cmrr_db(small, C::new(0.9e-14, 0.0)).is_infinite());
+    let got = cmrr_db(small, C::new(1.1e-14, 0.0));
+    assert_rel(
+        "CMRR of a small A_d",
+        got,
+        20.0 * (0.01 / 1.1e-14f64).log10(),
+        1e-12,
+    );
 }
