@@ -1081,6 +1081,7 @@ impl Figure {
         Reads {
             unit: self.unit_for(u),
             unbounded: self.undefined_word(),
+            ceiling: self.ceiling,
         }
     }
 
@@ -1227,6 +1228,8 @@ pub struct Reads {
     pub unit: Unit,
     /// The figure's word for +∞.
     pub unbounded: &'static str,
+    /// Above it a value reads "> ceiling" (not a difference).
+    pub ceiling: Option<f64>,
 }
 
 impl Reads {
@@ -1235,17 +1238,28 @@ impl Reads {
         Reads {
             unit,
             unbounded: "none",
+            ceiling: None,
         }
     }
 
     /// [`Unit::number`], or the word for a value that is not finite.
     pub fn number(self, v: f64, signed: bool) -> String {
-        self.finite(v, |v| self.unit.number(v, signed))
+        match self.ceiling {
+            Some(c) if !signed && v.is_finite() && v > c => {
+                format!("> {}", self.unit.number(c, false))
+            }
+            _ => self.finite(v, |v| self.unit.number(v, signed)),
+        }
     }
 
     /// [`Unit::cell`], or the word for a value that is not finite.
     pub fn cell(self, v: f64, signed: bool) -> String {
-        self.finite(v, |v| self.unit.cell(v, signed))
+        match self.ceiling {
+            Some(c) if !signed && v.is_finite() && v > c => {
+                format!(">{}", self.unit.cell(c, false))
+            }
+            _ => self.finite(v, |v| self.unit.cell(v, signed)),
+        }
     }
 
     fn finite(self, v: f64, text: impl Fn(f64) -> String) -> String {

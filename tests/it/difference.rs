@@ -855,3 +855,29 @@ fn the_cmrr_is_unbounded_below_a_millionth_of_a_millionth_of_the_gain() {
         1e-12,
     );
 }
+
+/// Issue 22: a CMRR above 160 dB reads "> 160 dB" in text, the spread's
+/// tables included; a difference is never cut; an unbounded one reads
+/// "unbounded".
+#[test]
+fn the_spread_tables_cut_a_cmrr_above_160_db() {
+    use loopwright::judge::spread_figures::unit_and_label;
+    use loopwright::model::stages::GainUnit;
+    let (reads, _) = unit_and_label("cmrr_dc_db", GainUnit::VoltsPerVolt);
+    assert!(
+        reads.number(184.44, false).starts_with("> 160"),
+        "{}",
+        reads.number(184.44, false)
+    );
+    assert!(
+        reads.cell(184.44, false).starts_with(">160"),
+        "{}",
+        reads.cell(184.44, false)
+    );
+    assert!(reads.number(159.0, false).starts_with("159"));
+    assert!(reads.number(f64::INFINITY, false) == "unbounded");
+    assert!(
+        !reads.number(170.0, true).contains('>'),
+        "a difference is not cut"
+    );
+}
