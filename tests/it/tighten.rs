@@ -146,6 +146,62 @@ fn tracking_resistors_drift_the_gain_as_their_ratio() {
     assert!((drift - 375e-6).abs() < 1e-6, "{drift}");
 }
 
+/// The report's "Over temperature" table takes each figure with the
+/// resistors' coefficients at the signs that move it furthest: for the
+/// DC gain of the stage above with tc_ppm 10, rf up and rg down at the
+/// hot end (or the reverse: the same distance to first order), the exact
+/// ratio as above; at −40 °C the mirror of it over 65 °C. Without
+/// coefficients the gain does not move.
+#[test]
+fn the_over_temperature_table_takes_the_coefficients_that_move_a_figure_most() {
+    use loopwright::study::over_temperature::over_temperature;
+    let mut s = plain(Topology::NonInverting, 20.0e3, 9.1e3);
+    s.amp.a0 = 1.0e9;
+    s.temp_range = Some((-40.0, 85.0));
+    s.stage.tc_ppm = Some(10.0);
+    let table = over_temperature(&s).expect("a table over the range");
+    assert_eq!(table.temperatures, [-40.0, 25.0, 85.0]);
+    let gain = &table
+        .rows
+        .iter()
+        .find(|r| r.key == "dc_gain")
+        .unwrap()
+        .values;
+    let g0 = gain[1].unwrap();
+    // |ΔG|/G at the worst signs: rf/rg moved by (1 ± a·dt)/(1 ∓ a·dt).
+    let worst = |dt: f64| {
+        let a = 10e-6 * dt;
+        let up = (1.0 + 9.1e3 * (1.0 + a) / (20.0e3 * (1.0 - a))) / (1.0 + 9.1e3 / 20.0e3) - 1.0;
+        let down = (1.0 + 9.1e3 * (1.0 - a) / (20.0e3 * (1.0 + a))) / (1.0 + 9.1e3 / 20.0e3) - 1.0;
+        up.abs().max(down.abs())
+    };
+    assert_rel(
+        "hot end",
+        (gain[2].unwrap() / g0 - 1.0).abs(),
+        worst(60.0),
+        1e-4,
+    );
+    assert_rel(
+        "cold end",
+        (gain[0].unwrap() / g0 - 1.0).abs(),
+        worst(65.0),
+        1e-4,
+    );
+    // No coefficients: the resistors hold, and so does the gain.
+    s.stage.tc_ppm = None;
+    let table = over_temperature(&s).unwrap();
+    let gain = &table
+        .rows
+        .iter()
+        .find(|r| r.key == "dc_gain")
+        .unwrap()
+        .values;
+    assert!((gain[2].unwrap() / gain[1].unwrap() - 1.0).abs() < 1e-9);
+    // Without a range there is no table.
+    s.temp_range = None;
+    assert!(over_temperature(&s).is_none());
+}
+
 /// Johnson–Nyquist (v² = 4kTR): with only resistor noise, the stage's
 /// noise scales with √T (kelvin) at the range's ends.
 #[test]
