@@ -1874,7 +1874,8 @@ impl Param {
             return name.into();
         }
         match (self.get(s), self.format) {
-            (Some(v), Format::Percent | Format::Share) => format!("{}%", fmt_compact(v * 100.0)),
+            // Plain digits: "0.1%", never "100m%".
+            (Some(v), Format::Percent | Format::Share) => format!("{}%", fmt_plain(v * 100.0, 4)),
             (Some(v), _) => fmt_compact(v),
             (None, _) => "none".into(),
         }

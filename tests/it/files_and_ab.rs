@@ -645,3 +645,23 @@ fn archetype_numbers_are_plainly_generic_one_two_five_values() {
         }
     }
 }
+
+/// A percentage reads in plain digits wherever a parameter's value is
+/// written (compare's "Parameters that differ", the pane's edit text):
+/// a tolerance of 0.001 is "0.1%" (not "100m%"), and the text reads back.
+#[test]
+fn a_tenth_of_a_percent_reads_as_0_1_percent() {
+    let mut s = loopwright::files::load::demo();
+    let p = loopwright::model::params::param("stage.tolerance").unwrap();
+    p.set(&mut s, Some(0.001));
+    assert_eq!(p.value_text(&s), "0.1%");
+    let mut t = s.clone();
+    p.set(&mut t, Some(0.01));
+    let d = s.differences(&t);
+    let row = d.iter().find(|r| r.0 == "stage.tolerance").unwrap();
+    assert_eq!((row.1.as_str(), row.2.as_str()), ("0.1%", "1%"));
+    // The text the pane offers reads back as the same value.
+    let mut u = t.clone();
+    p.apply_text(&mut u, &p.edit_text(&s)).unwrap();
+    assert_eq!(u.stage.tolerance, 0.001);
+}
