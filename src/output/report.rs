@@ -352,6 +352,14 @@ fn write_over_temperature(
     for line in crate::output::helper_tables::aligned(&head, &rows, true) {
         writeln!(w, "  {line}")?;
     }
+    // Each row takes its own signs, so two rows may move apart (the gain
+    // up, its error against the target down); the spec and `check` judge
+    // the nominal with the coefficients at 0.
+    writeln!(
+        w,
+        "  (each row at its own worst signs, so rows need not agree with one another;\n   \
+         the spec and check judge the nominal stage with the coefficients at 0)"
+    )?;
     Ok(())
 }
 use crate::judge::figures::CMRR_CEILING_DB as CMRR_SHOWN_DB;
