@@ -146,6 +146,12 @@ fn tracking_resistors_drift_the_gain_as_their_ratio() {
     assert!((drift - 375e-6).abs() < 1e-6, "{drift}");
 }
 
+/// The DC gain at each temperature of an over-temperature table.
+fn dc_gain_row(table: &loopwright::study::over_temperature::OverTemperature) -> Vec<Option<f64>> {
+    let row = table.rows.iter().find(|r| r.key == "dc_gain");
+    row.expect("a DC gain row").values.clone()
+}
+
 /// The report's "Over temperature" table takes each figure with the
 /// resistors' coefficients at the signs that move it furthest: for the
 /// DC gain of the stage above with tc_ppm 10, rf up and rg down at the
@@ -161,12 +167,7 @@ fn the_over_temperature_table_takes_the_coefficients_that_move_a_figure_most() {
     s.stage.tc_ppm = Some(10.0);
     let table = over_temperature(&s).expect("a table over the range");
     assert_eq!(table.temperatures, [-40.0, 25.0, 85.0]);
-    let gain = &table
-        .rows
-        .iter()
-        .find(|r| r.key == "dc_gain")
-        .unwrap()
-        .values;
+    let gain = dc_gain_row(&table);
     let g0 = gain[1].unwrap();
     // |ΔG|/G at the worst signs: rf/rg moved by (1 ± a·dt)/(1 ∓ a·dt).
     let worst = |dt: f64| {
@@ -190,12 +191,7 @@ fn the_over_temperature_table_takes_the_coefficients_that_move_a_figure_most() {
     // No coefficients: the resistors hold, and so does the gain.
     s.stage.tc_ppm = None;
     let table = over_temperature(&s).unwrap();
-    let gain = &table
-        .rows
-        .iter()
-        .find(|r| r.key == "dc_gain")
-        .unwrap()
-        .values;
+    let gain = dc_gain_row(&table);
     assert!((gain[2].unwrap() / gain[1].unwrap() - 1.0).abs() < 1e-9);
     // Without a range there is no table.
     s.temp_range = None;
