@@ -305,6 +305,20 @@ fn ladders_start_below_the_tolerance() {
 /// tightening rf or rg alone to 0.1 % bounds it by ≈ 0.99 %, below the
 /// limit (worst case |ΔG/G| ≤ (G − 1)/G·(t_rf + t_rg)), while 0.5 % on one
 /// leaves 1.34 % possible: the options are the two single parts at 0.1 %.
+/// A stage that already meets its yield needs no upgrade: no search, no
+/// options (issue 29: options only "for a stage whose yield is below
+/// spec.yield_min").
+#[test]
+fn a_stage_meeting_its_yield_is_left_alone() {
+    let mut s = failing_gain_stage();
+    // Worst case 9.1/10.1·(1 % + 1 %) = 1.8 % (common practice): inside 5 %.
+    s.spec.as_mut().unwrap().gain_error_max = Some(0.05);
+    let t = tighten(&s, None, None);
+    assert!(t.already());
+    assert!(t.choices.is_empty(), "{:?}", t.choices);
+    assert_eq!(t.runs, 0);
+}
+
 #[test]
 fn tighten_finds_the_single_parts() {
     let s = failing_gain_stage();
