@@ -2075,7 +2075,14 @@ impl Param {
                 _ => "",
             };
             let range = self.range_text();
-            return problem(if v < 0.0 && lo >= 0.0 {
+            // A long number also in engineering form: 20000000000000 (20 TΩ).
+            let v = match v.abs() {
+                a if a >= 1e4 || (a > 0.0 && a < 1e-2) => {
+                    format!("{v} ({})", fmt_eng(v, self.unit))
+                }
+                _ => v.to_string(),
+            };
+            return problem(if v.starts_with('-') && lo >= 0.0 {
                 format!("{v} must not be negative (accepted: {range}{zero})")
             } else {
                 format!("{v} is outside the accepted range {range}{zero}")

@@ -366,3 +366,32 @@ fn bad_signal_limit_values_name_field_line_and_column() {
         .message
         .contains("below the positive rail"));
 }
+
+/// A value outside its range is named as written and, when long, in
+/// engineering form too (2e13 Ω = 20 TΩ, 1e-6 Ω = 1 µΩ: SI prefixes,
+/// SI 2019 brochure), so the reader need not count digits.
+#[test]
+fn an_out_of_range_value_is_also_given_in_engineering_form() {
+    let text = include_str!(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/mic_preamp.ron"
+    ));
+    let err = |rf: &str| {
+        Scenario::from_ron(
+            &text.replace("rf: 10000.0", &format!("rf: {rf}")),
+            Some("t.ron"),
+        )
+        .unwrap_err()
+        .to_string()
+    };
+    let big = err("2.0e13");
+    assert!(
+        big.contains("field `stage.rf`: 20000000000000 (20 TΩ) is outside"),
+        "{big}"
+    );
+    let small = err("1.0e-6");
+    assert!(small.contains("0.000001 (1 µΩ) is outside"), "{small}");
+    // A short number stays as it is.
+    let neg = err("-5.0");
+    assert!(neg.contains("-5 must not be negative"), "{neg}");
+}
